@@ -1,0 +1,52 @@
+# elimscan: two commands for a fresh clone (see README.md)
+#   make demo   - create .venv if missing, install, run the demo, print a summary
+#   make test   - create/update .venv with test extras, run pytest (both tiers)
+# Other targets: test-fast (no GFN2-xTB), bench, schema, clean.
+
+PYTHON ?= python3.11
+VENV   := .venv
+VPY    := $(VENV)/bin/python
+# One OpenMP/BLAS thread per process: parallelism comes from processes, not threads.
+export OMP_NUM_THREADS ?= 1
+export OPENBLAS_NUM_THREADS ?= 1
+export MKL_NUM_THREADS ?= 1
+export OMP_STACKSIZE ?= 1G
+export MPLBACKEND ?= Agg
+
+.PHONY: demo test test-fast bench schema clean check-python
+
+check-python:
+	@command -v $(PYTHON) >/dev/null 2>&1 || { \
+	  echo "error: $(PYTHON) not found. elimscan needs CPython 3.11 (xtb-python has wheels only up to 3.11)."; \
+	  echo "       Debian/Ubuntu: apt-get install python3.11 python3.11-venv ; or set PYTHON=/path/to/python3.11"; \
+	  exit 1; }
+	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info[:2] == (3, 11) else 1)' || { \
+	  echo "error: $(PYTHON) is not Python 3.11 (found $$($(PYTHON) -V 2>&1)). Set PYTHON=/path/to/python3.11"; exit 1; }
+	@$(PYTHON) -c 'import venv, ensurepip' >/dev/null 2>&1 || { \
+	  echo "error: the venv module of $(PYTHON) is missing. Debian/Ubuntu: apt-get install python3.11-venv"; exit 1; }
+
+$(VENV)/.installed: pyproject.toml | check-python
+	@test -x $(VPY) || $(PYTHON) -m venv $(VENV)
+	$(VPY) -m pip install --quiet --upgrade pip
+	$(VPY) -m pip install --quiet -e '.[test]'
+	@touch $@
+
+demo: $(VENV)/.installed
+	@rm -rf results/demo
+	$(VENV)/bin/elimscan run configs/demo.yaml --out results/demo
+	$(VENV)/bin/elimscan summary results/demo
+
+test: $(VENV)/.installed
+	$(VPY) -m pytest
+
+test-fast: $(VENV)/.installed
+	$(VPY) -m pytest -m "not xtb"
+
+bench: $(VENV)/.installed
+	$(VPY) benchmarks/bench_engine.py
+
+schema: $(VENV)/.installed
+	$(VPY) -m elimscan.records results-schema
+
+clean:
+	rm -rf $(VENV) results/demo .pytest_cache

@@ -1,0 +1,42 @@
+"""Shared test set-up: one OpenMP/BLAS thread per process, set before any backend loads."""
+
+from __future__ import annotations
+
+import os
+
+from elimscan.threads import configure_threads
+
+configure_threads(int(os.environ.get("ELIMSCAN_TEST_THREADS", "1")))
+os.environ.setdefault("MPLBACKEND", "Agg")
+
+import numpy as np  # noqa: E402  (after the thread settings on purpose)
+import pytest  # noqa: E402
+from ase import Atoms  # noqa: E402
+
+from elimscan.structures import build_molecule  # noqa: E402
+
+SEED = 20261202
+
+
+@pytest.fixture(scope="session")
+def gfn2_gas():
+    """Return a GFN2-xTB gas-phase engine on the default backend (tblite)."""
+    from elimscan.engine import EngineSettings, XtbEngine
+
+    return XtbEngine(EngineSettings(hamiltonian="GFN2-xTB", backend="tblite", solvent_model="none"))
+
+
+@pytest.fixture(scope="session")
+def embed():
+    """Return a function: SMILES -> RDKit-embedded, MMFF-pre-optimised ase.Atoms (Å)."""
+
+    def _embed(smiles: str, seed: int = SEED) -> Atoms:
+        return build_molecule(smiles, seed).atoms
+
+    return _embed
+
+
+@pytest.fixture
+def rng() -> np.random.Generator:
+    """Return a seeded random generator."""
+    return np.random.default_rng(SEED)

@@ -1,0 +1,123 @@
+"""The elimscan command end to end: exit codes, no tracebacks on the terminal, schema-valid results."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from elimscan.errors import ExitCode
+
+ROOT = Path(__file__).resolve().parents[1]
+SCHEMA = json.loads((ROOT / "results-schema" / "result.schema.json").read_text())
+
+TINY = """\
+name: tiny
+method: {backend: tblite, solvent: {model: alpb, name: ethanol}}
+substrates:
+  - {name: chloroethane, smiles: "CCCl"}
+bases:
+  - {name: methoxide, smiles: "C[O-]"}
+"""
+
+
+def elimscan(*args: str, cwd: Path | None = None) -> subprocess.CompletedProcess:
+    """Run the elimscan command in a subprocess; return the completed process."""
+    return subprocess.run([sys.executable, "-m", "elimscan", *args], capture_output=True, text=True, cwd=cwd, timeout=600)
+
+
+def write(tmp_path: Path, text: str, name: str = "run.yaml") -> str:
+    path = tmp_path / name
+    path.write_text(text)
+    return str(path)
+
+
+def test_info_prints_versions():
+    done = elimscan("info")
+    assert done.returncode == ExitCode.OK
+    for name in ("python", "rdkit", "ase", "numpy", "tblite", "xtb", "sella"):
+        assert name in done.stdout
+    assert "not installed" not in done.stdout
+
+
+def test_validate_accepts_the_demo_config():
+    done = elimscan("validate", str(ROOT / "configs" / "demo.yaml"))
+    assert done.returncode == ExitCode.OK, done.stderr
+    assert "valid" in done.stderr
+
+
+@pytest.mark.parametrize(
+    "text, code, words",
+    [
+        (TINY.replace("{name: methoxide", "{nmae: methoxide"), ExitCode.CONFIG, "line 6: unknown key 'nmae'; did you mean 'name'?"),
+        (TINY.replace('"CCCl"', '"CC(Cl"'), ExitCode.CONFIG, "substrate 'chloroethane': cannot parse SMILES 'CC(Cl'"),
+        (TINY.replace("backend: tblite", "backend: xtb"), ExitCode.CONFIG,
+         "backend 'xtb' cannot do solvent model 'alpb' with GFN2-xTB; it supports: gbsa"),
+        (TINY.replace("name: ethanol", "name: ethanol-ish"), ExitCode.CONFIG, "it supports: acetone"),
+        (TINY.replace("substrates:", "substrates: [").replace("bases:", "]\nbases:"), ExitCode.CONFIG, "YAML syntax error"),
+    ],
+)
+def test_bad_input_gives_its_exit_code_and_a_message_without_traceback(tmp_path, text, code, words):
+    for command in (["validate"], ["run", "--out", str(tmp_path / "out")]):
+        done = elimscan(*command[:1], write(tmp_path, text), *command[1:])
+        assert done.returncode == code, done.stderr
+        assert words in done.stderr
+        assert "Traceback" not in done.stderr
+    assert not (tmp_path / "out" / "results.json").exists()
+
+
+def test_missing_config_file_is_a_config_error(tmp_path):
+    done = elimscan("validate", str(tmp_path / "nope.yaml"))
+    assert done.returncode == ExitCode.CONFIG
+    assert "cannot read config file" in done.stderr
+
+
+def test_usage_error_exit_code():
+    assert elimscan("run").returncode == ExitCode.USAGE
+
+
+@pytest.mark.xtb
+def test_run_writes_schema_valid_results_and_refuses_to_overwrite(tmp_path):
+    out = tmp_path / "out"
+    done = elimscan("run", write(tmp_path, TINY), "--out", str(out))
+    assert done.returncode == ExitCode.OK, done.stderr
+    document = json.loads((out / "results.json").read_text())
+    jsonschema.Draft202012Validator(SCHEMA).validate(document)
+    molecules = {m["name"]: m for m in document["molecules"]}
+    assert molecules["methoxide"]["charge"] == -1
+    assert molecules["chloroethane"]["energy_hartree"] < 0
+    assert document["provenance"]["method_label"].startswith("GFN2-xTB/ALPB(ethanol) [tblite")
+    assert document["config"]["method"]["solvent"]["name"] == "ethanol"
+    # the relaxed geometry is extended XYZ that ASE reads back, with its energy
+    import ase.io
+
+    atoms = ase.io.read(out / molecules["chloroethane"]["xyz_file"])
+    assert atoms.info["energy_hartree"] == pytest.approx(molecules["chloroethane"]["energy_hartree"])
+    log = (out / "run.log").read_text().splitlines()
+    assert "command:" in log[0] and "versions:" in log[1]
+    # a finished folder is never overwritten without being asked
+    again = elimscan("run", write(tmp_path, TINY), "--out", str(out))
+    assert again.returncode == ExitCode.OUTPUT and "--overwrite" in again.stderr
+    forced = elimscan("run", write(tmp_path, TINY), "--out", str(out), "--overwrite")
+    assert forced.returncode == ExitCode.OK
+    summary = elimscan("summary", str(out))
+    assert "chloroethane" in summary.stdout and "1/1 jobs ok" in summary.stdout
+
+
+@pytest.mark.xtb
+def test_scf_failure_is_recorded_and_the_run_says_jobs_failed(tmp_path):
+    text = TINY.replace("method: {", "method: {max_scf_iterations: 1, ")
+    out = tmp_path / "out"
+    done = elimscan("run", write(tmp_path, text), "--out", str(out))
+    assert done.returncode == ExitCode.JOBS_FAILED
+    assert "Traceback" not in done.stderr
+    document = json.loads((out / "results.json").read_text())
+    jsonschema.Draft202012Validator(SCHEMA).validate(document)
+    failed = [m for m in document["molecules"] if m["status"] == "failed"]
+    assert failed and all(m["error"]["error_type"] == "scf_not_converged" for m in failed)
+    assert "SCF did not converge for substrate 'chloroethane'" in done.stderr
+    assert document["summary"]["n_jobs_failed"] == 1

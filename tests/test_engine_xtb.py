@@ -1,0 +1,174 @@
+"""GFN2-xTB engine tier: two independent implementations, finite differences, solvent wiring, failures.
+
+Marked ``xtb``: these run real tight-binding calculations (small molecules, seconds in total).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from elimscan.engine import EngineSettings, XtbEngine
+from elimscan.errors import ScfConvergenceError, SolventError
+from elimscan.solvents import SUPPORTED_SOLVENTS, XTB_PYTHON_NAMES
+from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
+
+pytestmark = pytest.mark.xtb
+
+# A small, polar, asymmetric test set: 2-chloropropane, ethoxide is charged (tested separately), acetaldehyde.
+SMALL = ["CC(Cl)C", "CC=O", "OCCBr"]
+
+
+def _engine(backend: str, model: str = "none", name: str | None = None, hamiltonian: str = "GFN2-xTB") -> XtbEngine:
+    return XtbEngine(EngineSettings(hamiltonian=hamiltonian, backend=backend, solvent_model=model, solvent_name=name))
+
+
+@pytest.mark.parametrize("smiles", SMALL)
+def test_tblite_and_xtb_python_agree_in_gas_phase(embed, smiles):
+    # Independent implementations of one published method (Bannwarth, Ehlert & Grimme,
+    # J. Chem. Theory Comput. 2019, 15, 1652): energies within 1e-6 Eh, gradients within 1e-5 Eh/bohr.
+    atoms = embed(smiles)
+    a = _engine("tblite").single_point(atoms)
+    b = _engine("xtb").single_point(atoms)
+    assert abs(a.energy_hartree - b.energy_hartree) < 1e-6
+    assert np.max(np.abs(a.gradient_hartree_per_bohr - b.gradient_hartree_per_bohr)) < 1e-5
+
+
+def test_tblite_and_xtb_python_agree_for_an_anion(embed):
+    # Same two implementations for a charged species (ethoxide, charge -1) in GBSA(water).
+    atoms = embed("CC[O-]")
+    a = _engine("tblite", "gbsa", "water").single_point(atoms, charge=-1)
+    b = _engine("xtb", "gbsa", "water").single_point(atoms, charge=-1)
+    assert abs(a.energy_hartree - b.energy_hartree) < 1e-6
+    assert np.max(np.abs(a.gradient_hartree_per_bohr - b.gradient_hartree_per_bohr)) < 1e-5
+
+
+@pytest.mark.parametrize("solvent", ["water", "methanol", "thf", "hexane"])
+def test_backends_agree_with_gbsa_in_each_named_solvent(embed, solvent):
+    # GBSA is parametrised per solvent in both libraries (same published parameters): agreement within
+    # 1e-6 Eh / 1e-5 Eh/bohr, and a non-zero solvation energy proves the solvent was really applied.
+    atoms = embed("CC(Cl)C")
+    gas = _engine("tblite").single_point(atoms).energy_hartree
+    a = _engine("tblite", "gbsa", solvent).single_point(atoms)
+    b = _engine("xtb", "gbsa", solvent).single_point(atoms)
+    assert abs(a.energy_hartree - b.energy_hartree) < 1e-6
+    assert np.max(np.abs(a.gradient_hartree_per_bohr - b.gradient_hartree_per_bohr)) < 1e-5
+    assert abs(a.energy_hartree - gas) * KCAL_MOL_PER_HARTREE > 0.05
+
+
+@pytest.mark.parametrize("backend,model", [("tblite", "alpb"), ("tblite", "gbsa")])
+def test_analytic_gradient_matches_central_differences(embed, backend, model):
+    # Central finite differences (step 1e-4 Å) of the energy itself: an independent check of the gradient.
+    atoms = embed("CC(Br)C")
+    engine = _engine(backend, model, "ethanol" if model == "alpb" else "methanol")
+    analytic = engine.single_point(atoms).gradient_hartree_per_bohr
+    step = 1e-4
+    for atom in (0, 1, 3):
+        for axis in range(3):
+            plus, minus = atoms.copy(), atoms.copy()
+            plus.positions[atom, axis] += step
+            minus.positions[atom, axis] -= step
+            numeric = (engine.single_point(plus).energy_hartree - engine.single_point(minus).energy_hartree) / (2 * step)
+            assert numeric * ANGSTROM_PER_BOHR == pytest.approx(analytic[atom, axis], abs=2e-6)
+
+
+def test_solvent_table_matches_what_xtb_python_knows():
+    # Our table is the guard against xtb-python's silent gas-phase fallback: every name we allow must
+    # map to a solvent the library knows, and names outside the table must not be allowed.
+    from xtb.utils import get_solvent
+
+    for name in SUPPORTED_SOLVENTS[("xtb", "GFN2-xTB", "gbsa")]:
+        assert get_solvent(XTB_PYTHON_NAMES.get(name, name)) is not None, name
+    for name in ("ethanol", "aniline", "octanol"):
+        with pytest.raises(SolventError, match="it supports"):
+            EngineSettings(backend="xtb", solvent_model="gbsa", solvent_name=name)
+
+
+def test_xtb_python_would_silently_ignore_an_unknown_solvent(embed):
+    # Why the table exists: xtb-python's own ASE calculator gives the gas-phase energy for 'ethanol'.
+    from ase.units import Hartree
+    from xtb.ase.calculator import XTB
+
+    atoms = embed("CCO")
+    gas = _engine("xtb").single_point(atoms).energy_hartree
+    atoms.calc = XTB(method="GFN2-xTB", solvent="ethanol")
+    assert atoms.get_potential_energy() / Hartree == pytest.approx(gas, abs=1e-8)
+
+
+def test_every_tabled_tblite_solvent_is_accepted_and_changes_the_energy(embed):
+    # tblite's ALPB: the 25 named solvents (Ehlert, Stahn, Spicher & Grimme, J. Chem. Theory Comput.
+    # 2021, 17, 4250) each give a solvation energy different from zero for a polar molecule.
+    atoms = embed("CCO")
+    gas = _engine("tblite").single_point(atoms).energy_hartree
+    names = SUPPORTED_SOLVENTS[("tblite", "GFN2-xTB", "alpb")]
+    assert len(names) == 25
+    for name in sorted(names):
+        e = _engine("tblite", "alpb", name).single_point(atoms).energy_hartree
+        assert abs(e - gas) * KCAL_MOL_PER_HARTREE > 0.05, name
+
+
+# FreeSolv experimental hydration free energies, kcal/mol, 298 K (Mobley & Guthrie, J. Comput.-Aided
+# Mol. Des. 2014, 28, 711; values from memory). A sanity check of the solvent wiring, not a validation:
+# FreeSolv overlaps ALPB's training data.
+FREESOLV = {
+    "CO": -5.10,  # methanol
+    "CCO": -5.00,  # ethanol
+    "CC(C)=O": -3.80,  # acetone
+    "c1ccccc1": -0.87,  # benzene
+    "Oc1ccccc1": -6.60,  # phenol
+    "CC(=O)O": -6.70,  # acetic acid
+    "ClC(Cl)Cl": -1.08,  # chloroform
+    "CCCCl": -0.33,  # 1-chloropropane
+    "CC(C)(C)O": -4.47,  # tert-butanol
+}
+
+
+def test_alpb_water_solvation_energies_track_freesolv(embed):
+    gas, water = _engine("tblite"), _engine("tblite", "alpb", "water")
+    errors = []
+    for smiles, experiment in FREESOLV.items():
+        atoms = embed(smiles)
+        dg = (water.single_point(atoms).energy_hartree - gas.single_point(atoms).energy_hartree) * KCAL_MOL_PER_HARTREE
+        errors.append(abs(dg - experiment))
+    mae = float(np.mean(errors))
+    assert mae < 1.5, f"MAE {mae:.2f} kcal/mol"
+
+
+def test_forced_scf_failure_is_retried_then_raised_with_the_structure_named(embed):
+    # max 1 SCF iteration cannot converge at any electronic temperature: one retry, then our error.
+    engine = XtbEngine(EngineSettings(max_scf_iterations=1))
+    with pytest.raises(ScfConvergenceError, match=r"SCF did not converge for probe-molecule \(C3H7Cl"):
+        engine.single_point(embed("CC(Cl)C"), name="probe-molecule")
+    assert engine.stats.retries == 1
+
+
+def test_cache_returns_the_same_numbers_without_calling_the_backend(embed):
+    engine = _engine("tblite", "alpb", "water")
+    atoms = embed("CC(Cl)C")
+    first = engine.single_point(atoms)
+    second = engine.single_point(atoms.copy())
+    assert engine.stats.misses == 1 and engine.stats.hits == 1
+    assert second.energy_hartree == first.energy_hartree
+    moved = atoms.copy()
+    moved.positions[0, 0] += 1e-3
+    assert engine.single_point(moved).energy_hartree != first.energy_hartree
+    # a different charge is a different key
+    assert engine.stats.misses == 2
+
+
+def test_reused_calculator_gives_the_same_energy_as_a_fresh_one(embed):
+    # Restarting the SCF from the previous wavefunction must not change the converged energy.
+    atoms = embed("CCC(Br)C")
+    series = _engine("tblite").calculator()
+    shifted = []
+    for k in range(3):
+        a = atoms.copy()
+        a.positions[2] += 0.02 * k
+        a.calc = series
+        shifted.append(a.get_potential_energy() / EV_PER_HARTREE)
+    for k in range(3):
+        a = atoms.copy()
+        a.positions[2] += 0.02 * k
+        fresh = _engine("tblite").single_point(a).energy_hartree
+        # within the SCF's own energy convergence (about 1e-6 Eh at accuracy 1)
+        assert shifted[k] == pytest.approx(fresh, abs=1e-6)

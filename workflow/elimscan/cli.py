@@ -1,0 +1,270 @@
+"""The ``elimscan`` command: info, validate, run, summary. Orchestrates; computes nothing itself.
+
+Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: see errors.ExitCode.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime as _dt
+import json
+import logging
+import os
+import platform
+import shlex
+import sys
+import time
+from pathlib import Path
+
+from elimscan import __version__
+from elimscan.errors import ConfigError, ElimscanError, ExitCode, OutputError
+from elimscan.threads import configure_threads
+
+log = logging.getLogger("elimscan")
+
+RESULTS_FILE = "results.json"
+PARTIAL_FILE = "results.partial.json"
+LOG_FILE = "run.log"
+
+
+def _versions() -> dict[str, str]:
+    """Return versions of Python and the libraries elimscan relies on (without loading the backends)."""
+    import importlib.metadata as md
+
+    out = {"elimscan": __version__, "python": platform.python_version()}
+    for dist in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "pydantic"):
+        try:
+            out[dist] = md.version(dist)
+        except md.PackageNotFoundError:
+            out[dist] = "not installed"
+    return out
+
+
+def _setup_logging(verbosity: int, log_file: Path | None = None) -> None:
+    """Send log records to stderr (level by -v/-q) and, when given, to a log file (DEBUG, with tracebacks)."""
+    root = logging.getLogger("elimscan")
+    root.handlers.clear()
+    root.setLevel(logging.DEBUG)
+    root.propagate = False
+    stderr = logging.StreamHandler(sys.stderr)
+    stderr.setLevel({-1: logging.WARNING, 0: logging.INFO}.get(verbosity, logging.DEBUG))
+    stderr.setFormatter(logging.Formatter("%(levelname)s %(message)s" if verbosity > 0 else "%(message)s"))
+    root.addHandler(stderr)
+    if log_file is not None:
+        handler = logging.FileHandler(log_file, encoding="utf-8")
+        handler.setLevel(logging.DEBUG)
+        handler.setFormatter(logging.Formatter("%(asctime)s %(levelname)s %(name)s: %(message)s"))
+        root.addHandler(handler)
+
+
+def _read_config(path: str):
+    """Return the validated config read from a YAML file; ConfigError names the file."""
+    from elimscan.config import parse_config
+
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except OSError as err:
+        raise ConfigError(f"cannot read config file '{path}': {err.strerror}") from err
+    try:
+        return parse_config(text, source=path)
+    except ConfigError as err:
+        raise ConfigError(f"{path}: {err}") from err
+
+
+def cmd_info(args: argparse.Namespace) -> int:
+    """Print versions of Python and the libraries; return the exit code."""
+    for name, version in _versions().items():
+        print(f"{name:<10} {version}")
+    return ExitCode.OK
+
+
+def _check_structures(config) -> None:
+    """Raise StructureError for the first substrate or base whose SMILES or charge is unusable."""
+    from rdkit import Chem
+
+    from elimscan.structures import check_charge, parse_smiles
+
+    for role, items in (("substrate", config.substrates), ("base", config.bases)):
+        for item in items:
+            mol = parse_smiles(item.smiles, f"{role} '{item.name}'")
+            check_charge(item.smiles, Chem.GetFormalCharge(mol), item.charge, f"{role} '{item.name}'")
+
+
+def cmd_validate(args: argparse.Namespace) -> int:
+    """Check a config (and its SMILES) without computing; return the exit code."""
+    config = _read_config(args.config)
+    _check_structures(config)
+    log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
+             len(config.bases), len(config.jobs()))
+    return ExitCode.OK
+
+
+def _prepare_output(out: Path, overwrite: bool) -> None:
+    """Create the output folder; refuse one holding a finished run unless ``overwrite``."""
+    finished = out / RESULTS_FILE
+    if finished.exists() and not overwrite:
+        raise OutputError(f"output folder '{out}' already holds a finished run ({RESULTS_FILE}); "
+                          "choose another --out or pass --overwrite")
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        probe = out / ".write-test"
+        probe.write_text("ok", encoding="utf-8")
+        probe.unlink()
+        if finished.exists():
+            finished.unlink()
+    except OSError as err:
+        raise OutputError(f"cannot write to output folder '{out}': {err.strerror or err}") from err
+
+
+def _write_atomic(path: Path, text: str) -> None:
+    """Write text to ``path`` through a temporary file and a rename (never a half-written file)."""
+    tmp = path.with_name(path.name + ".tmp")
+    try:
+        tmp.write_text(text, encoding="utf-8")
+        os.replace(tmp, path)
+    except OSError as err:
+        raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+
+
+def cmd_run(args: argparse.Namespace) -> int:
+    """Run a config into an output folder; return the exit code."""
+    config = _read_config(args.config)
+    if args.threads is None:  # before the backends load
+        configure_threads(config.threads.per_process)
+    _check_structures(config)  # input errors stop the run before any calculation
+    out = Path(args.out)
+    _prepare_output(out, args.overwrite)
+    _setup_logging(args.verbosity, out / LOG_FILE)
+    log.debug("command: %s", shlex.join(sys.argv))
+    log.debug("versions: %s", json.dumps(_versions()))
+
+    import ase
+    import ase.io
+    import numpy
+    import rdkit
+
+    from elimscan.engine import EngineSettings, XtbEngine, backend_version
+    from elimscan.pipeline import run_config
+    from elimscan.records import JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
+    from elimscan.report import summary_table
+
+    engine = XtbEngine(EngineSettings.from_method(config.method))
+    log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
+    started = time.perf_counter()
+
+    def progress(done: int, total: int, message: str) -> None:
+        elapsed = time.perf_counter() - started
+        left = f", about {elapsed / done * (total - done):.0f} s left" if 0 < done < total else ""
+        log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
+
+    outcome = run_config(config, engine, progress)
+
+    structures = out / "structures"
+    molecules: list[MoleculeRecord] = []
+    for (role, name), relaxed in outcome.molecules.items():
+        record = relaxed.record
+        if relaxed.atoms is not None:
+            structures.mkdir(exist_ok=True)
+            rel = f"structures/{role}-{_safe(name)}.xyz"
+            atoms = relaxed.atoms.copy()
+            atoms.info.update({"name": name, "energy_hartree": record.energy_hartree, "method": engine.label})
+            try:
+                ase.io.write(out / rel, atoms, format="extxyz")
+            except OSError as err:
+                raise OutputError(f"cannot write '{out / rel}': {err.strerror or err}") from err
+            record = record.model_copy(update={"xyz_file": rel})
+        if record.status != "ok" and record.error is not None:
+            log.warning("%s '%s' failed: %s", role, name, record.error.error_message)
+        molecules.append(record)
+    jobs: list[JobRecord] = outcome.jobs
+    n_failed = sum(job.status != "ok" for job in jobs)
+    result = RunResult(
+        provenance=Provenance(
+            program_version=__version__, command_line=shlex.join(sys.argv),
+            created_utc=_dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+            python_version=platform.python_version(), rdkit_version=rdkit.__version__, ase_version=ase.__version__,
+            numpy_version=numpy.__version__, backend=config.method.backend,
+            backend_version=backend_version(config.method.backend), method_label=engine.label),
+        config=config, seeds=Seeds(rdkit_embedding=config.seed), molecules=tuple(molecules), jobs=tuple(jobs),
+        summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
+                           n_molecules_failed=sum(m.status != "ok" for m in molecules)),
+    )
+    _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
+    log.info("%s", summary_table(result))
+    log.info("wrote %s in %.1f s (%d xTB gradients, cache hit ratio %.2f)", out / RESULTS_FILE,
+             time.perf_counter() - started, engine.stats.misses, engine.stats.hit_ratio)
+    return ExitCode.JOBS_FAILED if n_failed else ExitCode.OK
+
+
+def cmd_summary(args: argparse.Namespace) -> int:
+    """Print the summary table of a finished output folder; return the exit code."""
+    from pydantic import ValidationError
+
+    from elimscan.records import RunResult
+    from elimscan.report import summary_table
+
+    path = Path(args.out) / RESULTS_FILE
+    try:
+        result = RunResult.model_validate_json(path.read_text(encoding="utf-8"))
+    except OSError as err:
+        raise OutputError(f"cannot read '{path}': {err.strerror or err}") from err
+    except ValidationError as err:
+        raise OutputError(f"'{path}' is not a valid elimscan result: {err.errors()[0]['msg']}") from err
+    print(summary_table(result))
+    return ExitCode.OK
+
+
+def _safe(name: str) -> str:
+    """Return a file-name-safe version of a user-given name."""
+    return "".join(c if c.isalnum() or c in "-_." else "_" for c in name)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """Return the argument parser of the elimscan command."""
+    parser = argparse.ArgumentParser(prog="elimscan", description="GFN2-xTB barriers for every beta hydrogen of an E2 elimination, beside the geometric rule.")
+    parser.add_argument("--version", action="version", version=f"elimscan {__version__}")
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("-v", "--verbose", dest="verbosity", action="store_const", const=1, default=0, help="more log output")
+    common.add_argument("-q", "--quiet", dest="verbosity", action="store_const", const=-1, help="warnings and errors only")
+    common.add_argument("--threads", type=int, default=None, help="OpenMP/BLAS threads per process (default: config, else 1)")
+    sub = parser.add_subparsers(dest="command", required=True)
+    p = sub.add_parser("info", parents=[common], help="print versions of Python, RDKit, ASE, numpy, the xTB backends, Sella")
+    p.set_defaults(func=cmd_info)
+    p = sub.add_parser("validate", parents=[common], help="check a config without computing")
+    p.add_argument("config")
+    p.set_defaults(func=cmd_validate)
+    p = sub.add_parser("run", parents=[common], help="run a config into an output folder")
+    p.add_argument("config")
+    p.add_argument("--out", required=True, help="output folder (refused if it holds a finished run)")
+    p.add_argument("--overwrite", action="store_true", help="replace a finished run in --out")
+    p.set_defaults(func=cmd_run)
+    p = sub.add_parser("summary", parents=[common], help="print the summary table of a finished output folder")
+    p.add_argument("out")
+    p.set_defaults(func=cmd_summary)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the elimscan command line; return the process exit code."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    configure_threads(args.threads or 1)
+    _setup_logging(args.verbosity)
+    try:
+        return int(args.func(args))
+    except ElimscanError as err:
+        log.debug("error details", exc_info=True)
+        log.error("error (%s): %s", err.error_type, err)
+        return int(err.exit_code)
+    except KeyboardInterrupt:
+        log.error("interrupted")
+        return 130
+    except Exception:  # a bug: keep the traceback in the log file, a short line on the terminal
+        log.debug("unexpected error", exc_info=True)
+        log.error("unexpected internal error; the traceback is in the log file (run.log) if one was opened, "
+                  "or rerun with -v", exc_info=logging.getLogger("elimscan").handlers[0].level <= logging.DEBUG)
+        return int(ExitCode.INTERNAL)
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,293 @@
+"""YAML -> validated, frozen run configuration. Every default of elimscan lives in this module.
+
+Errors name the key path (``substrates.0.smiles``) and, where the YAML has one, the line.
+"""
+
+from __future__ import annotations
+
+import difflib
+from typing import Any, Literal
+
+import yaml
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+
+from elimscan.errors import ConfigError, SolventError
+from elimscan.solvents import check_solvent
+
+#: Random seed used when the config gives none (RDKit embedding, base rotations).
+DEFAULT_SEED = 20261202
+
+
+class _Frozen(BaseModel):
+    """Base of every config model: immutable, unknown keys refused."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class SolventConfig(_Frozen):
+    """Implicit solvent: model (alpb, gbsa or none) and solvent name."""
+
+    model: Literal["alpb", "gbsa", "none"] = "alpb"
+    name: str | None = "ethanol"
+
+    @model_validator(mode="after")
+    def _name_needed(self) -> "SolventConfig":
+        if self.model != "none" and not self.name:
+            raise ValueError(f"solvent model '{self.model}' needs a solvent name")
+        return self
+
+
+class MethodConfig(_Frozen):
+    """Electronic-structure method, backend, solvent and temperatures."""
+
+    hamiltonian: Literal["GFN2-xTB", "GFN1-xTB"] = "GFN2-xTB"
+    backend: Literal["tblite", "xtb"] = "tblite"
+    solvent: SolventConfig = SolventConfig()
+    #: temperature for Boltzmann weights and free energies (K)
+    temperature_K: float = Field(298.15, gt=0)
+    #: electronic (Fermi smearing) temperature of the SCF (K)
+    electronic_temperature_K: float = Field(300.0, gt=0)
+    #: electronic temperature of the single retry after an SCF failure (K)
+    retry_electronic_temperature_K: float = Field(1000.0, gt=0)
+    max_scf_iterations: int = Field(250, ge=1)
+    #: xTB numerical accuracy (1.0 = default; smaller is tighter)
+    accuracy: float = Field(1.0, gt=0)
+
+    @model_validator(mode="after")
+    def _solvent_supported(self) -> "MethodConfig":
+        try:
+            check_solvent(self.backend, self.hamiltonian, self.solvent.model, self.solvent.name)
+        except SolventError as err:
+            raise ValueError(str(err)) from err
+        return self
+
+
+class OptimizerConfig(_Frozen):
+    """Geometry optimiser for (constrained) relaxations."""
+
+    #: 'bfgs' = ASE BFGS with FixInternals; 'sella' = Sella in internal coordinates
+    name: Literal["bfgs", "sella"] = "bfgs"
+    #: convergence: largest force component (eV/Å)
+    fmax_eV_per_A: float = Field(0.01, gt=0)
+    max_steps: int = Field(500, ge=1)
+
+
+class ThreadsConfig(_Frozen):
+    """OpenMP/BLAS threads per worker process (parallelism comes from processes)."""
+
+    per_process: int = Field(1, ge=1)
+
+
+class SubstrateConfig(_Frozen):
+    """One substrate: a name, a SMILES (an atom map may mark the leaving atom), charge and multiplicity."""
+
+    name: str = Field(min_length=1)
+    smiles: str = Field(min_length=1)
+    #: total charge; None = take the formal charge of the SMILES
+    charge: int | None = None
+    multiplicity: int = Field(1, ge=1)
+
+
+class BaseModelConfig(_Frozen):
+    """How the base is modelled (reserved: counter-ion and explicit solvent molecules)."""
+
+    counter_ion: str | None = None
+    explicit: int = Field(0, ge=0)
+
+
+class BaseConfig(_Frozen):
+    """One base: a name, a SMILES, optional bulky flag and model."""
+
+    name: str = Field(min_length=1)
+    smiles: str = Field(min_length=1)
+    charge: int | None = None
+    multiplicity: int = Field(1, ge=1)
+    #: True marks a sterically demanding base for the geometric rule (Hofmann shift)
+    bulky: bool | None = None
+    model: BaseModelConfig = BaseModelConfig()
+
+
+class PairConfig(_Frozen):
+    """One substrate x base job, by names."""
+
+    substrate: str
+    base: str
+
+
+class AnalysisConfig(_Frozen):
+    """Which energy drives the product mix (reserved for the free-energy issue)."""
+
+    energy: Literal["electronic", "free"] = "electronic"
+
+
+class RunConfig(_Frozen):
+    """A whole elimscan run: method, molecules and the jobs to compute."""
+
+    name: str = Field("elimscan-run", min_length=1)
+    seed: int = DEFAULT_SEED
+    method: MethodConfig = MethodConfig()
+    optimizer: OptimizerConfig = OptimizerConfig()
+    threads: ThreadsConfig = ThreadsConfig()
+    substrates: tuple[SubstrateConfig, ...] = Field(min_length=1)
+    bases: tuple[BaseConfig, ...] = Field(min_length=1)
+    pairs: tuple[PairConfig, ...] | None = None
+    #: reserved: one job per listed solvent
+    solvents: tuple[SolventConfig, ...] | None = None
+    analysis: AnalysisConfig = AnalysisConfig()
+
+    @field_validator("substrates", "bases")
+    @classmethod
+    def _unique_names(cls, items: tuple[Any, ...]) -> tuple[Any, ...]:
+        seen: dict[str, int] = {}
+        for index, item in enumerate(items):
+            if item.name in seen:
+                raise ValueError(f"duplicate name '{item.name}' (entries {seen[item.name]} and {index}, counted from 0)")
+            seen[item.name] = index
+        return items
+
+    @model_validator(mode="after")
+    def _pairs_known(self) -> "RunConfig":
+        substrates = {s.name for s in self.substrates}
+        bases = {b.name for b in self.bases}
+        for pair in self.pairs or ():
+            if pair.substrate not in substrates:
+                raise ValueError(f"pair names unknown substrate '{pair.substrate}' (known: {', '.join(sorted(substrates))})")
+            if pair.base not in bases:
+                raise ValueError(f"pair names unknown base '{pair.base}' (known: {', '.join(sorted(bases))})")
+        return self
+
+    def jobs(self) -> list[tuple[SubstrateConfig, BaseConfig]]:
+        """Return the (substrate, base) jobs: the given pairs, else every substrate with every base."""
+        by_substrate = {s.name: s for s in self.substrates}
+        by_base = {b.name: b for b in self.bases}
+        if self.pairs:
+            return [(by_substrate[p.substrate], by_base[p.base]) for p in self.pairs]
+        return [(s, b) for s in self.substrates for b in self.bases]
+
+
+# --- YAML reading with line numbers -------------------------------------------------------------
+
+
+def _node_line(root: yaml.Node | None, loc: tuple[Any, ...]) -> int | None:
+    """Return the 1-based YAML line of the node at a pydantic error location, or the nearest parent."""
+    node, line = root, (root.start_mark.line + 1 if root is not None else None)
+    for part in loc:
+        if isinstance(node, yaml.MappingNode):
+            match = next((v for k, v in node.value if k.value == part), None)
+            if match is None:
+                key = next((k for k, _ in node.value if k.value == part), None)
+                return key.start_mark.line + 1 if key is not None else line
+            node = match
+        elif isinstance(node, yaml.SequenceNode) and isinstance(part, int) and part < len(node.value):
+            node = node.value[part]
+        else:
+            break
+        line = node.start_mark.line + 1
+    return line
+
+
+def _key_line(root: yaml.Node | None, loc: tuple[Any, ...]) -> int | None:
+    """Return the line of the key itself (for unknown keys), falling back to _node_line."""
+    parent = root
+    for part in loc[:-1]:
+        if isinstance(parent, yaml.MappingNode):
+            parent = next((v for k, v in parent.value if k.value == part), None)
+        elif isinstance(parent, yaml.SequenceNode) and isinstance(part, int) and part < len(parent.value):
+            parent = parent.value[part]
+        else:
+            parent = None
+        if parent is None:
+            break
+    if isinstance(parent, yaml.MappingNode):
+        for key, _ in parent.value:
+            if key.value == loc[-1]:
+                return key.start_mark.line + 1
+    return _node_line(root, loc)
+
+
+def _model_at(loc: tuple[Any, ...]) -> type[BaseModel] | None:
+    """Return the config model class that holds the last key of an error location."""
+    model: Any = RunConfig
+    for part in loc[:-1]:
+        if isinstance(part, int):
+            continue
+        field = model.model_fields.get(part) if isinstance(model, type) and issubclass(model, BaseModel) else None
+        if field is None:
+            return None
+        annotation = field.annotation
+        candidates = [annotation, *getattr(annotation, "__args__", ())]
+        nested = [c for c in candidates for c in (c, *getattr(c, "__args__", ())) if isinstance(c, type) and issubclass(c, BaseModel)]
+        if not nested:
+            return None
+        model = nested[0]
+    return model if isinstance(model, type) and issubclass(model, BaseModel) else None
+
+
+def _check_duplicate_keys(node: yaml.Node | None, path: str = "") -> None:
+    """Raise ConfigError when a YAML mapping repeats a key (PyYAML would silently keep the last)."""
+    if isinstance(node, yaml.MappingNode):
+        seen: dict[str, int] = {}
+        for key, value in node.value:
+            name = str(key.value)
+            if name in seen:
+                raise ConfigError(f"key '{name}' appears twice (first on line {seen[name]})",
+                                  key_path=f"{path}{name}", line=key.start_mark.line + 1)
+            seen[name] = key.start_mark.line + 1
+            _check_duplicate_keys(value, f"{path}{name}.")
+    elif isinstance(node, yaml.SequenceNode):
+        for i, item in enumerate(node.value):
+            _check_duplicate_keys(item, f"{path}{i}.")
+
+
+def _translate(err: ValidationError, root: yaml.Node | None) -> ConfigError:
+    """Return a ConfigError for the first pydantic error, with key path, line and suggestion."""
+    # an unknown key usually explains the rest (a misspelt required key): report it first
+    errors = sorted(err.errors(), key=lambda e: e["type"] != "extra_forbidden")
+    first = errors[0]
+    loc = tuple(first["loc"])
+    key_path = ".".join(str(p) for p in loc) or "(top level)"
+    message = first["msg"].removeprefix("Value error, ")
+    if first["type"] == "extra_forbidden":
+        line = _key_line(root, loc)
+        model = _model_at(loc)
+        known = sorted(model.model_fields) if model is not None else []
+        close = difflib.get_close_matches(str(loc[-1]), known, n=1)
+        hint = f"; did you mean '{close[0]}'?" if close else ""
+        message = f"unknown key '{loc[-1]}'{hint} (allowed here: {', '.join(known)})"
+    else:
+        line = _node_line(root, loc)
+        if first["type"] == "missing":
+            message = f"required key '{loc[-1]}' is missing"
+        elif "input" in first and not isinstance(first["input"], (dict, list)):
+            message = f"{message} (got {first['input']!r})"
+    # errors on a parent of the first location are consequences of it (an emptied list)
+    extra = sum(1 for e in errors[1:] if tuple(e["loc"]) != loc[: len(e["loc"])] and tuple(e["loc"])[:-1] != loc[:-1])
+    if extra:
+        message += f" [and {extra} more problem{'s' if extra > 1 else ''}]"
+    return ConfigError(message, key_path=key_path, line=line)
+
+
+def parse_config(text: str, source: str = "<config>") -> RunConfig:
+    """Return the validated RunConfig for YAML text; raise ConfigError naming key path and line."""
+    try:
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+        data = yaml.safe_load(text)
+    except yaml.YAMLError as err:
+        mark = getattr(err, "problem_mark", None)
+        line = mark.line + 1 if mark is not None else None
+        problem = getattr(err, "problem", None) or str(err)
+        raise ConfigError(f"{source}: YAML syntax error: {problem}", line=line) from err
+    if data is None:
+        raise ConfigError(f"{source}: the config is empty")
+    if not isinstance(data, dict):
+        raise ConfigError(f"{source}: the config must be a mapping of keys, got {type(data).__name__}", line=1)
+    _check_duplicate_keys(root)
+    try:
+        return RunConfig.model_validate(data)
+    except ValidationError as err:
+        raise _translate(err, root) from err
+
+
+def config_to_dict(config: RunConfig) -> dict[str, Any]:
+    """Return the resolved config (all defaults filled in) as plain JSON-ready data."""
+    return config.model_dump(mode="json")

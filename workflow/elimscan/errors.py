@@ -1,0 +1,111 @@
+"""Exception tree of elimscan.
+
+Every class says when it fires (its phase), carries a short ``error_type``
+string that result files store, and the process exit code the CLI returns
+for it. Backend exceptions are translated into these at the engine layer,
+chained with ``raise ... from err``.
+"""
+
+from __future__ import annotations
+
+from enum import IntEnum
+
+
+class ExitCode(IntEnum):
+    """Process exit codes of the ``elimscan`` command (documented in README.md)."""
+
+    OK = 0
+    INTERNAL = 1  # an unexpected error: a bug; the traceback goes to the log file
+    USAGE = 2  # bad command-line usage (argparse)
+    CONFIG = 3  # the configuration or an input structure is invalid
+    ENGINE = 4  # a GFN2-xTB calculation failed and the run could not go on
+    JOBS_FAILED = 5  # the run finished but some jobs failed (see results.json)
+    OUTPUT = 6  # the output folder cannot be used (exists, not writable, disk full)
+
+
+class ElimscanError(Exception):
+    """Base class of every error elimscan raises on purpose."""
+
+    error_type = "elimscan_error"
+    exit_code = ExitCode.INTERNAL
+
+
+# --- input phase: raised before any calculation starts -------------------------------
+
+
+class InputError(ElimscanError):
+    """Fires before any calculation: something the user gave is invalid."""
+
+    error_type = "input_error"
+    exit_code = ExitCode.CONFIG
+
+
+class ConfigError(InputError):
+    """Fires while reading a YAML config: syntax, unknown key, wrong type or value.
+
+    ``key_path`` is the dotted path of the offending key (``substrates.0.smiles``)
+    and ``line`` the 1-based line in the YAML file, when known.
+    """
+
+    error_type = "config_error"
+
+    def __init__(self, message: str, key_path: str | None = None, line: int | None = None):
+        self.key_path = key_path
+        self.line = line
+        where = []
+        if key_path:
+            where.append(f"key '{key_path}'")
+        if line is not None:
+            where.append(f"line {line}")
+        prefix = f"{', '.join(where)}: " if where else ""
+        super().__init__(prefix + message)
+
+
+class StructureError(InputError):
+    """Fires when a SMILES or structure cannot be used (unparsable, unsupported element, ...)."""
+
+    error_type = "structure_error"
+
+
+class SolventError(InputError):
+    """Fires when a backend is asked for a solvent model or solvent name it does not support."""
+
+    error_type = "solvent_error"
+
+
+# --- calculation phase ------------------------------------------------------------------
+
+
+class EngineError(ElimscanError):
+    """Fires during a calculation: the xTB backend failed on a structure."""
+
+    error_type = "engine_error"
+    exit_code = ExitCode.ENGINE
+
+
+class ScfConvergenceError(EngineError):
+    """Fires when the SCF did not converge, also after the retry at a higher electronic temperature."""
+
+    error_type = "scf_not_converged"
+
+
+class OptimizationError(EngineError):
+    """Fires when a (constrained) geometry optimisation fails or reaches its step limit."""
+
+    error_type = "optimization_failed"
+
+
+class BackendUnavailableError(EngineError):
+    """Fires when the requested xTB backend library is not installed or cannot be loaded."""
+
+    error_type = "backend_unavailable"
+
+
+# --- output phase -------------------------------------------------------------------------
+
+
+class OutputError(ElimscanError):
+    """Fires when the output folder cannot be used: it holds a finished run, or writing fails."""
+
+    error_type = "output_error"
+    exit_code = ExitCode.OUTPUT

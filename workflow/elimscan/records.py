@@ -1,0 +1,142 @@
+"""Frozen, unit-tagged result models and the JSON Schema files exported from them.
+
+Every document carries ``schema_name`` and ``schema_version``; the unit is in each field name
+(``energy_hartree``, ``relax_seconds``). ``python -m elimscan.records DIR`` writes the schema files.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field
+
+from elimscan.config import RunConfig
+
+RESULT_SCHEMA_NAME = "elimscan.result"
+RESULT_SCHEMA_VERSION = "0.1.0"
+SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
+
+
+class _Record(BaseModel):
+    """Base of every result model: immutable, unknown fields refused."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class ErrorInfo(_Record):
+    """Why something failed: our error class's error_type and a message naming the input."""
+
+    error_type: str = Field(description="machine-readable kind of failure, e.g. scf_not_converged")
+    error_message: str = Field(description="human-readable message naming the offending input")
+
+
+class Provenance(_Record):
+    """Where a result came from: program, backend, versions and the command line."""
+
+    program: Literal["elimscan"] = "elimscan"
+    program_version: str
+    command_line: str
+    created_utc: str = Field(description="ISO 8601 time the document was written (UTC)")
+    python_version: str
+    rdkit_version: str
+    ase_version: str
+    numpy_version: str
+    backend: str = Field(description="xTB backend library: tblite or xtb (xtb-python)")
+    backend_version: str
+    method_label: str = Field(description="method, solvation model and backend in one line")
+
+
+class Seeds(_Record):
+    """Random seeds used, so that a run can be repeated."""
+
+    rdkit_embedding: int
+
+
+class MoleculeRecord(_Record):
+    """One relaxed molecule (substrate or base) and its GFN2-xTB energy."""
+
+    name: str
+    role: Literal["substrate", "base"]
+    smiles: str
+    status: Literal["ok", "failed"]
+    charge: int | None = None
+    multiplicity: int | None = None
+    n_atoms: int | None = None
+    formula: str | None = None
+    energy_hartree: float | None = Field(None, description="electronic energy incl. implicit solvation (hartree)")
+    converged: bool | None = None
+    n_gradients: int | None = Field(None, description="energy+gradient evaluations spent on the relaxation")
+    relax_seconds: float | None = Field(None, description="wall time of the relaxation (s)")
+    xyz_file: str | None = Field(None, description="relaxed geometry, extended XYZ, path relative to the output folder")
+    error: ErrorInfo | None = None
+
+
+class JobRecord(_Record):
+    """One substrate x base job."""
+
+    job_id: str
+    substrate: str
+    base: str
+    status: Literal["ok", "failed"]
+    error: ErrorInfo | None = None
+
+
+class RunSummary(_Record):
+    """Counts over the run."""
+
+    n_jobs: int
+    n_jobs_ok: int
+    n_jobs_failed: int
+    n_molecules_failed: int
+
+
+class RunResult(_Record):
+    """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
+
+    schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
+    schema_version: Literal["0.1.0"] = RESULT_SCHEMA_VERSION
+    provenance: Provenance
+    config: RunConfig
+    seeds: Seeds
+    molecules: tuple[MoleculeRecord, ...]
+    jobs: tuple[JobRecord, ...]
+    summary: RunSummary
+
+
+#: schema file name -> model
+SCHEMA_MODELS: dict[str, type[BaseModel]] = {"result.schema.json": RunResult}
+
+
+def json_schema(model: type[BaseModel], file_name: str) -> dict[str, Any]:
+    """Return the draft 2020-12 JSON Schema of a result model, with $schema and $id."""
+    schema = model.model_json_schema(mode="serialization")
+    return {
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "$id": f"{SCHEMA_BASE_URI}/{file_name}",
+        **schema,
+    }
+
+
+def schema_text(file_name: str) -> str:
+    """Return the JSON Schema text of one schema file (stable key order, trailing newline)."""
+    return json.dumps(json_schema(SCHEMA_MODELS[file_name], file_name), indent=2, sort_keys=True) + "\n"
+
+
+def write_schemas(folder: str | Path) -> list[Path]:
+    """Write every schema file into ``folder``; return their paths."""
+    out = Path(folder)
+    out.mkdir(parents=True, exist_ok=True)
+    paths = []
+    for name in SCHEMA_MODELS:
+        path = out / name
+        path.write_text(schema_text(name), encoding="utf-8")
+        paths.append(path)
+    return paths
+
+
+if __name__ == "__main__":
+    for written in write_schemas(sys.argv[1] if len(sys.argv) > 1 else "results-schema"):
+        print(written)

@@ -1,0 +1,229 @@
+"""Geometry relaxation with held internal coordinates, behind one call for two optimisers.
+
+Part of the engine layer but backend-agnostic: it drives any ASE calculator (GFN2-xTB from
+``engine.py`` or the toy model). Held coordinates: dihedrals, distances and linear combinations
+of distances. ``bfgs`` uses ASE BFGS with ``FixInternals`` (all three kinds); ``sella`` uses Sella in
+internal coordinates with its own constraints, which hold dihedrals and distances but no linear
+combination of distances (Sella 2.6 has no such constraint type), so a combination is refused there.
+"""
+
+from __future__ import annotations
+
+import logging
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from ase import Atoms
+from ase.calculators.calculator import Calculator
+from ase.constraints import FixInternals
+from ase.neighborlist import NeighborList, natural_cutoffs
+from ase.optimize import BFGS
+
+from elimscan.errors import EngineError, OptimizationError
+from elimscan.geometry import dihedral_deg, distance, wrap_degrees
+from elimscan.units import EV_PER_HARTREE
+
+log = logging.getLogger(__name__)
+
+
+@dataclass(frozen=True)
+class HeldDihedral:
+    """Hold the a-b-c-d dihedral at ``target_deg`` (None: at its current value)."""
+
+    atoms: tuple[int, int, int, int]
+    target_deg: float | None = None
+
+
+@dataclass(frozen=True)
+class HeldDistance:
+    """Hold the i-j distance at ``target_A`` (None: at its current value)."""
+
+    atoms: tuple[int, int]
+    target_A: float | None = None
+
+
+@dataclass(frozen=True)
+class HeldDistanceSum:
+    """Hold sum(coef * d(i, j)) at ``target_A`` (None: at its current value); terms are (i, j, coef)."""
+
+    terms: tuple[tuple[int, int, float], ...]
+    target_A: float | None = None
+
+    def value(self, positions: np.ndarray) -> float:
+        """Return the current value of the combination (Å)."""
+        return float(sum(coef * distance(positions, i, j) for i, j, coef in self.terms))
+
+
+Held = HeldDihedral | HeldDistance | HeldDistanceSum
+
+
+@dataclass(frozen=True)
+class RelaxResult:
+    """Outcome of one relaxation: final atoms, energy (hartree), gradient calls, steps, convergence."""
+
+    atoms: Atoms
+    energy_hartree: float
+    n_gradients: int
+    n_steps: int
+    converged: bool
+    max_constraint_error: float
+
+
+def constraint_error(positions: np.ndarray, held: Held, target: float) -> float:
+    """Return |value - target| of a held coordinate (degrees for dihedrals, Å otherwise)."""
+    if isinstance(held, HeldDihedral):
+        return abs(wrap_degrees(dihedral_deg(positions, *held.atoms) - target))
+    if isinstance(held, HeldDistance):
+        return abs(distance(positions, *held.atoms) - target)
+    return abs(held.value(positions) - target)
+
+
+def _targets(atoms: Atoms, held: Sequence[Held]) -> list[float]:
+    """Return the target value of each held coordinate (current value where none is given)."""
+    values = []
+    for item in held:
+        if isinstance(item, HeldDihedral):
+            values.append(item.target_deg if item.target_deg is not None else dihedral_deg(atoms.positions, *item.atoms))
+        elif isinstance(item, HeldDistance):
+            values.append(item.target_A if item.target_A is not None else distance(atoms.positions, *item.atoms))
+        else:
+            values.append(item.target_A if item.target_A is not None else item.value(atoms.positions))
+    return values
+
+
+def _side_of_bond(atoms: Atoms, b: int, c: int) -> list[int] | None:
+    """Return the atoms on c's side of the b-c bond (covalent-radius bonds), or None if b-c is in a ring."""
+    cutoffs = natural_cutoffs(atoms, mult=1.1)
+    nl = NeighborList(cutoffs, self_interaction=False, bothways=True)
+    nl.update(atoms)
+    seen, stack = {c}, [c]
+    while stack:
+        atom = stack.pop()
+        for nb in nl.get_neighbors(atom)[0]:
+            if atom == c and nb == b:
+                continue
+            if nb == b:
+                return None
+            if nb not in seen:
+                seen.add(nb)
+                stack.append(int(nb))
+    return sorted(seen)
+
+
+def rotate_to_dihedral(atoms: Atoms, indices: tuple[int, int, int, int], target_deg: float) -> bool:
+    """Rotate the d-side fragment of an acyclic b-c bond so the dihedral is ``target_deg``; return success."""
+    a, b, c, d = indices
+    side = _side_of_bond(atoms, b, c)
+    if side is None:
+        return False
+    mask = np.zeros(len(atoms), dtype=bool)
+    mask[side] = True
+    atoms.set_dihedral(a, b, c, d, target_deg % 360.0, mask=mask)
+    return True
+
+
+def _fix_internals(held: Sequence[Held], targets: Sequence[float]) -> FixInternals:
+    """Return an ASE FixInternals holding every coordinate at its target."""
+    bonds, dihedrals, combos = [], [], []
+    for item, target in zip(held, targets):
+        if isinstance(item, HeldDihedral):
+            dihedrals.append([target % 360.0, list(item.atoms)])
+        elif isinstance(item, HeldDistance):
+            bonds.append([target, list(item.atoms)])
+        else:
+            combos.append([target, [[i, j, coef] for i, j, coef in item.terms]])
+    return FixInternals(bonds=bonds or None, dihedrals_deg=dihedrals or None, bondcombos=combos or None)
+
+
+class _Counter:
+    """Counts calls of a calculator's calculate()."""
+
+    def __init__(self, calc: Calculator):
+        self.calls = 0
+        original = calc.calculate
+
+        def counted(*args, **kwargs):
+            self.calls += 1
+            return original(*args, **kwargs)
+
+        calc.calculate = counted  # type: ignore[method-assign]
+
+
+def relax(
+    atoms: Atoms,
+    calculator: Calculator,
+    held: Sequence[Held] = (),
+    optimizer: str = "bfgs",
+    fmax_eV_per_A: float = 0.01,
+    max_steps: int = 500,
+    on_step: Callable[[int, float], None] | None = None,
+    raise_on_step_limit: bool = False,
+    max_projection_deg: float = 5.0,
+) -> RelaxResult:
+    """Return the relaxed copy of ``atoms`` (energy in hartree) with the ``held`` coordinates fixed.
+
+    A held dihedral more than ``max_projection_deg`` from its target is first set by rotating the
+    fragment on one side of an acyclic bond; other differences are projected onto the targets at the
+    start (keep such moves small, e.g. one scan step). ``on_step(step, energy_hartree)`` reports progress.
+    """
+    work = atoms.copy()
+    work.set_constraint()
+    work.calc = calculator
+    counter = _Counter(calculator)
+    targets = _targets(work, held)
+    for item, target in zip(held, targets):
+        if isinstance(item, HeldDihedral) and constraint_error(work.positions, item, target) > max_projection_deg:
+            rotate_to_dihedral(work, item.atoms, target)  # rings cannot rotate rigidly: left to the projection
+    try:
+        if optimizer == "bfgs":
+            steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+        elif optimizer == "sella":
+            steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+        else:
+            raise ValueError(f"unknown optimizer '{optimizer}' (choose bfgs or sella)")
+        energy = work.get_potential_energy() / EV_PER_HARTREE
+    except EngineError:
+        raise
+    except (np.linalg.LinAlgError, RuntimeError, FloatingPointError) as err:
+        raise OptimizationError(f"{optimizer} optimisation failed: {err}") from err
+    error = max((constraint_error(work.positions, h, t) for h, t in zip(held, targets)), default=0.0)
+    if raise_on_step_limit and not converged:
+        raise OptimizationError(f"{optimizer} optimisation did not converge in {max_steps} steps (fmax {fmax_eV_per_A} eV/Å)")
+    result_atoms = work.copy()
+    result_atoms.calc = None
+    return RelaxResult(result_atoms, float(energy), counter.calls, steps, bool(converged), float(error))
+
+
+def _run_bfgs(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
+              on_step: Callable[[int, float], None] | None) -> tuple[int, bool]:
+    """Run ASE BFGS with FixInternals; return (steps, converged)."""
+    if held:
+        work.set_constraint(_fix_internals(held, targets))
+        work.set_positions(work.get_positions())  # projects onto the targets
+    opt = BFGS(work, logfile=None)
+    if on_step is not None:
+        opt.attach(lambda: on_step(opt.nsteps, work.get_potential_energy() / EV_PER_HARTREE))
+    converged = opt.run(fmax=fmax, steps=max_steps)
+    work.set_constraint()
+    return opt.nsteps, bool(converged)
+
+
+def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
+               on_step: Callable[[int, float], None] | None) -> tuple[int, bool]:
+    """Run Sella (minimisation, internal coordinates) with its own constraints; return (steps, converged)."""
+    from sella import Constraints, Sella  # imported here: Sella loads jax, which is slow to start
+
+    constraints = Constraints(work)
+    for item, target in zip(held, targets):
+        if isinstance(item, HeldDihedral):
+            constraints.fix_dihedral(item.atoms, target=wrap_degrees(target))  # Sella takes degrees
+        elif isinstance(item, HeldDistance):
+            constraints.fix_bond(item.atoms, target=target)
+        else:
+            raise OptimizationError("Sella cannot hold a linear combination of distances: use optimizer 'bfgs'")
+    opt = Sella(work, order=0, internal=True, constraints=constraints, logfile=None)
+    if on_step is not None:
+        opt.attach(lambda: on_step(opt.nsteps, work.get_potential_energy() / EV_PER_HARTREE))
+    converged = opt.run(fmax=fmax, steps=max_steps)
+    return opt.nsteps, bool(converged)

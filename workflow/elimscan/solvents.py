@@ -1,0 +1,78 @@
+"""Which implicit-solvent model and solvent name each xTB backend supports (pure data, no backend import).
+
+The tables were measured on the pinned versions (tblite 0.8.0, xtb-python 22.1) by asking each
+backend for every name; they are checked again by tests/test_engine_xtb.py. They exist because
+xtb-python's ASE calculator silently returns gas-phase energies for a solvent name it does not know.
+"""
+
+from __future__ import annotations
+
+from elimscan.errors import SolventError
+
+#: User-facing aliases mapped to our canonical solvent names.
+SOLVENT_ALIASES: dict[str, str] = {
+    "h2o": "water",
+    "n-hexane": "hexane",
+    "nhexane": "hexane",
+    "dichloromethane": "ch2cl2",
+    "chloroform": "chcl3",
+    "diethylether": "ether",
+    "diethyl ether": "ether",
+    "dimethylsulfoxide": "dmso",
+    "tetrahydrofuran": "thf",
+    "dimethylformamide": "dmf",
+    "carbon disulfide": "cs2",
+    "ethyl acetate": "ethylacetate",
+    "furan": "furane",
+    "1-octanol": "octanol",
+}
+
+_ALPB_25 = frozenset(
+    "acetone acetonitrile aniline benzaldehyde benzene ch2cl2 chcl3 cs2 dioxane dmf dmso ether "
+    "ethylacetate furane hexadecane hexane methanol nitromethane octanol woctanol phenol toluene "
+    "thf water ethanol".split()
+)
+_GBSA_GFN2 = frozenset("acetone acetonitrile benzene ch2cl2 chcl3 cs2 dmf dmso ether hexane methanol thf toluene water".split())
+_GBSA_GFN1 = frozenset("acetone acetonitrile benzene ch2cl2 chcl3 cs2 dmso ether methanol thf toluene water".split())
+
+#: (backend, hamiltonian, model) -> canonical solvent names that backend parametrises.
+SUPPORTED_SOLVENTS: dict[tuple[str, str, str], frozenset[str]] = {
+    ("tblite", "GFN2-xTB", "alpb"): _ALPB_25,
+    ("tblite", "GFN1-xTB", "alpb"): _ALPB_25,
+    ("tblite", "GFN2-xTB", "gbsa"): _GBSA_GFN2,
+    ("tblite", "GFN1-xTB", "gbsa"): _GBSA_GFN1,
+    # xtb-python's set_solvent is GBSA only.
+    ("xtb", "GFN2-xTB", "gbsa"): _GBSA_GFN2,
+    ("xtb", "GFN1-xTB", "gbsa"): _GBSA_GFN1,
+}
+
+#: Names xtb-python's enum uses where they differ from ours.
+XTB_PYTHON_NAMES: dict[str, str] = {"water": "h2o", "hexane": "nhexane"}
+
+
+def canonical_solvent_name(name: str) -> str:
+    """Return our canonical (lower-case) solvent name for a user-given name or alias."""
+    key = name.strip().lower()
+    return SOLVENT_ALIASES.get(key, key)
+
+
+def check_solvent(backend: str, hamiltonian: str, model: str, name: str | None) -> str | None:
+    """Return the canonical solvent name if the backend supports it, else raise SolventError."""
+    if model == "none":
+        return None
+    if not name:
+        raise SolventError(f"solvent model '{model}' needs a solvent name")
+    canonical = canonical_solvent_name(name)
+    supported = SUPPORTED_SOLVENTS.get((backend, hamiltonian, model))
+    if supported is None:
+        models = sorted({m for (b, h, m) in SUPPORTED_SOLVENTS if b == backend and h == hamiltonian})
+        raise SolventError(
+            f"backend '{backend}' cannot do solvent model '{model}' with {hamiltonian}; "
+            f"it supports: {', '.join(models) or 'none'}"
+        )
+    if canonical not in supported:
+        raise SolventError(
+            f"backend '{backend}' has no {model.upper()} parameters for solvent '{name}' "
+            f"({hamiltonian}); it supports: {', '.join(sorted(supported))}"
+        )
+    return canonical

@@ -1,0 +1,103 @@
+"""SMILES -> checked RDKit molecule -> seeded 3D embedding -> ase.Atoms (RDKit and ASE only, no I/O)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from ase import Atoms
+from rdkit import Chem, RDLogger
+from rdkit.Chem import AllChem, Descriptors, rdMolDescriptors
+
+from elimscan.errors import StructureError
+
+#: GFN2-xTB is parametrised for H to Rn (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).
+MAX_ATOMIC_NUMBER_GFN2 = 86
+
+
+@dataclass(frozen=True)
+class BuiltMolecule:
+    """A molecule built from SMILES: RDKit mol with explicit H and one conformer, and its ase.Atoms (Å)."""
+
+    smiles: str
+    mol: Chem.Mol
+    atoms: Atoms
+    formal_charge: int
+    multiplicity: int
+
+
+def parse_smiles(smiles: str, what: str = "molecule") -> Chem.Mol:
+    """Return the sanitised RDKit molecule with explicit hydrogens; raise StructureError naming the SMILES."""
+    RDLogger.DisableLog("rdApp.*")
+    try:
+        mol = Chem.MolFromSmiles(smiles)
+    finally:
+        RDLogger.EnableLog("rdApp.*")
+    if mol is None:
+        raise StructureError(f"{what}: cannot parse SMILES '{smiles}' (check brackets, ring closures and valences)")
+    mol = Chem.AddHs(mol)
+    for atom in mol.GetAtoms():
+        if atom.GetAtomicNum() > MAX_ATOMIC_NUMBER_GFN2 or atom.GetAtomicNum() < 1:
+            raise StructureError(
+                f"{what} '{smiles}': element {atom.GetSymbol()} (atom {atom.GetIdx()}) is outside GFN2-xTB's range H-Rn"
+            )
+    radicals = Descriptors.NumRadicalElectrons(mol)
+    if radicals:
+        atoms = [f"{a.GetSymbol()}{a.GetIdx()}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+        raise StructureError(
+            f"{what} '{smiles}' has {radicals} unpaired electron(s) on {', '.join(atoms)}: "
+            "elimscan handles closed-shell molecules; add the missing hydrogens or charges"
+        )
+    return mol
+
+
+def check_charge(smiles: str, formal_charge: int, given: int | None, what: str = "molecule") -> int:
+    """Return the total charge to use: the given one if it matches the structure, else raise StructureError."""
+    if given is not None and given != formal_charge:
+        raise StructureError(
+            f"{what} '{smiles}': charge {given} does not match the structure, whose formal charges add up to {formal_charge}"
+        )
+    return formal_charge
+
+
+def embed(mol: Chem.Mol, seed: int, what: str = "molecule") -> Chem.Mol:
+    """Return a copy of ``mol`` with one seeded ETKDG conformer, pre-optimised with MMFF94 (or UFF)."""
+    work = Chem.Mol(mol)
+    params = AllChem.ETKDGv3()
+    params.randomSeed = int(seed)
+    if AllChem.EmbedMolecule(work, params) != 0:
+        params.useRandomCoords = True
+        if AllChem.EmbedMolecule(work, params) != 0:
+            raise StructureError(f"{what} '{Chem.MolToSmiles(Chem.RemoveHs(mol))}': RDKit could not embed a 3D structure")
+    if AllChem.MMFFHasAllMoleculeParams(work):
+        AllChem.MMFFOptimizeMolecule(work, maxIters=2000)
+    elif AllChem.UFFHasAllMoleculeParams(work):
+        AllChem.UFFOptimizeMolecule(work, maxIters=2000)
+    return work
+
+
+def mol_to_atoms(mol: Chem.Mol, conf_id: int = -1) -> Atoms:
+    """Return ase.Atoms (positions in Å) for one conformer of an RDKit molecule."""
+    conf = mol.GetConformer(conf_id)
+    numbers = [a.GetAtomicNum() for a in mol.GetAtoms()]
+    return Atoms(numbers=numbers, positions=np.array(conf.GetPositions()))
+
+
+def build_molecule(smiles: str, seed: int, charge: int | None = None, multiplicity: int = 1,
+                   what: str = "molecule") -> BuiltMolecule:
+    """Return the checked, embedded molecule for a SMILES with its total charge and multiplicity."""
+    mol = parse_smiles(smiles, what)
+    formal = Chem.GetFormalCharge(mol)
+    total = check_charge(smiles, formal, charge, what)
+    n_electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - total
+    if (n_electrons + multiplicity - 1) % 2 != 0:
+        raise StructureError(
+            f"{what} '{smiles}': multiplicity {multiplicity} is impossible with {n_electrons} electrons"
+        )
+    embedded = embed(mol, seed, what)
+    return BuiltMolecule(smiles, embedded, mol_to_atoms(embedded), total, multiplicity)
+
+
+def formula(mol: Chem.Mol) -> str:
+    """Return the Hill formula of a molecule."""
+    return rdMolDescriptors.CalcMolFormula(mol)
