@@ -65,8 +65,10 @@ class MethodConfig(_Frozen):
 class OptimizerConfig(_Frozen):
     """Geometry optimiser for (constrained) relaxations."""
 
-    #: 'bfgs' = ASE BFGS with FixInternals; 'sella' = Sella in internal coordinates
-    name: Literal["bfgs", "sella"] = "bfgs"
+    #: 'sella' = Sella in internal coordinates (default: fewer gradients and less time per constrained
+    #: point in benchmarks/bench_engine.py); 'bfgs' = ASE BFGS with FixInternals (the only one that
+    #: can hold a linear combination of distances)
+    name: Literal["bfgs", "sella"] = "sella"
     #: convergence: largest force component (eV/Å)
     fmax_eV_per_A: float = Field(0.01, gt=0)
     max_steps: int = Field(500, ge=1)

@@ -1,0 +1,94 @@
+"""Engine benchmark (``make bench``; not part of ``make test``). Prints figures measured in one run.
+
+1. median ms per GFN2-xTB energy+gradient, tblite vs xtb-python, at about 15, 35 and 70 atoms (gas phase);
+2. gradients and wall time per constrained dihedral-scan point, ASE BFGS + FixInternals vs Sella;
+3. the cache hit ratio when a relaxation is repeated.
+Quote ratios, not absolute times: they depend on the machine.
+"""
+
+from __future__ import annotations
+
+import statistics
+import sys
+import time
+
+from elimscan.threads import configure_threads
+
+configure_threads(1)
+
+from elimscan.engine import EngineSettings, XtbEngine  # noqa: E402
+from elimscan.geometry import dihedral_deg  # noqa: E402
+from elimscan.relax import HeldDihedral, relax  # noqa: E402
+from elimscan.structures import build_molecule  # noqa: E402
+
+SIZES = {"~15 atoms": "CC(Cl)CC", "~35 atoms": "CCCCCCCCCC(Cl)C", "~70 atoms": "CCCCCCCCCCCCCCCCCCCCC(Cl)C"}
+REPEATS = 9
+
+
+def median_ms_per_gradient(backend: str, atoms) -> float:
+    """Return the median wall time (ms) of one energy+gradient on a reused calculator."""
+    engine = XtbEngine(EngineSettings(backend=backend))
+    calc = engine.calculator()
+    times = []
+    for k in range(REPEATS):
+        moved = atoms.copy()
+        moved.positions[0, 0] += 1e-3 * (k + 1)  # new geometry each time: no cache hits
+        moved.calc = calc
+        start = time.perf_counter()
+        moved.get_forces()
+        times.append((time.perf_counter() - start) * 1e3)
+    return statistics.median(times)
+
+
+def scan_cost(optimizer: str, atoms, h: int, cb: int, ca: int, x: int, points: int = 12) -> tuple[float, float, float]:
+    """Return (gradients per point, s per point, first-call s) of a 15-degree H-C-C-X scan."""
+    engine = XtbEngine(EngineSettings())
+    start_atoms = relax(atoms, engine.calculator(), ()).atoms
+    phi0 = dihedral_deg(start_atoms.positions, h, cb, ca, x)
+    current, grads, times = start_atoms, [], []
+    first_call = None
+    for k in range(1, points + 1):
+        t0 = time.perf_counter()
+        result = relax(current, engine.calculator(), [HeldDihedral((h, cb, ca, x), phi0 + 15.0 * k)], optimizer=optimizer)
+        elapsed = time.perf_counter() - t0
+        if first_call is None:
+            first_call = elapsed
+        else:
+            times.append(elapsed)
+        grads.append(result.n_gradients)
+        current = result.atoms
+    return statistics.mean(grads), statistics.mean(times), first_call
+
+
+def main() -> int:
+    print("elimscan engine benchmark (one run; GFN2-xTB gas phase, 1 thread)")
+    print("\n1. median ms per energy+gradient (reused calculator)")
+    print(f"{'size':<12}{'atoms':>6}{'tblite ms':>11}{'xtb ms':>9}{'xtb/tblite':>12}")
+    for label, smiles in SIZES.items():
+        atoms = build_molecule(smiles, seed=1).atoms
+        t_tb, t_x = median_ms_per_gradient("tblite", atoms), median_ms_per_gradient("xtb", atoms)
+        print(f"{label:<12}{len(atoms):>6}{t_tb:>11.1f}{t_x:>9.1f}{t_x / t_tb:>12.2f}")
+
+    # (SMILES, C-beta, C-alpha, X): 2-chlorobutane (14 atoms) and 2-chloroundecane (35 atoms)
+    for smiles, cb, ca, x in (("CC(Cl)CC", 3, 1, 2), ("CC(Cl)CCCCCCCCC", 3, 1, 2)):
+        atoms = build_molecule(smiles, seed=1).atoms
+        print(f"\n2. constrained H-C-C-Cl scan of {smiles} ({len(atoms)} atoms), 12 points of 15 degrees")
+        h = next(i for i in range(len(atoms)) if atoms.numbers[i] == 1 and atoms.get_distance(i, cb) < 1.2)
+        rows = {optimizer: scan_cost(optimizer, atoms, h, cb, ca, x) for optimizer in ("bfgs", "sella")}
+        print(f"{'optimizer':<10}{'gradients/point':>17}{'s/point':>10}{'first point s':>15}")
+        for optimizer, (g, t, first) in rows.items():
+            print(f"{optimizer:<10}{g:>17.1f}{t:>10.3f}{first:>15.2f}")
+        print(f"ratio sella/bfgs: gradients {rows['sella'][0] / rows['bfgs'][0]:.2f}, "
+              f"time per point {rows['sella'][1] / rows['bfgs'][1]:.2f}")
+    atoms = build_molecule("CC(Cl)CC", seed=1).atoms
+
+    print("\n3. cache: the same relaxation twice on one engine")
+    engine = XtbEngine(EngineSettings())
+    relax(atoms, engine.calculator(), ())
+    relax(atoms, engine.calculator(), ())
+    print(f"hits {engine.stats.hits}, misses {engine.stats.misses}, hit ratio {engine.stats.hit_ratio:.2f}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
