@@ -16,6 +16,7 @@ from elimscan.threads import configure_threads
 
 configure_threads(1)
 
+from elimscan.config import OptimizerConfig  # noqa: E402
 from elimscan.engine import EngineSettings, XtbEngine  # noqa: E402
 from elimscan.geometry import dihedral_deg  # noqa: E402
 from elimscan.relax import HeldDihedral, relax  # noqa: E402
@@ -49,7 +50,8 @@ def scan_cost(optimizer: str, atoms, h: int, cb: int, ca: int, x: int, points: i
     first_call = None
     for k in range(1, points + 1):
         t0 = time.perf_counter()
-        result = relax(current, engine.calculator(), [HeldDihedral((h, cb, ca, x), phi0 + 15.0 * k)], optimizer=optimizer)
+        result = relax(current, engine.calculator(), [HeldDihedral((h, cb, ca, x), phi0 + 15.0 * k)],
+                       OptimizerConfig(name=optimizer))
         elapsed = time.perf_counter() - t0
         if first_call is None:
             first_call = elapsed

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from elimscan.config import OptimizerConfig
 from elimscan.errors import OptimizationError
 from elimscan.geometry import dihedral_deg, distance
 from elimscan.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
@@ -13,6 +14,9 @@ from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 # Ethane: atoms 0, 1 are C; 2-4 on C0, 5-7 on C1 (RDKit order for SMILES "CC").
 HCCH = (2, 0, 1, 5)
+BFGS = OptimizerConfig(name="bfgs")
+TIGHT = OptimizerConfig(name="bfgs", fmax_eV_per_A=1e-4)
+TIGHTER = OptimizerConfig(name="bfgs", fmax_eV_per_A=1e-5)
 
 
 @pytest.fixture(scope="module")
@@ -24,13 +28,13 @@ def test_toy_relaxation_holds_a_dihedral_and_finds_the_analytic_energy(ethane):
     # Toy model: 9 H-C-C-H torsions of V3/2 (1 + cos 3 phi), all in phase; held at 0 deg (eclipsed)
     # the torsional energy is 9 V3 (closed form), and the springs relax to ~0.
     toy = SpringTorsionEngine(ethane, torsion_barrier_eV=0.005)
-    staggered = relax(ethane, toy.calculator(), (), fmax_eV_per_A=1e-4)
+    staggered = relax(ethane, toy.calculator(), (), TIGHT)
     start = dihedral_deg(staggered.atoms.positions, *HCCH)
     # approach eclipsed in 20-degree steps, each a held relaxation
     atoms = staggered.atoms
     for target in np.linspace(start, 0.0, 10)[1:]:
-        atoms = relax(atoms, toy.calculator(), [HeldDihedral(HCCH, float(target))], fmax_eV_per_A=1e-4).atoms
-    eclipsed = relax(atoms, toy.calculator(), [HeldDihedral(HCCH, 0.0)], fmax_eV_per_A=1e-5)
+        atoms = relax(atoms, toy.calculator(), [HeldDihedral(HCCH, float(target))], TIGHT).atoms
+    eclipsed = relax(atoms, toy.calculator(), [HeldDihedral(HCCH, 0.0)], TIGHTER)
     barrier_eV = (eclipsed.energy_hartree - staggered.energy_hartree) * EV_PER_HARTREE
     assert abs(dihedral_deg(eclipsed.atoms.positions, *HCCH)) < 0.01
     assert barrier_eV == pytest.approx(9 * 0.005, rel=0.02)
@@ -38,10 +42,10 @@ def test_toy_relaxation_holds_a_dihedral_and_finds_the_analytic_energy(ethane):
 
 def test_toy_relaxation_holds_a_distance_and_a_distance_combination(ethane):
     toy = SpringTorsionEngine(ethane)
-    held = relax(ethane, toy.calculator(), [HeldDistance((0, 1), 1.60)])
+    held = relax(ethane, toy.calculator(), [HeldDistance((0, 1), 1.60)], BFGS)
     assert distance(held.atoms.positions, 0, 1) == pytest.approx(1.60, abs=1e-4)
     combo = HeldDistanceSum(((0, 2, 1.0), (0, 1, -1.0)), -0.40)
-    moved = relax(ethane, toy.calculator(), [combo])
+    moved = relax(ethane, toy.calculator(), [combo], BFGS)
     assert combo.value(moved.atoms.positions) == pytest.approx(-0.40, abs=1e-4)
     assert moved.max_constraint_error < 1e-4
 
@@ -49,17 +53,18 @@ def test_toy_relaxation_holds_a_distance_and_a_distance_combination(ethane):
 def test_sella_refuses_a_distance_combination(ethane):
     toy = SpringTorsionEngine(ethane)
     with pytest.raises(OptimizationError, match="linear combination"):
-        relax(ethane, toy.calculator(), [HeldDistanceSum(((0, 2, 1.0), (0, 1, -1.0)))], optimizer="sella")
+        relax(ethane, toy.calculator(), [HeldDistanceSum(((0, 2, 1.0), (0, 1, -1.0)))], OptimizerConfig(name="sella"))
 
 
 def test_step_limit_is_reported(ethane):
     toy = SpringTorsionEngine(ethane)
     stretched = ethane.copy()
     stretched.positions[0] += 0.3
-    result = relax(stretched, toy.calculator(), (), max_steps=1)
+    one_step = OptimizerConfig(name="bfgs", max_steps=1)
+    result = relax(stretched, toy.calculator(), (), one_step)
     assert not result.converged and result.n_steps == 1
     with pytest.raises(OptimizationError, match="did not converge in 1 steps"):
-        relax(stretched, toy.calculator(), (), max_steps=1, raise_on_step_limit=True)
+        relax(stretched, toy.calculator(), (), one_step, raise_on_step_limit=True)
 
 
 @pytest.mark.xtb
@@ -72,7 +77,7 @@ def test_gfn2_relaxation_holds_dihedral_and_distance(embed, gfn2_gas, optimizer)
     start = relax(atoms, gfn2_gas.calculator(), ())
     target = dihedral_deg(start.atoms.positions, *hcccl) + 10.0
     held = relax(start.atoms, gfn2_gas.calculator(), [HeldDihedral(hcccl, target), HeldDistance((1, 2), 1.85)],
-                 optimizer=optimizer)
+                 OptimizerConfig(name=optimizer))
     assert held.converged
     assert abs(((dihedral_deg(held.atoms.positions, *hcccl) - target + 180) % 360) - 180) < 0.01
     assert distance(held.atoms.positions, 1, 2) == pytest.approx(1.85, abs=1e-4)
@@ -86,3 +91,18 @@ def test_ethane_rotation_barrier_against_experiment(embed, gfn2_gas):
     eclipsed = relax(staggered.atoms, gfn2_gas.calculator(), [HeldDihedral(HCCH, 0.0)])
     barrier = (eclipsed.energy_hartree - staggered.energy_hartree) * KCAL_MOL_PER_HARTREE
     assert barrier == pytest.approx(2.88, abs=0.6)
+
+
+def test_rigid_rotation_only_for_acyclic_bonds(embed):
+    from elimscan.relax import rotate_to_dihedral
+
+    butane = embed("CCCC")
+    quad = (0, 1, 2, 3)
+    assert rotate_to_dihedral(butane, quad, 65.0)
+    assert dihedral_deg(butane.positions, *quad) == pytest.approx(65.0, abs=1e-6)
+    # bond lengths on both sides are untouched by a rigid rotation
+    assert butane.get_distance(0, 1) == pytest.approx(embed("CCCC").get_distance(0, 1), abs=1e-9)
+    ring = embed("C1CCCCC1")
+    before = ring.positions.copy()
+    assert not rotate_to_dihedral(ring, (0, 1, 2, 3), 180.0)
+    assert (ring.positions == before).all()

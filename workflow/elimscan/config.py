@@ -72,6 +72,9 @@ class OptimizerConfig(_Frozen):
     #: convergence: largest force component (eV/Å)
     fmax_eV_per_A: float = Field(0.01, gt=0)
     max_steps: int = Field(500, ge=1)
+    #: a held dihedral further than this from its target is first set by rotating one side of the bond
+    #: (acyclic bonds only); smaller differences are projected by the constraint (degrees)
+    rigid_rotation_above_deg: float = Field(5.0, gt=0)
 
 
 class ThreadsConfig(_Frozen):

@@ -51,7 +51,7 @@ def relax_molecule(name: str, role: str, smiles: str, charge: int | None, multip
     try:
         built = build_molecule(smiles, seed, charge, multiplicity, what)
         calc = engine.calculator(built.formal_charge, multiplicity, name=what)
-        result = relax(built.atoms, calc, (), optimizer.name, optimizer.fmax_eV_per_A, optimizer.max_steps)
+        result = relax(built.atoms, calc, (), optimizer)
     except ElimscanError as err:
         record = MoleculeRecord(name=name, role=role, smiles=smiles, status="failed", error=error_info(err))
         return RelaxedMolecule(record, None)

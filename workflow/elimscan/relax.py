@@ -20,6 +20,7 @@ from ase.constraints import FixInternals
 from ase.neighborlist import NeighborList, natural_cutoffs
 from ase.optimize import BFGS
 
+from elimscan.config import OptimizerConfig
 from elimscan.errors import EngineError, OptimizationError
 from elimscan.geometry import dihedral_deg, distance, wrap_degrees
 from elimscan.units import EV_PER_HARTREE
@@ -154,16 +155,14 @@ def relax(
     atoms: Atoms,
     calculator: Calculator,
     held: Sequence[Held] = (),
-    optimizer: str = "bfgs",
-    fmax_eV_per_A: float = 0.01,
-    max_steps: int = 500,
+    settings: OptimizerConfig = OptimizerConfig(),
     on_step: Callable[[int, float], None] | None = None,
     raise_on_step_limit: bool = False,
-    max_projection_deg: float = 5.0,
 ) -> RelaxResult:
     """Return the relaxed copy of ``atoms`` (energy in hartree) with the ``held`` coordinates fixed.
 
-    A held dihedral more than ``max_projection_deg`` from its target is first set by rotating the
+    ``settings`` names the optimiser, its convergence and step limit (defaults in config.py).
+    A held dihedral more than ``settings.rigid_rotation_above_deg`` from its target is first set by rotating the
     fragment on one side of an acyclic bond; other differences are projected onto the targets at the
     start (keep such moves small, e.g. one scan step). ``on_step(step, energy_hartree)`` reports progress.
     """
@@ -173,8 +172,9 @@ def relax(
     counter = _Counter(calculator)
     targets = _targets(work, held)
     for item, target in zip(held, targets):
-        if isinstance(item, HeldDihedral) and constraint_error(work.positions, item, target) > max_projection_deg:
+        if isinstance(item, HeldDihedral) and constraint_error(work.positions, item, target) > settings.rigid_rotation_above_deg:
             rotate_to_dihedral(work, item.atoms, target)  # rings cannot rotate rigidly: left to the projection
+    optimizer, fmax_eV_per_A, max_steps = settings.name, settings.fmax_eV_per_A, settings.max_steps
     try:
         if optimizer == "bfgs":
             steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
