@@ -77,6 +77,48 @@ class OptimizerConfig(_Frozen):
     rigid_rotation_above_deg: float = Field(5.0, gt=0)
 
 
+class ConformerConfig(_Frozen):
+    """Conformer search: seeded ETKDG embedding, pruning, GFN2-xTB relaxation, de-duplication."""
+
+    #: embeddings = base + per rotatable bond + per ring, capped at max_embeddings
+    base_embeddings: int = Field(6, ge=1)
+    per_rotatable_bond: int = Field(4, ge=0)
+    per_ring: int = Field(4, ge=0)
+    max_embeddings: int = Field(40, ge=1)
+    #: force-field geometries closer than this heavy-atom RMSD (Å) are pruned before xTB
+    prune_rmsd_A: float = Field(0.25, gt=0)
+    #: after GFN2-xTB: same conformer when both energy and heavy-atom RMSD are this close
+    duplicate_energy_kcal_mol: float = Field(0.05, gt=0)
+    duplicate_rmsd_A: float = Field(0.25, gt=0)
+    #: conformers more than this above the lowest are dropped (kcal/mol)
+    energy_window_kcal_mol: float = Field(10.0, gt=0)
+    #: build both chair forms of every saturated six-membered ring on purpose
+    ring_flip: bool = True
+    #: xTB relaxations of conformers at most (the lowest force-field energies first)
+    max_relaxations: int = Field(12, ge=1)
+
+
+class ScanConfig(_Frozen):
+    """H-C-C-X dihedral scans."""
+
+    step_deg: float = Field(15.0, gt=0, le=60)
+    #: a scan branch stops once a point is this far above the scan's start (kcal/mol)
+    energy_cap_kcal_mol: float = Field(25.0, gt=0)
+    #: around anti and syn in rings: how far past the target a local scan goes (degrees)
+    ring_window_deg: float = Field(30.0, ge=0)
+
+
+class RuleConfig(_Frozen):
+    """The geometric rule: dihedral windows and the energy window for 'accessible'."""
+
+    #: |H-C-C-X| at least this is anti-periplanar (degrees)
+    anti_min_deg: float = Field(150.0, gt=90, le=180)
+    #: |H-C-C-X| at most this is syn-periplanar (degrees)
+    syn_max_deg: float = Field(30.0, ge=0, lt=90)
+    #: a geometry within this of the global minimum counts as accessible (kcal/mol)
+    energy_window_kcal_mol: float = Field(3.0, gt=0)
+
+
 class ThreadsConfig(_Frozen):
     """OpenMP/BLAS threads per worker process (parallelism comes from processes)."""
 
@@ -133,6 +175,9 @@ class RunConfig(_Frozen):
     method: MethodConfig = MethodConfig()
     optimizer: OptimizerConfig = OptimizerConfig()
     threads: ThreadsConfig = ThreadsConfig()
+    conformers: ConformerConfig = ConformerConfig()
+    scan: ScanConfig = ScanConfig()
+    rule: RuleConfig = RuleConfig()
     substrates: tuple[SubstrateConfig, ...] = Field(min_length=1)
     bases: tuple[BaseConfig, ...] = Field(min_length=1)
     pairs: tuple[PairConfig, ...] | None = None

@@ -68,3 +68,45 @@ def kabsch_rmsd(p: np.ndarray, q: np.ndarray) -> float:
     s[-1] *= sign
     msd = (np.sum(p * p) + np.sum(q * q) - 2.0 * np.sum(s)) / len(p)
     return float(np.sqrt(max(msd, 0.0)))
+
+
+def ring_torsions_deg(positions: np.ndarray, ring: tuple[int, ...]) -> list[float]:
+    """Return the endocyclic torsions (degrees) of a ring given in ring order."""
+    n = len(ring)
+    return [dihedral_deg(positions, ring[k], ring[(k + 1) % n], ring[(k + 2) % n], ring[(k + 3) % n]) for k in range(n)]
+
+
+def six_ring_shape(torsions_deg: list[float], chair_min_deg: float = 20.0, boat_flat_deg: float = 15.0) -> str:
+    """Return 'chair', 'boat' or 'twist-boat' for a six-membered ring from its six torsions (degrees).
+
+    Chair: torsion signs alternate, each at least ``chair_min_deg`` (ideal +-55 deg). Boat: two opposite
+    torsions within ``boat_flat_deg`` of zero. Anything else non-planar is called twist-boat (this also
+    covers half-chairs and envelopes met along a forced ring flip). Windows: common practice.
+    """
+    if len(torsions_deg) != 6:
+        raise ValueError("six_ring_shape needs six torsions")
+    t = np.asarray(torsions_deg)
+    if all(abs(x) >= chair_min_deg for x in t) and all(t[k] * t[(k + 1) % 6] < 0 for k in range(6)):
+        return "chair"
+    if any(abs(t[k]) < boat_flat_deg and abs(t[k + 3]) < boat_flat_deg for k in range(3)):
+        return "boat"
+    return "twist-boat"
+
+
+def ring_normal(positions: np.ndarray, ring: tuple[int, ...]) -> np.ndarray:
+    """Return the unit normal of a ring's mean plane (least squares)."""
+    points = np.asarray(positions, dtype=float)[list(ring)]
+    _, _, vt = np.linalg.svd(points - points.mean(axis=0))
+    return vt[2]
+
+
+def substituent_orientation(positions: np.ndarray, ring: tuple[int, ...], ring_atom: int, substituent: int,
+                            axial_min_cos: float = 0.7) -> str:
+    """Return 'axial' or 'equatorial' for a ring substituent from the angle of its bond to the ring normal.
+
+    Axial bonds lie nearly parallel to the mean-plane normal (|cos| about 0.95 in a chair), equatorial ones
+    nearly in the plane (|cos| about 0.3); ``axial_min_cos`` splits the two (common practice).
+    """
+    bond = np.asarray(positions[substituent], dtype=float) - np.asarray(positions[ring_atom], dtype=float)
+    cos = abs(float(np.dot(bond / np.linalg.norm(bond), ring_normal(positions, ring))))
+    return "axial" if cos >= axial_min_cos else "equatorial"

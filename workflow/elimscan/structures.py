@@ -26,8 +26,13 @@ class BuiltMolecule:
     multiplicity: int
 
 
-def parse_smiles(smiles: str, what: str = "molecule") -> Chem.Mol:
-    """Return the sanitised RDKit molecule with explicit hydrogens; raise StructureError naming the SMILES."""
+def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True) -> Chem.Mol:
+    """Return the sanitised RDKit molecule (explicit H unless told not); raise StructureError naming the SMILES.
+
+    Checks: the SMILES parses and sanitises, every element is within GFN2-xTB's range, no unpaired electrons.
+    """
+    if not isinstance(smiles, str) or not smiles.strip():
+        raise StructureError(f"{what}: empty or non-text SMILES {smiles!r}")
     RDLogger.DisableLog("rdApp.*")
     try:
         mol = Chem.MolFromSmiles(smiles)
@@ -35,15 +40,17 @@ def parse_smiles(smiles: str, what: str = "molecule") -> Chem.Mol:
         RDLogger.EnableLog("rdApp.*")
     if mol is None:
         raise StructureError(f"{what}: cannot parse SMILES '{smiles}' (check brackets, ring closures and valences)")
-    mol = Chem.AddHs(mol)
+    if add_hydrogens:
+        mol = Chem.AddHs(mol)
     for atom in mol.GetAtoms():
         if atom.GetAtomicNum() > MAX_ATOMIC_NUMBER_GFN2 or atom.GetAtomicNum() < 1:
             raise StructureError(
-                f"{what} '{smiles}': element {atom.GetSymbol()} (atom {atom.GetIdx()}) is outside GFN2-xTB's range H-Rn"
+                f"{what} '{smiles}': element {atom.GetSymbol()} ({atom.GetSymbol()} atom {atom.GetIdx()}) is outside "
+                "GFN2-xTB's range H-Rn"
             )
     radicals = Descriptors.NumRadicalElectrons(mol)
     if radicals:
-        atoms = [f"{a.GetSymbol()}{a.GetIdx()}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+        atoms = [f"{a.GetSymbol()} atom {a.GetIdx()}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
         raise StructureError(
             f"{what} '{smiles}' has {radicals} unpaired electron(s) on {', '.join(atoms)}: "
             "elimscan handles closed-shell molecules; add the missing hydrogens or charges"
@@ -60,19 +67,37 @@ def check_charge(smiles: str, formal_charge: int, given: int | None, what: str =
     return formal_charge
 
 
+def force_field_minimize(mol: Chem.Mol) -> list[float]:
+    """Minimise every conformer in place with MMFF94 (UFF where MMFF lacks parameters); return energies (kcal/mol)."""
+    RDLogger.DisableLog("rdApp.*")
+    try:
+        if AllChem.MMFFHasAllMoleculeParams(mol):
+            results = AllChem.MMFFOptimizeMoleculeConfs(mol, maxIters=2000)
+        elif AllChem.UFFHasAllMoleculeParams(mol):
+            results = AllChem.UFFOptimizeMoleculeConfs(mol, maxIters=2000)
+        else:
+            results = []
+    finally:
+        RDLogger.EnableLog("rdApp.*")
+    return [energy for _, energy in results]
+
+
 def embed(mol: Chem.Mol, seed: int, what: str = "molecule") -> Chem.Mol:
     """Return a copy of ``mol`` with one seeded ETKDG conformer, pre-optimised with MMFF94 (or UFF)."""
     work = Chem.Mol(mol)
     params = AllChem.ETKDGv3()
     params.randomSeed = int(seed)
-    if AllChem.EmbedMolecule(work, params) != 0:
-        params.useRandomCoords = True
-        if AllChem.EmbedMolecule(work, params) != 0:
-            raise StructureError(f"{what} '{Chem.MolToSmiles(Chem.RemoveHs(mol))}': RDKit could not embed a 3D structure")
-    if AllChem.MMFFHasAllMoleculeParams(work):
-        AllChem.MMFFOptimizeMolecule(work, maxIters=2000)
-    elif AllChem.UFFHasAllMoleculeParams(work):
-        AllChem.UFFOptimizeMolecule(work, maxIters=2000)
+    RDLogger.DisableLog("rdApp.*")
+    try:
+        status = AllChem.EmbedMolecule(work, params)
+        if status != 0:
+            params.useRandomCoords = True
+            status = AllChem.EmbedMolecule(work, params)
+    finally:
+        RDLogger.EnableLog("rdApp.*")
+    if status != 0:
+        raise StructureError(f"{what} '{Chem.MolToSmiles(Chem.RemoveHs(mol))}': RDKit could not embed a 3D structure")
+    force_field_minimize(work)
     return work
 
 
