@@ -94,9 +94,23 @@ def test_run_writes_schema_valid_results_and_refuses_to_overwrite(tmp_path):
     assert document["config"]["method"]["solvent"]["name"] == "ethanol"
     # the relaxed geometry is extended XYZ that ASE reads back, with its energy
     import ase.io
+    from rdkit import Chem
 
-    atoms = ase.io.read(out / molecules["chloroethane"]["xyz_file"])
-    assert atoms.info["energy_hartree"] == pytest.approx(molecules["chloroethane"]["energy_hartree"])
+    base = ase.io.read(out / molecules["methoxide"]["xyz_file"])
+    assert base.info["energy_hartree"] == pytest.approx(molecules["methoxide"]["energy_hartree"])
+    job = document["jobs"][0]
+    # chloroethane: one beta-H class, the CH3, degeneracy 3, product ethylene
+    assert [(b["degeneracy"], b["anti"]["product_smiles"]) for b in job["beta_hydrogens"]] == [(3, "C=C")]
+    assert job["leaving_group"]["label"] == "Cl" and job["rule"]["rule_major"] == "C=C"
+    # the scan trajectory is extended XYZ with energy and dihedral in every frame
+    scan = job["beta_hydrogens"][0]["scans"][0]
+    frames = ase.io.read(out / scan["xyz_file"], index=":")
+    assert len(frames) == len(scan["points"]) == 24
+    assert all("energy_hartree" in f.info and -180 < f.info["dihedral_deg"] <= 180 for f in frames)
+    # the conformer ensemble is an SDF that RDKit reads, energies attached
+    sdf = [m for m in Chem.SDMolSupplier(str(out / job["conformer_file"]), removeHs=False)]
+    assert len(sdf) == len(job["conformers"]) and sdf[0].GetDoubleProp("energy_hartree") < 0
+    assert min(c["energy_hartree"] for c in job["conformers"]) == pytest.approx(molecules["chloroethane"]["energy_hartree"])
     log = (out / "run.log").read_text().splitlines()
     assert "command:" in log[0] and "versions:" in log[1]
     # a finished folder is never overwritten without being asked
@@ -119,5 +133,6 @@ def test_scf_failure_is_recorded_and_the_run_says_jobs_failed(tmp_path):
     jsonschema.Draft202012Validator(SCHEMA).validate(document)
     failed = [m for m in document["molecules"] if m["status"] == "failed"]
     assert failed and all(m["error"]["error_type"] == "scf_not_converged" for m in failed)
-    assert "SCF did not converge for substrate 'chloroethane'" in done.stderr
+    assert "SCF did not converge for" in done.stderr
     assert document["summary"]["n_jobs_failed"] == 1
+    assert document["jobs"][0]["error"]["error_type"] in {"scf_not_converged", "structure_error"}

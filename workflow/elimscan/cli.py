@@ -139,13 +139,12 @@ def cmd_run(args: argparse.Namespace) -> int:
     log.debug("versions: %s", json.dumps(_versions()))
 
     import ase
-    import ase.io
     import numpy
     import rdkit
 
     from elimscan.engine import EngineSettings, XtbEngine, backend_version
-    from elimscan.pipeline import run_config
-    from elimscan.records import JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
+    from elimscan.pipeline import DETAIL, job_record, run_config, safe_name, substrate_molecule_record
+    from elimscan.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
     from elimscan.report import summary_table
 
     engine = XtbEngine(EngineSettings.from_method(config.method))
@@ -154,29 +153,32 @@ def cmd_run(args: argparse.Namespace) -> int:
 
     def progress(done: int, total: int, message: str) -> None:
         elapsed = time.perf_counter() - started
+        if done == DETAIL:
+            log.info("    %s (%.1f s elapsed)", message, elapsed)
+            return
         left = f", about {elapsed / done * (total - done):.0f} s left" if 0 < done < total else ""
         log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
 
     outcome = run_config(config, engine, progress)
-
-    structures = out / "structures"
+    writer = _OutputWriter(out, engine.label)
     molecules: list[MoleculeRecord] = []
-    for (role, name), relaxed in outcome.molecules.items():
-        record = relaxed.record
-        if relaxed.atoms is not None:
-            structures.mkdir(exist_ok=True)
-            rel = f"structures/{role}-{_safe(name)}.xyz"
-            atoms = relaxed.atoms.copy()
-            atoms.info.update({"name": name, "energy_hartree": record.energy_hartree, "method": engine.label})
-            try:
-                ase.io.write(out / rel, atoms, format="extxyz")
-            except OSError as err:
-                raise OutputError(f"cannot write '{out / rel}': {err.strerror or err}") from err
-            record = record.model_copy(update={"xyz_file": rel})
-        if record.status != "ok" and record.error is not None:
-            log.warning("%s '%s' failed: %s", role, name, record.error.error_message)
+    for item in {s.name: s for s, _ in outcome.jobs}.values():
+        analysis = outcome.substrates[item.name]
+        record = substrate_molecule_record(item, analysis)
+        if not isinstance(analysis, ErrorInfo):
+            writer.substrate_files(item.name, analysis)
         molecules.append(record)
-    jobs: list[JobRecord] = outcome.jobs
+    for name, base in outcome.bases.items():
+        record = base.relaxed.record
+        if base.relaxed.atoms is not None:
+            rel = f"structures/base-{safe_name(name)}.xyz"
+            writer.xyz(rel, [base.relaxed.atoms], [{"name": name, "energy_hartree": record.energy_hartree}])
+            record = record.model_copy(update={"xyz_file": rel})
+        molecules.append(record)
+    for record in molecules:
+        if record.status != "ok" and record.error is not None:
+            log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
+    jobs: list[JobRecord] = [job_record(s, b, outcome, config) for s, b in outcome.jobs]
     n_failed = sum(job.status != "ok" for job in jobs)
     result = RunResult(
         provenance=Provenance(
@@ -214,9 +216,64 @@ def cmd_summary(args: argparse.Namespace) -> int:
     return ExitCode.OK
 
 
-def _safe(name: str) -> str:
-    """Return a file-name-safe version of a user-given name."""
-    return "".join(c if c.isalnum() or c in "-_." else "_" for c in name)
+class _OutputWriter:
+    """Writes trajectories (extended XYZ) and conformer ensembles (SDF) into the output folder."""
+
+    def __init__(self, out: Path, method_label: str):
+        self.out = out
+        self.method_label = method_label
+
+    def xyz(self, rel: str, frames: list, infos: list[dict]) -> None:
+        """Write frames (ase.Atoms) with their info dicts as one extended XYZ file."""
+        import ase.io
+
+        path = self.out / rel
+        images = []
+        for atoms, info in zip(frames, infos):
+            image = atoms.copy()
+            image.info.update({k: v for k, v in info.items() if v is not None})
+            image.info["method"] = self.method_label
+            images.append(image)
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True)
+            ase.io.write(path, images, format="extxyz")
+        except OSError as err:
+            raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+
+    def substrate_files(self, name: str, analysis) -> None:
+        """Write a substrate's conformer SDF and one XYZ trajectory per scan."""
+        from rdkit import Chem
+        from rdkit.Geometry import Point3D
+
+        from elimscan.pipeline import conformer_file_name, scan_file_name
+        from elimscan.units import KCAL_MOL_PER_HARTREE
+
+        lowest = analysis.ensemble.lowest.energy_hartree
+        path = self.out / conformer_file_name(name)
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True)
+            with Chem.SDWriter(str(path)) as sdf:
+                for conformer in analysis.ensemble.conformers:
+                    mol = Chem.Mol(analysis.substrate.mol)
+                    conf = mol.GetConformer()
+                    for i, (x, y, z) in enumerate(conformer.atoms.positions):
+                        conf.SetAtomPosition(i, Point3D(float(x), float(y), float(z)))
+                    mol.SetProp("_Name", f"{name} conformer {conformer.conformer_id}")
+                    mol.SetDoubleProp("energy_hartree", conformer.energy_hartree)
+                    mol.SetDoubleProp("relative_energy_kcal_mol", (conformer.energy_hartree - lowest) * KCAL_MOL_PER_HARTREE)
+                    mol.SetProp("source", conformer.source)
+                    mol.SetProp("method", self.method_label)
+                    sdf.write(mol)
+        except OSError as err:
+            raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+        for c in analysis.classes:
+            for k, scan in enumerate(c.scans):
+                points = [p for p in scan.points if p.atoms is not None]
+                self.xyz(scan_file_name(name, c.beta_class.class_id, k), [p.atoms for p in points],
+                         [{"dihedral_deg": p.dihedral_deg, "target_deg": p.target_deg, "energy_hartree": p.energy_hartree,
+                           "relative_energy_kcal_mol": (p.energy_hartree - analysis.global_minimum_hartree) * KCAL_MOL_PER_HARTREE,
+                           "status": p.status, "class_id": c.beta_class.class_id,
+                           "dihedral_atoms": " ".join(map(str, scan.dihedral_atoms))} for p in points])
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -184,6 +184,7 @@ def build_ensemble(
     candidates = [(mol_to_atoms(work, cid), source) for cid, source in chosen] + list(extra)
     relaxed: list[tuple[Atoms, float, str]] = []
     failures: list[str] = []
+    first_error: ElimscanError | None = None
     for k, (atoms, source) in enumerate(candidates):
         if on_progress is not None:
             on_progress(k, len(candidates), f"relaxing conformer {k + 1} of {name} ({source})")
@@ -191,10 +192,11 @@ def build_ensemble(
             result = relax(atoms, engine.calculator(charge, multiplicity, name=f"{name} conformer {k}"), (), optimizer)
         except ElimscanError as err:
             failures.append(f"conformer {k} ({source}): {err}")
+            first_error = first_error or err
             continue
         relaxed.append((result.atoms, result.energy_hartree, source))
-    if not relaxed:
-        raise StructureError(f"{name}: no conformer could be relaxed: {'; '.join(failures)}")
+    if not relaxed:  # keep the kind of the failure (e.g. scf_not_converged) for the record
+        raise type(first_error)(f"{name}: none of {len(candidates)} conformers could be relaxed; first failure: {first_error}") from first_error
     return ConformerEnsemble(_deduplicate(relaxed, rings, HeavyAtomMatcher(mol), settings), tuple(failures))
 
 

@@ -1,7 +1,10 @@
-"""The computation of a run, without file I/O: build, relax and record every substrate and base.
+"""The computation of a run, without file I/O.
 
-Known failures (bad input, SCF or optimiser trouble) become records with ``status: failed``;
-the run carries on. Progress is reported through a callback, never printed.
+Per substrate: perception (leaving group, beta-H classes, products), a GFN2-xTB conformer ensemble,
+H-C-C-X scans for every beta-H class, and the anti/syn penalties. Per base: a relaxed structure and
+how the rule sees it. Per job: the records, with the geometric rule's verdict. Known failures
+(bad input, SCF or optimiser trouble) become records with ``status: failed``; the run carries on.
+Progress is reported through a callback, never printed.
 """
 
 from __future__ import annotations
@@ -11,15 +14,27 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 
 from ase import Atoms
+from rdkit import Chem
 
-from elimscan.config import OptimizerConfig, RunConfig
+from elimscan.analysis import (ClassFacts, GeometrySample, Periplanar, best_periplanar, rule_status,
+                               rule_verdict)
+from elimscan.bases import BaseInfo, describe_base
+from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
+from elimscan.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
-from elimscan.records import ErrorInfo, JobRecord, MoleculeRecord
+from elimscan.geometry import dihedral_deg, wrap_degrees
+from elimscan.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
+from elimscan.records import (BaseRecord, BetaHydrogenRecord, ConformerRecord, ErrorInfo, JobRecord,
+                              LeavingGroupRecord, MoleculeRecord, PeriplanarRecord, ProductRecord, RuleRecord,
+                              ScanPointRecord, ScanRecord)
 from elimscan.relax import relax
-from elimscan.structures import build_molecule, formula
+from elimscan.scans import DihedralScan, branch_plan, scan_dihedral
+from elimscan.structures import build_molecule, check_charge, formula
+from elimscan.units import KCAL_MOL_PER_HARTREE
 
-#: progress callback: (finished steps, total steps, message)
+#: progress callback: (finished steps, total steps, message); DETAIL in both counts marks a sub-step message
 ProgressCallback = Callable[[int, int, str], None]
+DETAIL = -1
 
 
 @dataclass(frozen=True)
@@ -30,12 +45,45 @@ class RelaxedMolecule:
     atoms: Atoms | None
 
 
+@dataclass(frozen=True)
+class ClassAnalysis:
+    """One beta-H class: its perception, scans, best anti and syn geometries and the rule status."""
+
+    beta_class: BetaHydrogenClass
+    scans: tuple[DihedralScan, ...]
+    anti: Periplanar
+    syn: Periplanar
+    status: str
+
+
+@dataclass(frozen=True)
+class SubstrateAnalysis:
+    """Everything computed for one substrate, independent of the base."""
+
+    name: str
+    substrate: Substrate
+    charge: int
+    multiplicity: int
+    ensemble: ConformerEnsemble
+    classes: tuple[ClassAnalysis, ...]
+    global_minimum_hartree: float
+
+
+@dataclass(frozen=True)
+class BaseAnalysis:
+    """A relaxed base and how the rule sees it."""
+
+    relaxed: RelaxedMolecule
+    info: BaseInfo | None
+
+
 @dataclass
 class RunOutcome:
-    """Everything a run computed: molecules by (role, name), and the job records."""
+    """Everything a run computed: substrates and bases by name (or their failures), and the jobs."""
 
-    molecules: dict[tuple[str, str], RelaxedMolecule] = field(default_factory=dict)
-    jobs: list[JobRecord] = field(default_factory=list)
+    substrates: dict[str, SubstrateAnalysis | ErrorInfo] = field(default_factory=dict)
+    bases: dict[str, BaseAnalysis] = field(default_factory=dict)
+    jobs: list[tuple[SubstrateConfig, BaseConfig]] = field(default_factory=list)
 
 
 def error_info(err: ElimscanError) -> ErrorInfo:
@@ -69,27 +117,181 @@ def relax_molecule(name: str, role: str, smiles: str, charge: int | None, multip
     return RelaxedMolecule(record, result.atoms)
 
 
-def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None) -> RunOutcome:
-    """Return the outcome of a run: every molecule used by a job relaxed once, and one record per job."""
-    jobs = config.jobs()
-    needed: dict[tuple[str, str], object] = {}
-    for substrate, base in jobs:
-        needed.setdefault(("substrate", substrate.name), substrate)
-        needed.setdefault(("base", base.name), base)
-    outcome = RunOutcome()
-    total = len(needed)
-    for step, ((role, name), item) in enumerate(needed.items()):
+def _bond_in_ring(mol: Chem.Mol, a: int, b: int) -> bool:
+    """Return True when the bond a-b lies in a ring."""
+    bond = mol.GetBondBetweenAtoms(a, b)
+    return bond is not None and bond.IsInRing()
+
+
+def _class_scans(substrate: Substrate, beta_class: BetaHydrogenClass, ensemble: ConformerEnsemble, engine,
+                 charge: int, multiplicity: int, config: RunConfig, rings, name: str,
+                 on_progress: ProgressCallback | None) -> tuple[DihedralScan, ...]:
+    """Return the scans of one class: a full turn from the lowest conformer, or local ring scans."""
+    lg = substrate.leaving_group
+    quad = (beta_class.representative_index, beta_class.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index)
+    in_ring = _bond_in_ring(substrate.mol, beta_class.beta_carbon_index, lg.c_alpha_index)
+    starts: list[tuple[int, tuple[float, ...]]] = []
+    if not in_ring:
+        starts.append((ensemble.lowest.conformer_id, (180.0, 0.0)))
+    else:
+        for target in (180.0, 0.0):
+            nearest = min(ensemble.conformers, key=lambda c: (round(abs(wrap_degrees(dihedral_deg(c.atoms.positions, *quad) - target)) / 10),
+                                                             c.energy_hartree))
+            starts.append((nearest.conformer_id, (target,)))
+    scans = []
+    for conformer_id, targets in starts:
+        conformer = ensemble.conformers[conformer_id]
+        phi = dihedral_deg(conformer.atoms.positions, *quad)
+        plan = branch_plan(phi, in_ring, config.scan, targets)
         if on_progress is not None:
-            on_progress(step, total, f"relaxing {role} '{name}' ({item.smiles})")
-        outcome.molecules[(role, name)] = relax_molecule(
-            name, role, item.smiles, item.charge, item.multiplicity, engine, config.optimizer, config.seed)
-    for substrate, base in jobs:
-        parts = [outcome.molecules[("substrate", substrate.name)].record, outcome.molecules[("base", base.name)].record]
-        failed = [p for p in parts if p.status != "ok"]
-        error = None
-        if failed:
-            error = ErrorInfo(error_type=failed[0].error.error_type if failed[0].error else "failed",
-                              error_message="; ".join(p.error.error_message for p in failed if p.error))
-        outcome.jobs.append(JobRecord(job_id=f"{substrate.name}__{base.name}", substrate=substrate.name, base=base.name,
-                                      status="failed" if failed else "ok", error=error))
+            on_progress(DETAIL, DETAIL, f"{name}: scanning H-C-C-X of {beta_class.class_id} from conformer {conformer_id} "
+                              f"({phi:.0f} deg, {sum(n for _, n in plan)} points)")
+        scans.append(scan_dihedral(conformer.atoms, quad, engine, charge, multiplicity, plan, config.scan,
+                                   config.optimizer, rings, start_label=f"conformer {conformer_id}", name=name))
+    return tuple(scans)
+
+
+def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
+                      on_progress: ProgressCallback | None = None) -> SubstrateAnalysis:
+    """Return the base-independent analysis of one substrate: ensemble, scans and anti/syn penalties."""
+    name = f"substrate '{item.name}'"
+    substrate = perceive_substrate(item.smiles, seed=config.seed)
+    charge = check_charge(item.smiles, substrate.formal_charge, item.charge, name)
+    if on_progress is not None:
+        on_progress(DETAIL, DETAIL, f"{name}: conformer search ({len(substrate.beta_classes)} beta-H classes)")
+    ensemble = build_ensemble(substrate.mol, engine, charge, item.multiplicity, config.seed, config.conformers,
+                              config.optimizer, name=name)
+    rings = saturated_six_rings(substrate.mol)
+    lg = substrate.leaving_group
+    per_class = []
+    for beta_class in substrate.beta_classes:
+        quad = (beta_class.representative_index, beta_class.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index)
+        scans = _class_scans(substrate, beta_class, ensemble, engine, charge, item.multiplicity, config, rings, name,
+                             on_progress)
+        samples = [GeometrySample(dihedral_deg(c.atoms.positions, *quad), c.energy_hartree, f"conformer {c.conformer_id}",
+                                  c.ring_shapes) for c in ensemble.conformers]
+        samples += [GeometrySample(p.dihedral_deg, p.energy_hartree, f"scan from {scan.start_label}", p.ring_shapes)
+                    for scan in scans for p in scan.ok_points()]
+        per_class.append((beta_class, scans, samples))
+    global_min = min(s.energy_hartree for _, _, samples in per_class for s in samples) if per_class else ensemble.lowest.energy_hartree
+    classes = []
+    for beta_class, scans, samples in per_class:
+        anti = best_periplanar(samples, global_min, "anti", config.rule)
+        syn = best_periplanar(samples, global_min, "syn", config.rule)
+        classes.append(ClassAnalysis(beta_class, scans, anti, syn, rule_status(anti, syn, config.rule)))
+    return SubstrateAnalysis(item.name, substrate, charge, item.multiplicity, ensemble, tuple(classes), global_min)
+
+
+def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None) -> RunOutcome:
+    """Return the outcome of a run: each substrate analysed once, each base relaxed once."""
+    jobs = config.jobs()
+    outcome = RunOutcome(jobs=jobs)
+    substrates = list({s.name: s for s, _ in jobs}.values())
+    bases = list({b.name: b for _, b in jobs}.values())
+    total = len(substrates) + len(bases)
+    for step, item in enumerate(substrates):
+        if on_progress is not None:
+            on_progress(step, total, f"substrate '{item.name}' ({item.smiles})")
+        try:
+            outcome.substrates[item.name] = analyze_substrate(item, config, engine, on_progress)
+        except ElimscanError as err:
+            outcome.substrates[item.name] = error_info(err)
+    for step, item in enumerate(bases, start=len(substrates)):
+        if on_progress is not None:
+            on_progress(step, total, f"base '{item.name}' ({item.smiles})")
+        relaxed = relax_molecule(item.name, "base", item.smiles, item.charge, item.multiplicity, engine,
+                                 config.optimizer, config.seed)
+        info = describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None
+        outcome.bases[item.name] = BaseAnalysis(relaxed, info)
     return outcome
+
+
+# --- records -----------------------------------------------------------------------------------------
+
+
+def scan_file_name(substrate: str, class_id: str, index: int) -> str:
+    """Return the output-relative path of one scan trajectory."""
+    return f"substrates/{safe_name(substrate)}/scan-{safe_name(class_id)}-{index}.xyz"
+
+
+def conformer_file_name(substrate: str) -> str:
+    """Return the output-relative path of a substrate's conformer SDF."""
+    return f"substrates/{safe_name(substrate)}/conformers.sdf"
+
+
+def safe_name(name: str) -> str:
+    """Return a file-name-safe version of a user-given name."""
+    return "".join(c if c.isalnum() or c in "-_." else "_" for c in name)
+
+
+def _periplanar_record(product: Alkene, best: Periplanar) -> PeriplanarRecord:
+    return PeriplanarRecord(
+        product_smiles=product.smiles, product_substitution=product.substitution, product_conjugated=product.conjugated,
+        product_ring_position=product.ring_position, product_possible=product.possible,
+        penalty_kcal_mol=best.penalty_kcal_mol, dihedral_deg=best.dihedral_deg, geometry_source=best.source,
+        ring_shapes=best.ring_shapes)
+
+
+def _scan_record(scan: DihedralScan, global_min: float, xyz_file: str) -> ScanRecord:
+    points = tuple(ScanPointRecord(
+        dihedral_deg=round(p.dihedral_deg, 2),
+        relative_energy_kcal_mol=None if p.energy_hartree is None else round((p.energy_hartree - global_min) * KCAL_MOL_PER_HARTREE, 3),
+        status=p.status, ring_shapes=p.ring_shapes) for p in scan.points)
+    return ScanRecord(start=scan.start_label, points=points, notes=scan.notes, xyz_file=xyz_file)
+
+
+def substrate_molecule_record(item: SubstrateConfig, analysis: SubstrateAnalysis | ErrorInfo) -> MoleculeRecord:
+    """Return the molecule record of a substrate: its lowest conformer, or its failure."""
+    if isinstance(analysis, ErrorInfo):
+        return MoleculeRecord(name=item.name, role="substrate", smiles=item.smiles, status="failed", error=analysis)
+    lowest = analysis.ensemble.lowest
+    return MoleculeRecord(name=item.name, role="substrate", smiles=item.smiles, status="ok", charge=analysis.charge,
+                          multiplicity=analysis.multiplicity, n_atoms=len(lowest.atoms),
+                          formula=formula(analysis.substrate.mol), energy_hartree=lowest.energy_hartree, converged=True)
+
+
+def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: RunOutcome, config: RunConfig) -> JobRecord:
+    """Return the record of one job: beta-H classes, products and the rule's verdict, or its failure."""
+    job_id = f"{safe_name(substrate_cfg.name)}__{safe_name(base_cfg.name)}"
+    head = {"job_id": job_id, "substrate": substrate_cfg.name, "base": base_cfg.name}
+    analysis = outcome.substrates[substrate_cfg.name]
+    base = outcome.bases[base_cfg.name]
+    errors = [e for e in (analysis if isinstance(analysis, ErrorInfo) else None, base.relaxed.record.error) if e]
+    if errors or base.info is None:
+        return JobRecord(**head, status="failed", error=ErrorInfo(
+            error_type=errors[0].error_type if errors else "failed",
+            error_message="; ".join(e.error_message for e in errors) or "base failed"))
+    lg = analysis.substrate.leaving_group
+    facts = [ClassFacts(c.beta_class.class_id, c.beta_class.anti_product, c.beta_class.syn_product, c.anti, c.syn)
+             for c in analysis.classes]
+    verdict = rule_verdict(facts, config.rule, base.info.bulky, lg.kind, lg.label)
+    lowest = analysis.ensemble.lowest.energy_hartree
+    beta_records = []
+    for c in analysis.classes:
+        b = c.beta_class
+        beta_records.append(BetaHydrogenRecord(
+            class_id=b.class_id, beta_carbon_index=b.beta_carbon_index, hydrogen_indices=b.hydrogen_indices,
+            representative_index=b.representative_index, degeneracy=b.degeneracy,
+            anti_penalty_kcal_mol=c.anti.penalty_kcal_mol, syn_penalty_kcal_mol=c.syn.penalty_kcal_mol,
+            rule_status=c.status, anti=_periplanar_record(b.anti_product, c.anti),
+            syn=_periplanar_record(b.syn_product, c.syn),
+            scans=tuple(_scan_record(s, analysis.global_minimum_hartree, scan_file_name(substrate_cfg.name, b.class_id, k))
+                        for k, s in enumerate(c.scans))))
+    return JobRecord(
+        **head, status="ok",
+        leaving_group=LeavingGroupRecord(label=lg.label, kind=lg.kind, leaving_atom_index=lg.leaving_atom_index,
+                                         c_alpha_index=lg.c_alpha_index, map_number=lg.map_number),
+        base_info=BaseRecord(basic_atom_index=base.info.basic_atom_index, bulky=base.info.bulky,
+                             bulky_reason=base.info.bulky_reason),
+        global_minimum_hartree=analysis.global_minimum_hartree,
+        conformers=tuple(ConformerRecord(conformer_id=c.conformer_id, energy_hartree=c.energy_hartree,
+                                         relative_energy_kcal_mol=round((c.energy_hartree - lowest) * KCAL_MOL_PER_HARTREE, 3),
+                                         source=c.source, ring_shapes=c.ring_shapes) for c in analysis.ensemble.conformers),
+        conformer_file=conformer_file_name(substrate_cfg.name),
+        warnings=analysis.substrate.warnings + analysis.ensemble.failures,
+        beta_hydrogens=tuple(beta_records),
+        products=tuple(ProductRecord(smiles=p.smiles, substitution=p.substitution, rule_call=p.call,
+                                     via_classes=p.via_classes, reason=p.reason) for p in verdict.products),
+        rule=RuleRecord(rule_major=verdict.major, hofmann_shift=verdict.hofmann_shift,
+                        energy_window_kcal_mol=config.rule.energy_window_kcal_mol, reasoning=verdict.reasoning),
+    )

@@ -16,7 +16,7 @@ from pydantic import BaseModel, ConfigDict, Field
 from elimscan.config import RunConfig
 
 RESULT_SCHEMA_NAME = "elimscan.result"
-RESULT_SCHEMA_VERSION = "0.1.0"
+RESULT_SCHEMA_VERSION = "0.2.0"
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
 
 
@@ -74,6 +74,101 @@ class MoleculeRecord(_Record):
     error: ErrorInfo | None = None
 
 
+class LeavingGroupRecord(_Record):
+    """The leaving group: label, kind, the leaving atom and C-alpha (0-based indices), the user's map number."""
+
+    label: str
+    kind: str
+    leaving_atom_index: int
+    c_alpha_index: int
+    map_number: int | None = Field(None, description="1-based SMILES atom-map label, when the user gave one")
+
+
+class ConformerRecord(_Record):
+    """One conformer of the substrate ensemble."""
+
+    conformer_id: int
+    relative_energy_kcal_mol: float
+    energy_hartree: float
+    source: str = Field(description="etkdg, chair+ / chair- (built on purpose), or user")
+    ring_shapes: tuple[str, ...]
+
+
+class ScanPointRecord(_Record):
+    """One point of an H-C-C-X scan."""
+
+    dihedral_deg: float = Field(description="measured dihedral on (-180, 180]")
+    relative_energy_kcal_mol: float | None = Field(description="above the substrate's global minimum")
+    status: Literal["ok", "above_cap", "failed"]
+    ring_shapes: tuple[str, ...]
+
+
+class ScanRecord(_Record):
+    """One H-C-C-X scan: its start, its points and why branches stopped."""
+
+    start: str
+    points: tuple[ScanPointRecord, ...]
+    notes: tuple[str, ...]
+    xyz_file: str | None = Field(None, description="extended XYZ trajectory, relative to the output folder")
+
+
+class PeriplanarRecord(_Record):
+    """The anti or syn elimination of one beta-H class: its product and its best periplanar geometry."""
+
+    product_smiles: str
+    product_substitution: str
+    product_conjugated: bool
+    product_ring_position: str
+    product_possible: bool
+    penalty_kcal_mol: float | None = Field(description="lowest periplanar energy above the global minimum; null: never reached")
+    dihedral_deg: float | None
+    geometry_source: str | None
+    ring_shapes: tuple[str, ...]
+
+
+class BetaHydrogenRecord(_Record):
+    """One class of symmetry-equivalent beta hydrogens."""
+
+    class_id: str
+    beta_carbon_index: int
+    hydrogen_indices: tuple[int, ...]
+    representative_index: int
+    degeneracy: int
+    anti_penalty_kcal_mol: float | None
+    syn_penalty_kcal_mol: float | None
+    rule_status: Literal["anti accessible", "syn only", "blocked"]
+    anti: PeriplanarRecord
+    syn: PeriplanarRecord
+    scans: tuple[ScanRecord, ...]
+
+
+class ProductRecord(_Record):
+    """One alkene and the geometric rule's call on it."""
+
+    smiles: str
+    substitution: str
+    rule_call: Literal["major", "minor", "forbidden"]
+    via_classes: tuple[str, ...]
+    reason: str
+
+
+class BaseRecord(_Record):
+    """The base as the rule sees it."""
+
+    basic_atom_index: int
+    bulky: bool
+    bulky_reason: str
+
+
+class RuleRecord(_Record):
+    """The geometric rule's verdict for one job."""
+
+    rule_major: str | None
+    hofmann_shift: bool
+    energy_window_kcal_mol: float
+    reasoning: tuple[str, ...]
+
+
 class JobRecord(_Record):
     """One substrate x base job."""
 
@@ -82,6 +177,15 @@ class JobRecord(_Record):
     base: str
     status: Literal["ok", "failed"]
     error: ErrorInfo | None = None
+    leaving_group: LeavingGroupRecord | None = None
+    base_info: BaseRecord | None = None
+    global_minimum_hartree: float | None = Field(None, description="lowest substrate energy seen (conformers and scans)")
+    conformers: tuple[ConformerRecord, ...] = ()
+    conformer_file: str | None = Field(None, description="SDF of the ensemble, relative to the output folder")
+    warnings: tuple[str, ...] = ()
+    beta_hydrogens: tuple[BetaHydrogenRecord, ...] = ()
+    products: tuple[ProductRecord, ...] = ()
+    rule: RuleRecord | None = None
 
 
 class RunSummary(_Record):
@@ -97,7 +201,7 @@ class RunResult(_Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.1.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.2.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds

@@ -1,0 +1,85 @@
+"""The geometric rule's arithmetic on hand-made facts (algorithm tier: invented inputs, no outside data)."""
+
+from __future__ import annotations
+
+import pytest
+
+from elimscan.analysis import (ClassFacts, GeometrySample, Periplanar, best_periplanar, is_trans, rule_status,
+                               rule_verdict)
+from elimscan.config import RuleConfig
+from elimscan.perception import Alkene
+from elimscan.units import KCAL_MOL_PER_HARTREE
+
+RULE = RuleConfig()
+
+
+def alkene(smiles: str, degree: str, possible: bool = True) -> Alkene:
+    return Alkene(smiles, degree, False, "acyclic", possible, "")
+
+
+def facts(class_id: str, anti_smiles: str, degree: str, anti: float | None, syn: float | None,
+          syn_smiles: str | None = None, possible: bool = True) -> ClassFacts:
+    return ClassFacts(class_id, alkene(anti_smiles, degree, possible), alkene(syn_smiles or anti_smiles, degree, possible),
+                      Periplanar("anti", anti, 180.0 if anti is not None else None, "test"),
+                      Periplanar("syn", syn, 0.0 if syn is not None else None, "test"))
+
+
+def test_best_periplanar_takes_the_lowest_sample_in_the_window():
+    e0 = -10.0
+    samples = [GeometrySample(179.0, e0 + 2 / KCAL_MOL_PER_HARTREE, "a"), GeometrySample(-151.0, e0 + 1 / KCAL_MOL_PER_HARTREE, "b"),
+               GeometrySample(149.0, e0, "c"), GeometrySample(10.0, e0 + 4 / KCAL_MOL_PER_HARTREE, "d")]
+    anti = best_periplanar(samples, e0, "anti", RULE)
+    assert anti.penalty_kcal_mol == pytest.approx(1.0) and anti.source == "b"
+    assert best_periplanar(samples, e0, "syn", RULE).penalty_kcal_mol == pytest.approx(4.0)
+    assert best_periplanar(samples[:1], e0, "syn", RULE).penalty_kcal_mol is None
+
+
+def test_rule_status_windows():
+    f = facts("x", "C=C", "mono", 2.9, 0.0)
+    assert rule_status(f.anti, f.syn, RULE) == "anti accessible"
+    f = facts("x", "C=C", "mono", 3.1, 0.5)
+    assert rule_status(f.anti, f.syn, RULE) == "syn only"
+    f = facts("x", "C=C", "mono", None, 3.5)
+    assert rule_status(f.anti, f.syn, RULE) == "blocked"
+
+
+def test_zaitsev_trans_before_cis_and_hofmann_shift():
+    classes = [facts("C1-H", "C=CCC", "mono", 0.0, 1.0), facts("C3-Ha", "C/C=C/C", "di", 0.2, 3.0),
+               facts("C3-Hb", "C/C=C\\C", "di", 0.6, 1.4)]
+    small = rule_verdict(classes, RULE, bulky_base=False, leaving_kind="halide", leaving_label="Br")
+    assert small.major == "C/C=C/C" and not small.hofmann_shift
+    assert {p.smiles: p.call for p in small.products} == {"C/C=C/C": "major", "C/C=C\\C": "minor", "C=CCC": "minor"}
+    bulky = rule_verdict(classes, RULE, bulky_base=True, leaving_kind="halide", leaving_label="Br")
+    assert bulky.major == "C=CCC" and bulky.hofmann_shift
+    onium = rule_verdict(classes, RULE, bulky_base=False, leaving_kind="onium", leaving_label="NMe3+")
+    fluoride = rule_verdict(classes, RULE, bulky_base=False, leaving_kind="halide", leaving_label="F")
+    assert onium.major == fluoride.major == "C=CCC"
+
+
+def test_products_reachable_only_syn_or_blocked_are_forbidden():
+    classes = [facts("ring-CH", "CC1=CCCCC1", "tri", None, 0.5), facts("ring-CH2", "CC1C=CCCC1", "di", 1.8, 4.0)]
+    verdict = rule_verdict(classes, RULE, bulky_base=False, leaving_kind="halide", leaving_label="Cl")
+    calls = {p.smiles: p.call for p in verdict.products}
+    assert calls == {"CC1C=CCCC1": "major", "CC1=CCCCC1": "forbidden"}
+    assert any("never anti-periplanar" in line for line in verdict.reasoning)
+
+
+def test_only_costly_anti_geometries_give_a_slow_e2_through_the_cheapest():
+    classes = [facts("a", "CC1=CCCCC1", "tri", None, 6.0), facts("b", "CC1C=CCCC1", "di", 4.7, 9.0)]
+    verdict = rule_verdict(classes, RULE, bulky_base=False, leaving_kind="halide", leaving_label="Cl")
+    assert verdict.major == "CC1C=CCCC1"
+    assert any("slow E2" in line for line in verdict.reasoning)
+
+
+def test_no_anti_geometry_at_all_gives_no_major():
+    verdict = rule_verdict([facts("a", "C=C", "mono", None, 1.0)], RULE, False, "halide", "Cl")
+    assert verdict.major is None and verdict.products[0].call == "forbidden"
+
+
+def test_anti_bredt_products_never_count():
+    verdict = rule_verdict([facts("a", "C1=C2CCC1CC2", "tri", 0.0, 1.0, possible=False)], RULE, False, "halide", "Br")
+    assert verdict.major is None and verdict.products == ()
+
+
+def test_is_trans_reads_the_double_bond_stereo():
+    assert is_trans("C/C=C/C") and not is_trans("C/C=C\\C") and not is_trans("C=CCC")

@@ -1,0 +1,183 @@
+"""Per beta-H analysis and the geometric rule's verdict (pure functions; the engine is never touched).
+
+Penalties: the lowest energy at which a beta hydrogen sits anti-periplanar (|H-C-C-X| >= anti_min_deg)
+or syn-periplanar (<= syn_max_deg) to the leaving group, relative to the global minimum, over every
+conformer and scan point seen (kcal/mol). The rule: the major product is the most substituted alkene
+reachable through an anti-periplanar hydrogen within the energy window (trans over cis), shifted to the
+least substituted one for a bulky base or an onium/fluoride leaving group; products reachable only syn
+or not at all are forbidden under the rule.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from rdkit import Chem
+
+from elimscan.config import RuleConfig
+from elimscan.geometry import classify_dihedral
+from elimscan.perception import Alkene
+from elimscan.units import KCAL_MOL_PER_HARTREE
+
+#: substitution degrees in increasing order (carbon substituents on the two alkene carbons)
+DEGREES = ("unsubstituted", "mono", "di", "tri", "tetra")
+
+
+@dataclass(frozen=True)
+class GeometrySample:
+    """A geometry seen for one beta hydrogen: its H-C-C-X dihedral (degrees), energy (hartree), origin."""
+
+    dihedral_deg: float
+    energy_hartree: float
+    source: str
+    ring_shapes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Periplanar:
+    """The best anti- or syn-periplanar geometry of one hydrogen: penalty (kcal/mol) or None if never reached."""
+
+    kind: str
+    penalty_kcal_mol: float | None
+    dihedral_deg: float | None
+    source: str | None
+    ring_shapes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class ClassFacts:
+    """What the rule needs about one beta-H class: its id, anti and syn products and penalties."""
+
+    class_id: str
+    anti_product: Alkene
+    syn_product: Alkene
+    anti: Periplanar
+    syn: Periplanar
+
+
+@dataclass(frozen=True)
+class ProductCall:
+    """The rule's call on one alkene: 'major', 'minor' or 'forbidden', the classes giving it, and why."""
+
+    smiles: str
+    substitution: str
+    call: str
+    via_classes: tuple[str, ...]
+    reason: str
+
+
+@dataclass(frozen=True)
+class RuleVerdict:
+    """The rule's verdict for one substrate with one base: product calls, the major product and reasoning."""
+
+    products: tuple[ProductCall, ...]
+    major: str | None
+    hofmann_shift: bool
+    reasoning: tuple[str, ...]
+
+
+def best_periplanar(samples: Sequence[GeometrySample], global_min_hartree: float, kind: str, rule: RuleConfig) -> Periplanar:
+    """Return the lowest-energy sample in the anti or syn window, with its penalty over the global minimum (kcal/mol)."""
+    window = [s for s in samples if classify_dihedral(s.dihedral_deg, rule.anti_min_deg, rule.syn_max_deg) == kind]
+    if not window:
+        return Periplanar(kind, None, None, None)
+    best = min(window, key=lambda s: s.energy_hartree)
+    penalty = (best.energy_hartree - global_min_hartree) * KCAL_MOL_PER_HARTREE
+    return Periplanar(kind, round(penalty, 3), round(best.dihedral_deg, 2), best.source, best.ring_shapes)
+
+
+def rule_status(anti: Periplanar, syn: Periplanar, rule: RuleConfig) -> str:
+    """Return 'anti accessible', 'syn only' or 'blocked' for a class, by the energy window (kcal/mol)."""
+    if anti.penalty_kcal_mol is not None and anti.penalty_kcal_mol <= rule.energy_window_kcal_mol:
+        return "anti accessible"
+    if syn.penalty_kcal_mol is not None and syn.penalty_kcal_mol <= rule.energy_window_kcal_mol:
+        return "syn only"
+    return "blocked"
+
+
+def is_trans(smiles: str) -> bool:
+    """Return True when the alkene's stereo double bond is E (trans for simple alkenes), False otherwise."""
+    mol = Chem.MolFromSmiles(smiles)
+    if mol is None:
+        return False
+    return any(b.GetStereo() in (Chem.BondStereo.STEREOE, Chem.BondStereo.STEREOTRANS) for b in mol.GetBonds())
+
+
+def hofmann_shift(bulky_base: bool, leaving_kind: str, leaving_label: str) -> tuple[bool, str]:
+    """Return (shift, reason): the rule favours the less substituted alkene for a bulky base or a poor leaving group."""
+    if bulky_base:
+        return True, "bulky base"
+    if leaving_kind == "onium":
+        return True, f"onium leaving group ({leaving_label})"
+    if leaving_label == "F":
+        return True, "fluoride leaving group"
+    return False, ""
+
+
+def class_reason(facts: ClassFacts, status: str) -> str:
+    """Return a one-line explanation of a class's status under the rule."""
+    def where(p: Periplanar) -> str:
+        shapes = f", ring {'/'.join(p.ring_shapes)}" if p.ring_shapes else ""
+        return f"{p.penalty_kcal_mol:.1f} kcal/mol ({p.source}, {p.dihedral_deg:.0f} deg{shapes})"
+
+    if status == "anti accessible":
+        return f"{facts.class_id}: anti-periplanar at {where(facts.anti)}"
+    anti_text = f"anti needs {where(facts.anti)}" if facts.anti.penalty_kcal_mol is not None else "never anti-periplanar in any geometry found"
+    if status == "syn only":
+        return f"{facts.class_id}: {anti_text}; syn-periplanar at {where(facts.syn)}"
+    return f"{facts.class_id}: {anti_text}"
+
+
+def rule_verdict(classes: Sequence[ClassFacts], rule: RuleConfig, bulky_base: bool, leaving_kind: str,
+                 leaving_label: str) -> RuleVerdict:
+    """Return the geometric rule's product calls and major product for one substrate and base."""
+    shift, shift_reason = hofmann_shift(bulky_base, leaving_kind, leaving_label)
+    reasoning: list[str] = []
+    anti_reach: dict[str, list[ClassFacts]] = {}
+    all_products: dict[str, tuple[str, list[str]]] = {}
+    for facts in classes:
+        status = rule_status(facts.anti, facts.syn, rule)
+        reasoning.append(class_reason(facts, status))
+        for product in (facts.anti_product, facts.syn_product):
+            if product.possible:
+                all_products.setdefault(product.smiles, (product.substitution, []))[1].append(facts.class_id)
+        if status == "anti accessible" and facts.anti_product.possible:
+            anti_reach.setdefault(facts.anti_product.smiles, []).append(facts)
+
+    if not anti_reach:
+        # no hydrogen within the window: E2 is slow, and goes through the cheapest anti geometry there is
+        costly = [f for f in classes if f.anti.penalty_kcal_mol is not None and f.anti_product.possible]
+        if costly:
+            cheapest = min(f.anti.penalty_kcal_mol for f in costly)
+            for f in costly:
+                if f.anti.penalty_kcal_mol - cheapest <= rule.energy_window_kcal_mol:
+                    anti_reach.setdefault(f.anti_product.smiles, []).append(f)
+            reasoning.append(f"no beta hydrogen is anti-periplanar within {rule.energy_window_kcal_mol:g} kcal/mol of the "
+                             f"global minimum: slow E2 through the cheapest anti geometry ({cheapest:.1f} kcal/mol)")
+    major, major_reason = None, ""
+    if anti_reach:
+        def rank(smiles: str) -> tuple:
+            degree = DEGREES.index(all_products[smiles][0])
+            penalty = min(f.anti.penalty_kcal_mol for f in anti_reach[smiles])
+            return ((-degree if shift else degree), is_trans(smiles), -penalty)
+
+        major = max(anti_reach, key=rank)
+        major_reason = (f"Hofmann: least substituted anti-reachable alkene ({shift_reason})" if shift
+                        else "Zaitsev: most substituted anti-reachable alkene (trans before cis)")
+        reasoning.append(f"major {major}: {major_reason}")
+    else:
+        reasoning.append("no beta hydrogen reaches an anti-periplanar geometry below the scan cap: the rule predicts no E2")
+
+    calls = []
+    for smiles, (degree, via) in all_products.items():
+        if smiles == major:
+            call, reason = "major", major_reason
+        elif smiles in anti_reach:
+            call, reason = "minor", "reachable through an anti-periplanar hydrogen"
+        else:
+            call, reason = "forbidden", "no anti-periplanar hydrogen within the energy window gives it"
+        calls.append(ProductCall(smiles, degree, call, tuple(sorted(set(via))), reason))
+    order = {"major": 0, "minor": 1, "forbidden": 2}
+    calls.sort(key=lambda c: (order[c.call], c.smiles))
+    return RuleVerdict(tuple(calls), major, shift, tuple(reasoning))
