@@ -136,3 +136,29 @@ def test_scf_failure_is_recorded_and_the_run_says_jobs_failed(tmp_path):
     assert "SCF did not converge for" in done.stderr
     assert document["summary"]["n_jobs_failed"] == 1
     assert document["jobs"][0]["error"]["error_type"] in {"scf_not_converged", "structure_error"}
+
+
+def test_missing_geometry_file_is_a_config_error(tmp_path):
+    text = TINY.replace('smiles: "CCCl"}', 'smiles: "CCCl", geometry: nowhere.xyz}')
+    done = elimscan("validate", write(tmp_path, text))
+    assert done.returncode == ExitCode.CONFIG
+    assert "cannot read geometry file" in done.stderr and "substrates.0.geometry" in done.stderr
+
+
+@pytest.mark.xtb
+def test_a_user_geometry_joins_the_ensemble(tmp_path):
+    from rdkit import Chem
+    from rdkit.Chem import AllChem
+
+    mol = Chem.AddHs(Chem.MolFromSmiles("ClCC"))  # other atom order than the config's SMILES
+    AllChem.EmbedMolecule(mol, randomSeed=9)
+    (tmp_path / "mine.xyz").write_text(Chem.MolToXYZBlock(mol))
+    text = TINY.replace('smiles: "CCCl"}', 'smiles: "CCCl", geometry: mine.xyz}')
+    done = elimscan("run", write(tmp_path, text), "--out", str(tmp_path / "out"))
+    assert done.returncode == ExitCode.OK, done.stderr
+    document = json.loads((tmp_path / "out" / "results.json").read_text())
+    assert document["config"]["substrates"][0]["geometry"] == "mine.xyz"
+    # chloroethane has one conformer: the user's geometry relaxes onto it, and the merged conformer
+    # keeps both origins in its label
+    sources = [c["source"] for c in document["jobs"][0]["conformers"]]
+    assert any("user" in s.split("+") for s in sources), sources

@@ -90,10 +90,27 @@ def _check_structures(config) -> None:
             check_charge(item.smiles, Chem.GetFormalCharge(mol), item.charge, f"{role} '{item.name}'")
 
 
+def _read_geometries(config, folder: Path) -> dict[str, tuple[str, str]]:
+    """Return {substrate name: (file text, 'sdf' | 'xyz')} for substrates that name a geometry file."""
+    found = {}
+    for item in config.substrates:
+        if item.geometry is None:
+            continue
+        path = (folder / item.geometry) if not Path(item.geometry).is_absolute() else Path(item.geometry)
+        try:
+            text = path.read_text(encoding="utf-8")
+        except OSError as err:
+            raise ConfigError(f"substrate '{item.name}': cannot read geometry file '{path}': {err.strerror or err}",
+                              key_path=f"substrates.{config.substrates.index(item)}.geometry") from err
+        found[item.name] = (text, "xyz" if path.suffix.lower() == ".xyz" else "sdf")
+    return found
+
+
 def cmd_validate(args: argparse.Namespace) -> int:
     """Check a config (and its SMILES) without computing; return the exit code."""
     config = _read_config(args.config)
     _check_structures(config)
+    _read_geometries(config, Path(args.config).parent)
     log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
              len(config.bases), len(config.jobs()))
     return ExitCode.OK
@@ -132,6 +149,7 @@ def cmd_run(args: argparse.Namespace) -> int:
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
     _check_structures(config)  # input errors stop the run before any calculation
+    geometries = _read_geometries(config, Path(args.config).parent)
     out = Path(args.out)
     _prepare_output(out, args.overwrite)
     _setup_logging(args.verbosity, out / LOG_FILE)
@@ -159,7 +177,7 @@ def cmd_run(args: argparse.Namespace) -> int:
         left = f", about {elapsed / done * (total - done):.0f} s left" if 0 < done < total else ""
         log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
 
-    outcome = run_config(config, engine, progress)
+    outcome = run_config(config, engine, progress, geometries)
     writer = _OutputWriter(out, engine.label)
     molecules: list[MoleculeRecord] = []
     for item in {s.name: s for s, _ in outcome.jobs}.values():

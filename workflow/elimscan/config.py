@@ -133,6 +133,16 @@ class SubstrateConfig(_Frozen):
     #: total charge; None = take the formal charge of the SMILES
     charge: int | None = None
     multiplicity: int = Field(1, ge=1)
+    #: optional SDF or XYZ file (path relative to the config file) with a 3D structure of this substrate;
+    #: it joins the conformer ensemble. The SMILES still fixes connectivity, charge and stereochemistry.
+    geometry: str | None = None
+
+    @field_validator("geometry")
+    @classmethod
+    def _geometry_suffix(cls, value: str | None) -> str | None:
+        if value is not None and not value.lower().endswith((".sdf", ".mol", ".xyz")):
+            raise ValueError(f"geometry file '{value}' must end in .sdf, .mol or .xyz")
+        return value
 
 
 class BaseModelConfig(_Frozen):

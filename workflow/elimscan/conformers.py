@@ -209,13 +209,14 @@ def _deduplicate(relaxed: list[tuple[Atoms, float, str]], rings: Sequence[tuple[
     for atoms, energy, source in relaxed:
         if (energy - lowest) * KCAL_MOL_PER_HARTREE > settings.energy_window_kcal_mol:
             continue
-        duplicate = any(
-            abs(energy - e) * KCAL_MOL_PER_HARTREE < settings.duplicate_energy_kcal_mol
-            and matcher.rmsd(a.positions, atoms.positions) < settings.duplicate_rmsd_A
-            for a, e, _ in unique
-        )
-        if not duplicate:
+        twin = next((k for k, (a, e, _) in enumerate(unique)
+                     if abs(energy - e) * KCAL_MOL_PER_HARTREE < settings.duplicate_energy_kcal_mol
+                     and matcher.rmsd(a.positions, atoms.positions) < settings.duplicate_rmsd_A), None)
+        if twin is None:
             unique.append((atoms, energy, source))
+        elif source not in unique[twin][2].split("+"):  # a duplicate keeps every origin in its label
+            a, e, label = unique[twin]
+            unique[twin] = (a, e, f"{label}+{source}")
     return tuple(
         Conformer(k, atoms, energy, source, ring_shapes(atoms.positions, rings)) for k, (atoms, energy, source) in enumerate(unique)
     )

@@ -29,7 +29,7 @@ from elimscan.records import (BaseRecord, BetaHydrogenRecord, ConformerRecord, E
                               ScanPointRecord, ScanRecord)
 from elimscan.relax import relax
 from elimscan.scans import DihedralScan, branch_plan, scan_dihedral
-from elimscan.structures import build_molecule, check_charge, formula
+from elimscan.structures import atoms_from_geometry, build_molecule, check_charge, formula
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 #: progress callback: (finished steps, total steps, message); DETAIL in both counts marks a sub-step message
@@ -152,15 +152,20 @@ def _class_scans(substrate: Substrate, beta_class: BetaHydrogenClass, ensemble: 
 
 
 def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
-                      on_progress: ProgressCallback | None = None) -> SubstrateAnalysis:
-    """Return the base-independent analysis of one substrate: ensemble, scans and anti/syn penalties."""
+                      on_progress: ProgressCallback | None = None,
+                      geometry: tuple[str, str] | None = None) -> SubstrateAnalysis:
+    """Return the base-independent analysis of one substrate: ensemble, scans and anti/syn penalties.
+
+    ``geometry`` is the (text, format) of a user's SDF/XYZ structure, which joins the ensemble.
+    """
     name = f"substrate '{item.name}'"
     substrate = perceive_substrate(item.smiles, seed=config.seed)
     charge = check_charge(item.smiles, substrate.formal_charge, item.charge, name)
+    extra = [(atoms_from_geometry(substrate.mol, geometry[0], geometry[1], name), "user")] if geometry else []
     if on_progress is not None:
         on_progress(DETAIL, DETAIL, f"{name}: conformer search ({len(substrate.beta_classes)} beta-H classes)")
     ensemble = build_ensemble(substrate.mol, engine, charge, item.multiplicity, config.seed, config.conformers,
-                              config.optimizer, name=name)
+                              config.optimizer, extra=extra, name=name)
     rings = saturated_six_rings(substrate.mol)
     lg = substrate.leaving_group
     per_class = []
@@ -182,8 +187,12 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
     return SubstrateAnalysis(item.name, substrate, charge, item.multiplicity, ensemble, tuple(classes), global_min)
 
 
-def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None) -> RunOutcome:
-    """Return the outcome of a run: each substrate analysed once, each base relaxed once."""
+def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None,
+               geometries: dict[str, tuple[str, str]] | None = None) -> RunOutcome:
+    """Return the outcome of a run: each substrate analysed once, each base relaxed once.
+
+    ``geometries`` maps substrate names to the (text, format) of user 3D structures.
+    """
     jobs = config.jobs()
     outcome = RunOutcome(jobs=jobs)
     substrates = list({s.name: s for s, _ in jobs}.values())
@@ -193,7 +202,8 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
         if on_progress is not None:
             on_progress(step, total, f"substrate '{item.name}' ({item.smiles})")
         try:
-            outcome.substrates[item.name] = analyze_substrate(item, config, engine, on_progress)
+            outcome.substrates[item.name] = analyze_substrate(item, config, engine, on_progress,
+                                                              (geometries or {}).get(item.name))
         except ElimscanError as err:
             outcome.substrates[item.name] = error_info(err)
     for step, item in enumerate(bases, start=len(substrates)):

@@ -90,7 +90,7 @@ class ConformerRecord(_Record):
     conformer_id: int
     relative_energy_kcal_mol: float
     energy_hartree: float
-    source: str = Field(description="etkdg, chair+ / chair- (built on purpose), or user")
+    source: str = Field(description="etkdg, chair+ / chair- (built on purpose) or user; duplicates join labels with +")
     ring_shapes: tuple[str, ...]
 
 

@@ -126,3 +126,70 @@ def build_molecule(smiles: str, seed: int, charge: int | None = None, multiplici
 def formula(mol: Chem.Mol) -> str:
     """Return the Hill formula of a molecule."""
     return rdMolDescriptors.CalcMolFormula(mol)
+
+
+def _skeleton(mol: Chem.Mol) -> Chem.Mol:
+    """Return a copy with every bond single and no charges: connectivity only, for matching."""
+    rw = Chem.RWMol()
+    for atom in mol.GetAtoms():
+        new = Chem.Atom(atom.GetAtomicNum())
+        new.SetNoImplicit(True)
+        rw.AddAtom(new)
+    for bond in mol.GetBonds():
+        rw.AddBond(bond.GetBeginAtomIdx(), bond.GetEndAtomIdx(), Chem.BondType.SINGLE)
+    skeleton = rw.GetMol()
+    skeleton.UpdatePropertyCache(strict=False)
+    return skeleton
+
+
+def atoms_from_geometry(mol: Chem.Mol, text: str, fmt: str, what: str = "substrate") -> Atoms:
+    """Return a user's 3D structure (SDF or XYZ text) as ase.Atoms in the atom order of ``mol`` (explicit H, Å).
+
+    The SMILES fixes connectivity and charge: the file must hold the same atoms with the same connectivity
+    (from the SDF bonds, or perceived from XYZ distances) and the same stereochemistry.
+    """
+    from rdkit.Chem import rdDetermineBonds
+
+    RDLogger.DisableLog("rdApp.*")
+    try:
+        if fmt == "sdf":
+            other = Chem.MolFromMolBlock(text, removeHs=False, sanitize=False)
+        elif fmt == "xyz":
+            other = Chem.MolFromXYZBlock(text)
+            if other is not None:
+                rdDetermineBonds.DetermineConnectivity(other)
+        else:
+            raise StructureError(f"{what}: geometry format '{fmt}' is not supported (use .sdf or .xyz)")
+    finally:
+        RDLogger.EnableLog("rdApp.*")
+    if other is None or other.GetNumConformers() == 0:
+        raise StructureError(f"{what}: the geometry file cannot be read as {fmt.upper()}")
+    ours = sorted(a.GetSymbol() for a in mol.GetAtoms())
+    theirs = sorted(a.GetSymbol() for a in other.GetAtoms())
+    if ours != theirs:
+        raise StructureError(f"{what}: the geometry file holds {len(theirs)} atoms ({rdMolDescriptors.CalcMolFormula(other) if fmt == 'sdf' else ''.join(theirs)}), "
+                             f"the SMILES {len(ours)} with hydrogens: they must be the same molecule")
+    match = _skeleton(other).GetSubstructMatch(_skeleton(mol))
+    if len(match) != mol.GetNumAtoms():
+        raise StructureError(f"{what}: the geometry file's connectivity differs from the SMILES")
+    positions = np.array(other.GetConformer().GetPositions())[list(match)]
+    placed = Chem.Mol(mol)
+    placed.RemoveAllConformers()
+    conf = Chem.Conformer(mol.GetNumAtoms())
+    for i, (x, y, z) in enumerate(positions):
+        conf.SetAtomPosition(i, (float(x), float(y), float(z)))
+    placed.AddConformer(conf, assignId=True)
+    Chem.AssignStereochemistryFrom3D(placed)
+    expected = Chem.MolToSmiles(Chem.RemoveHs(_without_maps(mol)))
+    found = Chem.MolToSmiles(Chem.RemoveHs(_without_maps(placed)))
+    if found != expected:
+        raise StructureError(f"{what}: the geometry file is {found}, the SMILES says {expected} (stereochemistry differs)")
+    return Atoms(numbers=[a.GetAtomicNum() for a in mol.GetAtoms()], positions=positions)
+
+
+def _without_maps(mol: Chem.Mol) -> Chem.Mol:
+    """Return a copy with atom-map numbers cleared."""
+    copy = Chem.Mol(mol)
+    for atom in copy.GetAtoms():
+        atom.SetAtomMapNum(0)
+    return copy
