@@ -83,3 +83,51 @@ def test_anti_bredt_products_never_count():
 
 def test_is_trans_reads_the_double_bond_stereo():
     assert is_trans("C/C=C/C") and not is_trans("C/C=C\\C") and not is_trans("C=CCC")
+
+
+def test_boltzmann_weights_with_degeneracy():
+    # Two equal barriers with degeneracies 3 and 2 give 60/40 (Curtin-Hammett with path degeneracy).
+    from elimscan.analysis import PathBarrier, product_fractions
+
+    paths = [PathBarrier("C1-H", "anti", "A", 5.0, 3), PathBarrier("C3-H", "anti", "B", 5.0, 2)]
+    fractions = product_fractions(paths, 298.15)
+    assert fractions["A"] == pytest.approx(0.6) and fractions["B"] == pytest.approx(0.4)
+
+
+def test_boltzmann_factor_at_room_temperature():
+    # 1.364 kcal/mol is a factor of ten at 298.15 K (RT ln 10; R from ase.units via elimscan.units).
+    from elimscan.analysis import PathBarrier, product_fractions
+
+    paths = [PathBarrier("a", "anti", "A", 0.0, 1), PathBarrier("b", "anti", "B", 1.3642, 1)]
+    fractions = product_fractions(paths, 298.15)
+    assert fractions["A"] / fractions["B"] == pytest.approx(10.0, rel=1e-3)
+
+
+def test_paths_to_the_same_alkene_add_up_and_ranges_bracket_the_fraction():
+    from elimscan.analysis import PathBarrier, fraction_ranges, product_fractions
+
+    paths = [PathBarrier("a", "anti", "A", 5.0, 1), PathBarrier("a", "syn", "B", 5.0, 1),
+             PathBarrier("b", "anti", "B", 5.0, 1)]
+    fractions = product_fractions(paths, 298.15)
+    assert fractions["B"] == pytest.approx(2 / 3)
+    ranges = fraction_ranges(paths, 298.15, 1.0)
+    for smiles, (low, high) in ranges.items():
+        assert low < fractions[smiles] < high
+
+
+def test_verdicts_side_by_side():
+    from elimscan.analysis import PathBarrier, compare_verdicts, product_fractions
+
+    paths = [PathBarrier("C1-H", "anti", "C=CCC", 4.0, 3), PathBarrier("C3-Ha", "anti", "C/C=C/C", 6.5, 1)]
+    fractions = product_fractions(paths, 298.15)
+    verdict = compare_verdicts("C/C=C/C", fractions, paths)
+    assert verdict.computed_major == "C=CCC" and verdict.agreement is False and not verdict.within_method_uncertainty
+    assert "2.5 kcal/mol below the rule's best path (C3-Ha anti)" in verdict.reason
+    close = [PathBarrier("C1-H", "anti", "C=CCC", 4.0, 1), PathBarrier("C3-Ha", "anti", "C/C=C/C", 4.5, 1)]
+    verdict = compare_verdicts("C=CCC", product_fractions(close, 298.15), close)
+    assert verdict.agreement and verdict.within_method_uncertainty and "within method uncertainty" in verdict.reason
+    # the computed major by share (degeneracy 3) can have a higher best barrier than a rival: still a close call
+    mixed = [PathBarrier("C1-H", "anti", "C=CCC", 4.75, 3), PathBarrier("C3-Hb", "anti", "C/C=C\\C", 4.55, 1)]
+    verdict = compare_verdicts("C/C=C\\C", product_fractions(mixed, 298.15), mixed)
+    assert verdict.computed_major == "C=CCC" and verdict.within_method_uncertainty
+    assert "dE 4.5 vs 4.8" in verdict.reason

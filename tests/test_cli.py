@@ -59,6 +59,8 @@ def test_validate_accepts_the_demo_config():
          "backend 'xtb' cannot do solvent model 'alpb' with GFN2-xTB; it supports: gbsa"),
         (TINY.replace("name: ethanol", "name: ethanol-ish"), ExitCode.CONFIG, "it supports: acetone"),
         (TINY.replace("substrates:", "substrates: [").replace("bases:", "]\nbases:"), ExitCode.CONFIG, "YAML syntax error"),
+        (TINY.replace("{model: alpb, name: ethanol}", "{model: none}"), ExitCode.CONFIG,
+         "gas phase requested, but free ions appear: base 'methoxide' (charge -1)"),
     ],
 )
 def test_bad_input_gives_its_exit_code_and_a_message_without_traceback(tmp_path, text, code, words):

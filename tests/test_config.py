@@ -89,3 +89,11 @@ def test_solvent_aliases_resolve_to_canonical_names():
     from elimscan.engine import EngineSettings
 
     assert EngineSettings.from_method(config.method).solvent_name == "water"
+
+
+def test_built_in_bases_need_no_smiles():
+    config = parse_config(GOOD.replace('{name: ethoxide, smiles: "CC[O-]"}', "{name: tert-butoxide}"))
+    assert config.bases[0].smiles == "CC(C)(C)[O-]"
+    with pytest.raises(ConfigError, match="needs a smiles") as info:
+        parse_config(GOOD.replace('{name: ethoxide, smiles: "CC[O-]"}', "{name: superbase}"))
+    assert info.value.key_path == "bases.0" and info.value.line == 6

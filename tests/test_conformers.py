@@ -77,14 +77,14 @@ def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
     # Classic result (Hückel and co-workers on cyclic cis/trans isomers; standard textbooks): the H on the
     # methyl-bearing carbon is never anti-periplanar to Cl, so only 3-methylcyclohexene forms.
     from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.pipeline import analyze_substrate, job_record, RunOutcome, BaseAnalysis, RelaxedMolecule
-    from elimscan.records import MoleculeRecord
     from elimscan.bases import describe_base
+    from elimscan.pipeline import BaseAnalysis, RunOutcome, analyze_substrate, job_record, relax_molecule
 
     smiles = "C[C@@H]1CCCC[C@H]1Cl"
     config = RunConfig(substrates=(SubstrateConfig(name="t2m", smiles=smiles),),
                        bases=(BaseConfig(name="ethoxide", smiles="CC[O-]"),))
-    analysis = analyze_substrate(config.substrates[0], config, XtbEngine(EngineSettings()))
+    engine = XtbEngine(EngineSettings())
+    analysis = analyze_substrate(config.substrates[0], config, engine)
     by_carbon = {}
     for c in analysis.classes:
         by_carbon.setdefault(c.beta_class.beta_carbon_index, []).append(c)
@@ -92,7 +92,7 @@ def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
     assert len(methine) == 1
     assert methine[0].anti.penalty_kcal_mol is None or methine[0].anti.penalty_kcal_mol > config.rule.energy_window_kcal_mol
     assert methine[0].status != "anti accessible"
-    base = BaseAnalysis(RelaxedMolecule(MoleculeRecord(name="ethoxide", role="base", smiles="CC[O-]", status="ok"), None),
+    base = BaseAnalysis(relax_molecule("ethoxide", "base", "CC[O-]", None, 1, engine, config.optimizer, config.seed),
                         describe_base("CC[O-]"))
     outcome = RunOutcome(substrates={"t2m": analysis}, bases={"ethoxide": base})
     job = job_record(config.substrates[0], config.bases[0], outcome, config)

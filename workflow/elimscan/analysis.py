@@ -10,15 +10,17 @@ or not at all are forbidden under the rule.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
+from ase import Atoms
 from rdkit import Chem
 
 from elimscan.config import RuleConfig
 from elimscan.geometry import classify_dihedral
 from elimscan.perception import Alkene
-from elimscan.units import KCAL_MOL_PER_HARTREE
+from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K, KCAL_MOL_PER_HARTREE
 
 #: substitution degrees in increasing order (carbon substituents on the two alkene carbons)
 DEGREES = ("unsubstituted", "mono", "di", "tri", "tetra")
@@ -32,6 +34,7 @@ class GeometrySample:
     energy_hartree: float
     source: str
     ring_shapes: tuple[str, ...] = ()
+    atoms: Atoms | None = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True)
@@ -43,6 +46,7 @@ class Periplanar:
     dihedral_deg: float | None
     source: str | None
     ring_shapes: tuple[str, ...] = ()
+    atoms: Atoms | None = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True)
@@ -84,7 +88,7 @@ def best_periplanar(samples: Sequence[GeometrySample], global_min_hartree: float
         return Periplanar(kind, None, None, None)
     best = min(window, key=lambda s: s.energy_hartree)
     penalty = (best.energy_hartree - global_min_hartree) * KCAL_MOL_PER_HARTREE
-    return Periplanar(kind, round(penalty, 3), round(best.dihedral_deg, 2), best.source, best.ring_shapes)
+    return Periplanar(kind, round(penalty, 3), round(best.dihedral_deg, 2), best.source, best.ring_shapes, best.atoms)
 
 
 def rule_status(anti: Periplanar, syn: Periplanar, rule: RuleConfig) -> str:
@@ -181,3 +185,96 @@ def rule_verdict(classes: Sequence[ClassFacts], rule: RuleConfig, bulky_base: bo
     order = {"major": 0, "minor": 1, "forbidden": 2}
     calls.sort(key=lambda c: (order[c.call], c.smiles))
     return RuleVerdict(tuple(calls), major, shift, tuple(reasoning))
+
+
+# --- computed product mix (Curtin-Hammett) and the verdicts side by side -----------------------------
+
+
+@dataclass(frozen=True)
+class PathBarrier:
+    """One computed path: class, approach, the alkene it gives, its barrier (kcal/mol) and the class degeneracy."""
+
+    class_id: str
+    approach: str
+    product_smiles: str
+    barrier_kcal_mol: float
+    degeneracy: int
+
+
+@dataclass(frozen=True)
+class ComputedVerdict:
+    """The computed major product beside the rule's, whether they agree, and why not."""
+
+    rule_major: str | None
+    computed_major: str | None
+    agreement: bool | None
+    within_method_uncertainty: bool
+    reason: str
+
+
+def product_fractions(paths: Sequence[PathBarrier], temperature_K: float,
+                      shifts_kcal_mol: dict[int, float] | None = None) -> dict[str, float]:
+    """Return product fractions from Boltzmann factors g exp(-dE/RT) of every path, summed per alkene.
+
+    Each path's weight is multiplied by its class degeneracy (symmetry counted once, here only).
+    ``shifts_kcal_mol`` adds a shift to path i's barrier (used for the uncertainty ranges).
+    """
+    if not paths:
+        return {}
+    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
+    shifts = shifts_kcal_mol or {}
+    barriers = [p.barrier_kcal_mol + shifts.get(i, 0.0) for i, p in enumerate(paths)]
+    lowest = min(barriers)
+    weights: dict[str, float] = {}
+    for path, barrier in zip(paths, barriers):
+        weights[path.product_smiles] = weights.get(path.product_smiles, 0.0) + path.degeneracy * math.exp(-(barrier - lowest) / rt)
+    total = sum(weights.values())
+    return {smiles: w / total for smiles, w in weights.items()}
+
+
+def fraction_ranges(paths: Sequence[PathBarrier], temperature_K: float, delta_kcal_mol: float = 1.0
+                    ) -> dict[str, tuple[float, float]]:
+    """Return each product's (lowest, highest) fraction when every barrier may move by +-delta (kcal/mol)."""
+    ranges = {}
+    for smiles in {p.product_smiles for p in paths}:
+        favour = {i: (-delta_kcal_mol if p.product_smiles == smiles else delta_kcal_mol) for i, p in enumerate(paths)}
+        disfavour = {i: -v for i, v in favour.items()}
+        ranges[smiles] = (product_fractions(paths, temperature_K, disfavour)[smiles],
+                          product_fractions(paths, temperature_K, favour)[smiles])
+    return ranges
+
+
+def compare_verdicts(rule_major: str | None, fractions: dict[str, float], paths: Sequence[PathBarrier],
+                     close_kcal_mol: float = 1.0) -> ComputedVerdict:
+    """Return the computed major product beside the rule's, the agreement flag and a one-line reason.
+
+    Different products whose best barriers lie within ``close_kcal_mol`` are a close call: within the
+    method's uncertainty.
+    """
+    if not fractions:
+        return ComputedVerdict(rule_major, None, None, False, "no barrier could be computed")
+    computed = max(fractions, key=fractions.get)
+    best = {}
+    for p in paths:
+        if p.product_smiles not in best or p.barrier_kcal_mol < best[p.product_smiles].barrier_kcal_mol:
+            best[p.product_smiles] = p
+    top = best[computed]
+    rivals = [b for s, b in best.items() if s != computed]
+    runner = min(rivals, key=lambda b: abs(b.barrier_kcal_mol - top.barrier_kcal_mol)) if rivals else None
+    close = runner is not None and abs(runner.barrier_kcal_mol - top.barrier_kcal_mol) < close_kcal_mol
+    if rule_major is None:
+        return ComputedVerdict(None, computed, None, close, f"the rule names no major product; computed {computed} "
+                               f"({fractions[computed]:.0%}) via {top.class_id} {top.approach}")
+    agreement = computed == rule_major
+    if agreement:
+        reason = f"both: {computed}, computed {fractions[computed]:.0%} via {top.class_id} {top.approach} " \
+                 f"(dE {top.barrier_kcal_mol:.1f} kcal/mol)"
+    else:
+        rule_path = best.get(rule_major)
+        gap = f"{rule_path.barrier_kcal_mol - top.barrier_kcal_mol:.1f} kcal/mol below the rule's best path " \
+              f"({rule_path.class_id} {rule_path.approach})" if rule_path else "the rule's product has no computed path"
+        reason = f"computed: {top.approach} path of {top.class_id} to {computed} lies {gap}"
+    if close:
+        reason += f"; within method uncertainty (best path to {runner.product_smiles}: dE {runner.barrier_kcal_mol:.1f} " \
+                  f"vs {top.barrier_kcal_mol:.1f} kcal/mol)"
+    return ComputedVerdict(rule_major, computed, agreement, close, reason)

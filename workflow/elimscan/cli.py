@@ -84,10 +84,18 @@ def _check_structures(config) -> None:
 
     from elimscan.structures import check_charge, parse_smiles
 
+    ions = []
     for role, items in (("substrate", config.substrates), ("base", config.bases)):
         for item in items:
             mol = parse_smiles(item.smiles, f"{role} '{item.name}'")
-            check_charge(item.smiles, Chem.GetFormalCharge(mol), item.charge, f"{role} '{item.name}'")
+            charge = check_charge(item.smiles, Chem.GetFormalCharge(mol), item.charge, f"{role} '{item.name}'")
+            if charge:
+                ions.append(f"{role} '{item.name}' (charge {charge:+d})")
+    if ions and config.method.solvent.model == "none":
+        raise ConfigError(
+            f"gas phase requested, but free ions appear: {', '.join(ions)}. A free ion in the gas phase binds "
+            "anything it meets (complexation energies near -20 kcal/mol) and E2 saddles vanish; use an implicit "
+            "solvent (method.solvent: {model: alpb, name: ...})", key_path="method.solvent.model")
 
 
 def _read_geometries(config, folder: Path) -> dict[str, tuple[str, str]]:
@@ -197,6 +205,8 @@ def cmd_run(args: argparse.Namespace) -> int:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
     jobs: list[JobRecord] = [job_record(s, b, outcome, config) for s, b in outcome.jobs]
+    for job in jobs:
+        writer.path_files(job, outcome.paths.get((job.substrate, job.base), {}))
     n_failed = sum(job.status != "ok" for job in jobs)
     result = RunResult(
         provenance=Provenance(
@@ -257,6 +267,36 @@ class _OutputWriter:
             ase.io.write(path, images, format="extxyz")
         except OSError as err:
             raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+
+    def path_files(self, job, paths: dict) -> None:
+        """Write each computed path (extended XYZ) and each saddle with frames along its imaginary mode."""
+        import numpy as np
+
+        from elimscan.units import KCAL_MOL_PER_HARTREE
+
+        zero = job.reference_energy_hartree
+        for record in job.beta_hydrogens:
+            for approach in ("anti", "syn"):
+                block = getattr(record, approach)
+                path = paths.get((record.class_id, approach))
+                if block.path_file is None or path is None or not hasattr(path, "points"):
+                    continue
+                self.xyz(block.path_file, [p.atoms for p in path.points],
+                         [{"coordinate_A": p.coordinate_A, "energy_hartree": p.energy_hartree,
+                           "relative_energy_kcal_mol": (p.energy_hartree - zero) * KCAL_MOL_PER_HARTREE,
+                           "class_id": record.class_id, "approach": approach, **p.distances} for p in path.points])
+                saddle = path.saddle
+                if block.saddle_file is None or saddle.atoms is None:
+                    continue
+                frames, infos = [saddle.atoms], [{"energy_hartree": saddle.energy_hartree, "frame": "saddle",
+                                                  "verified": saddle.verified, "imaginary_cm1": saddle.imaginary_cm1}]
+                if saddle.mode is not None:
+                    for amplitude in np.linspace(-0.3, 0.3, 13):
+                        frame = saddle.atoms.copy()
+                        frame.positions = frame.positions + amplitude * saddle.mode
+                        frames.append(frame)
+                        infos.append({"frame": "mode", "mode_amplitude_A": float(amplitude)})
+                self.xyz(block.saddle_file, frames, infos)
 
     def substrate_files(self, name: str, analysis) -> None:
         """Write a substrate's conformer SDF and one XYZ trajectory per scan."""

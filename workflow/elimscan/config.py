@@ -119,6 +119,47 @@ class RuleConfig(_Frozen):
     energy_window_kcal_mol: float = Field(3.0, gt=0)
 
 
+class SaddleConfig(_Frozen):
+    """Saddle refinement and verification."""
+
+    #: refine a first-order saddle with Sella from the relaxed-path maximum
+    refine: bool = True
+    max_steps: int = Field(300, ge=1)
+    fmax_eV_per_A: float = Field(0.01, gt=0)
+    #: finite-difference step of the verification Hessian (Å)
+    hessian_step_A: float = Field(0.005, gt=0)
+    #: the reaction mode must be imaginary beyond this (cm^-1) ...
+    imaginary_min_cm1: float = Field(100.0, gt=0)
+    #: ... and no other mode imaginary beyond this (cm^-1)
+    other_imaginary_max_cm1: float = Field(50.0, gt=0)
+    #: displacement along the imaginary mode before relaxing both ways (Å, whole-molecule norm)
+    displacement_A: float = Field(0.3, gt=0)
+    #: product side: C-alpha...X at least this (Å) and base-H at most product_base_h_max_A (Å)
+    product_c_x_min_A: float = Field(3.0, gt=0)
+    product_base_h_max_A: float = Field(1.1, gt=0)
+    #: reactant side: base...H at least this (Å) and C-alpha-X at most reactant_c_x_max_A (Å)
+    reactant_base_h_min_A: float = Field(1.3, gt=0)
+    reactant_c_x_max_A: float = Field(2.4, gt=0)
+
+
+class PathConfig(_Frozen):
+    """Base-substrate complexes and the relaxed E2 path for each beta-H class."""
+
+    #: compute anti and/or syn paths
+    approaches: tuple[Literal["anti", "syn"], ...] = ("anti", "syn")
+    #: basic atom placed on the extension of the C-beta-H bond at this H...base distance (Å)
+    complex_distance_A: float = Field(2.0, gt=0.8)
+    #: rotations of the base about that axis tried for each complex
+    base_rotations: int = Field(3, ge=1)
+    #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
+    step_A: float = Field(0.15, gt=0)
+    #: ... for this many points after the complex
+    points: int = Field(20, ge=2)
+    #: syn paths hold H-C-C-X at this dihedral (degrees)
+    syn_dihedral_deg: float = Field(0.0, ge=-30, le=30)
+    saddle: SaddleConfig = SaddleConfig()
+
+
 class ThreadsConfig(_Frozen):
     """OpenMP/BLAS threads per worker process (parallelism comes from processes)."""
 
@@ -152,11 +193,36 @@ class BaseModelConfig(_Frozen):
     explicit: int = Field(0, ge=0)
 
 
+#: Built-in bases: a base given by one of these names needs no SMILES.
+BASE_LIBRARY: dict[str, str] = {
+    "hydroxide": "[OH-]",
+    "methoxide": "C[O-]",
+    "ethoxide": "CC[O-]",
+    "isopropoxide": "CC(C)[O-]",
+    "tert-butoxide": "CC(C)(C)[O-]",
+    "amide": "[NH2-]",
+    "diisopropylamide": "CC(C)[N-]C(C)C",
+    "hexamethyldisilazide": "C[Si](C)(C)[N-][Si](C)(C)C",
+    "dbu": "C1CCC2=NCCCN2CC1",
+}
+
+
 class BaseConfig(_Frozen):
-    """One base: a name, a SMILES, optional bulky flag and model."""
+    """One base: a name, a SMILES (optional for the built-in names), optional bulky flag and model."""
 
     name: str = Field(min_length=1)
-    smiles: str = Field(min_length=1)
+    smiles: str = Field(None, min_length=1, validate_default=False)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _from_library(cls, data: Any) -> Any:
+        if isinstance(data, dict) and not data.get("smiles") and isinstance(data.get("name"), str):
+            smiles = BASE_LIBRARY.get(data["name"].strip().lower())
+            if smiles is None:
+                raise ValueError(f"base '{data['name']}' needs a smiles (built-in names: {', '.join(BASE_LIBRARY)})")
+            data = {**data, "smiles": smiles}
+        return data
+
     charge: int | None = None
     multiplicity: int = Field(1, ge=1)
     #: True marks a sterically demanding base for the geometric rule (Hofmann shift)
@@ -188,6 +254,7 @@ class RunConfig(_Frozen):
     conformers: ConformerConfig = ConformerConfig()
     scan: ScanConfig = ScanConfig()
     rule: RuleConfig = RuleConfig()
+    paths: PathConfig = PathConfig()
     substrates: tuple[SubstrateConfig, ...] = Field(min_length=1)
     bases: tuple[BaseConfig, ...] = Field(min_length=1)
     pairs: tuple[PairConfig, ...] | None = None

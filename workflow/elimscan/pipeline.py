@@ -16,17 +16,18 @@ from dataclasses import dataclass, field
 from ase import Atoms
 from rdkit import Chem
 
-from elimscan.analysis import (ClassFacts, GeometrySample, Periplanar, best_periplanar, rule_status,
-                               rule_verdict)
+from elimscan.analysis import (ClassFacts, GeometrySample, PathBarrier, Periplanar, best_periplanar,
+                               compare_verdicts, fraction_ranges, product_fractions, rule_status, rule_verdict)
 from elimscan.bases import BaseInfo, describe_base
 from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
-from elimscan.records import (BaseRecord, BetaHydrogenRecord, ConformerRecord, ErrorInfo, JobRecord,
-                              LeavingGroupRecord, MoleculeRecord, PeriplanarRecord, ProductRecord, RuleRecord,
-                              ScanPointRecord, ScanRecord)
+from elimscan.paths import PathResult, Reactive, compute_path
+from elimscan.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, ErrorInfo, JobRecord,
+                              LeavingGroupRecord, MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
+                              ScanPointRecord, ScanRecord, VerdictRecord)
 from elimscan.relax import relax
 from elimscan.scans import DihedralScan, branch_plan, scan_dihedral
 from elimscan.structures import atoms_from_geometry, build_molecule, check_charge, formula
@@ -77,13 +78,18 @@ class BaseAnalysis:
     info: BaseInfo | None
 
 
+#: (class_id, approach) -> the computed path, or why it failed
+JobPaths = dict[tuple[str, str], "PathResult | ErrorInfo"]
+
+
 @dataclass
 class RunOutcome:
-    """Everything a run computed: substrates and bases by name (or their failures), and the jobs."""
+    """Everything a run computed: substrates and bases by name (or their failures), jobs and their paths."""
 
     substrates: dict[str, SubstrateAnalysis | ErrorInfo] = field(default_factory=dict)
     bases: dict[str, BaseAnalysis] = field(default_factory=dict)
     jobs: list[tuple[SubstrateConfig, BaseConfig]] = field(default_factory=list)
+    paths: dict[tuple[str, str], JobPaths] = field(default_factory=dict)
 
 
 def error_info(err: ElimscanError) -> ErrorInfo:
@@ -174,8 +180,8 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
         scans = _class_scans(substrate, beta_class, ensemble, engine, charge, item.multiplicity, config, rings, name,
                              on_progress)
         samples = [GeometrySample(dihedral_deg(c.atoms.positions, *quad), c.energy_hartree, f"conformer {c.conformer_id}",
-                                  c.ring_shapes) for c in ensemble.conformers]
-        samples += [GeometrySample(p.dihedral_deg, p.energy_hartree, f"scan from {scan.start_label}", p.ring_shapes)
+                                  c.ring_shapes, c.atoms) for c in ensemble.conformers]
+        samples += [GeometrySample(p.dihedral_deg, p.energy_hartree, f"scan from {scan.start_label}", p.ring_shapes, p.atoms)
                     for scan in scans for p in scan.ok_points()]
         per_class.append((beta_class, scans, samples))
     global_min = min(s.energy_hartree for _, _, samples in per_class for s in samples) if per_class else ensemble.lowest.energy_hartree
@@ -213,7 +219,46 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
                                  config.optimizer, config.seed)
         info = describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None
         outcome.bases[item.name] = BaseAnalysis(relaxed, info)
+    for step, (substrate_cfg, base_cfg) in enumerate(jobs):
+        analysis, base = outcome.substrates[substrate_cfg.name], outcome.bases[base_cfg.name]
+        if isinstance(analysis, ErrorInfo) or base.info is None or base.relaxed.atoms is None:
+            continue
+        if on_progress is not None:
+            on_progress(step, len(jobs), f"paths of {substrate_cfg.name} + {base_cfg.name}")
+        outcome.paths[(substrate_cfg.name, base_cfg.name)] = compute_job_paths(analysis, base, config, engine, on_progress)
     return outcome
+
+
+def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: RunConfig, engine,
+                      on_progress: ProgressCallback | None = None) -> JobPaths:
+    """Return every (class, approach) path of one substrate with one base; failures are recorded, not raised."""
+    lg = analysis.substrate.leaving_group
+    n = len(analysis.ensemble.lowest.atoms)
+    charge = analysis.charge + base.info.formal_charge
+    multiplicity = analysis.multiplicity + base.relaxed.record.multiplicity - 1
+    all_h = tuple(i for c in analysis.classes for i in c.beta_class.hydrogen_indices)
+    paths: JobPaths = {}
+    for c in analysis.classes:
+        b = c.beta_class
+        reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
+                            n + base.info.basic_atom_index)
+        for approach, best in (("anti", c.anti), ("syn", c.syn)):
+            if approach not in config.paths.approaches or best.atoms is None:
+                continue
+            product = b.anti_product if approach == "anti" else b.syn_product
+            if not product.possible:
+                continue
+            if on_progress is not None:
+                on_progress(DETAIL, DETAIL, f"{analysis.name}: {approach} path of {b.class_id} "
+                                            f"(from {best.source}, {best.dihedral_deg:.0f} deg)")
+            try:
+                paths[(b.class_id, approach)] = compute_path(
+                    best.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine, charge,
+                    multiplicity, config.paths, config.optimizer, tuple(i for i in all_h if i != b.representative_index),
+                    name=f"{analysis.name} {b.class_id} {approach}")
+            except ElimscanError as err:
+                paths[(b.class_id, approach)] = error_info(err)
+    return paths
 
 
 # --- records -----------------------------------------------------------------------------------------
@@ -234,12 +279,39 @@ def safe_name(name: str) -> str:
     return "".join(c if c.isalnum() or c in "-_." else "_" for c in name)
 
 
-def _periplanar_record(product: Alkene, best: Periplanar) -> PeriplanarRecord:
-    return PeriplanarRecord(
+def path_file_name(job_id: str, class_id: str, approach: str, kind: str = "path") -> str:
+    """Return the output-relative path of a path ('path') or saddle ('saddle') trajectory."""
+    return f"jobs/{safe_name(job_id)}/{kind}-{safe_name(class_id)}-{approach}.xyz"
+
+
+def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | ErrorInfo | None", zero: float,
+                     lowest_top: float | None, job_id: str, class_id: str, approach: str) -> ApproachRecord:
+    """Return the record of one approach: product, periplanar geometry, and the path when one was computed."""
+    record = dict(
         product_smiles=product.smiles, product_substitution=product.substitution, product_conjugated=product.conjugated,
         product_ring_position=product.ring_position, product_possible=product.possible,
         penalty_kcal_mol=best.penalty_kcal_mol, dihedral_deg=best.dihedral_deg, geometry_source=best.source,
         ring_shapes=best.ring_shapes)
+    if isinstance(path, ErrorInfo):
+        return ApproachRecord(**record, path_status="failed", error=path)
+    if path is None:
+        return ApproachRecord(**record)
+    kcal = lambda e: round((e - zero) * KCAL_MOL_PER_HARTREE, 3)  # noqa: E731
+    rotations = path.complex.energies_hartree
+    return ApproachRecord(
+        **record, path_status="ok", barrier_kcal_mol=kcal(path.top_hartree),
+        relative_barrier_kcal_mol=round((path.top_hartree - lowest_top) * KCAL_MOL_PER_HARTREE, 3),
+        barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
+        relaxed_path_estimate_kcal_mol=kcal(path.estimate_hartree), saddle_verified=path.saddle.verified,
+        imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
+        saddle_note=path.saddle.reason, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
+        complex_rotation_spread_kcal_mol=round((max(rotations) - min(rotations)) * KCAL_MOL_PER_HARTREE, 3),
+        flags=path.flags, n_gradients=path.n_gradients,
+        path=tuple(PathPointRecord(coordinate_A=round(p.coordinate_A, 4), relative_energy_kcal_mol=kcal(p.energy_hartree),
+                                   c_beta_h_A=round(p.distances["c_beta_h_A"], 4), base_h_A=round(p.distances["base_h_A"], 4),
+                                   c_alpha_x_A=round(p.distances["c_alpha_x_A"], 4)) for p in path.points),
+        path_file=path_file_name(job_id, class_id, approach),
+        saddle_file=path_file_name(job_id, class_id, approach, "saddle") if path.saddle.atoms is not None else None)
 
 
 def _scan_record(scan: DihedralScan, global_min: float, xyz_file: str) -> ScanRecord:
@@ -276,6 +348,18 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
              for c in analysis.classes]
     verdict = rule_verdict(facts, config.rule, base.info.bulky, lg.kind, lg.label)
     lowest = analysis.ensemble.lowest.energy_hartree
+    paths = outcome.paths.get((substrate_cfg.name, base_cfg.name), {})
+    zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
+    done = {key: p for key, p in paths.items() if not isinstance(p, ErrorInfo)}
+    lowest_top = min((p.top_hartree for p in done.values()), default=None)
+    degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
+    products_of = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
+                   for c in analysis.classes for a in ("anti", "syn")}
+    barriers = [PathBarrier(cid, a, products_of[(cid, a)], (p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, degeneracy[cid])
+                for (cid, a), p in done.items()]
+    fractions = product_fractions(barriers, config.method.temperature_K)
+    ranges = fraction_ranges(barriers, config.method.temperature_K)
+    computed = compare_verdicts(verdict.major, fractions, barriers)
     beta_records = []
     for c in analysis.classes:
         b = c.beta_class
@@ -283,8 +367,11 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
             class_id=b.class_id, beta_carbon_index=b.beta_carbon_index, hydrogen_indices=b.hydrogen_indices,
             representative_index=b.representative_index, degeneracy=b.degeneracy,
             anti_penalty_kcal_mol=c.anti.penalty_kcal_mol, syn_penalty_kcal_mol=c.syn.penalty_kcal_mol,
-            rule_status=c.status, anti=_periplanar_record(b.anti_product, c.anti),
-            syn=_periplanar_record(b.syn_product, c.syn),
+            rule_status=c.status,
+            anti=_approach_record(b.anti_product, c.anti, paths.get((b.class_id, "anti")), zero, lowest_top, job_id,
+                                  b.class_id, "anti"),
+            syn=_approach_record(b.syn_product, c.syn, paths.get((b.class_id, "syn")), zero, lowest_top, job_id,
+                                 b.class_id, "syn"),
             scans=tuple(_scan_record(s, analysis.global_minimum_hartree, scan_file_name(substrate_cfg.name, b.class_id, k))
                         for k, s in enumerate(c.scans))))
     return JobRecord(
@@ -301,7 +388,17 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
         warnings=analysis.substrate.warnings + analysis.ensemble.failures,
         beta_hydrogens=tuple(beta_records),
         products=tuple(ProductRecord(smiles=p.smiles, substitution=p.substitution, rule_call=p.call,
-                                     via_classes=p.via_classes, reason=p.reason) for p in verdict.products),
+                                     via_classes=p.via_classes, reason=p.reason,
+                                     fraction=round(fractions[p.smiles], 4) if p.smiles in fractions else None,
+                                     fraction_range=(round(ranges[p.smiles][0], 4), round(ranges[p.smiles][1], 4))
+                                     if p.smiles in ranges else None)
+                       for p in verdict.products),
         rule=RuleRecord(rule_major=verdict.major, hofmann_shift=verdict.hofmann_shift,
                         energy_window_kcal_mol=config.rule.energy_window_kcal_mol, reasoning=verdict.reasoning),
+        reference_energy_hartree=zero,
+        barrier_kind=f"electronic energy differences dE (not free energies), {config.method.hamiltonian}",
+        temperature_K=config.method.temperature_K,
+        verdict=VerdictRecord(rule_major=computed.rule_major, computed_major=computed.computed_major,
+                              agreement=computed.agreement, within_method_uncertainty=computed.within_method_uncertainty,
+                              reason=computed.reason),
     )

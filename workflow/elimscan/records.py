@@ -16,7 +16,7 @@ from pydantic import BaseModel, ConfigDict, Field
 from elimscan.config import RunConfig
 
 RESULT_SCHEMA_NAME = "elimscan.result"
-RESULT_SCHEMA_VERSION = "0.2.0"
+RESULT_SCHEMA_VERSION = "0.3.0"
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
 
 
@@ -112,8 +112,18 @@ class ScanRecord(_Record):
     xyz_file: str | None = Field(None, description="extended XYZ trajectory, relative to the output folder")
 
 
-class PeriplanarRecord(_Record):
-    """The anti or syn elimination of one beta-H class: its product and its best periplanar geometry."""
+class PathPointRecord(_Record):
+    """One point of a relaxed E2 path."""
+
+    coordinate_A: float = Field(description="d(Cb-H) - d(B-H) + d(Ca-X)")
+    relative_energy_kcal_mol: float = Field(description="above substrate global minimum + free base")
+    c_beta_h_A: float
+    base_h_A: float
+    c_alpha_x_A: float
+
+
+class ApproachRecord(_Record):
+    """The anti or syn elimination of one beta-H class: product, best periplanar geometry, and its barrier."""
 
     product_smiles: str
     product_substitution: str
@@ -124,6 +134,23 @@ class PeriplanarRecord(_Record):
     dihedral_deg: float | None
     geometry_source: str | None
     ring_shapes: tuple[str, ...]
+    path_status: Literal["ok", "failed", "not computed"] = "not computed"
+    barrier_kcal_mol: float | None = Field(None, description="electronic dE (GFN2-xTB) of the top of this path above "
+                                           "substrate global minimum + free base, same solvent")
+    relative_barrier_kcal_mol: float | None = Field(None, description="above the lowest barrier of the job")
+    barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    relaxed_path_estimate_kcal_mol: float | None = None
+    saddle_verified: bool = False
+    imaginary_frequency_cm1: float | None = None
+    saddle_note: str | None = None
+    complex_energy_kcal_mol: float | None = Field(None, description="base-substrate complex above the same zero")
+    complex_rotation_spread_kcal_mol: float | None = Field(None, description="max - min over the base rotations tried")
+    flags: tuple[str, ...] = ()
+    n_gradients: int | None = None
+    path: tuple[PathPointRecord, ...] = ()
+    path_file: str | None = Field(None, description="extended XYZ of the path, relative to the output folder")
+    saddle_file: str | None = Field(None, description="extended XYZ: saddle and frames along its imaginary mode")
+    error: ErrorInfo | None = None
 
 
 class BetaHydrogenRecord(_Record):
@@ -137,8 +164,8 @@ class BetaHydrogenRecord(_Record):
     anti_penalty_kcal_mol: float | None
     syn_penalty_kcal_mol: float | None
     rule_status: Literal["anti accessible", "syn only", "blocked"]
-    anti: PeriplanarRecord
-    syn: PeriplanarRecord
+    anti: ApproachRecord
+    syn: ApproachRecord
     scans: tuple[ScanRecord, ...]
 
 
@@ -150,6 +177,8 @@ class ProductRecord(_Record):
     rule_call: Literal["major", "minor", "forbidden"]
     via_classes: tuple[str, ...]
     reason: str
+    fraction: float | None = Field(None, description="computed share (Curtin-Hammett, Boltzmann over path barriers)")
+    fraction_range: tuple[float, float] | None = Field(None, description="share when every barrier moves by +-1 kcal/mol")
 
 
 class BaseRecord(_Record):
@@ -169,6 +198,16 @@ class RuleRecord(_Record):
     reasoning: tuple[str, ...]
 
 
+class VerdictRecord(_Record):
+    """The rule's major product beside the computed one."""
+
+    rule_major: str | None
+    computed_major: str | None
+    agreement: bool | None
+    within_method_uncertainty: bool
+    reason: str
+
+
 class JobRecord(_Record):
     """One substrate x base job."""
 
@@ -186,6 +225,10 @@ class JobRecord(_Record):
     beta_hydrogens: tuple[BetaHydrogenRecord, ...] = ()
     products: tuple[ProductRecord, ...] = ()
     rule: RuleRecord | None = None
+    reference_energy_hartree: float | None = Field(None, description="zero of the barriers: substrate global minimum + free base")
+    barrier_kind: str | None = Field(None, description="what the barriers are, e.g. electronic energy differences")
+    temperature_K: float | None = Field(None, description="temperature of the Boltzmann weights")
+    verdict: VerdictRecord | None = None
 
 
 class RunSummary(_Record):
@@ -201,7 +244,7 @@ class RunResult(_Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.2.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds

@@ -1,0 +1,313 @@
+"""Base-substrate complexes, relaxed E2 paths and verified saddles for one beta hydrogen.
+
+Atom order in a complex: the substrate's atoms, then the base's. The reaction coordinate driven is
+q = d(Cβ-H) - d(B-H) + d(Cα-X) (Å), everything else relaxed (BFGS + FixInternals: Sella cannot hold a
+combination of distances); the path maximum is the relaxed-path estimate of the saddle. A first-order
+saddle is then refined with Sella (order 1) and verified with a finite-difference Hessian (one imaginary
+mode) and by relaxing both ways along that mode (reactant complex on one side, alkene + conjugate acid
++ X- on the other). A saddle that fails verification is reported as an unverified estimate. The engine
+is passed in; no file I/O.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+from ase import Atoms
+
+from elimscan.config import OptimizerConfig, PathConfig
+from elimscan.errors import ElimscanError
+from elimscan.geometry import dihedral_deg, distance
+from elimscan.hessian import Vibrations, finite_difference_hessian, harmonic_analysis
+from elimscan.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
+from elimscan.units import EV_PER_HARTREE
+
+BFGS = "bfgs"
+
+
+@dataclass(frozen=True)
+class Reactive:
+    """Indices (0-based, in the complex) of the atoms that take part: H, Cβ, Cα, X and the basic atom B."""
+
+    h: int
+    c_beta: int
+    c_alpha: int
+    x: int
+    base: int
+
+    def quad(self) -> tuple[int, int, int, int]:
+        """Return the H-Cβ-Cα-X dihedral indices."""
+        return (self.h, self.c_beta, self.c_alpha, self.x)
+
+    def coordinate(self) -> HeldDistanceSum:
+        """Return the driven combination d(Cβ-H) - d(B-H) + d(Cα-X) (target left open)."""
+        return HeldDistanceSum(((self.c_beta, self.h, 1.0), (self.base, self.h, -1.0), (self.c_alpha, self.x, 1.0)))
+
+    def distances(self, positions: np.ndarray) -> dict[str, float]:
+        """Return the bond lengths that tell reactant, saddle and product apart (Å)."""
+        return {"c_beta_h_A": distance(positions, self.c_beta, self.h), "base_h_A": distance(positions, self.base, self.h),
+                "c_alpha_x_A": distance(positions, self.c_alpha, self.x), "base_c_alpha_A": distance(positions, self.base, self.c_alpha)}
+
+
+@dataclass(frozen=True)
+class ComplexResult:
+    """The best base-substrate complex over the rotations tried, and every rotation's energy (hartree)."""
+
+    atoms: Atoms
+    energy_hartree: float
+    rotation_deg: float
+    energies_hartree: tuple[float, ...]
+    n_gradients: int
+
+
+@dataclass(frozen=True)
+class PathPoint:
+    """One point of the relaxed path: driven coordinate (Å), energy (hartree), geometry and key distances."""
+
+    coordinate_A: float
+    energy_hartree: float
+    atoms: Atoms
+    converged: bool
+    distances: dict[str, float]
+
+
+@dataclass(frozen=True)
+class SaddleResult:
+    """The outcome of saddle refinement and verification."""
+
+    atoms: Atoms | None
+    energy_hartree: float | None
+    verified: bool
+    method: str
+    imaginary_cm1: float | None
+    other_imaginary_cm1: tuple[float, ...]
+    reason: str
+    mode: np.ndarray | None = field(default=None, repr=False)
+
+
+@dataclass(frozen=True)
+class PathResult:
+    """One approach (anti or syn) for one beta hydrogen: complex, path, saddle, flags, gradients spent."""
+
+    approach: str
+    complex: ComplexResult
+    points: tuple[PathPoint, ...]
+    maximum_index: int
+    saddle: SaddleResult
+    flags: tuple[str, ...]
+    n_gradients: int
+
+    @property
+    def estimate_hartree(self) -> float:
+        """Return the relaxed-path maximum (hartree)."""
+        return self.points[self.maximum_index].energy_hartree
+
+    @property
+    def top_hartree(self) -> float:
+        """Return the verified saddle energy if there is one, else the relaxed-path maximum (hartree)."""
+        return self.saddle.energy_hartree if self.saddle.verified else self.estimate_hartree
+
+
+def _rotation_matrix(axis: np.ndarray, angle_rad: float) -> np.ndarray:
+    """Return the matrix of a right-handed rotation about a unit axis."""
+    axis = axis / np.linalg.norm(axis)
+    k = np.array([[0, -axis[2], axis[1]], [axis[2], 0, -axis[0]], [-axis[1], axis[0], 0]])
+    return np.eye(3) + np.sin(angle_rad) * k + (1 - np.cos(angle_rad)) * k @ k
+
+
+def _align(vector: np.ndarray, target: np.ndarray) -> np.ndarray:
+    """Return a rotation matrix that turns ``vector`` onto ``target`` (both any length)."""
+    a, b = vector / np.linalg.norm(vector), target / np.linalg.norm(target)
+    cross, dot = np.cross(a, b), float(np.dot(a, b))
+    if np.linalg.norm(cross) < 1e-8:
+        if dot > 0:
+            return np.eye(3)
+        perpendicular = np.cross(a, [1.0, 0, 0]) if abs(a[0]) < 0.9 else np.cross(a, [0, 1.0, 0])
+        return _rotation_matrix(perpendicular, np.pi)
+    return _rotation_matrix(cross, np.arccos(np.clip(dot, -1.0, 1.0)))
+
+
+def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, distance_A: float,
+               rotation_deg: float) -> Atoms:
+    """Return substrate + base with the basic atom on the extension of Cβ-H, ``distance_A`` from H.
+
+    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about the Cβ-H axis.
+    """
+    axis = substrate.positions[h] - substrate.positions[c_beta]
+    axis /= np.linalg.norm(axis)
+    moved = base.positions - base.positions[basic]
+    others = [i for i in range(len(base)) if i != basic]
+    if others:
+        nearest = sorted(others, key=lambda i: np.linalg.norm(moved[i]))[: min(3, len(others))]
+        outward = np.mean(moved[nearest], axis=0)
+        if np.linalg.norm(outward) > 1e-6:
+            moved = moved @ _align(outward, axis).T
+    moved = moved @ _rotation_matrix(axis, np.radians(rotation_deg)).T
+    placed = base.copy()
+    placed.positions = moved + substrate.positions[h] + distance_A * axis
+    return substrate + placed
+
+
+def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
+                  engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
+                  name: str = "complex") -> ComplexResult:
+    """Return the lowest complex over ``settings.base_rotations`` rotations, H...B distance and dihedral held."""
+    best, energies, spent = None, [], 0
+    for k in range(settings.base_rotations):
+        rotation = 360.0 * k / settings.base_rotations
+        start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
+        calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
+        held = [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
+                HeldDihedral(reactive.quad(), dihedral_target_deg)]
+        result = relax(start, calc, held, optimizer)
+        spent += result.n_gradients
+        energies.append(result.energy_hartree)
+        if best is None or result.energy_hartree < best[1]:
+            best = (result.atoms, result.energy_hartree, rotation)
+    return ComplexResult(best[0], best[1], best[2], tuple(energies), spent)
+
+
+def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
+               settings: PathConfig, optimizer: OptimizerConfig, hold_dihedral_deg: float | None = None,
+               name: str = "path", on_point: Callable[[PathPoint], None] | None = None) -> tuple[list[PathPoint], int]:
+    """Return the relaxed path (points with the driven coordinate in Å) and the gradients it took."""
+    coordinate = reactive.coordinate()
+    q0 = coordinate.value(complex_.atoms.positions)
+    points = [PathPoint(q0, complex_.energy_hartree, complex_.atoms, True, reactive.distances(complex_.atoms.positions))]
+    calc = engine.calculator(charge, multiplicity, name=name)
+    bfgs = optimizer.model_copy(update={"name": BFGS})
+    current, spent = complex_.atoms, 0
+    for k in range(1, settings.points + 1):
+        target = q0 + k * settings.step_A
+        held = [HeldDistanceSum(coordinate.terms, target)]
+        if hold_dihedral_deg is not None:
+            held.append(HeldDihedral(reactive.quad(), hold_dihedral_deg))
+        result = relax(current, calc, held, bfgs)
+        spent += result.n_gradients
+        point = PathPoint(target, result.energy_hartree, result.atoms, result.converged, reactive.distances(result.atoms.positions))
+        points.append(point)
+        if on_point is not None:
+            on_point(point)
+        current = result.atoms
+    return points, spent
+
+
+def _side(positions: np.ndarray, reactive: Reactive, saddle: "SaddleCriteria") -> str:
+    """Return 'product', 'reactant' or 'other' for a relaxed geometry from its key distances."""
+    d = reactive.distances(positions)
+    if d["c_alpha_x_A"] >= saddle.product_c_x_min_A and d["base_h_A"] <= saddle.product_base_h_max_A:
+        return "product"
+    if d["base_h_A"] >= saddle.reactant_base_h_min_A and d["c_alpha_x_A"] <= saddle.reactant_c_x_max_A:
+        return "reactant"
+    return "other"
+
+
+SaddleCriteria = type(PathConfig().saddle)
+
+
+def _relax_to_side(atoms: Atoms, displacement: np.ndarray, reactive: Reactive, engine, charge: int, multiplicity: int,
+                   criteria, optimizer: OptimizerConfig, name: str, chunk_steps: int = 20, max_chunks: int = 15) -> str:
+    """Return the side ('reactant', 'product', 'other') reached by relaxing from a displaced saddle.
+
+    Relaxes in chunks and stops as soon as the key distances say reactant or product.
+    """
+    atoms.positions = atoms.positions + displacement
+    chunk = optimizer.model_copy(update={"name": BFGS, "max_steps": chunk_steps})
+    calc = engine.calculator(charge, multiplicity, name=f"{name} side")
+    side = "other"
+    for _ in range(max_chunks):
+        result = relax(atoms, calc, (), chunk)
+        atoms = result.atoms
+        side = _side(atoms.positions, reactive, criteria)
+        if side != "other" or result.converged:
+            break
+    return side
+
+
+def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, multiplicity: int,
+                      settings: PathConfig, optimizer: OptimizerConfig, name: str = "saddle") -> SaddleResult:
+    """Return a Sella-refined saddle from ``guess`` with its verification (Hessian and both-way relaxation)."""
+    from sella import Sella  # loads jax: imported only when a saddle is refined
+
+    s = settings.saddle
+    work = guess.copy()
+    work.calc = engine.calculator(charge, multiplicity, name=name)
+    try:
+        opt = Sella(work, order=1, internal=True, logfile=None)
+        converged = bool(opt.run(fmax=s.fmax_eV_per_A, steps=s.max_steps))
+        energy = work.get_potential_energy() / EV_PER_HARTREE
+    except ElimscanError as err:
+        return SaddleResult(None, None, False, "sella", None, (), f"saddle search failed: {err.error_type}")
+    except (RuntimeError, np.linalg.LinAlgError, ValueError) as err:
+        return SaddleResult(None, None, False, "sella", None, (), f"saddle search failed: {err}")
+    atoms = work.copy()
+    atoms.calc = None
+    if not converged:
+        return SaddleResult(atoms, energy, False, "sella", None, (), f"Sella did not converge in {s.max_steps} steps")
+    hessian, n_grad = finite_difference_hessian(atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"),
+                                                s.hessian_step_A)
+    vib: Vibrations = harmonic_analysis(hessian, atoms, n_gradients=n_grad)
+    imaginary = sorted(vib.imaginary(0.0), reverse=True)
+    main = imaginary[0] if imaginary else None
+    others = tuple(round(float(v), 1) for v in imaginary[1:] if v > s.other_imaginary_max_cm1)
+    if main is None or main < s.imaginary_min_cm1:
+        return SaddleResult(atoms, energy, False, "sella", None if main is None else float(main), others,
+                            "no imaginary mode above the threshold: the search collapsed to a minimum")
+    if others:
+        return SaddleResult(atoms, energy, False, "sella", float(main), others,
+                            f"{len(others) + 1} imaginary modes: not a first-order saddle")
+    mode = vib.modes[0]
+    sides = [_relax_to_side(atoms.copy(), sign * s.displacement_A * mode, reactive, engine, charge, multiplicity,
+                            s, optimizer, name) for sign in (+1, -1)]
+    if sorted(sides) != ["product", "reactant"]:
+        return SaddleResult(atoms, energy, False, "sella", float(main), others,
+                            f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product")
+    return SaddleResult(atoms, energy, True, "sella", float(main), others,
+                        "one imaginary mode; connects the reactant complex with the elimination products", mode)
+
+
+def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, other_hydrogens: tuple[int, ...],
+               syn: bool) -> tuple[str, ...]:
+    """Return warnings about competing outcomes read from the path's end and maximum geometries."""
+    flags = []
+    end = points[-1]
+    d = end.distances
+    if maximum_index in (0, len(points) - 1):
+        flags.append("no interior maximum along the path: the estimate is an end point")
+    if d["base_h_A"] <= 1.15 and d["c_alpha_x_A"] < 2.4:
+        flags.append("proton transferred without C-X cleavage (E1cb-like)")
+    if d["base_c_alpha_A"] < 2.2 and d["base_h_A"] > 1.3:
+        flags.append("base bonded to C-alpha (SN2-like)")
+    positions = end.atoms.positions
+    if other_hydrogens:
+        nearest = min(other_hydrogens, key=lambda i: distance(positions, reactive.base, i))
+        if distance(positions, reactive.base, nearest) < distance(positions, reactive.base, reactive.h) - 0.2:
+            flags.append(f"the base took another hydrogen (atom {nearest})")
+    phi = dihedral_deg(points[maximum_index].atoms.positions, *reactive.quad())
+    if not syn and abs(phi) < 120:
+        flags.append(f"the path rotated away from anti (H-C-C-X {phi:.0f} deg at the maximum)")
+    return tuple(flags)
+
+
+def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
+                 multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, other_hydrogens: tuple[int, ...],
+                 name: str = "path") -> PathResult:
+    """Return the complex, relaxed path, saddle and flags of one approach ('anti' or 'syn') for one hydrogen."""
+    misses0 = engine.stats.misses
+    syn = approach == "syn"
+    dihedral = settings.syn_dihedral_deg if syn else dihedral_deg(start.positions, *reactive.quad())
+    complex_ = build_complex(start, base, basic, reactive, dihedral, engine, charge, multiplicity, settings, optimizer,
+                             name=f"{name} complex")
+    points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
+                           hold_dihedral_deg=settings.syn_dihedral_deg if syn else None, name=f"{name} path")
+    top = int(np.argmax([p.energy_hartree for p in points]))
+    if settings.saddle.refine and 0 < top < len(points) - 1:
+        saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
+                                   name=f"{name} saddle")
+    else:
+        saddle = SaddleResult(None, None, False, "none", None, (),
+                              "not refined" if not settings.saddle.refine else "no interior maximum to refine from")
+    flags = path_flags(points, top, reactive, other_hydrogens, syn)
+    return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0)
