@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import hashlib
 import importlib
+import time
 import importlib.metadata
 from dataclasses import dataclass, field
 from typing import Any, Protocol
@@ -160,6 +161,8 @@ class CacheStats:
     hits: int = 0
     misses: int = 0
     retries: int = 0
+    #: wall time spent inside the xTB library (s)
+    backend_seconds: float = 0.0
 
     @property
     def hit_ratio(self) -> float:
@@ -226,7 +229,9 @@ class XtbEngine:
                 series = self._new_series(numbers, positions_bohr, charge, uhf, self.settings.electronic_temperature_K)
                 if holder is not None:
                     holder.keep_series(numbers, series)
+            started = time.perf_counter()
             energy, gradient = series.compute(positions_bohr)
+            self.stats.backend_seconds += time.perf_counter() - started
             return SinglePoint(energy, gradient, self.settings.electronic_temperature_K)
         except EngineError:
             raise

@@ -98,6 +98,7 @@ class PathResult:
     saddle: SaddleResult
     flags: tuple[str, ...]
     n_gradients: int
+    saddle_gradients: int = 0
 
     @property
     def estimate_hartree(self) -> float:
@@ -226,8 +227,31 @@ def _relax_to_side(atoms: Atoms, displacement: np.ndarray, reactive: Reactive, e
     return side
 
 
+def base_h_scan_maximum(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
+                        settings: PathConfig, optimizer: OptimizerConfig, hold_dihedral_deg: float | None,
+                        name: str = "base-H scan", end_A: float = 1.0, step_A: float = 0.1) -> Atoms | None:
+    """Return the highest interior point of a scan that shortens d(base-H) toward ``end_A`` (Å), or None."""
+    start = distance(complex_.atoms.positions, reactive.base, reactive.h)
+    targets = np.arange(start - step_A, end_A - 1e-9, -step_A)
+    calc = engine.calculator(charge, multiplicity, name=name)
+    bfgs = optimizer.model_copy(update={"name": BFGS})
+    current, frames = complex_.atoms, []
+    for target in targets:
+        held = [HeldDistance((reactive.base, reactive.h), float(target))]
+        if hold_dihedral_deg is not None:
+            held.append(HeldDihedral(reactive.quad(), hold_dihedral_deg))
+        result = relax(current, calc, held, bfgs)
+        frames.append((result.energy_hartree, result.atoms))
+        current = result.atoms
+    if len(frames) < 3:
+        return None
+    top = int(np.argmax([e for e, _ in frames]))
+    return frames[top][1] if 0 < top < len(frames) - 1 else None
+
+
 def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, multiplicity: int,
-                      settings: PathConfig, optimizer: OptimizerConfig, name: str = "saddle") -> SaddleResult:
+                      settings: PathConfig, optimizer: OptimizerConfig, name: str = "saddle",
+                      method: str = "sella") -> SaddleResult:
     """Return a Sella-refined saddle from ``guess`` with its verification (Hessian and both-way relaxation)."""
     from sella import Sella  # loads jax: imported only when a saddle is refined
 
@@ -239,13 +263,13 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
         converged = bool(opt.run(fmax=s.fmax_eV_per_A, steps=s.max_steps))
         energy = work.get_potential_energy() / EV_PER_HARTREE
     except ElimscanError as err:
-        return SaddleResult(None, None, False, "sella", None, (), f"saddle search failed: {err.error_type}")
+        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err.error_type}")
     except (RuntimeError, np.linalg.LinAlgError, ValueError) as err:
-        return SaddleResult(None, None, False, "sella", None, (), f"saddle search failed: {err}")
+        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err}")
     atoms = work.copy()
     atoms.calc = None
     if not converged:
-        return SaddleResult(atoms, energy, False, "sella", None, (), f"Sella did not converge in {s.max_steps} steps")
+        return SaddleResult(atoms, energy, False, method, None, (), f"Sella did not converge in {s.max_steps} steps")
     hessian, n_grad = finite_difference_hessian(atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"),
                                                 s.hessian_step_A)
     vib: Vibrations = harmonic_analysis(hessian, atoms, n_gradients=n_grad)
@@ -253,18 +277,18 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
     main = imaginary[0] if imaginary else None
     others = tuple(round(float(v), 1) for v in imaginary[1:] if v > s.other_imaginary_max_cm1)
     if main is None or main < s.imaginary_min_cm1:
-        return SaddleResult(atoms, energy, False, "sella", None if main is None else float(main), others,
+        return SaddleResult(atoms, energy, False, method, None if main is None else float(main), others,
                             "no imaginary mode above the threshold: the search collapsed to a minimum")
     if others:
-        return SaddleResult(atoms, energy, False, "sella", float(main), others,
+        return SaddleResult(atoms, energy, False, method, float(main), others,
                             f"{len(others) + 1} imaginary modes: not a first-order saddle")
     mode = vib.modes[0]
     sides = [_relax_to_side(atoms.copy(), sign * s.displacement_A * mode, reactive, engine, charge, multiplicity,
                             s, optimizer, name) for sign in (+1, -1)]
     if sorted(sides) != ["product", "reactant"]:
-        return SaddleResult(atoms, energy, False, "sella", float(main), others,
+        return SaddleResult(atoms, energy, False, method, float(main), others,
                             f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product")
-    return SaddleResult(atoms, energy, True, "sella", float(main), others,
+    return SaddleResult(atoms, energy, True, method, float(main), others,
                         "one imaginary mode; connects the reactant complex with the elimination products", mode)
 
 
@@ -303,11 +327,26 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
     points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
                            hold_dihedral_deg=settings.syn_dihedral_deg if syn else None, name=f"{name} path")
     top = int(np.argmax([p.energy_hartree for p in points]))
-    if settings.saddle.refine and 0 < top < len(points) - 1:
-        saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
-                                   name=f"{name} saddle")
+    before_saddle = engine.stats.misses
+    if not settings.saddle.refine:
+        saddle = SaddleResult(None, None, False, "none", None, (), "not refined (paths.saddle.refine is false)")
     else:
-        saddle = SaddleResult(None, None, False, "none", None, (),
-                              "not refined" if not settings.saddle.refine else "no interior maximum to refine from")
+        saddle = SaddleResult(None, None, False, "none", None, (), "no interior maximum along the path")
+        if 0 < top < len(points) - 1:
+            saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
+                                       name=f"{name} saddle", method="sella from the path maximum")
+        if not saddle.verified:  # fallback: the maximum of a base-H distance scan as the starting guess
+            guess = base_h_scan_maximum(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
+                                        settings.syn_dihedral_deg if syn else None, name=f"{name} base-H scan")
+            if guess is not None:
+                second = refine_and_verify(guess, reactive, engine, charge, multiplicity, settings, optimizer,
+                                           name=f"{name} saddle", method="sella from the base-H scan maximum")
+                if second.verified or saddle.atoms is None:
+                    saddle = second
+                else:
+                    saddle = SaddleResult(saddle.atoms, saddle.energy_hartree, False, saddle.method, saddle.imaginary_cm1,
+                                          saddle.other_imaginary_cm1, f"{saddle.reason}; fallback from the base-H scan "
+                                          f"maximum also failed: {second.reason}", saddle.mode)
     flags = path_flags(points, top, reactive, other_hydrogens, syn)
-    return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0)
+    return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
+                      engine.stats.misses - before_saddle)

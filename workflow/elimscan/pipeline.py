@@ -304,7 +304,7 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
         relaxed_path_estimate_kcal_mol=kcal(path.estimate_hartree), saddle_verified=path.saddle.verified,
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
-        saddle_note=path.saddle.reason, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
+        saddle_note=path.saddle.reason, saddle_method=path.saddle.method, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
         complex_rotation_spread_kcal_mol=round((max(rotations) - min(rotations)) * KCAL_MOL_PER_HARTREE, 3),
         flags=path.flags, n_gradients=path.n_gradients,
         path=tuple(PathPointRecord(coordinate_A=round(p.coordinate_A, 4), relative_energy_kcal_mol=kcal(p.energy_hartree),

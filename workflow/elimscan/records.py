@@ -143,6 +143,7 @@ class ApproachRecord(_Record):
     saddle_verified: bool = False
     imaginary_frequency_cm1: float | None = None
     saddle_note: str | None = None
+    saddle_method: str | None = Field(None, description="how the saddle was searched (start of the Sella refinement)")
     complex_energy_kcal_mol: float | None = Field(None, description="base-substrate complex above the same zero")
     complex_rotation_spread_kcal_mol: float | None = Field(None, description="max - min over the base rotations tried")
     flags: tuple[str, ...] = ()
