@@ -13,7 +13,7 @@ export MKL_NUM_THREADS ?= 1
 export OMP_STACKSIZE ?= 1G
 export MPLBACKEND ?= Agg
 
-.PHONY: demo test test-fast bench schema clean check-python
+.PHONY: demo test test-fast bench schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -36,7 +36,20 @@ demo: $(VENV)/.installed
 	$(VENV)/bin/elimscan run configs/demo.yaml --out results/demo
 	$(VENV)/bin/elimscan summary results/demo
 
-test: $(VENV)/.installed
+# The browser check of report.html needs Debian's chromium and chromium-driver. As root with apt-get
+# (as in CI) they are installed when missing; elsewhere the browser test skips with a message.
+browser-deps:
+	@if command -v chromium >/dev/null 2>&1 && command -v chromedriver >/dev/null 2>&1; then :; \
+	elif [ "$$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then \
+	  echo "installing chromium and chromium-driver (Debian) for the browser test of report.html"; \
+	  { apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium chromium-driver >/dev/null; } \
+	  || echo "warning: could not install chromium/chromium-driver: the browser test will be skipped"; \
+	else \
+	  echo "note: chromium or chromedriver not found (Debian/Ubuntu: apt-get install chromium chromium-driver);"; \
+	  echo "      the browser test of report.html will be skipped"; \
+	fi
+
+test: $(VENV)/.installed browser-deps
 	$(VPY) -m pytest
 
 test-fast: $(VENV)/.installed

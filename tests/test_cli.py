@@ -18,6 +18,7 @@ SCHEMA = json.loads((ROOT / "results-schema" / "result.schema.json").read_text()
 TINY = """\
 name: tiny
 method: {backend: tblite, solvent: {model: alpb, name: ethanol}}
+paths: {approaches: [anti]}
 substrates:
   - {name: chloroethane, smiles: "CCCl"}
 bases:
@@ -53,7 +54,7 @@ def test_validate_accepts_the_demo_config():
 @pytest.mark.parametrize(
     "text, code, words",
     [
-        (TINY.replace("{name: methoxide", "{nmae: methoxide"), ExitCode.CONFIG, "line 6: unknown key 'nmae'; did you mean 'name'?"),
+        (TINY.replace("{name: methoxide", "{nmae: methoxide"), ExitCode.CONFIG, "line 7: unknown key 'nmae'; did you mean 'name'?"),
         (TINY.replace('"CCCl"', '"CC(Cl"'), ExitCode.CONFIG, "substrate 'chloroethane': cannot parse SMILES 'CC(Cl'"),
         (TINY.replace("backend: tblite", "backend: xtb"), ExitCode.CONFIG,
          "backend 'xtb' cannot do solvent model 'alpb' with GFN2-xTB; it supports: gbsa"),
@@ -122,6 +123,20 @@ def test_run_writes_schema_valid_results_and_refuses_to_overwrite(tmp_path):
     assert forced.returncode == ExitCode.OK
     summary = elimscan("summary", str(out))
     assert "chloroethane" in summary.stdout and "1/1 jobs ok" in summary.stdout
+    # the run wrote the report; 'report' rebuilds the CSV byte for byte without computing
+    csv_before = (out / "summary.csv").read_bytes()
+    assert (out / "report.html").stat().st_size > 0
+    (out / "summary.csv").unlink()
+    rebuilt = elimscan("report", str(out))
+    assert rebuilt.returncode == ExitCode.OK, rebuilt.stderr
+    assert (out / "summary.csv").read_bytes() == csv_before
+    # validate-results checks a kept file; a hand-broken copy names the offending path
+    assert elimscan("validate-results", str(out / "results.json")).returncode == ExitCode.OK
+    broken = json.loads((out / "results.json").read_text())
+    broken["jobs"][0]["beta_hydrogens"][0]["degeneracy"] = "three"
+    (tmp_path / "broken.json").write_text(json.dumps(broken))
+    bad = elimscan("validate-results", str(tmp_path / "broken.json"))
+    assert bad.returncode == ExitCode.CONFIG and "jobs[0].beta_hydrogens[0].degeneracy" in bad.stderr
 
 
 @pytest.mark.xtb

@@ -220,6 +220,9 @@ def cmd_run(args: argparse.Namespace) -> int:
                            n_molecules_failed=sum(m.status != "ok" for m in molecules)),
     )
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
+    from elimscan.reportfiles import build_report_files
+
+    _write_files(out, build_report_files(out))
     log.info("%s", summary_table(result))
     log.info("wrote %s in %.1f s (%d xTB gradients, cache hit ratio %.2f)", out / RESULTS_FILE,
              time.perf_counter() - started, engine.stats.misses, engine.stats.hit_ratio)
@@ -241,6 +244,59 @@ def cmd_summary(args: argparse.Namespace) -> int:
     except ValidationError as err:
         raise OutputError(f"'{path}' is not a valid elimscan result: {err.errors()[0]['msg']}") from err
     print(summary_table(result))
+    return ExitCode.OK
+
+
+def _write_files(out: Path, files: dict[str, bytes]) -> None:
+    """Write {relative path: content} into the output folder, each through a temporary file and a rename."""
+    for rel, content in files.items():
+        path = out / rel
+        tmp = path.with_name(path.name + ".tmp")
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True)
+            tmp.write_bytes(content)
+            os.replace(tmp, path)
+        except OSError as err:
+            raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+
+
+def _checked_result_file(path: Path) -> None:
+    """Raise OutputError when ``path`` is missing or does not match the results schema (problems are logged)."""
+    from elimscan.reportfiles import validate_result_file
+
+    if not path.is_file():
+        raise OutputError(f"'{path}' not found: give an output folder of a finished run")
+    problems = validate_result_file(path)
+    for problem in problems:
+        log.error("%s: %s", path, problem)
+    if problems:
+        raise OutputError(f"'{path}' does not match the results schema ({len(problems)} problem(s), listed above)")
+
+
+def cmd_report(args: argparse.Namespace) -> int:
+    """Rebuild summary.csv, plots/*.png and report.html of a finished output folder without computing; return the exit code."""
+    from elimscan.reportfiles import build_report_files
+
+    out = Path(args.out)
+    _checked_result_file(out / RESULTS_FILE)
+    files = build_report_files(out)
+    _write_files(out, files)
+    n_plots = sum(name.startswith("plots/") for name in files)
+    log.info("wrote %s, %s and %d plot(s)", out / "report.html", out / "summary.csv", n_plots)
+    return ExitCode.OK
+
+
+def cmd_validate_results(args: argparse.Namespace) -> int:
+    """Check a results JSON file against the results schema; return the exit code (3 when it does not match)."""
+    from elimscan.reportfiles import validate_result_file
+
+    problems = validate_result_file(args.file)
+    for problem in problems:
+        log.error("%s: %s", args.file, problem)
+    if problems:
+        log.error("%s: %d problem(s)", args.file, len(problems))
+        return ExitCode.CONFIG
+    log.info("%s: valid", args.file)
     return ExitCode.OK
 
 
@@ -356,6 +412,12 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("summary", parents=[common], help="print the summary table of a finished output folder")
     p.add_argument("out")
     p.set_defaults(func=cmd_summary)
+    p = sub.add_parser("report", parents=[common], help="rebuild summary.csv, plots and report.html of a finished output folder")
+    p.add_argument("out", help="output folder holding results.json")
+    p.set_defaults(func=cmd_report)
+    p = sub.add_parser("validate-results", parents=[common], help="check a results JSON file against the results schema")
+    p.add_argument("file")
+    p.set_defaults(func=cmd_validate_results)
     return parser
 
 

@@ -1,0 +1,382 @@
+"""Figures of a run: Newman projections, H-C-C-X scan curves and the rule's product calls (no file I/O).
+
+Every figure is a ``matplotlib.figure.Figure`` built directly (no pyplot, no global figure state) and
+turned into bytes or text by :func:`figure_png` / :func:`figure_svg`; the caller writes them. SVG output
+is deterministic: fixed hash salt for ids, no date, text kept as text (searchable, and the browser draws
+it). Angles in degrees on (-180, 180], relative energies in kcal/mol, lengths in Å.
+"""
+
+from __future__ import annotations
+
+import io
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+
+import matplotlib
+import matplotlib.patches
+import numpy as np
+from ase import Atoms
+from ase.data import covalent_radii
+from matplotlib.figure import Figure
+from matplotlib.transforms import blended_transform_factory
+
+from elimscan.geometry import dihedral_deg, wrap_degrees
+from elimscan.records import BetaHydrogenRecord, JobRecord, ProductRecord
+
+#: two atoms are bonded when closer than this times the sum of their covalent radii (ase.data)
+BOND_FACTOR = 1.25
+#: raster resolution of PNG output (dots per inch)
+PNG_DPI = 110
+#: salt of matplotlib's SVG id hashes, fixed so that rebuilt figures are byte-identical
+SVG_HASH_SALT = "elimscan-report"
+
+# our own palette: one colour per beta-H class (cycled), one per rule call
+CLASS_COLOURS = ("#1b4f72", "#b03a2e", "#1e8449", "#7d3c98", "#b9770e", "#2e4053", "#117a65", "#a04000")
+CALL_COLOURS = {"major": "#1e8449", "minor": "#5d8aa8", "forbidden": "#b03a2e"}
+ANTI_SHADE = "#d6eaf8"
+SYN_SHADE = "#fdebd0"
+MARK_H = "#1b4f72"
+MARK_X = "#1e8449"
+GREY = "#555555"
+MINUS = "\u2212"
+
+
+def signed(value: float, digits: int = 1) -> str:
+    """Return a number as text with a typographic minus sign (U+2212) and ``digits`` decimals."""
+    text = f"{value:.{digits}f}"
+    if text.lstrip("-").strip("0.") == "":  # -0.0 reads as 0.0
+        text = text.lstrip("-")
+    return text.replace("-", MINUS)
+
+
+def figure_svg(fig: Figure) -> str:
+    """Return the figure as SVG text (no XML date, fixed id salt, text as text): byte-identical on rebuild."""
+    buffer = io.StringIO()
+    with matplotlib.rc_context({"svg.hashsalt": SVG_HASH_SALT, "svg.fonttype": "none"}):
+        fig.savefig(buffer, format="svg", metadata={"Date": None})
+    return buffer.getvalue()
+
+
+def figure_png(fig: Figure, dpi: int = PNG_DPI) -> bytes:
+    """Return the figure as PNG bytes at ``dpi`` dots per inch."""
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
+    return buffer.getvalue()
+
+
+# --- Newman projections --------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Spoke:
+    """One bond seen down the Cβ→Cα axis: atom index, element, label and screen angle (degrees clockwise from up)."""
+
+    index: int
+    symbol: str
+    label: str
+    angle_deg: float
+
+
+@dataclass(frozen=True)
+class NewmanView:
+    """A Newman projection along Cβ→Cα: front (Cβ) and back (Cα) bonds and the H-Cβ-Cα-X dihedral (degrees)."""
+
+    h_index: int
+    beta_index: int
+    alpha_index: int
+    leaving_index: int
+    dihedral_deg: float
+    front: tuple[Spoke, ...]
+    back: tuple[Spoke, ...]
+
+
+def bonded_neighbours(atoms: Atoms, index: int) -> list[int]:
+    """Return the indices of atoms bonded to ``index``, judged from distances and covalent radii (Å)."""
+    positions = atoms.get_positions()
+    numbers = atoms.get_atomic_numbers()
+    found = []
+    for j in range(len(atoms)):
+        if j == index:
+            continue
+        limit = BOND_FACTOR * (covalent_radii[numbers[index]] + covalent_radii[numbers[j]])
+        if np.linalg.norm(positions[j] - positions[index]) < limit:
+            found.append(j)
+    return found
+
+
+def newman_view(atoms: Atoms, h_index: int, beta_index: int, alpha_index: int, leaving_index: int) -> NewmanView:
+    """Return the Newman projection along Cβ→Cα of one geometry, the marked H pointing straight up.
+
+    The viewer looks from Cβ (front) toward Cα (back); a screen angle is measured clockwise from up, so
+    the back bond to X sits at the H-Cβ-Cα-X dihedral (IUPAC sign: clockwise positive) from the H.
+    """
+    positions = atoms.get_positions()
+    symbols = atoms.get_chemical_symbols()
+    axis = positions[alpha_index] - positions[beta_index]
+    axis = axis / np.linalg.norm(axis)
+
+    def projected(origin: int, target: int) -> np.ndarray:
+        v = positions[target] - positions[origin]
+        return v - np.dot(v, axis) * axis
+
+    up = projected(beta_index, h_index)
+    up = up / np.linalg.norm(up)
+    right = np.cross(axis, up)  # screen x, so that (right, up, toward the viewer) is right-handed
+
+    def spokes(origin: int, exclude: int) -> tuple[Spoke, ...]:
+        found = []
+        for j in bonded_neighbours(atoms, origin):
+            if j == exclude:
+                continue
+            v = projected(origin, j)
+            angle = float(np.degrees(np.arctan2(np.dot(v, right), np.dot(v, up))))
+            found.append(Spoke(j, symbols[j], f"{symbols[j]}{j}", wrap_degrees(angle)))
+        return tuple(sorted(found, key=lambda s: (s.angle_deg % 360.0, s.index)))
+
+    phi = dihedral_deg(positions, h_index, beta_index, alpha_index, leaving_index)
+    return NewmanView(h_index, beta_index, alpha_index, leaving_index, phi,
+                      spokes(beta_index, alpha_index), spokes(alpha_index, beta_index))
+
+
+def dihedral_label(view: NewmanView, symbols: Sequence[str]) -> str:
+    """Return the printed dihedral line of a Newman projection, e.g. 'H10–C3–C1–Cl2 = −174.2°' (degrees)."""
+    names = [f"{symbols[i]}{i}" for i in (view.h_index, view.beta_index, view.alpha_index, view.leaving_index)]
+    dash = "\u2013"
+    return f"{dash.join(names)} = {signed(view.dihedral_deg)}\u00b0"
+
+
+def newman_figure(view: NewmanView, symbols: Sequence[str], title: str, note: str = "") -> Figure:
+    """Return a Newman projection figure: front bonds from the centre, back bonds from the circle, H and X marked."""
+    fig = Figure(figsize=(3.0, 3.4))
+    ax = fig.add_axes((0.02, 0.12, 0.96, 0.76))
+    ax.set_aspect("equal")
+    ax.set_xlim(-2.3, 2.3)
+    ax.set_ylim(-2.3, 2.3)
+    ax.axis("off")
+    radius, front_reach, back_reach, gap_deg = 1.0, 1.8, 1.5, 24.0
+    ax.add_patch(matplotlib.patches.Circle((0, 0), radius, fill=False, lw=1.6, ec="#222222"))
+
+    def direction(angle_deg: float) -> np.ndarray:
+        a = np.radians(angle_deg)
+        return np.array([np.sin(a), np.cos(a)])
+
+    def colour(index: int) -> str:
+        return MARK_H if index == view.h_index else MARK_X if index == view.leaving_index else "#222222"
+
+    def label_angle(spoke: Spoke) -> float:
+        # a back label near a front bond (eclipsed) moves sideways; the bond itself stays where it is
+        if spoke in view.front or not view.front:
+            return spoke.angle_deg
+        nearest = min((wrap_degrees(spoke.angle_deg - f.angle_deg) for f in view.front), key=abs)
+        if abs(nearest) >= gap_deg:
+            return spoke.angle_deg
+        return spoke.angle_deg + (gap_deg - abs(nearest)) * (1.0 if nearest >= 0 else -1.0)
+
+    # back bonds start at the circle, front bonds at the centre (drawn on top)
+    drawn = [(s, radius, back_reach, 2) for s in view.back] + [(s, 0.0, front_reach, 3) for s in view.front]
+    for spoke, start, reach, layer in drawn:
+        d = direction(spoke.angle_deg)
+        marked = spoke.index in (view.h_index, view.leaving_index)
+        ax.plot([d[0] * start, d[0] * reach], [d[1] * start, d[1] * reach], color=colour(spoke.index),
+                lw=2.6 if marked else 1.6, solid_capstyle="round", zorder=layer)
+        ax.text(*(direction(label_angle(spoke)) * (reach + 0.3)), spoke.label, ha="center", va="center",
+                fontsize=8.5, color=colour(spoke.index), fontweight="bold" if marked else "normal")
+    ax.plot([0], [0], marker="o", ms=4, color="#222222", zorder=4)
+    fig.text(0.5, 0.955, title, ha="center", va="top", fontsize=9.5, fontweight="bold")
+    fig.text(0.5, 0.075, dihedral_label(view, symbols), ha="center", va="center", fontsize=9, color="#111111")
+    if note:
+        fig.text(0.5, 0.022, note, ha="center", va="center", fontsize=6.5, color=GREY)
+    return fig
+
+
+def closest_frame(frames: Sequence[Atoms], quad: tuple[int, int, int, int], target_deg: float) -> int:
+    """Return the index of the frame whose H-C-C-X dihedral (from its coordinates) is closest to ``target_deg``."""
+    if not frames:
+        raise ValueError("no frames to choose from")
+
+    def distance(k: int) -> tuple[float, int]:
+        phi = dihedral_deg(frames[k].get_positions(), *quad)
+        return (abs(wrap_degrees(phi - target_deg)), k)
+
+    return min(range(len(frames)), key=distance)
+
+
+# --- scans ---------------------------------------------------------------------------------------
+
+
+def _unwrapped(angles_deg: Sequence[float]) -> np.ndarray:
+    """Return the angles made continuous along a path (steps taken the short way round), degrees."""
+    out = [float(angles_deg[0])]
+    for a in angles_deg[1:]:
+        out.append(out[-1] + wrap_degrees(float(a) - out[-1]))
+    return np.array(out)
+
+
+def scan_figure(job: JobRecord, anti_min_deg: float, syn_max_deg: float, window_kcal_mol: float) -> Figure:
+    """Return the H-C-C-X scans of all beta-H classes of one job on one axis (kcal/mol vs degrees)."""
+    fig = Figure(figsize=(7.2, 3.9))
+    ax = fig.add_axes((0.09, 0.13, 0.62, 0.78))
+    ax.axvspan(-180, -anti_min_deg, color=ANTI_SHADE, lw=0, zorder=0, label=f"anti: |\u03c6| \u2265 {anti_min_deg:g}\u00b0")
+    ax.axvspan(anti_min_deg, 180, color=ANTI_SHADE, lw=0, zorder=0)
+    ax.axvspan(-syn_max_deg, syn_max_deg, color=SYN_SHADE, lw=0, zorder=0, label=f"syn: |\u03c6| \u2264 {syn_max_deg:g}\u00b0")
+    ax.axhline(window_kcal_mol, color=GREY, lw=0.9, ls=":", zorder=1, label=f"rule window {window_kcal_mol:g} kcal/mol")
+    top = window_kcal_mol
+    marks: set[str] = set()
+    blend = blended_transform_factory(ax.transData, ax.transAxes)
+    for n, beta in enumerate(job.beta_hydrogens):
+        colour = CLASS_COLOURS[n % len(CLASS_COLOURS)]
+        for k, scan in enumerate(beta.scans):
+            label = beta.class_id if k == 0 else None
+            style = ("-", "--", "-.", ":")[k % 4]
+            # lines join consecutive ok points along the scan path, unwrapped and drawn again 360° either side
+            run: list[tuple[float, float]] = []
+            runs = []
+            for p in scan.points:
+                if p.status == "ok" and p.relative_energy_kcal_mol is not None:
+                    run.append((p.dihedral_deg, p.relative_energy_kcal_mol))
+                else:
+                    runs.append(run)
+                    run = []
+            runs.append(run)
+            for run in (r for r in runs if r):
+                x = _unwrapped([a for a, _ in run])
+                y = [e for _, e in run]
+                top = max(top, max(y))
+                for shift in (-360.0, 0.0, 360.0):
+                    ax.plot(x + shift, y, ls=style, color=colour, lw=1.5, marker="o", ms=2.8, label=label, zorder=3)
+                    label = None
+            caps = [p for p in scan.points if p.status == "above_cap" and p.relative_energy_kcal_mol is not None]
+            if caps:
+                top = max(top, max(p.relative_energy_kcal_mol for p in caps))
+                ax.plot([p.dihedral_deg for p in caps], [p.relative_energy_kcal_mol for p in caps], ls="none",
+                        marker="x", ms=7, mew=1.8, color=colour, zorder=4)
+                marks.add("cap")
+            fails = [p for p in scan.points if p.status == "failed" or p.relative_energy_kcal_mol is None]
+            if fails:
+                ax.plot([p.dihedral_deg for p in fails], [0.96] * len(fails), ls="none", marker="v", ms=7,
+                        mfc="white", mec=colour, mew=1.5, transform=blend, clip_on=False, zorder=4)
+                marks.add("failed")
+    if "cap" in marks:  # legend entries in neutral grey: the colour of a mark is its class's
+        ax.plot([], [], ls="none", marker="x", ms=7, mew=1.8, color=GREY, label="point above the scan cap")
+    if "failed" in marks:
+        ax.plot([], [], ls="none", marker="v", ms=7, mfc="white", mec=GREY, mew=1.5, label="failed point (no energy)")
+    if any(len(b.scans) > 1 for b in job.beta_hydrogens):
+        ax.plot([], [], ls="--", color=GREY, lw=1.5, label="second scan of a class")
+    ax.set_xlim(-180, 180)
+    ax.set_ylim(min(0.0, ax.get_ylim()[0]), top * 1.08 + 0.5)
+    ax.set_xticks(range(-180, 181, 60))
+    ax.set_xticklabels([signed(t, 0) for t in range(-180, 181, 60)])
+    ax.set_xlabel("H\u2013C\u03b2\u2013C\u03b1\u2013X dihedral \u03c6 (degrees)")
+    ax.set_ylabel("relative energy (kcal/mol)")
+    ax.grid(True, color="#e5e5e5", lw=0.6, zorder=0)
+    ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=7.5, frameon=False, borderaxespad=0)
+    fig.text(0.09, 0.975, "GFN2-xTB electronic energy above the substrate's global minimum; everything but \u03c6 relaxed",
+             fontsize=7, color=GREY, va="top")
+    return fig
+
+
+# --- product calls -------------------------------------------------------------------------------
+
+CALL_LEVELS = ("forbidden", "minor", "major")
+
+
+def product_figure(products: Sequence[ProductRecord],
+                   fractions: Mapping[str, tuple[float, float, float]] | None = None) -> Figure:
+    """Return a bar chart of the rule's call on each product, beside computed shares (%) when ``fractions`` are given.
+
+    ``fractions`` maps a product SMILES to (fraction, low, high), each 0-1; only the products it names get a
+    bar and a range, the others read "not computed". Without it the chart has one panel.
+    """
+    n = max(len(products), 1)
+    fig = Figure(figsize=(4.6 + (2.4 if fractions else 0.0), 1.0 + 0.38 * n), layout="constrained")
+    if fractions:
+        ax, ax2 = fig.subplots(1, 2, sharey=True, gridspec_kw={"width_ratios": (1.0, 1.0)})
+    else:
+        ax, ax2 = fig.subplots(), None
+    ys = np.arange(len(products))[::-1]
+    for y, product in zip(ys, products):
+        level = CALL_LEVELS.index(product.rule_call)
+        colour = CALL_COLOURS[product.rule_call]
+        ax.barh(y, level, height=0.6, color=colour, edgecolor=colour)
+        ax.text(level + 0.05, y, product.rule_call, va="center", ha="left", fontsize=8, color=colour,
+                fontweight="bold" if product.rule_call == "major" else "normal")
+    ax.set_yticks(ys)
+    ax.set_yticklabels([f"{p.smiles}  ({p.substitution})" for p in products], fontsize=8)
+    ax.set_xlim(0, 2.9)
+    ax.set_ylim(-0.6, len(products) - 0.4)
+    ax.set_xticks(range(len(CALL_LEVELS)))
+    ax.set_xticklabels(CALL_LEVELS, fontsize=8)
+    ax.set_title("the geometric rule's call", fontsize=9)
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
+    if ax2 is not None:
+        for y, product in zip(ys, products):
+            if product.smiles not in fractions:
+                ax2.text(1.0, y, "not computed", va="center", fontsize=7, color=GREY)
+                continue
+            value, low, high = fractions[product.smiles]
+            ax2.barh(y, 100 * value, height=0.6, color=CALL_COLOURS[product.rule_call], alpha=0.55)
+            ax2.errorbar(100 * value, y, xerr=[[100 * (value - low)], [100 * (high - value)]], fmt="none",
+                         ecolor="#222222", capsize=3, lw=1)
+        ax2.set_xlim(0, 100)
+        ax2.set_xlabel("computed share (%)", fontsize=8)
+        ax2.tick_params(axis="y", labelleft=False)
+        ax2.set_title("computed", fontsize=9)
+        for side in ("top", "right"):
+            ax2.spines[side].set_visible(False)
+    return fig
+
+
+# --- a job's figures -----------------------------------------------------------------------------
+
+
+def plot_name(job_id: str, kind: str) -> str:
+    """Return the output-relative name (no extension) of one plot of a job, e.g. 'plots/<job>-scan'."""
+    safe = "".join(c if c.isalnum() or c in "-_." else "_" for c in f"{job_id}-{kind}")
+    return f"plots/{safe}"
+
+
+def newman_inputs(beta: BetaHydrogenRecord, job: JobRecord, frames: Mapping[str, Sequence[Atoms]],
+                  target_deg: float) -> tuple[Atoms, tuple[int, int, int, int], str] | None:
+    """Return (frame, (H, Cβ, Cα, X) indices, note) of the class's scan frame closest to ``target_deg``, or None."""
+    lg = job.leaving_group
+    quad = (beta.representative_index, beta.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index)
+    candidates = []
+    for scan in beta.scans:
+        for k, atoms in enumerate(frames.get(scan.xyz_file or "", ())):
+            candidates.append((atoms, scan.xyz_file, k))
+    if not candidates:
+        return None
+    best = closest_frame([c[0] for c in candidates], quad, target_deg)
+    atoms, file_name, k = candidates[best]
+    energy = atoms.info.get("relative_energy_kcal_mol")
+    status = atoms.info.get("status", "")
+    where = f"{file_name.rsplit('/', 1)[-1]} frame {k}"
+    if isinstance(energy, (int, float)):
+        where += f", {signed(float(energy), 2)} kcal/mol"
+    if status and status != "ok":
+        where += f" ({status})"
+    return atoms, quad, where
+
+
+def job_figures(job: JobRecord, anti_min_deg: float, syn_max_deg: float, window_kcal_mol: float,
+                frames: Mapping[str, Sequence[Atoms]]) -> dict[str, Figure]:
+    """Return {plot name: figure} for one job: the scans, the product calls and, where frames are given, Newman projections.
+
+    ``frames`` maps a scan's ``xyz_file`` (relative to the output folder) to its frames.
+    """
+    if job.status != "ok" or job.leaving_group is None:
+        return {}
+    figures = {plot_name(job.job_id, "scan"): scan_figure(job, anti_min_deg, syn_max_deg, window_kcal_mol),
+               plot_name(job.job_id, "products"): product_figure(job.products)}
+    for beta in job.beta_hydrogens:
+        for geometry, target in (("anti", 180.0), ("syn", 0.0)):
+            found = newman_inputs(beta, job, frames, target)
+            if found is None:
+                continue
+            atoms, quad, note = found
+            view = newman_view(atoms, *quad)
+            title = f"{beta.class_id}: nearest to {geometry} ({target:g}\u00b0)"
+            figures[plot_name(job.job_id, f"newman-{beta.class_id}-{geometry}")] = newman_figure(
+                view, atoms.get_chemical_symbols(), title, note)
+    return figures
