@@ -169,7 +169,8 @@ def cmd_run(args: argparse.Namespace) -> int:
     import rdkit
 
     from elimscan.engine import EngineSettings, XtbEngine, backend_version
-    from elimscan.pipeline import DETAIL, job_record, run_config, safe_name, substrate_molecule_record
+    from elimscan import artifacts
+    from elimscan.pipeline import DETAIL, job_record, run_config, substrate_molecule_record
     from elimscan.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
     from elimscan.report import summary_table
 
@@ -186,27 +187,28 @@ def cmd_run(args: argparse.Namespace) -> int:
         log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
 
     outcome = run_config(config, engine, progress, geometries)
-    writer = _OutputWriter(out, engine.label)
+    files: dict[str, bytes] = {}
     molecules: list[MoleculeRecord] = []
     for item in {s.name: s for s, _ in outcome.jobs}.values():
         analysis = outcome.substrates[item.name]
         record = substrate_molecule_record(item, analysis)
         if not isinstance(analysis, ErrorInfo):
-            writer.substrate_files(item.name, analysis)
+            files.update(artifacts.substrate_files(item.name, analysis, engine.label))
         molecules.append(record)
     for name, base in outcome.bases.items():
         record = base.relaxed.record
-        if base.relaxed.atoms is not None:
-            rel = f"structures/base-{safe_name(name)}.xyz"
-            writer.xyz(rel, [base.relaxed.atoms], [{"name": name, "energy_hartree": record.energy_hartree}])
-            record = record.model_copy(update={"xyz_file": rel})
+        xyz = artifacts.base_file(name, base.relaxed, engine.label)
+        if xyz is not None:
+            files[xyz[0]] = xyz[1]
+            record = record.model_copy(update={"xyz_file": xyz[0]})
         molecules.append(record)
     for record in molecules:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
     jobs: list[JobRecord] = [job_record(s, b, outcome, config) for s, b in outcome.jobs]
     for job in jobs:
-        writer.path_files(job, outcome.paths.get((job.substrate, job.base), {}))
+        files.update(artifacts.path_files(job, outcome.paths.get((job.substrate, job.base), {}), engine.label))
+    _write_files(out, files)
     n_failed = sum(job.status != "ok" for job in jobs)
     result = RunResult(
         provenance=Provenance(
@@ -298,96 +300,6 @@ def cmd_validate_results(args: argparse.Namespace) -> int:
         return ExitCode.CONFIG
     log.info("%s: valid", args.file)
     return ExitCode.OK
-
-
-class _OutputWriter:
-    """Writes trajectories (extended XYZ) and conformer ensembles (SDF) into the output folder."""
-
-    def __init__(self, out: Path, method_label: str):
-        self.out = out
-        self.method_label = method_label
-
-    def xyz(self, rel: str, frames: list, infos: list[dict]) -> None:
-        """Write frames (ase.Atoms) with their info dicts as one extended XYZ file."""
-        import ase.io
-
-        path = self.out / rel
-        images = []
-        for atoms, info in zip(frames, infos):
-            image = atoms.copy()
-            image.info.update({k: v for k, v in info.items() if v is not None})
-            image.info["method"] = self.method_label
-            images.append(image)
-        try:
-            path.parent.mkdir(parents=True, exist_ok=True)
-            ase.io.write(path, images, format="extxyz")
-        except OSError as err:
-            raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
-
-    def path_files(self, job, paths: dict) -> None:
-        """Write each computed path (extended XYZ) and each saddle with frames along its imaginary mode."""
-        import numpy as np
-
-        from elimscan.units import KCAL_MOL_PER_HARTREE
-
-        zero = job.reference_energy_hartree
-        for record in job.beta_hydrogens:
-            for approach in ("anti", "syn"):
-                block = getattr(record, approach)
-                path = paths.get((record.class_id, approach))
-                if block.path_file is None or path is None or not hasattr(path, "points"):
-                    continue
-                self.xyz(block.path_file, [p.atoms for p in path.points],
-                         [{"coordinate_A": p.coordinate_A, "energy_hartree": p.energy_hartree,
-                           "relative_energy_kcal_mol": (p.energy_hartree - zero) * KCAL_MOL_PER_HARTREE,
-                           "class_id": record.class_id, "approach": approach, **p.distances} for p in path.points])
-                saddle = path.saddle
-                if block.saddle_file is None or saddle.atoms is None:
-                    continue
-                frames, infos = [saddle.atoms], [{"energy_hartree": saddle.energy_hartree, "frame": "saddle",
-                                                  "verified": saddle.verified, "imaginary_cm1": saddle.imaginary_cm1}]
-                if saddle.mode is not None:
-                    for amplitude in np.linspace(-0.3, 0.3, 13):
-                        frame = saddle.atoms.copy()
-                        frame.positions = frame.positions + amplitude * saddle.mode
-                        frames.append(frame)
-                        infos.append({"frame": "mode", "mode_amplitude_A": float(amplitude)})
-                self.xyz(block.saddle_file, frames, infos)
-
-    def substrate_files(self, name: str, analysis) -> None:
-        """Write a substrate's conformer SDF and one XYZ trajectory per scan."""
-        from rdkit import Chem
-        from rdkit.Geometry import Point3D
-
-        from elimscan.pipeline import conformer_file_name, scan_file_name
-        from elimscan.units import KCAL_MOL_PER_HARTREE
-
-        lowest = analysis.ensemble.lowest.energy_hartree
-        path = self.out / conformer_file_name(name)
-        try:
-            path.parent.mkdir(parents=True, exist_ok=True)
-            with Chem.SDWriter(str(path)) as sdf:
-                for conformer in analysis.ensemble.conformers:
-                    mol = Chem.Mol(analysis.substrate.mol)
-                    conf = mol.GetConformer()
-                    for i, (x, y, z) in enumerate(conformer.atoms.positions):
-                        conf.SetAtomPosition(i, Point3D(float(x), float(y), float(z)))
-                    mol.SetProp("_Name", f"{name} conformer {conformer.conformer_id}")
-                    mol.SetDoubleProp("energy_hartree", conformer.energy_hartree)
-                    mol.SetDoubleProp("relative_energy_kcal_mol", (conformer.energy_hartree - lowest) * KCAL_MOL_PER_HARTREE)
-                    mol.SetProp("source", conformer.source)
-                    mol.SetProp("method", self.method_label)
-                    sdf.write(mol)
-        except OSError as err:
-            raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
-        for c in analysis.classes:
-            for k, scan in enumerate(c.scans):
-                points = [p for p in scan.points if p.atoms is not None]
-                self.xyz(scan_file_name(name, c.beta_class.class_id, k), [p.atoms for p in points],
-                         [{"dihedral_deg": p.dihedral_deg, "target_deg": p.target_deg, "energy_hartree": p.energy_hartree,
-                           "relative_energy_kcal_mol": (p.energy_hartree - analysis.global_minimum_hartree) * KCAL_MOL_PER_HARTREE,
-                           "status": p.status, "class_id": c.beta_class.class_id,
-                           "dihedral_atoms": " ".join(map(str, scan.dihedral_atoms))} for p in points])
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -1,0 +1,49 @@
+"""One job (substrate x base, in the config's solvent) from start to records and file contents.
+
+This is the unit of work of a batch: a worker process calls ``run_job`` and returns its ``JobOutcome``;
+only the driver writes files and the store. No file I/O here.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from elimscan import artifacts
+from elimscan.config import BaseConfig, RunConfig, SubstrateConfig
+from elimscan.pipeline import ProgressCallback, job_record, run_config, substrate_molecule_record
+from elimscan.records import JobRecord, MoleculeRecord
+
+
+@dataclass(frozen=True)
+class JobOutcome:
+    """A finished job: its record, the records of its two molecules, and its files {relative path: bytes}."""
+
+    job: JobRecord
+    molecules: tuple[MoleculeRecord, ...]
+    files: dict[str, bytes]
+
+
+def single_job_config(config: RunConfig, substrate: SubstrateConfig, base: BaseConfig) -> RunConfig:
+    """Return the config restricted to one substrate and one base (every setting kept)."""
+    return config.model_copy(update={"substrates": (substrate,), "bases": (base,), "pairs": None})
+
+
+def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, engine,
+            geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
+    """Return the outcome of one job; known failures are inside the record (status failed), not raised."""
+    one = single_job_config(config, substrate, base)
+    outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
+    analysis = outcome.substrates[substrate.name]
+    files: dict[str, bytes] = {}
+    substrate_record = substrate_molecule_record(substrate, analysis)
+    if substrate_record.status == "ok":
+        files.update(artifacts.substrate_files(substrate.name, analysis, engine.label))
+    relaxed = outcome.bases[base.name].relaxed
+    base_record = relaxed.record
+    xyz = artifacts.base_file(base.name, relaxed, engine.label)
+    if xyz is not None:
+        files[xyz[0]] = xyz[1]
+        base_record = base_record.model_copy(update={"xyz_file": xyz[0]})
+    record = job_record(substrate, base, outcome, one)
+    files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), engine.label))
+    return JobOutcome(record, (substrate_record, base_record), files)
