@@ -1,0 +1,73 @@
+"""Thermochemistry against ASE's IdealGasThermo (an independent implementation) and isotope-effect basics."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from ase import units
+from ase.build import molecule
+from ase.thermochemistry import IdealGasThermo
+
+from elimscan.thermo import (bigeleisen_mayer, free_rotor_entropy_J_per_K, harmonic_entropy_J_per_K, thermochemistry,
+                             vibrational_entropy_J_per_K)
+from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
+
+# Water-like and methanol-like frequency sets (cm^-1); only their use as shared inputs matters here.
+CASES = [("H2O", [1595.0, 3657.0, 3756.0], 2), ("CH3OH", [270.0, 1033.0, 1060.0, 1165.0, 1345.0, 1455.0, 1477.0,
+                                                           1477.0, 2844.0, 2960.0, 3000.0, 3681.0], 1)]
+
+
+@pytest.mark.parametrize("name, frequencies, sigma", CASES)
+def test_rrho_free_energy_matches_ase_ideal_gas_thermo(name, frequencies, sigma):
+    # Same frequencies, same geometry, switching off, 1 bar: G must agree to 0.01 kcal/mol (the issue's check).
+    atoms = molecule(name)
+    ours = thermochemistry(atoms, np.array(frequencies), 0.0, 298.15, symmetry_number=sigma,
+                           standard_state="1bar", switching_cm1=None)
+    ase_thermo = IdealGasThermo(vib_energies=np.array(frequencies) * units.invcm, geometry="nonlinear",
+                                potentialenergy=0.0, atoms=atoms, symmetrynumber=sigma, spin=0)
+    theirs_eV = ase_thermo.get_gibbs_energy(298.15, 1e5, verbose=False)
+    assert ours.free_energy_hartree * KCAL_MOL_PER_HARTREE == pytest.approx(
+        theirs_eV / EV_PER_HARTREE * KCAL_MOL_PER_HARTREE, abs=0.01)
+    theirs_h = ase_thermo.get_enthalpy(298.15, verbose=False)
+    assert ours.enthalpy_hartree * KCAL_MOL_PER_HARTREE == pytest.approx(theirs_h / EV_PER_HARTREE * KCAL_MOL_PER_HARTREE, abs=0.01)
+
+
+def test_standard_state_change_is_rt_ln_24_46():
+    # 1 atm -> 1 M lowers the translational entropy by R ln(24.46) at 298.15 K: +1.89 kcal/mol in G
+    # (common practice; RT ln(RT/p° per litre)).
+    atoms = molecule("H2O")
+    g_atm = thermochemistry(atoms, np.array(CASES[0][1]), 0.0, 298.15, standard_state="1atm").free_energy_hartree
+    g_m = thermochemistry(atoms, np.array(CASES[0][1]), 0.0, 298.15, standard_state="1M").free_energy_hartree
+    assert (g_m - g_atm) * KCAL_MOL_PER_HARTREE == pytest.approx(1.89, abs=0.01)
+
+
+def test_quasi_rrho_limits():
+    # High modes: w -> 1, the harmonic entropy; low modes: the free-rotor entropy, which stays finite
+    # where the harmonic one diverges (Grimme, Chem. Eur. J. 2012, 18, 9955).
+    high = np.array([1500.0])
+    assert vibrational_entropy_J_per_K(high, 298.15) == pytest.approx(harmonic_entropy_J_per_K(high, 298.15)[0], rel=1e-6)
+    for nu in (1.0, 5.0):
+        low = np.array([nu])
+        assert vibrational_entropy_J_per_K(low, 298.15) == pytest.approx(free_rotor_entropy_J_per_K(low, 298.15)[0], rel=1e-3)
+        assert vibrational_entropy_J_per_K(low, 298.15) < harmonic_entropy_J_per_K(low, 298.15)[0]
+
+
+def test_thermochemistry_refuses_imaginary_modes():
+    with pytest.raises(ValueError, match="imaginary"):
+        thermochemistry(molecule("H2O"), np.array([-500.0, 1595.0, 3657.0]), 0.0, 298.15)
+
+
+def test_isotope_effect_of_identical_isotopologues_is_one_and_a_lost_stretch_gives_the_textbook_limit():
+    same = np.array([1000.0, 1500.0, 3000.0])
+    kie = bigeleisen_mayer(same, same, same, same, 1000.0, 1000.0, 298.15)
+    assert kie.ratio == pytest.approx(1.0) and kie.ratio_wigner == pytest.approx(1.0)
+    # A C-H stretch (2900 cm^-1, C-D 2100) that becomes the reaction coordinate (so the imaginary frequencies
+    # scale like the stretch, as the Teller-Redlich product rule demands): k_H/k_D = exp(h c dnu / 2kT) ~ 6.9
+    # at 298 K, the classic zero-point-energy limit (Westheimer, Chem. Rev. 1961, 61, 265; common practice).
+    reactant_h, reactant_d = np.array([1500.0, 2900.0]), np.array([1500.0, 2100.0])
+    saddle_h, saddle_d = np.array([1500.0]), np.array([1500.0])
+    kie = bigeleisen_mayer(reactant_h, reactant_d, saddle_h, saddle_d, 1000.0 * 2900 / 2100, 1000.0, 298.15)
+    assert kie.ratio == pytest.approx(np.exp(800.0 * 100 * units._c * units._hplanck / (2 * units._k * 298.15)), rel=1e-6)
+    assert kie.ratio == pytest.approx(6.9, rel=0.02)
+    # Wigner's correction raises k_H/k_D when the light isotopologue's imaginary frequency is higher
+    assert kie.ratio_wigner > kie.ratio
