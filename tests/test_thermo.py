@@ -72,3 +72,46 @@ def test_isotope_effect_of_identical_isotopologues_is_one_and_a_lost_stretch_giv
     assert kie.ratio == pytest.approx(6.9, rel=0.02)
     # Wigner's correction raises k_H/k_D when the light isotopologue's imaginary frequency is higher
     assert kie.ratio_wigner > kie.ratio
+
+
+@pytest.mark.xtb
+@pytest.mark.slow
+def test_primary_isotope_effect_of_2_phenylethyl_bromide_with_ethoxide():
+    # PhCD2CH2Br + EtO- (deuterium on the beta carbon): experimental k_H/k_D about 7.1 (Saunders & Edison,
+    # J. Am. Chem. Soc. 1960, 82, 138; from memory); usual E2 primary isotope effects 2.5-8 (common
+    # practice). GFN2-xTB, ALPB(ethanol), harmonic Bigeleisen-Mayer at 298.15 K must fall in 2.5-8.
+    from elimscan.bases import describe_base
+    from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.freeenergy import isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
+    from elimscan.paths import Reactive, compute_path
+    from elimscan.pipeline import analyze_substrate, relax_molecule
+
+    config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),
+                       substrates=(SubstrateConfig(name="pheb", smiles="BrCCc1ccccc1"),), bases=(BaseConfig(name="ethoxide"),))
+    engine = XtbEngine(EngineSettings.from_method(config.method))
+    analysis = analyze_substrate(config.substrates[0], config, engine)
+    (benzylic,) = analysis.classes  # the two benzylic H are mirror images: one class, degeneracy 2
+    assert benzylic.beta_class.degeneracy == 2
+    base = relax_molecule("ethoxide", "base", "CC[O-]", None, 1, engine, config.optimizer, config.seed)
+    info = describe_base("CC[O-]")
+    lg = analysis.substrate.leaving_group
+    b = benzylic.beta_class
+    n = len(analysis.ensemble.lowest.atoms)
+    reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
+                        n + info.basic_atom_index)
+    path = compute_path(benzylic.anti.atoms, base.atoms, info.basic_atom_index, reactive, "anti", engine, -1, 1,
+                        config.paths, config.optimizer, ())
+    assert path.saddle.verified, path.saddle.reason
+    lowest = analysis.ensemble.lowest
+    substrate = minimum_hessian(lowest.atoms, lowest.energy_hartree, engine, 0, 1, 0.005)
+    both_d = tuple(i for i in range(n) if analysis.substrate.mol.GetAtomWithIdx(i).GetAtomicNum() == 1
+                   and analysis.substrate.mol.GetBondBetweenAtoms(i, b.beta_carbon_index) is not None)
+    assert len(both_d) == 2
+    kie = isotope_effect(substrate, path.saddle.atoms, path.saddle.hessian_eV_A2, both_d, 298.15)
+    assert 2.5 <= kie.ratio <= 8.0, kie
+    assert kie.ratio_wigner > kie.ratio  # tunnelling correction raises k_H/k_D
+    # free energies come out finite and the barrier stays a barrier above the complex-free zero ordering
+    g_sub = molecule_thermo(substrate, 298.15)
+    g_ts = saddle_thermo(path.saddle.atoms, path.saddle.energy_hartree, path.saddle.hessian_eV_A2, 298.15)
+    assert np.isfinite(g_ts.free_energy_hartree - g_sub.free_energy_hartree)

@@ -85,6 +85,8 @@ class SaddleResult:
     other_imaginary_cm1: tuple[float, ...]
     reason: str
     mode: np.ndarray | None = field(default=None, repr=False)
+    #: the verification Hessian (eV/Å^2), kept for free energies and isotope effects
+    hessian_eV_A2: np.ndarray | None = field(default=None, repr=False, compare=False)
 
 
 @dataclass(frozen=True)
@@ -289,7 +291,7 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
         return SaddleResult(atoms, energy, False, method, float(main), others,
                             f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product")
     return SaddleResult(atoms, energy, True, method, float(main), others,
-                        "one imaginary mode; connects the reactant complex with the elimination products", mode)
+                        "one imaginary mode; connects the reactant complex with the elimination products", mode, hessian)
 
 
 def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, other_hydrogens: tuple[int, ...],
