@@ -114,7 +114,8 @@ def _c3_paths(smiles, config, engine, approaches):
     cfg = config.model_copy(update={"paths": config.paths.model_copy(update={"approaches": approaches})})
     paths = compute_job_paths(analysis, base, cfg, engine)
     zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
-    return {key: ((p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, p) for key, p in paths.items()}
+    out = {key: ((p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, p) for key, p in paths.items()}
+    return out, analysis
 
 
 @pytest.mark.xtb
@@ -124,7 +125,7 @@ def test_anti_beats_syn_and_bromide_beats_chloride(methanol_run):
     # 3683 found anti elimination only for 2-bromobutane-3-d): the anti barrier of a C3-H must lie at least
     # 3 kcal/mol below its syn barrier.
     config, engine = methanol_run
-    chloride = _c3_paths("C[C@H](Cl)CC", config, engine, ("anti", "syn"))
+    chloride, cl_analysis = _c3_paths("C[C@H](Cl)CC", config, engine, ("anti", "syn"))
     (anti_key,) = [k for k in chloride if k[1] == "anti"]
     (syn_key,) = [k for k in chloride if k[1] == "syn"]
     assert chloride[syn_key][0] - chloride[anti_key][0] >= 3.0
@@ -134,9 +135,29 @@ def test_anti_beats_syn_and_bromide_beats_chloride(methanol_run):
         else:
             assert path.saddle.reason
     # Leaving-group order I > Br > Cl in E2 rates (standard textbooks): the bromide's anti barrier is lower.
-    bromide = _c3_paths("C[C@H](Br)CC", config, engine, ("anti",))
+    bromide, br_analysis = _c3_paths("C[C@H](Br)CC", config, engine, ("anti",))
     (br_key,) = bromide
     assert bromide[br_key][0] < chloride[anti_key][0]
+    # Variable E2 transition state: the poorer leaving group (Cl) gives a more carbanion-like saddle, C-H
+    # cleavage further ahead of C-X cleavage (Bunnett, Angew. Chem. Int. Ed. 1962, 1, 225, from memory;
+    # March's Advanced Organic Chemistry).
+    from elimscan.character import saddle_character
+
+    def lead(paths, key, analysis):
+        saddle = paths[key][1].saddle
+        assert saddle.verified
+        h, cb, ca, x = key_atoms(analysis, key)
+        pos, ref = saddle.atoms.positions, analysis.ensemble.lowest.atoms.positions
+        d = lambda p, i, j: float(np.linalg.norm(p[i] - p[j]))  # noqa: E731
+        c = saddle_character(d(ref, cb, h), d(pos, cb, h), d(ref, ca, x), d(pos, ca, x))
+        return c.c_h_cleavage - c.c_x_cleavage
+
+    def key_atoms(analysis, key):
+        (cls,) = [c for c in analysis.classes if c.beta_class.class_id == key[0]]
+        lg = analysis.substrate.leaving_group
+        return cls.beta_class.representative_index, cls.beta_class.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index
+
+    assert lead(chloride, anti_key, cl_analysis) > lead(bromide, br_key, br_analysis)
 
 
 @pytest.mark.xtb
