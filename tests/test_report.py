@@ -1,11 +1,13 @@
 """Report files (CSV, plots, HTML) and result validation, on two committed runs (fast tier: no GFN2-xTB).
 
 The fixtures in tests/data/report-fixture/ are real outputs of ``elimscan run`` (results.json and the scan
-trajectories it references) for configs/demo.yaml (``demo``) and configs/ring-demo.yaml (``ring``).
+trajectories it references) for configs/halobutane-bases.yaml (``halobutane``: every saddle verified) and
+configs/ring-demo.yaml (``ring``: two unverified saddles, flagged paths, anti paths not computed).
 Checks against something outside elimscan: ASE's ``Atoms.get_dihedral`` for the Newman projections'
-dihedrals, RDKit's bond graph from the SMILES for the bonds the projection draws, the stdlib csv and
-HTML parsers for the files, jsonschema for validation, and headless Chromium for the page (skipped
-when Chromium, chromedriver or selenium are not installed).
+dihedrals, RDKit's bond graph from the SMILES for the bonds the projection draws, the CODATA gas constant
+(scipy.constants) for the Curtin-Hammett shares, the stdlib csv and HTML parsers for the files, jsonschema
+for validation, and headless Chromium for the page (skipped when Chromium, chromedriver or selenium are
+not installed). Every number the page shows is compared with the raw JSON (read without our models).
 """
 
 from __future__ import annotations
@@ -13,27 +15,32 @@ from __future__ import annotations
 import base64
 import copy
 import csv
+import inspect
 import io
 import json
+import math
 import re
 import shutil
+import typing
 from html.parser import HTMLParser
 from pathlib import Path
 
 import ase.io
 import pytest
+import scipy.constants
 from rdkit import Chem
 
+from elimscan.analysis import compare_verdicts, fraction_ranges
 from elimscan.geometry import wrap_degrees
-from elimscan.htmlreport import BARRIERS_ABSENT, BARRIERS_NOT_SHOWN, CAUTION, render_report
-from elimscan.plots import (closest_frame, figure_svg, job_figures, newman_figure, newman_inputs, newman_view, plot_name,
-                            product_figure, scan_figure)
-from elimscan.records import RESULT_SCHEMA_VERSION, RunResult
+from elimscan.htmlreport import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB, render_report, substrate_svg
+from elimscan.plots import (BARRIER_SHIFT_KCAL_MOL, closest_frame, figure_svg, job_figures, newman_figure, newman_inputs,
+                            newman_view, path_figure, plot_name, product_figure, scan_figure)
+from elimscan.records import RESULT_SCHEMA_VERSION, JobRecord, RunResult
 from elimscan.reportfiles import build_report_files, read_scan_frames, validate_result_file
 from elimscan.tables import SUMMARY_COLUMNS, summary_csv
 
 FIXTURES = Path(__file__).resolve().parent / "data" / "report-fixture"
-RUNS = ("demo", "ring")
+RUNS = ("halobutane", "ring")
 REFRESH = "results.json of the fixture no longer matches records.py: refresh it (tests/data/report-fixture/README.md)"
 
 
@@ -54,7 +61,11 @@ def built() -> dict[str, dict[str, bytes]]:
 
 
 class _Page(HTMLParser):
-    """Collects, per job section, its id, its beta-H rows, images and inline SVGs; and every resource URL."""
+    """Collects, per job section, its id, its beta-H rows, images, inline SVGs, the cells, notes and verdict box
+    (attributes and text); and every resource URL."""
+
+    CAPTURED = ("td", "li", "div", "tr")
+    BLOCKS = ("p", "div", "dt", "dd", "li", "td", "th", "tr", "br", "dl", "ol", "ul")  # a browser breaks the text there
 
     def __init__(self) -> None:
         super().__init__()
@@ -64,6 +75,7 @@ class _Page(HTMLParser):
         self.meta: list[dict] = []
         self.index_links: list[str] = []
         self._in_index = False
+        self._open: list[dict] = []  # captured elements still open, innermost last
 
     def handle_starttag(self, tag, attrs):
         a = dict(attrs)
@@ -77,7 +89,8 @@ class _Page(HTMLParser):
         if tag == "a" and self._in_index:
             self.index_links.append(a.get("href", ""))
         if tag == "section" and "job" in (a.get("class") or "").split():
-            self.sections.append({"id": a.get("id"), "job": a.get("data-job"), "beta_rows": [], "img": [], "svg": 0})
+            self.sections.append({"id": a.get("id"), "job": a.get("data-job"), "beta_rows": [], "img": [], "svg": 0,
+                                  "elements": [], "svg_ids": []})
         elif self.sections:
             here = self.sections[-1]
             if tag == "tr" and "beta-row" in (a.get("class") or "").split():
@@ -86,19 +99,95 @@ class _Page(HTMLParser):
                 here["img"].append(a.get("src", ""))
             if tag == "svg":
                 here["svg"] += 1
+            if a.get("id"):
+                here["svg_ids"].append(a["id"])
+            if tag in self.BLOCKS:
+                self._space()
+            if tag in self.CAPTURED:
+                element = {"tag": tag, "attrs": a, "classes": (a.get("class") or "").split(), "text": [],
+                           "row": self._row()}
+                here["elements"].append(element)
+                self._open.append(element)
+
+    def _row(self) -> dict | None:
+        return next((e for e in reversed(self._open) if e["tag"] == "tr"), None)
+
+    def _space(self) -> None:
+        for element in self._open:
+            element["text"].append(" ")
 
     def handle_endtag(self, tag):
         if tag == "table":
             self._in_index = False
+        if tag in self.BLOCKS:
+            self._space()
+        if tag in self.CAPTURED:
+            for k in range(len(self._open) - 1, -1, -1):
+                if self._open[k]["tag"] == tag:
+                    self._open[k]["text"] = " ".join("".join(self._open[k]["text"]).split())
+                    del self._open[k]
+                    break
 
     def handle_data(self, data):
         self.text.append(data)
+        for element in self._open:
+            element["text"].append(data)
 
 
 def parse(html_text: str) -> _Page:
     page = _Page()
     page.feed(html_text)
     return page
+
+
+def elements(section: dict, tag: str, cls: str) -> list[dict]:
+    """Return the captured elements of a section with this tag and class, in page order."""
+    return [e for e in section["elements"] if e["tag"] == tag and cls in e["classes"]]
+
+
+def words_of(html_text: str) -> str:
+    """Return the page's text with whitespace runs made single spaces."""
+    return " ".join(" ".join(parse(html_text).text).split())
+
+
+def approaches(job: dict):
+    """Yield (class record, 'anti' | 'syn', approach record) of a raw JSON job."""
+    for beta in job["beta_hydrogens"]:
+        for name in ("anti", "syn"):
+            yield beta, name, beta[name]
+
+
+def computed(job: dict) -> list[tuple[dict, str, dict]]:
+    """Return the approaches of a raw JSON job whose path was computed (status ok, with a barrier)."""
+    return [(b, n, a) for b, n, a in approaches(job) if a.get("path_status") == "ok" and a.get("barrier_kcal_mol") is not None]
+
+
+def shown_barrier(value: float) -> str:
+    """Return how the page prints a barrier: 2 decimals, U+2212 for minus (-0.00 prints as 0.00)."""
+    text = f"{value:.2f}"
+    return ("0.00" if text == "-0.00" else text).replace("-", "\u2212")
+
+
+def blank_plots(doc: dict) -> dict[str, str]:
+    """Return placeholder SVGs for every scan, path and product plot of a raw document (pages that need no real plots)."""
+    return {plot_name(j["job_id"], kind): "<svg></svg>" for j in doc["jobs"] for kind in ("scan", "paths", "products")}
+
+
+def strip_barriers(doc: dict) -> dict:
+    """Return a copy of a raw results document as a run without paths writes it (no barriers, no shares)."""
+    doc = copy.deepcopy(doc)
+    for job in doc["jobs"]:
+        for _, _, approach in approaches(job):
+            for key in ("barrier_kcal_mol", "relative_barrier_kcal_mol", "barrier_source", "relaxed_path_estimate_kcal_mol",
+                        "imaginary_frequency_cm1", "saddle_note", "saddle_method", "complex_energy_kcal_mol",
+                        "complex_rotation_spread_kcal_mol", "n_gradients", "path_file", "saddle_file", "error"):
+                approach[key] = None
+            approach.update(path_status="not computed", saddle_verified=False, flags=[], path=[])
+        for product in job["products"]:
+            product["fraction"] = product["fraction_range"] = None
+        job["verdict"] = {"rule_major": job["rule"]["rule_major"], "computed_major": None, "agreement": None,
+                          "within_method_uncertainty": False, "reason": "no barrier could be computed"}
+    return doc
 
 
 # --- CSV ---------------------------------------------------------------------------------------------
@@ -132,10 +221,49 @@ def test_every_csv_row_is_a_product_of_its_job_in_the_json(run):
         penalties = [b["anti_penalty_kcal_mol"] for b in job["beta_hydrogens"]
                      if b["anti"]["product_smiles"] == row["product_smiles"] and b["anti_penalty_kcal_mol"] is not None]
         assert row["anti_penalty_kcal_mol"] == (f"{min(penalties):.2f}" if penalties else "")
+        # the new columns, from the raw JSON: shares, the job's verdict and the lowest path to this alkene
+        assert row["fraction"] == f"{product['fraction']:.4f}"
+        assert (row["fraction_low"], row["fraction_high"]) == tuple(f"{v:.4f}" for v in product["fraction_range"])
+        assert float(row["fraction_low"]) <= float(row["fraction"]) <= float(row["fraction_high"])
+        verdict = job["verdict"]
+        assert row["computed_major"] == ("yes" if row["product_smiles"] == verdict["computed_major"] else "no")
+        assert row["agreement"] == {True: "yes", False: "no", None: ""}[verdict["agreement"]]
+        assert row["within_method_uncertainty"] == ("yes" if verdict["within_method_uncertainty"] else "no")
+        paths = [a for _, _, a in computed(job) if a["product_smiles"] == row["product_smiles"] and a["product_possible"]]
+        best = min(paths, key=lambda a: a["barrier_kcal_mol"]) if paths else None
+        assert row["lowest_barrier_kcal_mol"] == ("" if best is None else f"{best['barrier_kcal_mol']:.3f}")
+        assert row["lowest_relative_barrier_kcal_mol"] == ("" if best is None else f"{best['relative_barrier_kcal_mol']:.3f}")
+    # every job has a computed major alkene in these runs: exactly one 'yes' per job
+    for job_id in jobs:
+        assert [r["computed_major"] for r in rows if r["job_id"] == job_id].count("yes") == 1
+
+
+def test_csv_leaves_the_new_columns_empty_without_barriers():
+    rows = list(csv.DictReader(io.StringIO(summary_csv(RunResult.model_validate(strip_barriers(raw("ring")))))))
+    new = ("lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol", "fraction", "fraction_low", "fraction_high",
+           "computed_major", "agreement", "within_method_uncertainty")
+    assert rows and all(row[c] == "" for row in rows for c in new)
+
+
+@pytest.mark.skipif("solvent" not in JobRecord.model_fields, reason="job records carry no solvent of their own")
+def test_a_job_in_its_own_solvent_is_reported_in_it():
+    # a batch over several solvents records each job's solvent; the CSV and the page name it, not the config's
+    doc = raw("halobutane")
+    doc["jobs"][1]["solvent"] = {"model": "alpb", "name": "water"}
+    res = RunResult.model_validate(doc)
+    rows = list(csv.DictReader(io.StringIO(summary_csv(res))))
+    assert {(r["job_id"], r["solvent"]) for r in rows} == {(doc["jobs"][0]["job_id"], "ethanol"),
+                                                            (doc["jobs"][1]["job_id"], "water")}
+    page = parse(render_report(res, blank_plots(doc)))
+    words = " ".join(" ".join(page.text).split())
+    assert "the jobs ran in several solvents" in words
+    foots = [" ".join(e["text"] for e in s["elements"] if e["tag"] == "div" and "job-foot" in e["classes"])
+             for s in page.sections]
+    assert "ALPB implicit solvent, ethanol" in foots[0] and "ALPB implicit solvent, water" in foots[1]
 
 
 def test_csv_keeps_a_failed_job_as_one_row():
-    doc = raw("demo")
+    doc = raw("halobutane")
     failed = {"job_id": doc["jobs"][1]["job_id"], "substrate": doc["jobs"][1]["substrate"],
               "base": doc["jobs"][1]["base"], "status": "failed",
               "error": {"error_type": "scf_not_converged", "error_message": "SCF did not converge for 'x'"}}
@@ -150,10 +278,10 @@ def test_csv_keeps_a_failed_job_as_one_row():
 
 
 def test_rebuilding_gives_byte_identical_files(built):
-    again = build_report_files(FIXTURES / "demo")
-    assert sorted(again) == sorted(built["demo"])
+    again = build_report_files(FIXTURES / "ring")
+    assert sorted(again) == sorted(built["ring"])
     for name, content in again.items():
-        assert content == built["demo"][name], name
+        assert content == built["ring"][name], name
 
 
 @pytest.mark.parametrize("run", RUNS)
@@ -163,6 +291,8 @@ def test_report_files_are_the_csv_the_html_and_one_png_per_plot(run, built):
     expected = {"summary.csv", "report.html"}
     for job in doc["jobs"]:
         expected |= {f"plots/{job['job_id']}-scan.png", f"plots/{job['job_id']}-products.png"}
+        if computed(job):
+            expected.add(f"plots/{job['job_id']}-paths.png")
         for b in job["beta_hydrogens"]:
             expected |= {f"plots/{job['job_id']}-newman-{b['class_id']}-{g}.png" for g in ("anti", "syn")}
     assert set(files) == expected
@@ -182,7 +312,7 @@ def test_html_has_a_section_per_job_and_a_row_per_beta_class(run, built):
         for src in section["img"]:
             assert src.startswith("data:image/png;base64,")
         n_newman = 2 * len(job["beta_hydrogens"])
-        assert section["svg"] == 1 + 2 + n_newman  # substrate, scan plot, product chart, projections
+        assert section["svg"] == 1 + 3 + n_newman  # substrate, path plot, scan plot, product chart, projections
     if len(doc["jobs"]) > 1:  # the index links to every section
         assert page.index_links == [f"#{s['id']}" for s in page.sections]
 
@@ -197,6 +327,7 @@ def test_html_carries_the_caution_and_the_method_and_loads_nothing(run, built):
     doc = raw(run)
     assert doc["provenance"]["backend_version"] in words and doc["config"]["method"]["solvent"]["name"] in words
     assert "not barriers" in words and "electronic energies" in words and "not free energies" in words
+    assert "not free energies \u0394G\u2021" in words and "typically too low" in words and "negative" in words
     # no resource from the network: every src/href is local (#anchor) or a data: URI
     for url in page.urls:
         assert url.startswith("#") or url.startswith("data:"), url
@@ -207,49 +338,270 @@ def test_html_carries_the_caution_and_the_method_and_loads_nothing(run, built):
 
 
 def test_html_escapes_user_strings():
-    doc = raw("demo")
+    doc = raw("halobutane")
     evil = "<b>bad & \"name\"</b>"
     doc["config"]["name"] = evil
     doc["jobs"][0]["substrate"] = doc["molecules"][0]["name"] = doc["config"]["substrates"][0]["name"] = evil
     doc["jobs"][0]["products"][0]["reason"] = "<script>alert(1)</script>"
-    text = render_report(RunResult.model_validate(doc), {})
+    text = render_report(RunResult.model_validate(doc), blank_plots(doc))
     assert evil not in text and "<script>alert(1)" not in text
     assert "&lt;b&gt;bad &amp; &quot;name&quot;&lt;/b&gt;" in text
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in text
 
 
 def test_html_says_whether_barriers_were_computed():
-    # the fixtures carry barriers; the report does not show them, and says so instead of "not computed"
-    words = " ".join(" ".join(parse(render_report(result("demo"), {})).text).split())
-    assert BARRIERS_NOT_SHOWN in words and BARRIERS_ABSENT not in words
-    doc = raw("demo")
-    for job in doc["jobs"]:
-        for b in job["beta_hydrogens"]:
-            for approach in (b["anti"], b["syn"]):
-                if "barrier_kcal_mol" in approach:
-                    approach["barrier_kcal_mol"] = None
-    words = " ".join(" ".join(parse(render_report(RunResult.model_validate(doc), {})).text).split())
-    assert BARRIERS_ABSENT in words and BARRIERS_NOT_SHOWN not in words
-    assert words.count("no barriers were computed for this job") == len(doc["jobs"])
+    # with barriers: what they mean is explained, with the Boltzmann temperature of the JSON and the ±1 kcal/mol ranges
+    doc = raw("halobutane")
+    words = words_of(render_report(result("halobutane"), blank_plots(doc)))
+    assert BARRIERS_ABSENT not in words and "does not show them" not in words and NO_BARRIERS_JOB not in words
+    assert {j["temperature_K"] for j in doc["jobs"]} == {298.15} and "T = 298.15 K" in words
+    for phrase in ("not free energies \u0394G\u2021", "substrate's global minimum plus the relaxed free base, in the same "
+                   "implicit solvent", "typically too low", "negative relative to the separated reactants",
+                   "Read only relative values", "\u00b11 kcal/mol"):
+        assert phrase in words, phrase
+    # the same run without paths: the rule's calls alone, said once per job in its verdict box and once in its foot
+    stripped = strip_barriers(doc)
+    blanks = {k: v for k, v in blank_plots(stripped).items() if not k.endswith("-paths")}  # a path plot would be drawn
+    page = parse(render_report(RunResult.model_validate(stripped), blanks))
+    words = " ".join(" ".join(page.text).split())
+    assert BARRIERS_ABSENT in words and "T = 298.15 K" not in words
+    assert words.count(NO_BARRIERS_JOB) == 2 * len(stripped["jobs"])
+    for section in page.sections:
+        assert elements(section, "td", "barrier") == [] and elements(section, "td", "share") == []
+        assert [v["attrs"]["data-agreement"] for v in elements(section, "div", "verdict")] == ["no verdict"]
+        assert section["svg"] == 3  # substrate, scans, products: no path plot drawn (and no trajectories given)
 
 
 def test_html_without_trajectories_still_has_scan_plots_and_says_why_projections_are_missing(tmp_path):
-    shutil.copy(FIXTURES / "demo" / "results.json", tmp_path / "results.json")
+    shutil.copy(FIXTURES / "halobutane" / "results.json", tmp_path / "results.json")
     files = build_report_files(tmp_path)
     assert not any("newman" in name for name in files)
     page = parse(files["report.html"].decode("utf-8"))
-    assert all(s["svg"] == 3 for s in page.sections)  # substrate, scans, products
+    assert all(s["svg"] == 4 for s in page.sections)  # substrate, paths, scans, products
     assert "the scan trajectory was not available" in " ".join(page.text)
 
 
 def test_html_shows_a_failed_job():
-    doc = raw("demo")
-    doc["jobs"][1] = {"job_id": "broken__job", "substrate": "s-2-chloropentane", "base": "tert-butoxide",
+    doc = raw("halobutane")
+    doc["jobs"][1] = {"job_id": "broken__job", "substrate": "s-2-bromobutane", "base": "tert-butoxide",
                       "status": "failed", "error": {"error_type": "optimizer_failed", "error_message": "no convergence"}}
     page = parse(render_report(RunResult.model_validate(doc), {}))
     assert [s["job"] for s in page.sections] == [doc["jobs"][0]["job_id"], "broken__job"]
     assert page.sections[1]["beta_rows"] == [] and page.sections[1]["svg"] == 0
     assert "optimizer_failed: no convergence" in " ".join(page.text)
+
+
+# --- barriers, shares and the verdict on the page ----------------------------------------------------
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_verdict_box_states_the_json_verdict(run, built):
+    doc = raw(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    seen = set()
+    for section, job in zip(page.sections, doc["jobs"]):
+        v = job["verdict"]
+        boxes = elements(section, "div", "verdict")
+        assert len(boxes) == 1
+        box = boxes[0]
+        assert section["elements"].index(box) == 0  # the first thing in the section after its heading
+        word = {True: "AGREE", False: "DISAGREE", None: "no verdict"}[v["agreement"]]
+        assert (box["attrs"]["data-rule-major"], box["attrs"]["data-computed-major"]) == (v["rule_major"], v["computed_major"])
+        assert box["attrs"]["data-agreement"] == word and f"verdict-{word.lower()}" in box["classes"]
+        assert box["attrs"]["data-within-uncertainty"] == ("yes" if v["within_method_uncertainty"] else "no")
+        # the words a reader sees say the same: the badge, both SMILES, the computed share, the reason
+        assert box["text"].startswith(word + " ")
+        assert f"rule\u2019s major alkene {v['rule_major']}" in box["text"]
+        share = next(p["fraction"] for p in job["products"] if p["smiles"] == v["computed_major"])
+        assert f"computed major alkene {v['computed_major']} ({100 * share:.1f} %" in box["text"]
+        assert f"Why: {v['reason']}." in box["text"]
+        assert ("within method uncertainty" in box["text"]) == v["within_method_uncertainty"]
+        seen.add((word, v["within_method_uncertainty"]))
+    # the fixtures hold the cases that matter
+    assert {"halobutane": {("DISAGREE", True), ("AGREE", True)},
+            "ring": {("AGREE", False), ("DISAGREE", True)}}[run] == seen
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_barrier_cells_equal_the_json_values(run, built):
+    doc = raw(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    for section, job in zip(page.sections, doc["jobs"]):
+        cells = elements(section, "td", "barrier")
+        expected = []
+        for beta, name, approach in computed(job):
+            expected += [(beta["class_id"], name, "relative", shown_barrier(approach["relative_barrier_kcal_mol"])),
+                         (beta["class_id"], name, "absolute", shown_barrier(approach["barrier_kcal_mol"]))]
+        found = [(c["row"]["attrs"]["data-class"], c["attrs"]["data-approach"], c["attrs"]["data-kind"], c["text"])
+                 for c in cells]
+        assert found == expected
+        # relative barriers: the job's lowest is 0.00, none below it
+        relative = [a["relative_barrier_kcal_mol"] for _, _, a in computed(job)]
+        assert min(relative) == 0.0 and "0.00" in [c["text"] for c in cells if c["attrs"]["data-kind"] == "relative"]
+        # imaginary frequencies of verified saddles, as in the JSON
+        verified = [a for _, _, a in computed(job) if a["saddle_verified"]]
+        cells = elements(section, "td", "saddle-verified")
+        assert len(cells) == len(verified)
+        for cell, a in zip(cells, verified):  # the frequency, then a note number when the path is flagged
+            assert re.fullmatch(re.escape(f"{a['imaginary_frequency_cm1']:.1f}i") + (r"\d+" if a["flags"] else ""), cell["text"])
+        # approaches without a path say so
+        missing = [(b["class_id"], n) for b, n, a in approaches(job) if a["path_status"] == "not computed"]
+        assert [(c["row"]["attrs"]["data-class"], c["attrs"]["data-approach"])
+                for c in elements(section, "td", "saddle") if c["text"] == "not computed"] == missing
+
+
+def test_every_unverified_saddle_is_marked_with_its_note(built):
+    doc = raw("ring")
+    page = parse(built["ring"]["report.html"].decode("utf-8"))
+    total = 0
+    for section, job in zip(page.sections, doc["jobs"]):
+        unverified = [(b, n, a) for b, n, a in computed(job) if not a["saddle_verified"]]
+        marked = elements(section, "td", "saddle-unverified")
+        assert [(c["row"]["attrs"]["data-class"], c["attrs"]["data-approach"]) for c in marked] == [
+            (b["class_id"], n) for b, n, _ in unverified]
+        notes = {e["attrs"]["id"]: e["text"] for e in section["elements"] if e["tag"] == "li" and "-note-" in e["attrs"].get("id", "")}
+        for cell, (beta, name, approach) in zip(marked, unverified):
+            assert cell["attrs"]["title"] == approach["saddle_note"]  # the tooltip
+            assert cell["text"].startswith("unverified")
+            if approach["imaginary_frequency_cm1"] is not None:
+                assert cell["text"].endswith(f"{approach['imaginary_frequency_cm1']:.1f}i")
+            # the footnote the cell points at names the class, the note, the barrier's source and the flags
+            number = re.search(r"unverified(\d+)", cell["text"]).group(1)
+            note = notes[f"{section['id']}-note-{number}"]
+            assert note.startswith(f"{beta['class_id']} {name}: saddle not verified ({approach['saddle_note']})")
+            assert approach["barrier_source"] == "relaxed-path maximum" and "relaxed-path maximum" in note
+            assert all(flag in note for flag in approach["flags"])
+            total += 1
+    assert total == 2  # trans C5-H19 syn and cis C1-H11 syn (tests/data/report-fixture/README.md)
+
+
+def test_flags_and_failed_paths_get_numbered_notes():
+    doc = raw("halobutane")
+    job = doc["jobs"][0]
+    flagged = job["beta_hydrogens"][0]["anti"]  # a verified saddle, given a flag here
+    flagged["flags"] = ["base bonded to C-alpha (SN2-like)"]
+    failed = job["beta_hydrogens"][1]["syn"]  # a path that failed: no barrier, an error instead
+    for key in ("barrier_kcal_mol", "relative_barrier_kcal_mol", "barrier_source", "relaxed_path_estimate_kcal_mol",
+                "imaginary_frequency_cm1", "saddle_note", "path_file", "saddle_file"):
+        failed[key] = None
+    failed.update(path_status="failed", saddle_verified=False, path=[],
+                  error={"error_type": "optimizer_failed", "error_message": "path point 7 did not converge"})
+    page = parse(render_report(RunResult.model_validate(doc), blank_plots(doc)))
+    section = page.sections[0]
+    notes = [e["text"] for e in section["elements"] if e["tag"] == "li" and "-note-" in e["attrs"].get("id", "")]
+    assert notes == [f"{job['beta_hydrogens'][0]['class_id']} anti: flags: base bonded to C-alpha (SN2-like).",
+                     f"{job['beta_hydrogens'][1]['class_id']} syn: the path failed (optimizer_failed: path point 7 did "
+                     "not converge)."]
+    saddles = {(c["row"]["attrs"]["data-class"], c["attrs"]["data-approach"]): c["text"]
+               for c in elements(section, "td", "saddle")}
+    assert saddles[(job["beta_hydrogens"][0]["class_id"], "anti")] == f"{flagged['imaginary_frequency_cm1']:.1f}i1"
+    assert saddles[(job["beta_hydrogens"][1]["class_id"], "syn")] == "failed2"
+    # the failed path has no barrier cells, the others keep theirs
+    assert len(elements(section, "td", "barrier")) == 2 * (len(computed(job)))
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_share_cells_are_the_json_fractions_and_add_up_to_100_percent(run, built):
+    doc = raw(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    for section, job in zip(page.sections, doc["jobs"]):
+        fractions = [p["fraction"] for p in job["products"]]
+        # the Curtin-Hammett shares of one job add up to 1; each is rounded to 4 decimals in the JSON
+        assert sum(fractions) == pytest.approx(1.0, abs=len(fractions) * 0.5e-4)
+        cells = elements(section, "td", "share")
+        assert [c["row"]["attrs"]["data-smiles"] for c in cells] == [p["smiles"] for p in job["products"]]
+        shown = [float(re.match(r"([\d.]+) %", c["text"]).group(1)) for c in cells]
+        assert shown == [round(100 * f, 1) for f in fractions]
+        assert sum(shown) == pytest.approx(100.0, abs=len(shown) * 0.05)
+        ranges = elements(section, "td", "share-range")
+        for cell, product in zip(ranges, job["products"]):
+            low, high = product["fraction_range"]
+            assert cell["text"] == f"{100 * low:.1f}\u2013{100 * high:.1f} %"
+            assert low <= product["fraction"] <= high
+        # the computed major carries the tag, and only it
+        tagged = [c["row"]["attrs"]["data-smiles"] for c in cells if "computed major" in c["text"]]
+        assert tagged == [job["verdict"]["computed_major"]]
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_json_shares_are_a_curtin_hammett_mix_of_the_barriers(run):
+    # independent recomputation: weight = degeneracy x exp(-dE/RT) per path, summed per alkene (Curtin-Hammett:
+    # J. I. Seeman, Chem. Rev. 1983, 83, 83, from memory), R from CODATA via scipy.constants, 1 kcal = 4184 J
+    # (thermochemical calorie). Barriers are rounded to 3 decimals in the JSON, shares to 4: hence the tolerance.
+    rt = scipy.constants.R * raw(run)["config"]["method"]["temperature_K"] / 4184.0
+    for job in raw(run)["jobs"]:
+        paths = [(a["product_smiles"], a["barrier_kcal_mol"], b["degeneracy"]) for b, _, a in computed(job)]
+
+        def shares(shift):
+            weights = {}
+            for smiles, barrier, degeneracy in paths:
+                weights[smiles] = weights.get(smiles, 0.0) + degeneracy * math.exp(-(barrier + shift(smiles)) / rt)
+            return {k: w / sum(weights.values()) for k, w in weights.items()}
+
+        mix = shares(lambda smiles: 0.0)
+        for product in job["products"]:
+            assert product["fraction"] == pytest.approx(mix[product["smiles"]], abs=1e-3), product["smiles"]
+            s = product["smiles"]
+            low = shares(lambda x: BARRIER_SHIFT_KCAL_MOL if x == s else -BARRIER_SHIFT_KCAL_MOL)[s]
+            high = shares(lambda x: -BARRIER_SHIFT_KCAL_MOL if x == s else BARRIER_SHIFT_KCAL_MOL)[s]
+            assert product["fraction_range"] == pytest.approx([low, high], abs=1e-3), s
+
+
+def test_the_report_states_the_shift_that_analysis_uses():
+    # the page prints BARRIER_SHIFT_KCAL_MOL; results.json does not carry it, analysis has it as defaults
+    assert inspect.signature(fraction_ranges).parameters["delta_kcal_mol"].default == BARRIER_SHIFT_KCAL_MOL
+    assert inspect.signature(compare_verdicts).parameters["close_kcal_mol"].default == BARRIER_SHIFT_KCAL_MOL
+
+
+def _notes(svg: str) -> str:
+    """Return the atom notes of an RDKit SVG depiction as one string (RDKit draws them a character at a time)."""
+    return "".join(re.findall(r"<text[^>]*class='note'[^>]*>([^<]*)</text>", svg))
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_depiction_labels_each_class_with_its_lowest_relative_barrier(run):
+    doc, res = raw(run), result(run)
+    smiles = {m["name"]: m["smiles"] for m in doc["molecules"]}
+    for job, record in zip(doc["jobs"], res.jobs):
+        svg = _notes(substrate_svg(smiles[job["substrate"]], record))
+        for beta in job["beta_hydrogens"]:
+            values = [a["relative_barrier_kcal_mol"] for _, _, a in computed({"beta_hydrogens": [beta]})]
+            label = f"{beta['class_id']}: {min(values):.2f}" if values else f"{beta['class_id']}: -"
+            assert label in svg, label
+    # without barriers the label is the anti cost, as before
+    stripped = RunResult.model_validate(strip_barriers(doc))
+    for job, record in zip(doc["jobs"], stripped.jobs):
+        svg = _notes(substrate_svg(smiles[job["substrate"]], record))
+        for beta in job["beta_hydrogens"]:
+            cost = beta["anti_penalty_kcal_mol"]
+            assert f"{beta['class_id']}: {'-' if cost is None else f'{cost:.2f}'}" in svg
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_path_plot_has_a_line_per_path_and_a_mark_per_saddle(run, built):
+    doc, res = raw(run), result(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    for job, record, section in zip(doc["jobs"], res.jobs, page.sections):
+        paths = computed(job)
+        ax = path_figure(record).axes[0]
+        lines = {ln.get_gid(): ln for ln in ax.get_lines() if ln.get_gid()}
+        assert sorted(k for k in lines if k.startswith("path-")) == sorted(f"path-{b['class_id']}-{n}" for b, n, _ in paths)
+        assert sorted(k for k in lines if k.startswith("saddle-")) == sorted(f"saddle-{b['class_id']}-{n}" for b, n, _ in paths)
+        for beta, name, approach in paths:
+            line = lines[f"path-{beta['class_id']}-{name}"]
+            assert list(line.get_xdata()) == [p["coordinate_A"] for p in approach["path"]]
+            assert list(line.get_ydata()) == [p["relative_energy_kcal_mol"] for p in approach["path"]]
+            assert line.get_linestyle() == ("-" if name == "anti" else "--")
+            mark = lines[f"saddle-{beta['class_id']}-{name}"]
+            top = max(approach["path"], key=lambda p: p["relative_energy_kcal_mol"])
+            energy = approach["barrier_kcal_mol"] if approach["barrier_source"] == "verified saddle" \
+                else approach["relaxed_path_estimate_kcal_mol"]
+            assert (mark.get_xdata()[0], mark.get_ydata()[0]) == (top["coordinate_A"], energy)
+            assert (mark.get_markerfacecolor() == "white") == (not approach["saddle_verified"])  # open: unverified
+            assert line.get_color() == mark.get_markeredgecolor()
+        # the page carries this plot: one element per path and per saddle in the section's inline SVG
+        ids = [i for i in section["svg_ids"] if re.search(r"-(path|saddle)-C\d+-H\d+-(anti|syn)$", i)]
+        assert len([i for i in ids if "-path-" in i]) == len(paths) == len([i for i in ids if "-saddle-" in i])
 
 
 # --- plots -------------------------------------------------------------------------------------------
@@ -295,8 +647,8 @@ def test_newman_dihedral_and_bonds_agree_with_ase_and_rdkit(run):
 
 
 def test_closest_frame_picks_the_nearest_dihedral_across_the_wrap():
-    atoms = ase.io.read(FIXTURES / "demo" / "substrates" / "s-2-chloropentane" / "scan-C3-H10-0.xyz", index=":")
-    quad = (10, 3, 1, 2)
+    atoms = ase.io.read(FIXTURES / "halobutane" / "substrates" / "s-2-bromobutane" / "scan-C3-H9-0.xyz", index=":")
+    quad = (9, 3, 1, 2)
     k = closest_frame(atoms, quad, 180.0)
     # the scan holds -177.26° and 167.74°: -177.26 is 2.74° from 180 across the wrap
     assert wrap_degrees(atoms[k].get_dihedral(*quad)) == pytest.approx(-177.26, abs=0.01)
@@ -325,7 +677,7 @@ def test_scan_plot_draws_every_point_of_the_json():
 
 
 def test_product_chart_draws_fractions_only_when_given():
-    products = result("demo").jobs[0].products
+    products = result("halobutane").jobs[0].products
     assert len(product_figure(products).axes) == 1
     fig = product_figure(products, {products[0].smiles: (0.7, 0.6, 0.8)})
     assert len(fig.axes) == 2
@@ -334,7 +686,7 @@ def test_product_chart_draws_fractions_only_when_given():
 
 
 def test_svg_is_byte_identical_on_rebuild_and_undated():
-    job = result("demo").jobs[0]
+    job = result("halobutane").jobs[0]
     one = figure_svg(job_figures(job, 150.0, 30.0, 3.0, {})[plot_name(job.job_id, "scan")])
     two = figure_svg(job_figures(job, 150.0, 30.0, 3.0, {})[plot_name(job.job_id, "scan")])
     assert one == two
@@ -346,12 +698,14 @@ def test_svg_is_byte_identical_on_rebuild_and_undated():
 
 @pytest.mark.parametrize("run", RUNS)
 def test_fixture_results_are_valid(run):
-    assert raw(run)["schema_version"] == RESULT_SCHEMA_VERSION, REFRESH
+    # a fixture may be of an older schema version as long as records.py still reads that version
+    accepted = typing.get_args(RunResult.model_fields["schema_version"].annotation)
+    assert RESULT_SCHEMA_VERSION in accepted and raw(run)["schema_version"] in accepted, REFRESH
     assert validate_result_file(FIXTURES / run / "results.json") == [], REFRESH
 
 
 def test_broken_results_name_the_offending_paths(tmp_path):
-    doc = copy.deepcopy(raw("demo"))
+    doc = copy.deepcopy(raw("halobutane"))
     doc["jobs"][0]["beta_hydrogens"][0]["degeneracy"] = "three"
     doc["jobs"][1]["beta_hydrogens"][2]["anti_penalty_kcal_mol"] = "low"
     doc["jobs"][1]["products"][0]["rule_call"] = "likely"
@@ -371,7 +725,7 @@ def test_validation_reports_unreadable_and_foreign_documents(tmp_path):
     other = tmp_path / "other.json"
     other.write_text(json.dumps({"schema_name": "something.else"}), encoding="utf-8")
     assert "not an elimscan result document" in validate_result_file(other)[0]
-    missing = dict(raw("demo"))
+    missing = dict(raw("halobutane"))
     del missing["summary"]
     gone = tmp_path / "gone.json"
     gone.write_text(json.dumps(missing), encoding="utf-8")
@@ -420,7 +774,16 @@ def test_report_renders_in_headless_chromium(tmp_path, built):
         assert all(done and width > 0 for done, width in images)
         sizes = driver.execute_script("return Array.from(document.querySelectorAll('section.job svg'), "
                                       "s => s.getBoundingClientRect().width);")
-        assert len(sizes) == sum(3 + 2 * len(j["beta_hydrogens"]) for j in doc["jobs"]) and min(sizes) > 50
+        assert len(sizes) == sum(4 + 2 * len(j["beta_hydrogens"]) for j in doc["jobs"]) and min(sizes) > 50
+        # the verdict box is laid out first in each section, with the JSON's word; unverified saddles carry their note
+        boxes = driver.execute_script(
+            "return Array.from(document.querySelectorAll('section.job'), s => { var b = s.querySelector('div.verdict');"
+            " var r = b.getBoundingClientRect(); var t = s.querySelector('table.beta').getBoundingClientRect();"
+            " return [b.dataset.agreement, r.height > 20 && r.top < t.top]; });")
+        assert boxes == [[{True: "AGREE", False: "DISAGREE", None: "no verdict"}[j["verdict"]["agreement"]], True]
+                         for j in doc["jobs"]]
+        titles = driver.execute_script("return Array.from(document.querySelectorAll('td.saddle-unverified'), c => c.title);")
+        assert titles == [a["saddle_note"] for j in doc["jobs"] for _, _, a in computed(j) if not a["saddle_verified"]]
         # nothing fetched but data: URIs
         fetched = driver.execute_script("return performance.getEntriesByType('resource').map(e => e.name);")
         assert all(name.startswith("data:") for name in fetched), fetched

@@ -15,9 +15,10 @@ from collections.abc import Mapping
 from rdkit import Chem
 from rdkit.Chem.Draw import rdMolDraw2D
 
-from elimscan.plots import figure_svg, job_figures, plot_name
-from elimscan.records import JobRecord, RunResult
-from elimscan.tables import product_anti_penalty_kcal_mol
+from elimscan.config import SolventConfig
+from elimscan.plots import BARRIER_SHIFT_KCAL_MOL, figure_svg, job_figures, plot_name, signed
+from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult
+from elimscan.tables import job_solvent, product_anti_penalty_kcal_mol, product_lowest_barrier, product_paths
 
 CAUTION = ("Computed predictions are not safety data. Strong bases (alkoxides, amides, hydrides) and alkyl halides "
            "and sulfonates are hazardous: corrosive, flammable, toxic, many of them alkylating agents. Plan and run "
@@ -30,11 +31,37 @@ MEANING = (
     "of putting that hydrogen where the rule needs it. It is not a barrier.",
     "\u201cnot reached\u201d means the geometry was never reached below the scan's energy cap.",
 )
-#: the last point of "Reading the numbers", without and with computed barriers in results.json
+#: the last point of "Reading the numbers" when no job of the run has computed barriers
 BARRIERS_ABSENT = ("Barriers (base\u2013substrate complexes, E2 paths) and a computed product mix were not computed in "
                    "this run: the product calls below are the geometric rule's, nothing more.")
-BARRIERS_NOT_SHOWN = ("This run also computed barriers and a product mix; they are in results.json but this report does "
-                      "not show them yet: the product calls below are the geometric rule's, nothing more.")
+#: said of a job without computed paths, in its verdict box and its foot
+NO_BARRIERS_JOB = "no barriers were computed for this job"
+DASH = "\u2013"
+
+
+def barrier_meaning(temperatures_K: tuple[float, ...]) -> tuple[str, ...]:
+    """Return the points of "Reading the numbers" that explain barriers and shares (Boltzmann temperatures in K)."""
+    shift = f"{BARRIER_SHIFT_KCAL_MOL:g}"
+    temperature = " and ".join(f"{t:g} K" for t in temperatures_K) or "the run's temperature"
+    return (
+        "Barriers \u0394E\u2021 are GFN2-xTB electronic energy differences in kcal/mol (with the implicit-solvent term), "
+        "not free energies \u0394G\u2021: no zero-point, thermal or entropy terms.",
+        "All barriers of a job share one zero: the substrate's global minimum plus the relaxed free base, in the same "
+        "implicit solvent. \u201cabs.\u201d is a barrier above that zero; \u201crel.\u201d is the same barrier above the "
+        "job's lowest barrier.",
+        "Absolute GFN2-xTB barriers are typically too low, and because the base\u2013substrate complex is bound they can "
+        "even be negative relative to the separated reactants. Read only relative values: a ranking of the beta hydrogens "
+        "of one substrate with one base, not rate constants.",
+        "A saddle is verified when it has exactly one imaginary mode (\u03bd\u2021, in cm\u207b\u00b9) and relaxing both "
+        "ways along that mode reaches the base\u2013substrate complex on one side and the alkene products on the other. "
+        "Otherwise the barrier is the highest point of the relaxed path, an estimate, and is marked unverified.",
+        f"Computed shares (Curtin\u2013Hammett): every path weighs its number of equivalent hydrogens \u00d7 "
+        f"exp(\u2212\u0394E\u2021/RT) at T = {temperature}, summed over the paths that give the same alkene. The range is "
+        f"the share when every barrier may move by \u00b1{shift} kcal/mol in the least and in the most favourable "
+        f"direction. A verdict is \u201cwithin method uncertainty\u201d when the best barriers to different alkenes lie "
+        f"within {shift} kcal/mol of each other: GFN2-xTB cannot tell them apart.",
+    )
+
 
 # RDKit's notes are byte strings drawn a character at a time: α and β go in as stand-ins, swapped afterwards
 _GREEK_STAND_INS = {"^": "\u03b1", "`": "\u03b2"}
@@ -76,14 +103,40 @@ figure { margin: .4rem 0; }
 figure svg { max-width: 100%; height: auto; display: block; }
 .newman { display: flex; flex-wrap: wrap; gap: .4rem; }
 .newman figure { width: 215px; }
-img.product { width: 150px; height: auto; display: block; }
+img.product { width: 120px; height: auto; display: block; }
+.wide { overflow-x: auto; }
+table.beta th.group { text-align: center; border-bottom: 1px solid var(--ink); }
+table.beta { font-size: .82rem; }
+table.beta td.class { white-space: nowrap; }
+table.beta td.smiles { font-size: .78rem; }
+td.saddle-unverified { color: #7b2d8e; font-weight: bold; }
+td.path-failed { color: #a3231b; }
+tr.computed-major td.share { font-weight: bold; }
+.tag { display: inline-block; font-size: .72rem; border: 1px solid currentColor; border-radius: 3px; padding: 0 .3rem;
+       margin-left: .3rem; font-weight: bold; }
+ol.path-notes { font-size: .82rem; color: var(--muted); margin-top: 0; }
+.verdict { border: 2px solid var(--rule); border-radius: 4px; padding: .55rem .9rem; margin: .2rem 0 1rem; }
+.verdict.verdict-agree { border-color: #1e6b3a; background: #eef7f1; }
+.verdict.verdict-disagree { border-color: #a3231b; background: #fbefee; }
+.verdict.verdict-none { border-color: #8c8c8c; background: var(--band); }
+.verdict .badge { font-weight: bold; letter-spacing: .06em; padding: .05rem .5rem; border-radius: 3px; color: #fff; }
+.verdict-agree .badge { background: #1e6b3a; }
+.verdict-disagree .badge { background: #a3231b; }
+.verdict-none .badge { background: #6b6b6b; }
+.verdict .uncertain { font-weight: bold; color: #5b2c6f; border: 2px dashed #7b2d8e; padding: .05rem .5rem; margin-left: .5rem;
+                      border-radius: 3px; }
+.verdict p { margin: .35rem 0; }
+.verdict dl.facts { margin: .4rem 0; }
 .job-foot { margin-top: 1.2rem; padding-top: .5rem; border-top: 1px dashed var(--rule); font-size: .82rem; color: var(--muted); }
 @page { size: A4; margin: 14mm; }
 @media print {
   body { max-width: none; padding: 0; font-size: 10.5pt; }
   a { color: inherit; text-decoration: none; }
   section.job { break-before: page; border-top: none; margin-top: 0; }
-  figure, table, .caution, .job-foot { break-inside: avoid; }
+  figure, table, .caution, .job-foot, .verdict { break-inside: avoid; }
+  .wide { overflow: visible; }
+  table.beta { font-size: 7.5pt; }
+  table.beta th, table.beta td { padding: .15rem .3rem; }
   h2, h3 { break-after: avoid; }
   table.sortable th::after { content: "" !important; }
 }
@@ -133,6 +186,23 @@ def _num_cell(value: float | None) -> str:
     return f'<td class="num" data-key="{key}">{esc(_kcal(value))}</td>'
 
 
+def barrier_text(value: float | None) -> str:
+    """Return a barrier (kcal/mol) as shown in the report: 2 decimals, typographic minus; '\u2013' for none."""
+    return "\u2013" if value is None else signed(value, 2)
+
+
+def percent_text(fraction: float | None) -> str:
+    """Return a share (0-1) as shown in the report, in percent with 1 decimal, e.g. '38.4 %'; '\u2013' for none."""
+    return "\u2013" if fraction is None else f"{100 * fraction:.1f} %"
+
+
+def lowest_relative_barrier_kcal_mol(beta: BetaHydrogenRecord) -> float | None:
+    """Return the lowest relative barrier (kcal/mol) of a class's computed anti and syn paths, or None."""
+    values = [a.relative_barrier_kcal_mol for a in (beta.anti, beta.syn)
+              if a.path_status == "ok" and a.relative_barrier_kcal_mol is not None]
+    return min(values) if values else None
+
+
 def inline_svg(svg: str, prefix: str) -> str:
     """Return SVG text ready to sit inside HTML: no XML prolog or metadata, every id prefixed with ``prefix``."""
     svg = re.sub(r"<\?xml[^>]*\?>", "", svg)
@@ -165,7 +235,10 @@ def _depiction_mol(smiles: str, keep_h: set[int]) -> tuple[Chem.Mol, dict[int, i
 
 
 def substrate_svg(smiles: str, job: JobRecord, width: int = 420, height: int = 300) -> str:
-    """Return an SVG depiction of the substrate: X, Cα and Cβ marked, each class's hydrogen labelled with its anti cost (kcal/mol)."""
+    """Return an SVG depiction of the substrate: X, Cα and Cβ marked, each class's hydrogen labelled in kcal/mol.
+
+    The label is the class's lowest relative barrier when the job has barriers, else its anti cost.
+    """
     reps = {b.representative_index: b for b in job.beta_hydrogens}
     built = _depiction_mol(smiles, set(reps))
     if built is None or job.leaving_group is None:
@@ -177,9 +250,11 @@ def substrate_svg(smiles: str, job: JobRecord, width: int = 420, height: int = 3
         return ""
     colours: dict[int, tuple[float, float, float]] = {}
     notes = {lg.leaving_atom_index: "X", lg.c_alpha_index: "^"}
+    barriers = has_barriers(job)
     for b in job.beta_hydrogens:
         notes.setdefault(b.beta_carbon_index, "`")
-        cost = "-" if b.anti_penalty_kcal_mol is None else f"{b.anti_penalty_kcal_mol:.2f}"  # ASCII only (see above)
+        value = lowest_relative_barrier_kcal_mol(b) if barriers else b.anti_penalty_kcal_mol
+        cost = "-" if value is None else f"{value:.2f}"  # ASCII only (see above)
         notes[b.representative_index] = f"{b.class_id}: {cost}"
         colours[index[b.representative_index]] = _DEPICT_STATUS.get(b.rule_status, (0.85, 0.85, 0.85))
     colours[index[lg.leaving_atom_index]] = _DEPICT_X
@@ -221,67 +296,220 @@ def _anchor(job: JobRecord) -> str:
     return "job-" + re.sub(r"[^A-Za-z0-9_.-]", "_", job.job_id)
 
 
-def method_line(result: RunResult) -> str:
-    """Return the method line: method, solvent model and solvent, backend and version, temperature (K)."""
+def method_line(result: RunResult, solvent: SolventConfig | None = None) -> str:
+    """Return the method line: method, solvent model and solvent, backend and version, temperature (K).
+
+    ``solvent`` is a job's own solvent (batches over several solvents); without it the config's is named.
+    """
     m = result.config.method
     p = result.provenance
-    solvent = "gas phase (no implicit solvent)" if m.solvent.model == "none" else f"{m.solvent.model.upper()} implicit solvent, {m.solvent.name}"
-    return (f"{m.hamiltonian}; {solvent}; backend {p.backend} {p.backend_version}; "
+    s = solvent or m.solvent
+    medium = "gas phase (no implicit solvent)" if s.model == "none" else f"{s.model.upper()} implicit solvent, {s.name}"
+    return (f"{m.hamiltonian}; {medium}; backend {p.backend} {p.backend_version}; "
             f"temperature {m.temperature_K:g} K (for Boltzmann weights, not used by the rule)")
 
 
 def _index_table(result: RunResult) -> str:
-    solvent = result.config.method.solvent
     rows = []
     for n, job in enumerate(result.jobs):
+        solvent = job_solvent(result, job)
         major = job.rule.rule_major if job.rule is not None and job.rule.rule_major else "\u2013"
+        computed = job.verdict.computed_major if job.verdict is not None and job.verdict.computed_major else "\u2013"
+        word = verdict_word(job)
         blocked = sum(b.rule_status != "anti accessible" for b in job.beta_hydrogens)
         rows.append(
             f'<tr><td data-key="{n:04d}"><a href="#{esc(_anchor(job))}">{esc(job.job_id)}</a></td>'
             f"<td>{esc(job.substrate)}</td><td>{esc(job.base)}</td>"
             f"<td>{esc(solvent.name if solvent.model != 'none' else 'gas phase')}</td>"
             f'<td class="status-{esc(job.status)}">{esc(job.status)}</td>'
-            f'<td class="smiles">{esc(major)}</td>'
+            f'<td class="smiles">{esc(major)}</td><td class="smiles">{esc(computed)}</td>'
+            f"<td>{esc(word)}{' (within method uncertainty)' if _uncertain(job) else ''}</td>"
             f'<td class="num">{len(job.beta_hydrogens)}</td><td class="num">{blocked}</td></tr>')
     return ('<h2 id="jobs">Jobs</h2>\n<p class="note">Click a column heading to sort.</p>\n'
             '<table class="sortable" id="job-index"><thead><tr><th>job</th><th>substrate</th><th>base</th>'
-            '<th>solvent</th><th>status</th><th>rule\u2019s major alkene</th><th class="num">H classes</th>'
+            '<th>solvent</th><th>status</th><th>rule\u2019s major alkene</th><th>computed major alkene</th>'
+            '<th>verdict</th><th class="num">H classes</th>'
             '<th class="num">not anti-accessible</th></tr></thead>\n<tbody>\n' + "\n".join(rows) + "\n</tbody></table>")
 
 
+def verdict_word(job: JobRecord) -> str:
+    """Return the verdict as shown: 'AGREE', 'DISAGREE' or 'no verdict' (no computed major, or no rule major)."""
+    v = job.verdict
+    if v is None or v.computed_major is None or v.agreement is None:
+        return "no verdict"
+    return "AGREE" if v.agreement else "DISAGREE"
+
+
+def _uncertain(job: JobRecord) -> bool:
+    return job.verdict is not None and job.verdict.computed_major is not None and job.verdict.within_method_uncertainty
+
+
+def _product_share(job: JobRecord, smiles: str | None) -> str:
+    """Return ' (38.4 %, range 2.1–94.8 %)' for a product of the job, or '' when it has no computed share."""
+    product = next((p for p in job.products if p.smiles == smiles), None)
+    if product is None or product.fraction is None:
+        return ""
+    if product.fraction_range is None:
+        return f" ({percent_text(product.fraction)})"
+    low, high = product.fraction_range
+    return f" ({percent_text(product.fraction)}, range {100 * low:.1f}\u2013{100 * high:.1f} %)"
+
+
+def _verdict_box(job: JobRecord) -> str:
+    v = job.verdict
+    word = verdict_word(job)
+    kind = {"AGREE": "agree", "DISAGREE": "disagree"}.get(word, "none")
+    rule_major = v.rule_major if v is not None else job.rule.rule_major if job.rule is not None else None
+    computed = v.computed_major if v is not None else None
+    uncertain = _uncertain(job)
+    if v is None or not has_barriers(job):
+        words, reason = "The geometric rule\u2019s call stands alone", NO_BARRIERS_JOB
+    elif computed is None:
+        words, reason = "No computed major alkene", v.reason
+    elif v.agreement is None:
+        words, reason = "The rule names no major alkene; the barriers pick one", v.reason
+    elif v.agreement:
+        words, reason = "The geometric rule and the computed barriers pick the same major alkene", v.reason
+    else:
+        words, reason = "The computed barriers favour a different major alkene than the geometric rule", v.reason
+    head = f'<span class="badge">{esc(word)}</span>'
+    if uncertain:
+        head += ' <span class="uncertain">within method uncertainty</span>'
+    facts = (f'<dt>rule\u2019s major alkene</dt><dd class="smiles rule-major">{esc(rule_major or "none")}</dd>'
+             f'<dt>computed major alkene</dt><dd class="computed-major"><span class="smiles">{esc(computed or "none")}</span>'
+             f"{esc(_product_share(job, computed))}</dd>")
+    parts = [f'<div class="verdict verdict-{kind}" data-rule-major="{esc(rule_major or "")}" '
+             f'data-computed-major="{esc(computed or "")}" data-agreement="{esc(word)}" '
+             f'data-within-uncertainty="{"yes" if uncertain else "no"}">',
+             f'<p class="verdict-head">{head} {esc(words)}.</p>',
+             f'<dl class="facts">{facts}</dl>',
+             f'<p class="verdict-reason"><strong>Why:</strong> {esc(reason)}.</p>']
+    if uncertain:
+        parts.append(f'<p class="uncertain-note"><strong>Within method uncertainty:</strong> the best barriers to different '
+                     f"alkenes lie within {BARRIER_SHIFT_KCAL_MOL:g} kcal/mol of each other, inside GFN2-xTB\u2019s error; "
+                     "the computation does not decide between them.</p>")
+    return "".join(parts) + "</div>"
+
+
+def _barrier_cells(approach: ApproachRecord, name: str, note: str) -> str:
+    """Return the rel., abs. and ν‡ cells of one approach; ``note`` is its footnote mark (HTML) or ''."""
+    if approach.path_status == "ok" and approach.barrier_kcal_mol is not None:
+        cells = "".join(
+            f'<td class="num barrier" data-approach="{name}" data-kind="{kind}" '
+            f'data-key="{"" if value is None else f"{value:.3f}"}">{esc(barrier_text(value))}</td>'
+            for kind, value in (("relative", approach.relative_barrier_kcal_mol), ("absolute", approach.barrier_kcal_mol)))
+        frequency = "" if approach.imaginary_frequency_cm1 is None else f"{approach.imaginary_frequency_cm1:.1f}i"
+        if approach.saddle_verified:
+            return cells + f'<td class="num saddle saddle-verified" data-approach="{name}">{esc(frequency)}{note}</td>'
+        title = approach.saddle_note or "not verified"
+        return cells + (f'<td class="num saddle saddle-unverified" data-approach="{name}" title="{esc(title)}">'
+                        f"unverified{note}{' ' + esc(frequency) if frequency else ''}</td>")
+    word = "failed" if approach.path_status == "failed" else "not computed"
+    cls = "path-failed" if approach.path_status == "failed" else "path-none"
+    return (f'<td class="num {cls}" data-approach="{name}">\u2013</td><td class="num {cls}">\u2013</td>'
+            f'<td class="num saddle {cls}" data-approach="{name}">{word}{note}</td>')
+
+
+def _path_note(beta: BetaHydrogenRecord, name: str, approach: ApproachRecord) -> str | None:
+    """Return the footnote text of an approach (unverified saddle, failed path, flags), or None."""
+    if approach.path_status == "failed":
+        error = f"{approach.error.error_type}: {approach.error.error_message}" if approach.error else "no reason recorded"
+        return f"{beta.class_id} {name}: the path failed ({error})."
+    if approach.path_status != "ok":
+        return None
+    parts = []
+    if not approach.saddle_verified:
+        text = (f"saddle not verified ({approach.saddle_note or 'no reason recorded'}); the barrier is the "
+                f"{approach.barrier_source or 'relaxed-path maximum'}")
+        if approach.saddle_method:
+            text += f" (search: {approach.saddle_method})"
+        parts.append(text)
+    if approach.flags:
+        parts.append("flags: " + "; ".join(approach.flags))
+    return f"{beta.class_id} {name}: " + ". ".join(parts) + "." if parts else None
+
+
 def _beta_table(job: JobRecord) -> str:
-    rows = []
+    barriers = has_barriers(job)
+    rows, notes = [], []
     for b in job.beta_hydrogens:
-        where = "\u2013"
+        where = DASH
         if b.anti.dihedral_deg is not None:
             where = f"{b.anti.dihedral_deg:.0f}\u00b0, {b.anti.geometry_source or ''}"
-        rows.append(
-            f'<tr class="beta-row" data-class="{esc(b.class_id)}"><td>{esc(b.class_id)}</td>'
-            f'<td class="num">{b.beta_carbon_index}</td><td>{esc(", ".join(map(str, b.hydrogen_indices)))}</td>'
-            f'<td class="num">{b.degeneracy}</td>{_num_cell(b.anti_penalty_kcal_mol)}{_num_cell(b.syn_penalty_kcal_mol)}'
-            f"<td>{esc(b.rule_status)}</td>"
-            f'<td class="smiles">{esc(b.anti.product_smiles)}{"" if b.anti.product_possible else " (impossible)"}</td>'
-            f'<td class="smiles">{esc(b.syn.product_smiles)}{"" if b.syn.product_possible else " (impossible)"}</td>'
-            f"<td>{esc(where)}</td></tr>")
-    return ('<table class="beta"><thead><tr><th>class</th><th class="num">C\u03b2</th><th>H atoms</th>'
-            '<th class="num">equivalent H</th><th class="num">anti cost<br>kcal/mol</th><th class="num">syn cost<br>kcal/mol</th>'
-            "<th>status under the rule</th><th>anti gives</th><th>syn gives</th><th>best anti geometry</th></tr></thead>\n"
-            "<tbody>\n" + "\n".join(rows) + "\n</tbody></table>")
+        gives = {name: f'<td class="smiles">{esc(a.product_smiles)}{"" if a.product_possible else " (impossible)"}</td>'
+                 for name, a in (("anti", b.anti), ("syn", b.syn))}
+        cells = (f'<tr class="beta-row" data-class="{esc(b.class_id)}"><td class="class">{esc(b.class_id)}</td>'
+                 f'<td data-key="{b.degeneracy}">{esc(", ".join(map(str, b.hydrogen_indices)))}</td>'
+                 f"{_num_cell(b.anti_penalty_kcal_mol)}{_num_cell(b.syn_penalty_kcal_mol)}<td>{esc(b.rule_status)}</td>")
+        for name, approach in (("anti", b.anti), ("syn", b.syn)):
+            if barriers:
+                text = _path_note(b, name, approach)
+                mark = ""
+                if text is not None:
+                    notes.append(text)
+                    mark = f'<sup><a href="#{esc(_anchor(job))}-note-{len(notes)}" class="note-mark">{len(notes)}</a></sup>'
+                cells += _barrier_cells(approach, name, mark)
+            cells += gives[name]
+        rows.append(cells + f"<td>{esc(where)}</td></tr>")
+    unit = "<br>kcal/mol"
+    if barriers:
+        approach_heads = (f'<th class="num">\u0394E\u2021 rel.{unit}</th><th class="num">\u0394E\u2021 abs.{unit}</th>'
+                          '<th class="num">saddle<br>\u03bd\u2021 cm\u207b\u00b9</th><th>gives</th>')
+        head = ('<tr><th rowspan="2">class</th><th rowspan="2">equivalent H atoms</th>'
+                '<th colspan="3" class="group">the rule: periplanar cost</th><th colspan="4" class="group">anti elimination</th>'
+                '<th colspan="4" class="group">syn elimination</th><th rowspan="2">best anti geometry</th></tr>'
+                f'<tr><th class="num">anti{unit}</th><th class="num">syn{unit}</th><th>status</th>'
+                f"{approach_heads}{approach_heads}</tr>")
+    else:
+        head = ('<tr><th>class</th><th>equivalent H atoms</th>'
+                f'<th class="num">anti cost{unit}</th><th class="num">syn cost{unit}</th>'
+                "<th>status under the rule</th><th>anti gives</th><th>syn gives</th><th>best anti geometry</th></tr>")
+    table = ('<div class="wide"><table class="beta"><thead>' + head + "</thead>\n<tbody>\n" + "\n".join(rows)
+             + "\n</tbody></table></div>")
+    if notes:
+        table += ('<ol class="path-notes">' + "".join(
+            f'<li id="{esc(_anchor(job))}-note-{n}">{esc(text)}</li>' for n, text in enumerate(notes, 1)) + "</ol>")
+    return table
 
 
 def _product_table(job: JobRecord) -> str:
+    barriers = has_barriers(job)
+    computed = job.verdict.computed_major if job.verdict is not None else None
     rows = []
     for p in job.products:
         png = product_png(p.smiles)
         picture = (f'<img class="product" alt="{esc(p.smiles)}" src="data:image/png;base64,{base64.b64encode(png).decode("ascii")}">'
                    if png else "")
+        extra = ""
+        if barriers:
+            low, high = p.fraction_range if p.fraction_range is not None else (None, None)
+            span = "\u2013" if low is None else f"{100 * low:.1f}\u2013{100 * high:.1f} %"
+            best = product_lowest_barrier(job, p)
+            via = ""
+            if best is not None:
+                found = next((b.class_id, n) for b, n, a in product_paths(job, p) if a is best)
+                via = f"{found[0]} {found[1]}"
+            tag = '<span class="tag">computed major</span>' if p.smiles == computed else ""
+            extra = (f'<td class="num share" data-key="{"" if p.fraction is None else f"{p.fraction:.4f}"}">'
+                     f"{esc(percent_text(p.fraction))}{tag}</td>"
+                     f'<td class="num share-range" data-low="{"" if low is None else f"{low:.4f}"}" '
+                     f'data-high="{"" if high is None else f"{high:.4f}"}">{esc(span)}</td>'
+                     f'<td class="num lowest-barrier" data-key="{"" if best is None else f"{best.relative_barrier_kcal_mol:.3f}"}">'
+                     f"{esc(barrier_text(None if best is None else best.relative_barrier_kcal_mol))}</td>"
+                     f"<td>{esc(via or 'no computed path')}</td>")
+        row_class = "product-row computed-major" if barriers and p.smiles == computed else "product-row"
         rows.append(
-            f'<tr class="product-row"><td>{picture}</td><td class="smiles">{esc(p.smiles)}</td><td>{esc(p.substitution)}</td>'
-            f'<td class="call-{esc(p.rule_call)}">{esc(p.rule_call)}</td>{_num_cell(product_anti_penalty_kcal_mol(job, p))}'
-            f"<td>{esc(', '.join(p.via_classes))}</td><td>{esc(p.reason)}</td></tr>")
-    return ('<table class="products"><thead><tr><th>structure</th><th>SMILES</th><th>substitution</th>'
-            '<th>rule\u2019s call</th><th class="num">lowest anti cost<br>kcal/mol</th><th>from classes</th><th>why</th></tr></thead>\n'
-            "<tbody>\n" + "\n".join(rows) + "\n</tbody></table>")
+            f'<tr class="{row_class}" data-smiles="{esc(p.smiles)}"><td>{picture}</td><td class="smiles">{esc(p.smiles)}</td>'
+            f'<td>{esc(p.substitution)}</td><td class="call-{esc(p.rule_call)}">{esc(p.rule_call)}</td>{extra}'
+            f"{_num_cell(product_anti_penalty_kcal_mol(job, p))}<td>{esc(', '.join(p.via_classes))}</td><td>{esc(p.reason)}</td></tr>")
+    extra_heads = ""
+    if barriers:
+        extra_heads = ('<th class="num">computed share</th><th class="num">range<br>(barriers '
+                       f'\u00b1{BARRIER_SHIFT_KCAL_MOL:g} kcal/mol)</th><th class="num">lowest \u0394E\u2021 rel.<br>kcal/mol</th>'
+                       "<th>lowest path</th>")
+    return ('<div class="wide"><table class="products"><thead><tr><th>structure</th><th>SMILES</th><th>substitution</th>'
+            f'<th>rule\u2019s call</th>{extra_heads}<th class="num">lowest anti cost<br>kcal/mol</th><th>from classes</th>'
+            "<th>why</th></tr></thead>\n<tbody>\n" + "\n".join(rows) + "\n</tbody></table></div>")
 
 
 def _figure(svg: str | None, prefix: str, caption: str, missing: str) -> str:
@@ -312,10 +540,18 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
             f"<h2>{esc(job.substrate)} with {esc(job.base)}</h2>\n"
             f'<p class="meta">job <code>{esc(job.job_id)}</code> \u00b7 status <span class="status-{esc(job.status)}">'
             f"{esc(job.status)}</span></p>\n")
-    foot = (f'<div class="job-foot"><p><strong>Method:</strong> {esc(method_line(result))}.</p>'
-            "<p><strong>What the numbers are:</strong> GFN2-xTB electronic energies (kcal/mol, relative to this substrate's "
-            "global minimum). Anti and syn costs are conformational costs, not barriers; "
-            f"{'the barriers of this job are in results.json, not shown here' if has_barriers(job) else 'no barriers were computed for this job'}.</p>"
+    if has_barriers(job):
+        barrier_words = ("barriers \u0394E\u2021 are electronic energy differences above this substrate's global minimum "
+                         "plus the free base (abs.) or above the job's lowest barrier (rel.), not free energies; "
+                         "read only the relative values")
+        if job.temperature_K is not None:
+            barrier_words += f"; shares are Boltzmann weights at {job.temperature_K:g} K"
+    else:
+        barrier_words = NO_BARRIERS_JOB
+    foot = (f'<div class="job-foot"><p><strong>Method:</strong> {esc(method_line(result, job_solvent(result, job)))}.</p>'
+            "<p><strong>What the numbers are:</strong> GFN2-xTB electronic energies in kcal/mol. Anti and syn costs are "
+            "conformational costs relative to this substrate's global minimum, not barriers; "
+            f"{esc(barrier_words)}.</p>"
             f'<p class="caution-line"><strong>Caution:</strong> {esc(CAUTION)}</p></div>\n')
     if job.status != "ok" or job.leaving_group is None or job.base_info is None or job.rule is None:
         error = job.error.error_type + ": " + job.error.error_message if job.error else "the record is incomplete"
@@ -334,27 +570,58 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
         ("shift to the less substituted alkene", "yes" if rule.hofmann_shift else "no"),
         ("rule\u2019s energy window", f"{rule.energy_window_kcal_mol:g} kcal/mol"),
     ]
+    barriers = has_barriers(job)
+    if barriers:
+        if job.reference_energy_hartree is not None:
+            facts.append(("zero of the barriers", f"{job.reference_energy_hartree:.6f} hartree (substrate + free base)"))
+        if job.barrier_kind:
+            facts.append(("barriers", esc(job.barrier_kind)))
+        if job.temperature_K is not None:
+            facts.append(("Boltzmann weights at", f"{job.temperature_K:g} K"))
     dl = '<dl class="facts">' + "".join(f"<dt>{k}</dt><dd>{v}</dd>" for k, v in facts) + "</dl>"
     picture = ""
     if depiction:
         picture = (f'<figure class="substrate">{inline_svg(depiction, _anchor(job) + "-substrate")}<figcaption>X: leaving group; '
-                   "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti cost in kcal/mol "
-                   "(\u201c-\u201d: never reached below the cap; blue: anti accessible, orange: syn only, red: blocked).</figcaption></figure>")
+                   + ("\u03b1/\u03b2: the carbons; each class's hydrogen carries its lowest relative barrier \u0394E\u2021 "
+                      "(anti or syn) in kcal/mol (\u201c-\u201d: no computed path; " if barriers else
+                      "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti cost in kcal/mol "
+                      "(\u201c-\u201d: never reached below the cap; ")
+                   + "blue: anti accessible, orange: syn only, red: blocked under the rule).</figcaption></figure>")
     scan_key, product_key = plot_name(job.job_id, "scan"), plot_name(job.job_id, "products")
+    path_key = plot_name(job.job_id, "paths")
+    path_svg = assets.get(path_key) or own.get(path_key)
     body = [
+        _verdict_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
         "<h3>Beta hydrogens</h3>", _beta_table(job),
         '<p class="note">Cost: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '
         f"{result.config.rule.anti_min_deg:g}\u00b0) or syn-periplanar (|\u03c6| \u2264 {result.config.rule.syn_max_deg:g}\u00b0) "
-        "to the leaving group, above the global minimum; atom indices are 0-based as in results.json.</p>",
-        "<h3>Alkenes and the rule\u2019s call</h3>", _product_table(job),
+        "to the leaving group, above the global minimum. Class C3-H10 is the hydrogen H10 on C\u03b2 atom 3 and its "
+        "equivalents; atom indices are 0-based as in results.json."
+        + (" \u0394E\u2021: electronic barrier in kcal/mol, rel. above the job's lowest, abs. above the substrate's global "
+           "minimum + free base; \u03bd\u2021: the saddle's imaginary frequency; the numbered notes explain unverified "
+           "saddles, failed paths and flagged paths." if barriers else "") + "</p>",
+        "<h3>Alkenes: the rule\u2019s call" + (" and the computed shares</h3>" if barriers else "</h3>"),
+        _product_table(job),
+    ]
+    if barriers:
+        body += [
+            "<h3>Relaxed E2 paths</h3>",
+            _figure(path_svg, path_key.replace("/", "-"),
+                    "Energy along each relaxed path (colour: class; solid: anti, dashed: syn) above substrate + free base; "
+                    "diamonds at the path maximum: filled, verified saddle (at its energy); open, unverified "
+                    "(the path maximum).", "No path plot."),
+        ]
+    body += [
         "<h3>Dihedral scans</h3>",
         _figure(assets.get(scan_key) or own.get(scan_key), scan_key.replace("/", "-"),
                 "Relative energy along each H\u2013C\u03b2\u2013C\u03b1\u2013X scan; shaded: the rule's anti and syn windows.",
                 "No scan plot."),
-        "<h3>The rule\u2019s calls</h3>",
+        "<h3>The rule\u2019s calls" + (" beside the computed shares</h3>" if barriers else "</h3>"),
         _figure(assets.get(product_key) or own.get(product_key), product_key.replace("/", "-"),
-                "The geometric rule's call on each alkene.", "No products."),
+                "The geometric rule's call on each alkene" + (
+                    f"; right: the computed share, the bar spanning the share when every barrier moves by "
+                    f"\u00b1{BARRIER_SHIFT_KCAL_MOL:g} kcal/mol." if barriers else "."), "No products."),
         "<h3>Down the C\u03b2\u2013C\u03b1 bond</h3>", _newman_block(job, assets),
         "<h3>How the rule reached its call</h3>",
         "<ol class=\"reasoning\">" + "".join(f"<li>{esc(line)}</li>" for line in rule.reasoning) + "</ol>",
@@ -365,11 +632,31 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
     return head + "\n".join(body) + "\n" + foot + "</section>"
 
 
+def _run_method_line(result: RunResult) -> str:
+    """Return the method line of the whole run; when its jobs ran in several solvents, it says so."""
+    solvents = {job_solvent(result, job) for job in result.jobs}
+    if len(solvents) <= 1:
+        return method_line(result, next(iter(solvents), None))
+    return method_line(result) + "; the jobs ran in several solvents: each job's method line names its own"
+
+
+def _barrier_points(result: RunResult) -> tuple[str, ...]:
+    """Return the barrier points of "Reading the numbers": what they mean, or that none were computed."""
+    jobs = [j for j in result.jobs if has_barriers(j)]
+    if not jobs:
+        return (BARRIERS_ABSENT,)
+    temperatures = tuple(sorted({j.temperature_K for j in jobs if j.temperature_K is not None}))
+    points = barrier_meaning(temperatures or (result.config.method.temperature_K,))
+    if len(jobs) < len(result.jobs):
+        points += ("Some jobs have no computed paths: their product calls are the geometric rule's only.",)
+    return points
+
+
 def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
     """Return the whole report as one self-contained HTML document (UTF-8 text).
 
-    ``assets`` maps plot names (``plots.plot_name``) to SVG text; scan and product plots missing from it are
-    drawn here from results.json alone, Newman projections (which need the scan trajectories) are left out.
+    ``assets`` maps plot names (``plots.plot_name``) to SVG text; scan, path and product plots missing from it
+    are drawn here from results.json alone, Newman projections (which need the scan trajectories) are left out.
     """
     rule = result.config.rule
     p = result.provenance
@@ -383,19 +670,19 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
         f"<header><h1>E2 geometry report: {esc(result.config.name)}</h1>",
         f'<p class="meta">elimscan {esc(p.program_version)} \u00b7 results written {esc(p.created_utc)} \u00b7 '
         f"seed {result.seeds.rdkit_embedding} \u00b7 {result.summary.n_jobs_ok} of {result.summary.n_jobs} jobs ok</p>",
-        f'<p class="meta">Method: {esc(method_line(result))}.</p>',
+        f'<p class="meta">Method: {esc(_run_method_line(result))}.</p>',
         f'<p class="meta">Command: <code>{esc(p.command_line)}</code></p></header>',
         f'<aside class="caution" id="caution"><strong>Caution.</strong> {esc(CAUTION)}</aside>',
         '<h2 id="meaning">Reading the numbers</h2><ul class="meaning">'
-        + "".join(f"<li>{esc(m)}</li>" for m in (*MEANING, BARRIERS_NOT_SHOWN if any(map(has_barriers, result.jobs))
-                                                  else BARRIERS_ABSENT)) + "</ul>",
+        + "".join(f"<li>{esc(m)}</li>" for m in (*MEANING, *_barrier_points(result))) + "</ul>",
     ]
     if len(result.jobs) > 1:
         parts.append(_index_table(result))
     for job in result.jobs:
         own: dict[str, str] = {}
         if job.status == "ok":
-            if not all(k in assets for k in (plot_name(job.job_id, "scan"), plot_name(job.job_id, "products"))):
+            kinds = ("scan", "products", "paths") if has_barriers(job) else ("scan", "products")
+            if not all(plot_name(job.job_id, k) in assets for k in kinds):
                 figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
                 own = {k: figure_svg(f) for k, f in figures.items() if k not in assets}
         parts.append(_job_section(result, job, assets, own))

@@ -1,4 +1,4 @@
-"""Figures of a run: Newman projections, H-C-C-X scan curves and the rule's product calls (no file I/O).
+"""Figures of a run: Newman projections, H-C-C-X scans, relaxed E2 paths and product calls (no file I/O).
 
 Every figure is a ``matplotlib.figure.Figure`` built directly (no pyplot, no global figure state) and
 turned into bytes or text by :func:`figure_png` / :func:`figure_svg`; the caller writes them. SVG output
@@ -21,7 +21,7 @@ from matplotlib.figure import Figure
 from matplotlib.transforms import blended_transform_factory
 
 from elimscan.geometry import dihedral_deg, wrap_degrees
-from elimscan.records import BetaHydrogenRecord, JobRecord, ProductRecord
+from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord
 
 #: two atoms are bonded when closer than this times the sum of their covalent radii (ase.data)
 BOND_FACTOR = 1.25
@@ -39,6 +39,9 @@ MARK_H = "#1b4f72"
 MARK_X = "#1e8449"
 GREY = "#555555"
 MINUS = "\u2212"
+#: kcal/mol every barrier may move behind a product's fraction_range, and the verdict's close-call margin: the
+#: defaults of analysis.fraction_ranges and analysis.compare_verdicts (results.json does not carry them)
+BARRIER_SHIFT_KCAL_MOL = 1.0
 
 
 def signed(value: float, digits: int = 1) -> str:
@@ -275,6 +278,91 @@ def scan_figure(job: JobRecord, anti_min_deg: float, syn_max_deg: float, window_
     return fig
 
 
+# --- relaxed E2 paths ----------------------------------------------------------------------------
+
+APPROACH_STYLES = {"anti": "-", "syn": "--"}
+
+
+def computed_paths(job: JobRecord) -> list[tuple[int, BetaHydrogenRecord, str]]:
+    """Return (class position, class, 'anti' | 'syn') of every approach of the job with a computed path (points)."""
+    found = []
+    for n, beta in enumerate(job.beta_hydrogens):
+        for name in ("anti", "syn"):
+            approach = getattr(beta, name)
+            if approach.path_status == "ok" and approach.path:
+                found.append((n, beta, name))
+    return found
+
+
+def saddle_point(approach: ApproachRecord) -> tuple[float, float]:
+    """Return (driven coordinate in Å, energy in kcal/mol) of a path's saddle mark: the path maximum's coordinate.
+
+    The energy is the verified saddle's barrier, or for an unverified one the relaxed-path estimate (the maximum).
+    """
+    top = max(approach.path, key=lambda p: p.relative_energy_kcal_mol)
+    if approach.barrier_source == "verified saddle" and approach.barrier_kcal_mol is not None:
+        return top.coordinate_A, approach.barrier_kcal_mol
+    if approach.relaxed_path_estimate_kcal_mol is not None:
+        return top.coordinate_A, approach.relaxed_path_estimate_kcal_mol
+    return top.coordinate_A, top.relative_energy_kcal_mol
+
+
+def element_id(kind: str, class_id: str, approach: str) -> str:
+    """Return the gid of a path line or saddle mark, e.g. 'path-C3-H10-anti' (also its SVG id, before prefixing)."""
+    safe = "".join(c if c.isalnum() or c in "-_." else "_" for c in class_id)
+    return f"{kind}-{safe}-{approach}"
+
+
+def path_figure(job: JobRecord) -> Figure:
+    """Return every relaxed E2 path of a job on one axis (kcal/mol vs driven coordinate in Å), saddles marked.
+
+    One line per computed path (colour: the class, as in the scan plot; solid anti, dashed syn); one mark per
+    path at its saddle: filled when the saddle was verified, open when the value is the relaxed-path maximum.
+    """
+    fig = Figure(figsize=(7.2, 4.1))
+    ax = fig.add_axes((0.09, 0.12, 0.60, 0.78))
+    ax.axhline(0.0, color=GREY, lw=0.9, ls=":", zorder=1, label="substrate + free base (zero)")
+    marks: set[bool] = set()
+    labelled: set[str] = set()
+    for n, beta, name in computed_paths(job):
+        approach = getattr(beta, name)
+        colour = CLASS_COLOURS[n % len(CLASS_COLOURS)]
+        label = None if beta.class_id in labelled else beta.class_id
+        labelled.add(beta.class_id)
+        ax.plot([p.coordinate_A for p in approach.path], [p.relative_energy_kcal_mol for p in approach.path],
+                ls=APPROACH_STYLES[name], color=colour, lw=1.4, marker="o", ms=2.4, label=label, zorder=3,
+                gid=element_id("path", beta.class_id, name))
+        x, y = saddle_point(approach)
+        verified = approach.barrier_source == "verified saddle"
+        marks.add(verified)
+        ax.plot([x], [y], ls="none", marker="D", ms=7, mew=1.5, mec=colour, mfc=colour if verified else "white",
+                zorder=5, gid=element_id("saddle", beta.class_id, name))
+    for name, style in APPROACH_STYLES.items():
+        ax.plot([], [], ls=style, color=GREY, lw=1.4, label=f"{name} path")
+    if True in marks:
+        ax.plot([], [], ls="none", marker="D", ms=7, mew=1.5, mec=GREY, mfc=GREY, label="verified saddle")
+    if False in marks:
+        ax.plot([], [], ls="none", marker="D", ms=7, mew=1.5, mec=GREY, mfc="white",
+                label="unverified (path maximum)")
+    ax.set_xlabel("driven coordinate d(C\u03b2\u2013H) \u2212 d(B\u2013H) + d(C\u03b1\u2013X) (\u00c5)")
+    ax.set_ylabel("\u0394E relative to substrate + free base (kcal/mol)")
+    ax.grid(True, color="#e5e5e5", lw=0.6, zorder=0)
+    ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=7.5, frameon=False, borderaxespad=0)
+    fig.text(0.09, 0.975, "GFN2-xTB electronic energy along each relaxed path (not a free energy); "
+             "compare paths, not absolute heights", fontsize=7, color=GREY, va="top")
+    return fig
+
+
+def product_fraction_map(products: Sequence[ProductRecord]) -> dict[str, tuple[float, float, float]]:
+    """Return {product SMILES: (fraction, low, high)} (each 0-1) for the products with a computed share."""
+    found = {}
+    for p in products:
+        if p.fraction is not None:
+            low, high = p.fraction_range if p.fraction_range is not None else (p.fraction, p.fraction)
+            found[p.smiles] = (p.fraction, low, high)
+    return found
+
+
 # --- product calls -------------------------------------------------------------------------------
 
 CALL_LEVELS = ("forbidden", "minor", "major")
@@ -316,10 +404,12 @@ def product_figure(products: Sequence[ProductRecord],
                 continue
             value, low, high = fractions[product.smiles]
             ax2.barh(y, 100 * value, height=0.6, color=CALL_COLOURS[product.rule_call], alpha=0.55)
-            ax2.errorbar(100 * value, y, xerr=[[100 * (value - low)], [100 * (high - value)]], fmt="none",
-                         ecolor="#222222", capsize=3, lw=1)
-        ax2.set_xlim(0, 100)
-        ax2.set_xlabel("computed share (%)", fontsize=8)
+            ax2.errorbar(100 * value, y, xerr=[[100 * max(value - low, 0.0)], [100 * max(high - value, 0.0)]],
+                         fmt="none", ecolor="#222222", capsize=3, lw=1)
+            ax2.text(min(100 * high, 100.0) + 1.5, y, f"{100 * value:.0f} %", va="center", ha="left", fontsize=7)
+        ax2.set_xlim(0, 112)
+        ax2.set_xticks(range(0, 101, 25))
+        ax2.set_xlabel(f"share (%); range: barriers \u00b1{BARRIER_SHIFT_KCAL_MOL:g} kcal/mol", fontsize=8)
         ax2.tick_params(axis="y", labelleft=False)
         ax2.set_title("computed", fontsize=9)
         for side in ("top", "right"):
@@ -361,14 +451,17 @@ def newman_inputs(beta: BetaHydrogenRecord, job: JobRecord, frames: Mapping[str,
 
 def job_figures(job: JobRecord, anti_min_deg: float, syn_max_deg: float, window_kcal_mol: float,
                 frames: Mapping[str, Sequence[Atoms]]) -> dict[str, Figure]:
-    """Return {plot name: figure} for one job: the scans, the product calls and, where frames are given, Newman projections.
+    """Return {plot name: figure} for one job: the scans, the product calls (with computed shares when there are
+    any), the relaxed E2 paths when any was computed and, where frames are given, Newman projections.
 
     ``frames`` maps a scan's ``xyz_file`` (relative to the output folder) to its frames.
     """
     if job.status != "ok" or job.leaving_group is None:
         return {}
     figures = {plot_name(job.job_id, "scan"): scan_figure(job, anti_min_deg, syn_max_deg, window_kcal_mol),
-               plot_name(job.job_id, "products"): product_figure(job.products)}
+               plot_name(job.job_id, "products"): product_figure(job.products, product_fraction_map(job.products))}
+    if computed_paths(job):
+        figures[plot_name(job.job_id, "paths")] = path_figure(job)
     for beta in job.beta_hydrogens:
         for geometry, target in (("anti", 180.0), ("syn", 0.0)):
             found = newman_inputs(beta, job, frames, target)

@@ -2,25 +2,42 @@
 
 Columns of ``summary.csv``, in this order (only columns that hold data in this version):
 
-==============================  =====================================================================
-``job_id``                      the job (substrate x base), as in results.json
-``job_status``                  ``ok`` or ``failed``
-``substrate``                   substrate name from the config
-``substrate_smiles``            substrate SMILES as given
-``base``                        base name from the config
-``base_bulky``                  ``yes`` / ``no``: whether the rule counts the base as bulky (empty for a failed job)
-``leaving_group``               label of the perceived leaving group (e.g. ``Cl``, ``OTs``)
-``solvent_model``               implicit solvent model (``alpb``, ``gbsa`` or ``none``)
-``solvent``                     solvent name (empty for ``none``)
-``product_smiles``              the alkene
-``substitution``                its substitution (``mono``, ``di``, ``tri``, ``tetra``)
-``rule_call``                   the geometric rule's call: ``major``, ``minor`` or ``forbidden``
-``via_classes``                 beta-H classes whose anti or syn elimination gives it, separated by ``;``
-``anti_penalty_kcal_mol``       lowest anti penalty (kcal/mol, GFN2-xTB electronic, 2 decimals) of the classes
-                                whose *anti* elimination gives it; empty when none reaches anti below the cap
-``rule_reason``                 the rule's reason for its call
-``error``                       why the job failed (empty for an ok job)
-==============================  =====================================================================
+====================================  =================================================================================
+``job_id``                            the job (substrate x base), as in results.json
+``job_status``                        ``ok`` or ``failed``
+``substrate``                         substrate name from the config
+``substrate_smiles``                  substrate SMILES as given
+``base``                              base name from the config
+``base_bulky``                        ``yes`` / ``no``: whether the rule counts the base as bulky (empty: failed job)
+``leaving_group``                     label of the perceived leaving group (e.g. ``Cl``, ``OTs``)
+``solvent_model``                     the job's implicit solvent model (``alpb``, ``gbsa`` or ``none``): its own in a
+                                      batch over several solvents, else the config's
+``solvent``                           the job's solvent name (empty for ``none``)
+``product_smiles``                    the alkene
+``substitution``                      its substitution (``mono``, ``di``, ``tri``, ``tetra``)
+``rule_call``                         the geometric rule's call: ``major``, ``minor`` or ``forbidden``
+``via_classes``                       beta-H classes whose anti or syn elimination gives it, separated by ``;``
+``anti_penalty_kcal_mol``             lowest anti penalty (kcal/mol, GFN2-xTB electronic, 2 decimals) of the classes
+                                      whose *anti* elimination gives it; empty when none reaches anti below the cap
+``lowest_barrier_kcal_mol``           lowest barrier dE‡ (kcal/mol, 3 decimals) of the computed anti and syn paths
+                                      that give it: GFN2-xTB electronic energy above the substrate's global minimum
+                                      plus the free base, same solvent (too low in absolute terms, can be negative);
+                                      empty when no path giving it was computed
+``lowest_relative_barrier_kcal_mol``  that path's barrier above the job's lowest barrier (kcal/mol, 3 decimals)
+``fraction``                          computed share (0-1, 4 decimals; Curtin-Hammett: class degeneracy x
+                                      exp(-dE‡/RT) of every computed path at the job's temperature_K, summed per
+                                      alkene); empty when not computed
+``fraction_low``                      lowest share when every barrier may move by +-1 kcal/mol (0-1, 4 decimals)
+``fraction_high``                     highest share under the same moves (0-1, 4 decimals)
+``computed_major``                    ``yes`` for the computed major alkene, ``no`` for the others, empty when the
+                                      job has no computed major alkene
+``agreement``                         the job's verdict, on every row of the job: ``yes`` when the rule's and the
+                                      computed major alkene are the same, ``no`` when not, empty without a verdict
+``within_method_uncertainty``         the job's verdict: ``yes`` when the best barriers to different alkenes lie
+                                      within 1 kcal/mol, ``no`` when not, empty without a computed major alkene
+``rule_reason``                       the rule's reason for its call
+``error``                             why the job failed (empty for an ok job)
+====================================  =================================================================================
 
 Rows follow results.json: jobs in order, and within a job the products in the rule's order (major,
 minor, forbidden). A failed job has one row with empty product columns, so no job is silently missing.
@@ -32,16 +49,24 @@ from __future__ import annotations
 import csv
 import io
 
-from elimscan.records import JobRecord, ProductRecord, RunResult
+from elimscan.config import SolventConfig
+from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord, RunResult
 
 SUMMARY_COLUMNS = ("job_id", "job_status", "substrate", "substrate_smiles", "base", "base_bulky", "leaving_group",
                    "solvent_model", "solvent", "product_smiles", "substitution", "rule_call", "via_classes",
-                   "anti_penalty_kcal_mol", "rule_reason", "error")
+                   "anti_penalty_kcal_mol", "lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol", "fraction",
+                   "fraction_low", "fraction_high", "computed_major", "agreement", "within_method_uncertainty",
+                   "rule_reason", "error")
 
 
 def _kcal(value: float | None) -> str:
     """Return a kcal/mol value with 2 decimals, or '' for none."""
     return "" if value is None else f"{value:.2f}"
+
+
+def _barrier(value: float | None) -> str:
+    """Return a barrier in kcal/mol with 3 decimals (as in results.json), or '' for none."""
+    return "" if value is None else f"{value:.3f}"
 
 
 def product_anti_penalty_kcal_mol(job: JobRecord, product: ProductRecord) -> float | None:
@@ -51,13 +76,45 @@ def product_anti_penalty_kcal_mol(job: JobRecord, product: ProductRecord) -> flo
     return min(values) if values else None
 
 
+def product_paths(job: JobRecord, product: ProductRecord) -> list[tuple[BetaHydrogenRecord, str, ApproachRecord]]:
+    """Return (class, 'anti' | 'syn', approach) of every computed path (with a barrier) that gives ``product``."""
+    found = []
+    for beta in job.beta_hydrogens:
+        for name, approach in (("anti", beta.anti), ("syn", beta.syn)):
+            if (approach.path_status == "ok" and approach.barrier_kcal_mol is not None and approach.product_possible
+                    and approach.product_smiles == product.smiles):
+                found.append((beta, name, approach))
+    return found
+
+
+def product_lowest_barrier(job: JobRecord, product: ProductRecord) -> ApproachRecord | None:
+    """Return the computed path with the lowest barrier (kcal/mol) among those giving ``product``, or None."""
+    paths = product_paths(job, product)
+    return min((a for _, _, a in paths), key=lambda a: a.barrier_kcal_mol) if paths else None
+
+
+def _yes_no(value: bool | None) -> str:
+    """Return 'yes', 'no' or '' for None."""
+    return "" if value is None else ("yes" if value else "no")
+
+
+def _share(value: float | None) -> str:
+    """Return a fraction (0-1) with 4 decimals, or '' for none."""
+    return "" if value is None else f"{value:.4f}"
+
+
+def job_solvent(result: RunResult, job: JobRecord) -> SolventConfig:
+    """Return a job's implicit solvent: its own (a batch over several solvents) or else the config's method.solvent."""
+    return getattr(job, "solvent", None) or result.config.method.solvent
+
+
 def summary_rows(result: RunResult) -> list[dict[str, str]]:
     """Return the rows of summary.csv as {column: text}, one per job and product (one per failed job)."""
     smiles = {m.name: m.smiles for m in result.molecules if m.role == "substrate"}
     smiles.update({s.name: s.smiles for s in result.config.substrates if s.name not in smiles})
-    solvent = result.config.method.solvent
     rows = []
     for job in result.jobs:
+        solvent = job_solvent(result, job)
         head = {
             "job_id": job.job_id, "job_status": job.status, "substrate": job.substrate,
             "substrate_smiles": smiles.get(job.substrate, ""), "base": job.base,
@@ -70,10 +127,23 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
         if job.status != "ok" or not job.products:
             rows.append({**head, **empty, "error": error})
             continue
+        verdict = job.verdict
         for product in job.products:
+            best = product_lowest_barrier(job, product)
+            low, high = product.fraction_range if product.fraction_range is not None else (None, None)
+            computed_major = None
+            if verdict is not None and verdict.computed_major is not None:
+                computed_major = product.smiles == verdict.computed_major
             rows.append({**head, "product_smiles": product.smiles, "substitution": product.substitution,
                          "rule_call": product.rule_call, "via_classes": ";".join(product.via_classes),
                          "anti_penalty_kcal_mol": _kcal(product_anti_penalty_kcal_mol(job, product)),
+                         "lowest_barrier_kcal_mol": _barrier(None if best is None else best.barrier_kcal_mol),
+                         "lowest_relative_barrier_kcal_mol": _barrier(None if best is None else best.relative_barrier_kcal_mol),
+                         "fraction": _share(product.fraction), "fraction_low": _share(low), "fraction_high": _share(high),
+                         "computed_major": _yes_no(computed_major),
+                         "agreement": _yes_no(None if verdict is None else verdict.agreement),
+                         "within_method_uncertainty": "" if verdict is None or verdict.computed_major is None
+                         else _yes_no(verdict.within_method_uncertainty),
                          "rule_reason": product.reason, "error": error})
     return rows
 
