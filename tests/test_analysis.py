@@ -131,3 +131,20 @@ def test_verdicts_side_by_side():
     verdict = compare_verdicts("C/C=C\\C", product_fractions(mixed, 298.15), mixed)
     assert verdict.computed_major == "C=CCC" and verdict.within_method_uncertainty
     assert "dE 4.5 vs 4.8" in verdict.reason
+
+
+def test_hammett_fit_recovers_a_known_line():
+    # Barriers built from rho = +2.1 exactly (the size DePuy & Bishop, J. Am. Chem. Soc. 1960, 82, 2532 report
+    # for ArCH2CH2Br + EtO-, from memory; here only an input): the fit must return it with r^2 = 1.
+    import math
+
+    from elimscan.analysis import hammett_fit
+    from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
+
+    sigmas = [-0.27, 0.0, 0.23, 0.54]  # OMe, H, Cl, CF3 (Hansch, Leo & Taft, Chem. Rev. 1991, 91, 165; from memory)
+    rt_ln10 = BOLTZMANN_KCAL_MOL_PER_K * 298.15 * math.log(10)
+    barriers = [10.0 - 2.1 * s * rt_ln10 for s in sigmas]
+    fit = hammett_fit(sigmas, barriers, 298.15, reference_index=1)
+    assert fit.rho == pytest.approx(2.1) and fit.r_squared == pytest.approx(1.0) and fit.intercept == pytest.approx(0.0, abs=1e-12)
+    with pytest.raises(ValueError, match="at least three"):
+        hammett_fit([0.0, 0.2], [1.0, 2.0], 298.15)

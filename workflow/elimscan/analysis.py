@@ -278,3 +278,32 @@ def compare_verdicts(rule_major: str | None, fractions: dict[str, float], paths:
         reason += f"; within method uncertainty (best path to {runner.product_smiles}: dE {runner.barrier_kcal_mol:.1f} " \
                   f"vs {top.barrier_kcal_mol:.1f} kcal/mol)"
     return ComputedVerdict(rule_major, computed, agreement, close, reason)
+
+
+@dataclass(frozen=True)
+class HammettFit:
+    """Hammett line log10(k_X / k_ref) = rho sigma + c, from barriers (kcal/mol) at one temperature (K)."""
+
+    rho: float
+    intercept: float
+    r_squared: float
+    log_k_ratios: tuple[float, ...]
+
+
+def hammett_fit(sigmas: Sequence[float], barriers_kcal_mol: Sequence[float], temperature_K: float,
+                reference_index: int = 0) -> HammettFit:
+    """Return rho, intercept and r^2 of log10(k_X/k_ref) = -(dE_X - dE_ref) / (RT ln 10) against sigma."""
+    if len(sigmas) != len(barriers_kcal_mol) or len(sigmas) < 3:
+        raise ValueError("a Hammett fit needs at least three substituents with a sigma and a barrier each")
+    rt_ln10 = BOLTZMANN_KCAL_MOL_PER_K * temperature_K * math.log(10.0)
+    reference = barriers_kcal_mol[reference_index]
+    y = [-(b - reference) / rt_ln10 for b in barriers_kcal_mol]
+    x = list(sigmas)
+    n = len(x)
+    mean_x, mean_y = sum(x) / n, sum(y) / n
+    sxx = sum((xi - mean_x) ** 2 for xi in x)
+    sxy = sum((xi - mean_x) * (yi - mean_y) for xi, yi in zip(x, y))
+    syy = sum((yi - mean_y) ** 2 for yi in y)
+    rho = sxy / sxx
+    r2 = (sxy * sxy) / (sxx * syy) if syy > 0 else 1.0
+    return HammettFit(rho, mean_y - rho * mean_x, r2, tuple(y))
