@@ -58,6 +58,7 @@ test-fast: $(VENV)/.installed
 bench: $(VENV)/.installed
 	$(VPY) benchmarks/bench_engine.py
 	$(VPY) benchmarks/bench_paths.py
+	$(VPY) benchmarks/bench_batch.py
 
 schema: $(VENV)/.installed
 	$(VPY) -m elimscan.records results-schema

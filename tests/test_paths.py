@@ -10,7 +10,7 @@ from elimscan.config import (BaseConfig, MethodConfig, OptimizerConfig, PathConf
                              SubstrateConfig)
 from elimscan.geometry import distance
 from elimscan.hessian import finite_difference_hessian, harmonic_analysis
-from elimscan.paths import PathPoint, Reactive, _side, drive_path, ComplexResult, path_flags, place_base
+from elimscan.paths import ComplexResult, PathPoint, Reactive, drive_path, place_base
 from elimscan.relax import relax
 from elimscan.toyengine import SpringTorsionEngine
 from elimscan.units import KCAL_MOL_PER_HARTREE
@@ -76,17 +76,15 @@ def _point(c_beta_h, base_h, c_alpha_x, base_c_alpha, phi=180.0):
 
 def test_sides_and_flags_from_key_distances():
     criteria = PathConfig().saddle
-    reactive = Reactive(0, 1, 2, 3, 4)
 
-    class Fake:
+    class Fake(Reactive):
         def distances(self, positions):
             return positions
 
-    fake = Fake()
-    assert _side({"c_alpha_x_A": 3.4, "base_h_A": 0.98, "c_beta_h_A": 2.0, "base_c_alpha_A": 3.0}, fake, criteria) == "product"
-    assert _side({"c_alpha_x_A": 1.85, "base_h_A": 2.1, "c_beta_h_A": 1.1, "base_c_alpha_A": 3.0}, fake, criteria) == "reactant"
-    assert _side({"c_alpha_x_A": 1.9, "base_h_A": 0.99, "c_beta_h_A": 2.0, "base_c_alpha_A": 3.0}, fake, criteria) == "other"
-    del reactive
+    fake = Fake(0, 1, 2, 3, 4)
+    assert fake.side({"c_alpha_x_A": 3.4, "base_h_A": 0.98, "c_beta_h_A": 2.0, "base_c_alpha_A": 3.0}, criteria) == "product"
+    assert fake.side({"c_alpha_x_A": 1.85, "base_h_A": 2.1, "c_beta_h_A": 1.1, "base_c_alpha_A": 3.0}, criteria) == "reactant"
+    assert fake.side({"c_alpha_x_A": 1.9, "base_h_A": 0.99, "c_beta_h_A": 2.0, "base_c_alpha_A": 3.0}, criteria) == "other"
 
 
 @pytest.fixture(scope="module")

@@ -1,4 +1,4 @@
-"""The ``elimscan`` command: info, validate, run, summary. Orchestrates; computes nothing itself.
+"""The ``elimscan`` command: info, validate, run, batch, status, summary, report. Orchestrates; computes nothing itself.
 
 Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: see errors.ExitCode.
 """
@@ -12,6 +12,8 @@ import logging
 import os
 import platform
 import shlex
+import shutil
+import signal
 import sys
 import time
 from pathlib import Path
@@ -114,9 +116,24 @@ def _read_geometries(config, folder: Path) -> dict[str, tuple[str, str]]:
     return found
 
 
+def _batch_only(config) -> list[str]:
+    """Return the batch-only keys a config uses (substrates_file, solvents)."""
+    return [key for key in ("substrates_file", "solvents") if getattr(config, key) is not None]
+
+
 def cmd_validate(args: argparse.Namespace) -> int:
     """Check a config (and its SMILES) without computing; return the exit code."""
     config = _read_config(args.config)
+    if _batch_only(config):
+        from elimscan.batch import plan_batch
+
+        plan = plan_batch(config, args.config)
+        for job in plan.jobs:
+            if job.input_error is not None:
+                log.warning("job %s will fail: %s", job.job_id, job.input_error.error_message)
+        log.info("%s: valid batch config (%d jobs, %d of them fail on their input)", args.config, len(plan.jobs),
+                 plan.n_input_failures)
+        return ExitCode.OK
     _check_structures(config)
     _read_geometries(config, Path(args.config).parent)
     log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
@@ -126,6 +143,11 @@ def cmd_validate(args: argparse.Namespace) -> int:
 
 def _prepare_output(out: Path, overwrite: bool) -> None:
     """Create the output folder; refuse one holding a finished run unless ``overwrite``."""
+    from elimscan.store import STORE_FILE
+
+    if (out / STORE_FILE).exists():
+        raise OutputError(f"output folder '{out}' holds a batch ({STORE_FILE}); 'elimscan run' needs a folder of its "
+                          f"own (a batch folder is re-entered with: elimscan batch CONFIG --out {out})")
     finished = out / RESULTS_FILE
     if finished.exists() and not overwrite:
         raise OutputError(f"output folder '{out}' already holds a finished run ({RESULTS_FILE}); "
@@ -154,6 +176,9 @@ def _write_atomic(path: Path, text: str) -> None:
 def cmd_run(args: argparse.Namespace) -> int:
     """Run a config into an output folder; return the exit code."""
     config = _read_config(args.config)
+    if _batch_only(config):
+        raise ConfigError(f"{args.config} uses {' and '.join(_batch_only(config))}, which only 'elimscan batch' reads; "
+                          f"run it with: elimscan batch {args.config} --out DIR", key_path=_batch_only(config)[0])
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
     _check_structures(config)  # input errors stop the run before any calculation
@@ -231,6 +256,155 @@ def cmd_run(args: argparse.Namespace) -> int:
     return ExitCode.JOBS_FAILED if n_failed else ExitCode.OK
 
 
+def _duration(seconds: float | None) -> str:
+    """Return a short human duration ('45 s', '12 min', '3.5 h')."""
+    if seconds is None:
+        return "unknown"
+    if seconds < 90:
+        return f"{seconds:.0f} s"
+    if seconds < 5400:
+        return f"{seconds / 60:.0f} min"
+    return f"{seconds / 3600:.1f} h"
+
+
+class _BatchProgress:
+    """Shows batch progress on stderr: a live status line on a terminal, else one plain line per finished job."""
+
+    def __init__(self, stream=None):
+        self.stream = stream or sys.stderr
+        handlers = logging.getLogger("elimscan").handlers
+        quiet = bool(handlers) and handlers[0].level > logging.INFO
+        self.live = hasattr(self.stream, "isatty") and self.stream.isatty() and not quiet
+        self._shown = False
+
+    def _clear(self) -> None:
+        if self._shown:
+            self.stream.write("\r\x1b[K")
+            self.stream.flush()
+            self._shown = False
+
+    def __call__(self, event) -> None:
+        counts = f"{event.n_ok} ok, {event.n_failed} failed, {event.n_left} left of {event.n_jobs}"
+        eta = "" if event.eta_s is None else f", about {_duration(event.eta_s)} left"
+        if event.kind == "plan":
+            log.debug("computing on %s", event.message)
+            return
+        if event.kind == "finish":
+            self._clear()
+            what = "ok" if event.status == "ok" else f"FAILED ({event.message})"
+            log.info("[%s] %s %s in %s%s", counts, event.job_id, what, _duration(event.seconds), eta)
+        elif event.kind == "start":
+            log.debug("%s started on %s", event.job_id, event.message)
+        if self.live and event.kind in ("start", "step", "tick", "finish"):
+            running = "; ".join(f"{job}: {step}" for job, step in event.running) or "-"
+            width = shutil.get_terminal_size((120, 20)).columns
+            line = f"[{counts}{eta}] {running}"
+            self.stream.write("\r\x1b[K" + line[: max(20, width - 1)])
+            self.stream.flush()
+            self._shown = True
+
+    def close(self) -> None:
+        """Remove the live line."""
+        self._clear()
+
+
+def _raise_interrupt(signum, frame) -> None:
+    raise KeyboardInterrupt(f"signal {signum}")
+
+
+def cmd_batch(args: argparse.Namespace) -> int:
+    """Run the unfinished jobs of a batch config into a (re-enterable) output folder; return the exit code."""
+    config = _read_config(args.config)
+    if args.threads is None:  # before anything loads a backend or BLAS
+        configure_threads(config.threads.per_process)
+    from elimscan.batch import (BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, plan_batch, prepare_batch_folder,
+                                run_batch)
+
+    executor = config.executor
+    update = {}
+    if args.scheduler:
+        update.update(kind="dask", address=args.scheduler)
+    if args.workers is not None:
+        update["workers"] = args.workers
+    if args.time_limit is not None:
+        update["time_limit_seconds"] = args.time_limit
+    if update:
+        from pydantic import ValidationError
+
+        from elimscan.config import ExecutorConfig
+
+        try:
+            executor = ExecutorConfig.model_validate({**executor.model_dump(), **update})
+        except ValidationError as err:
+            raise ConfigError(f"command-line options: {err.errors()[0]['msg'].removeprefix('Value error, ')}",
+                              key_path="executor") from err
+        config = config.model_copy(update={"executor": executor})
+    plan = plan_batch(config, args.config)  # input errors in the YAML stop here, before any calculation
+    out = Path(args.out)
+    prepare_batch_folder(out)
+    kill_after = os.environ.get("ELIMSCAN_TEST_KILL_AFTER_COMMITS")  # test hook, see DEVELOPERS.md
+    options = BatchOptions(retry_failed=args.retry_failed, command_line=shlex.join(sys.argv),
+                           kill_after_commits=int(kill_after) if kill_after else None)
+    threads = args.threads or config.threads.per_process
+    previous = signal.signal(signal.SIGTERM, _raise_interrupt)  # a scheduler's SIGTERM stops cleanly, like Ctrl-C
+    progress = _BatchProgress()
+    try:
+        with FolderLock(out):
+            _setup_logging(args.verbosity, out / BATCH_LOG)
+            log.debug("command: %s", shlex.join(sys.argv))
+            log.debug("versions: %s", json.dumps(_versions()))
+            started = time.perf_counter()
+            try:
+                outcome = run_batch(plan, out, executor, threads, options, progress)
+            except KeyboardInterrupt:
+                progress.close()
+                log.error("interrupted: every finished job is kept in %s; run the same command again to resume",
+                          out / "batch.sqlite")
+                raise
+            progress.close()
+            if outcome.n_computed == 0:
+                log.info("nothing to compute: all %d job(s) of this config are finished in %s", outcome.n_jobs, out)
+            if outcome.complete:
+                from elimscan.reportfiles import build_report_files
+
+                _write_files(out, build_report_files(out))
+            for job_id, error in outcome.failures:
+                log.warning("failed: %s: %s: %s", job_id, error.error_type, error.error_message)
+            log.info("batch %s: %d ok, %d failed of %d job(s) (%d computed now, %d reused) in %.1f s; wrote %s",
+                     config.name, outcome.n_ok, outcome.n_failed, outcome.n_jobs, outcome.n_computed,
+                     outcome.n_reused, time.perf_counter() - started, out / RESULTS_FILE)
+    finally:
+        signal.signal(signal.SIGTERM, previous)
+    return ExitCode.JOBS_FAILED if outcome.n_failed else ExitCode.OK
+
+
+def cmd_status(args: argparse.Namespace) -> int:
+    """Print the state of a batch folder from its store (read-only, also while the batch runs); return the exit code."""
+    from elimscan.batch import read_status
+
+    status = read_status(Path(args.out))
+    if status.config_name is None:
+        print(f"{status.out}: a batch store without runs")
+        return ExitCode.OK
+    if status.holder:
+        state = f"running ({status.holder})"
+    else:
+        state = {"finished": "finished", "interrupted": "interrupted (Ctrl-C or SIGTERM); run the batch again to resume",
+                 "stopped": "stopped without finishing (killed?); run the batch again to resume"}.get(
+            status.run_state, "stopped without finishing (killed?); run the batch again to resume")
+    print(f"batch '{status.config_name}' in {status.out}: {state}")
+    print(f"  last started {status.run_started_utc} on {status.executor}")
+    print(f"  jobs: {status.n_ok} ok, {status.n_failed} failed, {status.n_left} not finished, of {status.n_jobs}")
+    if status.mean_job_seconds is not None:
+        eta = f"; about {_duration(status.eta_s)} left" if status.eta_s is not None else ""
+        print(f"  mean time per computed job: {_duration(status.mean_job_seconds)}{eta}")
+    for job_id, worker, since, step in status.running:
+        print(f"  running: {job_id} on {worker or '?'} since {since}: {step or 'starting'}")
+    for job_id, error_type, message in status.failures:
+        print(f"  failed: {job_id}: {error_type}: {message}")
+    return ExitCode.OK
+
+
 def cmd_summary(args: argparse.Namespace) -> int:
     """Print the summary table of a finished output folder; return the exit code."""
     from pydantic import ValidationError
@@ -280,6 +454,9 @@ def cmd_report(args: argparse.Namespace) -> int:
     from elimscan.reportfiles import build_report_files
 
     out = Path(args.out)
+    if not (out / RESULTS_FILE).exists() and (out / "batch.sqlite").exists():
+        raise OutputError(f"the batch in '{out}' has not finished yet (no {RESULTS_FILE}); finish it with "
+                          f"'elimscan batch CONFIG --out {out}', follow it with 'elimscan status {out}'")
     _checked_result_file(out / RESULTS_FILE)
     files = build_report_files(out)
     _write_files(out, files)
@@ -321,6 +498,22 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--out", required=True, help="output folder (refused if it holds a finished run)")
     p.add_argument("--overwrite", action="store_true", help="replace a finished run in --out")
     p.set_defaults(func=cmd_run)
+    p = sub.add_parser("batch", parents=[common], help="run many jobs, resumable: computes only the jobs not yet "
+                                                          "finished in --out")
+    p.add_argument("config")
+    p.add_argument("--out", required=True, help="batch output folder (created, or re-entered to resume)")
+    p.add_argument("--workers", type=int, default=None,
+                   help="local worker processes, one job each (default: executor.workers, else the core count)")
+    p.add_argument("--time-limit", type=float, default=None, metavar="SECONDS",
+                   help="stop a job running longer than this and record it as failed "
+                        "(default: executor.time_limit_seconds, 14400)")
+    p.add_argument("--scheduler", default=None, metavar="ADDRESS",
+                   help="send the jobs to this existing Dask scheduler (e.g. tcp://host:8786) instead of local workers")
+    p.add_argument("--retry-failed", action="store_true", help="compute the jobs that failed before again")
+    p.set_defaults(func=cmd_batch)
+    p = sub.add_parser("status", parents=[common], help="summarise a running or finished batch folder (read-only)")
+    p.add_argument("out", help="batch output folder")
+    p.set_defaults(func=cmd_status)
     p = sub.add_parser("summary", parents=[common], help="print the summary table of a finished output folder")
     p.add_argument("out")
     p.set_defaults(func=cmd_summary)

@@ -6,10 +6,11 @@ Errors name the key path (``substrates.0.smiles``) and, where the YAML has one, 
 from __future__ import annotations
 
 import difflib
-from typing import Any, Literal
+import os
+from typing import Annotated, Any, Literal
 
 import yaml
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, ValidationInfo, field_validator, model_validator
 
 from elimscan.errors import ConfigError, SolventError
 from elimscan.solvents import check_solvent
@@ -124,6 +125,8 @@ class SaddleConfig(_Frozen):
 
     #: refine a first-order saddle with Sella from the relaxed-path maximum
     refine: bool = True
+    #: start Sella from a finite-difference Hessian (6N+1 gradients) instead of its model Hessian
+    exact_initial_hessian: bool = True
     max_steps: int = Field(300, ge=1)
     fmax_eV_per_A: float = Field(0.01, gt=0)
     #: finite-difference step of the verification Hessian (Å)
@@ -140,6 +143,9 @@ class SaddleConfig(_Frozen):
     #: reactant side: base...H at least this (Å) and C-alpha-X at most reactant_c_x_max_A (Å)
     reactant_base_h_min_A: float = Field(1.3, gt=0)
     reactant_c_x_max_A: float = Field(2.4, gt=0)
+    #: substitution: product side has Nu-C-alpha at most this (Å); reactant side at least the next (Å)
+    substitution_bond_max_A: float = Field(1.7, gt=0)
+    substitution_reactant_min_A: float = Field(2.5, gt=0)
 
 
 class PathConfig(_Frozen):
@@ -157,6 +163,10 @@ class PathConfig(_Frozen):
     points: int = Field(20, ge=2)
     #: syn paths hold H-C-C-X at this dihedral (degrees)
     syn_dihedral_deg: float = Field(0.0, ge=-30, le=30)
+    #: also compute backside substitution (SN2) at C-alpha for every job
+    substitution: bool = True
+    #: nucleophile placed behind C-alpha at this distance for the substitution complex (Å)
+    substitution_distance_A: float = Field(3.0, gt=1.5)
     saddle: SaddleConfig = SaddleConfig()
 
 
@@ -243,6 +253,42 @@ class AnalysisConfig(_Frozen):
     energy: Literal["electronic", "free"] = "electronic"
 
 
+#: Per-job wall-time limit of a batch (s): a job still running after this is stopped and recorded as
+#: failed (error_type time_limit). Four hours: a large substrate with every path takes well under one.
+DEFAULT_JOB_TIME_LIMIT_SECONDS = 14400.0
+
+#: File suffixes a ``substrates_file`` may have: CSV with a header, or a SMILES file (SMILES, then name).
+SUBSTRATE_FILE_SUFFIXES = (".csv", ".smi", ".smiles")
+
+
+def default_workers() -> int:
+    """Return the default number of local worker processes: the cores this process may run on."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not Linux
+        return max(1, os.cpu_count() or 1)
+
+
+class ExecutorConfig(_Frozen):
+    """Where the jobs of a batch run: local worker processes (default) or an existing Dask cluster."""
+
+    kind: Literal["local", "dask"] = "local"
+    #: Dask scheduler address (kind: dask), e.g. tcp://10.0.0.5:8786
+    address: str | None = None
+    #: local worker processes, one job and one xTB thread each; None = default_workers() (the core count)
+    workers: int | None = Field(None, ge=1)
+    #: a job running longer than this is stopped (its process killed) and recorded as failed (s)
+    time_limit_seconds: float = Field(DEFAULT_JOB_TIME_LIMIT_SECONDS, gt=0)
+
+    @model_validator(mode="after")
+    def _address_for_dask(self) -> "ExecutorConfig":
+        if self.kind == "dask" and not self.address:
+            raise ValueError("executor kind 'dask' needs an address (the scheduler, e.g. tcp://host:8786)")
+        if self.kind == "local" and self.address:
+            raise ValueError("executor.address is the Dask scheduler: set kind: dask, or drop the address")
+        return self
+
+
 class RunConfig(_Frozen):
     """A whole elimscan run: method, molecules and the jobs to compute."""
 
@@ -255,12 +301,18 @@ class RunConfig(_Frozen):
     scan: ScanConfig = ScanConfig()
     rule: RuleConfig = RuleConfig()
     paths: PathConfig = PathConfig()
-    substrates: tuple[SubstrateConfig, ...] = Field(min_length=1)
+    #: substrates listed in the YAML; a batch may take more (or all) from ``substrates_file``
+    substrates: Annotated[tuple[SubstrateConfig, ...], Field(min_length=1)] = ()
+    #: batches: a CSV (columns name, smiles, optional charge, multiplicity) or SMILES file of more substrates,
+    #: path relative to the config file; a bad row fails only its jobs
+    substrates_file: str | None = None
     bases: tuple[BaseConfig, ...] = Field(min_length=1)
     pairs: tuple[PairConfig, ...] | None = None
-    #: reserved: one job per listed solvent
-    solvents: tuple[SolventConfig, ...] | None = None
+    #: batches: every job once per listed solvent (each like method.solvent, which it replaces)
+    solvents: Annotated[tuple[SolventConfig, ...], Field(min_length=1)] | None = None
     analysis: AnalysisConfig = AnalysisConfig()
+    #: batches: where the jobs run (local processes or Dask) and the per-job time limit
+    executor: ExecutorConfig = ExecutorConfig()
 
     @field_validator("substrates", "bases")
     @classmethod
@@ -272,12 +324,43 @@ class RunConfig(_Frozen):
             seen[item.name] = index
         return items
 
+    @field_validator("substrates_file")
+    @classmethod
+    def _substrates_file_suffix(cls, value: str | None) -> str | None:
+        if value is not None and not value.lower().endswith(SUBSTRATE_FILE_SUFFIXES):
+            raise ValueError(f"substrates file '{value}' must end in {', '.join(SUBSTRATE_FILE_SUFFIXES)}")
+        return value
+
+    @model_validator(mode="after")
+    def _some_substrates(self) -> "RunConfig":
+        if not self.substrates and self.substrates_file is None:
+            raise ValueError("no substrates: give 'substrates:' (a list) or 'substrates_file:' (a CSV or SMILES file)")
+        return self
+
+    @field_validator("solvents")
+    @classmethod
+    def _solvents_supported(cls, solvents: tuple[SolventConfig, ...] | None,
+                            info: ValidationInfo) -> tuple[SolventConfig, ...] | None:
+        method = info.data.get("method")
+        if solvents is None or method is None:
+            return solvents
+        seen: dict[tuple[str, str | None], int] = {}
+        for index, solvent in enumerate(solvents):
+            try:
+                name = check_solvent(method.backend, method.hamiltonian, solvent.model, solvent.name)
+            except SolventError as err:
+                raise ValueError(f"entry {index}: {err}") from err
+            if (solvent.model, name) in seen:
+                raise ValueError(f"entry {index} repeats entry {seen[(solvent.model, name)]} ({solvent.model} {name})")
+            seen[(solvent.model, name)] = index
+        return solvents
+
     @model_validator(mode="after")
     def _pairs_known(self) -> "RunConfig":
         substrates = {s.name for s in self.substrates}
         bases = {b.name for b in self.bases}
         for pair in self.pairs or ():
-            if pair.substrate not in substrates:
+            if pair.substrate not in substrates and self.substrates_file is None:  # file rows: checked by the batch
                 raise ValueError(f"pair names unknown substrate '{pair.substrate}' (known: {', '.join(sorted(substrates))})")
             if pair.base not in bases:
                 raise ValueError(f"pair names unknown base '{pair.base}' (known: {', '.join(sorted(bases))})")

@@ -9,7 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from elimscan import artifacts
-from elimscan.config import BaseConfig, RunConfig, SubstrateConfig
+from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 from elimscan.pipeline import ProgressCallback, job_record, run_config, substrate_molecule_record
 from elimscan.records import JobRecord, MoleculeRecord
 
@@ -23,14 +23,24 @@ class JobOutcome:
     files: dict[str, bytes]
 
 
-def single_job_config(config: RunConfig, substrate: SubstrateConfig, base: BaseConfig) -> RunConfig:
-    """Return the config restricted to one substrate and one base (every setting kept)."""
-    return config.model_copy(update={"substrates": (substrate,), "bases": (base,), "pairs": None})
+def single_job_config(config: RunConfig, substrate: SubstrateConfig, base: BaseConfig,
+                      solvent: SolventConfig | None = None) -> RunConfig:
+    """Return the config restricted to one substrate, one base and one solvent (every other setting kept).
+
+    ``solvent`` replaces ``method.solvent`` (a batch's ``solvents:`` entry); the batch-only keys are cleared.
+    """
+    update = {"substrates": (substrate,), "bases": (base,), "pairs": None, "solvents": None, "substrates_file": None}
+    if solvent is not None:
+        update["method"] = config.method.model_copy(update={"solvent": solvent})
+    return config.model_copy(update=update)
 
 
 def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, engine,
             geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
-    """Return the outcome of one job; known failures are inside the record (status failed), not raised."""
+    """Return the outcome of one job in ``config.method.solvent``; known failures are inside the record, not raised.
+
+    The job's solvent is recorded on its job record and on both molecule records.
+    """
     one = single_job_config(config, substrate, base)
     outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
     analysis = outcome.substrates[substrate.name]
@@ -46,4 +56,6 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
         base_record = base_record.model_copy(update={"xyz_file": xyz[0]})
     record = job_record(substrate, base, outcome, one)
     files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), engine.label))
-    return JobOutcome(record, (substrate_record, base_record), files)
+    solvent = {"solvent": one.method.solvent}
+    return JobOutcome(record.model_copy(update=solvent),
+                      (substrate_record.model_copy(update=solvent), base_record.model_copy(update=solvent)), files)

@@ -50,6 +50,42 @@ class Reactive:
         return {"c_beta_h_A": distance(positions, self.c_beta, self.h), "base_h_A": distance(positions, self.base, self.h),
                 "c_alpha_x_A": distance(positions, self.c_alpha, self.x), "base_c_alpha_A": distance(positions, self.base, self.c_alpha)}
 
+    def side(self, positions: np.ndarray, criteria) -> str:
+        """Return 'product' (alkene + conjugate acid + X-), 'reactant' or 'other' from the key distances."""
+        d = self.distances(positions)
+        if d["c_alpha_x_A"] >= criteria.product_c_x_min_A and d["base_h_A"] <= criteria.product_base_h_max_A:
+            return "product"
+        if d["base_h_A"] >= criteria.reactant_base_h_min_A and d["c_alpha_x_A"] <= criteria.reactant_c_x_max_A:
+            return "reactant"
+        return "other"
+
+
+@dataclass(frozen=True)
+class SubstitutionReactive:
+    """Indices (0-based, in the complex) for backside substitution: nucleophile Nu, C-alpha and X."""
+
+    nu: int
+    c_alpha: int
+    x: int
+
+    def coordinate(self) -> HeldDistanceSum:
+        """Return the driven combination d(Cα-X) - d(Cα-Nu) (target left open)."""
+        return HeldDistanceSum(((self.c_alpha, self.x, 1.0), (self.c_alpha, self.nu, -1.0)))
+
+    def distances(self, positions: np.ndarray) -> dict[str, float]:
+        """Return d(Cα-X) and d(Cα-Nu) (Å)."""
+        return {"c_alpha_x_A": distance(positions, self.c_alpha, self.x),
+                "nu_c_alpha_A": distance(positions, self.nu, self.c_alpha)}
+
+    def side(self, positions: np.ndarray, criteria) -> str:
+        """Return 'product' (Nu-Cα bonded, X gone), 'reactant' or 'other' from the key distances."""
+        d = self.distances(positions)
+        if d["c_alpha_x_A"] >= criteria.product_c_x_min_A and d["nu_c_alpha_A"] <= criteria.substitution_bond_max_A:
+            return "product"
+        if d["nu_c_alpha_A"] >= criteria.substitution_reactant_min_A and d["c_alpha_x_A"] <= criteria.reactant_c_x_max_A:
+            return "reactant"
+        return "other"
+
 
 @dataclass(frozen=True)
 class ComplexResult:
@@ -197,19 +233,6 @@ def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int,
     return points, spent
 
 
-def _side(positions: np.ndarray, reactive: Reactive, saddle: "SaddleCriteria") -> str:
-    """Return 'product', 'reactant' or 'other' for a relaxed geometry from its key distances."""
-    d = reactive.distances(positions)
-    if d["c_alpha_x_A"] >= saddle.product_c_x_min_A and d["base_h_A"] <= saddle.product_base_h_max_A:
-        return "product"
-    if d["base_h_A"] >= saddle.reactant_base_h_min_A and d["c_alpha_x_A"] <= saddle.reactant_c_x_max_A:
-        return "reactant"
-    return "other"
-
-
-SaddleCriteria = type(PathConfig().saddle)
-
-
 def _relax_to_side(atoms: Atoms, displacement: np.ndarray, reactive: Reactive, engine, charge: int, multiplicity: int,
                    criteria, optimizer: OptimizerConfig, name: str, chunk_steps: int = 20, max_chunks: int = 15) -> str:
     """Return the side ('reactant', 'product', 'other') reached by relaxing from a displaced saddle.
@@ -223,7 +246,7 @@ def _relax_to_side(atoms: Atoms, displacement: np.ndarray, reactive: Reactive, e
     for _ in range(max_chunks):
         result = relax(atoms, calc, (), chunk)
         atoms = result.atoms
-        side = _side(atoms.positions, reactive, criteria)
+        side = reactive.side(atoms.positions, criteria)
         if side != "other" or result.converged:
             break
     return side
@@ -261,7 +284,11 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
     work = guess.copy()
     work.calc = engine.calculator(charge, multiplicity, name=name)
     try:
-        opt = Sella(work, order=1, internal=True, logfile=None)
+        hessian_function = None
+        if s.exact_initial_hessian:  # a finite-difference start: far more robust on flat saddles (SN2)
+            hessian_function = lambda a: finite_difference_hessian(  # noqa: E731
+                a, engine.calculator(charge, multiplicity, name=f"{name} start hessian"), s.hessian_step_A)[0]
+        opt = Sella(work, order=1, internal=True, logfile=None, hessian_function=hessian_function)
         converged = bool(opt.run(fmax=s.fmax_eV_per_A, steps=s.max_steps))
         energy = work.get_potential_energy() / EV_PER_HARTREE
     except ElimscanError as err:
@@ -291,7 +318,7 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
         return SaddleResult(atoms, energy, False, method, float(main), others,
                             f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product")
     return SaddleResult(atoms, energy, True, method, float(main), others,
-                        "one imaginary mode; connects the reactant complex with the elimination products", mode, hessian)
+                        "one imaginary mode; connects the reactant complex with the products", mode, hessian)
 
 
 def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, other_hydrogens: tuple[int, ...],
@@ -351,4 +378,52 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
                                           f"maximum also failed: {second.reason}", saddle.mode)
     flags = path_flags(points, top, reactive, other_hydrogens, syn)
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
+                      engine.stats.misses - before_saddle)
+
+
+def place_backside(substrate: Atoms, c_alpha: int, x: int, base: Atoms, basic: int, distance_A: float,
+                   rotation_deg: float) -> Atoms:
+    """Return substrate + base with the nucleophilic atom behind C-alpha, on the X->C-alpha line, ``distance_A`` from C-alpha."""
+    axis = substrate.positions[c_alpha] - substrate.positions[x]
+    axis /= np.linalg.norm(axis)
+    moved = base.positions - base.positions[basic]
+    others = [i for i in range(len(base)) if i != basic]
+    if others:
+        nearest = sorted(others, key=lambda i: np.linalg.norm(moved[i]))[: min(3, len(others))]
+        outward = np.mean(moved[nearest], axis=0)
+        if np.linalg.norm(outward) > 1e-6:
+            moved = moved @ _align(outward, axis).T
+    moved = moved @ _rotation_matrix(axis, np.radians(rotation_deg)).T
+    placed = base.copy()
+    placed.positions = moved + substrate.positions[c_alpha] + distance_A * axis
+    return substrate + placed
+
+
+def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,
+                              charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
+                              name: str = "substitution") -> PathResult:
+    """Return the complex, relaxed path and verified saddle of backside substitution at C-alpha (SN2)."""
+    misses0 = engine.stats.misses
+    best, energies, spent = None, [], 0
+    for k in range(settings.base_rotations):
+        rotation = 360.0 * k / settings.base_rotations
+        placed = place_backside(start, reactive.c_alpha, reactive.x, base, basic, settings.substitution_distance_A, rotation)
+        held = [HeldDistance((reactive.nu, reactive.c_alpha), settings.substitution_distance_A)]
+        result = relax(placed, engine.calculator(charge, multiplicity, name=f"{name} complex"), held, optimizer)
+        spent += result.n_gradients
+        energies.append(result.energy_hartree)
+        if best is None or result.energy_hartree < best[1]:
+            best = (result.atoms, result.energy_hartree, rotation)
+    complex_ = ComplexResult(best[0], best[1], best[2], tuple(energies), spent)
+    points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer, name=f"{name} path")
+    top = int(np.argmax([p.energy_hartree for p in points]))
+    before_saddle = engine.stats.misses
+    if settings.saddle.refine and 0 < top < len(points) - 1:
+        saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
+                                   name=f"{name} saddle", method="sella from the path maximum")
+    else:
+        saddle = SaddleResult(None, None, False, "none", None, (),
+                              "not refined" if not settings.saddle.refine else "no interior maximum along the path")
+    flags = ("no interior maximum along the path: the estimate is an end point",) if top in (0, len(points) - 1) else ()
+    return PathResult("substitution", complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)

@@ -24,7 +24,8 @@ from elimscan.conformers import ConformerEnsemble, build_ensemble, saturated_six
 from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
-from elimscan.paths import PathResult, Reactive, compute_path
+from elimscan.freeenergy import MinimumHessian, minimum_hessian
+from elimscan.paths import PathResult, Reactive, SubstitutionReactive, compute_path, compute_substitution_path
 from elimscan.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, ErrorInfo, JobRecord,
                               LeavingGroupRecord, MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
                               ScanPointRecord, ScanRecord, VerdictRecord)
@@ -68,18 +69,22 @@ class SubstrateAnalysis:
     ensemble: ConformerEnsemble
     classes: tuple[ClassAnalysis, ...]
     global_minimum_hartree: float
+    #: Hessian of the lowest conformer, for free energies and isotope effects
+    minimum: MinimumHessian | None = None
 
 
 @dataclass(frozen=True)
 class BaseAnalysis:
-    """A relaxed base and how the rule sees it."""
+    """A relaxed base, how the rule sees it, and its Hessian (for free energies)."""
 
     relaxed: RelaxedMolecule
     info: BaseInfo | None
+    minimum: MinimumHessian | None = None
 
 
-#: (class_id, approach) -> the computed path, or why it failed
+#: (class_id, approach) -> the computed path, or why it failed; SUBSTITUTION_KEY for the SN2 path
 JobPaths = dict[tuple[str, str], "PathResult | ErrorInfo"]
+SUBSTITUTION_KEY = ("substitution", "backside")
 
 
 @dataclass
@@ -190,7 +195,11 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
         anti = best_periplanar(samples, global_min, "anti", config.rule)
         syn = best_periplanar(samples, global_min, "syn", config.rule)
         classes.append(ClassAnalysis(beta_class, scans, anti, syn, rule_status(anti, syn, config.rule)))
-    return SubstrateAnalysis(item.name, substrate, charge, item.multiplicity, ensemble, tuple(classes), global_min)
+    lowest = ensemble.lowest
+    minimum = minimum_hessian(lowest.atoms, lowest.energy_hartree, engine, charge, item.multiplicity,
+                              config.paths.saddle.hessian_step_A, name=name)
+    return SubstrateAnalysis(item.name, substrate, charge, item.multiplicity, ensemble, tuple(classes), global_min,
+                             minimum)
 
 
 def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None,
@@ -218,7 +227,12 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
         relaxed = relax_molecule(item.name, "base", item.smiles, item.charge, item.multiplicity, engine,
                                  config.optimizer, config.seed)
         info = describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None
-        outcome.bases[item.name] = BaseAnalysis(relaxed, info)
+        minimum = None
+        if relaxed.atoms is not None:
+            minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, engine, relaxed.record.charge,
+                                      relaxed.record.multiplicity, config.paths.saddle.hessian_step_A,
+                                      name=f"base '{item.name}'")
+        outcome.bases[item.name] = BaseAnalysis(relaxed, info, minimum)
     for step, (substrate_cfg, base_cfg) in enumerate(jobs):
         analysis, base = outcome.substrates[substrate_cfg.name], outcome.bases[base_cfg.name]
         if isinstance(analysis, ErrorInfo) or base.info is None or base.relaxed.atoms is None:
@@ -258,6 +272,16 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
                     name=f"{analysis.name} {b.class_id} {approach}")
             except ElimscanError as err:
                 paths[(b.class_id, approach)] = error_info(err)
+    if config.paths.substitution:
+        if on_progress is not None:
+            on_progress(DETAIL, DETAIL, f"{analysis.name}: backside substitution (SN2) path")
+        reactive = SubstitutionReactive(n + base.info.basic_atom_index, lg.c_alpha_index, lg.leaving_atom_index)
+        try:
+            paths[SUBSTITUTION_KEY] = compute_substitution_path(
+                analysis.ensemble.lowest.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, engine,
+                charge, multiplicity, config.paths, config.optimizer, name=f"{analysis.name} substitution")
+        except ElimscanError as err:
+            paths[SUBSTITUTION_KEY] = error_info(err)
     return paths
 
 
@@ -350,7 +374,7 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
     lowest = analysis.ensemble.lowest.energy_hartree
     paths = outcome.paths.get((substrate_cfg.name, base_cfg.name), {})
     zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
-    done = {key: p for key, p in paths.items() if not isinstance(p, ErrorInfo)}
+    done = {key: p for key, p in paths.items() if not isinstance(p, ErrorInfo) and key != SUBSTITUTION_KEY}
     lowest_top = min((p.top_hartree for p in done.values()), default=None)
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products_of = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles

@@ -13,10 +13,14 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from elimscan.config import RunConfig
+from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 
 RESULT_SCHEMA_NAME = "elimscan.result"
-RESULT_SCHEMA_VERSION = "0.3.0"
+#: 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
+#: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
+RESULT_SCHEMA_VERSION = "0.4.0"
+BATCH_SCHEMA_NAME = "elimscan.batch"
+BATCH_SCHEMA_VERSION = "0.1.0"
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
 
 
@@ -72,6 +76,8 @@ class MoleculeRecord(_Record):
     relax_seconds: float | None = Field(None, description="wall time of the relaxation (s)")
     xyz_file: str | None = Field(None, description="relaxed geometry, extended XYZ, path relative to the output folder")
     error: ErrorInfo | None = None
+    solvent: SolventConfig | None = Field(None, description="implicit solvent of this record (batches); null: the "
+                                          "config's method.solvent")
 
 
 class LeavingGroupRecord(_Record):
@@ -217,6 +223,10 @@ class JobRecord(_Record):
     base: str
     status: Literal["ok", "failed"]
     error: ErrorInfo | None = None
+    solvent: SolventConfig | None = Field(None, description="implicit solvent of this job (batches); null: the "
+                                          "config's method.solvent")
+    job_key: str | None = Field(None, description="batch store key: SHA-256 of the job's inputs and of every setting "
+                                "and library version that changes its numbers")
     leaving_group: LeavingGroupRecord | None = None
     base_info: BaseRecord | None = None
     global_minimum_hartree: float | None = Field(None, description="lowest substrate energy seen (conformers and scans)")
@@ -245,7 +255,7 @@ class RunResult(_Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
@@ -254,8 +264,61 @@ class RunResult(_Record):
     summary: RunSummary
 
 
+class FileChecksum(_Record):
+    """One file a batch job wrote: its path, SHA-256 and size, as committed to the store."""
+
+    path: str = Field(description="relative to the output folder")
+    sha256: str
+    size_bytes: int
+
+
+class BatchJobEntry(_Record):
+    """One job of a batch as the store holds it."""
+
+    job_key: str = Field(description="SHA-256 of the job's inputs and every setting that changes its numbers")
+    job_id: str
+    substrate: str
+    base: str
+    solvent: SolventConfig
+    source: str = Field(description="where the substrate came from: 'config' or '<file> line <n>'")
+    status: Literal["ok", "failed", "not finished"]
+    error: ErrorInfo | None = None
+    job_starts: int = Field(description="times a worker started this job (all batch runs in this folder)")
+    started_utc: str | None = None
+    finished_utc: str | None = None
+    wall_seconds: float | None = Field(None, description="wall time of the finished attempt (s)")
+    worker: str | None = Field(None, description="the worker that finished it (local process or Dask worker)")
+    folder: str | None = Field(None, description="folder of the job's files, relative to the output folder")
+    files: tuple[FileChecksum, ...] = ()
+
+
+class BatchCounts(_Record):
+    """Jobs of the current config: finished ok, failed, and not finished."""
+
+    n_jobs: int
+    n_ok: int
+    n_failed: int
+    n_not_finished: int
+
+
+class BatchIndex(_Record):
+    """The document batch.json: every job of a batch's current config, its key, state, time and files."""
+
+    schema_name: Literal["elimscan.batch"] = BATCH_SCHEMA_NAME
+    schema_version: Literal["0.1.0"] = BATCH_SCHEMA_VERSION
+    provenance: Provenance
+    config_name: str
+    complete: bool = Field(description="every job finished (ok or failed); results.json then holds them all")
+    store_file: str = Field(description="the SQLite store, relative to the output folder")
+    substrates_file: str | None = Field(None, description="the substrates file as the config names it")
+    substrates_file_sha256: str | None = None
+    executor: ExecutorConfig
+    counts: BatchCounts
+    jobs: tuple[BatchJobEntry, ...]
+
+
 #: schema file name -> model
-SCHEMA_MODELS: dict[str, type[BaseModel]] = {"result.schema.json": RunResult}
+SCHEMA_MODELS: dict[str, type[BaseModel]] = {"result.schema.json": RunResult, "batch.schema.json": BatchIndex}
 
 
 def json_schema(model: type[BaseModel], file_name: str) -> dict[str, Any]:
