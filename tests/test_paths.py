@@ -192,3 +192,58 @@ bases:
             assert block["imaginary_frequency_cm1"] >= 100 and block["barrier_source"] == "verified saddle"
         else:
             assert block["saddle_note"] and block["barrier_source"] == "relaxed-path maximum"
+
+
+@pytest.mark.xtb
+def test_substitution_beats_elimination_for_a_primary_bromide_and_degeneracy_counts_once(tmp_path):
+    # Primary substrates with small alkoxides give mainly substitution (standard textbooks, e.g. March's
+    # Advanced Organic Chemistry): for bromoethane + methoxide the verified SN2 barrier lies below the E2 one.
+    import json
+    import math
+    import subprocess
+    import sys
+
+    from scipy.constants import R, calorie
+
+    config = tmp_path / "primary.yaml"
+    config.write_text("""name: primary
+method: {solvent: {model: alpb, name: methanol}}
+paths: {approaches: [anti]}
+substrates:
+  - {name: bromoethane, smiles: "CCBr"}
+bases:
+  - {name: methoxide}
+""")
+    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "out")],
+                          capture_output=True, text=True, timeout=1800)
+    assert done.returncode == 0, done.stderr[-2000:]
+    job = json.loads((tmp_path / "out" / "results.json").read_text())["jobs"][0]
+    sn2 = job["substitution"]
+    assert sn2["saddle_verified"] and sn2["rule_call"] == "substitution"
+    assert sn2["product_smiles"] == "CCOC"
+    e2 = [b["anti"] for b in job["beta_hydrogens"] if b["anti"]["path_status"] == "ok"]
+    assert e2 and all(sn2["barrier_kcal_mol"] < block["barrier_kcal_mol"] for block in e2)
+    assert sn2["substitution_fraction"] > 0.5
+    # Degeneracy counted once: the CH3 class (3 H) weighs 3 x exp(-dE/RT) against the single SN2 path; the share
+    # is recomputed here with the gas constant from scipy (CODATA), independently of elimscan's units.
+    (ch3,) = job["beta_hydrogens"]
+    assert ch3["degeneracy"] == 3
+    rt = R * job["temperature_K"] / calorie / 1000.0  # kcal/mol
+    w_e2 = 3 * math.exp(-ch3["anti"]["barrier_kcal_mol"] / rt)
+    w_sn2 = math.exp(-sn2["barrier_kcal_mol"] / rt)
+    assert sn2["elimination_fraction"] == pytest.approx(w_e2 / (w_e2 + w_sn2), abs=2e-4)
+    # free energies and isotope effects come with every verified saddle (quasi-RRHO, 1 M)
+    assert ch3["anti"]["barrier_free_energy_kcal_mol"] is not None and sn2["barrier_free_energy_kcal_mol"] is not None
+    assert {k["label"].split(" (")[0] for k in ch3["isotope_effects"]} == {"D at the transferring hydrogen",
+                                                                        "D at every hydrogen of the beta carbon"}
+    assert all(1.0 < k["kh_kd"] < 10.0 for k in ch3["isotope_effects"])
+    # the config may let free energies drive the mix: then the shares follow dG, and the job says so
+    config.write_text(config.read_text() + "analysis: {energy: free}\n")
+    again = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "free")],
+                           capture_output=True, text=True, timeout=1800)
+    assert again.returncode == 0, again.stderr[-2000:]
+    free_job = json.loads((tmp_path / "free" / "results.json").read_text())["jobs"][0]
+    assert free_job["energy_used"] == "free"
+    g_e2 = 3 * math.exp(-free_job["beta_hydrogens"][0]["anti"]["barrier_free_energy_kcal_mol"] / rt)
+    g_sn2 = math.exp(-free_job["substitution"]["barrier_free_energy_kcal_mol"] / rt)
+    assert free_job["substitution"]["elimination_fraction"] == pytest.approx(g_e2 / (g_e2 + g_sn2), abs=2e-4)

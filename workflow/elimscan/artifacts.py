@@ -87,29 +87,31 @@ def path_files(job, paths: dict, method_label: str, mode_amplitude_A: float = 0.
     """Return each computed path (XYZ) and each saddle with frames along its imaginary mode."""
     files: Files = {}
     zero = job.reference_energy_hartree
-    for record in job.beta_hydrogens:
-        for approach in ("anti", "syn"):
-            block = getattr(record, approach)
-            path = paths.get((record.class_id, approach))
-            if block.path_file is None or path is None or not hasattr(path, "points"):
-                continue
-            files[block.path_file] = xyz_bytes(
-                [p.atoms for p in path.points],
-                [{"coordinate_A": p.coordinate_A, "energy_hartree": p.energy_hartree,
-                  "relative_energy_kcal_mol": (p.energy_hartree - zero) * KCAL_MOL_PER_HARTREE,
-                  "class_id": record.class_id, "approach": approach, **p.distances} for p in path.points],
-                method_label)
-            saddle = path.saddle
-            if block.saddle_file is None or saddle.atoms is None:
-                continue
-            frames = [saddle.atoms]
-            infos = [{"energy_hartree": saddle.energy_hartree, "frame": "saddle", "verified": saddle.verified,
-                      "imaginary_cm1": saddle.imaginary_cm1}]
-            if saddle.mode is not None:
-                for amplitude in np.linspace(-mode_amplitude_A, mode_amplitude_A, mode_frames):
-                    frame = saddle.atoms.copy()
-                    frame.positions = frame.positions + amplitude * saddle.mode
-                    frames.append(frame)
-                    infos.append({"frame": "mode", "mode_amplitude_A": float(amplitude)})
-            files[block.saddle_file] = xyz_bytes(frames, infos, method_label)
+    blocks = [(record.class_id, approach, getattr(record, approach)) for record in job.beta_hydrogens
+              for approach in ("anti", "syn")]
+    if job.substitution is not None:
+        blocks.append(("substitution", "backside", job.substitution))
+    for class_id, approach, block in blocks:
+        path = paths.get((class_id, approach))
+        if block.path_file is None or path is None or not hasattr(path, "points"):
+            continue
+        files[block.path_file] = xyz_bytes(
+            [p.atoms for p in path.points],
+            [{"coordinate_A": p.coordinate_A, "energy_hartree": p.energy_hartree,
+              "relative_energy_kcal_mol": (p.energy_hartree - zero) * KCAL_MOL_PER_HARTREE,
+              "class_id": class_id, "approach": approach, **p.distances} for p in path.points],
+            method_label)
+        saddle = path.saddle
+        if block.saddle_file is None or saddle.atoms is None:
+            continue
+        frames = [saddle.atoms]
+        infos = [{"energy_hartree": saddle.energy_hartree, "frame": "saddle", "verified": saddle.verified,
+                  "imaginary_cm1": saddle.imaginary_cm1}]
+        if saddle.mode is not None:
+            for amplitude in np.linspace(-mode_amplitude_A, mode_amplitude_A, mode_frames):
+                frame = saddle.atoms.copy()
+                frame.positions = frame.positions + amplitude * saddle.mode
+                frames.append(frame)
+                infos.append({"frame": "mode", "mode_amplitude_A": float(amplitude)})
+        files[block.saddle_file] = xyz_bytes(frames, infos, method_label)
     return files

@@ -24,11 +24,15 @@ from elimscan.conformers import ConformerEnsemble, build_ensemble, saturated_six
 from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
-from elimscan.freeenergy import MinimumHessian, minimum_hessian
+from elimscan.character import saddle_character
+from elimscan.freeenergy import MinimumHessian, isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
+from elimscan.geometry import distance
+from elimscan.substitution import substitution_product
 from elimscan.paths import PathResult, Reactive, SubstitutionReactive, compute_path, compute_substitution_path
 from elimscan.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, ErrorInfo, JobRecord,
                               LeavingGroupRecord, MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
-                              ScanPointRecord, ScanRecord, VerdictRecord)
+                              SaddleCharacterRecord, IsotopeEffectRecord, ScanPointRecord, ScanRecord,
+                              SubstitutionRecord, VerdictRecord)
 from elimscan.relax import relax
 from elimscan.scans import DihedralScan, branch_plan, scan_dihedral
 from elimscan.structures import atoms_from_geometry, build_molecule, check_charge, formula
@@ -309,7 +313,9 @@ def path_file_name(job_id: str, class_id: str, approach: str, kind: str = "path"
 
 
 def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | ErrorInfo | None", zero: float,
-                     lowest_top: float | None, job_id: str, class_id: str, approach: str) -> ApproachRecord:
+                     lowest_top: float | None, job_id: str, class_id: str, approach: str,
+                     free_energy_kcal_mol: float | None = None,
+                     character: SaddleCharacterRecord | None = None) -> ApproachRecord:
     """Return the record of one approach: product, periplanar geometry, and the path when one was computed."""
     record = dict(
         product_smiles=product.smiles, product_substitution=product.substitution, product_conjugated=product.conjugated,
@@ -326,6 +332,7 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         **record, path_status="ok", barrier_kcal_mol=kcal(path.top_hartree),
         relative_barrier_kcal_mol=round((path.top_hartree - lowest_top) * KCAL_MOL_PER_HARTREE, 3),
         barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
+        barrier_free_energy_kcal_mol=free_energy_kcal_mol, saddle_character=character,
         relaxed_path_estimate_kcal_mol=kcal(path.estimate_hartree), saddle_verified=path.saddle.verified,
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
         saddle_note=path.saddle.reason, saddle_method=path.saddle.method, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
@@ -379,11 +386,20 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products_of = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
                    for c in analysis.classes for a in ("anti", "syn")}
-    barriers = [PathBarrier(cid, a, products_of[(cid, a)], (p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, degeneracy[cid])
-                for (cid, a), p in done.items()]
-    fractions = product_fractions(barriers, config.method.temperature_K)
-    ranges = fraction_ranges(barriers, config.method.temperature_K)
+    temperature = config.method.temperature_K
+    g_zero = _free_zero(analysis, base, temperature)
+    free = {key: _saddle_free_energy(p, g_zero, base, analysis, temperature) for key, p in done.items()}
+    use_free = config.analysis.energy == "free"
+    notes: list[str] = []
+    if use_free and any(v is None for v in free.values()):
+        notes.append("free-energy product mix: paths without a verified saddle have no dG and are left out")
+    barriers = [PathBarrier(cid, a, products_of[(cid, a)],
+                            free[(cid, a)] if use_free else (p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, degeneracy[cid])
+                for (cid, a), p in done.items() if not use_free or free[(cid, a)] is not None]
+    fractions = product_fractions(barriers, temperature)
+    ranges = fraction_ranges(barriers, temperature)
     computed = compare_verdicts(verdict.major, fractions, barriers)
+    substitution = _substitution_record(analysis, base, base_cfg, paths, zero, g_zero, barriers, config, job_id, use_free)
     beta_records = []
     for c in analysis.classes:
         b = c.beta_class
@@ -393,9 +409,12 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
             anti_penalty_kcal_mol=c.anti.penalty_kcal_mol, syn_penalty_kcal_mol=c.syn.penalty_kcal_mol,
             rule_status=c.status,
             anti=_approach_record(b.anti_product, c.anti, paths.get((b.class_id, "anti")), zero, lowest_top, job_id,
-                                  b.class_id, "anti"),
+                                  b.class_id, "anti", free.get((b.class_id, "anti")),
+                                  _character(analysis, b, paths.get((b.class_id, "anti")))),
             syn=_approach_record(b.syn_product, c.syn, paths.get((b.class_id, "syn")), zero, lowest_top, job_id,
-                                 b.class_id, "syn"),
+                                 b.class_id, "syn", free.get((b.class_id, "syn")),
+                                 _character(analysis, b, paths.get((b.class_id, "syn")))),
+            isotope_effects=_isotope_effects(analysis, b, paths, temperature),
             scans=tuple(_scan_record(s, analysis.global_minimum_hartree, scan_file_name(substrate_cfg.name, b.class_id, k))
                         for k, s in enumerate(c.scans))))
     return JobRecord(
@@ -409,7 +428,7 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
                                          relative_energy_kcal_mol=round((c.energy_hartree - lowest) * KCAL_MOL_PER_HARTREE, 3),
                                          source=c.source, ring_shapes=c.ring_shapes) for c in analysis.ensemble.conformers),
         conformer_file=conformer_file_name(substrate_cfg.name),
-        warnings=analysis.substrate.warnings + analysis.ensemble.failures,
+        warnings=analysis.substrate.warnings + analysis.ensemble.failures + tuple(notes),
         beta_hydrogens=tuple(beta_records),
         products=tuple(ProductRecord(smiles=p.smiles, substitution=p.substitution, rule_call=p.call,
                                      via_classes=p.via_classes, reason=p.reason,
@@ -420,9 +439,121 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
         rule=RuleRecord(rule_major=verdict.major, hofmann_shift=verdict.hofmann_shift,
                         energy_window_kcal_mol=config.rule.energy_window_kcal_mol, reasoning=verdict.reasoning),
         reference_energy_hartree=zero,
-        barrier_kind=f"electronic energy differences dE (not free energies), {config.method.hamiltonian}",
+        barrier_kind=(f"{config.method.hamiltonian}: barrier_kcal_mol are electronic energy differences dE; "
+                      "barrier_free_energy_kcal_mol are quasi-RRHO free energies dG (1 M)"),
         temperature_K=config.method.temperature_K,
         verdict=VerdictRecord(rule_major=computed.rule_major, computed_major=computed.computed_major,
                               agreement=computed.agreement, within_method_uncertainty=computed.within_method_uncertainty,
                               reason=computed.reason),
+        energy_used="free" if use_free else "electronic",
+        substitution=substitution,
     )
+
+
+def _free_zero(analysis: SubstrateAnalysis, base: BaseAnalysis, temperature_K: float) -> float | None:
+    """Return G(free substrate) + G(free base) in hartree, or None without Hessians."""
+    if analysis.minimum is None or base.minimum is None:
+        return None
+    try:
+        return (molecule_thermo(analysis.minimum, temperature_K, analysis.multiplicity).free_energy_hartree
+                + molecule_thermo(base.minimum, temperature_K, base.relaxed.record.multiplicity or 1).free_energy_hartree)
+    except ValueError:  # a reactant that is not a minimum: no free energies for this job
+        return None
+
+
+def _saddle_free_energy(path: PathResult, g_zero: float | None, base: BaseAnalysis, analysis: SubstrateAnalysis,
+                        temperature_K: float) -> float | None:
+    """Return dG of a verified saddle above free substrate + free base (kcal/mol), else None."""
+    saddle = path.saddle
+    if g_zero is None or not saddle.verified or saddle.hessian_eV_A2 is None:
+        return None
+    multiplicity = analysis.multiplicity + (base.relaxed.record.multiplicity or 1) - 1
+    try:
+        g = saddle_thermo(saddle.atoms, saddle.energy_hartree, saddle.hessian_eV_A2, temperature_K, multiplicity)
+    except ValueError:
+        return None
+    return round((g.free_energy_hartree - g_zero) * KCAL_MOL_PER_HARTREE, 3)
+
+
+def _character(analysis: SubstrateAnalysis, b: BetaHydrogenClass, path) -> SaddleCharacterRecord | None:
+    """Return the saddle character of a verified path (bond lengths of the free substrate as reference)."""
+    if path is None or isinstance(path, ErrorInfo) or not path.saddle.verified:
+        return None
+    lg = analysis.substrate.leaving_group
+    ref, pos = analysis.ensemble.lowest.atoms.positions, path.saddle.atoms.positions
+    h, cb, ca, x = b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index
+    c = saddle_character(distance(ref, cb, h), distance(pos, cb, h), distance(ref, ca, x), distance(pos, ca, x))
+    return SaddleCharacterRecord(c_h_cleavage=c.c_h_cleavage, c_x_cleavage=c.c_x_cleavage, label=c.label)
+
+
+def _isotope_effects(analysis: SubstrateAnalysis, b: BetaHydrogenClass, paths: JobPaths,
+                     temperature_K: float) -> tuple[IsotopeEffectRecord, ...]:
+    """Return k_H/k_D of a class (D at the moving H, and at every H of the beta carbon) from its best verified path."""
+    if analysis.minimum is None:
+        return ()
+    verified = [(a, p) for a in ("anti", "syn") for p in [paths.get((b.class_id, a))]
+                if p is not None and not isinstance(p, ErrorInfo) and p.saddle.verified and p.saddle.hessian_eV_A2 is not None]
+    if not verified:
+        return ()
+    approach, path = min(verified, key=lambda item: item[1].saddle.energy_hartree)
+    mol = analysis.substrate.mol
+    beta_h = tuple(n.GetIdx() for n in mol.GetAtomWithIdx(b.beta_carbon_index).GetNeighbors() if n.GetAtomicNum() == 1)
+    records = []
+    for label, labelled in (("D at the transferring hydrogen", (b.representative_index,)),
+                            (f"D at every hydrogen of the beta carbon (CD{len(beta_h)})" if len(beta_h) > 1 else None, beta_h)):
+        if label is None:
+            continue
+        try:
+            kie = isotope_effect(analysis.minimum, path.saddle.atoms, path.saddle.hessian_eV_A2, labelled, temperature_K)
+        except ValueError:
+            continue
+        records.append(IsotopeEffectRecord(label=label, deuterated_indices=labelled, approach=approach,
+                                           kh_kd=round(kie.ratio, 3), kh_kd_wigner=round(kie.ratio_wigner, 3),
+                                           temperature_K=temperature_K))
+    return tuple(records)
+
+
+def textbook_substitution_call(analysis: SubstrateAnalysis, bulky: bool) -> tuple[str, str]:
+    """Return the textbook call on E2 against SN2: primary + small base substitution, tertiary or bulky elimination."""
+    ca = analysis.substrate.mol.GetAtomWithIdx(analysis.substrate.leaving_group.c_alpha_index)
+    carbons = sum(1 for n in ca.GetNeighbors() if n.GetAtomicNum() == 6)
+    if carbons >= 3:
+        return "elimination", "tertiary C-alpha: backside attack is blocked"
+    if bulky:
+        return "elimination", "bulky base: a poor nucleophile"
+    if carbons <= 1:
+        return "substitution", "primary C-alpha with a small base"
+    return "mixture", "secondary C-alpha with a small base"
+
+
+def _substitution_record(analysis: SubstrateAnalysis, base: BaseAnalysis, base_cfg: BaseConfig, paths: JobPaths,
+                         zero: float, g_zero: float | None, e2_barriers: list[PathBarrier], config: RunConfig,
+                         job_id: str, use_free: bool) -> SubstitutionRecord | None:
+    """Return the SN2 record of a job (None when substitution was not asked for)."""
+    if not config.paths.substitution:
+        return None
+    call, why = textbook_substitution_call(analysis, base.info.bulky)
+    product = substitution_product(analysis.substrate, base_cfg.smiles, base.info.basic_atom_index)
+    path = paths.get(SUBSTITUTION_KEY)
+    head = dict(product_smiles=product, rule_call=call, rule_reason=why)
+    if path is None:
+        return SubstitutionRecord(**head)
+    if isinstance(path, ErrorInfo):
+        return SubstitutionRecord(**head, path_status="failed", error=path)
+    barrier = round((path.top_hartree - zero) * KCAL_MOL_PER_HARTREE, 3)
+    free = _saddle_free_energy(path, g_zero, base, analysis, config.method.temperature_K)
+    mine = free if use_free else barrier
+    shares: dict[str, float] = {}
+    if mine is not None and e2_barriers:
+        mix = product_fractions([*e2_barriers, PathBarrier("substitution", "backside", "SN2", mine, 1)],
+                                config.method.temperature_K)
+        shares = {"substitution": mix["SN2"], "elimination": 1.0 - mix["SN2"]}
+    return SubstitutionRecord(
+        **head, path_status="ok", barrier_kcal_mol=barrier, barrier_free_energy_kcal_mol=free,
+        barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
+        saddle_verified=path.saddle.verified,
+        imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
+        saddle_note=path.saddle.reason, path_file=path_file_name(job_id, "substitution", "backside"),
+        saddle_file=path_file_name(job_id, "substitution", "backside", "saddle") if path.saddle.atoms is not None else None,
+        elimination_fraction=round(shares["elimination"], 4) if shares else None,
+        substitution_fraction=round(shares["substitution"], 4) if shares else None)

@@ -16,9 +16,10 @@ from pydantic import BaseModel, ConfigDict, Field
 from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 
 RESULT_SCHEMA_NAME = "elimscan.result"
-#: 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
+#: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
+#: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
 #: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
-RESULT_SCHEMA_VERSION = "0.4.0"
+RESULT_SCHEMA_VERSION = "0.5.0"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
@@ -128,6 +129,25 @@ class PathPointRecord(_Record):
     c_alpha_x_A: float
 
 
+class SaddleCharacterRecord(_Record):
+    """Where a verified E2 saddle sits: fractional C-H and C-X cleavage (Pauling bond orders) and a label."""
+
+    c_h_cleavage: float = Field(description="1 - Pauling bond order of C-beta-H at the saddle (0 intact, 1 broken)")
+    c_x_cleavage: float = Field(description="1 - Pauling bond order of C-alpha-X at the saddle")
+    label: Literal["carbanion-like", "central", "carbocation-like"]
+
+
+class IsotopeEffectRecord(_Record):
+    """A primary kinetic isotope effect k_H/k_D of one beta-H class (harmonic Bigeleisen-Mayer)."""
+
+    label: str = Field(description="which hydrogens carry deuterium")
+    deuterated_indices: tuple[int, ...]
+    approach: Literal["anti", "syn"]
+    kh_kd: float
+    kh_kd_wigner: float = Field(description="with Wigner's tunnelling correction")
+    temperature_K: float
+
+
 class ApproachRecord(_Record):
     """The anti or syn elimination of one beta-H class: product, best periplanar geometry, and its barrier."""
 
@@ -145,6 +165,9 @@ class ApproachRecord(_Record):
                                            "substrate global minimum + free base, same solvent")
     relative_barrier_kcal_mol: float | None = Field(None, description="above the lowest barrier of the job")
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    barrier_free_energy_kcal_mol: float | None = Field(None, description="dG (quasi-RRHO, 1 M, T of the run) of the "
+                                                       "verified saddle above free substrate + free base")
+    saddle_character: SaddleCharacterRecord | None = None
     relaxed_path_estimate_kcal_mol: float | None = None
     saddle_verified: bool = False
     imaginary_frequency_cm1: float | None = None
@@ -173,6 +196,7 @@ class BetaHydrogenRecord(_Record):
     rule_status: Literal["anti accessible", "syn only", "blocked"]
     anti: ApproachRecord
     syn: ApproachRecord
+    isotope_effects: tuple[IsotopeEffectRecord, ...] = ()
     scans: tuple[ScanRecord, ...]
 
 
@@ -203,6 +227,26 @@ class RuleRecord(_Record):
     hofmann_shift: bool
     energy_window_kcal_mol: float
     reasoning: tuple[str, ...]
+
+
+class SubstitutionRecord(_Record):
+    """Backside substitution (SN2) at C-alpha: its product, barrier, and the elimination/substitution split."""
+
+    product_smiles: str | None = Field(None, description="inversion at C-alpha, canonical isomeric SMILES")
+    path_status: Literal["ok", "failed", "not computed"] = "not computed"
+    barrier_kcal_mol: float | None = Field(None, description="same zero and kind as the E2 barriers")
+    barrier_free_energy_kcal_mol: float | None = None
+    barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    saddle_verified: bool = False
+    imaginary_frequency_cm1: float | None = None
+    saddle_note: str | None = None
+    path_file: str | None = None
+    saddle_file: str | None = None
+    error: ErrorInfo | None = None
+    elimination_fraction: float | None = Field(None, description="share of all E2 paths against the SN2 path")
+    substitution_fraction: float | None = None
+    rule_call: Literal["substitution", "elimination", "mixture"]
+    rule_reason: str
 
 
 class VerdictRecord(_Record):
@@ -240,6 +284,8 @@ class JobRecord(_Record):
     barrier_kind: str | None = Field(None, description="what the barriers are, e.g. electronic energy differences")
     temperature_K: float | None = Field(None, description="temperature of the Boltzmann weights")
     verdict: VerdictRecord | None = None
+    energy_used: Literal["electronic", "free"] = Field("electronic", description="which barriers drive the product mix")
+    substitution: SubstitutionRecord | None = None
 
 
 class RunSummary(_Record):
@@ -255,7 +301,7 @@ class RunResult(_Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
