@@ -13,7 +13,7 @@ export MKL_NUM_THREADS ?= 1
 export OMP_STACKSIZE ?= 1G
 export MPLBACKEND ?= Agg
 
-.PHONY: demo test test-fast bench schema clean check-python browser-deps
+.PHONY: validate demo test test-fast bench schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -59,6 +59,10 @@ bench: $(VENV)/.installed
 	$(VPY) benchmarks/bench_engine.py
 	$(VPY) benchmarks/bench_paths.py
 	$(VPY) benchmarks/bench_batch.py
+
+# Reference cases against experiment (tens of minutes; not part of make test): writes validation/VALIDATION.md
+validate: $(VENV)/.installed
+	$(VPY) validation/validate.py
 
 schema: $(VENV)/.installed
 	$(VPY) -m elimscan.records results-schema

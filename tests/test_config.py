@@ -97,3 +97,10 @@ def test_built_in_bases_need_no_smiles():
     with pytest.raises(ConfigError, match="needs a smiles") as info:
         parse_config(GOOD.replace('{name: ethoxide, smiles: "CC[O-]"}', "{name: superbase}"))
     assert info.value.key_path == "bases.0" and info.value.line == 6
+
+
+def test_reserved_base_models_are_refused_rather_than_ignored():
+    text = GOOD.replace('{name: ethoxide, smiles: "CC[O-]"}', '{name: ethoxide, smiles: "CC[O-]", model: {counter_ion: K}}')
+    with pytest.raises(ConfigError, match="not available yet") as info:
+        parse_config(text)
+    assert info.value.key_path.startswith("bases.0.model")

@@ -197,10 +197,17 @@ class SubstrateConfig(_Frozen):
 
 
 class BaseModelConfig(_Frozen):
-    """How the base is modelled (reserved: counter-ion and explicit solvent molecules)."""
+    """How the base is modelled (reserved: counter-ion and explicit solvent molecules are not built yet)."""
 
     counter_ion: str | None = None
     explicit: int = Field(0, ge=0)
+
+    @model_validator(mode="after")
+    def _not_yet(self) -> "BaseModelConfig":
+        if self.counter_ion is not None or self.explicit:
+            raise ValueError("base models with a counter-ion or explicit solvent molecules are not available yet: "
+                             "only the bare base is modelled (leave 'model' out)")
+        return self
 
 
 #: Built-in bases: a base given by one of these names needs no SMILES.
