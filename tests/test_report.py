@@ -1,8 +1,9 @@
-"""Report files (CSV, plots, HTML) and result validation, on two committed runs (fast tier: no GFN2-xTB).
+"""Report files (CSV, plots, HTML) and result validation, on three committed runs (fast tier: no GFN2-xTB).
 
 The fixtures in tests/data/report-fixture/ are real outputs of ``elimscan run`` (results.json and the scan
-trajectories it references) for configs/halobutane-bases.yaml (``halobutane``: every saddle verified) and
-configs/ring-demo.yaml (``ring``: two unverified saddles, flagged paths, anti paths not computed).
+trajectories it references) for configs/halobutane-bases.yaml (``halobutane``: every saddle verified),
+configs/ring-demo.yaml (``ring``: two unverified saddles, flagged paths, anti paths not computed) and a small
+bromoethane + methoxide run (``primary``: free energies, saddle character, isotope effects, substitution).
 Checks against something outside elimscan: ASE's ``Atoms.get_dihedral`` for the Newman projections'
 dihedrals, RDKit's bond graph from the SMILES for the bonds the projection draws, the CODATA gas constant
 (scipy.constants) for the Curtin-Hammett shares, the stdlib csv and HTML parsers for the files, jsonschema
@@ -41,6 +42,9 @@ from elimscan.tables import SUMMARY_COLUMNS, summary_csv
 
 FIXTURES = Path(__file__).resolve().parent / "data" / "report-fixture"
 RUNS = ("halobutane", "ring")
+#: the run with the v0.5 fields (barrier_free_energy_kcal_mol, saddle_character, isotope_effects, substitution)
+PRIMARY = "primary"
+ALL_RUNS = (*RUNS, PRIMARY)
 REFRESH = "results.json of the fixture no longer matches records.py: refresh it (tests/data/report-fixture/README.md)"
 
 
@@ -57,7 +61,7 @@ def result(run: str) -> RunResult:
 @pytest.fixture(scope="module")
 def built() -> dict[str, dict[str, bytes]]:
     """Return {run: report files} built once per module from the fixtures."""
-    return {run: build_report_files(FIXTURES / run) for run in RUNS}
+    return {run: build_report_files(FIXTURES / run) for run in ALL_RUNS}
 
 
 class _Page(HTMLParser):
@@ -277,11 +281,12 @@ def test_csv_keeps_a_failed_job_as_one_row():
 # --- report files ------------------------------------------------------------------------------------
 
 
-def test_rebuilding_gives_byte_identical_files(built):
-    again = build_report_files(FIXTURES / "ring")
-    assert sorted(again) == sorted(built["ring"])
+@pytest.mark.parametrize("run", ("ring", PRIMARY))
+def test_rebuilding_gives_byte_identical_files(run, built):
+    again = build_report_files(FIXTURES / run)
+    assert sorted(again) == sorted(built[run])
     for name, content in again.items():
-        assert content == built["ring"][name], name
+        assert content == built[run][name], name
 
 
 @pytest.mark.parametrize("run", RUNS)
@@ -696,7 +701,7 @@ def test_svg_is_byte_identical_on_rebuild_and_undated():
 # --- validation --------------------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize("run", RUNS)
+@pytest.mark.parametrize("run", ALL_RUNS)
 def test_fixture_results_are_valid(run):
     # a fixture may be of an older schema version as long as records.py still reads that version
     accepted = typing.get_args(RunResult.model_fields["schema_version"].annotation)
@@ -730,6 +735,153 @@ def test_validation_reports_unreadable_and_foreign_documents(tmp_path):
     gone = tmp_path / "gone.json"
     gone.write_text(json.dumps(missing), encoding="utf-8")
     assert validate_result_file(gone) == ["(top level): 'summary' is a required property"]
+
+
+# --- free energies, saddle character, isotope effects and substitution ------------------------------
+
+
+def shown_free(value: float | None) -> str:
+    """Return how the page prints a \u0394G\u2021: like a barrier, or an em dash when absent."""
+    return "\u2014" if value is None else shown_barrier(value)
+
+
+def test_primary_fixture_holds_the_new_fields():
+    # the tests below would pass vacuously on a run without these fields
+    job = raw(PRIMARY)["jobs"][0]
+    assert [a["barrier_free_energy_kcal_mol"] is not None for _, _, a in computed(job)] == [True]
+    assert any(a["saddle_character"] for _, _, a in approaches(job))
+    assert sum(len(b["isotope_effects"]) for b in job["beta_hydrogens"]) == 2
+    assert job["substitution"]["path_status"] == "ok" and job["energy_used"] == "electronic"
+
+
+@pytest.mark.parametrize("run", ALL_RUNS)
+def test_free_barrier_and_character_cells_equal_the_json(run, built):
+    doc = raw(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    for section, job in zip(page.sections, doc["jobs"]):
+        found = [(c["row"]["attrs"]["data-class"], c["attrs"]["data-approach"], c["text"])
+                 for c in elements(section, "td", "free-barrier")]
+        assert found == [(b["class_id"], n, shown_free(a.get("barrier_free_energy_kcal_mol"))) for b, n, a in approaches(job)]
+        labels = [(c["row"]["attrs"]["data-class"], c["attrs"]["data-approach"], c["text"])
+                  for c in elements(section, "td", "character")]
+        assert labels == [(b["class_id"], n, a["saddle_character"]["label"] if a.get("saddle_character") else "\u2014")
+                          for b, n, a in approaches(job)]
+
+
+@pytest.mark.parametrize("run", ALL_RUNS)
+def test_isotope_table_lists_every_isotope_effect_of_the_json(run, built):
+    doc = raw(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    for section, job in zip(page.sections, doc["jobs"]):
+        rows = [[e["text"] for e in section["elements"] if e["tag"] == "td" and e["row"] is r]
+                for r in elements(section, "tr", "kie-row")]
+        expected = [[b["class_id"], k["approach"], k["label"], ", ".join(map(str, k["deuterated_indices"])),
+                     f"{k['kh_kd']:.2f}", f"{k['kh_kd_wigner']:.2f}", f"{k['temperature_K']:g}"]
+                    for b in job["beta_hydrogens"] for k in b.get("isotope_effects", ())]
+        assert rows == expected
+        assert bool(expected) == (run == PRIMARY)
+    # the one sentence that explains the table is there exactly when a table is
+    words = words_of(built[run]["report.html"].decode("utf-8"))
+    assert ("compare them with your own labelling experiments" in words) == (run == PRIMARY)
+
+
+def test_isotope_effects_of_the_fixture_are_primary_and_semiclassical():
+    # a primary H/D effect is above 1, below the semiclassical ceiling of about 7 at 298 K without tunnelling
+    # (Westheimer, Chem. Rev. 1961, 61, 265, from memory); Wigner's correction 1 + (h nu / kT)^2 / 24 (Wigner,
+    # Z. Phys. Chem. B 1932, 19, 203, from memory) is larger for H than for D, so it can only raise k_H/k_D
+    for beta in raw(PRIMARY)["jobs"][0]["beta_hydrogens"]:
+        for k in beta["isotope_effects"]:
+            assert 1.0 < k["kh_kd"] < 7.5 and k["kh_kd_wigner"] > k["kh_kd"], k
+
+
+def test_substitution_box_shows_the_json_split_and_call(built):
+    doc = raw(PRIMARY)
+    page = parse(built[PRIMARY]["report.html"].decode("utf-8"))
+    for section, job in zip(page.sections, doc["jobs"]):
+        sub = job["substitution"]
+        boxes = elements(section, "div", "sn2")
+        assert len(boxes) == 1
+        box = boxes[0]
+        assert (box["attrs"]["data-elimination"], box["attrs"]["data-substitution"]) == (
+            f"{sub['elimination_fraction']:.4f}", f"{sub['substitution_fraction']:.4f}")
+        assert sub["elimination_fraction"] + sub["substitution_fraction"] == pytest.approx(1.0, abs=1e-4)
+        split = f"E2 {100 * sub['elimination_fraction']:.1f} % : SN2 {100 * sub['substitution_fraction']:.1f} %"
+        assert f"Computed split {split}" in box["text"]
+        assert f"Textbook call {sub['rule_call']} {sub['rule_reason']}" in box["text"]
+        assert box["attrs"]["data-rule-call"] == sub["rule_call"]
+        assert f"SN2 product {sub['product_smiles']}" in box["text"]
+        assert f"\u0394E\u2021 (kcal/mol) {shown_barrier(sub['barrier_kcal_mol'])}" in box["text"]
+        assert f"\u0394G\u2021 (kcal/mol) {shown_free(sub['barrier_free_energy_kcal_mol'])}" in box["text"]
+        assert ("verified saddle" in box["text"]) == sub["saddle_verified"] and sub["saddle_note"] in box["text"]
+        # the textbook's call for a primary C-alpha and a small base (common practice): substitution wins
+        assert sub["rule_call"] == "substitution" and sub["substitution_fraction"] > sub["elimination_fraction"]
+    # runs without substitution show no box
+    for run in RUNS:
+        assert all(elements(s, "div", "sn2") == [] for s in parse(built[run]["report.html"].decode("utf-8")).sections)
+
+
+@pytest.mark.parametrize("run", ALL_RUNS)
+def test_character_plot_has_a_point_per_saddle_with_a_character(run, built):
+    doc, res = raw(run), result(run)
+    page = parse(built[run]["report.html"].decode("utf-8"))
+    total = 0
+    for job, record, section in zip(doc["jobs"], res.jobs, page.sections):
+        expected = {f"character-{b['class_id']}-{n}": (a["saddle_character"]["c_h_cleavage"],
+                                                       a["saddle_character"]["c_x_cleavage"])
+                    for b, n, a in approaches(job) if a["saddle_verified"] and a.get("saddle_character")}
+        name = plot_name(job["job_id"], "character")
+        figures = job_figures(record, 150.0, 30.0, 3.0, {})
+        assert (name in figures) == bool(expected)
+        assert (f"{name}.png" in built[run]) == bool(expected)
+        if not expected:
+            continue
+        ax = figures[name].axes[0]
+        points = {ln.get_gid(): (ln.get_xdata()[0], ln.get_ydata()[0]) for ln in ax.get_lines()
+                  if (ln.get_gid() or "").startswith("character-C")}
+        assert points == expected
+        assert all(0.0 <= v <= 1.0 for xy in points.values() for v in xy)
+        assert (ax.get_xlim(), ax.get_ylim()) == ((-0.05, 1.05), (-0.05, 1.05))
+        corners = " ".join(t.get_text() for t in ax.texts)
+        for words in ("reactant", "alkene + conjugate acid + X", "carbanion intermediate", "carbocation intermediate"):
+            assert words in corners, words
+        # and the page carries it: one inline-SVG element per point
+        ids = [i for i in section["svg_ids"] if re.search(r"-character-C\d+-H\d+-(anti|syn)$", i)]
+        assert len(ids) == len(expected)
+        total += len(expected)
+    assert (total > 0) == (run == PRIMARY)
+
+
+@pytest.mark.parametrize("run", ALL_RUNS)
+def test_csv_free_barrier_and_elimination_columns_match_the_json(run):
+    doc = raw(run)
+    rows = list(csv.DictReader(io.StringIO(summary_csv(result(run)))))
+    assert tuple(rows[0].keys()) == SUMMARY_COLUMNS
+    jobs = {j["job_id"]: j for j in doc["jobs"]}
+    for row in rows:
+        job = jobs[row["job_id"]]
+        free = [a["barrier_free_energy_kcal_mol"] for _, _, a in computed(job)
+                if a["product_smiles"] == row["product_smiles"] and a["product_possible"]
+                and a.get("barrier_free_energy_kcal_mol") is not None]
+        assert row["lowest_free_barrier_kcal_mol"] == (f"{min(free):.3f}" if free else "")
+        sub = job.get("substitution")
+        assert row["elimination_fraction"] == ("" if not sub else f"{sub['elimination_fraction']:.4f}")
+    if run == PRIMARY:
+        assert all(r["lowest_free_barrier_kcal_mol"] and r["elimination_fraction"] for r in rows)
+
+
+def test_reading_the_numbers_explains_the_new_fields(built):
+    words = words_of(built[PRIMARY]["report.html"].decode("utf-8"))
+    for phrase in ("driven by electronic barriers \u0394E\u2021 in every job", "quasi-RRHO", "standard state 1 M",
+                   "Rotational symmetry numbers are 1", "path degeneracy already counts symmetry once",
+                   "1 \u2212 the Pauling bond order", "r\u2080 from the free substrate", "More O\u2019Ferrall\u2013Jencks"):
+        assert phrase in words, phrase
+    assert CAUTION in words
+    # a run whose mix was driven by free energies says so instead
+    doc = raw(PRIMARY)
+    doc["jobs"][0]["energy_used"] = "free"
+    words = words_of(render_report(RunResult.model_validate(doc), {}))
+    assert "driven by free-energy barriers \u0394G\u2021 (quasi-RRHO, 1 M) in every job" in words
+    assert "driven by electronic barriers" not in words
 
 
 # --- the page in a browser ---------------------------------------------------------------------------

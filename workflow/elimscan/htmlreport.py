@@ -16,8 +16,8 @@ from rdkit import Chem
 from rdkit.Chem.Draw import rdMolDraw2D
 
 from elimscan.config import SolventConfig
-from elimscan.plots import BARRIER_SHIFT_KCAL_MOL, figure_svg, job_figures, plot_name, signed
-from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult
+from elimscan.plots import BARRIER_SHIFT_KCAL_MOL, character_points, figure_svg, job_figures, plot_name, signed
+from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult, SubstitutionRecord
 from elimscan.tables import job_solvent, product_anti_penalty_kcal_mol, product_lowest_barrier, product_paths
 
 CAUTION = ("Computed predictions are not safety data. Strong bases (alkoxides, amides, hydrides) and alkyl halides "
@@ -25,7 +25,8 @@ CAUTION = ("Computed predictions are not safety data. Strong bases (alkoxides, a
            "any experiment under qualified supervision, with a proper risk assessment, and follow your local regulations.")
 
 MEANING = (
-    "All energies are GFN2-xTB electronic energies including the implicit-solvent term; they are not free energies.",
+    "Unless marked \u0394G\u2021, all energies are GFN2-xTB electronic energies including the implicit-solvent term; "
+    "they are not free energies.",
     "An anti (syn) cost is the lowest energy, above the substrate's global minimum, of any conformer or scan point "
     "with the H\u2013C\u03b2\u2013C\u03b1\u2013X dihedral in the anti (syn) window, in kcal/mol: the conformational price "
     "of putting that hydrogen where the rule needs it. It is not a barrier.",
@@ -37,6 +38,14 @@ BARRIERS_ABSENT = ("Barriers (base\u2013substrate complexes, E2 paths) and a com
 #: said of a job without computed paths, in its verdict box and its foot
 NO_BARRIERS_JOB = "no barriers were computed for this job"
 DASH = "\u2013"
+#: shown where an approach has no free-energy barrier or no saddle character
+ABSENT = "\u2014"
+#: the one sentence under a job's isotope-effect table
+KIE_SENTENCE = ("Primary kinetic isotope effects k_H/k_D for the deuterium positions named, from the harmonic "
+                "frequencies of the free substrate and of the saddle with isotopic masses (Bigeleisen\u2013Mayer), "
+                "without and with Wigner\u2019s tunnelling correction: compare them with your own labelling experiments.")
+#: what the two words of energy_used mean in the page
+ENERGY_WORDS = {"electronic": "electronic barriers \u0394E\u2021", "free": "free-energy barriers \u0394G\u2021 (quasi-RRHO, 1 M)"}
 
 
 def barrier_meaning(temperatures_K: tuple[float, ...]) -> tuple[str, ...]:
@@ -127,13 +136,19 @@ ol.path-notes { font-size: .82rem; color: var(--muted); margin-top: 0; }
                       border-radius: 3px; }
 .verdict p { margin: .35rem 0; }
 .verdict dl.facts { margin: .4rem 0; }
+.sn2 { border: 2px solid #5d6d7e; border-radius: 4px; padding: .55rem .9rem; margin: .4rem 0 1rem; background: var(--band); }
+.sn2-sides { display: flex; flex-wrap: wrap; gap: 1rem; margin-top: .4rem; }
+.sn2-side { flex: 1 1 14rem; border-left: 4px solid #5d6d7e; padding: .2rem .7rem; background: #fff; }
+.sn2-side p { margin: .2rem 0; }
+.sn2-split, .sn2-call { font-size: 1.05rem; font-weight: bold; }
+table.kie { font-size: .82rem; }
 .job-foot { margin-top: 1.2rem; padding-top: .5rem; border-top: 1px dashed var(--rule); font-size: .82rem; color: var(--muted); }
 @page { size: A4; margin: 14mm; }
 @media print {
   body { max-width: none; padding: 0; font-size: 10.5pt; }
   a { color: inherit; text-decoration: none; }
   section.job { break-before: page; border-top: none; margin-top: 0; }
-  figure, table, .caution, .job-foot, .verdict { break-inside: avoid; }
+  figure, table, .caution, .job-foot, .verdict, .sn2 { break-inside: avoid; }
   .wide { overflow: visible; }
   table.beta { font-size: 7.5pt; }
   table.beta th, table.beta td { padding: .15rem .3rem; }
@@ -410,6 +425,66 @@ def _barrier_cells(approach: ApproachRecord, name: str, note: str) -> str:
             f'<td class="num saddle {cls}" data-approach="{name}">{word}{note}</td>')
 
 
+def _free_cells(approach: ApproachRecord, name: str) -> str:
+    """Return the \u0394G\u2021 cell (kcal/mol, '\u2014' when absent) and the saddle-character cell of one approach."""
+    value = approach.barrier_free_energy_kcal_mol
+    character = approach.saddle_character
+    label = ABSENT if character is None else character.label
+    where = "" if character is None else (f' data-ch="{character.c_h_cleavage:.4f}" data-cx="{character.c_x_cleavage:.4f}"'
+                                          f' title="C\u2013H cleavage {character.c_h_cleavage:.2f}, '
+                                          f'C\u2013X cleavage {character.c_x_cleavage:.2f}"')
+    return (f'<td class="num free-barrier" data-approach="{name}" data-key="{"" if value is None else f"{value:.3f}"}">'
+            f"{esc(ABSENT if value is None else signed(value, 2))}</td>"
+            f'<td class="character" data-approach="{name}"{where}>{esc(label)}</td>')
+
+
+def _isotope_table(job: JobRecord) -> str:
+    """Return the small table of every class's kinetic isotope effects and its sentence, or '' when there are none."""
+    rows = [f'<tr class="kie-row" data-class="{esc(b.class_id)}" data-approach="{esc(k.approach)}">'
+            f"<td>{esc(b.class_id)}</td><td>{esc(k.approach)}</td><td>{esc(k.label)}</td>"
+            f"<td>{esc(', '.join(map(str, k.deuterated_indices)))}</td>"
+            f'<td class="num kie" data-key="{k.kh_kd:.3f}">{k.kh_kd:.2f}</td>'
+            f'<td class="num kie-wigner" data-key="{k.kh_kd_wigner:.3f}">{k.kh_kd_wigner:.2f}</td>'
+            f'<td class="num">{k.temperature_K:g}</td></tr>'
+            for b in job.beta_hydrogens for k in b.isotope_effects]
+    if not rows:
+        return ""
+    return ('<table class="kie"><thead><tr><th>class</th><th>path</th><th>deuterium at</th><th>D atoms (0-based)</th>'
+            '<th class="num">k<sub>H</sub>/k<sub>D</sub></th><th class="num">with Wigner</th><th class="num">T (K)</th>'
+            "</tr></thead>\n<tbody>\n" + "\n".join(rows) + "\n</tbody></table>"
+            f'<p class="note kie-note">{esc(KIE_SENTENCE)}</p>')
+
+
+def _substitution_box(job: JobRecord, sub: SubstitutionRecord) -> str:
+    """Return the SN2 box of a job: product, barriers, verification, the E2 : SN2 split beside the textbook call."""
+    if sub.path_status == "ok" and sub.barrier_kcal_mol is not None:
+        frequency = "" if sub.imaginary_frequency_cm1 is None else f", \u03bd\u2021 {sub.imaginary_frequency_cm1:.1f}i cm\u207b\u00b9"
+        check = ("verified saddle" if sub.saddle_verified else
+                 f"not verified; the barrier is the {sub.barrier_source or 'relaxed-path maximum'}") + frequency
+        if sub.saddle_note:
+            check += f" ({sub.saddle_note})"
+    elif sub.path_status == "failed":
+        error = f"{sub.error.error_type}: {sub.error.error_message}" if sub.error else "no reason recorded"
+        check = f"the path failed ({error})"
+    else:
+        check = "not computed"
+    split = (ABSENT if sub.elimination_fraction is None or sub.substitution_fraction is None else
+             f"E2 {percent_text(sub.elimination_fraction)} : SN2 {percent_text(sub.substitution_fraction)}")
+    facts = [("SN2 product", f'<span class="smiles sn2-product">{esc(sub.product_smiles or "none")}</span>'),
+             ("\u0394E\u2021 (kcal/mol)", f'<span class="sn2-barrier">{esc(barrier_text(sub.barrier_kcal_mol))}</span>'),
+             ("\u0394G\u2021 (kcal/mol)", f'<span class="sn2-free-barrier">'
+              f"{esc(ABSENT if sub.barrier_free_energy_kcal_mol is None else signed(sub.barrier_free_energy_kcal_mol, 2))}</span>"),
+             ("saddle", f'<span class="sn2-saddle">{esc(check)}</span>')]
+    dl = '<dl class="facts">' + "".join(f"<dt>{k}</dt><dd>{v}</dd>" for k, v in facts) + "</dl>"
+    e2 = "" if sub.elimination_fraction is None else f"{sub.elimination_fraction:.4f}"
+    sn2 = "" if sub.substitution_fraction is None else f"{sub.substitution_fraction:.4f}"
+    return (f'<div class="sn2" data-elimination="{e2}" data-substitution="{sn2}" data-rule-call="{esc(sub.rule_call)}">'
+            f"{dl}<div class=\"sn2-sides\"><div class=\"sn2-side sn2-computed\"><strong>Computed split</strong>"
+            f"<p class=\"sn2-split\">{esc(split)}</p><p class=\"note\">on {esc(ENERGY_WORDS[job.energy_used])}</p></div>"
+            f"<div class=\"sn2-side sn2-rule\"><strong>Textbook call</strong><p class=\"sn2-call\">{esc(sub.rule_call)}</p>"
+            f"<p class=\"note sn2-reason\">{esc(sub.rule_reason)}</p></div></div></div>")
+
+
 def _path_note(beta: BetaHydrogenRecord, name: str, approach: ApproachRecord) -> str | None:
     """Return the footnote text of an approach (unverified saddle, failed path, flags), or None."""
     if approach.path_status == "failed":
@@ -448,16 +523,17 @@ def _beta_table(job: JobRecord) -> str:
                 if text is not None:
                     notes.append(text)
                     mark = f'<sup><a href="#{esc(_anchor(job))}-note-{len(notes)}" class="note-mark">{len(notes)}</a></sup>'
-                cells += _barrier_cells(approach, name, mark)
+                cells += _barrier_cells(approach, name, mark) + _free_cells(approach, name)
             cells += gives[name]
         rows.append(cells + f"<td>{esc(where)}</td></tr>")
     unit = "<br>kcal/mol"
     if barriers:
         approach_heads = (f'<th class="num">\u0394E\u2021 rel.{unit}</th><th class="num">\u0394E\u2021 abs.{unit}</th>'
-                          '<th class="num">saddle<br>\u03bd\u2021 cm\u207b\u00b9</th><th>gives</th>')
+                          '<th class="num">saddle<br>\u03bd\u2021 cm\u207b\u00b9</th>'
+                          f'<th class="num">\u0394G\u2021{unit}</th><th>saddle character</th><th>gives</th>')
         head = ('<tr><th rowspan="2">class</th><th rowspan="2">equivalent H atoms</th>'
-                '<th colspan="3" class="group">the rule: periplanar cost</th><th colspan="4" class="group">anti elimination</th>'
-                '<th colspan="4" class="group">syn elimination</th><th rowspan="2">best anti geometry</th></tr>'
+                '<th colspan="3" class="group">the rule: periplanar cost</th><th colspan="6" class="group">anti elimination</th>'
+                '<th colspan="6" class="group">syn elimination</th><th rowspan="2">best anti geometry</th></tr>'
                 f'<tr><th class="num">anti{unit}</th><th class="num">syn{unit}</th><th>status</th>'
                 f"{approach_heads}{approach_heads}</tr>")
     else:
@@ -546,6 +622,7 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
                          "read only the relative values")
         if job.temperature_K is not None:
             barrier_words += f"; shares are Boltzmann weights at {job.temperature_K:g} K"
+        barrier_words += f" on {ENERGY_WORDS[job.energy_used]}"
     else:
         barrier_words = NO_BARRIERS_JOB
     foot = (f'<div class="job-foot"><p><strong>Method:</strong> {esc(method_line(result, job_solvent(result, job)))}.</p>'
@@ -578,6 +655,7 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
             facts.append(("barriers", esc(job.barrier_kind)))
         if job.temperature_K is not None:
             facts.append(("Boltzmann weights at", f"{job.temperature_K:g} K"))
+        facts.append(("product mix from", esc(ENERGY_WORDS[job.energy_used])))
     dl = '<dl class="facts">' + "".join(f"<dt>{k}</dt><dd>{v}</dd>" for k, v in facts) + "</dl>"
     picture = ""
     if depiction:
@@ -590,6 +668,7 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
     scan_key, product_key = plot_name(job.job_id, "scan"), plot_name(job.job_id, "products")
     path_key = plot_name(job.job_id, "paths")
     path_svg = assets.get(path_key) or own.get(path_key)
+    character_key = plot_name(job.job_id, "character")
     body = [
         _verdict_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
@@ -600,7 +679,10 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
         "equivalents; atom indices are 0-based as in results.json."
         + (" \u0394E\u2021: electronic barrier in kcal/mol, rel. above the job's lowest, abs. above the substrate's global "
            "minimum + free base; \u03bd\u2021: the saddle's imaginary frequency; the numbered notes explain unverified "
-           "saddles, failed paths and flagged paths." if barriers else "") + "</p>",
+           "saddles, failed paths and flagged paths. \u0394G\u2021: quasi-RRHO free-energy barrier in kcal/mol (1 M), "
+           "verified saddles only (\u201c\u2014\u201d otherwise); saddle character: see the map below."
+           if barriers else "") + "</p>",
+        _isotope_table(job),
         "<h3>Alkenes: the rule\u2019s call" + (" and the computed shares</h3>" if barriers else "</h3>"),
         _product_table(job),
     ]
@@ -612,6 +694,17 @@ def _job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], o
                     "diamonds at the path maximum: filled, verified saddle (at its energy); open, unverified "
                     "(the path maximum).", "No path plot."),
         ]
+        if character_points(job):
+            body += [
+                "<h3>Saddle character</h3>",
+                _figure(assets.get(character_key) or own.get(character_key), character_key.replace("/", "-"),
+                        "Each verified E2 saddle (class and path) on the two cleavage axes, 1 \u2212 Pauling bond order "
+                        "with r\u2080 from the free substrate; dotted: both bonds breaking in step; the corners are the "
+                        "reactant, the alkene with the conjugate acid and X\u207b, and the two stepwise intermediates.",
+                        "No character plot."),
+            ]
+    if job.substitution is not None:
+        body += ["<h3>Substitution (SN2) beside elimination</h3>", _substitution_box(job, job.substitution)]
     body += [
         "<h3>Dihedral scans</h3>",
         _figure(assets.get(scan_key) or own.get(scan_key), scan_key.replace("/", "-"),
@@ -649,7 +742,52 @@ def _barrier_points(result: RunResult) -> tuple[str, ...]:
     points = barrier_meaning(temperatures or (result.config.method.temperature_K,))
     if len(jobs) < len(result.jobs):
         points += ("Some jobs have no computed paths: their product calls are the geometric rule's only.",)
-    return points
+    return points + _new_field_points(result, jobs)
+
+
+def energy_used_point(jobs: list[JobRecord]) -> str:
+    """Return the point of "Reading the numbers" that says which barriers drove each job's product mix."""
+    used = {j.energy_used for j in jobs}
+    if len(used) == 1:
+        kind = next(iter(used))
+        text = f"The product mixes and the E2 : SN2 split were driven by {ENERGY_WORDS[kind]} in every job"
+    else:
+        text = "The product mixes were driven by " + "; ".join(
+            f"{ENERGY_WORDS[j.energy_used]} in {j.job_id}" for j in jobs)
+    if "free" in used:
+        text += (": with free energies, read \u0394G\u2021 for \u0394E\u2021 in the share rule above, and paths "
+                 "without a verified saddle (no \u0394G\u2021) are left out")
+    return text + "."
+
+
+def _new_field_points(result: RunResult, jobs: list[JobRecord]) -> tuple[str, ...]:
+    """Return the points on energy_used, \u0394G\u2021, saddle character, isotope effects and substitution (those with data)."""
+    approaches = [a for j in jobs for b in j.beta_hydrogens for a in (b.anti, b.syn)]
+    points = [energy_used_point(jobs)]
+    if any(a.barrier_free_energy_kcal_mol is not None for a in approaches) or any(
+            j.substitution is not None and j.substitution.barrier_free_energy_kcal_mol is not None for j in jobs):
+        points.append(
+            "\u0394G\u2021 is a free energy of activation in kcal/mol for verified saddles only: ideal-gas "
+            "thermochemistry from the Hessians of the free substrate, the free base and the saddle, harmonic enthalpies, "
+            "Grimme\u2019s quasi-RRHO entropy for low modes, standard state 1 M, at the run\u2019s temperature, above the "
+            "free substrate plus the free base. Rotational symmetry numbers are 1 on purpose: the path degeneracy already "
+            "counts symmetry once. \u201c\u2014\u201d: no \u0394G\u2021 (no verified saddle).")
+    if any(a.saddle_character is not None for a in approaches):
+        points.append(
+            "Saddle character: C\u03b2\u2013H and C\u03b1\u2013X cleavage are each 1 \u2212 the Pauling bond order "
+            "exp((r\u2080 \u2212 r)/0.3 \u00c5), r at the saddle and r\u2080 from the free substrate: 0 is an intact bond, "
+            "1 a broken one. C\u2013H cleavage well ahead of C\u2013X reads carbanion-like, C\u2013X well ahead "
+            "carbocation-like, the two in step central; the map places each verified saddle on these two axes "
+            "(a More O\u2019Ferrall\u2013Jencks diagram).")
+    if any(b.isotope_effects for j in jobs for b in j.beta_hydrogens):
+        points.append("k_H/k_D: " + KIE_SENTENCE)
+    if any(j.substitution is not None for j in jobs):
+        points.append(
+            "Substitution (SN2): the base attacks C\u03b1 from the back, the product carries the Walden inversion, and "
+            "its barrier shares the zero and the kind of the E2 barriers. The E2 : SN2 split comes from the same "
+            "Boltzmann mix over all paths; the textbook call beside it (primary C\u03b1 with a small base: "
+            "substitution; tertiary C\u03b1 or a bulky base: elimination; secondary: a mixture) is a rule of thumb.")
+    return tuple(points)
 
 
 def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
@@ -682,6 +820,7 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
         own: dict[str, str] = {}
         if job.status == "ok":
             kinds = ("scan", "products", "paths") if has_barriers(job) else ("scan", "products")
+            kinds += ("character",) if character_points(job) else ()
             if not all(plot_name(job.job_id, k) in assets for k in kinds):
                 figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
                 own = {k: figure_svg(f) for k, f in figures.items() if k not in assets}

@@ -24,11 +24,17 @@ Columns of ``summary.csv``, in this order (only columns that hold data in this v
                                       plus the free base, same solvent (too low in absolute terms, can be negative);
                                       empty when no path giving it was computed
 ``lowest_relative_barrier_kcal_mol``  that path's barrier above the job's lowest barrier (kcal/mol, 3 decimals)
+``lowest_free_barrier_kcal_mol``      lowest dG‡ (kcal/mol, 3 decimals) of the verified saddles that give it:
+                                      quasi-RRHO free energy, 1 M, at the job's temperature_K, above the free
+                                      substrate plus the free base; empty when none has a dG‡
 ``fraction``                          computed share (0-1, 4 decimals; Curtin-Hammett: class degeneracy x
                                       exp(-dE‡/RT) of every computed path at the job's temperature_K, summed per
-                                      alkene); empty when not computed
+                                      alkene; dG‡ instead of dE‡ when the job's ``energy_used`` is ``free``); empty
+                                      when not computed
 ``fraction_low``                      lowest share when every barrier may move by +-1 kcal/mol (0-1, 4 decimals)
 ``fraction_high``                     highest share under the same moves (0-1, 4 decimals)
+``elimination_fraction``              the job's share of all E2 paths against backside substitution (SN2), on
+                                      every row of the job (0-1, 4 decimals); empty when SN2 was not computed
 ``computed_major``                    ``yes`` for the computed major alkene, ``no`` for the others, empty when the
                                       job has no computed major alkene
 ``agreement``                         the job's verdict, on every row of the job: ``yes`` when the rule's and the
@@ -54,8 +60,9 @@ from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, Prod
 
 SUMMARY_COLUMNS = ("job_id", "job_status", "substrate", "substrate_smiles", "base", "base_bulky", "leaving_group",
                    "solvent_model", "solvent", "product_smiles", "substitution", "rule_call", "via_classes",
-                   "anti_penalty_kcal_mol", "lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol", "fraction",
-                   "fraction_low", "fraction_high", "computed_major", "agreement", "within_method_uncertainty",
+                   "anti_penalty_kcal_mol", "lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol",
+                   "lowest_free_barrier_kcal_mol", "fraction", "fraction_low", "fraction_high", "elimination_fraction",
+                   "computed_major", "agreement", "within_method_uncertainty",
                    "rule_reason", "error")
 
 
@@ -91,6 +98,18 @@ def product_lowest_barrier(job: JobRecord, product: ProductRecord) -> ApproachRe
     """Return the computed path with the lowest barrier (kcal/mol) among those giving ``product``, or None."""
     paths = product_paths(job, product)
     return min((a for _, _, a in paths), key=lambda a: a.barrier_kcal_mol) if paths else None
+
+
+def product_lowest_free_barrier_kcal_mol(job: JobRecord, product: ProductRecord) -> float | None:
+    """Return the lowest dG‡ (kcal/mol) among the computed paths giving ``product`` that have one, or None."""
+    values = [a.barrier_free_energy_kcal_mol for _, _, a in product_paths(job, product)
+              if a.barrier_free_energy_kcal_mol is not None]
+    return min(values) if values else None
+
+
+def job_elimination_fraction(job: JobRecord) -> float | None:
+    """Return the job's E2 share (0-1) against SN2, or None when substitution was not computed."""
+    return None if job.substitution is None else job.substitution.elimination_fraction
 
 
 def _yes_no(value: bool | None) -> str:
@@ -139,7 +158,9 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
                          "anti_penalty_kcal_mol": _kcal(product_anti_penalty_kcal_mol(job, product)),
                          "lowest_barrier_kcal_mol": _barrier(None if best is None else best.barrier_kcal_mol),
                          "lowest_relative_barrier_kcal_mol": _barrier(None if best is None else best.relative_barrier_kcal_mol),
+                         "lowest_free_barrier_kcal_mol": _barrier(product_lowest_free_barrier_kcal_mol(job, product)),
                          "fraction": _share(product.fraction), "fraction_low": _share(low), "fraction_high": _share(high),
+                         "elimination_fraction": _share(job_elimination_fraction(job)),
                          "computed_major": _yes_no(computed_major),
                          "agreement": _yes_no(None if verdict is None else verdict.agreement),
                          "within_method_uncertainty": "" if verdict is None or verdict.computed_major is None
