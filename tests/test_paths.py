@@ -109,7 +109,8 @@ def _c3_paths(smiles, config, engine, approaches):
     analysis = type(analysis)(**{**analysis.__dict__, "classes": tuple(c3)})
     base = BaseAnalysis(relax_molecule("methoxide", "base", "C[O-]", None, 1, engine, config.optimizer, config.seed),
                         describe_base("C[O-]"))
-    cfg = config.model_copy(update={"paths": config.paths.model_copy(update={"approaches": approaches})})
+    cfg = config.model_copy(update={"paths": config.paths.model_copy(update={"approaches": approaches,
+                                                                              "substitution": False})})
     paths = compute_job_paths(analysis, base, cfg, engine)
     zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
     out = {key: ((p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, p) for key, p in paths.items()}
