@@ -334,7 +334,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
         **config.model_dump(mode="json", exclude={"substrates", "substrates_file", "pairs"}),
         "substrates": [s.model_dump(mode="json") for s in merged],
         "pairs": None if config.pairs is None else [p.model_dump() for p in config.pairs if p.substrate in kept]})
-    geometries = _read_geometries(config, folder)
+    geometries = read_geometries(config, folder)
     by_name = {s.name: s for s in merged}
     if config.pairs:
         pairs = [(p.substrate, bases[p.base]) for p in config.pairs]
@@ -382,7 +382,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     return BatchPlan(merged_config, tuple(jobs), config.substrates_file, file_sha, versions)
 
 
-def _read_geometries(config: RunConfig, folder: Path) -> dict[str, tuple[str, str]]:
+def read_geometries(config: RunConfig, folder: Path) -> dict[str, tuple[str, str]]:
     """Return {substrate name: (file text, 'sdf' | 'xyz')} for YAML substrates that name a geometry file."""
     found = {}
     for index, item in enumerate(config.substrates):

@@ -100,22 +100,6 @@ def _check_structures(config) -> None:
             "solvent (method.solvent: {model: alpb, name: ...})", key_path="method.solvent.model")
 
 
-def _read_geometries(config, folder: Path) -> dict[str, tuple[str, str]]:
-    """Return {substrate name: (file text, 'sdf' | 'xyz')} for substrates that name a geometry file."""
-    found = {}
-    for item in config.substrates:
-        if item.geometry is None:
-            continue
-        path = (folder / item.geometry) if not Path(item.geometry).is_absolute() else Path(item.geometry)
-        try:
-            text = path.read_text(encoding="utf-8")
-        except OSError as err:
-            raise ConfigError(f"substrate '{item.name}': cannot read geometry file '{path}': {err.strerror or err}",
-                              key_path=f"substrates.{config.substrates.index(item)}.geometry") from err
-        found[item.name] = (text, "xyz" if path.suffix.lower() == ".xyz" else "sdf")
-    return found
-
-
 def _batch_only(config) -> list[str]:
     """Return the batch-only keys a config uses (substrates_file, solvents)."""
     return [key for key in ("substrates_file", "solvents") if getattr(config, key) is not None]
@@ -135,7 +119,9 @@ def cmd_validate(args: argparse.Namespace) -> int:
                  plan.n_input_failures)
         return ExitCode.OK
     _check_structures(config)
-    _read_geometries(config, Path(args.config).parent)
+    from elimscan.batch import read_geometries
+
+    read_geometries(config, Path(args.config).parent)
     log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
              len(config.bases), len(config.jobs()))
     return ExitCode.OK
@@ -182,7 +168,9 @@ def cmd_run(args: argparse.Namespace) -> int:
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
     _check_structures(config)  # input errors stop the run before any calculation
-    geometries = _read_geometries(config, Path(args.config).parent)
+    from elimscan.batch import read_geometries
+
+    geometries = read_geometries(config, Path(args.config).parent)
     out = Path(args.out)
     _prepare_output(out, args.overwrite)
     _setup_logging(args.verbosity, out / LOG_FILE)
