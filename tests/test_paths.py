@@ -248,3 +248,32 @@ bases:
     g_e2 = 3 * math.exp(-free_job["beta_hydrogens"][0]["anti"]["barrier_free_energy_kcal_mol"] / rt)
     g_sn2 = math.exp(-free_job["substitution"]["barrier_free_energy_kcal_mol"] / rt)
     assert free_job["substitution"]["elimination_fraction"] == pytest.approx(g_e2 / (g_e2 + g_sn2), abs=2e-4)
+
+
+@pytest.mark.xtb
+def test_substitution_is_blocked_at_a_tertiary_centre(tmp_path):
+    # tert-Butyl bromide + methoxide: backside attack at a tertiary carbon is blocked (common practice; standard
+    # textbooks): no verified SN2 saddle, or one far (> 3 kcal/mol) above the E2 barrier, and the rule says so.
+    import json
+    import subprocess
+    import sys
+
+    config = tmp_path / "tertiary.yaml"
+    config.write_text("""name: tertiary
+method: {solvent: {model: alpb, name: methanol}}
+paths: {approaches: [anti]}
+substrates:
+  - {name: tert-butyl-bromide, smiles: "CC(C)(C)Br"}
+bases:
+  - {name: methoxide}
+""")
+    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "out")],
+                          capture_output=True, text=True, timeout=1800)
+    assert done.returncode == 0, done.stderr[-2000:]
+    job = json.loads((tmp_path / "out" / "results.json").read_text())["jobs"][0]
+    sn2 = job["substitution"]
+    assert sn2["rule_call"] == "elimination" and "tertiary" in sn2["rule_reason"]
+    (ch3,) = job["beta_hydrogens"]
+    assert ch3["degeneracy"] == 9 and ch3["anti"]["saddle_verified"]
+    assert (not sn2["saddle_verified"]) or sn2["barrier_kcal_mol"] - ch3["anti"]["barrier_kcal_mol"] > 3.0
+    assert sn2["elimination_fraction"] > 0.9
