@@ -168,14 +168,14 @@ def _align(vector: np.ndarray, target: np.ndarray) -> np.ndarray:
     return _rotation_matrix(cross, np.arccos(np.clip(dot, -1.0, 1.0)))
 
 
-def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, distance_A: float,
-               rotation_deg: float) -> Atoms:
-    """Return substrate + base with the basic atom on the extension of Cβ-H, ``distance_A`` from H.
+def _place_along(substrate: Atoms, tail: np.ndarray, head: np.ndarray, base: Atoms, basic: int, distance_A: float,
+                 rotation_deg: float) -> Atoms:
+    """Return substrate + base with the basic atom on the tail->head line, ``distance_A`` beyond head.
 
-    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about the Cβ-H axis.
+    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about that line.
     """
-    axis = substrate.positions[h] - substrate.positions[c_beta]
-    axis /= np.linalg.norm(axis)
+    axis = head - tail
+    axis = axis / np.linalg.norm(axis)
     moved = base.positions - base.positions[basic]
     others = [i for i in range(len(base)) if i != basic]
     if others:
@@ -185,8 +185,18 @@ def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, d
             moved = moved @ _align(outward, axis).T
     moved = moved @ _rotation_matrix(axis, np.radians(rotation_deg)).T
     placed = base.copy()
-    placed.positions = moved + substrate.positions[h] + distance_A * axis
+    placed.positions = moved + head + distance_A * axis
     return substrate + placed
+
+
+def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, distance_A: float,
+               rotation_deg: float) -> Atoms:
+    """Return substrate + base with the basic atom on the extension of Cβ-H, ``distance_A`` from H.
+
+    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about the Cβ-H axis.
+    """
+    return _place_along(substrate, substrate.positions[c_beta], substrate.positions[h], base, basic, distance_A,
+                        rotation_deg)
 
 
 def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
@@ -384,19 +394,8 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
 def place_backside(substrate: Atoms, c_alpha: int, x: int, base: Atoms, basic: int, distance_A: float,
                    rotation_deg: float) -> Atoms:
     """Return substrate + base with the nucleophilic atom behind C-alpha, on the X->C-alpha line, ``distance_A`` from C-alpha."""
-    axis = substrate.positions[c_alpha] - substrate.positions[x]
-    axis /= np.linalg.norm(axis)
-    moved = base.positions - base.positions[basic]
-    others = [i for i in range(len(base)) if i != basic]
-    if others:
-        nearest = sorted(others, key=lambda i: np.linalg.norm(moved[i]))[: min(3, len(others))]
-        outward = np.mean(moved[nearest], axis=0)
-        if np.linalg.norm(outward) > 1e-6:
-            moved = moved @ _align(outward, axis).T
-    moved = moved @ _rotation_matrix(axis, np.radians(rotation_deg)).T
-    placed = base.copy()
-    placed.positions = moved + substrate.positions[c_alpha] + distance_A * axis
-    return substrate + placed
+    return _place_along(substrate, substrate.positions[x], substrate.positions[c_alpha], base, basic, distance_A,
+                        rotation_deg)
 
 
 def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,
