@@ -148,3 +148,44 @@ def test_hammett_fit_recovers_a_known_line():
     assert fit.rho == pytest.approx(2.1) and fit.r_squared == pytest.approx(1.0) and fit.intercept == pytest.approx(0.0, abs=1e-12)
     with pytest.raises(ValueError, match="at least three"):
         hammett_fit([0.0, 0.2], [1.0, 2.0], 298.15)
+
+
+def test_backbone_starts_are_distinct_anti_geometries_lowest_first():
+    """Backbone starts for the paths: RDKit's own conformer RMSD is the independent check of 'distinct'."""
+    from rdkit import Chem
+    from rdkit.Chem import AllChem, rdMolAlign
+    from ase import Atoms
+
+    from elimscan.analysis import periplanar_starts
+    from elimscan.geometry import dihedral_deg
+
+    mol = Chem.AddHs(Chem.MolFromSmiles("CCC(Br)CCC"))  # 3-bromohexane: many backbone rotamers
+    ids = list(AllChem.EmbedMultipleConfs(mol, numConfs=30, randomSeed=7))
+    energies = [e for _, e in AllChem.MMFFOptimizeMoleculeConfs(mol, maxIters=2000)]
+    h = next(a.GetIdx() for a in mol.GetAtomWithIdx(1).GetNeighbors() if a.GetAtomicNum() == 1)
+    quad = (h, 1, 2, 3)
+    numbers = [a.GetAtomicNum() for a in mol.GetAtoms()]
+    samples = []
+    for cid, e in zip(ids, energies):
+        pos = mol.GetConformer(cid).GetPositions()
+        samples.append(GeometrySample(dihedral_deg(pos, *quad), e / 627.509 - 1.0, f"c{cid}", (),
+                                      Atoms(numbers=numbers, positions=pos)))
+    e_min = min(s.energy_hartree for s in samples)
+    starts = periplanar_starts(samples, e_min, "anti", RULE, count=4, window_kcal_mol=5.0, distinct_rmsd_A=0.25)
+    anti = [s for s in samples if abs(s.dihedral_deg) >= RULE.anti_min_deg]
+    assert anti, "the embedding should give some anti geometries"
+    assert 2 <= len(starts) <= 4  # several rotamers of the ethyl and propyl arms keep H anti
+    assert all(abs(s.dihedral_deg) >= RULE.anti_min_deg for s in starts)
+    assert [s.penalty_kcal_mol for s in starts] == sorted(s.penalty_kcal_mol for s in starts)
+    assert starts[0].penalty_kcal_mol == pytest.approx(best_periplanar(samples, e_min, "anti", RULE).penalty_kcal_mol)
+    heavy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1]
+    by_source = {f"c{cid}": cid for cid in ids}
+    kept = [by_source[s.source] for s in starts]
+    for i, a in enumerate(kept):
+        for b in kept[:i]:
+            rms = rdMolAlign.AlignMol(Chem.Mol(mol, confId=a), Chem.Mol(mol, confId=b), prbCid=a, refCid=b,
+                                      atomMap=[(k, k) for k in heavy])
+            assert rms > 0.25
+    # a single start asked for is the best periplanar geometry itself
+    one = periplanar_starts(samples, e_min, "anti", RULE, count=1, window_kcal_mol=5.0, distinct_rmsd_A=0.25)
+    assert len(one) == 1 and one[0].source == starts[0].source

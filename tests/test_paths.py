@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from ase import Atoms
+from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.config import (BaseConfig, MethodConfig, OptimizerConfig, PathConfig, RunConfig, SolventConfig,
                              SubstrateConfig)
@@ -85,6 +86,87 @@ def test_sides_and_flags_from_key_distances():
     assert fake.side({"c_alpha_x_A": 3.4, "base_h_A": 0.98, "c_beta_h_A": 2.0, "base_c_alpha_A": 3.0}, criteria) == "product"
     assert fake.side({"c_alpha_x_A": 1.85, "base_h_A": 2.1, "c_beta_h_A": 1.1, "base_c_alpha_A": 3.0}, criteria) == "reactant"
     assert fake.side({"c_alpha_x_A": 1.9, "base_h_A": 0.99, "c_beta_h_A": 2.0, "base_c_alpha_A": 3.0}, criteria) == "other"
+
+
+class _CurvedDoubleWell(Calculator):
+    """Analytic surface for atom 0: E = a (x^2 - 1)^2 + b (y - c x^2)^2 + k z^2; atom 1 tethered (eV, Å).
+
+    Minima at (±1, c, 0); the only saddle is at (0, 0, 0) with E = a, off the straight line between the
+    minima (which crosses x = 0 at y = c, E = a + b c^2), so a band must bend to find it.
+    """
+
+    implemented_properties = ["energy", "forces"]
+    a, b, c, k = 0.5, 2.0, 0.6, 2.0
+    anchor = np.array([5.0, 5.0, 5.0])
+
+    def calculate(self, atoms=None, properties=None, system_changes=all_changes):
+        super().calculate(atoms, properties, system_changes)
+        (x, y, z), tail = self.atoms.positions[0], self.atoms.positions[1] - self.anchor
+        a, b, c, k = self.a, self.b, self.c, self.k
+        energy = a * (x * x - 1) ** 2 + b * (y - c * x * x) ** 2 + k * z * z + k * tail @ tail
+        forces = np.zeros((2, 3))
+        forces[0] = -np.array([4 * a * x * (x * x - 1) - 4 * b * c * x * (y - c * x * x), 2 * b * (y - c * x * x),
+                               2 * k * z])
+        forces[1] = -2 * k * tail
+        self.results = {"energy": energy, "forces": forces}
+
+
+def test_ci_neb_climbing_image_finds_the_analytic_saddle_off_the_straight_line():
+    """The climbing image must sit on the known saddle (0, 0, 0), E = a, not on the interpolation's crossing."""
+    from elimscan.paths import neb_climbing_image
+
+    class Engine:
+        def calculator(self, charge=0, multiplicity=1, name=""):
+            return _CurvedDoubleWell()
+
+    c = _CurvedDoubleWell.c
+    left = Atoms("HH", positions=[(-1.0, c, 0.0), tuple(_CurvedDoubleWell.anchor)])
+    right = Atoms("HH", positions=[(1.0, c, 0.0), tuple(_CurvedDoubleWell.anchor)])
+    settings = PathConfig(saddle={"neb_fmax_eV_per_A": 0.01})
+    guess, note = neb_climbing_image(left, right, Engine(), 0, 1, settings)
+    assert guess is not None and "converged" in note and "not converged" not in note
+    x, y, z = guess.positions[0]
+    assert abs(x) < 0.05 and abs(y) < 0.05 and abs(z) < 0.01
+    guess.calc = _CurvedDoubleWell()
+    assert guess.get_potential_energy() == pytest.approx(_CurvedDoubleWell.a, abs=0.005)
+
+
+def test_saddle_search_falls_back_to_the_base_h_scan_and_then_to_a_ci_neb(embed, monkeypatch):
+    """Order of the fallbacks, and a failure of every one is an unverified estimate carrying every reason."""
+    import elimscan.paths as paths
+    from elimscan.paths import SaddleResult, compute_path
+
+    substrate = embed("CCCl")
+    base = embed("C[O-]")
+    toy = SpringTorsionEngine(place_base(substrate, 3, 0, base, 1, 2.0, 0.0))
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=len(substrate) + 1)
+    calls = []
+
+    def fake_refine(guess, reactive, engine, charge, multiplicity, settings, optimizer, name="", method=""):
+        calls.append(method)
+        ok = "CI-NEB" in method and neb_works
+        return SaddleResult(guess, -1.0, ok, method, 500.0 if ok else None, (), "ok" if ok else f"failed ({method})")
+
+    monkeypatch.setattr(paths, "refine_and_verify", fake_refine)
+    monkeypatch.setattr(paths, "base_h_scan_maximum", lambda complex_, *a, **k: complex_.atoms)
+    monkeypatch.setattr(paths, "neb_end_points", lambda complex_, points, *a, **k: (complex_.atoms, points[-1].atoms))
+    monkeypatch.setattr(paths, "neb_climbing_image", lambda r, p, *a, **k: (p, "CI-NEB converged; climbing image 7 of 14"))
+    settings = PathConfig(step_A=0.05, points=3, base_rotations=1)
+    for neb_works in (True, False):
+        calls.clear()
+        result = compute_path(substrate, base, 1, reactive, "anti", toy, 0, 1, settings, BFGS, ())
+        assert [c.split(" from ")[1] for c in calls][-2:] == ["the base-H scan maximum", "the CI-NEB climbing image"]
+        assert result.saddle.verified is neb_works
+    assert "base-H scan" in result.saddle.reason and "CI-NEB" in result.saddle.reason
+    settings_off = PathConfig(step_A=0.05, points=3, base_rotations=1, saddle={"neb_fallback": False})
+    calls.clear()
+    compute_path(substrate, base, 1, reactive, "anti", toy, 0, 1, settings_off, BFGS, ())
+    assert not any("CI-NEB" in c for c in calls)
+
+
+def test_fewer_than_fifteen_neb_images_is_refused():
+    with pytest.raises(ValueError):
+        PathConfig(saddle={"neb_images": 9})
 
 
 @pytest.fixture(scope="module")
@@ -277,3 +359,30 @@ bases:
     assert ch3["degeneracy"] == 9 and ch3["anti"]["saddle_verified"]
     assert (not sn2["saddle_verified"]) or sn2["barrier_kcal_mol"] - ch3["anti"]["barrier_kcal_mol"] > 3.0
     assert sn2["elimination_fraction"] > 0.9
+
+
+def test_backbone_starts_each_give_a_path_and_the_record_reports_their_spread():
+    """Whole job on the toy engine: k backbone starts -> k paths, the lowest top kept, max - min reported."""
+    from toyjobs import ToyJobEngine
+
+    from elimscan.pipeline import compute_job_paths, job_record, run_config
+
+    paths = PathConfig(approaches=("anti",), substitution=False, points=3, base_rotations=1, backbone_conformers=3,
+                       backbone_window_kcal_mol=50.0, saddle={"refine": False})
+    config = RunConfig(substrates=(SubstrateConfig(name="3-bromohexane", smiles="CCC[C@H](Br)CC"),),
+                       bases=(BaseConfig(name="methoxide"),), paths=paths)
+    outcome = run_config(config, ToyJobEngine())
+    analysis = outcome.substrates["3-bromohexane"]
+    counts = {c.beta_class.class_id: len(c.anti_starts) for c in analysis.classes}
+    assert max(counts.values()) >= 2, counts
+    record = job_record(*outcome.jobs[0], outcome, config)
+    assert record.status == "ok"
+    for h in record.beta_hydrogens:
+        n = counts[h.class_id]
+        if h.anti.path_status != "ok" or n == 0:
+            continue
+        assert h.anti.backbone_starts == n
+        if n > 1:
+            assert h.anti.backbone_spread_kcal_mol is not None and h.anti.backbone_spread_kcal_mol >= 0.0
+        else:
+            assert h.anti.backbone_spread_kcal_mol is None

@@ -18,7 +18,7 @@ from ase import Atoms
 from rdkit import Chem
 
 from elimscan.config import RuleConfig
-from elimscan.geometry import classify_dihedral
+from elimscan.geometry import classify_dihedral, kabsch_rmsd
 from elimscan.perception import Alkene
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K, KCAL_MOL_PER_HARTREE
 
@@ -89,6 +89,27 @@ def best_periplanar(samples: Sequence[GeometrySample], global_min_hartree: float
     best = min(window, key=lambda s: s.energy_hartree)
     penalty = (best.energy_hartree - global_min_hartree) * KCAL_MOL_PER_HARTREE
     return Periplanar(kind, round(penalty, 3), round(best.dihedral_deg, 2), best.source, best.ring_shapes, best.atoms)
+
+
+def periplanar_starts(samples: Sequence[GeometrySample], global_min_hartree: float, kind: str, rule: RuleConfig,
+                      count: int, window_kcal_mol: float, distinct_rmsd_A: float) -> tuple[Periplanar, ...]:
+    """Return up to ``count`` distinct backbone geometries in the anti or syn window, lowest first.
+
+    Distinct: heavy-atom RMSD after superposition above ``distinct_rmsd_A`` (Å) from every one kept;
+    only geometries within ``window_kcal_mol`` of the lowest one in the window are kept (kcal/mol).
+    """
+    window = sorted((s for s in samples if s.atoms is not None
+                     and classify_dihedral(s.dihedral_deg, rule.anti_min_deg, rule.syn_max_deg) == kind),
+                    key=lambda s: s.energy_hartree)
+    kept: list[GeometrySample] = []
+    for s in window:
+        if len(kept) == count or (s.energy_hartree - window[0].energy_hartree) * KCAL_MOL_PER_HARTREE > window_kcal_mol:
+            break
+        heavy = s.atoms.numbers > 1
+        if all(kabsch_rmsd(s.atoms.positions[heavy], k.atoms.positions[heavy]) > distinct_rmsd_A for k in kept):
+            kept.append(s)
+    return tuple(Periplanar(kind, round((s.energy_hartree - global_min_hartree) * KCAL_MOL_PER_HARTREE, 3),
+                            round(s.dihedral_deg, 2), s.source, s.ring_shapes, s.atoms) for s in kept)
 
 
 def rule_status(anti: Periplanar, syn: Periplanar, rule: RuleConfig) -> str:

@@ -146,6 +146,14 @@ class SaddleConfig(_Frozen):
     #: substitution: product side has Nu-C-alpha at most this (Å); reactant side at least the next (Å)
     substitution_bond_max_A: float = Field(1.7, gt=0)
     substitution_reactant_min_A: float = Field(2.5, gt=0)
+    #: last fallback when Sella fails from the path maximum and from the base-H scan: a climbing-image NEB
+    #: between the reactant complex and the freely relaxed path end, whose climbing image seeds Sella again
+    neb_fallback: bool = True
+    #: NEB images including the two end points (at least 15: fewer let the climbing image sit on a false maximum)
+    neb_images: int = Field(15, ge=15)
+    #: NEB convergence (eV/Å, largest NEB force) and step limit (FIRE)
+    neb_fmax_eV_per_A: float = Field(0.05, gt=0)
+    neb_max_steps: int = Field(300, ge=1)
 
 
 class PathConfig(_Frozen):
@@ -165,6 +173,13 @@ class PathConfig(_Frozen):
     syn_dihedral_deg: float = Field(0.0, ge=-30, le=30)
     #: also compute backside substitution (SN2) at C-alpha for every job
     substitution: bool = True
+    #: start each E2 approach from up to this many distinct backbone conformers (lowest first); the lowest
+    #: path top is used and the spread over them is reported as an uncertainty
+    backbone_conformers: int = Field(1, ge=1)
+    #: ... only conformers within this window above the lowest periplanar one (kcal/mol) ...
+    backbone_window_kcal_mol: float = Field(3.0, gt=0)
+    #: ... and differing from each other by more than this heavy-atom RMSD (Å)
+    backbone_distinct_rmsd_A: float = Field(0.25, gt=0)
     #: nucleophile placed behind C-alpha at this distance for the substitution complex (Å)
     substitution_distance_A: float = Field(3.0, gt=1.5)
     saddle: SaddleConfig = SaddleConfig()

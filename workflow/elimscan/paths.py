@@ -5,8 +5,10 @@ q = d(Cβ-H) - d(B-H) + d(Cα-X) (Å), everything else relaxed (BFGS + FixIntern
 combination of distances); the path maximum is the relaxed-path estimate of the saddle. A first-order
 saddle is then refined with Sella (order 1) and verified with a finite-difference Hessian (one imaginary
 mode) and by relaxing both ways along that mode (reactant complex on one side, alkene + conjugate acid
-+ X- on the other). A saddle that fails verification is reported as an unverified estimate. The engine
-is passed in; no file I/O.
++ X- on the other). When Sella fails from the path maximum, it starts again from the maximum of a base-H
+distance scan, and then from the climbing image of a CI-NEB (reactant complex to relaxed path end); a
+saddle that fails verification every time is reported as an unverified estimate. The engine is passed in;
+no file I/O.
 """
 
 from __future__ import annotations
@@ -137,6 +139,8 @@ class PathResult:
     flags: tuple[str, ...]
     n_gradients: int
     saddle_gradients: int = 0
+    #: path tops (hartree) of every backbone conformer tried for this approach, when more than one was
+    start_tops_hartree: tuple[float, ...] = ()
 
     @property
     def estimate_hartree(self) -> float:
@@ -284,6 +288,49 @@ def base_h_scan_maximum(complex_: ComplexResult, reactive: Reactive, engine, cha
     return frames[top][1] if 0 < top < len(frames) - 1 else None
 
 
+def neb_climbing_image(reactant: Atoms, product: Atoms, engine, charge: int, multiplicity: int,
+                       settings: PathConfig, name: str = "neb") -> tuple[Atoms | None, str]:
+    """Return the climbing image of a CI-NEB between two end points (None if it has no interior top) and a note.
+
+    The end points are not moved; images start from an IDPP interpolation; FIRE drives the band. The image is
+    only a starting guess: the caller refines and verifies it, since a converged band can still climb to a
+    false maximum.
+    """
+    from ase.mep import NEB
+    from ase.optimize import FIRE
+
+    s = settings.saddle
+    images = [reactant.copy() for _ in range(s.neb_images - 1)] + [product.copy()]
+    calc = engine.calculator(charge, multiplicity, name=name)
+    for image in images:
+        image.calc = calc
+    band = NEB(images, climb=True, method="improvedtangent", allow_shared_calculator=True)
+    band.interpolate(method="idpp")
+    try:
+        converged = bool(FIRE(band, logfile=None).run(fmax=s.neb_fmax_eV_per_A, steps=s.neb_max_steps))
+        energies = [image.get_potential_energy() for image in images]
+    except ElimscanError as err:
+        return None, f"CI-NEB failed: {err.error_type}"
+    top = int(np.argmax(energies))
+    if top in (0, len(images) - 1):
+        return None, "CI-NEB has no interior maximum"
+    guess = images[top].copy()
+    guess.calc = None
+    return guess, ("CI-NEB converged" if converged else f"CI-NEB not converged in {s.neb_max_steps} steps") + \
+        f"; climbing image {top} of {len(images) - 1}"
+
+
+def neb_end_points(complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine, charge: int,
+                   multiplicity: int, optimizer: OptimizerConfig, criteria, name: str = "neb end"
+                   ) -> tuple[Atoms, Atoms] | None:
+    """Return (reactant complex, freely relaxed path end) when the end relaxes to products, else None."""
+    calc = engine.calculator(charge, multiplicity, name=name)
+    end = relax(points[-1].atoms, calc, (), optimizer.model_copy(update={"name": BFGS})).atoms
+    if reactive.side(end.positions, criteria) != "product":
+        return None
+    return complex_.atoms, end
+
+
 def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, multiplicity: int,
                       settings: PathConfig, optimizer: OptimizerConfig, name: str = "saddle",
                       method: str = "sella") -> SaddleResult:
@@ -354,6 +401,35 @@ def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, 
     return tuple(flags)
 
 
+def _keep_first_failure(first: SaddleResult, second: SaddleResult, source: str) -> SaddleResult:
+    """Return ``second`` if it is verified or ``first`` has no geometry, else ``first`` with both reasons."""
+    if second.verified or first.atoms is None:
+        return second
+    return SaddleResult(first.atoms, first.energy_hartree, False, first.method, first.imaginary_cm1,
+                        first.other_imaginary_cm1, f"{first.reason}; fallback from {source} also failed: "
+                        f"{second.reason}", first.mode)
+
+
+def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine,
+                  charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, name: str
+                  ) -> SaddleResult:
+    """Return the saddle refined from a CI-NEB climbing image if verified, else ``saddle`` with the reason added."""
+    ends = neb_end_points(complex_, points, reactive, engine, charge, multiplicity, optimizer, settings.saddle,
+                          name=f"{name} neb end")
+    if ends is None:
+        return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (),
+                                                        "the path end did not relax to products"), "a CI-NEB")
+    guess, note = neb_climbing_image(*ends, engine, charge, multiplicity, settings, name=f"{name} neb")
+    if guess is None:
+        return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (), note), "a CI-NEB")
+    third = refine_and_verify(guess, reactive, engine, charge, multiplicity, settings, optimizer,
+                              name=f"{name} saddle", method="sella from the CI-NEB climbing image")
+    if third.verified:
+        return SaddleResult(third.atoms, third.energy_hartree, True, third.method, third.imaginary_cm1,
+                            third.other_imaginary_cm1, f"{third.reason} ({note})", third.mode, third.hessian_eV_A2)
+    return _keep_first_failure(saddle, third, f"a CI-NEB climbing image ({note})")
+
+
 def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
                  multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, other_hydrogens: tuple[int, ...],
                  name: str = "path") -> PathResult:
@@ -380,12 +456,10 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
             if guess is not None:
                 second = refine_and_verify(guess, reactive, engine, charge, multiplicity, settings, optimizer,
                                            name=f"{name} saddle", method="sella from the base-H scan maximum")
-                if second.verified or saddle.atoms is None:
-                    saddle = second
-                else:
-                    saddle = SaddleResult(saddle.atoms, saddle.energy_hartree, False, saddle.method, saddle.imaginary_cm1,
-                                          saddle.other_imaginary_cm1, f"{saddle.reason}; fallback from the base-H scan "
-                                          f"maximum also failed: {second.reason}", saddle.mode)
+                saddle = _keep_first_failure(saddle, second, "the base-H scan maximum")
+        if not saddle.verified and settings.saddle.neb_fallback:  # last resort: a climbing-image NEB seeds Sella
+            saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
+                                   optimizer, name)
     flags = path_flags(points, top, reactive, other_hydrogens, syn)
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)
@@ -423,6 +497,9 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
     else:
         saddle = SaddleResult(None, None, False, "none", None, (),
                               "not refined" if not settings.saddle.refine else "no interior maximum along the path")
+    if settings.saddle.refine and not saddle.verified and settings.saddle.neb_fallback:
+        saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings, optimizer,
+                               name)
     flags = ("no interior maximum along the path: the estimate is an end point",) if top in (0, len(points) - 1) else ()
     return PathResult("substitution", complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)

@@ -9,6 +9,8 @@ Progress is reported through a callback, never printed.
 
 from __future__ import annotations
 
+import dataclasses
+
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -16,7 +18,7 @@ from dataclasses import dataclass, field
 from ase import Atoms
 from rdkit import Chem
 
-from elimscan.analysis import (ClassFacts, GeometrySample, PathBarrier, Periplanar, best_periplanar,
+from elimscan.analysis import (ClassFacts, GeometrySample, PathBarrier, Periplanar, best_periplanar, periplanar_starts,
                                compare_verdicts, fraction_ranges, product_fractions, rule_status, rule_verdict)
 from elimscan.bases import BaseInfo, describe_base
 from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
@@ -60,6 +62,9 @@ class ClassAnalysis:
     anti: Periplanar
     syn: Periplanar
     status: str
+    #: distinct backbone starts for the paths, lowest first (empty: start from ``anti`` / ``syn`` alone)
+    anti_starts: tuple[Periplanar, ...] = ()
+    syn_starts: tuple[Periplanar, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -198,7 +203,12 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
     for beta_class, scans, samples in per_class:
         anti = best_periplanar(samples, global_min, "anti", config.rule)
         syn = best_periplanar(samples, global_min, "syn", config.rule)
-        classes.append(ClassAnalysis(beta_class, scans, anti, syn, rule_status(anti, syn, config.rule)))
+        p = config.paths
+        starts = {kind: periplanar_starts(samples, global_min, kind, config.rule, p.backbone_conformers,
+                                          p.backbone_window_kcal_mol, p.backbone_distinct_rmsd_A)
+                  if p.backbone_conformers > 1 else () for kind in ("anti", "syn")}
+        classes.append(ClassAnalysis(beta_class, scans, anti, syn, rule_status(anti, syn, config.rule),
+                                     starts["anti"], starts["syn"]))
     lowest = ensemble.lowest
     minimum = minimum_hessian(lowest.atoms, lowest.energy_hartree, engine, charge, item.multiplicity,
                               config.paths.saddle.hessian_step_A, name=name)
@@ -260,22 +270,27 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
         b = c.beta_class
         reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
                             n + base.info.basic_atom_index)
-        for approach, best in (("anti", c.anti), ("syn", c.syn)):
+        for approach, best, starts in (("anti", c.anti, c.anti_starts), ("syn", c.syn, c.syn_starts)):
             if approach not in config.paths.approaches or best.atoms is None:
                 continue
             product = b.anti_product if approach == "anti" else b.syn_product
             if not product.possible:
                 continue
-            if on_progress is not None:
-                on_progress(DETAIL, DETAIL, f"{analysis.name}: {approach} path of {b.class_id} "
-                                            f"(from {best.source}, {best.dihedral_deg:.0f} deg)")
-            try:
-                paths[(b.class_id, approach)] = compute_path(
-                    best.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine, charge,
-                    multiplicity, config.paths, config.optimizer, tuple(i for i in all_h if i != b.representative_index),
-                    name=f"{analysis.name} {b.class_id} {approach}")
-            except ElimscanError as err:
-                paths[(b.class_id, approach)] = error_info(err)
+            tried: list[PathResult] = []
+            failure: ErrorInfo | None = None
+            for k, start in enumerate(starts or (best,)):
+                if on_progress is not None:
+                    on_progress(DETAIL, DETAIL, f"{analysis.name}: {approach} path of {b.class_id} "
+                                                f"(from {start.source}, {start.dihedral_deg:.0f} deg)")
+                try:
+                    tried.append(compute_path(
+                        start.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine, charge,
+                        multiplicity, config.paths, config.optimizer,
+                        tuple(i for i in all_h if i != b.representative_index),
+                        name=f"{analysis.name} {b.class_id} {approach}" + (f" start {k}" if k else "")))
+                except ElimscanError as err:
+                    failure = failure or error_info(err)
+            paths[(b.class_id, approach)] = lowest_of_starts(tried) if tried else failure
     if config.paths.substitution:
         if on_progress is not None:
             on_progress(DETAIL, DETAIL, f"{analysis.name}: backside substitution (SN2) path")
@@ -287,6 +302,13 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
         except ElimscanError as err:
             paths[SUBSTITUTION_KEY] = error_info(err)
     return paths
+
+
+def lowest_of_starts(tried: list[PathResult]) -> PathResult:
+    """Return the path with the lowest top (verified saddles first), carrying every start's top (hartree)."""
+    best = min(tried, key=lambda p: (not p.saddle.verified, p.top_hartree))
+    return dataclasses.replace(best, start_tops_hartree=tuple(p.top_hartree for p in tried),
+                               n_gradients=sum(p.n_gradients for p in tried))
 
 
 # --- records -----------------------------------------------------------------------------------------
@@ -337,6 +359,9 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
         saddle_note=path.saddle.reason, saddle_method=path.saddle.method, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
         complex_rotation_spread_kcal_mol=round((max(rotations) - min(rotations)) * KCAL_MOL_PER_HARTREE, 3),
+        backbone_starts=max(1, len(path.start_tops_hartree)),
+        backbone_spread_kcal_mol=(round((max(path.start_tops_hartree) - min(path.start_tops_hartree))
+                                        * KCAL_MOL_PER_HARTREE, 3) if len(path.start_tops_hartree) > 1 else None),
         flags=path.flags, n_gradients=path.n_gradients,
         path=tuple(PathPointRecord(coordinate_A=round(p.coordinate_A, 4), relative_energy_kcal_mol=kcal(p.energy_hartree),
                                    c_beta_h_A=round(p.distances["c_beta_h_A"], 4), base_h_A=round(p.distances["base_h_A"], 4),

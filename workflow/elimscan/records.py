@@ -175,6 +175,9 @@ class ApproachRecord(_Record):
     saddle_method: str | None = Field(None, description="how the saddle was searched (start of the Sella refinement)")
     complex_energy_kcal_mol: float | None = Field(None, description="base-substrate complex above the same zero")
     complex_rotation_spread_kcal_mol: float | None = Field(None, description="max - min over the base rotations tried")
+    backbone_starts: int | None = Field(None, description="distinct backbone conformers the path was started from")
+    backbone_spread_kcal_mol: float | None = Field(None, description="max - min path top over those starts (kcal/mol); "
+                                                   "null when one start")
     flags: tuple[str, ...] = ()
     n_gradients: int | None = None
     path: tuple[PathPointRecord, ...] = ()

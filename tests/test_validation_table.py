@@ -1,0 +1,46 @@
+"""The validation table's per-level calls (validation/validate.py) on a real finished run (fast tier)."""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+FIXTURE = ROOT / "tests" / "data" / "report-fixture"
+
+
+@pytest.fixture(scope="module")
+def validate():
+    spec = importlib.util.spec_from_file_location("validate", ROOT / "validation" / "validate.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_the_de_level_reproduces_the_runs_own_product_mix(validate):
+    """The table's dE column must say what results.json says (same barriers, same Curtin-Hammett mix)."""
+    document = json.loads((FIXTURE / "halobutane" / "results.json").read_text())
+    temperature = document["config"]["method"]["temperature_K"]
+    case = {"expected_major": "internal"}  # 81 % 2-butenes with ethoxide (standard textbooks)
+    for job in document["jobs"]:
+        paths = validate.level_paths(job, "barrier_kcal_mol")
+        assert len(paths) == sum(1 for h in job["beta_hydrogens"] for a in ("anti", "syn")
+                                 if h[a]["path_status"] == "ok")
+        mine = validate.product_fractions(paths, temperature)
+        theirs = {p["smiles"]: p["fraction"] for p in job["products"] if p["fraction"] is not None}
+        assert mine == pytest.approx(theirs, abs=1e-3)
+        cell = validate.level_cell(job, "barrier_kcal_mol", temperature, case)
+        if job["verdict"]["within_method_uncertainty"]:
+            assert cell.startswith("within method uncertainty")
+        else:
+            assert cell.startswith(job["verdict"]["computed_major"])
+
+
+def test_a_level_without_barriers_says_not_computed(validate):
+    document = json.loads((FIXTURE / "halobutane" / "results.json").read_text())
+    job = document["jobs"][0]
+    assert validate.level_cell(job, "barrier_dft_kcal_mol", 298.15, {"expected_major": "internal"}) == "not computed"
+    assert validate._classify("C=CCC", {}) == "terminal" and validate._classify("C/C=C/C", {}) == "internal"
