@@ -172,3 +172,50 @@ def test_reused_calculator_gives_the_same_energy_as_a_fresh_one(embed):
         fresh = _engine("tblite").single_point(a).energy_hartree
         # within the SCF's own energy convergence (about 1e-6 Eh at accuracy 1)
         assert shifted[k] == pytest.approx(fresh, abs=1e-6)
+
+
+@pytest.mark.xtb
+def test_dielectric_continuum_follows_borns_law_for_a_monatomic_ion():
+    """A point-like ion in a dielectric: dG_solv = -(q^2 / 2a)(1 - 1/eps) (Born, Z. Phys. 1920, 1, 45).
+
+    For one atom the GBε (ALPB) shape correction vanishes (asphericity zero: Sigalov, Fenley & Onufriev,
+    J. Chem. Phys. 2006, 124, 124902), so dG / (1 - 1/eps) must be the same for every tabled solvent.
+    """
+    from ase import Atoms
+
+    from elimscan.solvents import DIELECTRIC_SOLVENTS
+
+    ion = Atoms("Cl", positions=[(0.0, 0.0, 0.0)])
+    gas = _engine("tblite").single_point(ion, charge=-1).energy_hartree
+    born = {}
+    for name, entry in DIELECTRIC_SOLVENTS.items():
+        e = _engine("tblite", "dielectric", name).single_point(ion, charge=-1).energy_hartree
+        born[name] = (e - gas) * KCAL_MOL_PER_HARTREE / (1.0 - 1.0 / entry.epsilon)
+    values = np.array(list(born.values()))
+    assert np.all(values < -40.0), born  # a chloride is strongly solvated
+    assert np.ptp(values) < 1e-3 * abs(values.mean()), born
+    # the lower the dielectric constant, the weaker the solvation: tert-butanol below ethanol
+    t_buoh = _engine("tblite", "dielectric", "tert-butanol").single_point(ion, charge=-1).energy_hartree
+    etoh = _engine("tblite", "dielectric", "ethanol").single_point(ion, charge=-1).energy_hartree
+    assert etoh < t_buoh < gas
+
+
+def test_dielectric_model_is_named_in_the_method_label_and_refused_by_xtb_python():
+    from elimscan.config import MethodConfig, SolventConfig
+
+    settings = EngineSettings.from_method(MethodConfig(solvent=SolventConfig(model="dielectric", name="t-BuOH")))
+    assert settings.solvent_name == "tert-butanol"
+    assert "GBε(tert-butanol, ε 12.47" in settings.describe()
+    with pytest.raises(Exception, match="backend 'xtb' cannot do solvent model 'dielectric'"):
+        MethodConfig(backend="xtb", solvent=SolventConfig(model="dielectric", name="tert-butanol"))
+
+
+def test_dielectric_table_matches_the_minnesota_database_as_copied_in_pyscf():
+    """Our ε values against an independent copy of the Minnesota Solvent Descriptor Database (PySCF's SMD table)."""
+    smd = pytest.importorskip("pyscf.solvent.smd")
+    from elimscan.solvents import DIELECTRIC_SOLVENTS
+
+    theirs = {"tert-butanol": "2-methyl-2-propanol"}
+    for name, entry in DIELECTRIC_SOLVENTS.items():
+        epsilon = smd.solvent_db[theirs.get(name, name)][5]
+        assert entry.epsilon == pytest.approx(epsilon, abs=1e-3), name

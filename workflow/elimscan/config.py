@@ -26,9 +26,13 @@ class _Frozen(BaseModel):
 
 
 class SolventConfig(_Frozen):
-    """Implicit solvent: model (alpb, gbsa or none) and solvent name."""
+    """Implicit solvent: model (alpb, gbsa, dielectric or none) and solvent name.
 
-    model: Literal["alpb", "gbsa", "none"] = "alpb"
+    ``dielectric``: a continuum known only by its dielectric constant (solvents.DIELECTRIC_SOLVENTS), for
+    solvents without ALPB parameters such as tert-butanol; tblite only.
+    """
+
+    model: Literal["alpb", "gbsa", "dielectric", "none"] = "alpb"
     name: str | None = "ethanol"
 
     @model_validator(mode="after")

@@ -22,7 +22,7 @@ from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.config import MethodConfig
 from elimscan.errors import BackendUnavailableError, EngineError, ScfConvergenceError
-from elimscan.solvents import XTB_PYTHON_NAMES, check_solvent
+from elimscan.solvents import XTB_PYTHON_NAMES, check_solvent, dielectric_constant
 from elimscan.units import ANGSTROM_PER_BOHR, BOLTZMANN_HARTREE_PER_K, EV_PER_HARTREE
 
 #: Python distribution name of each backend (for versions in provenance).
@@ -63,6 +63,8 @@ class EngineSettings:
     def describe(self) -> str:
         """Return a one-line label such as 'GFN2-xTB/ALPB(ethanol) [tblite 0.8.0]'."""
         solvent = "gas phase" if self.solvent_model == "none" else f"{self.solvent_model.upper()}({self.solvent_name})"
+        if self.solvent_model == "dielectric":
+            solvent = f"GBε({self.solvent_name}, ε {dielectric_constant(self.solvent_name):g}, no CDS term)"
         return f"{self.hamiltonian}/{solvent} [{self.backend} {backend_version(self.backend)}]"
 
 
@@ -113,7 +115,9 @@ class _TbliteSeries:
         self._calc.set("max-iter", settings.max_scf_iterations)
         self._calc.set("accuracy", settings.accuracy)
         self._calc.set("temperature", electronic_temperature_K * BOLTZMANN_HARTREE_PER_K)
-        if settings.solvent_model != "none":
+        if settings.solvent_model == "dielectric":  # non-empirical GBε at the table's dielectric constant
+            self._calc.add("gbe-solvation", dielectric_constant(settings.solvent_name), "p16")
+        elif settings.solvent_model != "none":
             self._calc.add(f"{settings.solvent_model}-solvation", settings.solvent_name)
         self._result = None
 

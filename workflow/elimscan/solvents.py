@@ -1,5 +1,8 @@
 """Which implicit-solvent model and solvent name each xTB backend supports (pure data, no backend import).
 
+Model ``dielectric`` covers solvents with no ALPB parameters (tert-butanol, 2-propanol, ...) by their
+dielectric constant alone (``DIELECTRIC_SOLVENTS``, tblite only).
+
 The tables were measured on the pinned versions (tblite 0.8.0, xtb-python 22.1) by asking each
 backend for every name; they are checked again by tests/test_engine_xtb.py. They exist because
 xtb-python's ASE calculator silently returns gas-phase energies for a solvent name it does not know.
@@ -7,7 +10,37 @@ xtb-python's ASE calculator silently returns gas-phase energies for a solvent na
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 from elimscan.errors import SolventError
+
+
+@dataclass(frozen=True)
+class Dielectric:
+    """A solvent known only by its static relative permittivity (dimensionless) and where the value comes from."""
+
+    epsilon: float
+    source: str
+
+
+_MN = ("Minnesota Solvent Descriptor Database (Winget, Dolney, Giesen, Cramer & Truhlar; the SMD descriptors, "
+       "Marenich, Cramer & Truhlar, J. Phys. Chem. B 2009, 113, 6378), 25 °C, as copied in PySCF's solvent_db")
+#: Solvents for the dielectric-only continuum (model ``dielectric``): no parametrised ALPB exists for them.
+#: The model is tblite's non-empirical GBε (ALPB electrostatics, P16 Born radii) at this ε, with no
+#: cavity-dispersion-solvent-structure term and no empirical shift, so its energies are not comparable
+#: with a named ALPB solvent's; compare relative barriers only. tests/test_engine_xtb.py checks the values
+#: against PySCF's copy of the database.
+DIELECTRIC_SOLVENTS: dict[str, Dielectric] = {
+    "tert-butanol": Dielectric(12.47, _MN),
+    "2-propanol": Dielectric(19.264, _MN),
+    "1-propanol": Dielectric(20.524, _MN),
+    "1-butanol": Dielectric(17.332, _MN),
+    "2-butanol": Dielectric(15.944, _MN),
+    # the next three also have parametrised ALPB; here for like-for-like comparisons within this model
+    "ethanol": Dielectric(24.852, _MN),
+    "methanol": Dielectric(32.613, _MN),
+    "water": Dielectric(78.355, _MN),
+}
 
 #: User-facing aliases mapped to our canonical solvent names.
 SOLVENT_ALIASES: dict[str, str] = {
@@ -25,6 +58,16 @@ SOLVENT_ALIASES: dict[str, str] = {
     "ethyl acetate": "ethylacetate",
     "furan": "furane",
     "1-octanol": "octanol",
+    "t-butanol": "tert-butanol",
+    "tbuoh": "tert-butanol",
+    "t-buoh": "tert-butanol",
+    "2-methyl-2-propanol": "tert-butanol",
+    "tert-butyl alcohol": "tert-butanol",
+    "isopropanol": "2-propanol",
+    "i-proh": "2-propanol",
+    "n-propanol": "1-propanol",
+    "n-butanol": "1-butanol",
+    "sec-butanol": "2-butanol",
 }
 
 _ALPB_25 = frozenset(
@@ -41,6 +84,8 @@ SUPPORTED_SOLVENTS: dict[tuple[str, str, str], frozenset[str]] = {
     ("tblite", "GFN1-xTB", "alpb"): _ALPB_25,
     ("tblite", "GFN2-xTB", "gbsa"): _GBSA_GFN2,
     ("tblite", "GFN1-xTB", "gbsa"): _GBSA_GFN1,
+    ("tblite", "GFN2-xTB", "dielectric"): frozenset(DIELECTRIC_SOLVENTS),
+    ("tblite", "GFN1-xTB", "dielectric"): frozenset(DIELECTRIC_SOLVENTS),
     # xtb-python's set_solvent is GBSA only.
     ("xtb", "GFN2-xTB", "gbsa"): _GBSA_GFN2,
     ("xtb", "GFN1-xTB", "gbsa"): _GBSA_GFN1,
@@ -76,3 +121,11 @@ def check_solvent(backend: str, hamiltonian: str, model: str, name: str | None) 
             f"({hamiltonian}); it supports: {', '.join(sorted(supported))}"
         )
     return canonical
+
+
+def dielectric_constant(name: str) -> float:
+    """Return the static relative permittivity (dimensionless) of a solvent of the dielectric table."""
+    canonical = canonical_solvent_name(name)
+    if canonical not in DIELECTRIC_SOLVENTS:
+        raise SolventError(f"no dielectric constant for solvent '{name}'; known: {', '.join(sorted(DIELECTRIC_SOLVENTS))}")
+    return DIELECTRIC_SOLVENTS[canonical].epsilon
