@@ -58,7 +58,9 @@ test-fast: $(VENV)/.installed
 bench: $(VENV)/.installed
 	$(VPY) benchmarks/bench_engine.py
 	$(VPY) benchmarks/bench_paths.py
+	$(VPY) benchmarks/bench_substitution.py
 	$(VPY) benchmarks/bench_batch.py
+	$(VPY) benchmarks/bench_dft.py
 
 # Reference cases against experiment (tens of minutes; not part of make test): writes validation/VALIDATION.md
 validate: $(VENV)/.installed

@@ -150,7 +150,7 @@ def test_hammett_fit_recovers_a_known_line():
         hammett_fit([0.0, 0.2], [1.0, 2.0], 298.15)
 
 
-def test_backbone_starts_are_distinct_anti_geometries_lowest_first():
+def test_path_starts_are_distinct_anti_geometries_lowest_first():
     """Backbone starts for the paths: RDKit's own conformer RMSD is the independent check of 'distinct'."""
     from rdkit import Chem
     from rdkit.Chem import AllChem, rdMolAlign
@@ -189,3 +189,21 @@ def test_backbone_starts_are_distinct_anti_geometries_lowest_first():
     # a single start asked for is the best periplanar geometry itself
     one = periplanar_starts(samples, e_min, "anti", RULE, count=1, window_kcal_mol=5.0, distinct_rmsd_A=0.25)
     assert len(one) == 1 and one[0].source == starts[0].source
+
+
+def test_boltzmann_combination_of_parallel_channels():
+    """Two equal channels are worth RT ln 2 (statistical mechanics of parallel paths; common practice)."""
+    import math
+
+    from elimscan.analysis import boltzmann_combined
+    from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
+
+    rt = BOLTZMANN_KCAL_MOL_PER_K * 298.15
+    e = -100.0
+    two = boltzmann_combined([e, e + 0.5 / KCAL_MOL_PER_HARTREE], 298.15)
+    expected = -rt * math.log(1.0 + math.exp(-0.5 / rt))
+    assert (two - e) * KCAL_MOL_PER_HARTREE == pytest.approx(expected, abs=1e-9)
+    # the same saddle reached twice (tops equal within 0.01 kcal/mol) counts once
+    assert boltzmann_combined([e, e + 0.001 / KCAL_MOL_PER_HARTREE], 298.15) == pytest.approx(e, abs=1e-12)
+    # a channel 10 kcal/mol higher changes nothing measurable
+    assert (boltzmann_combined([e, e + 10 / KCAL_MOL_PER_HARTREE], 298.15) - e) * KCAL_MOL_PER_HARTREE > -1e-6

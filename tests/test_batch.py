@@ -27,18 +27,14 @@ from elimscan.batch import (BatchOptions, FolderLock, files_intact, job_key, loc
 from elimscan.config import parse_config
 from elimscan.errors import ConfigError, EngineError, ExitCode, OutputError, StructureError
 from elimscan.store import STORE_FILE, JobStore, StoredJob
+from toyjobs import TOY_SETTINGS, without_timings
 
 ROOT = Path(__file__).resolve().parents[1]
 RESULT_SCHEMA = json.loads((ROOT / "results-schema" / "result.schema.json").read_text())
 BATCH_SCHEMA = json.loads((ROOT / "results-schema" / "batch.schema.json").read_text())
 
 #: settings of the tiny infrastructure jobs (about 2 s each with GFN2-xTB on one core)
-TINY_SETTINGS = """\
-optimizer: {name: bfgs, fmax_eV_per_A: 0.05}
-conformers: {base_embeddings: 2, per_rotatable_bond: 1, max_relaxations: 2}
-scan: {step_deg: 60}
-paths: {approaches: [anti], points: 4, base_rotations: 1, substitution: false, saddle: {refine: false}}
-"""
+TINY_SETTINGS = TOY_SETTINGS
 
 #: six jobs: three substrates (one in the YAML, two in a CSV) x methoxide x two solvents
 SMALL = TINY_SETTINGS + """\
@@ -86,14 +82,7 @@ def starts_by_run(out: Path) -> dict[int, list[str]]:
 def numbers(document: dict) -> dict:
     """Return the parts of results.json that hold results: jobs and molecules without timings."""
 
-    def strip(value):
-        if isinstance(value, dict):
-            return {k: strip(v) for k, v in value.items() if k != "relax_seconds"}
-        if isinstance(value, list):
-            return [strip(v) for v in value]
-        return value
-
-    return {"jobs": strip(document["jobs"]), "molecules": strip(document["molecules"])}
+    return {"jobs": without_timings(document["jobs"]), "molecules": without_timings(document["molecules"])}
 
 
 def assert_same_numbers(a, b, path: str = "") -> None:

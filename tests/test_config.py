@@ -99,8 +99,11 @@ def test_built_in_bases_need_no_smiles():
     assert info.value.key_path == "bases.0" and info.value.line == 6
 
 
-def test_reserved_base_models_are_refused_rather_than_ignored():
-    text = GOOD.replace('{name: ethoxide, smiles: "CC[O-]"}', '{name: ethoxide, smiles: "CC[O-]", model: {counter_ion: K}}')
-    with pytest.raises(ConfigError, match="not available yet") as info:
-        parse_config(text)
-    assert info.value.key_path.startswith("bases.0.model")
+def test_base_models_parse_and_an_unknown_counter_ion_names_its_key():
+    text = GOOD.replace('{name: ethoxide, smiles: "CC[O-]"}',
+                        '{name: ethoxide, smiles: "CC[O-]", model: {counter_ion: K, explicit: 1}}')
+    model = parse_config(text).bases[0].model
+    assert (model.counter_ion, model.explicit, model.explicit_smiles) == ("K", 1, None)
+    with pytest.raises(ConfigError) as info:
+        parse_config(text.replace("counter_ion: K", "counter_ion: Cs"))
+    assert info.value.key_path.startswith("bases.0.model.counter_ion")

@@ -219,3 +219,58 @@ def test_dielectric_table_matches_the_minnesota_database_as_copied_in_pyscf():
     for name, entry in DIELECTRIC_SOLVENTS.items():
         epsilon = smd.solvent_db[theirs.get(name, name)][5]
         assert entry.epsilon == pytest.approx(epsilon, abs=1e-3), name
+
+
+def _solvation_kcal(smiles: str, charge: int, model: str) -> float:
+    """Return E(solvent model, methanol) - E(gas) at one MMFF geometry (kcal/mol)."""
+    from elimscan.structures import build_molecule
+
+    atoms = build_molecule(smiles, 7).atoms
+    gas = _engine("tblite").single_point(atoms, charge=charge).energy_hartree
+    return (_engine("tblite", model, "methanol").single_point(atoms, charge=charge).energy_hartree - gas) \
+        * KCAL_MOL_PER_HARTREE
+
+
+@pytest.mark.xtb
+def test_dielectric_continuum_matches_alpb_methanol_for_neutral_molecules():
+    """Differences between neutral molecules (constant shifts cancel) within 1.5 kcal/mol of ALPB(methanol).
+
+    ALPB: Ehlert, Stahn, Spicher & Grimme, J. Chem. Theory Comput. 2021, 17, 4250 (the parametrised
+    reference); our dielectric model is its electrostatics alone at methanol's ε.
+    """
+    for a, b in (("CO", "CCCl"), ("CC(C)=O", "CCCl")):
+        alpb = _solvation_kcal(a, 0, "alpb") - _solvation_kcal(b, 0, "alpb")
+        dielectric = _solvation_kcal(a, 0, "dielectric") - _solvation_kcal(b, 0, "dielectric")
+        assert abs(alpb - dielectric) < 1.5, (a, b, alpb, dielectric)
+
+
+@pytest.mark.xtb
+@pytest.mark.xfail(strict=True, reason="measured: the dielectric-only continuum over-solvates small anions against "
+                   "ALPB(methanol): methoxide - methanol by 3.7 kcal/mol, chloride - chloroethane by 14.0")
+def test_dielectric_continuum_matches_alpb_methanol_for_anions():
+    """The issue's check for ions (where the fallback differs most): within 1.5 kcal/mol of ALPB(methanol)."""
+    for ion, neutral in (("C[O-]", "CO"), ("[Cl-]", "CCCl")):
+        alpb = _solvation_kcal(ion, -1, "alpb") - _solvation_kcal(neutral, 0, "alpb")
+        dielectric = _solvation_kcal(ion, -1, "dielectric") - _solvation_kcal(neutral, 0, "dielectric")
+        assert abs(alpb - dielectric) < 1.5, (ion, alpb, dielectric)
+
+
+@pytest.mark.xtb
+@pytest.mark.slow
+@pytest.mark.xfail(strict=True, reason="measured: syn - anti relaxed-path barrier of chloroethane + methoxide is "
+                   "7.9 kcal/mol in ALPB(methanol) and 6.2 in the dielectric-only continuum (1.7 apart)")
+def test_dielectric_continuum_matches_alpb_methanol_for_a_relative_e2_barrier():
+    """One small E2 pair (anti vs syn, chloroethane + methoxide): relative barriers within 1.5 kcal/mol."""
+    from elimscan.config import BaseConfig, MethodConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline import run_config
+
+    gaps = {}
+    for model in ("alpb", "dielectric"):
+        method = MethodConfig(solvent=SolventConfig(model=model, name="methanol"))
+        config = RunConfig(method=method, substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="methoxide"),),
+                           paths=PathConfig(substitution=False, base_rotations=1, saddle={"refine": False}))
+        paths = run_config(config, XtbEngine(EngineSettings.from_method(method))).paths[("s", "methoxide")]
+        tops = {key[1]: path.top_hartree for key, path in paths.items()}
+        gaps[model] = (tops["syn"] - tops["anti"]) * KCAL_MOL_PER_HARTREE
+    assert abs(gaps["alpb"] - gaps["dielectric"]) < 1.5, gaps

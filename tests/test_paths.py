@@ -361,14 +361,14 @@ bases:
     assert sn2["elimination_fraction"] > 0.9
 
 
-def test_backbone_starts_each_give_a_path_and_the_record_reports_their_spread():
-    """Whole job on the toy engine: k backbone starts -> k paths, the lowest top kept, max - min reported."""
+def test_path_starts_each_give_a_path_and_the_record_reports_their_spread():
+    """Whole job on the toy engine: k backbone starts x 2 orientations -> 2k paths, Boltzmann-combined, spread."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline import compute_job_paths, job_record, run_config
+    from elimscan.pipeline import job_record, run_config
 
-    paths = PathConfig(approaches=("anti",), substitution=False, points=3, base_rotations=1, backbone_conformers=3,
-                       backbone_window_kcal_mol=50.0, saddle={"refine": False})
+    paths = PathConfig(approaches=("anti",), substitution=False, points=3, base_rotations=2, backbone_conformers=3,
+                       backbone_window_kcal_mol=50.0, orientation_paths=2, combine="boltzmann", saddle={"refine": False})
     config = RunConfig(substrates=(SubstrateConfig(name="3-bromohexane", smiles="CCC[C@H](Br)CC"),),
                        bases=(BaseConfig(name="methoxide"),), paths=paths)
     outcome = run_config(config, ToyJobEngine())
@@ -381,8 +381,8 @@ def test_backbone_starts_each_give_a_path_and_the_record_reports_their_spread():
         n = counts[h.class_id]
         if h.anti.path_status != "ok" or n == 0:
             continue
-        assert h.anti.backbone_starts == n
-        if n > 1:
-            assert h.anti.backbone_spread_kcal_mol is not None and h.anti.backbone_spread_kcal_mol >= 0.0
-        else:
-            assert h.anti.backbone_spread_kcal_mol is None
+        assert h.anti.path_starts == 2 * n  # backbone starts x two orientations each
+        assert h.anti.start_spread_kcal_mol is not None and h.anti.start_spread_kcal_mol >= 0.0
+        assert h.anti.barrier_combination == "boltzmann"
+        # the combined barrier is at or below the lowest single path top (parallel channels only add rate)
+        assert h.anti.barrier_kcal_mol <= h.anti.relaxed_path_estimate_kcal_mol + 1e-9

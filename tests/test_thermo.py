@@ -123,33 +123,27 @@ def test_hammett_rho_of_2_arylethyl_bromides_is_positive():
     # ArCH2CH2Br + EtO-: electron-withdrawing para groups speed E2, rho about +2.1 (DePuy & Bishop, J. Am.
     # Chem. Soc. 1960, 82, 2532, from memory). sigma_p: OMe -0.27, H 0, Cl 0.23, CF3 0.54 (Hansch, Leo & Taft,
     # Chem. Rev. 1991, 91, 165, from memory). Relaxed-path estimates of the anti path (saddles not refined,
-    # to keep the test short); the sign of rho is the check.
-    from elimscan.analysis import hammett_fit
-    from elimscan.bases import describe_base
-    from elimscan.config import BaseConfig, MethodConfig, PathConfig, RunConfig, SaddleConfig, SolventConfig, SubstrateConfig
+    # to keep the test short), taken through the whole chain: run, job records, the config's series and
+    # its record (elimscan.series); the sign of rho is the check.
+    from elimscan.config import (BaseConfig, MethodConfig, PathConfig, RunConfig, SaddleConfig, SeriesConfig,
+                                 SeriesMemberConfig, SolventConfig, SubstrateConfig)
     from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.paths import Reactive, compute_path
-    from elimscan.pipeline import analyze_substrate, relax_molecule
-    from elimscan.units import KCAL_MOL_PER_HARTREE
+    from elimscan.pipeline import job_record, run_config
+    from elimscan.series import series_records
 
-    series = {"COc1ccc(CCBr)cc1": -0.27, "BrCCc1ccccc1": 0.0, "Clc1ccc(CCBr)cc1": 0.23, "FC(F)(F)c1ccc(CCBr)cc1": 0.54}
+    sigma_p = {"COc1ccc(CCBr)cc1": -0.27, "BrCCc1ccccc1": 0.0, "Clc1ccc(CCBr)cc1": 0.23, "FC(F)(F)c1ccc(CCBr)cc1": 0.54}
+    series = SeriesConfig(name="para-X 2-arylethyl bromides", base="ethoxide",
+                          members=tuple(SeriesMemberConfig(substrate=s, sigma=v) for s, v in sigma_p.items()))
     config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),
-                       paths=PathConfig(approaches=("anti",), saddle=SaddleConfig(refine=False)),
-                       substrates=(SubstrateConfig(name="x", smiles="CCBr"),), bases=(BaseConfig(name="ethoxide"),))
+                       paths=PathConfig(approaches=("anti",), substitution=False, saddle=SaddleConfig(refine=False)),
+                       substrates=tuple(SubstrateConfig(name=s, smiles=s) for s in sigma_p),
+                       bases=(BaseConfig(name="ethoxide"),), series=(series,))
     engine = XtbEngine(EngineSettings.from_method(config.method))
-    base = relax_molecule("ethoxide", "base", "CC[O-]", None, 1, engine, config.optimizer, config.seed)
-    info = describe_base("CC[O-]")
-    barriers = []
-    for smiles in series:
-        analysis = analyze_substrate(SubstrateConfig(name=smiles, smiles=smiles), config, engine)
-        (benzylic,) = analysis.classes
-        b, lg = benzylic.beta_class, analysis.substrate.leaving_group
-        n = len(analysis.ensemble.lowest.atoms)
-        reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
-                            n + info.basic_atom_index)
-        path = compute_path(benzylic.anti.atoms, base.atoms, info.basic_atom_index, reactive, "anti", engine, -1, 1,
-                            config.paths, config.optimizer, ())
-        zero = analysis.global_minimum_hartree + base.record.energy_hartree
-        barriers.append((path.top_hartree - zero) * KCAL_MOL_PER_HARTREE)
-    fit = hammett_fit(list(series.values()), barriers, 298.15, reference_index=1)
-    assert fit.rho > 0, (fit, barriers)
+    outcome = run_config(config, engine)
+    jobs = [job_record(s, b, outcome, config) for s, b in outcome.jobs]
+    (record,) = series_records(config.series, jobs, config.method.temperature_K, config.analysis.energy)
+    summary = [(p.substrate, p.sigma, p.barrier_kcal_mol, p.path) for p in record.points]
+    print(f"rho {record.rho}, r^2 {record.r_squared}: {summary}")
+    assert record.n_fitted == 4, record  # every member has a barrier of its benzylic anti path
+    assert all(p.path.endswith(" anti") for p in record.points)
+    assert record.rho > 0, summary

@@ -44,3 +44,20 @@ def test_a_level_without_barriers_says_not_computed(validate):
     job = document["jobs"][0]
     assert validate.level_cell(job, "barrier_dft_kcal_mol", 298.15, {"expected_major": "internal"}) == "not computed"
     assert validate._classify("C=CCC", {}) == "terminal" and validate._classify("C/C=C/C", {}) == "internal"
+
+
+def test_the_shift_table_reads_the_1_butene_shares_of_both_bases(validate):
+    """On the halobutane fixture (ethoxide and tert-butoxide): shift = terminal share(bulky) - share(small)."""
+    document = json.loads((FIXTURE / "halobutane" / "results.json").read_text())
+    jobs = {j["base"]: j for j in document["jobs"]}
+    spec = {"models": {"bare": {}}}
+    rows = validate.shift_rows(spec, {("bare", "small"): {"job": jobs["ethoxide"]},
+                                      ("bare", "bulky"): {"job": jobs["tert-butoxide"]}})
+    terminal = {base: sum(p["fraction"] for p in job["products"] if p["smiles"] == "C=CCC")
+                for base, job in jobs.items()}
+    shift = terminal["tert-butoxide"] - terminal["ethoxide"]
+    assert rows[2] == (f"| bare | {terminal['ethoxide']:.0%} | {terminal['tert-butoxide']:.0%} | {shift:+.0%} | "
+                       f"{'yes' if shift > 0 else 'no'} |")
+    failed = validate.shift_rows(spec, {("bare", "small"): {"error": "scf_not_converged"},
+                                        ("bare", "bulky"): {"job": jobs["tert-butoxide"]}})
+    assert "failed: scf_not_converged" in failed[2]

@@ -10,6 +10,8 @@ this folder on PYTHONPATH.
 from __future__ import annotations
 
 import os
+import signal
+import time
 
 from ase.calculators.calculator import Calculator, all_changes
 
@@ -31,17 +33,27 @@ class _LazyToyCalculator(Calculator):
         super().calculate(atoms, properties or ["energy"], system_changes)
         self.owner.check(self.structure)
         if self.model is None:
-            self.model = SpringTorsionEngine(self.atoms.copy(), stats=self.owner.stats)
+            self.model = SpringTorsionEngine(self.owner.reference(self.atoms), stats=self.owner.stats)
         energy, forces = self.model.energy_forces(self.atoms.positions)
         self.results = {"energy": energy, "free_energy": energy, "forces": forces}
 
 
 class ToyJobEngine:
-    """Engine stand-in with XtbEngine's interface; optional trouble: an SCF failure for names containing a word."""
+    """Engine stand-in with XtbEngine's interface; optional trouble: an SCF failure for names containing a word,
+    and a ``stretch`` > 1 that puts every model's minimum away from the geometry it is built from (so each
+    relaxation has work to do and a small optimizer.max_steps is reached)."""
 
-    def __init__(self, fail_scf_on: str | None = None):
+    def __init__(self, fail_scf_on: str | None = None, stretch: float = 1.0):
         self.stats = CacheStats()
         self.fail_scf_on = fail_scf_on
+        self.stretch = stretch
+
+    def reference(self, atoms):
+        """Return the geometry a new toy model is built on: ``atoms`` scaled about its centre by ``stretch``."""
+        reference = atoms.copy()
+        centre = reference.positions.mean(axis=0)
+        reference.positions = centre + self.stretch * (reference.positions - centre)
+        return reference
 
     @property
     def label(self) -> str:
@@ -60,12 +72,14 @@ class ToyJobEngine:
     def single_point(self, atoms, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> SinglePoint:
         """Return the toy energy (hartree) and gradient (hartree/bohr) of a geometry (model built from it)."""
         self.check(name)
-        return SpringTorsionEngine(atoms.copy(), stats=self.stats).single_point(atoms)
+        return SpringTorsionEngine(self.reference(atoms), stats=self.stats).single_point(atoms)
 
 
 def toy_engine(method) -> ToyJobEngine:
-    """Engine factory of the batch tests: a toy engine; ELIMSCAN_TOY_FAIL_SCF=word scripts SCF failures."""
-    return ToyJobEngine(os.environ.get("ELIMSCAN_TOY_FAIL_SCF") or None)
+    """Engine factory of the batch tests: a toy engine; ELIMSCAN_TOY_FAIL_SCF=word scripts SCF failures,
+    ELIMSCAN_TOY_STRETCH=factor moves the models' minima (see ToyJobEngine)."""
+    return ToyJobEngine(os.environ.get("ELIMSCAN_TOY_FAIL_SCF") or None,
+                        float(os.environ.get("ELIMSCAN_TOY_STRETCH", "1.0")))
 
 
 class _BuggyEngine(ToyJobEngine):
@@ -79,3 +93,64 @@ class _BuggyEngine(ToyJobEngine):
 def broken_engine(method) -> ToyJobEngine:
     """Engine factory whose engine raises ZeroDivisionError (for the tests of unexpected errors)."""
     return _BuggyEngine()
+
+
+class _WorkerLosingEngine(ToyJobEngine):
+    """A toy engine that, once, kills the process that started its job (a Dask worker) mid-job.
+
+    ELIMSCAN_TOY_LOSE_WORKER_ON=word picks the structures (names containing the word); the first one to be
+    computed creates the marker file ELIMSCAN_TOY_LOSE_WORKER_MARKER and SIGKILLs the parent process, as a
+    node lost mid-job would. Later attempts find the marker and compute normally.
+    """
+
+    def check(self, name: str) -> None:
+        """Kill the parent process the first time a structure named with the word is computed."""
+        super().check(name)
+        word, marker = os.environ.get("ELIMSCAN_TOY_LOSE_WORKER_ON"), os.environ.get("ELIMSCAN_TOY_LOSE_WORKER_MARKER")
+        if word and marker and word in name:
+            try:
+                fd = os.open(marker, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
+            except FileExistsError:
+                return
+            os.write(fd, f"{os.getpid()} killed parent {os.getppid()} at {name}\n".encode())
+            os.close(fd)
+            os.kill(os.getppid(), signal.SIGKILL)
+            os._exit(1)  # the job process goes with its worker (its parent watch would end it within a second)
+
+
+def worker_losing_engine(method) -> ToyJobEngine:
+    """Engine factory of the lost-worker test: see ``_WorkerLosingEngine``."""
+    return _WorkerLosingEngine()
+
+
+class _StuckEngine(ToyJobEngine):
+    """A toy engine stuck forever in every calculation on a base, like a backend call that never returns."""
+
+    def check(self, name: str) -> None:
+        """Hang (sleep) for structures whose name starts with 'base'; a kill is the only way out."""
+        if name.startswith("base"):
+            while True:
+                time.sleep(3600)
+
+
+def stuck_engine(method) -> ToyJobEngine:
+    """Engine factory whose engine hangs on the base (for the stage time-limit tests)."""
+    return _StuckEngine()
+
+
+#: config settings that make a toy-engine job take about a second (prepended to the tests' YAML)
+TOY_SETTINGS = """\
+optimizer: {name: bfgs, fmax_eV_per_A: 0.05}
+conformers: {base_embeddings: 2, per_rotatable_bond: 1, max_relaxations: 2}
+scan: {step_deg: 60}
+paths: {approaches: [anti], points: 4, base_rotations: 1, substitution: false, saddle: {refine: false}}
+"""
+
+
+def without_timings(value):
+    """Return a JSON value with every relax_seconds entry dropped (what must not depend on interruptions)."""
+    if isinstance(value, dict):
+        return {k: without_timings(v) for k, v in value.items() if k != "relax_seconds"}
+    if isinstance(value, list):
+        return [without_timings(v) for v in value]
+    return value

@@ -233,6 +233,21 @@ class ComputedVerdict:
     reason: str
 
 
+def boltzmann_combined(tops_hartree: Sequence[float], temperature_K: float, same_kcal_mol: float = 0.01) -> float:
+    """Return -RT ln sum exp(-E_i/RT) over distinct tops (hartree); tops within ``same_kcal_mol`` count once.
+
+    Several paths to one product from different starts act as parallel channels (Curtin-Hammett); two
+    starts that reach the same saddle give the same top and are counted once.
+    """
+    distinct: list[float] = []
+    for top in sorted(tops_hartree):
+        if not distinct or (top - distinct[-1]) * KCAL_MOL_PER_HARTREE > same_kcal_mol:
+            distinct.append(top)
+    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K / KCAL_MOL_PER_HARTREE
+    lowest = distinct[0]
+    return lowest - rt * math.log(sum(math.exp(-(t - lowest) / rt) for t in distinct))
+
+
 def product_fractions(paths: Sequence[PathBarrier], temperature_K: float,
                       shifts_kcal_mol: dict[int, float] | None = None) -> dict[str, float]:
     """Return product fractions from Boltzmann factors g exp(-dE/RT) of every path, summed per alkene.

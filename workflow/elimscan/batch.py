@@ -32,13 +32,17 @@ from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field, replace
 from pathlib import Path, PurePosixPath
 
+from pydantic import ValidationError
+
 from elimscan import __version__
+from elimscan.atomicio import remove_stale_temporaries, write_bytes_atomic
 from elimscan.config import (BaseConfig, ExecutorConfig, RunConfig, SolventConfig, SubstrateConfig,
                              default_workers)
 from elimscan.errors import ConfigError, OutputError, StructureError
 from elimscan.records import (BatchCounts, BatchIndex, BatchJobEntry, ErrorInfo, FileChecksum, JobRecord,
                               MoleculeRecord, Provenance, RunResult, RunSummary, Seeds)
 from elimscan.store import STORE_FILE, JobStore, StoredJob
+from elimscan.trouble import count_trouble
 from elimscan.workers import (DEFAULT_ENGINE_FACTORY, WORKER_LOG_FILE, DaskExecutor, Done, JobTask, LocalExecutor,
                               Progress, Started)
 from elimscan.workers import LOG_FILE  # noqa: F401  (the batch folder's log; cli opens it)
@@ -51,7 +55,8 @@ LOCK_FILE = "batch.lock"
 #: output-relative record fields that name a job's files
 _FILE_FIELDS = frozenset({"conformer_file", "xyz_file", "path_file", "saddle_file"})
 #: settings that change no number: left out of the job key
-_KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents"}
+_KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents",
+                 "series"}
 #: libraries whose version can change a job's numbers (their versions are part of the key)
 _KEY_LIBRARIES = ("rdkit", "ase", "numpy", "scipy", "sella")
 #: seconds between two store updates of one running job's step (status reads them)
@@ -250,26 +255,48 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
     """
     settings = config.model_dump(mode="json", exclude=_KEY_EXCLUDED)
     settings["method"]["solvent"] = {"model": solvent.model, "name": solvent.name}
+    if config.dft.enabled:  # the optional DFT tier: its settings and PySCF's version change the job's numbers
+        import importlib.metadata as md
+
+        try:
+            versions = {**versions, "pyscf": md.version("pyscf")}
+        except md.PackageNotFoundError:
+            versions = {**versions, "pyscf": "not installed"}
+    else:  # tier off: keys stay those of configs without a dft block
+        settings.pop("dft", None)
     document = {"key_format": 1, "settings": settings, "substrate": substrate,
                 "base": base.model_dump(mode="json"), "versions": versions}
     return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
 
-def _substrate_problem(smiles: str, charge: int | None, multiplicity: int, what: str) -> tuple[int | None, str | None]:
-    """Return (total charge, None) when a SMILES is usable, else (None, the problem naming it)."""
-    from rdkit import Chem
+def _substrate_problem(smiles: str, charge: int | None, multiplicity: int, what: str,
+                       seed: int | None = None, full: bool = True) -> tuple[int | None, str | None]:
+    """Return (total charge, None) when a molecule is usable, else (None, the problem naming it).
 
-    from elimscan.structures import check_charge, parse_smiles
+    With a ``seed`` the molecule is a substrate and is perceived (leaving group, beta H; in full, or with
+    ``full=False`` by its graph only, for file rows); without, a base (it needs a basic atom).
+    """
+    from elimscan.inputcheck import check_base, check_substrate
 
     try:
-        mol = parse_smiles(smiles, what)
-        total = check_charge(smiles, Chem.GetFormalCharge(mol), charge, what)
-        electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - total
-        if (electrons + multiplicity - 1) % 2:
-            raise StructureError(f"{what} '{smiles}': multiplicity {multiplicity} is impossible with {electrons} electrons")
+        if seed is None:
+            total = check_base(smiles, charge, multiplicity, what)
+        else:
+            total = check_substrate(smiles, charge, multiplicity, what, seed, full)
     except StructureError as err:
         return None, str(err)
     return total, None
+
+
+def _same_molecule_problem(name: str, smiles: str, base: BaseConfig, row: "SubstrateRow | None") -> str | None:
+    """Return why a job whose base is its own substrate cannot run (naming the file row), or None."""
+    from elimscan.inputcheck import check_pair
+
+    try:
+        check_pair(name, smiles, base.name, base.smiles)
+    except StructureError as err:
+        return f"{row.source}: {err}" if row else str(err)
+    return None
 
 
 def _gas_phase_ions(solvent: SolventConfig, charges: dict[str, int]) -> str | None:
@@ -301,9 +328,10 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     charges: dict[str, int] = {}
     for role, items in (("substrate", config.substrates), ("base", config.bases)):
         for index, item in enumerate(items):
-            total, problem = _substrate_problem(item.smiles, item.charge, item.multiplicity, f"{role} '{item.name}'")
+            total, problem = _substrate_problem(item.smiles, item.charge, item.multiplicity, f"{role} '{item.name}'",
+                                                config.seed if role == "substrate" else None)
             if problem is not None:
-                raise StructureError(f"key '{role}s.{index}.smiles': {problem}")
+                raise StructureError(problem, key_path=f"{role}s.{index}.smiles")
             charges[f"{role} '{item.name}'"] = total
     names = {s.name: "in the config" for s in config.substrates}
     merged: list[SubstrateConfig] = list(config.substrates)
@@ -314,7 +342,8 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             row = replace(row, name=f"{row.name}@line{row.line}",
                           problem=f"{row.source}: substrate name '{row.name}' is already used ({names[row.name]})")
         elif row.problem is None:
-            total, problem = _substrate_problem(row.smiles, row.charge, row.multiplicity, f"substrate '{row.name}'")
+            total, problem = _substrate_problem(row.smiles, row.charge, row.multiplicity, f"substrate '{row.name}'",
+                                                config.seed, full=False)
             if problem is not None:
                 row = replace(row, problem=f"{row.source}: {problem}")
             else:
@@ -330,6 +359,12 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             raise ConfigError(f"pair names unknown substrate '{pair.substrate}' (not in the config nor in "
                               f"'{config.substrates_file}')", key_path=f"pairs.{index}.substrate")
     kept = {s.name for s in merged}
+    for index, item in enumerate(config.series):
+        for number, member in enumerate(item.members):
+            if member.substrate not in kept:
+                raise ConfigError(f"series '{item.name}' member {number} ('{member.substrate}'): no such substrate in "
+                                  f"the config nor a row with a SMILES in '{config.substrates_file}'",
+                                  key_path=f"series.{index}.members.{number}.substrate")
     merged_config = RunConfig.model_validate({
         **config.model_dump(mode="json", exclude={"substrates", "substrates_file", "pairs"}),
         "substrates": [s.model_dump(mode="json") for s in merged],
@@ -358,6 +393,8 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             common = dict(key=key, job_id=job_id, substrate_name=name, substrate_smiles=inputs["smiles"], base=base,
                           solvent=solvent, source=row.source if row else "config")
             problem = row.problem if row else None
+            if problem is None:
+                problem = _same_molecule_problem(name, inputs["smiles"], base, row)
             if problem is None:
                 problem = _gas_phase_ions(solvent, {w: q for w, q in charges.items()
                                                     if w in (f"substrate '{name}'", f"base '{base.name}'")})
@@ -469,46 +506,24 @@ def prepare_batch_folder(out: Path) -> None:
         raise OutputError(f"cannot create output folder '{out}': {err.strerror or err}") from err
 
 
-def _fsync_dir(path: Path) -> None:
-    try:
-        fd = os.open(path, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
-
-
-def write_file_atomic(out: Path, rel: str, content: bytes) -> FileChecksum:
-    """Write one file through a temporary file, fsync and a rename; return its checksum record."""
-    path = out / rel
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        with open(tmp, "wb") as handle:
-            handle.write(content)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, path)
-    except OSError as err:
-        raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+def write_file_atomic(out: Path, rel: str, content: bytes,
+                      before_rename: Callable[[Path], None] | None = None) -> FileChecksum:
+    """Write one file through a temporary file, fsync and a rename (atomicio); return its checksum record."""
+    write_bytes_atomic(out / rel, content, before_rename)
     return FileChecksum(path=rel, sha256=hashlib.sha256(content).hexdigest(), size_bytes=len(content))
 
 
-def _write_job_files(out: Path, files: dict[str, bytes]) -> list[FileChecksum]:
-    """Write a job's files atomically (fsync'd, directories too); return their checksums.
+def _write_job_files(out: Path, files: dict[str, bytes],
+                     before_first_rename: Callable[[Path], None] | None = None) -> list[FileChecksum]:
+    """Write a job's files atomically (fsync'd, folders too); return their checksums.
 
     Temporary files left in the job's folder by a driver killed while writing are removed first.
+    ``before_first_rename`` is the kill test's hook (called once the first temporary file is complete).
     """
     for folder in sorted({(out / rel).parent for rel in files}):
-        for stale in folder.glob(".*.tmp") if folder.is_dir() else ():
-            stale.unlink(missing_ok=True)
-    sums = [write_file_atomic(out, rel, content) for rel, content in sorted(files.items())]
-    for folder in sorted({(out / s.path).parent for s in sums}):
-        _fsync_dir(folder)
+        remove_stale_temporaries(folder)
+    sums = [write_file_atomic(out, rel, content, before_first_rename if i == 0 else None)
+            for i, (rel, content) in enumerate(sorted(files.items()))]
     return sums
 
 
@@ -563,6 +578,20 @@ class BatchOptions:
     command_line: str = ""
     #: test hook: SIGKILL the driver itself right after this many store commits (None: never)
     kill_after_commits: int | None = None
+    #: test hook (the kill test): SIGKILL the driver at (point, n), point one of KILL_POINTS (None: never)
+    kill_at: tuple[str, int] | None = None
+
+
+#: where the kill test's hook can stop the driver: after the n-th job start is stored; once the n-th finished
+#: job's first temporary file is complete (before its rename); after the n-th job's files are all in place
+#: (before its store commit); after the n-th commit; while writing batch.json (n counts its writes)
+KILL_POINTS = ("start", "rename", "files", "commit", "documents")
+
+
+def _kill_hook(options: "BatchOptions", point: str, count: int) -> None:
+    """Test hook: SIGKILL this process when ``options.kill_at`` is (point, count); otherwise do nothing."""
+    if options.kill_at == (point, count) or (point == "commit" and options.kill_after_commits == count):
+        os.kill(os.getpid(), signal.SIGKILL)
 
 
 @dataclass(frozen=True)
@@ -595,6 +624,8 @@ class BatchOutcome:
     complete: bool = False
     results_file: Path | None = None
     failures: list[tuple[str, ErrorInfo]] = field(default_factory=list)
+    #: numerical trouble counted over the finished batch's jobs (see trouble.count_trouble)
+    trouble: dict[str, int] = field(default_factory=dict)
 
 
 def _provenance(plan: BatchPlan, command_line: str) -> Provenance:
@@ -714,10 +745,12 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
     tasks = [JobTask(job.key, job.job_id, job.substrate, job.base, job.config, job.geometry, options.engine_factory)
              for job in todo]
     if executor_config.kind == "dask":
-        executor = DaskExecutor(executor_config.address, threads, executor_config.time_limit_seconds)
+        executor = DaskExecutor(executor_config.address, threads, executor_config.time_limit_seconds,
+                                executor_config.stage_time_limit_seconds)
     else:
         workers = min(executor_config.workers or default_workers(), len(tasks))
-        executor = LocalExecutor(workers, threads, executor_config.time_limit_seconds, out / WORKER_LOG_FILE)
+        executor = LocalExecutor(workers, threads, executor_config.time_limit_seconds, out / WORKER_LOG_FILE,
+                                 executor_config.stage_time_limit_seconds)
     log.info("batch %s: %d job(s): %d finished before, %d failing on their input, %d to compute on %s",
              plan.config.name, len(plan.jobs), len(plan.jobs) - len(todo) - plan.n_input_failures,
              plan.n_input_failures, len(todo), executor.description)
@@ -727,7 +760,7 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
     durations = store.finished_durations([job.key for job in plan.jobs])
     running: dict[str, tuple[float, str]] = {}  # key -> (monotonic start, latest step)
     step_written: dict[str, float] = {}
-    commits = 0
+    commits = starts = 0
 
     def emit(kind: str, **extra) -> None:
         if on_event is None:
@@ -753,6 +786,8 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                 if isinstance(event, Started):
                     running[event.key] = (time.monotonic(), "started")
                     store.record_start(run_id, job.key, job.job_id, event.worker, _utc_now())
+                    starts += 1
+                    _kill_hook(options, "start", starts)
                     emit("start", job_id=job.job_id, message=event.worker)
                 elif isinstance(event, Progress):
                     if event.key in running:
@@ -766,7 +801,8 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                     if event.key not in running:  # the start event may arrive late (Dask) or never
                         store.record_start(run_id, job.key, job.job_id, event.worker, _utc_now())
                     running.pop(event.key, None)
-                    record = _commit(job, event, out, store, run_id)
+                    record = _commit(job, event, out, store, run_id,
+                                     lambda point, n=commits + 1: _kill_hook(options, point, n))
                     commits += 1
                     durations.append(event.seconds)
                     outcome.n_computed += 1
@@ -776,8 +812,7 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                         n_failed += 1
                     emit("finish", job_id=job.job_id, status=record.status, seconds=event.seconds,
                          message=None if record.error is None else f"{record.error.error_type}: {record.error.error_message}")
-                    if options.kill_after_commits is not None and commits >= options.kill_after_commits:
-                        os.kill(os.getpid(), signal.SIGKILL)  # test hook: die hard at a known point
+                    _kill_hook(options, "commit", commits)  # test hook: die hard at a known point
             if time.monotonic() - last_tick > 1.0:
                 emit("tick")
                 last_tick = time.monotonic()
@@ -790,8 +825,12 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
         raise
 
 
-def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: int) -> JobRecord:
-    """Write a finished job's files, then commit its row with their checksums; return its record."""
+def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: int,
+            hook: Callable[[str], None] | None = None) -> JobRecord:
+    """Write a finished job's files, then commit its row with their checksums; return its record.
+
+    ``hook`` is the kill test's: called with 'rename' (first temporary file complete) and 'files' (all written).
+    """
     if event.outcome is not None:
         record, molecules, files = relocate_outcome(job, event.outcome)
     else:
@@ -799,10 +838,13 @@ def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: in
                            error=event.error, solvent=job.solvent, job_key=job.key)
         molecules, files = [], {}
     if event.traceback and (event.error is None or event.error.error_type == "internal_error"):
-        log.error("job %s: unexpected error in the worker; traceback:\n%s", job.job_id, event.traceback.rstrip())
+        log.error("job %s: unexpected error in the worker (a bug); the traceback is in %s", job.job_id, LOG_FILE)
+        log.debug("job %s: traceback of the unexpected error:\n%s", job.job_id, event.traceback.rstrip())
     elif event.traceback:
         log.debug("job %s failed: %s", job.job_id, event.traceback.rstrip())
-    sums = _write_job_files(out, files)
+    sums = _write_job_files(out, files, (lambda tmp: hook("rename")) if hook else None)
+    if hook is not None:
+        hook("files")
     started = (_dt.datetime.now(_dt.timezone.utc) - _dt.timedelta(seconds=event.seconds)).isoformat(timespec="milliseconds")
     store.record_finished(_row(job, record, molecules, sums, run_id, started, event.seconds, event.worker))
     return record
@@ -818,9 +860,14 @@ def assemble_results(plan: BatchPlan, rows: dict[str, StoredJob], command_line: 
     bases: dict[tuple[str, str], MoleculeRecord] = {}
     for job in plan.jobs:
         row = rows[job.key]
-        jobs.append(JobRecord.model_validate_json(row.job_json))
-        for data in json.loads(row.molecules_json):
-            molecule = MoleculeRecord.model_validate(data)
+        try:
+            jobs.append(JobRecord.model_validate_json(row.job_json))
+            stored = [MoleculeRecord.model_validate(data) for data in json.loads(row.molecules_json)]
+        except (ValidationError, ValueError) as err:
+            raise OutputError(f"job '{job.job_id}': its record in {STORE_FILE} does not match the result format of "
+                              f"this elimscan (written by another build?): {str(err).splitlines()[0]}; use a new "
+                              "--out for this version") from err
+        for molecule in stored:
             target = substrates if molecule.role == "substrate" else bases
             key = (molecule.name, solvent_label(job.solvent))
             if key not in target or (target[key].status != "ok" and molecule.status == "ok"):
@@ -830,7 +877,25 @@ def assemble_results(plan: BatchPlan, rows: dict[str, StoredJob], command_line: 
     return RunResult(provenance=_provenance(plan, command_line), config=plan.config,
                      seeds=Seeds(rdkit_embedding=plan.config.seed), molecules=molecules, jobs=tuple(jobs),
                      summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
-                                        n_molecules_failed=sum(m.status != "ok" for m in molecules)))
+                                        n_molecules_failed=sum(m.status != "ok" for m in molecules),
+                                        trouble=count_trouble(jobs)),
+                     series=_series(plan, jobs))
+
+
+def _series(plan: BatchPlan, jobs: list[JobRecord]) -> tuple:
+    """Return the SeriesRecords of the config's substituent series over the given finished job records."""
+    from elimscan.series import series_records
+
+    config = plan.config
+    return series_records(config.series, jobs, config.method.temperature_K, config.analysis.energy)
+
+
+def _series_so_far(plan: BatchPlan, store: JobStore) -> tuple:
+    """Return the SeriesRecords over the jobs of the current config finished so far (() without series)."""
+    if not plan.config.series:
+        return ()
+    rows = store.finished([job.key for job in plan.jobs], with_records=True)
+    return _series(plan, [JobRecord.model_validate_json(rows[job.key].job_json) for job in plan.jobs if job.key in rows])
 
 
 def batch_index(plan: BatchPlan, store: JobStore, command_line: str, executor_config: ExecutorConfig) -> BatchIndex:
@@ -858,14 +923,17 @@ def batch_index(plan: BatchPlan, store: JobStore, command_line: str, executor_co
                       executor=executor_config,
                       counts=BatchCounts(n_jobs=len(entries), n_ok=n_ok, n_failed=n_failed,
                                          n_not_finished=len(entries) - n_ok - n_failed),
-                      jobs=tuple(entries))
+                      jobs=tuple(entries),
+                      series=_series_so_far(plan, store))
 
 
 def _finish_documents(plan: BatchPlan, out: Path, store: JobStore, options: BatchOptions,
                       executor_config: ExecutorConfig, outcome: BatchOutcome) -> None:
     """Write batch.json always, and results.json when every job of the current config has finished."""
     index = batch_index(plan, store, options.command_line, executor_config)
-    write_file_atomic(out, INDEX_FILE, (index.model_dump_json(indent=2) + "\n").encode())
+    remove_stale_temporaries(out)
+    write_file_atomic(out, INDEX_FILE, (index.model_dump_json(indent=2) + "\n").encode(),
+                      lambda tmp: _kill_hook(options, "documents", 1))
     outcome.n_ok, outcome.n_failed = index.counts.n_ok, index.counts.n_failed
     outcome.failures = [(e.job_id, e.error) for e in index.jobs if e.status == "failed" and e.error is not None]
     outcome.complete = index.complete
@@ -874,6 +942,7 @@ def _finish_documents(plan: BatchPlan, out: Path, store: JobStore, options: Batc
                                   options.command_line)
         write_file_atomic(out, RESULTS_FILE, (result.model_dump_json(indent=2) + "\n").encode())
         outcome.results_file = out / RESULTS_FILE
+        outcome.trouble = result.summary.trouble
 
 
 # --- status (read-only) -----------------------------------------------------------------------------------------

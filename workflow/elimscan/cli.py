@@ -70,7 +70,9 @@ def _read_config(path: str):
     try:
         return parse_config(text, source=path)
     except ConfigError as err:
-        raise ConfigError(f"{path}: {err}") from err
+        located = ConfigError(f"{path}: " + str(err).replace(f"{path}: ", "", 1))  # the file named once, first
+        located.key_path, located.line = err.key_path, err.line
+        raise located from err
 
 
 def cmd_info(args: argparse.Namespace) -> int:
@@ -80,24 +82,75 @@ def cmd_info(args: argparse.Namespace) -> int:
     return ExitCode.OK
 
 
-def _check_structures(config) -> None:
-    """Raise StructureError for the first substrate or base whose SMILES or charge is unusable."""
-    from rdkit import Chem
+def _located(cls, err: Exception, config_path: str, key_path: str, text: str):
+    """Return an input error of class ``cls`` saying file, key path and YAML line before the message of ``err``."""
+    from elimscan.config import key_line
 
-    from elimscan.structures import check_charge, parse_smiles
+    line = key_line(text, key_path)
+    detail = getattr(err, "detail", err) if getattr(err, "key_path", None) == key_path else err
+    located = cls(f"{config_path}, key '{key_path}'" + (f", line {line}" if line else "") + f": {detail}")
+    located.key_path, located.line = key_path, line
+    return located
 
+
+def _plan_batch(config, config_path: str):
+    """Return the batch plan of a config; an input error naming a key gets the file and the YAML line too."""
+    from elimscan.batch import plan_batch
+    from elimscan.errors import InputError
+
+    try:
+        return plan_batch(config, config_path)
+    except InputError as err:
+        if not err.key_path or err.line is not None:
+            raise
+        try:
+            text = Path(config_path).read_text(encoding="utf-8")
+        except OSError:
+            raise err from None
+        raise _located(type(err), err, config_path, err.key_path, text) from err
+
+
+def _check_structures(config, config_path: str) -> None:
+    """Raise StructureError (file, key path and YAML line) for the first substrate or base that cannot be used.
+
+    Substrates are perceived in full (leaving group, maps, beta hydrogens), no base may be its job's
+    substrate, and bases need a basic atom: all before any calculation.
+    """
+    from elimscan.errors import StructureError
+    from elimscan.inputcheck import check_base, check_pair, check_substrate
+
+    try:
+        text = Path(config_path).read_text(encoding="utf-8")
+    except OSError:
+        text = ""
     ions = []
-    for role, items in (("substrate", config.substrates), ("base", config.bases)):
-        for item in items:
-            mol = parse_smiles(item.smiles, f"{role} '{item.name}'")
-            charge = check_charge(item.smiles, Chem.GetFormalCharge(mol), item.charge, f"{role} '{item.name}'")
-            if charge:
-                ions.append(f"{role} '{item.name}' (charge {charge:+d})")
+    for index, item in enumerate(config.substrates):
+        try:
+            charge = check_substrate(item.smiles, item.charge, item.multiplicity, f"substrate '{item.name}'", config.seed)
+        except StructureError as err:
+            raise _located(StructureError, err, config_path, f"substrates.{index}.smiles", text) from err
+        if charge:
+            ions.append(f"substrate '{item.name}' (charge {charge:+d})")
+    base_index = {b.name: i for i, b in enumerate(config.bases)}
+    for substrate, base in config.jobs():
+        try:
+            check_pair(substrate.name, substrate.smiles, base.name, base.smiles)
+        except StructureError as err:
+            raise _located(StructureError, err, config_path, f"bases.{base_index[base.name]}.smiles", text) from err
+    for index, item in enumerate(config.bases):
+        try:
+            charge = check_base(item.smiles, item.charge, item.multiplicity, f"base '{item.name}'")
+        except StructureError as err:
+            raise _located(StructureError, err, config_path, f"bases.{index}.smiles", text) from err
+        if item.model.counter_ion is not None:
+            charge += 1  # the ion pair is the base model: its cation travels with it
+        if charge:
+            ions.append(f"base '{item.name}' (charge {charge:+d})")
     if ions and config.method.solvent.model == "none":
-        raise ConfigError(
+        raise _located(ConfigError,
             f"gas phase requested, but free ions appear: {', '.join(ions)}. A free ion in the gas phase binds "
             "anything it meets (complexation energies near -20 kcal/mol) and E2 saddles vanish; use an implicit "
-            "solvent (method.solvent: {model: alpb, name: ...})", key_path="method.solvent.model")
+            "solvent (method.solvent: {model: alpb, name: ...})", config_path, "method.solvent.model", text)
 
 
 def _batch_only(config) -> list[str]:
@@ -109,16 +162,14 @@ def cmd_validate(args: argparse.Namespace) -> int:
     """Check a config (and its SMILES) without computing; return the exit code."""
     config = _read_config(args.config)
     if _batch_only(config):
-        from elimscan.batch import plan_batch
-
-        plan = plan_batch(config, args.config)
+        plan = _plan_batch(config, args.config)
         for job in plan.jobs:
             if job.input_error is not None:
                 log.warning("job %s will fail: %s", job.job_id, job.input_error.error_message)
         log.info("%s: valid batch config (%d jobs, %d of them fail on their input)", args.config, len(plan.jobs),
                  plan.n_input_failures)
         return ExitCode.OK
-    _check_structures(config)
+    _check_structures(config, args.config)
     from elimscan.batch import read_geometries
 
     read_geometries(config, Path(args.config).parent)
@@ -151,12 +202,9 @@ def _prepare_output(out: Path, overwrite: bool) -> None:
 
 def _write_atomic(path: Path, text: str) -> None:
     """Write text to ``path`` through a temporary file and a rename (never a half-written file)."""
-    tmp = path.with_name(path.name + ".tmp")
-    try:
-        tmp.write_text(text, encoding="utf-8")
-        os.replace(tmp, path)
-    except OSError as err:
-        raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+    from elimscan.atomicio import write_text_atomic
+
+    write_text_atomic(path, text)
 
 
 def cmd_run(args: argparse.Namespace) -> int:
@@ -167,7 +215,7 @@ def cmd_run(args: argparse.Namespace) -> int:
                           f"run it with: elimscan batch {args.config} --out DIR", key_path=_batch_only(config)[0])
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
-    _check_structures(config)  # input errors stop the run before any calculation
+    _check_structures(config, args.config)  # input errors stop the run before any calculation
     from elimscan.batch import read_geometries
 
     geometries = read_geometries(config, Path(args.config).parent)
@@ -186,6 +234,8 @@ def cmd_run(args: argparse.Namespace) -> int:
     from elimscan.pipeline import DETAIL, job_record, run_config, substrate_molecule_record
     from elimscan.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
     from elimscan.report import summary_table
+    from elimscan.series import series_records
+    from elimscan.trouble import count_trouble
 
     engine = XtbEngine(EngineSettings.from_method(config.method))
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
@@ -232,13 +282,16 @@ def cmd_run(args: argparse.Namespace) -> int:
             backend_version=backend_version(config.method.backend), method_label=engine.label),
         config=config, seeds=Seeds(rdkit_embedding=config.seed), molecules=tuple(molecules), jobs=tuple(jobs),
         summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
-                           n_molecules_failed=sum(m.status != "ok" for m in molecules)),
+                           n_molecules_failed=sum(m.status != "ok" for m in molecules), trouble=count_trouble(jobs)),
+        series=series_records(config.series, jobs, config.method.temperature_K, config.analysis.energy),
     )
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
     from elimscan.reportfiles import build_report_files
 
     _write_files(out, build_report_files(out))
     log.info("%s", summary_table(result))
+    for kind, count in result.summary.trouble.items():
+        log.warning("numerical trouble recorded as data: %s: %d (see results.json)", kind, count)
     log.info("wrote %s in %.1f s (%d xTB gradients, cache hit ratio %.2f)", out / RESULTS_FILE,
              time.perf_counter() - started, engine.stats.misses, engine.stats.hit_ratio)
     return ExitCode.JOBS_FAILED if n_failed else ExitCode.OK
@@ -305,8 +358,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
     config = _read_config(args.config)
     if args.threads is None:  # before anything loads a backend or BLAS
         configure_threads(config.threads.per_process)
-    from elimscan.batch import (BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, plan_batch, prepare_batch_folder,
-                                run_batch)
+    from elimscan.batch import BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, prepare_batch_folder, run_batch
 
     executor = config.executor
     update = {}
@@ -316,6 +368,8 @@ def cmd_batch(args: argparse.Namespace) -> int:
         update["workers"] = args.workers
     if args.time_limit is not None:
         update["time_limit_seconds"] = args.time_limit
+    if args.stage_time_limit is not None:
+        update["stage_time_limit_seconds"] = args.stage_time_limit
     if update:
         from pydantic import ValidationError
 
@@ -327,12 +381,17 @@ def cmd_batch(args: argparse.Namespace) -> int:
             raise ConfigError(f"command-line options: {err.errors()[0]['msg'].removeprefix('Value error, ')}",
                               key_path="executor") from err
         config = config.model_copy(update={"executor": executor})
-    plan = plan_batch(config, args.config)  # input errors in the YAML stop here, before any calculation
+    plan = _plan_batch(config, args.config)  # input errors in the YAML stop here, before any calculation
     out = Path(args.out)
     prepare_batch_folder(out)
-    kill_after = os.environ.get("ELIMSCAN_TEST_KILL_AFTER_COMMITS")  # test hook, see DEVELOPERS.md
+    # test hooks, see DEVELOPERS.md: kill the driver at a known point; give the workers another engine
+    kill_after = os.environ.get("ELIMSCAN_TEST_KILL_AFTER_COMMITS")
+    kill_at = os.environ.get("ELIMSCAN_TEST_KILL_AT")
+    test_engine = os.environ.get("ELIMSCAN_TEST_ENGINE_FACTORY")
     options = BatchOptions(retry_failed=args.retry_failed, command_line=shlex.join(sys.argv),
-                           kill_after_commits=int(kill_after) if kill_after else None)
+                           kill_after_commits=int(kill_after) if kill_after else None,
+                           kill_at=(kill_at.partition(":")[0], int(kill_at.partition(":")[2] or 1)) if kill_at else None,
+                           **({"engine_factory": test_engine} if test_engine else {}))
     threads = args.threads or config.threads.per_process
     previous = signal.signal(signal.SIGTERM, _raise_interrupt)  # a scheduler's SIGTERM stops cleanly, like Ctrl-C
     progress = _BatchProgress()
@@ -358,6 +417,8 @@ def cmd_batch(args: argparse.Namespace) -> int:
                 _write_files(out, build_report_files(out))
             for job_id, error in outcome.failures:
                 log.warning("failed: %s: %s: %s", job_id, error.error_type, error.error_message)
+            for kind, count in outcome.trouble.items():
+                log.warning("numerical trouble recorded as data: %s: %d (see results.json)", kind, count)
             log.info("batch %s: %d ok, %d failed of %d job(s) (%d computed now, %d reused) in %.1f s; wrote %s",
                      config.name, outcome.n_ok, outcome.n_failed, outcome.n_jobs, outcome.n_computed,
                      outcome.n_reused, time.perf_counter() - started, out / RESULTS_FILE)
@@ -413,15 +474,10 @@ def cmd_summary(args: argparse.Namespace) -> int:
 
 def _write_files(out: Path, files: dict[str, bytes]) -> None:
     """Write {relative path: content} into the output folder, each through a temporary file and a rename."""
+    from elimscan.atomicio import write_bytes_atomic
+
     for rel, content in files.items():
-        path = out / rel
-        tmp = path.with_name(path.name + ".tmp")
-        try:
-            path.parent.mkdir(parents=True, exist_ok=True)
-            tmp.write_bytes(content)
-            os.replace(tmp, path)
-        except OSError as err:
-            raise OutputError(f"cannot write '{path}': {err.strerror or err}") from err
+        write_bytes_atomic(out / rel, content)
 
 
 def _checked_result_file(path: Path) -> None:
@@ -495,6 +551,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--time-limit", type=float, default=None, metavar="SECONDS",
                    help="stop a job running longer than this and record it as failed "
                         "(default: executor.time_limit_seconds, 14400)")
+    p.add_argument("--stage-time-limit", type=float, default=None, metavar="SECONDS",
+                   help="stop a job that stays longer than this in one stage (a substrate, a base, a job's paths) "
+                        "and record it as failed (default: executor.stage_time_limit_seconds, none)")
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
                    help="send the jobs to this existing Dask scheduler (e.g. tcp://host:8786) instead of local workers")
     p.add_argument("--retry-failed", action="store_true", help="compute the jobs that failed before again")
@@ -531,8 +590,9 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except Exception:  # a bug: keep the traceback in the log file, a short line on the terminal
         log.debug("unexpected error", exc_info=True)
-        log.error("unexpected internal error; the traceback is in the log file (run.log) if one was opened, "
-                  "or rerun with -v", exc_info=logging.getLogger("elimscan").handlers[0].level <= logging.DEBUG)
+        log.error("unexpected internal error; the traceback is in the log file (run.log or batch.log in the "
+                  "output folder) if one was opened, or rerun with -v",
+                  exc_info=logging.getLogger("elimscan").handlers[0].level <= logging.DEBUG)
         return int(ExitCode.INTERNAL)
 
 

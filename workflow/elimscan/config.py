@@ -184,6 +184,11 @@ class PathConfig(_Frozen):
     backbone_window_kcal_mol: float = Field(3.0, gt=0)
     #: ... and differing from each other by more than this heavy-atom RMSD (Å)
     backbone_distinct_rmsd_A: float = Field(0.25, gt=0)
+    #: drive a whole path from each of this many lowest base rotations of the complex (at most base_rotations)
+    orientation_paths: int = Field(1, ge=1)
+    #: how the paths of one approach from several starts (backbone conformers x orientations) make one
+    #: barrier: the lowest top, or a Boltzmann sum over distinct tops at method.temperature_K
+    combine: Literal["lowest", "boltzmann"] = "lowest"
     #: nucleophile placed behind C-alpha at this distance for the substitution complex (Å)
     substitution_distance_A: float = Field(3.0, gt=1.5)
     saddle: SaddleConfig = SaddleConfig()
@@ -216,17 +221,18 @@ class SubstrateConfig(_Frozen):
 
 
 class BaseModelConfig(_Frozen):
-    """How the base is modelled (reserved: counter-ion and explicit solvent molecules are not built yet)."""
+    """How the base is modelled: bare (default), ion-paired with a metal cation, with explicit molecules, or both.
 
-    counter_ion: str | None = None
-    explicit: int = Field(0, ge=0)
+    The cation and the explicit molecules sit on the basic atom's lone pairs; one lone pair stays free for
+    the proton transfer (basemodels.py).
+    """
 
-    @model_validator(mode="after")
-    def _not_yet(self) -> "BaseModelConfig":
-        if self.counter_ion is not None or self.explicit:
-            raise ValueError("base models with a counter-ion or explicit solvent molecules are not available yet: "
-                             "only the bare base is modelled (leave 'model' out)")
-        return self
+    #: metal cation paired with an anionic base (None: no counter-ion)
+    counter_ion: Literal["Li", "Na", "K"] | None = None
+    #: explicit solvent molecules hydrogen-bonded to the basic atom
+    explicit: int = Field(0, ge=0, le=3)
+    #: SMILES of the explicit molecule; None: the base's conjugate acid (tert-butanol for tert-butoxide)
+    explicit_smiles: str | None = Field(None, min_length=1)
 
 
 #: Built-in bases: a base given by one of these names needs no SMILES.
@@ -279,6 +285,86 @@ class AnalysisConfig(_Frozen):
     energy: Literal["electronic", "free"] = "electronic"
 
 
+class DftConfig(_Frozen):
+    """Optional DFT single points (PySCF) on the GFN2-xTB saddles of each job; off by default."""
+
+    enabled: bool = False
+    #: exchange-correlation functional (PySCF name)
+    functional: Literal["b3lyp", "pbe0"] = "b3lyp"
+    #: dispersion correction (pyscf-dispersion): D3 with Becke-Johnson damping, D4, or none
+    dispersion: Literal["d3bj", "d4", "none"] = "d3bj"
+    #: basis set: diffuse functions are needed for the anionic bases (def2-SVP without them gave the wrong
+    #: anti/syn order in a scratch test); def2-TZVP is the check level
+    basis: Literal["def2-svpd", "def2-tzvp", "def2-tzvpd"] = "def2-svpd"
+    #: density fitting (RI) of the Coulomb and exchange integrals
+    density_fit: bool = True
+    #: 'pcm' = IEF-PCM at the dielectric constant of the job's solvent; 'none' = gas phase (refused for jobs
+    #: with a free ion: ion-dipole binding would dominate)
+    solvation: Literal["pcm", "none"] = "pcm"
+    #: dielectric constant for IEF-PCM; None = take it from the table for the job's solvent (dft.py)
+    dielectric_constant: float | None = Field(None, gt=1)
+    #: single points on this many of the lowest GFN2-xTB saddles of each product (by GFN2-xTB energy)
+    saddles_per_product: int = Field(3, ge=1)
+    #: also compute the free substrate and free base, so that barrier_dft_kcal_mol is absolute; otherwise it
+    #: is relative to the lowest DFT saddle of the job (all that the product mix needs)
+    absolute_barriers: bool = False
+    #: PySCF integration grid level (0 coarse ... 9 fine)
+    grid_level: int = Field(3, ge=0, le=9)
+    #: SCF cycles at most and convergence of the energy (hartree)
+    max_scf_cycles: int = Field(100, ge=1)
+    scf_tolerance_hartree: float = Field(1e-9, gt=0)
+
+    @field_validator("basis", mode="before")
+    @classmethod
+    def _diffuse_needed(cls, value: Any) -> Any:
+        if isinstance(value, str) and value.strip().lower() == "def2-svp":
+            raise ValueError("def2-svp lacks the diffuse functions the anionic bases need: use def2-svpd (the "
+                             "default), or def2-tzvp / def2-tzvpd")
+        return value.strip().lower() if isinstance(value, str) else value
+
+
+class SeriesMemberConfig(_Frozen):
+    """One member of a substituent series: a substrate (by name) and its substituent constant sigma."""
+
+    substrate: str = Field(min_length=1)
+    #: Hammett-type substituent constant of this member (dimensionless), copied from a published table
+    sigma: float = Field(allow_inf_nan=False)
+
+
+#: a Hammett fit needs at least this many members with a barrier
+SERIES_MIN_MEMBERS = 3
+
+
+class SeriesConfig(_Frozen):
+    """A substituent series: substrates (entries of ``substrates:``) with their sigma, all run with one base.
+
+    The report plots each member's lowest E2 barrier as log10(k/k0) against sigma and fits the slope rho;
+    k0 is the member with sigma 0 when there is one, else the first member with a barrier.
+    """
+
+    name: str = Field(min_length=1)
+    base: str = Field(min_length=1)
+    members: tuple[SeriesMemberConfig, ...]
+    #: where the sigma values come from (shown beside the fit in the report), e.g. a table and its citation
+    sigma_source: str | None = None
+
+    @model_validator(mode="after")
+    def _members_usable(self) -> "SeriesConfig":
+        if len(self.members) < SERIES_MIN_MEMBERS:
+            raise ValueError(f"series '{self.name}' has {len(self.members)} member(s): a Hammett fit needs at least "
+                             f"{SERIES_MIN_MEMBERS}")
+        seen: dict[str, int] = {}
+        for index, member in enumerate(self.members):
+            if member.substrate in seen:
+                raise ValueError(f"series '{self.name}' member {index} repeats substrate '{member.substrate}' "
+                                 f"(member {seen[member.substrate]}; counted from 0)")
+            seen[member.substrate] = index
+        if len({m.sigma for m in self.members}) < 2:
+            raise ValueError(f"series '{self.name}': every member has sigma {self.members[0].sigma:g}, so no slope "
+                             "can be fitted")
+        return self
+
+
 #: Per-job wall-time limit of a batch (s): a job still running after this is stopped and recorded as
 #: failed (error_type time_limit). Four hours: a large substrate with every path takes well under one.
 DEFAULT_JOB_TIME_LIMIT_SECONDS = 14400.0
@@ -305,6 +391,9 @@ class ExecutorConfig(_Frozen):
     workers: int | None = Field(None, ge=1)
     #: a job running longer than this is stopped (its process killed) and recorded as failed (s)
     time_limit_seconds: float = Field(DEFAULT_JOB_TIME_LIMIT_SECONDS, gt=0)
+    #: a job that stays longer than this in one stage (a substrate's analysis, a base, a job's paths) is stopped
+    #: the same way and recorded as failed with error_type stage_time_limit (s); None = no stage limit
+    stage_time_limit_seconds: float | None = Field(None, gt=0)
 
     @model_validator(mode="after")
     def _address_for_dask(self) -> "ExecutorConfig":
@@ -339,6 +428,10 @@ class RunConfig(_Frozen):
     analysis: AnalysisConfig = AnalysisConfig()
     #: batches: where the jobs run (local processes or Dask) and the per-job time limit
     executor: ExecutorConfig = ExecutorConfig()
+    #: substituent series (Hammett plots): members name substrates, the series names the base
+    series: tuple[SeriesConfig, ...] = ()
+    #: optional DFT single points on the saddles of each job (PySCF; off by default)
+    dft: DftConfig = DftConfig()
 
     @field_validator("substrates", "bases")
     @classmethod
@@ -391,6 +484,30 @@ class RunConfig(_Frozen):
             if pair.base not in bases:
                 raise ValueError(f"pair names unknown base '{pair.base}' (known: {', '.join(sorted(bases))})")
         return self
+
+    @field_validator("series")
+    @classmethod
+    def _series_known(cls, series: tuple[SeriesConfig, ...], info: ValidationInfo) -> tuple[SeriesConfig, ...]:
+        if "substrates" not in info.data or "bases" not in info.data:
+            return series  # an error there is reported first
+        substrates = {s.name for s in info.data["substrates"]}
+        bases = {b.name for b in info.data["bases"]}
+        pairs = info.data.get("pairs")
+        from_file = info.data.get("substrates_file") is not None
+        names: dict[str, int] = {}
+        for k, item in enumerate(series):
+            if item.name in names:
+                raise ValueError(f"series {k} repeats the name '{item.name}' of series {names[item.name]}")
+            names[item.name] = k
+            if item.base not in bases:
+                raise ValueError(f"series '{item.name}' names unknown base '{item.base}' (known: {', '.join(sorted(bases))})")
+            for index, member in enumerate(item.members):
+                where = f"series '{item.name}' member {index} ('{member.substrate}')"
+                if member.substrate not in substrates and not from_file:  # file rows: their names are read by the batch
+                    raise ValueError(f"{where}: unknown substrate (known: {', '.join(sorted(substrates))})")
+                if pairs and not any(p.substrate == member.substrate and p.base == item.base for p in pairs):
+                    raise ValueError(f"{where}: 'pairs' has no job of this substrate with base '{item.base}'")
+        return series
 
     def jobs(self) -> list[tuple[SubstrateConfig, BaseConfig]]:
         """Return the (substrate, base) jobs: the given pairs, else every substrate with every base."""
@@ -527,3 +644,13 @@ def parse_config(text: str, source: str = "<config>") -> RunConfig:
 def config_to_dict(config: RunConfig) -> dict[str, Any]:
     """Return the resolved config (all defaults filled in) as plain JSON-ready data."""
     return config.model_dump(mode="json")
+
+
+def key_line(text: str, key_path: str) -> int | None:
+    """Return the 1-based YAML line of a dotted key path (``substrates.0.smiles``) in config text, or None."""
+    try:
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except yaml.YAMLError:
+        return None
+    loc = tuple(int(p) if p.isdigit() else p for p in key_path.split("."))
+    return _node_line(root, loc) if root is not None else None

@@ -34,22 +34,17 @@ class ElimscanError(Exception):
 
 
 class InputError(ElimscanError):
-    """Fires before any calculation: something the user gave is invalid."""
+    """Fires before any calculation: something the user gave is invalid.
+
+    ``key_path`` is the dotted path of the offending key (``substrates.0.smiles``)
+    and ``line`` the 1-based line in the YAML file, when known; both lead the message.
+    """
 
     error_type = "input_error"
     exit_code = ExitCode.CONFIG
 
-
-class ConfigError(InputError):
-    """Fires while reading a YAML config: syntax, unknown key, wrong type or value.
-
-    ``key_path`` is the dotted path of the offending key (``substrates.0.smiles``)
-    and ``line`` the 1-based line in the YAML file, when known.
-    """
-
-    error_type = "config_error"
-
     def __init__(self, message: str, key_path: str | None = None, line: int | None = None):
+        self.detail = message  # the message without the key path and line
         self.key_path = key_path
         self.line = line
         where = []
@@ -59,6 +54,12 @@ class ConfigError(InputError):
             where.append(f"line {line}")
         prefix = f"{', '.join(where)}: " if where else ""
         super().__init__(prefix + message)
+
+
+class ConfigError(InputError):
+    """Fires while reading a YAML config: syntax, unknown key, wrong type or value."""
+
+    error_type = "config_error"
 
 
 class StructureError(InputError):
@@ -99,6 +100,24 @@ class BackendUnavailableError(EngineError):
     """Fires when the requested xTB backend library is not installed or cannot be loaded."""
 
     error_type = "backend_unavailable"
+
+
+class DftUnavailableError(BackendUnavailableError):
+    """Fires when the optional DFT tier is asked for but PySCF (or its dispersion package) cannot be loaded."""
+
+    error_type = "dft_unavailable"
+
+
+class DftRefusedError(InputError):
+    """Fires before any DFT single point: the job's DFT cannot be trusted (a free ion in the gas phase, no ε)."""
+
+    error_type = "dft_refused"
+
+
+class DftError(EngineError):
+    """Fires during a DFT single point: PySCF failed on a structure (SCF not converged, numerical trouble)."""
+
+    error_type = "dft_failed"
 
 
 # --- output phase -------------------------------------------------------------------------

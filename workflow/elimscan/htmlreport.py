@@ -16,8 +16,9 @@ from rdkit import Chem
 from rdkit.Chem.Draw import rdMolDraw2D
 
 from elimscan.config import SolventConfig
-from elimscan.plots import BARRIER_SHIFT_KCAL_MOL, character_points, figure_svg, job_figures, plot_name, signed
-from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult, SubstitutionRecord
+from elimscan.plots import (BARRIER_SHIFT_KCAL_MOL, SERIES_BARRIER_WORDS, character_points, figure_svg, job_figures,
+                            plot_name, rho_text, series_figure, series_plot_name, signed)
+from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult, SeriesRecord, SubstitutionRecord
 from elimscan.tables import job_solvent, product_anti_penalty_kcal_mol, product_lowest_barrier, product_paths
 
 CAUTION = ("Computed predictions are not safety data. Strong bases (alkoxides, amides, hydrides) and alkyl halides "
@@ -790,6 +791,54 @@ def _new_field_points(result: RunResult, jobs: list[JobRecord]) -> tuple[str, ..
     return tuple(points)
 
 
+#: the sentence under every substituent-series table
+SERIES_SENTENCE = ("Each member's barrier is the lowest E2 barrier of its job (every beta-H class, anti and syn) above its "
+                   "own substrate plus the free base; log\u2081\u2080(k/k\u2080) = \u2212(barrier \u2212 barrier of "
+                   "k\u2080)/(RT ln 10), transition-state theory with one prefactor for all members, and \u03c1 is the "
+                   "least-squares slope of log\u2081\u2080(k/k\u2080) against \u03c3. Compare the sign and size of "
+                   "\u03c1 with a measured one; single values carry the method's uncertainty of about 1 kcal/mol.")
+
+
+def _series_block(series: SeriesRecord, assets: Mapping[str, str]) -> str:
+    """Return one series: its table of members, the fitted line in words and the Hammett plot."""
+    word = SERIES_BARRIER_WORDS[series.energy_used]
+    rows = []
+    for point in series.points:
+        rows.append(f'<tr class="series-row" data-status="{esc(point.status)}"><td>{esc(point.substrate)}</td>'
+                    f'<td class="num">{esc(signed(point.sigma, 2))}</td>'
+                    f'<td class="num">{esc(barrier_text(point.barrier_kcal_mol))}</td>'
+                    f"<td>{esc(point.path or ABSENT)}{'' if point.barrier_source != 'relaxed-path maximum' else ' *'}</td>"
+                    f'<td class="num">{esc(ABSENT if point.log10_k_rel is None else signed(point.log10_k_rel, 2))}</td>'
+                    f"<td>{esc(point.note or '')}</td></tr>")
+    if series.rho is not None:
+        fit = (f"\u03c1 = {rho_text(series.rho)}, r\u00b2 = {series.r_squared:.3f}, from {series.n_fitted} members; "
+               f"k\u2080: {series.reference_substrate}")
+    else:
+        fit = f"no fit: {series.note}"
+    solvent = f", {series.solvent.model} {series.solvent.name or ''}".rstrip() if series.solvent is not None else ""
+    key = series_plot_name(series)
+    svg = assets.get(key)
+    if svg is None and any(p.status == "ok" for p in series.points):
+        svg = figure_svg(series_figure(series))
+    source = f" \u03c3 values: {series.sigma_source}." if series.sigma_source else ""
+    return (f'<div class="series" data-series="{esc(series.name)}"><h3>{esc(series.name)} with {esc(series.base)}'
+            f"{esc(solvent)}</h3>"
+            f'<p class="series-fit"><strong>{esc(fit)}</strong> ({esc(word)}, {series.temperature_K:g} K).{esc(source)}</p>'
+            '<table class="series-table"><thead><tr><th>substrate</th><th class="num">\u03c3</th>'
+            f'<th class="num">{esc(word)}<br>kcal/mol</th><th>lowest path</th><th class="num">log\u2081\u2080(k/k\u2080)</th>'
+            "<th>note</th></tr></thead>\n<tbody>\n" + "\n".join(rows) + "\n</tbody></table>"
+            + _figure(svg, key.replace("/", "-"), f"Hammett plot of {series.name}: log\u2081\u2080(k/k\u2080) against "
+                      f"\u03c3 with the fitted line; right axis: the same points as {word} in kcal/mol.",
+                      "No member has a barrier: no plot.") + "</div>")
+
+
+def series_section(result: RunResult, assets: Mapping[str, str]) -> str:
+    """Return the report's section of substituent series (Hammett fits), one block per series and solvent."""
+    return ('<section class="series-section" id="series"><h2>Substituent series</h2>'
+            + "".join(_series_block(s, assets) for s in result.series)
+            + f'<p class="note">{esc(SERIES_SENTENCE)} * : relaxed-path maximum, saddle not verified.</p></section>')
+
+
 def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
     """Return the whole report as one self-contained HTML document (UTF-8 text).
 
@@ -825,6 +874,8 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
                 figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
                 own = {k: figure_svg(f) for k, f in figures.items() if k not in assets}
         parts.append(_job_section(result, job, assets, own))
+    if result.series:
+        parts.append(series_section(result, assets))
     parts.append(f'<footer class="note"><p>Made by elimscan {esc(p.program_version)} from results.json '
                  f"(schema {esc(result.schema_name)} {esc(result.schema_version)}).</p></footer>")
     parts.append(f"<script>{_SCRIPT}</script></body></html>")

@@ -139,8 +139,10 @@ class PathResult:
     flags: tuple[str, ...]
     n_gradients: int
     saddle_gradients: int = 0
-    #: path tops (hartree) of every backbone conformer tried for this approach, when more than one was
+    #: path tops (hartree) of every start tried for this approach (backbone conformers x orientations)
     start_tops_hartree: tuple[float, ...] = ()
+    #: Boltzmann-combined top of those starts (hartree), when paths.combine is 'boltzmann'
+    combined_top_hartree: float | None = None
 
     @property
     def estimate_hartree(self) -> float:
@@ -149,7 +151,10 @@ class PathResult:
 
     @property
     def top_hartree(self) -> float:
-        """Return the verified saddle energy if there is one, else the relaxed-path maximum (hartree)."""
+        """Return the combined top of several starts if set, else the verified saddle energy if there is one,
+        else the relaxed-path maximum (hartree)."""
+        if self.combined_top_hartree is not None:
+            return self.combined_top_hartree
         return self.saddle.energy_hartree if self.saddle.verified else self.estimate_hartree
 
 
@@ -205,9 +210,9 @@ def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, d
 
 def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
                   engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
-                  name: str = "complex") -> ComplexResult:
-    """Return the lowest complex over ``settings.base_rotations`` rotations, H...B distance and dihedral held."""
-    best, energies, spent = None, [], 0
+                  name: str = "complex", rank: int = 0) -> ComplexResult:
+    """Return the complex of ``rank`` (0: the lowest) over ``settings.base_rotations`` rotations, H...B and dihedral held."""
+    found, energies, spent = [], [], 0
     for k in range(settings.base_rotations):
         rotation = 360.0 * k / settings.base_rotations
         start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
@@ -217,9 +222,9 @@ def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive,
         result = relax(start, calc, held, optimizer)
         spent += result.n_gradients
         energies.append(result.energy_hartree)
-        if best is None or result.energy_hartree < best[1]:
-            best = (result.atoms, result.energy_hartree, rotation)
-    return ComplexResult(best[0], best[1], best[2], tuple(energies), spent)
+        found.append((result.energy_hartree, rotation, result.atoms))
+    energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(rank, len(found) - 1)]
+    return ComplexResult(atoms, energy, rotation, tuple(energies), spent)
 
 
 def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
@@ -432,13 +437,13 @@ def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[Pa
 
 def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
                  multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, other_hydrogens: tuple[int, ...],
-                 name: str = "path") -> PathResult:
+                 name: str = "path", orientation_rank: int = 0) -> PathResult:
     """Return the complex, relaxed path, saddle and flags of one approach ('anti' or 'syn') for one hydrogen."""
     misses0 = engine.stats.misses
     syn = approach == "syn"
     dihedral = settings.syn_dihedral_deg if syn else dihedral_deg(start.positions, *reactive.quad())
     complex_ = build_complex(start, base, basic, reactive, dihedral, engine, charge, multiplicity, settings, optimizer,
-                             name=f"{name} complex")
+                             name=f"{name} complex", rank=orientation_rank)
     points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
                            hold_dihedral_deg=settings.syn_dihedral_deg if syn else None, name=f"{name} path")
     top = int(np.argmax([p.energy_hartree for p in points]))

@@ -751,6 +751,34 @@ def _no_leaving_group_error(mol_h: Chem.Mol, smiles: str) -> StructureError:
     )
 
 
+def check_substrate_topology(smiles: str) -> None:
+    """Raise StructureError when a SMILES cannot be an E2 substrate by its graph alone (no 3D; milliseconds).
+
+    The checks of ``perceive_substrate`` that need no embedding: parsing, one fragment, a leaving group on an
+    sp3 carbon, atom maps, several topologically distinct leaving groups, a beta hydrogen. What only 3D
+    can tell (unspecified stereo that matters, stereo-distinct leaving groups) is left to the full perception.
+    """
+    mol = parse_smiles(smiles, "substrate", add_hydrogens=False)
+    _check_fragments(mol, smiles)
+    mol_h = Chem.AddHs(mol)
+    candidates = find_leaving_groups(mol_h)
+    if not candidates:
+        raise _no_leaving_group_error(mol_h, smiles)
+    candidates = _apply_maps(mol_h, candidates, smiles)
+    ranks = list(Chem.CanonicalRankAtoms(_cleared_maps(mol_h), breakTies=False))
+    distinct = {(ranks[c.leaving_atom_index], ranks[c.c_alpha_index]): c for c in candidates}
+    if len(distinct) > 1 and len({c.leaving_atom_index for c in candidates}) > 1:
+        raise StructureError(
+            f"SMILES {smiles!r}: several leaving groups: {'; '.join(_describe(mol_h, c) for c in distinct.values())}; "
+            "mark the leaving atom that leaves with an atom-map number, e.g. [Cl:1]"
+        )
+    lg = candidates[0]
+    group = set(lg.group_atom_indices)
+    ca = mol_h.GetAtomWithIdx(lg.c_alpha_index)
+    if not any(n.GetIdx() not in group and _is_sp3_carbon(n) and _hydrogens(n) for n in ca.GetNeighbors()):
+        raise _no_beta_error(mol_h, lg, smiles)
+
+
 def perceive_substrate(smiles: str, seed: int = 20261202) -> Substrate:
     """Return the perceived E2 substrate (leaving group, beta-H classes, products) of a SMILES.
 

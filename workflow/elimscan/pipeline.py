@@ -18,20 +18,24 @@ from dataclasses import dataclass, field
 from ase import Atoms
 from rdkit import Chem
 
-from elimscan.analysis import (ClassFacts, GeometrySample, PathBarrier, Periplanar, best_periplanar, periplanar_starts,
-                               compare_verdicts, fraction_ranges, product_fractions, rule_status, rule_verdict)
+from elimscan.analysis import (ClassFacts, GeometrySample, PathBarrier, Periplanar, best_periplanar, boltzmann_combined,
+                               compare_verdicts, fraction_ranges, periplanar_starts, product_fractions, rule_status,
+                               rule_verdict)
 from elimscan.bases import BaseInfo, describe_base
+from elimscan.basemodels import build_cluster, conjugate_acid_smiles
 from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
 from elimscan.character import saddle_character
+from elimscan.dft import DftJobResult, DftPoint, SaddleCandidate, refine_job
 from elimscan.freeenergy import MinimumHessian, isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
 from elimscan.geometry import distance
 from elimscan.substitution import substitution_product
 from elimscan.paths import PathResult, Reactive, SubstitutionReactive, compute_path, compute_substitution_path
-from elimscan.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, ErrorInfo, JobRecord,
+from elimscan.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, DftJobRecord,
+                              DftPointRecord, ErrorInfo, JobRecord,
                               LeavingGroupRecord, MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
                               SaddleCharacterRecord, IsotopeEffectRecord, ScanPointRecord, ScanRecord,
                               SubstitutionRecord, VerdictRecord)
@@ -104,6 +108,8 @@ class RunOutcome:
     bases: dict[str, BaseAnalysis] = field(default_factory=dict)
     jobs: list[tuple[SubstrateConfig, BaseConfig]] = field(default_factory=list)
     paths: dict[tuple[str, str], JobPaths] = field(default_factory=dict)
+    #: the optional DFT tier of each job (substrate, base), when dft.enabled
+    dft: dict[tuple[str, str], DftJobResult] = field(default_factory=dict)
 
 
 def error_info(err: ElimscanError) -> ErrorInfo:
@@ -135,6 +141,47 @@ def relax_molecule(name: str, role: str, smiles: str, charge: int | None, multip
             error_message=f"{what}: relaxation did not converge in {optimizer.max_steps} steps "
                           f"(fmax {optimizer.fmax_eV_per_A} eV/Å)")})
     return RelaxedMolecule(record, result.atoms)
+
+
+def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMolecule, BaseInfo | None]:
+    """Return the relaxed base model (bare, ion pair and/or explicit molecules) and how the rule sees the base.
+
+    For a bare base this is ``relax_molecule``; otherwise the cluster of basemodels.py is built on the
+    embedded base and relaxed as one molecule (charge: base + cation), whose energy is the base's share of
+    the common zero. The record's SMILES is the dot-separated cluster.
+    """
+    model = item.model
+    if model.counter_ion is None and not model.explicit:
+        relaxed = relax_molecule(item.name, "base", item.smiles, item.charge, item.multiplicity, engine,
+                                 config.optimizer, config.seed)
+        return relaxed, (describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None)
+    what = f"base '{item.name}'"
+    start = time.perf_counter()
+    try:
+        info = describe_base(item.smiles, item.bulky)
+        built = build_molecule(item.smiles, config.seed, item.charge, item.multiplicity, what)
+        explicit_smiles = model.explicit_smiles or conjugate_acid_smiles(item.smiles, info.basic_atom_index)
+        explicit = [build_molecule(explicit_smiles, config.seed + k, None, 1, f"{what} explicit molecule").atoms
+                    for k in range(model.explicit)]
+        cluster = build_cluster(built.atoms, info.basic_atom_index, item.smiles, built.formal_charge, model.counter_ion,
+                                explicit, explicit_smiles, item.name)
+        calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
+        result = relax(cluster.atoms, calc, (), config.optimizer)
+    except ElimscanError as err:
+        record = MoleculeRecord(name=item.name, role="base", smiles=item.smiles, status="failed", error=error_info(err))
+        return RelaxedMolecule(record, None), None
+    record = MoleculeRecord(
+        name=item.name, role="base", smiles=cluster.smiles, status="ok", charge=cluster.charge,
+        multiplicity=item.multiplicity, n_atoms=len(result.atoms), formula=result.atoms.get_chemical_formula(mode="hill"),
+        energy_hartree=result.energy_hartree, converged=result.converged, n_gradients=result.n_gradients,
+        relax_seconds=round(time.perf_counter() - start, 3), model=cluster.label)
+    if not result.converged:
+        record = record.model_copy(update={"status": "failed", "error": ErrorInfo(
+            error_type="optimization_failed",
+            error_message=f"{what} ({cluster.label}): relaxation did not converge in {config.optimizer.max_steps} steps")})
+        return RelaxedMolecule(record, result.atoms), None
+    return RelaxedMolecule(record, result.atoms), BaseInfo(cluster.smiles, info.basic_atom_index, cluster.charge,
+                                                            info.bulky, info.bulky_reason)
 
 
 def _bond_in_ring(mol: Chem.Mol, a: int, b: int) -> bool:
@@ -238,9 +285,7 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
     for step, item in enumerate(bases, start=len(substrates)):
         if on_progress is not None:
             on_progress(step, total, f"base '{item.name}' ({item.smiles})")
-        relaxed = relax_molecule(item.name, "base", item.smiles, item.charge, item.multiplicity, engine,
-                                 config.optimizer, config.seed)
-        info = describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None
+        relaxed, info = relax_base(item, engine, config)
         minimum = None
         if relaxed.atoms is not None:
             minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, engine, relaxed.record.charge,
@@ -254,6 +299,9 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
         if on_progress is not None:
             on_progress(step, len(jobs), f"paths of {substrate_cfg.name} + {base_cfg.name}")
         outcome.paths[(substrate_cfg.name, base_cfg.name)] = compute_job_paths(analysis, base, config, engine, on_progress)
+        if config.dft.enabled:
+            outcome.dft[(substrate_cfg.name, base_cfg.name)] = job_dft(
+                analysis, base, outcome.paths[(substrate_cfg.name, base_cfg.name)], config, on_progress)
     return outcome
 
 
@@ -278,19 +326,24 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
                 continue
             tried: list[PathResult] = []
             failure: ErrorInfo | None = None
+            orientations = min(config.paths.orientation_paths, config.paths.base_rotations)
             for k, start in enumerate(starts or (best,)):
-                if on_progress is not None:
-                    on_progress(DETAIL, DETAIL, f"{analysis.name}: {approach} path of {b.class_id} "
-                                                f"(from {start.source}, {start.dihedral_deg:.0f} deg)")
-                try:
-                    tried.append(compute_path(
-                        start.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine, charge,
-                        multiplicity, config.paths, config.optimizer,
-                        tuple(i for i in all_h if i != b.representative_index),
-                        name=f"{analysis.name} {b.class_id} {approach}" + (f" start {k}" if k else "")))
-                except ElimscanError as err:
-                    failure = failure or error_info(err)
-            paths[(b.class_id, approach)] = lowest_of_starts(tried) if tried else failure
+                for rank in range(orientations):
+                    if on_progress is not None:
+                        on_progress(DETAIL, DETAIL, f"{analysis.name}: {approach} path of {b.class_id} "
+                                                    f"(from {start.source}, {start.dihedral_deg:.0f} deg"
+                                                    + (f", orientation {rank + 1}/{orientations})" if orientations > 1 else ")"))
+                    try:
+                        tried.append(compute_path(
+                            start.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine,
+                            charge, multiplicity, config.paths, config.optimizer,
+                            tuple(i for i in all_h if i != b.representative_index),
+                            name=f"{analysis.name} {b.class_id} {approach}" + (f" start {k}" if k else "")
+                            + (f" orientation {rank}" if rank else ""), orientation_rank=rank))
+                    except ElimscanError as err:
+                        failure = failure or error_info(err)
+            paths[(b.class_id, approach)] = (lowest_of_starts(tried, config.paths.combine, config.method.temperature_K)
+                                             if tried else failure)
     if config.paths.substitution:
         if on_progress is not None:
             on_progress(DETAIL, DETAIL, f"{analysis.name}: backside substitution (SN2) path")
@@ -304,10 +357,16 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
     return paths
 
 
-def lowest_of_starts(tried: list[PathResult]) -> PathResult:
-    """Return the path with the lowest top (verified saddles first), carrying every start's top (hartree)."""
+def lowest_of_starts(tried: list[PathResult], combine: str = "lowest", temperature_K: float = 298.15) -> PathResult:
+    """Return the path with the lowest top (verified saddles first), carrying every start's top (hartree).
+
+    With ``combine='boltzmann'`` the returned path also carries the Boltzmann-combined top of the distinct
+    tops (analysis.boltzmann_combined), which then stands for the approach's barrier.
+    """
     best = min(tried, key=lambda p: (not p.saddle.verified, p.top_hartree))
-    return dataclasses.replace(best, start_tops_hartree=tuple(p.top_hartree for p in tried),
+    tops = tuple(p.top_hartree for p in tried)
+    combined = boltzmann_combined(tops, temperature_K) if combine == "boltzmann" and len(tops) > 1 else None
+    return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined,
                                n_gradients=sum(p.n_gradients for p in tried))
 
 
@@ -359,8 +418,10 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
         saddle_note=path.saddle.reason, saddle_method=path.saddle.method, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
         complex_rotation_spread_kcal_mol=round((max(rotations) - min(rotations)) * KCAL_MOL_PER_HARTREE, 3),
-        backbone_starts=max(1, len(path.start_tops_hartree)),
-        backbone_spread_kcal_mol=(round((max(path.start_tops_hartree) - min(path.start_tops_hartree))
+        path_starts=max(1, len(path.start_tops_hartree)),
+        barrier_combination=("boltzmann" if path.combined_top_hartree is not None else "lowest")
+        if len(path.start_tops_hartree) > 1 else None,
+        start_spread_kcal_mol=(round((max(path.start_tops_hartree) - min(path.start_tops_hartree))
                                         * KCAL_MOL_PER_HARTREE, 3) if len(path.start_tops_hartree) > 1 else None),
         flags=path.flags, n_gradients=path.n_gradients,
         path=tuple(PathPointRecord(coordinate_A=round(p.coordinate_A, 4), relative_energy_kcal_mol=kcal(p.energy_hartree),
@@ -442,7 +503,7 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
             isotope_effects=_isotope_effects(analysis, b, paths, temperature),
             scans=tuple(_scan_record(s, analysis.global_minimum_hartree, scan_file_name(substrate_cfg.name, b.class_id, k))
                         for k, s in enumerate(c.scans))))
-    return JobRecord(
+    return with_dft(JobRecord(
         **head, status="ok",
         leaving_group=LeavingGroupRecord(label=lg.label, kind=lg.kind, leaving_atom_index=lg.leaving_atom_index,
                                          c_alpha_index=lg.c_alpha_index, map_number=lg.map_number),
@@ -472,7 +533,7 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
                               reason=computed.reason),
         energy_used="free" if use_free else "electronic",
         substitution=substitution,
-    )
+    ), outcome.dft.get((substrate_cfg.name, base_cfg.name)), config)
 
 
 def _free_zero(analysis: SubstrateAnalysis, base: BaseAnalysis, temperature_K: float) -> float | None:
@@ -582,3 +643,72 @@ def _substitution_record(analysis: SubstrateAnalysis, base: BaseAnalysis, base_c
         saddle_file=path_file_name(job_id, "substitution", "backside", "saddle") if path.saddle.atoms is not None else None,
         elimination_fraction=round(shares["elimination"], 4) if shares else None,
         substitution_fraction=round(shares["substitution"], 4) if shares else None)
+
+
+# --- optional DFT tier --------------------------------------------------------------------------------
+
+
+def _top_atoms(path: PathResult) -> Atoms:
+    """Return the geometry behind a path's barrier: the verified saddle, else the relaxed-path maximum."""
+    return path.saddle.atoms if path.saddle.verified else path.points[path.maximum_index].atoms
+
+
+def job_dft(analysis: SubstrateAnalysis, base: BaseAnalysis, paths: JobPaths, config: RunConfig,
+            on_progress: ProgressCallback | None = None) -> DftJobResult:
+    """Return the DFT tier of one job: single points on the lowest GFN2-xTB saddles of each product (E2 paths)."""
+    degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
+    products = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
+                for c in analysis.classes for a in ("anti", "syn")}
+    candidates = [SaddleCandidate(key, products[key], degeneracy[key[0]], p.top_hartree, _top_atoms(p))
+                  if key != SUBSTITUTION_KEY else SaddleCandidate(key, "SN2", 1, p.top_hartree, _top_atoms(p), kind="sn2")
+                  for key, p in paths.items() if not isinstance(p, ErrorInfo)]
+    base_charge, base_mult = base.info.formal_charge, base.relaxed.record.multiplicity or 1
+    reactants = (("substrate", analysis.ensemble.lowest.atoms, analysis.charge, analysis.multiplicity),
+                 ("base", base.relaxed.atoms, base_charge, base_mult))
+    report = None if on_progress is None else (lambda message: on_progress(DETAIL, DETAIL, message))
+    return refine_job(f"{analysis.name} + {base.relaxed.record.name}", candidates,
+                      analysis.charge + base_charge, analysis.multiplicity + base_mult - 1,
+                      {f"substrate '{analysis.name}'": analysis.charge, f"base '{base.relaxed.record.name}'": base_charge},
+                      config.dft, config.method.solvent, config.method.temperature_K, reactants,
+                      config.threads.per_process, report)
+
+
+def _dft_point_record(point: DftPoint | ErrorInfo, approach: ApproachRecord | SubstitutionRecord) -> DftPointRecord:
+    """Return the record of one DFT single point (or its failure) on the path of ``approach`` (E2 or SN2)."""
+    if isinstance(point, ErrorInfo):
+        return DftPointRecord(status="failed", geometry=approach.barrier_source, error=point)
+    return DftPointRecord(status="ok", energy_hartree=point.energy_hartree, dispersion_hartree=point.dispersion_hartree,
+                          geometry=approach.barrier_source, seconds=point.seconds, scf_cycles=point.scf_cycles)
+
+
+def with_dft(record: JobRecord, result: DftJobResult | None, config: RunConfig) -> JobRecord:
+    """Return the job record with its DFT tier: barrier_dft_kcal_mol per path, fraction_dft per product, the dft block."""
+    if result is None:
+        return record
+
+    def approach(a: ApproachRecord, key: tuple[str, str]) -> ApproachRecord:
+        point = result.points.get(key)
+        if point is None:
+            return a
+        return a.model_copy(update={"barrier_dft_kcal_mol": result.barriers_kcal_mol.get(key),
+                                    "dft": _dft_point_record(point, a)})
+    betas = tuple(b.model_copy(update={"anti": approach(b.anti, (b.class_id, "anti")),
+                                       "syn": approach(b.syn, (b.class_id, "syn"))}) for b in record.beta_hydrogens)
+    products = tuple(p.model_copy(update={"fraction_dft": round(result.fractions[p.smiles], 4)
+                                          if p.smiles in result.fractions else None}) for p in record.products)
+    substitution = record.substitution
+    sn2_point = result.points.get(SUBSTITUTION_KEY)
+    if substitution is not None and sn2_point is not None:
+        share = result.substitution_fraction
+        substitution = substitution.model_copy(update={
+            "barrier_dft_kcal_mol": result.barriers_kcal_mol.get(SUBSTITUTION_KEY),
+            "dft": _dft_point_record(sn2_point, substitution),
+            "substitution_fraction_dft": None if share is None else round(share, 4)})
+    block = DftJobRecord(status=result.status, message=result.message, level=result.level,
+                         program_version=result.program_version, saddles_per_product=config.dft.saddles_per_product,
+                         n_single_points=len(result.points), zero_kind=result.zero_kind,
+                         reference_energy_hartree=result.reference_energy_hartree,
+                         computed_major=max(result.fractions, key=result.fractions.get) if result.fractions else None,
+                         seconds=result.seconds, error=result.error)
+    return record.model_copy(update={"beta_hydrogens": betas, "products": products, "substitution": substitution,
+                                     "dft": block})

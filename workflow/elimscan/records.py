@@ -16,10 +16,12 @@ from pydantic import BaseModel, ConfigDict, Field
 from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 
 RESULT_SCHEMA_NAME = "elimscan.result"
+#: 0.6.0 added optional fields only (DFT single points, substituent series, base models, path starts and their
+#: combination, summary.trouble; config keys dft, series, solvent model dielectric, base models, stage limits).
 #: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
 #: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
 #: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
-RESULT_SCHEMA_VERSION = "0.5.0"
+RESULT_SCHEMA_VERSION = "0.6.0"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
@@ -76,6 +78,8 @@ class MoleculeRecord(_Record):
     n_gradients: int | None = Field(None, description="energy+gradient evaluations spent on the relaxation")
     relax_seconds: float | None = Field(None, description="wall time of the relaxation (s)")
     xyz_file: str | None = Field(None, description="relaxed geometry, extended XYZ, path relative to the output folder")
+    model: str | None = Field(None, description="base model: null or 'bare', else the counter-ion and explicit "
+                              "molecules around the basic atom (smiles is then the dot-separated cluster)")
     error: ErrorInfo | None = None
     solvent: SolventConfig | None = Field(None, description="implicit solvent of this record (batches); null: the "
                                           "config's method.solvent")
@@ -148,6 +152,19 @@ class IsotopeEffectRecord(_Record):
     temperature_K: float
 
 
+class DftPointRecord(_Record):
+    """One DFT single point on a path top (PySCF, level in the job's dft block), or why it failed."""
+
+    status: Literal["ok", "failed"]
+    energy_hartree: float | None = Field(None, description="DFT total energy incl. dispersion and implicit solvation")
+    dispersion_hartree: float | None = Field(None, description="dispersion correction inside energy_hartree")
+    geometry: Literal["verified saddle", "relaxed-path maximum"] | None = Field(
+        None, description="the GFN2-xTB geometry computed: the verified saddle, else the relaxed-path maximum")
+    seconds: float | None = Field(None, description="wall time of the single point (s)")
+    scf_cycles: int | None = None
+    error: ErrorInfo | None = None
+
+
 class ApproachRecord(_Record):
     """The anti or syn elimination of one beta-H class: product, best periplanar geometry, and its barrier."""
 
@@ -175,15 +192,24 @@ class ApproachRecord(_Record):
     saddle_method: str | None = Field(None, description="how the saddle was searched (start of the Sella refinement)")
     complex_energy_kcal_mol: float | None = Field(None, description="base-substrate complex above the same zero")
     complex_rotation_spread_kcal_mol: float | None = Field(None, description="max - min over the base rotations tried")
-    backbone_starts: int | None = Field(None, description="distinct backbone conformers the path was started from")
-    backbone_spread_kcal_mol: float | None = Field(None, description="max - min path top over those starts (kcal/mol); "
-                                                   "null when one start")
+    path_starts: int | None = Field(None, description="paths driven for this approach: backbone conformers x "
+                                    "base orientations")
+    start_spread_kcal_mol: float | None = Field(None, description="max - min path top over those starts (kcal/mol); "
+                                                "null when one start")
+    barrier_combination: Literal["lowest", "boltzmann"] | None = Field(
+        None, description="how several starts make barrier_kcal_mol: the lowest top, or a Boltzmann sum of the "
+        "distinct tops (then the saddle fields describe the lowest start)")
     flags: tuple[str, ...] = ()
     n_gradients: int | None = None
     path: tuple[PathPointRecord, ...] = ()
     path_file: str | None = Field(None, description="extended XYZ of the path, relative to the output folder")
     saddle_file: str | None = Field(None, description="extended XYZ: saddle and frames along its imaginary mode")
     error: ErrorInfo | None = None
+    barrier_dft_kcal_mol: float | None = Field(
+        None, description="DFT single-point energy of this path's top geometry relative to the lowest DFT saddle of the "
+        "job (electronic dE, kcal/mol); above DFT free substrate + free base when dft.absolute_barriers is on (see the "
+        "job's dft.zero_kind); null: not computed")
+    dft: DftPointRecord | None = Field(None, description="the DFT single point behind barrier_dft_kcal_mol")
 
 
 class BetaHydrogenRecord(_Record):
@@ -213,6 +239,8 @@ class ProductRecord(_Record):
     reason: str
     fraction: float | None = Field(None, description="computed share (Curtin-Hammett, Boltzmann over path barriers)")
     fraction_range: tuple[float, float] | None = Field(None, description="share when every barrier moves by +-1 kcal/mol")
+    fraction_dft: float | None = Field(None, description="share from the DFT single points of the job's saddles "
+                                       "(Curtin-Hammett over the refined saddles); null: no DFT tier or no DFT saddle")
 
 
 class BaseRecord(_Record):
@@ -248,6 +276,11 @@ class SubstitutionRecord(_Record):
     error: ErrorInfo | None = None
     elimination_fraction: float | None = Field(None, description="share of all E2 paths against the SN2 path")
     substitution_fraction: float | None = None
+    barrier_dft_kcal_mol: float | None = Field(None, description="DFT single point of the SN2 path top, same zero as "
+                                               "the E2 barrier_dft_kcal_mol of the job")
+    dft: DftPointRecord | None = None
+    substitution_fraction_dft: float | None = Field(None, description="share of the SN2 saddle against every DFT "
+                                                    "saddle of the job (E2 ones: the lowest few per alkene)")
     rule_call: Literal["substitution", "elimination", "mixture"]
     rule_reason: str
 
@@ -260,6 +293,25 @@ class VerdictRecord(_Record):
     agreement: bool | None
     within_method_uncertainty: bool
     reason: str
+
+
+class DftJobRecord(_Record):
+    """The optional DFT tier of one job: what ran, at which level, and the DFT-based product mix."""
+
+    status: Literal["ok", "partial", "skipped", "refused", "failed"] = Field(
+        description="ok: every chosen saddle computed; partial: some failed; skipped: PySCF missing; refused: "
+        "gas-phase DFT with a free ion, or no dielectric constant; failed: no single point succeeded")
+    message: str
+    level: str | None = Field(None, description="functional, dispersion, basis, fitting and solvation model")
+    program_version: str | None = Field(None, description="PySCF version")
+    saddles_per_product: int
+    n_single_points: int = Field(0, description="saddle single points attempted")
+    zero_kind: str | None = Field(None, description="zero of barrier_dft_kcal_mol: the lowest DFT saddle of the job, "
+                                  "or DFT free substrate + free base")
+    reference_energy_hartree: float | None = None
+    computed_major: str | None = Field(None, description="product with the largest DFT share")
+    seconds: float | None = Field(None, description="wall time of the tier for this job (s)")
+    error: ErrorInfo | None = None
 
 
 class JobRecord(_Record):
@@ -289,6 +341,41 @@ class JobRecord(_Record):
     verdict: VerdictRecord | None = None
     energy_used: Literal["electronic", "free"] = Field("electronic", description="which barriers drive the product mix")
     substitution: SubstitutionRecord | None = None
+    dft: DftJobRecord | None = Field(None, description="optional DFT single-point tier; null: not asked for")
+
+
+class SeriesPointRecord(_Record):
+    """One member of a substituent series: its sigma, its job's lowest E2 barrier and log10(k/k0), or why it is missing."""
+
+    substrate: str
+    sigma: float = Field(description="substituent constant from the config (dimensionless)")
+    status: Literal["ok", "missing"]
+    job_id: str | None = None
+    barrier_kcal_mol: float | None = Field(None, description="lowest E2 barrier of the job, of the kind in the "
+                                           "series' energy_used (dE or dG, kcal/mol)")
+    barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    path: str | None = Field(None, description="the lowest path: beta-H class and approach")
+    log10_k_rel: float | None = Field(None, description="log10(k/k0) = -(barrier - barrier of k0) / (RT ln 10)")
+    note: str | None = Field(None, description="why the member has no barrier")
+
+
+class SeriesRecord(_Record):
+    """A substituent series: barrier and log10(k/k0) against sigma with the fitted slope rho and r^2."""
+
+    name: str
+    base: str
+    solvent: SolventConfig | None = Field(None, description="implicit solvent of the series' jobs (batches); null: "
+                                          "the config's method.solvent")
+    energy_used: Literal["electronic", "free"] = Field(description="which barriers were fitted (dE or dG)")
+    temperature_K: float
+    sigma_source: str | None = None
+    reference_substrate: str | None = Field(None, description="k0: the member with sigma 0, else the first with a barrier")
+    points: tuple[SeriesPointRecord, ...]
+    n_fitted: int = Field(description="members with a barrier, all of them in the fit")
+    rho: float | None = Field(None, description="slope of log10(k/k0) against sigma; null: too few members to fit")
+    intercept: float | None = Field(None, description="fitted log10(k/k0) at sigma 0")
+    r_squared: float | None = None
+    note: str | None = None
 
 
 class RunSummary(_Record):
@@ -298,19 +385,24 @@ class RunSummary(_Record):
     n_jobs_ok: int
     n_jobs_failed: int
     n_molecules_failed: int
+    trouble: dict[str, int] = Field(default_factory=dict, description=(
+        "numerical trouble recorded as data, counted over the jobs: 'job failed: <error_type>', 'path failed: "
+        "<error_type>' (one anti or syn path of a beta-H class), 'saddle not verified' (refinement collapsed or "
+        "wrong imaginary modes; the barrier is the relaxed-path maximum), 'scan point failed', 'scan point above cap'"))
 
 
 class RunResult(_Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
     molecules: tuple[MoleculeRecord, ...]
     jobs: tuple[JobRecord, ...]
     summary: RunSummary
+    series: tuple[SeriesRecord, ...] = Field((), description="substituent series (Hammett fits) of the config")
 
 
 class FileChecksum(_Record):
@@ -364,6 +456,7 @@ class BatchIndex(_Record):
     executor: ExecutorConfig
     counts: BatchCounts
     jobs: tuple[BatchJobEntry, ...]
+    series: tuple[SeriesRecord, ...] = Field((), description="substituent series over the jobs finished so far")
 
 
 #: schema file name -> model

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from elimscan.records import JobRecord, RunResult
+from elimscan.records import JobRecord, RunResult, SeriesRecord
 
 
 def _kcal(value: float | None) -> str:
@@ -45,6 +45,27 @@ def _barrier(block) -> str:
     return f"{block.barrier_kcal_mol:.2f}{'' if block.saddle_verified else '*'}"
 
 
+def series_table(series: SeriesRecord) -> list[str]:
+    """Return the lines of one substituent series: sigma, lowest E2 barrier (kcal/mol), log10(k/k0), and the fit."""
+    kind = "dG" if series.energy_used == "free" else "dE"
+    solvent = f" in {series.solvent.model} {series.solvent.name or ''}".rstrip() if series.solvent is not None else ""
+    lines = [f"series {series.name}: base {series.base}{solvent}, {kind} at {series.temperature_K:g} K"]
+    lines.append(f"  {'substrate':<28}{'sigma':>7}{kind + ' kcal/mol':>13}{'log10 k/k0':>12}  path / note")
+    for p in series.points:
+        log_k = "-" if p.log10_k_rel is None else f"{p.log10_k_rel:+.2f}"
+        mark = "*" if p.barrier_source == "relaxed-path maximum" else ""
+        lines.append(f"  {p.substrate[:27]:<28}{p.sigma:>+7.2f}{_kcal(p.barrier_kcal_mol) + mark:>13}{log_k:>12}  "
+                     f"{p.path or p.note or ''}")
+    if series.rho is not None:
+        lines.append(f"  rho {series.rho:+.2f}, r^2 {series.r_squared:.3f} ({series.n_fitted} members; k0: "
+                     f"{series.reference_substrate}; * = relaxed-path estimate)")
+    else:
+        lines.append(f"  no fit: {series.note}")
+    if series.sigma_source:
+        lines.append(f"  sigma values: {series.sigma_source}")
+    return lines
+
+
 def summary_table(result: RunResult) -> str:
     """Return a plain-text summary of the run: molecules (energies in hartree), then each job's table."""
     p = result.provenance
@@ -58,6 +79,9 @@ def summary_table(result: RunResult) -> str:
     for job in result.jobs:
         lines.append("")
         lines.extend(job_table(job))
+    for series in result.series:
+        lines.append("")
+        lines.extend(series_table(series))
     s = result.summary
     lines.append(f"\n{s.n_jobs_ok}/{s.n_jobs} jobs ok, {s.n_jobs_failed} failed")
     return "\n".join(lines)

@@ -19,7 +19,7 @@ from pydantic import ValidationError
 
 from elimscan.errors import OutputError
 from elimscan.htmlreport import render_report
-from elimscan.plots import figure_png, figure_svg, job_figures
+from elimscan.plots import figure_png, figure_svg, job_figures, series_figures
 from elimscan.records import SCHEMA_MODELS, RunResult, json_schema
 from elimscan.tables import summary_csv
 
@@ -75,6 +75,7 @@ def _figures(result: RunResult, frames: Mapping[str, Sequence[Atoms]]) -> dict:
     figures = {}
     for job in result.jobs:
         figures.update(job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, frames))
+    figures.update(series_figures(result.series))
     return figures
 
 

@@ -163,7 +163,7 @@ def _connect(path: Path, read_only: bool) -> sqlite3.Connection:
         conn.execute("PRAGMA foreign_keys=ON")
         conn.execute("PRAGMA busy_timeout=30000")
     except sqlite3.Error as err:
-        raise OutputError(f"cannot open the batch store '{path}': {err}") from err
+        raise OutputError(f"cannot open the batch store '{path}': {err}{_HINT}") from err
     return conn
 
 
@@ -187,7 +187,7 @@ class JobStore:
             self._conn.executescript("BEGIN IMMEDIATE;" + _TABLES + "COMMIT;")
             self._conn.execute("INSERT OR IGNORE INTO meta (name, value) VALUES ('store_format', ?)", (STORE_FORMAT,))
         except sqlite3.Error as err:
-            raise OutputError(f"cannot create the batch store '{self.path}': {err}") from err
+            raise OutputError(f"cannot create the batch store '{self.path}': {err}{_HINT}") from err
 
     def _check_format(self) -> None:
         try:
@@ -326,6 +326,10 @@ class JobStore:
                 if k in wanted]
 
 
+#: added to store write errors: what a user should check (SQLite says only "disk I/O error" for a full disk)
+_HINT = " (disk full, file-size limit or folder not writable? every job committed before is kept)"
+
+
 class _Transaction:
     """BEGIN IMMEDIATE ... COMMIT (ROLLBACK on an exception); SQLite errors become OutputError."""
 
@@ -336,20 +340,24 @@ class _Transaction:
         try:
             self._conn.execute("BEGIN IMMEDIATE")
         except sqlite3.Error as err:
-            raise OutputError(f"cannot write the batch store '{self._path}': {err}") from err
+            raise OutputError(f"cannot write the batch store '{self._path}': {err}{_HINT}") from err
 
     def __exit__(self, exc_type, exc, tb) -> bool:
         if exc_type is None:
             try:
                 self._conn.execute("COMMIT")
             except sqlite3.Error as err:
-                self._conn.execute("ROLLBACK")
-                raise OutputError(f"cannot commit to the batch store '{self._path}': {err}") from err
+                if self._conn.in_transaction:  # SQLite may have rolled back already (I/O error, disk full)
+                    try:
+                        self._conn.execute("ROLLBACK")
+                    except sqlite3.Error:
+                        pass
+                raise OutputError(f"cannot commit to the batch store '{self._path}': {err}{_HINT}") from err
             return False
         try:
             self._conn.execute("ROLLBACK")
         except sqlite3.Error:
             pass
         if isinstance(exc, sqlite3.Error):
-            raise OutputError(f"cannot write the batch store '{self._path}': {exc}") from exc
+            raise OutputError(f"cannot write the batch store '{self._path}': {exc}{_HINT}") from exc
         return False

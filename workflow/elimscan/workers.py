@@ -178,6 +178,16 @@ def _death_message(exitcode: int | None) -> str:
     return f"exit code {exitcode}"
 
 
+#: progress messages that open a new stage of a job (pipeline steps; sub-step messages do not)
+_STAGE_PREFIX = "step "
+
+
+def _stage_limit_error(job_id: str, limit_s: float, stage: str, worker: str) -> ErrorInfo:
+    return ErrorInfo(error_type="stage_time_limit",
+                     error_message=f"job '{job_id}' spent longer than the stage time limit of {limit_s:g} s in "
+                                   f"{stage} (executor.stage_time_limit_seconds); {worker} was stopped")
+
+
 def _time_limit_error(job_id: str, limit_s: float, worker: str) -> ErrorInfo:
     return ErrorInfo(error_type="time_limit",
                      error_message=f"job '{job_id}' ran longer than the time limit of {limit_s:g} s "
@@ -194,6 +204,8 @@ class _Slot:
     ready: bool = False
     task: JobTask | None = None
     dispatched: float = 0.0
+    stage: str = "its start-up"
+    stage_started: float = 0.0
 
     @property
     def name(self) -> str:
@@ -203,10 +215,12 @@ class _Slot:
 class LocalExecutor:
     """N worker processes on this machine (spawned fresh), each computing one job at a time."""
 
-    def __init__(self, workers: int, threads: int, time_limit_s: float, worker_log: Path | None):
+    def __init__(self, workers: int, threads: int, time_limit_s: float, worker_log: Path | None,
+                 stage_limit_s: float | None = None):
         self.workers = workers
         self.threads = threads
         self.time_limit_s = time_limit_s
+        self.stage_limit_s = stage_limit_s
         self.worker_log = worker_log
         self._context = multiprocessing.get_context("spawn")
         self._slots: list[_Slot] = []
@@ -254,7 +268,8 @@ class LocalExecutor:
         for slot in self._slots:
             if slot.ready and slot.task is None and self._waiting:
                 slot.task = self._waiting.pop(0)
-                slot.dispatched = time.monotonic()
+                slot.dispatched = slot.stage_started = time.monotonic()
+                slot.stage = "its start-up"
                 try:
                     slot.conn.send(("job", slot.task))
                 except (BrokenPipeError, OSError):
@@ -268,12 +283,18 @@ class LocalExecutor:
             if not slot.process.is_alive():
                 self._lost(slot, events)
             elif slot.task is not None and time.monotonic() - slot.dispatched > self.time_limit_s:
-                slot.process.kill()
-                slot.process.join(10)
-                events.append(Done(slot.task.key, slot.name, time.monotonic() - slot.dispatched,
-                                   error=_time_limit_error(slot.task.job_id, self.time_limit_s, slot.name)))
-                self._replace(slot)
+                self._stop(slot, events, _time_limit_error(slot.task.job_id, self.time_limit_s, slot.name))
+            elif (slot.task is not None and self.stage_limit_s is not None
+                  and time.monotonic() - slot.stage_started > self.stage_limit_s):
+                self._stop(slot, events, _stage_limit_error(slot.task.job_id, self.stage_limit_s, slot.stage, slot.name))
         return events
+
+    def _stop(self, slot: _Slot, events: list, error: ErrorInfo) -> None:
+        """Kill a worker over a time limit (a Fortran call never sees a signal), record its job as failed, replace it."""
+        slot.process.kill()
+        slot.process.join(10)
+        events.append(Done(slot.task.key, slot.name, time.monotonic() - slot.dispatched, error=error))
+        self._replace(slot)
 
     def _read(self, slot: _Slot, events: list) -> None:
         while True:
@@ -290,6 +311,8 @@ class LocalExecutor:
                 events.append(Started(message[1], slot.name))
             elif kind == "progress":
                 events.append(Progress(message[1], message[2]))
+                if slot.task is not None and message[2].startswith(_STAGE_PREFIX):
+                    slot.stage, slot.stage_started = message[2], time.monotonic()
             elif kind == "result" and slot.task is not None and message[1] == slot.task.key:
                 _, key, outcome, error, trace, seconds = message
                 events.append(Done(key, slot.name, seconds, outcome,
@@ -339,7 +362,7 @@ class LocalExecutor:
 
 
 def run_supervised(task: JobTask, time_limit_s: float, threads: int,
-                   on_message: Callable[[tuple], None] | None = None) -> tuple:
+                   on_message: Callable[[tuple], None] | None = None, stage_limit_s: float | None = None) -> tuple:
     """Run one job in a fresh child process, killing it after ``time_limit_s``; return the ('result', ...) message.
 
     Used by Dask tasks: a Dask worker cannot start multiprocessing children (it is daemonic), so the job
@@ -359,6 +382,7 @@ def run_supervised(task: JobTask, time_limit_s: float, threads: int,
         child.close()
         where = f"job process pid {process.pid} on {socket.gethostname()}"
         started = time.monotonic()  # the limit counts from the launch: a job process that hangs is stopped too
+        stage, stage_started = "its start-up", started
         try:
             while True:
                 if parent.poll(0.5):
@@ -373,8 +397,11 @@ def run_supervised(task: JobTask, time_limit_s: float, threads: int,
                             parent.send(("stop",))
                             process.wait(10)
                             return message
-                        elif on_message is not None:
-                            on_message(message)
+                        else:
+                            if message[0] == "progress" and message[2].startswith(_STAGE_PREFIX):
+                                stage, stage_started = message[2], time.monotonic()
+                            if on_message is not None:
+                                on_message(message)
                         continue
                 if process.poll() is not None:
                     stderr.seek(0)
@@ -385,10 +412,12 @@ def run_supervised(task: JobTask, time_limit_s: float, threads: int,
                         "error_message": f"the {where} running job '{task.job_id}' ended unexpectedly "
                                          f"({_death_message(process.returncode)}){detail}"}, None,
                         time.monotonic() - started)
-                if time.monotonic() - started > time_limit_s:
+                over_stage = stage_limit_s is not None and time.monotonic() - stage_started > stage_limit_s
+                if time.monotonic() - started > time_limit_s or over_stage:
                     process.kill()
                     process.wait(10)
-                    error = _time_limit_error(task.job_id, time_limit_s, where)
+                    error = (_stage_limit_error(task.job_id, stage_limit_s, stage, where) if over_stage
+                             else _time_limit_error(task.job_id, time_limit_s, where))
                     return ("result", task.key, None, error.model_dump(), None, time.monotonic() - started)
         finally:
             if process.poll() is None:
@@ -397,7 +426,7 @@ def run_supervised(task: JobTask, time_limit_s: float, threads: int,
             parent.close()
 
 
-def dask_task(task: JobTask, time_limit_s: float, threads: int) -> tuple:
+def dask_task(task: JobTask, time_limit_s: float, threads: int, stage_limit_s: float | None = None) -> tuple:
     """Run one job on a Dask worker (supervised child process); return the ('result', ...) message.
 
     Starts and progress messages go to the driver as Dask events on PROGRESS_TOPIC.
@@ -415,14 +444,14 @@ def dask_task(task: JobTask, time_limit_s: float, threads: int) -> tuple:
             worker.log_event(PROGRESS_TOPIC, {"kind": message[0], "key": message[1], "where": name,
                                               "text": message[2] if len(message) > 2 else ""})
 
-    result = run_supervised(task, time_limit_s, threads, forward)
+    result = run_supervised(task, time_limit_s, threads, forward, stage_limit_s)
     return (*result, name)
 
 
 class DaskExecutor:
     """Jobs sent to an existing Dask cluster; each Dask task supervises one job process."""
 
-    def __init__(self, address: str, threads: int, time_limit_s: float):
+    def __init__(self, address: str, threads: int, time_limit_s: float, stage_limit_s: float | None = None):
         try:
             from distributed import Client
         except ImportError as err:
@@ -436,6 +465,7 @@ class DaskExecutor:
         self.address = address
         self.threads = threads
         self.time_limit_s = time_limit_s
+        self.stage_limit_s = stage_limit_s
         self._events: queue.Queue = queue.Queue()
         self._parallel = (0.0, 1)  # (monotonic time asked, worker threads then)
         self._futures: dict[str, object] = {}
@@ -469,7 +499,7 @@ class DaskExecutor:
     def submit(self, tasks: Iterable[JobTask]) -> None:
         """Send tasks to the cluster (one Dask task per job; a worker lost mid-job reruns only that job)."""
         for task in tasks:
-            future = self.client.submit(dask_task, task, self.time_limit_s, self.threads,
+            future = self.client.submit(dask_task, task, self.time_limit_s, self.threads, self.stage_limit_s,
                                         key=f"elimscan-job-{task.key[:24]}-{time.time_ns()}", pure=False)
             self._futures[task.key] = future
             self._tasks[task.key] = task

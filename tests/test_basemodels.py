@@ -1,0 +1,145 @@
+"""Base models: ion pairs and explicit solvent molecules around the basic atom (issue: realistic bases).
+
+Composition and charge are checked against RDKit's own reading of the cluster SMILES (an independent
+formula and charge count); the geometry against the starting distances we chose (common practice).
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+import pytest
+from rdkit import Chem
+from rdkit.Chem.rdMolDescriptors import CalcMolFormula
+
+from elimscan.basemodels import (CATION_DISTANCE_A, HYDROGEN_BOND_A, build_cluster, conjugate_acid_smiles,
+                                 lone_pair_directions)
+from elimscan.bases import describe_base
+from elimscan.config import BaseConfig, BaseModelConfig, PathConfig, RunConfig, SubstrateConfig
+from elimscan.errors import StructureError
+from elimscan.structures import build_molecule
+
+
+def _hill(atoms) -> str:
+    return atoms.get_chemical_formula(mode="hill")
+
+
+def _rdkit_hill(smiles: str) -> str:
+    """Hill formula of a dot-separated SMILES by RDKit, without the charge suffix."""
+    return re.sub(r"[+-]\d*$", "", CalcMolFormula(Chem.MolFromSmiles(smiles)))
+
+
+def _cluster(smiles: str, counter_ion: str | None, explicit: int):
+    info = describe_base(smiles)
+    built = build_molecule(smiles, 11)
+    acid = conjugate_acid_smiles(smiles, info.basic_atom_index)
+    molecules = [build_molecule(acid, 11 + k).atoms for k in range(explicit)]
+    return build_cluster(built.atoms, info.basic_atom_index, smiles, built.formal_charge, counter_ion, molecules, acid,
+                         "test base"), info
+
+
+def test_conjugate_acid_is_the_protonated_base():
+    assert conjugate_acid_smiles("CC(C)(C)[O-]", 4) == Chem.CanonSmiles("CC(C)(C)O")
+    assert conjugate_acid_smiles("[NH2-]", 0) == Chem.CanonSmiles("N")
+
+
+@pytest.mark.parametrize("counter_ion,explicit", [("K", 0), (None, 2), ("Na", 1), ("Li", 1)])
+def test_cluster_composition_charge_and_contacts(counter_ion, explicit):
+    cluster, info = _cluster("CC(C)(C)[O-]", counter_ion, explicit)
+    # composition and total charge as RDKit reads the dot-separated SMILES
+    mol = Chem.MolFromSmiles(cluster.smiles)
+    assert _hill(cluster.atoms) == _rdkit_hill(cluster.smiles)
+    assert cluster.charge == Chem.GetFormalCharge(mol)
+    o = cluster.basic_atom_index
+    assert cluster.atoms.numbers[o] == 8 and o == info.basic_atom_index
+    positions = cluster.atoms.positions
+    ligand_directions = []
+    if counter_ion:
+        metal = cluster.n_base_atoms
+        assert np.linalg.norm(positions[metal] - positions[o]) == pytest.approx(CATION_DISTANCE_A[counter_ion])
+        ligand_directions.append(positions[metal] - positions[o])
+    hydroxyl_h = [i for i in range(cluster.n_base_atoms, len(cluster.atoms)) if cluster.atoms.numbers[i] == 1
+                  and np.linalg.norm(positions[i] - positions[o]) == pytest.approx(HYDROGEN_BOND_A, abs=1e-6)]
+    assert len(hydroxyl_h) == explicit
+    ligand_directions += [positions[h] - positions[o] for h in hydroxyl_h]
+    # one lone pair stays free: some tetrahedral direction makes > 90 degrees with every ligand
+    base_part = cluster.atoms[: cluster.n_base_atoms]
+    free = [d for d in lone_pair_directions(base_part, o)
+            if all(np.dot(d, v) / np.linalg.norm(v) < 0.0 for v in ligand_directions)]
+    assert free
+    # nothing lands on top of anything else
+    distances = np.linalg.norm(positions[:, None] - positions[None], axis=2) + 10 * np.eye(len(positions))
+    assert distances.min() > 0.9
+
+
+def test_too_many_ligands_or_a_cation_for_a_neutral_base_is_refused():
+    with pytest.raises(StructureError, match="leave none free"):
+        _cluster("CC(C)(C)[O-]", "K", 2)
+    with pytest.raises(StructureError, match="not an anion"):
+        _cluster("C1CCC2=NCCCN2CC1", "K", 0)
+    with pytest.raises(ValueError):
+        BaseModelConfig(counter_ion="Cs")
+
+
+def _toy_run(model: dict):
+    from toyjobs import ToyJobEngine
+
+    from elimscan.pipeline import job_record, run_config
+
+    paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=2, saddle={"refine": False})
+    config = RunConfig(substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
+                       bases=(BaseConfig(name="methoxide", model=model),), paths=paths)
+    outcome = run_config(config, ToyJobEngine())
+    return outcome, job_record(*outcome.jobs[0], outcome, config)
+
+
+@pytest.mark.parametrize("model,cluster_smiles", [
+    ({}, "C[O-]"),
+    ({"counter_ion": "Na"}, "C[O-].[Na+]"),
+    ({"explicit": 2}, "C[O-].CO.CO"),
+    ({"counter_ion": "K", "explicit": 1}, "C[O-].[K+].CO"),
+])
+def test_every_base_model_runs_a_whole_job_on_the_toy_engine(model, cluster_smiles):
+    outcome, record = _toy_run(model)
+    base = outcome.bases["methoxide"]
+    assert base.relaxed.record.status == "ok", base.relaxed.record.error
+    assert base.relaxed.record.charge == Chem.GetFormalCharge(Chem.MolFromSmiles(cluster_smiles))
+    assert _hill(base.relaxed.atoms) == _rdkit_hill(cluster_smiles)
+    assert record.status == "ok"
+    paths = outcome.paths[("chloroethane", "methoxide")]
+    complex_atoms = next(iter(paths.values())).complex.atoms
+    assert _hill(complex_atoms) == _rdkit_hill("CCCl." + cluster_smiles)
+    assert all(h.anti.path_status == "ok" for h in record.beta_hydrogens)
+
+
+@pytest.mark.xtb
+def test_an_ion_paired_microsolvated_methoxide_eliminates_from_chloroethane_with_gfn2():
+    """GFN2-xTB, ALPB(methanol): Na+ -OMe with one methanol takes a proton from chloroethane, chloride leaves."""
+    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.pipeline import compute_job_paths, relax_base, analyze_substrate, BaseAnalysis
+    from elimscan.config import MethodConfig, SolventConfig
+    from elimscan.paths import Reactive, neb_end_points
+
+    method = MethodConfig(solvent=SolventConfig(model="alpb", name="methanol"))
+    paths = PathConfig(approaches=("anti",), substitution=False, base_rotations=1, saddle={"refine": False})
+    base_cfg = BaseConfig(name="methoxide", model={"counter_ion": "Na", "explicit": 1})
+    config = RunConfig(method=method, substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
+                       bases=(base_cfg,), paths=paths,
+                       conformers={"base_embeddings": 2, "per_rotatable_bond": 1, "max_relaxations": 2})
+    engine = XtbEngine(EngineSettings.from_method(method))
+    relaxed, info = relax_base(base_cfg, engine, config)
+    assert relaxed.record.status == "ok" and relaxed.record.charge == 0 and relaxed.record.model
+    analysis = analyze_substrate(config.substrates[0], config, engine)
+    result = compute_job_paths(analysis, BaseAnalysis(relaxed, info), config, engine)
+    path = next(iter(result.values()))
+    assert 0 < path.maximum_index < len(path.points) - 1  # a barrier between complex and products
+    # the path end, relaxed freely, is on the product side by the verification's own criteria
+    # (C-Cl >= 3.0 Å and base-H <= 1.1 Å: chloride gone, methanol formed)
+    b, lg = analysis.classes[0].beta_class, analysis.substrate.leaving_group
+    n = len(analysis.ensemble.lowest.atoms)
+    reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
+                        n + info.basic_atom_index)
+    ends = neb_end_points(path.complex, list(path.points), reactive, engine, relaxed.record.charge, 1,
+                          config.optimizer, config.paths.saddle)
+    assert ends is not None, path.points[-1].distances

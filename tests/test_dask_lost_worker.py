@@ -1,0 +1,85 @@
+"""A Dask worker lost mid-job costs only that job's rerun (toy engine: bookkeeping, not chemistry).
+
+The toy engine of ``toyjobs.py`` (``worker_losing_engine``) SIGKILLs the Dask worker process that runs one
+chosen job, once, in the middle of that job, as a lost node would. Dask's nanny starts a new worker, the
+scheduler sends the task again, and the batch must finish every job with the numbers of a run with no
+loss, having started the lost job twice and every other job once.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import sqlite3
+import subprocess
+import sys
+from collections import Counter
+from pathlib import Path
+
+import pytest
+
+from elimscan.errors import ExitCode
+from elimscan.store import STORE_FILE
+from toyjobs import TOY_SETTINGS, without_timings
+
+ROOT = Path(__file__).resolve().parents[1]
+TESTS = Path(__file__).resolve().parent
+
+CONFIG = TOY_SETTINGS + """\
+name: lost-worker
+substrates:
+  - {name: chloroethane, smiles: "CCCl"}
+  - {name: 2-chloropropane, smiles: "CC(C)Cl"}
+  - {name: 1-chloropropane, smiles: "CCCCl"}
+bases:
+  - {name: methoxide}
+"""
+
+
+def _env(factory: str, extra: dict | None = None) -> dict:
+    path = os.pathsep.join([str(TESTS), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
+    return {**os.environ, "PYTHONPATH": path, "PYTHONDONTWRITEBYTECODE": "1",
+            "ELIMSCAN_TEST_ENGINE_FACTORY": factory, **(extra or {})}
+
+
+def _batch(config: Path, out: Path, env: dict, *options: str) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "elimscan", "batch", str(config), "--out", str(out), *options],
+                          capture_output=True, text=True, timeout=600, env=env)
+
+
+def _jobs(out: Path) -> dict:
+    return {j["job_id"]: without_timings(j) for j in json.loads((out / "results.json").read_text())["jobs"]}
+
+
+def _starts(out: Path) -> Counter:
+    with sqlite3.connect(f"file:{out / STORE_FILE}?mode=ro", uri=True) as conn:
+        return Counter(key for (key,) in conn.execute("SELECT job_key FROM events WHERE kind = 'start'"))
+
+
+def test_a_dask_worker_lost_mid_job_costs_only_that_jobs_rerun(tmp_path, monkeypatch):
+    pytest.importorskip("distributed")
+    from distributed import LocalCluster
+
+    config = tmp_path / "batch.yaml"
+    config.write_text(CONFIG)
+    reference = _batch(config, tmp_path / "reference", _env("toyjobs:toy_engine"), "--workers", "1")
+    assert reference.returncode == ExitCode.OK, reference.stderr
+
+    marker = tmp_path / "worker-lost"
+    lose = {"ELIMSCAN_TOY_LOSE_WORKER_ON": "2-chloropropane", "ELIMSCAN_TOY_LOSE_WORKER_MARKER": str(marker)}
+    for key, value in _env("toyjobs:worker_losing_engine", lose).items():
+        monkeypatch.setenv(key, value)  # the Dask worker processes inherit this environment
+    out = tmp_path / "out"
+    with LocalCluster(processes=True, n_workers=2, threads_per_worker=1, dashboard_address=None) as cluster:
+        done = _batch(config, out, dict(os.environ), "--scheduler", cluster.scheduler_address)
+    assert marker.exists(), "the worker was never lost: the test did not test anything"
+    assert done.returncode == ExitCode.OK, done.stderr
+    mine, theirs = _jobs(out), _jobs(tmp_path / "reference")
+    assert sorted(mine) == sorted(theirs)
+    assert all(job["status"] == "ok" for job in mine.values())
+    for job_id in mine:  # the toy engine is deterministic: a rerun job gives the very same numbers
+        assert mine[job_id] == theirs[job_id], job_id
+    starts = _starts(out)
+    lost_key = mine["2-chloropropane__methoxide"]["job_key"]
+    assert starts[lost_key] == 2, starts
+    assert all(n == 1 for key, n in starts.items() if key != lost_key), starts

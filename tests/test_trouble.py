@@ -1,0 +1,114 @@
+"""Numerical trouble is data: an SCF failure on one path, optimisations at their step limit, scan points far
+above the cap, a job stuck in one stage. Each is recorded where it happened, everything else goes on, and
+the summary counts it.
+
+The batches compute on the toy engine of ``toyjobs.py`` (the test hook ELIMSCAN_TEST_ENGINE_FACTORY), which
+scripts the trouble: ELIMSCAN_TOY_FAIL_SCF makes named structures raise the ScfConvergenceError that the
+GFN2-xTB engine raises once its retry has failed too (that retry is tested on the real backend in
+test_cli.py); ELIMSCAN_TOY_STRETCH gives every relaxation work to do, so a small step limit is reached.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from elimscan.cli import main
+from elimscan.errors import ExitCode
+from elimscan.reportfiles import validate_result_file
+from toyjobs import TOY_SETTINGS
+
+CONFIG = TOY_SETTINGS + """\
+name: trouble
+substrates:
+  - {name: chloroethane, smiles: "CCCl"}
+  - {name: 2-bromobutane, smiles: "C[C@H](Br)CC"}
+bases:
+  - {name: methoxide}
+executor: {workers: 1}
+"""
+
+
+def run_batch(tmp_path: Path, capsys, monkeypatch, text: str = CONFIG, engine: str = "toyjobs:toy_engine",
+              **env: str) -> tuple[int, str, dict]:
+    """Run ``elimscan batch`` in this process on a toy engine; return (exit code, stderr, results.json or {})."""
+    monkeypatch.setenv("ELIMSCAN_TEST_ENGINE_FACTORY", engine)
+    for name, value in env.items():
+        monkeypatch.setenv(name, value)
+    (tmp_path / "batch.yaml").write_text(text)
+    code = main(["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out")])
+    err = capsys.readouterr().err
+    results = tmp_path / "out" / "results.json"
+    if not results.exists():
+        return code, err, {}
+    assert validate_result_file(results) == []  # against the JSON Schema exported from records.py
+    return code, err, json.loads(results.read_text())
+
+
+def classes(document: dict, job_id: str) -> dict:
+    job = next(j for j in document["jobs"] if j["job_id"] == job_id)
+    return {b["class_id"]: b for b in job["beta_hydrogens"]}
+
+
+def test_an_scf_failure_on_one_path_is_recorded_there_and_the_rest_goes_on(tmp_path, capsys, monkeypatch):
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti")
+    assert code == ExitCode.OK, err  # the jobs themselves finished
+    assert [j["status"] for j in document["jobs"]] == ["ok", "ok"]
+    betas = classes(document, "2-bromobutane__methoxide")
+    failed = betas["C3-H9"]["anti"]
+    assert failed["path_status"] == "failed" and failed["error"]["error_type"] == "scf_not_converged"
+    assert "2-bromobutane" in failed["error"]["error_message"] and failed["barrier_kcal_mol"] is None
+    assert {cid: b["anti"]["path_status"] for cid, b in betas.items() if cid != "C3-H9"} == {"C0-H5": "ok",
+                                                                                          "C3-H10": "ok"}
+    assert classes(document, "chloroethane__methoxide")["C0-H3"]["anti"]["path_status"] == "ok"
+    assert document["summary"]["trouble"] == {"path failed: scf_not_converged": 1}
+    assert "numerical trouble recorded as data: path failed: scf_not_converged: 1" in err
+    assert "Traceback" not in err
+    # saddles are not refined in these settings ('not refined': a setting, no trouble); one whose refinement
+    # failed verification counts, the others do not
+    from elimscan.records import JobRecord
+    from elimscan.trouble import count_trouble
+
+    jobs = [JobRecord.model_validate(j) for j in document["jobs"]]
+    assert all(b.anti.saddle_note.startswith("not refined") for j in jobs for b in j.beta_hydrogens
+               if b.anti.path_status == "ok")
+    beta = jobs[0].beta_hydrogens[0]
+    collapsed = beta.anti.model_copy(update={"saddle_note": "two imaginary modes beyond 50 cm-1 (scripted)"})
+    jobs[0] = jobs[0].model_copy(update={"beta_hydrogens": (beta.model_copy(update={"anti": collapsed}),)})
+    assert count_trouble(jobs) == {"path failed: scf_not_converged": 1, "saddle not verified": 1}
+
+
+def test_relaxations_at_their_step_limit_are_failed_scan_points_counted_in_the_summary(tmp_path, capsys, monkeypatch):
+    text = CONFIG.replace("fmax_eV_per_A: 0.05}", "fmax_eV_per_A: 0.05, max_steps: 2}")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text, ELIMSCAN_TOY_STRETCH="1.05")
+    assert code == ExitCode.OK, err
+    points = [p for j in document["jobs"] for b in j["beta_hydrogens"] for s in b["scans"] for p in s["points"]]
+    n_failed = sum(p["status"] == "failed" for p in points)
+    assert n_failed > 0 and any(p["status"] == "ok" for p in points)
+    assert document["summary"]["trouble"].get("scan point failed") == n_failed
+    notes = [n for j in document["jobs"] for b in j["beta_hydrogens"] for s in b["scans"] for n in s["notes"]]
+    assert any("optimisation hit its step limit" in n for n in notes), notes
+
+
+def test_scan_points_above_the_cap_are_counted(tmp_path, capsys, monkeypatch):
+    text = CONFIG.replace("scan: {step_deg: 60}", "scan: {step_deg: 60, energy_cap_kcal_mol: 0.01}")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text)
+    assert code == ExitCode.OK, err
+    points = [p for j in document["jobs"] for b in j["beta_hydrogens"] for s in b["scans"] for p in s["points"]]
+    n_capped = sum(p["status"] == "above_cap" for p in points)
+    assert n_capped > 0
+    assert all(p["relative_energy_kcal_mol"] is not None for p in points if p["status"] == "above_cap")
+    assert document["summary"]["trouble"].get("scan point above cap") == n_capped
+
+
+def test_a_job_stuck_in_one_stage_is_stopped_at_the_stage_limit(tmp_path, capsys, monkeypatch):
+    text = CONFIG.replace('  - {name: 2-bromobutane, smiles: "C[C@H](Br)CC"}\n', "").replace(
+        "executor: {workers: 1}", "executor: {workers: 1, time_limit_seconds: 600, stage_time_limit_seconds: 4}")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text, engine="toyjobs:stuck_engine")
+    assert code == ExitCode.JOBS_FAILED, err
+    error = document["jobs"][0]["error"]
+    assert error["error_type"] == "stage_time_limit"
+    # the stuck stage is the base's relaxation (step 2 of 2: the substrate's analysis finished)
+    assert "longer than the stage time limit of 4 s in step 2/2: base 'methoxide'" in error["error_message"]
+    assert document["summary"]["trouble"] == {"job failed: stage_time_limit": 1}
+    assert "Traceback" not in err

@@ -1,0 +1,178 @@
+"""Base models (RDKit and numpy only, no I/O): the bare base, an ion pair, explicit solvent molecules.
+
+A model is a cluster built around the base: the base's own atoms first (so the basic atom keeps its
+index), then the metal cation, then each explicit molecule. The cation and the hydrogen-bond donors sit
+on the lone-pair directions of the basic atom (tetrahedral about its bonds); one lone pair always stays
+free for the proton transfer, and since the complex builder turns the base so that its nearest atoms
+point away from the substrate, that free lone pair is the one that faces the beta hydrogen.
+
+Distances (Å) are starting values only: every cluster is relaxed before use, alone (the reference of the
+common zero) and in each complex.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from ase import Atoms
+from ase.data import covalent_radii
+from rdkit import Chem
+
+from elimscan.errors import StructureError
+
+#: metal-oxygen contact distances of alkali alkoxides and hydroxides (Å), starting values; common practice
+CATION_DISTANCE_A: dict[str, float] = {"Li": 1.95, "Na": 2.30, "K": 2.65}
+#: H...O distance of an alcohol hydrogen bond to an alkoxide oxygen (Å), starting value; common practice
+HYDROGEN_BOND_A = 1.75
+#: tetrahedral angle (degrees)
+TETRAHEDRAL_DEG = 109.4712
+
+
+@dataclass(frozen=True)
+class BaseCluster:
+    """A base model as one molecule: atoms (Å), dot-separated SMILES, total charge, basic atom, label."""
+
+    atoms: Atoms
+    smiles: str
+    charge: int
+    basic_atom_index: int
+    n_base_atoms: int
+    label: str
+
+
+def conjugate_acid_smiles(smiles: str, basic: int) -> str:
+    """Return the canonical SMILES of the base with one proton added to its basic atom (heavy-atom index)."""
+    mol = Chem.RWMol(Chem.MolFromSmiles(smiles))
+    if mol is None or basic >= mol.GetNumAtoms():
+        raise StructureError(f"base '{smiles}': cannot form its conjugate acid")
+    atom = mol.GetAtomWithIdx(basic)
+    atom.SetNumExplicitHs(atom.GetTotalNumHs() + 1)
+    atom.SetFormalCharge(atom.GetFormalCharge() + 1)
+    atom.SetNoImplicit(True)
+    Chem.SanitizeMol(mol)
+    return Chem.MolToSmiles(mol)
+
+
+def _bonded(atoms: Atoms, i: int, scale: float = 1.2) -> list[int]:
+    """Return the atoms bonded to atom i by covalent radii."""
+    r = covalent_radii[atoms.numbers]
+    d = np.linalg.norm(atoms.positions - atoms.positions[i], axis=1)
+    return [j for j in range(len(atoms)) if j != i and d[j] < scale * (r[i] + r[j])]
+
+
+def _perpendicular(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Return two unit vectors perpendicular to ``u`` and to each other."""
+    p = np.cross(u, [1.0, 0.0, 0.0] if abs(u[0]) < 0.9 else [0.0, 1.0, 0.0])
+    p /= np.linalg.norm(p)
+    return p, np.cross(u, p)
+
+
+def lone_pair_directions(atoms: Atoms, basic: int) -> list[np.ndarray]:
+    """Return unit vectors of the basic atom's lone pairs, tetrahedral about its bonds (empty for 3+ bonds)."""
+    centre = atoms.positions[basic]
+    bonds = [(atoms.positions[j] - centre) / np.linalg.norm(atoms.positions[j] - centre) for j in _bonded(atoms, basic)]
+    theta = np.radians(TETRAHEDRAL_DEG)
+    if not bonds:
+        return [np.array(v) / np.sqrt(3.0) for v in ((1, 1, 1), (1, -1, -1), (-1, 1, -1), (-1, -1, 1))]
+    if len(bonds) == 1:
+        u = bonds[0]
+        p, q = _perpendicular(u)
+        return [np.cos(theta) * u + np.sin(theta) * (np.cos(phi) * p + np.sin(phi) * q)
+                for phi in np.radians([0.0, 120.0, 240.0])]
+    if len(bonds) == 2:
+        bisector = bonds[0] + bonds[1]
+        bisector /= np.linalg.norm(bisector)
+        normal = np.cross(bonds[0], bonds[1])
+        normal /= np.linalg.norm(normal)
+        half = theta / 2.0
+        return [-np.cos(half) * bisector + sign * np.sin(half) * normal for sign in (1.0, -1.0)]
+    return []
+
+
+def _rotation(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Return the rotation matrix turning unit vector ``a`` onto unit vector ``b``."""
+    v, c = np.cross(a, b), float(np.dot(a, b))
+    if np.linalg.norm(v) < 1e-9:
+        if c > 0:
+            return np.eye(3)
+        p, _ = _perpendicular(a)
+        return 2.0 * np.outer(p, p) - np.eye(3)
+    k = np.array([[0, -v[2], v[1]], [v[2], 0, -v[0]], [-v[1], v[0], 0]])
+    return np.eye(3) + k + k @ k / (1.0 + c)
+
+
+def _about(axis: np.ndarray, angle_rad: float) -> np.ndarray:
+    """Return the rotation matrix about a unit axis."""
+    k = np.array([[0, -axis[2], axis[1]], [axis[2], 0, -axis[0]], [-axis[1], axis[0], 0]])
+    return np.eye(3) + np.sin(angle_rad) * k + (1.0 - np.cos(angle_rad)) * k @ k
+
+
+def donor_hydrogen(atoms: Atoms) -> tuple[int, int]:
+    """Return (H, donor atom) of the first O-H or N-H of a molecule (0-based), for a hydrogen bond."""
+    for h in range(len(atoms)):
+        if atoms.numbers[h] != 1:
+            continue
+        donors = [j for j in _bonded(atoms, h) if atoms.numbers[j] in (7, 8)]
+        if donors:
+            return h, donors[0]
+    raise StructureError("explicit solvent molecule has no O-H or N-H to donate a hydrogen bond")
+
+
+def _place_donor(molecule: Atoms, h: int, donor: int, site: np.ndarray, direction: np.ndarray,
+                 existing: np.ndarray) -> Atoms:
+    """Return ``molecule`` with its H at ``site`` and D-H pointing along -``direction``, turned to avoid clashes."""
+    moved = molecule.positions - molecule.positions[h]
+    d_h = moved[h] - moved[donor]
+    moved = moved @ _rotation(d_h / np.linalg.norm(d_h), -direction).T
+    best, best_gap = None, -1.0
+    for turn in np.radians(np.arange(0.0, 360.0, 30.0)):
+        trial = moved @ _about(direction, turn).T + site
+        gap = float(np.min(np.linalg.norm(trial[:, None, :] - existing[None, :, :], axis=2)))
+        if gap > best_gap:
+            best, best_gap = trial, gap
+    placed = molecule.copy()
+    placed.positions = best
+    return placed
+
+
+def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, counter_ion: str | None,
+                  explicit: Sequence[Atoms] = (), explicit_smiles: str | None = None, name: str = "base") -> BaseCluster:
+    """Return the base model: the base, then the cation (if any), then the explicit molecules (Å).
+
+    Raises StructureError naming the base when the ligands would leave no lone pair free, or when a
+    counter-ion is asked for a base that is not an anion.
+    """
+    if counter_ion is None and not explicit:
+        return BaseCluster(base.copy(), base_smiles, base_charge, basic, len(base), "bare")
+    if counter_ion is not None:
+        if counter_ion not in CATION_DISTANCE_A:
+            raise StructureError(f"base '{name}': counter-ion '{counter_ion}' is not one of "
+                                 f"{', '.join(CATION_DISTANCE_A)}")
+        if base_charge >= 0:
+            raise StructureError(f"base '{name}' ({base_smiles}) is not an anion (charge {base_charge:+d}): "
+                                 "a counter-ion pairs only with an anionic base")
+    slots = lone_pair_directions(base, basic)
+    ligands = (1 if counter_ion else 0) + len(explicit)
+    if ligands > len(slots) - 1:
+        raise StructureError(f"base '{name}' ({base_smiles}): its basic atom has {len(slots)} lone pair(s); "
+                             f"{ligands} ligand(s) (counter-ion and explicit molecules) would leave none free for "
+                             f"the proton transfer (at most {max(len(slots) - 1, 0)})")
+    centre = base.positions[basic]
+    cluster = base.copy()
+    smiles = [base_smiles]
+    slot = iter(slots)
+    if counter_ion is not None:
+        cluster += Atoms(counter_ion, positions=[centre + CATION_DISTANCE_A[counter_ion] * next(slot)])
+        smiles.append(f"[{counter_ion}+]")
+    for molecule in explicit:
+        direction = next(slot)
+        h, donor = donor_hydrogen(molecule)
+        cluster += _place_donor(molecule, h, donor, centre + HYDROGEN_BOND_A * direction, direction, cluster.positions)
+        smiles.append(explicit_smiles or "?")
+    parts = ([f"{counter_ion}+ ion pair"] if counter_ion else []) + \
+        ([f"{len(explicit)} x {explicit_smiles} hydrogen-bonded"] if explicit else [])
+    charge = base_charge + (1 if counter_ion else 0)
+    return BaseCluster(cluster, ".".join(smiles), charge, basic, len(base), " + ".join(parts))
+
