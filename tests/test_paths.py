@@ -145,7 +145,8 @@ def test_saddle_search_falls_back_to_the_base_h_scan_and_then_to_a_ci_neb(embed,
     def fake_refine(guess, reactive, engine, charge, multiplicity, settings, optimizer, name="", method=""):
         calls.append(method)
         ok = "CI-NEB" in method and neb_works
-        return SaddleResult(guess, -1.0, ok, method, 500.0 if ok else None, (), "ok" if ok else f"failed ({method})")
+        return SaddleResult(guess, -1.0, ok, method, 500.0 if ok else None, (), "ok" if ok else f"failed ({method})",
+                            error_type=None if ok else "saddle_collapsed")
 
     monkeypatch.setattr(paths, "refine_and_verify", fake_refine)
     monkeypatch.setattr(paths, "base_h_scan_maximum", lambda complex_, *a, **k: complex_.atoms)
@@ -158,6 +159,7 @@ def test_saddle_search_falls_back_to_the_base_h_scan_and_then_to_a_ci_neb(embed,
         assert [c.split(" from ")[1] for c in calls][-2:] == ["the base-H scan maximum", "the CI-NEB climbing image"]
         assert result.saddle.verified is neb_works
     assert "base-H scan" in result.saddle.reason and "CI-NEB" in result.saddle.reason
+    assert result.saddle.error_type == "saddle_collapsed"  # the first failure's kind is kept, machine-readable
     settings_off = PathConfig(step_A=0.05, points=3, base_rotations=1, saddle={"neb_fallback": False})
     calls.clear()
     compute_path(substrate, base, 1, reactive, "anti", toy, 0, 1, settings_off, BFGS, ())

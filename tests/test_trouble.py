@@ -73,9 +73,10 @@ def test_an_scf_failure_on_one_path_is_recorded_there_and_the_rest_goes_on(tmp_p
     assert all(b.anti.saddle_note.startswith("not refined") for j in jobs for b in j.beta_hydrogens
                if b.anti.path_status == "ok")
     beta = jobs[0].beta_hydrogens[0]
-    collapsed = beta.anti.model_copy(update={"saddle_note": "two imaginary modes beyond 50 cm-1 (scripted)"})
+    collapsed = beta.anti.model_copy(update={"saddle_note": "two imaginary modes beyond 50 cm-1 (scripted)",
+                                             "saddle_error_type": "saddle_wrong_modes"})
     jobs[0] = jobs[0].model_copy(update={"beta_hydrogens": (beta.model_copy(update={"anti": collapsed}),)})
-    assert count_trouble(jobs) == {"path failed: scf_not_converged": 1, "saddle not verified": 1}
+    assert count_trouble(jobs) == {"path failed: scf_not_converged": 1, "saddle not verified: saddle_wrong_modes": 1}
 
 
 def test_relaxations_at_their_step_limit_are_failed_scan_points_counted_in_the_summary(tmp_path, capsys, monkeypatch):

@@ -125,6 +125,8 @@ class SaddleResult:
     mode: np.ndarray | None = field(default=None, repr=False)
     #: the verification Hessian (eV/Å^2), kept for free energies and isotope effects
     hessian_eV_A2: np.ndarray | None = field(default=None, repr=False, compare=False)
+    #: why an unverified saddle failed, machine-readable (None: verified, or not attempted)
+    error_type: str | None = None
 
 
 @dataclass(frozen=True)
@@ -354,13 +356,16 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
         converged = bool(opt.run(fmax=s.fmax_eV_per_A, steps=s.max_steps))
         energy = work.get_potential_energy() / EV_PER_HARTREE
     except ElimscanError as err:
-        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err.error_type}")
+        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err.error_type}",
+                            error_type="saddle_search_failed")
     except (RuntimeError, np.linalg.LinAlgError, ValueError) as err:
-        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err}")
+        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err}",
+                            error_type="saddle_search_failed")
     atoms = work.copy()
     atoms.calc = None
     if not converged:
-        return SaddleResult(atoms, energy, False, method, None, (), f"Sella did not converge in {s.max_steps} steps")
+        return SaddleResult(atoms, energy, False, method, None, (), f"Sella did not converge in {s.max_steps} steps",
+                            error_type="saddle_not_converged")
     hessian, n_grad = finite_difference_hessian(atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"),
                                                 s.hessian_step_A)
     vib: Vibrations = harmonic_analysis(hessian, atoms, n_gradients=n_grad)
@@ -369,16 +374,19 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
     others = tuple(round(float(v), 1) for v in imaginary[1:] if v > s.other_imaginary_max_cm1)
     if main is None or main < s.imaginary_min_cm1:
         return SaddleResult(atoms, energy, False, method, None if main is None else float(main), others,
-                            "no imaginary mode above the threshold: the search collapsed to a minimum")
+                            "no imaginary mode above the threshold: the search collapsed to a minimum",
+                            error_type="saddle_collapsed")
     if others:
         return SaddleResult(atoms, energy, False, method, float(main), others,
-                            f"{len(others) + 1} imaginary modes: not a first-order saddle")
+                            f"{len(others) + 1} imaginary modes: not a first-order saddle",
+                            error_type="saddle_wrong_modes")
     mode = vib.modes[0]
     sides = [_relax_to_side(atoms.copy(), sign * s.displacement_A * mode, reactive, engine, charge, multiplicity,
                             s, optimizer, name) for sign in (+1, -1)]
     if sorted(sides) != ["product", "reactant"]:
         return SaddleResult(atoms, energy, False, method, float(main), others,
-                            f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product")
+                            f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product",
+                            error_type="saddle_not_connected")
     return SaddleResult(atoms, energy, True, method, float(main), others,
                         "one imaginary mode; connects the reactant complex with the products", mode, hessian)
 
@@ -412,7 +420,7 @@ def _keep_first_failure(first: SaddleResult, second: SaddleResult, source: str) 
         return second
     return SaddleResult(first.atoms, first.energy_hartree, False, first.method, first.imaginary_cm1,
                         first.other_imaginary_cm1, f"{first.reason}; fallback from {source} also failed: "
-                        f"{second.reason}", first.mode)
+                        f"{second.reason}", first.mode, error_type=first.error_type)
 
 
 def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine,
@@ -423,10 +431,12 @@ def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[Pa
                           name=f"{name} neb end")
     if ends is None:
         return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (),
-                                                        "the path end did not relax to products"), "a CI-NEB")
+                                                        "the path end did not relax to products",
+                                                        error_type="saddle_not_connected"), "a CI-NEB")
     guess, note = neb_climbing_image(*ends, engine, charge, multiplicity, settings, name=f"{name} neb")
     if guess is None:
-        return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (), note), "a CI-NEB")
+        return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (), note,
+                                                        error_type="neb_failed"), "a CI-NEB")
     third = refine_and_verify(guess, reactive, engine, charge, multiplicity, settings, optimizer,
                               name=f"{name} saddle", method="sella from the CI-NEB climbing image")
     if third.verified:
@@ -451,7 +461,8 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
     if not settings.saddle.refine:
         saddle = SaddleResult(None, None, False, "none", None, (), "not refined (paths.saddle.refine is false)")
     else:
-        saddle = SaddleResult(None, None, False, "none", None, (), "no interior maximum along the path")
+        saddle = SaddleResult(None, None, False, "none", None, (), "no interior maximum along the path",
+                              error_type="no_interior_maximum")
         if 0 < top < len(points) - 1:
             saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
                                        name=f"{name} saddle", method="sella from the path maximum")
@@ -501,7 +512,8 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
                                    name=f"{name} saddle", method="sella from the path maximum")
     else:
         saddle = SaddleResult(None, None, False, "none", None, (),
-                              "not refined" if not settings.saddle.refine else "no interior maximum along the path")
+                              "not refined" if not settings.saddle.refine else "no interior maximum along the path",
+                              error_type=None if not settings.saddle.refine else "no_interior_maximum")
     if settings.saddle.refine and not saddle.verified and settings.saddle.neb_fallback:
         saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings, optimizer,
                                name)

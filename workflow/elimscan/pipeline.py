@@ -416,7 +416,8 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         barrier_free_energy_kcal_mol=free_energy_kcal_mol, saddle_character=character,
         relaxed_path_estimate_kcal_mol=kcal(path.estimate_hartree), saddle_verified=path.saddle.verified,
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
-        saddle_note=path.saddle.reason, saddle_method=path.saddle.method, complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
+        saddle_note=path.saddle.reason, saddle_method=path.saddle.method, saddle_error_type=path.saddle.error_type,
+        complex_energy_kcal_mol=kcal(path.complex.energy_hartree),
         complex_rotation_spread_kcal_mol=round((max(rotations) - min(rotations)) * KCAL_MOL_PER_HARTREE, 3),
         path_starts=max(1, len(path.start_tops_hartree)),
         barrier_combination=("boltzmann" if path.combined_top_hartree is not None else "lowest")

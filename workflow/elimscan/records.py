@@ -190,6 +190,10 @@ class ApproachRecord(_Record):
     imaginary_frequency_cm1: float | None = None
     saddle_note: str | None = None
     saddle_method: str | None = Field(None, description="how the saddle was searched (start of the Sella refinement)")
+    saddle_error_type: str | None = Field(None, description="why the saddle is not verified, machine-readable: "
+                                          "saddle_search_failed, saddle_not_converged, saddle_collapsed, "
+                                          "saddle_wrong_modes, saddle_not_connected, no_interior_maximum, neb_failed; "
+                                          "null when verified or not refined")
     complex_energy_kcal_mol: float | None = Field(None, description="base-substrate complex above the same zero")
     complex_rotation_spread_kcal_mol: float | None = Field(None, description="max - min over the base rotations tried")
     path_starts: int | None = Field(None, description="paths driven for this approach: backbone conformers x "

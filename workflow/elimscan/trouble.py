@@ -29,7 +29,8 @@ def count_trouble(jobs: Iterable[JobRecord]) -> dict[str, int]:
                     counts[f"path failed: {approach.error.error_type if approach.error else 'failed'}"] += 1
                 elif (approach.path_status == "ok" and not approach.saddle_verified
                       and not (approach.saddle_note or "").startswith(_NOT_ATTEMPTED)):
-                    counts["saddle not verified"] += 1
+                    why = approach.saddle_error_type
+                    counts["saddle not verified" + (f": {why}" if why else "")] += 1
             for scan in beta.scans:
                 for point in scan.points:
                     if point.status == "failed":
