@@ -863,6 +863,11 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
         '<h2 id="meaning">Reading the numbers</h2><ul class="meaning">'
         + "".join(f"<li>{esc(m)}</li>" for m in (*MEANING, *_barrier_points(result))) + "</ul>",
     ]
+    if result.summary.trouble:
+        parts.append('<h2 id="trouble">Numerical trouble recorded as data</h2><ul class="meaning">'
+                     + "".join(f"<li>{esc(kind)}: {count}</li>" for kind, count in result.summary.trouble.items())
+                     + "</ul><p class=\"note\">Each is on its record in results.json (error_type, saddle_error_type, "
+                     "scan point status); the other classes and jobs went on.</p>")
     if len(result.jobs) > 1:
         parts.append(_index_table(result))
     for job in result.jobs:

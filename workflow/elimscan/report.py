@@ -84,4 +84,13 @@ def summary_table(result: RunResult) -> str:
         lines.extend(series_table(series))
     s = result.summary
     lines.append(f"\n{s.n_jobs_ok}/{s.n_jobs} jobs ok, {s.n_jobs_failed} failed")
+    lines.extend(trouble_lines(s.trouble))
     return "\n".join(lines)
+
+
+def trouble_lines(trouble: dict[str, int]) -> list[str]:
+    """Return the lines listing numerical trouble recorded as data (kind: count), or none."""
+    if not trouble:
+        return []
+    return ["numerical trouble recorded as data (see results.json):",
+            *(f"  {kind}: {count}" for kind, count in trouble.items())]
