@@ -18,6 +18,7 @@ from rdkit.Chem.Draw import rdMolDraw2D
 from elimscan.config import SolventConfig
 from elimscan.plots import (BARRIER_SHIFT_KCAL_MOL, SERIES_BARRIER_WORDS, character_points, figure_svg, job_figures,
                             plot_name, rho_text, series_figure, series_plot_name, signed)
+from elimscan.report import base_model_groups, model_mix
 from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult, SeriesRecord, SubstitutionRecord
 from elimscan.tables import job_solvent, product_anti_penalty_kcal_mol, product_lowest_barrier, product_paths
 
@@ -832,6 +833,26 @@ def _series_block(series: SeriesRecord, assets: Mapping[str, str]) -> str:
                       "No member has a barrier: no plot.") + "</div>")
 
 
+def base_model_section(result: RunResult) -> str:
+    """Return the report's comparison of base models (computed product shares per model), or '' when none."""
+    blocks = []
+    for group in base_model_groups(result.jobs):
+        products, rows = model_mix(group)
+        head = "".join(f'<th class="num smiles">{esc(s)}</th>' for s in products)
+        body = "".join(
+            f'<tr><td><a href="#{esc(_anchor(job))}">{esc(job.base)}</a></td><td>{esc(job.base_info.model or "bare")}</td>'
+            + "".join(f'<td class="num">{esc(percent_text(shares.get(s)))}</td>' for s in products) + "</tr>"
+            for job, shares in rows)
+        blocks.append(f"<h3>{esc(group[0].substrate)} + {esc(group[0].base_info.smiles)}</h3>"
+                      f"<table><thead><tr><th>job base</th><th>model</th>{head}</tr></thead><tbody>{body}</tbody></table>")
+    if not blocks:
+        return ""
+    return ('<section id="base-models"><h2>Base models compared</h2>' + "".join(blocks)
+            + '<p class="note">Computed Curtin\u2013Hammett shares of each alkene for one substrate and one base under '
+            "each base model (bare anion, ion pair, explicit alcohol molecules). Barriers of different models are "
+            "not on one scale (each model has its own reference energy); compare the shares.</p></section>")
+
+
 def series_section(result: RunResult, assets: Mapping[str, str]) -> str:
     """Return the report's section of substituent series (Hammett fits), one block per series and solvent."""
     return ('<section class="series-section" id="series"><h2>Substituent series</h2>'
@@ -881,6 +902,7 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
         parts.append(_job_section(result, job, assets, own))
     if result.series:
         parts.append(series_section(result, assets))
+    parts.append(base_model_section(result))
     parts.append(f'<footer class="note"><p>Made by elimscan {esc(p.program_version)} from results.json '
                  f"(schema {esc(result.schema_name)} {esc(result.schema_version)}).</p></footer>")
     parts.append(f"<script>{_SCRIPT}</script></body></html>")

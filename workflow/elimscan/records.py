@@ -253,6 +253,8 @@ class BaseRecord(_Record):
     basic_atom_index: int
     bulky: bool
     bulky_reason: str
+    smiles: str | None = Field(None, description="the base itself (without counter-ion or explicit molecules)")
+    model: str | None = Field(None, description="base model: 'bare', or the counter-ion and explicit molecules")
 
 
 class RuleRecord(_Record):
