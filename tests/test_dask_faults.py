@@ -1,4 +1,5 @@
-"""A Dask worker lost mid-job costs only that job's rerun (toy engine: bookkeeping, not chemistry).
+"""Faults on a Dask cluster (toy engine: bookkeeping, not chemistry): a worker lost mid-job costs only that
+job's rerun; a job stuck in one stage is stopped at the stage time limit.
 
 The toy engine of ``toyjobs.py`` (``worker_losing_engine``) SIGKILLs the Dask worker process that runs one
 chosen job, once, in the middle of that job, as a lost node would. Dask's nanny starts a new worker, the
@@ -83,3 +84,24 @@ def test_a_dask_worker_lost_mid_job_costs_only_that_jobs_rerun(tmp_path, monkeyp
     lost_key = mine["2-chloropropane__methoxide"]["job_key"]
     assert starts[lost_key] == 2, starts
     assert all(n == 1 for key, n in starts.items() if key != lost_key), starts
+
+
+def test_a_job_stuck_in_one_stage_on_dask_is_stopped_at_the_stage_limit(tmp_path):
+    """The stuck toy engine hangs on the base; the Dask task's supervisor kills the job process at 4 s."""
+    pytest.importorskip("distributed")
+    from distributed import LocalCluster
+
+    config = tmp_path / "batch.yaml"
+    config.write_text(CONFIG.replace('  - {name: 2-chloropropane, smiles: "CC(C)Cl"}\n', "").replace(
+        '  - {name: 1-chloropropane, smiles: "CCCCl"}\n', "")
+        + "executor: {time_limit_seconds: 600, stage_time_limit_seconds: 4}\n")
+    out = tmp_path / "out"
+    env = _env("toyjobs:stuck_engine")
+    with LocalCluster(processes=True, n_workers=1, threads_per_worker=1, dashboard_address=None) as cluster:
+        done = _batch(config, out, env, "--scheduler", cluster.scheduler_address)
+    assert done.returncode == ExitCode.JOBS_FAILED, done.stderr
+    assert "Traceback" not in done.stderr
+    job = json.loads((out / "results.json").read_text())["jobs"][0]
+    assert job["error"]["error_type"] == "stage_time_limit"
+    assert "longer than the stage time limit of 4 s in" in job["error"]["error_message"]
+    assert "base 'methoxide'" in job["error"]["error_message"]
