@@ -44,7 +44,7 @@ def test_conjugate_acid_is_the_protonated_base():
     assert conjugate_acid_smiles("[NH2-]", 0) == Chem.CanonSmiles("N")
 
 
-@pytest.mark.parametrize("counter_ion,explicit", [("K", 0), (None, 2), ("Na", 1), ("Li", 1)])
+@pytest.mark.parametrize("counter_ion,explicit", [("K", 0), (None, 2), ("Na", 1), ("Li", 1), ("K", 2), ("K", 3)])
 def test_cluster_composition_charge_and_contacts(counter_ion, explicit):
     cluster, info = _cluster("CC(C)(C)[O-]", counter_ion, explicit)
     # composition and total charge as RDKit reads the dot-separated SMILES
@@ -61,7 +61,14 @@ def test_cluster_composition_charge_and_contacts(counter_ion, explicit):
         ligand_directions.append(positions[metal] - positions[o])
     hydroxyl_h = [i for i in range(cluster.n_base_atoms, len(cluster.atoms)) if cluster.atoms.numbers[i] == 1
                   and np.linalg.norm(positions[i] - positions[o]) == pytest.approx(HYDROGEN_BOND_A, abs=1e-6)]
-    assert len(hydroxyl_h) == explicit
+    at_base = min(explicit, 2 - (1 if counter_ion else 0))  # three lone pairs on O-, one kept free
+    assert len(hydroxyl_h) == at_base
+    if explicit > at_base:  # the others bind the cation through their oxygen, on the far side from the base
+        metal = positions[cluster.n_base_atoms]
+        oxygens = [i for i in range(cluster.n_base_atoms + 1, len(cluster.atoms)) if cluster.atoms.numbers[i] == 8
+                   and np.linalg.norm(positions[i] - metal) == pytest.approx(CATION_DISTANCE_A[counter_ion], abs=1e-6)]
+        assert len(oxygens) == explicit - at_base
+        assert all(np.linalg.norm(positions[i] - positions[o]) > CATION_DISTANCE_A[counter_ion] for i in oxygens)
     ligand_directions += [positions[h] - positions[o] for h in hydroxyl_h]
     # one lone pair stays free: some tetrahedral direction makes > 90 degrees with every ligand
     base_part = cluster.atoms[: cluster.n_base_atoms]
@@ -75,7 +82,11 @@ def test_cluster_composition_charge_and_contacts(counter_ion, explicit):
 
 def test_too_many_ligands_or_a_cation_for_a_neutral_base_is_refused():
     with pytest.raises(StructureError, match="leave none free"):
-        _cluster("CC(C)(C)[O-]", "K", 2)
+        _cluster("CC(C)(C)[O-]", None, 3)
+    with pytest.raises(StructureError, match="leave none free"):
+        _cluster("[NH2-]", None, 2)  # two lone pairs on NH2-: one H-bond donor at most, the other stays free
+    amide, _ = _cluster("[NH2-]", "K", 1)  # the cation takes one lone pair; the ammonia then binds the cation
+    assert "1 x N on the cation" in amide.label
     with pytest.raises(StructureError, match="not an anion"):
         _cluster("C1CCC2=NCCCN2CC1", "K", 0)
     with pytest.raises(ValueError):
@@ -99,6 +110,7 @@ def _toy_run(model: dict):
     ({"counter_ion": "Na"}, "C[O-].[Na+]"),
     ({"explicit": 2}, "C[O-].CO.CO"),
     ({"counter_ion": "K", "explicit": 1}, "C[O-].[K+].CO"),
+    ({"counter_ion": "K", "explicit": 2}, "C[O-].[K+].CO.CO"),
 ])
 def test_every_base_model_runs_a_whole_job_on_the_toy_engine(model, cluster_smiles):
     outcome, record = _toy_run(model)

@@ -4,7 +4,9 @@ A model is a cluster built around the base: the base's own atoms first (so the b
 index), then the metal cation, then each explicit molecule. The cation and the hydrogen-bond donors sit
 on the lone-pair directions of the basic atom (tetrahedral about its bonds); one lone pair always stays
 free for the proton transfer, and since the complex builder turns the base so that its nearest atoms
-point away from the substrate, that free lone pair is the one that faces the beta hydrogen.
+point away from the substrate, that free lone pair is the one that faces the beta hydrogen. Explicit
+molecules beyond the lone pairs left bind the cation through their donor atom (O or N), on the far side
+from the base, as alcohols solvate a potassium ion.
 
 Distances (Å) are starting values only: every cluster is relaxed before use, alone (the reference of the
 common zero) and in each complex.
@@ -26,6 +28,8 @@ from elimscan.errors import StructureError
 CATION_DISTANCE_A: dict[str, float] = {"Li": 1.95, "Na": 2.30, "K": 2.65}
 #: H...O distance of an alcohol hydrogen bond to an alkoxide oxygen (Å), starting value; common practice
 HYDROGEN_BOND_A = 1.75
+#: explicit molecules on the cation: their donor atom this far (degrees) off the base->cation axis, beyond it
+CATION_LIGAND_TILT_DEG = 70.0
 #: tetrahedral angle (degrees)
 TETRAHEDRAL_DEG = 109.4712
 
@@ -137,6 +141,24 @@ def _place_donor(molecule: Atoms, h: int, donor: int, site: np.ndarray, directio
     return placed
 
 
+def _place_on_cation(molecule: Atoms, h: int, donor: int, metal: np.ndarray, direction: np.ndarray,
+                     distance_A: float, existing: np.ndarray) -> Atoms:
+    """Return ``molecule`` with its donor atom ``distance_A`` from the cation along ``direction``, its H outward."""
+    moved = molecule.positions - molecule.positions[donor]
+    d_h = moved[h] - moved[donor]
+    moved = moved @ _rotation(d_h / np.linalg.norm(d_h), direction).T  # O-H points away from the cation
+    site = metal + distance_A * direction
+    best, best_gap = None, -1.0
+    for turn in np.radians(np.arange(0.0, 360.0, 30.0)):
+        trial = moved @ _about(direction, turn).T + site
+        gap = float(np.min(np.linalg.norm(trial[:, None, :] - existing[None, :, :], axis=2)))
+        if gap > best_gap:
+            best, best_gap = trial, gap
+    placed = molecule.copy()
+    placed.positions = best
+    return placed
+
+
 def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, counter_ion: str | None,
                   explicit: Sequence[Atoms] = (), explicit_smiles: str | None = None, name: str = "base") -> BaseCluster:
     """Return the base model: the base, then the cation (if any), then the explicit molecules (Å).
@@ -154,11 +176,13 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
             raise StructureError(f"base '{name}' ({base_smiles}) is not an anion (charge {base_charge:+d}): "
                                  "a counter-ion pairs only with an anionic base")
     slots = lone_pair_directions(base, basic)
-    ligands = (1 if counter_ion else 0) + len(explicit)
-    if ligands > len(slots) - 1:
+    at_base = len(slots) - 1 - (1 if counter_ion else 0)  # explicit molecules the basic atom can take
+    if at_base < 0 or (counter_ion is None and len(explicit) > at_base):
+        ligands = (1 if counter_ion else 0) + len(explicit)
         raise StructureError(f"base '{name}' ({base_smiles}): its basic atom has {len(slots)} lone pair(s); "
                              f"{ligands} ligand(s) (counter-ion and explicit molecules) would leave none free for "
-                             f"the proton transfer (at most {max(len(slots) - 1, 0)})")
+                             f"the proton transfer (at most {max(len(slots) - 1, 0)}; with a counter-ion, further "
+                             "explicit molecules bind the cation)")
     centre = base.positions[basic]
     cluster = base.copy()
     smiles = [base_smiles]
@@ -166,13 +190,28 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
     if counter_ion is not None:
         cluster += Atoms(counter_ion, positions=[centre + CATION_DISTANCE_A[counter_ion] * next(slot)])
         smiles.append(f"[{counter_ion}+]")
-    for molecule in explicit:
+    for molecule in explicit[:at_base]:
         direction = next(slot)
         h, donor = donor_hydrogen(molecule)
         cluster += _place_donor(molecule, h, donor, centre + HYDROGEN_BOND_A * direction, direction, cluster.positions)
         smiles.append(explicit_smiles or "?")
+    on_cation = explicit[at_base:]
+    if on_cation:
+        metal = cluster.positions[len(base)]
+        axis = (metal - centre) / np.linalg.norm(metal - centre)
+        p, q = _perpendicular(axis)
+        tilt = np.radians(CATION_LIGAND_TILT_DEG)
+        for k, molecule in enumerate(on_cation):
+            phi = 2.0 * np.pi * k / len(on_cation)
+            direction = np.cos(tilt) * axis + np.sin(tilt) * (np.cos(phi) * p + np.sin(phi) * q)
+            h, donor = donor_hydrogen(molecule)
+            cluster += _place_on_cation(molecule, h, donor, metal, direction, CATION_DISTANCE_A[counter_ion],
+                                        cluster.positions)
+            smiles.append(explicit_smiles or "?")
+    n_bonded = min(len(explicit), at_base)
     parts = ([f"{counter_ion}+ ion pair"] if counter_ion else []) + \
-        ([f"{len(explicit)} x {explicit_smiles} hydrogen-bonded"] if explicit else [])
+        ([f"{n_bonded} x {explicit_smiles} hydrogen-bonded"] if n_bonded else []) + \
+        ([f"{len(on_cation)} x {explicit_smiles} on the cation"] if on_cation else [])
     charge = base_charge + (1 if counter_ion else 0)
     return BaseCluster(cluster, ".".join(smiles), charge, basic, len(base), " + ".join(parts))
 
