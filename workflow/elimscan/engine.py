@@ -64,7 +64,7 @@ class EngineSettings:
         """Return a one-line label such as 'GFN2-xTB/ALPB(ethanol) [tblite 0.8.0]'."""
         solvent = "gas phase" if self.solvent_model == "none" else f"{self.solvent_model.upper()}({self.solvent_name})"
         if self.solvent_model == "dielectric":
-            solvent = f"GBε({self.solvent_name}, ε {dielectric_constant(self.solvent_name):g}, no CDS term)"
+            solvent = f"ddX-CPCM({self.solvent_name}, ε {dielectric_constant(self.solvent_name):g}, no CDS term)"
         return f"{self.hamiltonian}/{solvent} [{self.backend} {backend_version(self.backend)}]"
 
 
@@ -100,6 +100,14 @@ def _import_backend(backend: str) -> Any:
         raise BackendUnavailableError(f"xTB backend '{backend}' cannot be loaded: {err}") from err
 
 
+#: tblite interaction and model of the dielectric-only continuum (solvent model 'dielectric'). Not GB/GBε:
+#: with ε alone (no parametrised radii or CDS term) tblite's GB and GBε let two hydrogens of an anionic
+#: base-substrate complex collapse to 0.5 Å during relaxation (energy falling by ~36 eV, then no SCF), with
+#: either Born kernel; ddX-CPCM at the same ε relaxes the same complex normally (measured, 2-bromobutane +
+#: ethoxide, ε of ethanol). It costs far more per gradient.
+DIELECTRIC_INTERACTION: tuple[str, str | None] = ("ddX-solvation", "cpcm")
+
+
 class _Series(Protocol):
     def compute(self, positions_bohr: np.ndarray) -> tuple[float, np.ndarray]: ...
 
@@ -115,8 +123,9 @@ class _TbliteSeries:
         self._calc.set("max-iter", settings.max_scf_iterations)
         self._calc.set("accuracy", settings.accuracy)
         self._calc.set("temperature", electronic_temperature_K * BOLTZMANN_HARTREE_PER_K)
-        if settings.solvent_model == "dielectric":  # non-empirical GBε at the table's dielectric constant
-            self._calc.add("gbe-solvation", dielectric_constant(settings.solvent_name), "p16")
+        if settings.solvent_model == "dielectric":  # ddX conductor-like PCM at the table's dielectric constant
+            kind, kernel = DIELECTRIC_INTERACTION
+            self._calc.add(kind, dielectric_constant(settings.solvent_name), *((kernel,) if kernel else ()))
         elif settings.solvent_model != "none":
             self._calc.add(f"{settings.solvent_model}-solvation", settings.solvent_name)
         self._result = None

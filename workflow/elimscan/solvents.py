@@ -26,7 +26,7 @@ class Dielectric:
 _MN = ("Minnesota Solvent Descriptor Database (Winget, Dolney, Giesen, Cramer & Truhlar; the SMD descriptors, "
        "Marenich, Cramer & Truhlar, J. Phys. Chem. B 2009, 113, 6378), 25 °C, as copied in PySCF's solvent_db")
 #: Solvents for the dielectric-only continuum (model ``dielectric``): no parametrised ALPB exists for them.
-#: The model is tblite's non-empirical GBε (ALPB electrostatics, P16 Born radii) at this ε, with no
+#: The model is tblite's ddX conductor-like PCM at this ε (engine.DIELECTRIC_INTERACTION), with no
 #: cavity-dispersion-solvent-structure term and no empirical shift, so its energies are not comparable
 #: with a named ALPB solvent's; compare relative barriers only. tests/test_engine_xtb.py checks the values
 #: against PySCF's copy of the database.
