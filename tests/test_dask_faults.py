@@ -86,7 +86,7 @@ def test_a_dask_worker_lost_mid_job_costs_only_that_jobs_rerun(tmp_path, monkeyp
     assert all(n == 1 for key, n in starts.items() if key != lost_key), starts
 
 
-def test_a_job_stuck_in_one_stage_on_dask_is_stopped_at_the_stage_limit(tmp_path):
+def test_a_job_stuck_in_one_stage_on_dask_is_stopped_at_the_stage_limit(tmp_path, monkeypatch):
     """The stuck toy engine hangs on the base; the Dask task's supervisor kills the job process at 4 s."""
     pytest.importorskip("distributed")
     from distributed import LocalCluster
@@ -97,6 +97,8 @@ def test_a_job_stuck_in_one_stage_on_dask_is_stopped_at_the_stage_limit(tmp_path
         + "executor: {time_limit_seconds: 600, stage_time_limit_seconds: 4}\n")
     out = tmp_path / "out"
     env = _env("toyjobs:stuck_engine")
+    for key, value in env.items():
+        monkeypatch.setenv(key, value)  # the Dask workers (and the job processes they start) import toyjobs
     with LocalCluster(processes=True, n_workers=1, threads_per_worker=1, dashboard_address=None) as cluster:
         done = _batch(config, out, env, "--scheduler", cluster.scheduler_address)
     assert done.returncode == ExitCode.JOBS_FAILED, done.stderr
