@@ -124,33 +124,16 @@ def donor_hydrogen(atoms: Atoms) -> tuple[int, int]:
     raise StructureError("explicit solvent molecule has no O-H or N-H to donate a hydrogen bond")
 
 
-def _place_donor(molecule: Atoms, h: int, donor: int, site: np.ndarray, direction: np.ndarray,
-                 existing: np.ndarray) -> Atoms:
-    """Return ``molecule`` with its H at ``site`` and D-H pointing along -``direction``, turned to avoid clashes."""
-    moved = molecule.positions - molecule.positions[h]
+def _place_molecule(molecule: Atoms, anchor: int, h: int, donor: int, site: np.ndarray, bond_along: np.ndarray,
+                    axis: np.ndarray, existing: np.ndarray) -> Atoms:
+    """Return ``molecule`` with atom ``anchor`` at ``site`` and its donor->H bond along ``bond_along``, turned
+    about ``axis`` (12 steps of 30 degrees) to keep it farthest from the ``existing`` atoms (Å)."""
+    moved = molecule.positions - molecule.positions[anchor]
     d_h = moved[h] - moved[donor]
-    moved = moved @ _rotation(d_h / np.linalg.norm(d_h), -direction).T
+    moved = moved @ _rotation(d_h / np.linalg.norm(d_h), bond_along).T
     best, best_gap = None, -1.0
     for turn in np.radians(np.arange(0.0, 360.0, 30.0)):
-        trial = moved @ _about(direction, turn).T + site
-        gap = float(np.min(np.linalg.norm(trial[:, None, :] - existing[None, :, :], axis=2)))
-        if gap > best_gap:
-            best, best_gap = trial, gap
-    placed = molecule.copy()
-    placed.positions = best
-    return placed
-
-
-def _place_on_cation(molecule: Atoms, h: int, donor: int, metal: np.ndarray, direction: np.ndarray,
-                     distance_A: float, existing: np.ndarray) -> Atoms:
-    """Return ``molecule`` with its donor atom ``distance_A`` from the cation along ``direction``, its H outward."""
-    moved = molecule.positions - molecule.positions[donor]
-    d_h = moved[h] - moved[donor]
-    moved = moved @ _rotation(d_h / np.linalg.norm(d_h), direction).T  # O-H points away from the cation
-    site = metal + distance_A * direction
-    best, best_gap = None, -1.0
-    for turn in np.radians(np.arange(0.0, 360.0, 30.0)):
-        trial = moved @ _about(direction, turn).T + site
+        trial = moved @ _about(axis, turn).T + site
         gap = float(np.min(np.linalg.norm(trial[:, None, :] - existing[None, :, :], axis=2)))
         if gap > best_gap:
             best, best_gap = trial, gap
@@ -193,7 +176,9 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
     for molecule in explicit[:at_base]:
         direction = next(slot)
         h, donor = donor_hydrogen(molecule)
-        cluster += _place_donor(molecule, h, donor, centre + HYDROGEN_BOND_A * direction, direction, cluster.positions)
+        # hydrogen bond: H at the lone pair, donor->H pointing at the basic atom
+        cluster += _place_molecule(molecule, h, h, donor, centre + HYDROGEN_BOND_A * direction, -direction, direction,
+                                   cluster.positions)
         smiles.append(explicit_smiles or "?")
     on_cation = explicit[at_base:]
     if on_cation:
@@ -205,8 +190,9 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
             phi = 2.0 * np.pi * k / len(on_cation)
             direction = np.cos(tilt) * axis + np.sin(tilt) * (np.cos(phi) * p + np.sin(phi) * q)
             h, donor = donor_hydrogen(molecule)
-            cluster += _place_on_cation(molecule, h, donor, metal, direction, CATION_DISTANCE_A[counter_ion],
-                                        cluster.positions)
+            # donor atom on the cation, its O-H pointing away from it
+            cluster += _place_molecule(molecule, donor, h, donor, metal + CATION_DISTANCE_A[counter_ion] * direction,
+                                       direction, direction, cluster.positions)
             smiles.append(explicit_smiles or "?")
     n_bonded = min(len(explicit), at_base)
     parts = ([f"{counter_ion}+ ion pair"] if counter_ion else []) + \
