@@ -50,14 +50,39 @@ def test_the_shift_table_reads_the_1_butene_shares_of_both_bases(validate):
     """On the halobutane fixture (ethoxide and tert-butoxide): shift = terminal share(bulky) - share(small)."""
     document = json.loads((FIXTURE / "halobutane" / "results.json").read_text())
     jobs = {j["base"]: j for j in document["jobs"]}
-    spec = {"models": {"bare": {}}}
-    rows = validate.shift_rows(spec, {("bare", "small"): {"job": jobs["ethoxide"]},
-                                      ("bare", "bulky"): {"job": jobs["tert-butoxide"]}})
+    temperature = document["config"]["method"]["temperature_K"]
+    small = {"job": jobs["ethoxide"], "temperature_K": temperature}
+    bulky = {"job": jobs["tert-butoxide"], "temperature_K": temperature}
+    rows = validate.shift_rows(["bare"], {("bare", "small"): {**small, "seconds": 600.0},
+                                          ("bare", "bulky"): {**bulky, "seconds": 1200.0}})
     terminal = {base: sum(p["fraction"] for p in job["products"] if p["smiles"] == "C=CCC")
                 for base, job in jobs.items()}
     shift = terminal["tert-butoxide"] - terminal["ethoxide"]
     assert rows[2] == (f"| bare | {terminal['ethoxide']:.0%} | {terminal['tert-butoxide']:.0%} | {shift:+.0%} | "
-                       f"{'yes' if shift > 0 else 'no'} |")
-    failed = validate.shift_rows(spec, {("bare", "small"): {"error": "scf_not_converged"},
-                                        ("bare", "bulky"): {"job": jobs["tert-butoxide"]}})
-    assert "failed: scf_not_converged" in failed[2]
+                       f"{'yes' if shift > 0 else 'no'} | 10 + 20 min |")
+    failed = validate.shift_rows(["bare"], {("bare", "small"): {"error": "scf_not_converged"}, ("bare", "bulky"): bulky})
+    assert "| bare | - | - | - | scf_not_converged |" in failed[2]
+    assert "| - | - | - | not computed; not computed |" in validate.shift_rows(["bare"], {})[2]
+    dft = validate.shift_rows(["bare"], {("bare", "small"): small, ("bare", "bulky"): bulky},
+                              field="barrier_dft_kcal_mol")
+    assert "not computed; not computed" in dft[2]  # the fixture has no DFT barriers
+
+
+def test_every_shift_config_is_a_valid_elimscan_config(validate):
+    """The bulky-base shift jobs of validation/cases.yaml load, have unique names, and carry each alcohol's ε."""
+    import yaml
+
+    from elimscan.config import parse_config
+
+    spec = yaml.safe_load((ROOT / "validation" / "cases.yaml").read_text())["bulky_shift"]
+    jobs = validate._shift_configs(spec)
+    assert len({config["name"] for _, config in jobs}) == len(jobs)
+    for (continuum, model, side), config in jobs:
+        loaded = parse_config(yaml.safe_dump(config), config["name"])
+        base = loaded.bases[0]
+        assert base.name == spec[side]["base"]
+        if "counter_ion" in spec["models"][model]:
+            assert base.model.counter_ion == spec[side]["cation"]
+        if config.get("dft"):
+            assert loaded.dft.enabled and loaded.dft.dielectric_constant == spec[side]["dft_epsilon"]
+    assert {key[0] for key, _ in jobs} == {c["name"] for c in spec["continua"]}

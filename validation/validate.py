@@ -11,6 +11,7 @@ Curtin-Hammett function applied to the barriers in results.json.
 
 from __future__ import annotations
 
+import argparse
 import json
 import os
 import subprocess
@@ -70,17 +71,35 @@ def level_cell(job: dict, field: str, temperature_K: float, case: dict) -> str:
     return f"{verdict.computed_major} ({_verdict(_classify(verdict.computed_major, case), case)}; {mix})"
 
 
+def _finished_same(out: Path, config_text: str) -> bool:
+    """Return True when ``out`` holds a finished run of exactly this config (so it can be reused)."""
+    kept = out.parent / f"{out.name}.yaml.done"
+    return (out / "results.json").exists() and kept.exists() and kept.read_text() == config_text
+
+
 def run_case(case: dict, work: Path) -> dict:
-    """Return the finished job record of one case (or an error), run through the elimscan command."""
+    """Return the finished job record of one case (or an error), run through the elimscan command.
+
+    A finished run of the same config already in ``work`` is reused, so an interrupted ``make validate``
+    with a kept work folder computes only what is missing.
+    """
     config = work / f"{case['config']['name']}.yaml"
-    config.write_text(yaml.safe_dump(case["config"]))
+    config_text = yaml.safe_dump(case["config"])
+    config.write_text(config_text)
     out = work / case["config"]["name"]
-    start = time.perf_counter()
-    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(out), "-q"],
-                          capture_output=True, text=True)
-    seconds = time.perf_counter() - start
-    if done.returncode not in (0, 5):
-        return {"error": done.stderr.strip().splitlines()[-1] if done.stderr.strip() else f"exit {done.returncode}"}
+    seconds_file = work / f"{case['config']['name']}.seconds"
+    if _finished_same(out, config_text):
+        print(f"reusing {out}", file=sys.stderr, flush=True)
+        seconds = float(seconds_file.read_text()) if seconds_file.exists() else float("nan")
+    else:
+        start = time.perf_counter()
+        done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(out), "-q",
+                               "--overwrite"], capture_output=True, text=True)
+        seconds = time.perf_counter() - start
+        if done.returncode not in (0, 5):
+            return {"error": done.stderr.strip().splitlines()[-1] if done.stderr.strip() else f"exit {done.returncode}"}
+        seconds_file.write_text(f"{seconds:.1f}")
+        (work / f"{case['config']['name']}.yaml.done").write_text(config_text)
     document = json.loads((out / "results.json").read_text())
     job = document["jobs"][0]
     if job["status"] != "ok":
@@ -88,50 +107,92 @@ def run_case(case: dict, work: Path) -> dict:
     return {"job": job, "temperature_K": document["config"]["method"]["temperature_K"], "seconds": seconds}
 
 
-def _shift_configs(spec: dict) -> list[tuple[str, str, dict]]:
-    """Return (model, side, config) for every base model and both sides of the bulky-base shift."""
+def _shift_configs(spec: dict) -> list[tuple[tuple[str, str, str], dict]]:
+    """Return ((continuum, model, side), config) for every continuum, base model and side of the shift."""
     configs = []
-    for model_name, model in spec["models"].items():
-        for side in ("small", "bulky"):
-            part = spec[side]
-            resolved = {k: (part["cation"] if v == "cation" else v) for k, v in model.items()}
-            slug = "".join(c if c.isalnum() else "-" for c in f"{model_name}-{side}")
-            configs.append((model_name, side, {
-                "name": f"val-shift-{slug}", "method": {"solvent": part["solvent"]},
-                "substrates": [spec["substrate"]], "paths": spec.get("paths", {}),
-                "bases": [{"name": part["base"], **({"model": resolved} if resolved else {})}]}))
+    for continuum in spec["continua"]:
+        for model_name in continuum.get("models", list(spec["models"])):
+            model = spec["models"][model_name]
+            for side in ("small", "bulky"):
+                part = spec[side]
+                resolved = {k: (part["cation"] if v == "cation" else v) for k, v in model.items()}
+                slug = "".join(c if c.isalnum() else "-" for c in f"{continuum[side]['model']}-{model_name}-{side}")
+                config = {"name": f"val-shift-{slug}", "method": {"solvent": continuum[side]},
+                          "substrates": [spec["substrate"]], "paths": spec.get("paths", {}),
+                          "bases": [{"name": part["base"], **({"model": resolved} if resolved else {})}]}
+                if model_name in continuum.get("dft_models", []):
+                    config["dft"] = {**spec["dft"], "dielectric_constant": part["dft_epsilon"]}
+                configs.append(((continuum["name"], model_name, side), config))
     return configs
 
 
-def terminal_share(job: dict) -> float | None:
-    """Return the computed 1-alkene (terminal) share of a job at the dE level, or None."""
-    shares = {p["smiles"]: p["fraction"] for p in job["products"] if p["fraction"] is not None}
-    if not shares:
+def terminal_share(job: dict, field: str, temperature_K: float) -> float | None:
+    """Return the computed 1-alkene (terminal) share (0-1) of a job from the barriers in ``field``, or None."""
+    paths = level_paths(job, field)
+    if not paths:
         return None
+    shares = product_fractions(paths, temperature_K)
     return sum(f for s, f in shares.items() if _classify(s, {}) == "terminal")
 
 
-def shift_rows(spec: dict, results: dict) -> list[str]:
-    """Return the Markdown rows of the bulky-base shift table from finished runs keyed by (model, side)."""
-    rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? |",
-            "|---|---|---|---|---|"]
-    for model_name in spec["models"]:
-        got = {}
+def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> list[str]:
+    """Return the Markdown rows of one block of the bulky-base shift table, from runs keyed by (model, side)."""
+    rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? | wall time |",
+            "|---|---|---|---|---|---|"]
+    for model_name in models:
+        got, minutes = {}, []
         for side in ("small", "bulky"):
-            result = results[(model_name, side)]
-            got[side] = None if "error" in result else terminal_share(result["job"])
+            result = results.get((model_name, side), {"error": "not run"})
+            got[side] = None if "error" in result else terminal_share(result["job"], field, result["temperature_K"])
+            if "seconds" in result:
+                minutes.append(f"{result['seconds'] / 60:.0f}")
+        wall = " + ".join(minutes) + " min" if minutes else "-"
         if None in got.values():
-            why = "; ".join(results[(model_name, s)].get("error", "no mix") for s in ("small", "bulky") if got[s] is None)
-            rows.append(f"| {model_name} | - | - | - | failed: {why} |")
+            why = "; ".join(results.get((model_name, s), {}).get("error", "not computed") for s in ("small", "bulky")
+                            if got[s] is None)
+            rows.append(f"| {model_name} | - | - | - | {why} | {wall} |")
             continue
         shift = got["bulky"] - got["small"]
         rows.append(f"| {model_name} | {got['small']:.0%} | {got['bulky']:.0%} | {shift:+.0%} | "
-                    f"{'yes' if shift > 0 else 'no'} |")
+                    f"{'yes' if shift > 0 else 'no'} | {wall} |")
     return rows
 
 
-def main() -> int:
-    """Run every case (two at a time on a 2-core machine) and write VALIDATION.md; return the exit code."""
+def _parse(argv: list[str] | None) -> argparse.Namespace:
+    """Return the parsed command line of the validation run."""
+    parser = argparse.ArgumentParser(description="run the reference cases and write validation/VALIDATION.md")
+    parser.add_argument("--work", type=Path, default=None,
+                        help="keep the runs in this folder and reuse finished ones (default: a temporary folder)")
+    parser.add_argument("--only", choices=("cases", "shift"), default=None,
+                        help="run only the reference cases or only the bulky-base shift rows (the table is still "
+                             "written, with the other part from finished runs in --work or 'not computed')")
+    parser.add_argument("--no-write", action="store_true", help="print the table, do not overwrite VALIDATION.md")
+    return parser.parse_args(argv)
+
+
+def _case_row(case: dict, result: dict) -> str:
+    """Return the Markdown row of one reference case."""
+    source = f"{case['experiment']} ({case['source']})"
+    if "error" in result:
+        return f"| {case['name']} | {source} | - |" + " - |" * len(LEVELS) + f" {result['error']} |"
+    job = result["job"]
+    rule_major = job["rule"]["rule_major"]
+    cells = [level_cell(job, field, result["temperature_K"], case) for field in LEVELS.values()]
+    return (f"| {case['name']} | {source} | {rule_major} ({_verdict(_classify(rule_major, case), case)}) | "
+            + " | ".join(cells) + f" | {result['seconds'] / 60:.1f} min |")
+
+
+def _reuse_only(case: dict, work: Path) -> dict:
+    """Return a finished run of ``case`` kept in ``work``, or an error saying it was not run this time."""
+    out = work / case["config"]["name"]
+    if _finished_same(out, yaml.safe_dump(case["config"])):
+        return run_case(case, work)
+    return {"error": "not computed (left out with --only)"}
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the cases (two at a time on a 2-core machine) and write VALIDATION.md; return the exit code."""
+    args = _parse(argv)
     document = yaml.safe_load((HERE / "cases.yaml").read_text())
     cases, spec = document["cases"], document.get("bulky_shift")
     head = "| case | experiment (source) | rule | " + " | ".join(f"GFN2-xTB {k}" if k != "DFT//GFN2" else k
@@ -140,22 +201,19 @@ def main() -> int:
     shift_jobs = _shift_configs(spec) if spec else []
     workers = max(1, min(os.cpu_count() or 1, int(os.environ.get("VALIDATE_WORKERS", "2"))))
     with tempfile.TemporaryDirectory() as tmp, ThreadPoolExecutor(workers) as pool:
-        case_futures = [pool.submit(run_case, case, Path(tmp)) for case in cases]
-        shift_futures = {(m, side): pool.submit(run_case, {"config": config}, Path(tmp))
-                         for m, side, config in shift_jobs}
+        work = args.work or Path(tmp)
+        work.mkdir(parents=True, exist_ok=True)
+        run_cases = run_case if args.only in (None, "cases") else _reuse_only
+        run_shift = run_case if args.only in (None, "shift") else _reuse_only
+        case_futures = [pool.submit(run_cases, case, work) for case in cases]
+        shift_futures = {key: pool.submit(run_shift, {"config": config}, work) for key, config in shift_jobs}
         for case, future in zip(cases, case_futures):
-            result = future.result()
+            rows.append(_case_row(case, future.result()))
             print(f"finished {case['name']}", file=sys.stderr, flush=True)
-            source = f"{case['experiment']} ({case['source']})"
-            if "error" in result:
-                rows.append(f"| {case['name']} | {source} | - | failed: {result['error']} |" + " - |" * len(LEVELS))
-                continue
-            job = result["job"]
-            rule_major = job["rule"]["rule_major"]
-            cells = [level_cell(job, field, result["temperature_K"], case) for field in LEVELS.values()]
-            rows.append(f"| {case['name']} | {source} | {rule_major} ({_verdict(_classify(rule_major, case), case)}) | "
-                        + " | ".join(cells) + f" | {result['seconds'] / 60:.1f} min |")
-        shift_results = {key: future.result() for key, future in shift_futures.items()}
+        shift_results = {}
+        for key, future in shift_futures.items():
+            shift_results[key] = future.result()
+            print(f"finished bulky-base shift: {', '.join(key)} base", file=sys.stderr, flush=True)
     text = ["# elimscan validation table", "",
             "Written by `make validate` (validation/validate.py) from validation/cases.yaml. Each level names the "
             "computed major product, whether it agrees with experiment, and the Curtin-Hammett mix at that level. "
@@ -164,13 +222,21 @@ def main() -> int:
             "'within method uncertainty': different products within 1 kcal/mol at that level.", "", *rows, ""]
     if spec:
         text += ["## The bulky-base shift under each base model", "",
-                 f"2-bromobutane; small base: {spec['small']['base']} ({spec['small']['cation']}+ where paired) in "
-                 f"{spec['small']['solvent']['name']}; bulky base: {spec['bulky']['base']} "
-                 f"({spec['bulky']['cation']}+ where paired) in {spec['bulky']['solvent']['name']}; both in the "
-                 f"dielectric-only continuum; paths: {spec.get('paths', {})}; GFN2-xTB dE mix. Experiment: "
-                 f"{spec['experiment']} ({spec['source']}). Only the sign of the shift is judged.", "",
-                 *shift_rows(spec, shift_results), ""]
-    (HERE / "VALIDATION.md").write_text("\n".join(text))
+                 f"2-bromobutane; small base: {spec['small']['base']} ({spec['small']['cation']}+ where paired); "
+                 f"bulky base: {spec['bulky']['base']} ({spec['bulky']['cation']}+ where paired); paths: "
+                 f"{spec.get('paths', {})}. Experiment: {spec['experiment']} ({spec['source']}). Only the sign of "
+                 "the shift is judged.", ""]
+        for continuum in spec["continua"]:
+            name = continuum["name"]
+            block = {key[1:]: result for key, result in shift_results.items() if key[0] == name}
+            models = continuum.get("models", list(spec["models"]))
+            text += [f"### {name}", "", "GFN2-xTB electronic barriers (dE):", "", *shift_rows(models, block), ""]
+            if continuum.get("dft_models"):
+                text += [f"DFT//GFN2, IEF-PCM at each alcohol's ε (ethanol {spec['small']['dft_epsilon']}, "
+                         f"tert-butanol {spec['bulky']['dft_epsilon']}):", "",
+                         *shift_rows(continuum["dft_models"], block, LEVELS["DFT//GFN2"]), ""]
+    if not args.no_write:
+        (HERE / "VALIDATION.md").write_text("\n".join(text))
     print("\n".join(text))
     return 0
 
