@@ -40,8 +40,12 @@ def write(tmp_path: Path, text: str, name: str = "run.yaml") -> str:
 def test_info_prints_versions():
     done = elimscan("info")
     assert done.returncode == ExitCode.OK
-    for name in ("python", "rdkit", "ase", "numpy", "tblite", "xtb", "sella"):
-        assert name in done.stdout
+    import importlib.metadata as md
+
+    lines = dict(line.split(None, 1) for line in done.stdout.splitlines())
+    for name in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "dask", "distributed", "pyscf"):
+        assert lines[name] == md.version(name)  # the installed distribution's own metadata
+    assert lines["python"] == sys.version.split()[0]
     assert "not installed" not in done.stdout
 
 

@@ -34,11 +34,16 @@ def _versions() -> dict[str, str]:
     import importlib.metadata as md
 
     out = {"elimscan": __version__, "python": platform.python_version()}
-    for dist in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "pydantic"):
+    for dist in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "pydantic", "dask", "distributed"):
         try:
             out[dist] = md.version(dist)
         except md.PackageNotFoundError:
             out[dist] = "not installed"
+    for dist in ("pyscf", "pyscf-dispersion"):  # the optional DFT tier (extra 'dft')
+        try:
+            out[dist] = md.version(dist)
+        except md.PackageNotFoundError:
+            out[dist] = "absent (optional: the DFT tier; pip install 'elimscan[dft]')"
     return out
 
 
@@ -78,7 +83,7 @@ def _read_config(path: str):
 def cmd_info(args: argparse.Namespace) -> int:
     """Print versions of Python and the libraries; return the exit code."""
     for name, version in _versions().items():
-        print(f"{name:<10} {version}")
+        print(f"{name:<17} {version}")
     return ExitCode.OK
 
 
@@ -532,7 +537,8 @@ def build_parser() -> argparse.ArgumentParser:
     common.add_argument("-q", "--quiet", dest="verbosity", action="store_const", const=-1, help="warnings and errors only")
     common.add_argument("--threads", type=int, default=None, help="OpenMP/BLAS threads per process (default: config, else 1)")
     sub = parser.add_subparsers(dest="command", required=True)
-    p = sub.add_parser("info", parents=[common], help="print versions of Python, RDKit, ASE, numpy, the xTB backends, Sella")
+    p = sub.add_parser("info", parents=[common], help="print versions of Python, RDKit, ASE, numpy, the xTB backends, Sella, Dask "
+                                                        "and the optional PySCF")
     p.set_defaults(func=cmd_info)
     p = sub.add_parser("validate", parents=[common], help="check a config without computing")
     p.add_argument("config")
