@@ -11,6 +11,8 @@ tests/test_thermo.py::test_hammett_rho_of_2_arylethyl_bromides_is_positive.
 
 from __future__ import annotations
 
+import csv
+import io
 import json
 import math
 from pathlib import Path
@@ -177,6 +179,17 @@ def test_plot_report_and_result_file(tmp_path):
     text = summary_table(result)
     assert f"rho {series[0].rho:+.2f}" in text and "series para-X" in text
     assert figure_png(series_figure(series[0])).startswith(b"\x89PNG")
+    rows = list(csv.DictReader(io.StringIO(files["series.csv"].decode("utf-8"))))
+    assert [r["substrate"] for r in rows] == list(barriers)
+    for row, point in zip(rows, series[0].points):
+        assert row["status"] == point.status and float(row["sigma"]) == point.sigma
+        if point.status == "ok":  # a member's row carries its own barrier and log10(k/k0)
+            assert float(row["barrier_kcal_mol"]) == pytest.approx(barriers[row["substrate"]], abs=5e-4)
+            assert float(row["log10_k_rel"]) == pytest.approx(point.log10_k_rel, abs=5e-5)
+        else:
+            assert row["barrier_kcal_mol"] == "" and row["note"]
+        assert float(row["rho"]) == pytest.approx(series[0].rho, abs=5e-5)
+    assert "series.csv" not in build_report_files(FIXTURE.parent)  # no series, no file
     # read back through the plain JSON: the series is in the document
     assert json.loads((tmp_path / "results.json").read_text())["series"][0]["points"][2]["status"] == "missing"
 

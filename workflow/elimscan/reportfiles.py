@@ -21,10 +21,11 @@ from elimscan.errors import OutputError
 from elimscan.htmlreport import render_report
 from elimscan.plots import figure_png, figure_svg, job_figures, series_figures
 from elimscan.records import SCHEMA_MODELS, RunResult, json_schema
-from elimscan.tables import summary_csv
+from elimscan.tables import series_csv, summary_csv
 
 RESULTS_FILE = "results.json"
 CSV_FILE = "summary.csv"
+SERIES_CSV_FILE = "series.csv"
 HTML_FILE = "report.html"
 
 
@@ -86,7 +87,7 @@ def load_assets(out_dir: str | Path) -> dict[str, str]:
 
 
 def build_report_files(out_dir: str | Path) -> dict[str, bytes]:
-    """Return {path relative to out_dir: content} for summary.csv, report.html and plots/*.png, rebuilt from results.json."""
+    """Return {path relative to out_dir: content} for summary.csv (series.csv), report.html, plots/*.png from results.json."""
     result = read_result(out_dir)
     figures = _figures(result, read_scan_frames(out_dir, result))
     files: dict[str, bytes] = {}
@@ -95,6 +96,8 @@ def build_report_files(out_dir: str | Path) -> dict[str, bytes]:
         assets[name] = figure_svg(fig)
         files[f"{name}.png"] = figure_png(fig)
     files[CSV_FILE] = summary_csv(result).encode("utf-8")
+    if result.series:
+        files[SERIES_CSV_FILE] = series_csv(result).encode("utf-8")
     files[HTML_FILE] = render_report(result, assets).encode("utf-8")
     return dict(sorted(files.items()))
 

@@ -45,6 +45,26 @@ Columns of ``summary.csv``, in this order (only columns that hold data in this v
 ``error``                             why the job failed (empty for an ok job)
 ====================================  =================================================================================
 
+A config with substituent series also gets ``series.csv`` (:func:`series_csv`), one row per series member:
+
+====================================  =================================================================================
+``series``                            series name from the config
+``base``                              the series' base
+``solvent_model``, ``solvent``        the series' solvent (its own in a batch over several solvents, else the config's)
+``energy_used``                       ``electronic`` (dE‡) or ``free`` (dG‡): which barriers were fitted
+``substrate``                         the member
+``sigma``                             its substituent constant (dimensionless, as in the config)
+``status``                            ``ok`` or ``missing``
+``job_id``                            the member's job (empty when missing)
+``barrier_kcal_mol``                  the job's lowest E2 barrier of the kind in ``energy_used`` (kcal/mol, 3 decimals)
+``barrier_source``                    ``verified saddle`` or ``relaxed-path maximum``
+``path``                              the lowest path: beta-H class and approach
+``log10_k_rel``                       log10(k/k0) from the barriers (4 decimals)
+``rho``, ``r_squared``                the series' fitted slope and r² (4 decimals), on every row of the series; empty
+                                      when too few members have a barrier
+``note``                              why the member is missing (or the series' note)
+====================================  =================================================================================
+
 Rows follow results.json: jobs in order, and within a job the products in the rule's order (major,
 minor, forbidden). A failed job has one row with empty product columns, so no job is silently missing.
 Numbers have fixed formatting and lines end in ``\\n``: the same results.json gives the same bytes.
@@ -167,6 +187,41 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
                          else _yes_no(verdict.within_method_uncertainty),
                          "rule_reason": product.reason, "error": error})
     return rows
+
+
+SERIES_COLUMNS = ("series", "base", "solvent_model", "solvent", "energy_used", "substrate", "sigma", "status", "job_id",
+                  "barrier_kcal_mol", "barrier_source", "path", "log10_k_rel", "rho", "r_squared", "note")
+
+
+def _number(value: float | None, digits: int) -> str:
+    """Return a number with ``digits`` decimals, or '' for none."""
+    return "" if value is None else f"{value:.{digits}f}"
+
+
+def series_rows(result: RunResult) -> list[dict[str, str]]:
+    """Return the rows of series.csv as {column: text}, one per series member (barriers in kcal/mol)."""
+    rows = []
+    for series in result.series:
+        solvent = series.solvent or result.config.method.solvent
+        for point in series.points:
+            rows.append({"series": series.name, "base": series.base, "solvent_model": solvent.model,
+                         "solvent": solvent.name if solvent.model != "none" and solvent.name else "",
+                         "energy_used": series.energy_used, "substrate": point.substrate, "sigma": f"{point.sigma:g}",
+                         "status": point.status, "job_id": point.job_id or "",
+                         "barrier_kcal_mol": _number(point.barrier_kcal_mol, 3),
+                         "barrier_source": point.barrier_source or "", "path": point.path or "",
+                         "log10_k_rel": _number(point.log10_k_rel, 4), "rho": _number(series.rho, 4),
+                         "r_squared": _number(series.r_squared, 4), "note": point.note or series.note or ""})
+    return rows
+
+
+def series_csv(result: RunResult) -> str:
+    """Return series.csv as text: a header and one row per series member (columns in the module docstring)."""
+    buffer = io.StringIO()
+    writer = csv.DictWriter(buffer, fieldnames=SERIES_COLUMNS, lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(series_rows(result))
+    return buffer.getvalue()
 
 
 def summary_csv(result: RunResult) -> str:
