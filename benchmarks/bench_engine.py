@@ -2,7 +2,8 @@
 
 1. median ms per GFN2-xTB energy+gradient, tblite vs xtb-python, at about 15, 35 and 70 atoms (gas phase);
 2. gradients and wall time per constrained dihedral-scan point, ASE BFGS + FixInternals vs Sella;
-3. the cache hit ratio when a relaxation is repeated.
+3. the cache hit ratio when a relaxation is repeated;
+4. the cost of the dielectric-only continuum (ddX-CPCM at tert-butanol's ε) against ALPB(ethanol), tblite.
 Quote ratios, not absolute times: they depend on the machine.
 """
 
@@ -26,9 +27,9 @@ SIZES = {"~15 atoms": "CC(Cl)CC", "~35 atoms": "CCCCCCCCCC(Cl)C", "~70 atoms": "
 REPEATS = 9
 
 
-def median_ms_per_gradient(backend: str, atoms) -> float:
+def median_ms_per_gradient(backend: str, atoms, solvent_model: str = "none", solvent_name: str | None = None) -> float:
     """Return the median wall time (ms) of one energy+gradient on a reused calculator."""
-    engine = XtbEngine(EngineSettings(backend=backend))
+    engine = XtbEngine(EngineSettings(backend=backend, solvent_model=solvent_model, solvent_name=solvent_name))
     calc = engine.calculator()
     times = []
     for k in range(REPEATS):
@@ -89,6 +90,14 @@ def main() -> int:
     relax(atoms, engine.calculator(), ())
     relax(atoms, engine.calculator(), ())
     print(f"hits {engine.stats.hits}, misses {engine.stats.misses}, hit ratio {engine.stats.hit_ratio:.2f}")
+
+    print("\n4. implicit solvent: ms per energy+gradient, tblite, ALPB(ethanol) vs ddX-CPCM(tert-butanol, ε 12.47)")
+    print(f"{'size':<12}{'atoms':>6}{'ALPB ms':>9}{'ddX ms':>9}{'ddX/ALPB':>10}")
+    for label, smiles in (("~15 atoms", "CC(Cl)CC"), ("~30 atoms", "CCCCCCCC(Cl)C"), ("~56 atoms", "CCCCCCCCCCCCCCCC(Cl)C")):
+        atoms = build_molecule(smiles, seed=1).atoms
+        alpb = median_ms_per_gradient("tblite", atoms, "alpb", "ethanol")
+        ddx = median_ms_per_gradient("tblite", atoms, "dielectric", "tert-butanol")
+        print(f"{label:<12}{len(atoms):>6}{alpb:>9.1f}{ddx:>9.1f}{ddx / alpb:>10.1f}")
     return 0
 
 
