@@ -22,7 +22,7 @@ import pytest
 from elimscan.atomicio import temporary_name, write_bytes_atomic
 from elimscan.batch import files_intact, lock_holder
 from elimscan.errors import ExitCode, OutputError
-from elimscan.reportfiles import validate_result_file
+from elimscan.reportfiles import build_report_files, validate_result_file
 from elimscan.store import STORE_FILE, JobStore
 from toyjobs import TOY_SETTINGS, without_timings
 
@@ -259,3 +259,39 @@ def test_a_permission_error_mid_run_keeps_finished_jobs(tmp_path, reference, cap
     resumed = batch(tmp_path)
     assert resumed.returncode == ExitCode.OK, resumed.stderr
     assert numbers(out) == numbers(reference)
+
+
+RUN_CONFIG = TOY_SETTINGS + """\
+name: run-disk-full
+substrates:
+  - {name: chloroethane, smiles: "CCCl"}
+  - {name: 2-chloropropane, smiles: "CC(C)Cl"}
+bases:
+  - {name: methoxide}
+"""
+
+
+def test_a_disk_that_fills_up_during_a_single_run_keeps_its_results(tmp_path):
+    # `run` writes results.json first, then the report; a per-file cap above results.json's size and below
+    # report.html's makes the disk "full" between the two (sizes measured here, not assumed)
+    (tmp_path / "run.yaml").write_text(RUN_CONFIG)
+    whole = elimscan("run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "whole"))
+    assert whole.returncode == ExitCode.OK, whole.stderr
+    results_size = (tmp_path / "whole" / "results.json").stat().st_size
+    report_size = (tmp_path / "whole" / "report.html").stat().st_size
+    assert results_size < report_size
+    out = tmp_path / "full"
+    full = elimscan("run", str(tmp_path / "run.yaml"), "--out", str(out),
+                    preexec_fn=_file_size_limit((results_size + report_size) // 2))
+    assert full.returncode == ExitCode.OUTPUT, full.stderr
+    assert "error (output_error)" in full.stderr and "disk full" in full.stderr and "Traceback" not in full.stderr
+    assert f"elimscan report {out}" in full.stderr  # says how to get the report once there is room
+    assert validate_result_file(out / "results.json") == []
+    assert not (out / "report.html").exists() and not list(out.glob("*.tmp*"))
+    assert without_timings(json.loads((out / "results.json").read_text())["jobs"]) == \
+        without_timings(json.loads((tmp_path / "whole" / "results.json").read_text())["jobs"])
+    rebuilt = elimscan("report", str(out))  # room again: the report comes from the kept results
+    assert rebuilt.returncode == ExitCode.OK, rebuilt.stderr
+    assert (out / "report.html").read_bytes() == build_report_files(out)["report.html"]  # from the kept results
+    assert all(job_id in (out / "report.html").read_text() for job_id in ("chloroethane__methoxide",
+                                                                         "2-chloropropane__methoxide"))

@@ -242,7 +242,13 @@ def cmd_run(args: argparse.Namespace) -> int:
     from elimscan.series import series_records
     from elimscan.trouble import count_trouble
 
-    engine = XtbEngine(EngineSettings.from_method(config.method))
+    test_engine = os.environ.get("ELIMSCAN_TEST_ENGINE_FACTORY")  # test hook, see DEVELOPERS.md
+    if test_engine:
+        from elimscan.workers import load_engine_factory
+
+        engine = load_engine_factory(test_engine)(config.method)
+    else:
+        engine = XtbEngine(EngineSettings.from_method(config.method))
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
     started = time.perf_counter()
 
@@ -293,7 +299,11 @@ def cmd_run(args: argparse.Namespace) -> int:
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
     from elimscan.reportfiles import build_report_files
 
-    _write_files(out, build_report_files(out))
+    try:
+        _write_files(out, build_report_files(out))
+    except OutputError as err:  # the results are safe: say so, and how to get the report later
+        raise OutputError(f"{err}; the results are complete in {out / RESULTS_FILE}: after freeing space, "
+                          f"rebuild the report with: elimscan report {out}") from err
     log.info("%s", summary_table(result))
     for kind, count in result.summary.trouble.items():
         log.warning("numerical trouble recorded as data: %s: %d (see results.json)", kind, count)

@@ -67,7 +67,8 @@ class JobTask:
     engine_factory: str
 
 
-def _load_factory(spec: str) -> Callable:
+def load_engine_factory(spec: str) -> Callable:
+    """Return the engine factory named 'module:function' (called with a MethodConfig, returns an engine)."""
     module, _, name = spec.partition(":")
     return getattr(importlib.import_module(module), name)
 
@@ -84,7 +85,7 @@ def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
         send(("progress", task.key, message if done == DETAIL else f"step {done + 1}/{total}: {message}"))
 
     try:
-        engine = _load_factory(task.engine_factory)(task.config.method)
+        engine = load_engine_factory(task.engine_factory)(task.config.method)
         outcome = run_job(task.substrate, task.base, task.config, engine, task.geometry, progress)
         return ("result", task.key, outcome, None, None, time.perf_counter() - started)
     except ElimscanError as err:
