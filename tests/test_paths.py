@@ -2,6 +2,11 @@
 
 from __future__ import annotations
 
+import json
+import subprocess
+import sys
+from pathlib import Path
+
 import numpy as np
 import pytest
 from ase import Atoms
@@ -17,6 +22,14 @@ from elimscan.toyengine import SpringTorsionEngine
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 BFGS = OptimizerConfig(name="bfgs")
+
+
+def run_job(config: Path, out: Path) -> dict:
+    """Return the first job record of ``elimscan run CONFIG --out OUT`` (GFN2-xTB; fails the test on a bad exit)."""
+    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(out)],
+                          capture_output=True, text=True, timeout=1800)
+    assert done.returncode == 0, done.stderr[-2000:]
+    return json.loads((out / "results.json").read_text())["jobs"][0]
 
 
 def test_base_sits_on_the_extension_of_the_c_h_bond(embed):
@@ -249,9 +262,6 @@ def test_trans_2_methylcyclohexyl_chloride_computed_major_is_3_methylcyclohexene
     # Classic result (Hückel and co-workers on cyclic cis/trans isomers; standard textbooks): only
     # 3-methylcyclohexene. Anti and syn paths of every class compete here, so the syn path of the
     # methine hydrogen could win in principle; it must not.
-    import json
-    import subprocess
-    import sys
 
     from rdkit import Chem
 
@@ -263,10 +273,7 @@ substrates:
 bases:
   - {name: ethoxide}
 """)
-    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "out")],
-                          capture_output=True, text=True, timeout=1800)
-    assert done.returncode == 0, done.stderr[-2000:]
-    job = json.loads((tmp_path / "out" / "results.json").read_text())["jobs"][0]
+    job = run_job(config, tmp_path / "out")
     major = Chem.MolFromSmiles(job["verdict"]["computed_major"])
     assert major.HasSubstructMatch(Chem.MolFromSmarts("[CH3][CH1;R]C=C"))  # 3-methylcyclohexene
     assert job["verdict"]["agreement"] is True
@@ -283,10 +290,7 @@ bases:
 def test_substitution_beats_elimination_for_a_primary_bromide_and_degeneracy_counts_once(tmp_path):
     # Primary substrates with small alkoxides give mainly substitution (standard textbooks, e.g. March's
     # Advanced Organic Chemistry): for bromoethane + methoxide the verified SN2 barrier lies below the E2 one.
-    import json
     import math
-    import subprocess
-    import sys
 
     from scipy.constants import R, calorie
 
@@ -299,10 +303,7 @@ substrates:
 bases:
   - {name: methoxide}
 """)
-    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "out")],
-                          capture_output=True, text=True, timeout=1800)
-    assert done.returncode == 0, done.stderr[-2000:]
-    job = json.loads((tmp_path / "out" / "results.json").read_text())["jobs"][0]
+    job = run_job(config, tmp_path / "out")
     sn2 = job["substitution"]
     assert sn2["saddle_verified"] and sn2["rule_call"] == "substitution"
     assert sn2["product_smiles"] == "CCOC"
@@ -324,10 +325,7 @@ bases:
     assert all(1.0 < k["kh_kd"] < 10.0 for k in ch3["isotope_effects"])
     # the config may let free energies drive the mix: then the shares follow dG, and the job says so
     config.write_text(config.read_text() + "analysis: {energy: free}\n")
-    again = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "free")],
-                           capture_output=True, text=True, timeout=1800)
-    assert again.returncode == 0, again.stderr[-2000:]
-    free_job = json.loads((tmp_path / "free" / "results.json").read_text())["jobs"][0]
+    free_job = run_job(config, tmp_path / "free")
     assert free_job["energy_used"] == "free"
     g_e2 = 3 * math.exp(-free_job["beta_hydrogens"][0]["anti"]["barrier_free_energy_kcal_mol"] / rt)
     g_sn2 = math.exp(-free_job["substitution"]["barrier_free_energy_kcal_mol"] / rt)
@@ -338,9 +336,6 @@ bases:
 def test_substitution_is_blocked_at_a_tertiary_centre(tmp_path):
     # tert-Butyl bromide + methoxide: backside attack at a tertiary carbon is blocked (common practice; standard
     # textbooks): no verified SN2 saddle, or one far (> 3 kcal/mol) above the E2 barrier, and the rule says so.
-    import json
-    import subprocess
-    import sys
 
     config = tmp_path / "tertiary.yaml"
     config.write_text("""name: tertiary
@@ -351,10 +346,7 @@ substrates:
 bases:
   - {name: methoxide}
 """)
-    done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "out")],
-                          capture_output=True, text=True, timeout=1800)
-    assert done.returncode == 0, done.stderr[-2000:]
-    job = json.loads((tmp_path / "out" / "results.json").read_text())["jobs"][0]
+    job = run_job(config, tmp_path / "out")
     sn2 = job["substitution"]
     assert sn2["rule_call"] == "elimination" and "tertiary" in sn2["rule_reason"]
     (ch3,) = job["beta_hydrogens"]
