@@ -59,10 +59,10 @@ def test_the_shift_table_reads_the_1_butene_shares_of_both_bases(validate):
                 for base, job in jobs.items()}
     shift = terminal["tert-butoxide"] - terminal["ethoxide"]
     assert rows[2] == (f"| bare | {terminal['ethoxide']:.0%} | {terminal['tert-butoxide']:.0%} | {shift:+.0%} | "
-                       f"{'yes' if shift > 0 else 'no'} | 10 + 20 min |")
+                       f"{'yes' if shift > 0 else 'no'} | - / - | 10 + 20 min |")  # one start per path: no spread
     failed = validate.shift_rows(["bare"], {("bare", "small"): {"error": "scf_not_converged"}, ("bare", "bulky"): bulky})
-    assert "| bare | - | - | - | scf_not_converged |" in failed[2]
-    assert "| - | - | - | not computed; not computed |" in validate.shift_rows(["bare"], {})[2]
+    assert "| bare | - | - | - | scf_not_converged | - / - |" in failed[2]
+    assert "| - | - | - | not computed; not computed | - / - | - |" in validate.shift_rows(["bare"], {})[2]
     dft = validate.shift_rows(["bare"], {("bare", "small"): small, ("bare", "bulky"): bulky},
                               field="barrier_dft_kcal_mol")
     assert "not computed; not computed" in dft[2]  # the fixture has no DFT barriers
@@ -86,3 +86,16 @@ def test_every_shift_config_is_a_valid_elimscan_config(validate):
         if config.get("dft"):
             assert loaded.dft.enabled and loaded.dft.dielectric_constant == spec[side]["dft_epsilon"]
     assert {key[0] for key, _ in jobs} == {c["name"] for c in spec["continua"]}
+
+
+def test_the_spread_column_shows_the_largest_spread_over_starts(validate):
+    import copy
+
+    document = json.loads((FIXTURE / "halobutane" / "results.json").read_text())
+    job = copy.deepcopy(document["jobs"][0])
+    assert validate.largest_start_spread(job) is None
+    job["beta_hydrogens"][0]["anti"]["start_spread_kcal_mol"] = 0.74
+    job["beta_hydrogens"][-1]["anti"]["start_spread_kcal_mol"] = 1.26
+    assert validate.largest_start_spread(job) == 1.26
+    result = {"job": job, "temperature_K": document["config"]["method"]["temperature_K"]}
+    assert "| 1.3 / 1.3 |" in validate.shift_rows(["bare"], {("bare", "small"): result, ("bare", "bulky"): result})[2]

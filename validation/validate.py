@@ -118,7 +118,8 @@ def _shift_configs(spec: dict) -> list[tuple[tuple[str, str, str], dict]]:
                 resolved = {k: (part["cation"] if v == "cation" else v) for k, v in model.items()}
                 slug = "".join(c if c.isalnum() else "-" for c in f"{continuum[side]['model']}-{model_name}-{side}")
                 config = {"name": f"val-shift-{slug}", "method": {"solvent": continuum[side]},
-                          "substrates": [spec["substrate"]], "paths": spec.get("paths", {}),
+                          "substrates": [spec["substrate"]], "paths": {**spec.get("paths", {}),
+                                                                       **continuum.get("paths", {})},
                           "bases": [{"name": part["base"], **({"model": resolved} if resolved else {})}]}
                 if model_name in continuum.get("dft_models", []):
                     config["dft"] = {**spec["dft"], "dielectric_constant": part["dft_epsilon"]}
@@ -135,26 +136,37 @@ def terminal_share(job: dict, field: str, temperature_K: float) -> float | None:
     return sum(f for s, f in shares.items() if _classify(s, {}) == "terminal")
 
 
+def largest_start_spread(job: dict) -> float | None:
+    """Return the largest spread of path tops over the starts of one approach in a job (kcal/mol), or None."""
+    spreads = [h[a]["start_spread_kcal_mol"] for h in job["beta_hydrogens"] for a in ("anti", "syn")
+               if h[a].get("start_spread_kcal_mol") is not None]
+    return max(spreads) if spreads else None
+
+
 def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> list[str]:
     """Return the Markdown rows of one block of the bulky-base shift table, from runs keyed by (model, side)."""
-    rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? | wall time |",
-            "|---|---|---|---|---|---|"]
+    rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? | "
+            "largest start spread, small / bulky (kcal/mol) | wall time |",
+            "|---|---|---|---|---|---|---|"]
     for model_name in models:
-        got, minutes = {}, []
+        got, minutes, spreads = {}, [], []
         for side in ("small", "bulky"):
             result = results.get((model_name, side), {"error": "not run"})
             got[side] = None if "error" in result else terminal_share(result["job"], field, result["temperature_K"])
+            spread = None if "error" in result else largest_start_spread(result["job"])
+            spreads.append("-" if spread is None else f"{spread:.1f}")
             if "seconds" in result:
                 minutes.append(f"{result['seconds'] / 60:.0f}")
         wall = " + ".join(minutes) + " min" if minutes else "-"
+        spread_cell = " / ".join(spreads)
         if None in got.values():
             why = "; ".join(results.get((model_name, s), {}).get("error", "not computed") for s in ("small", "bulky")
                             if got[s] is None)
-            rows.append(f"| {model_name} | - | - | - | {why} | {wall} |")
+            rows.append(f"| {model_name} | - | - | - | {why} | {spread_cell} | {wall} |")
             continue
         shift = got["bulky"] - got["small"]
         rows.append(f"| {model_name} | {got['small']:.0%} | {got['bulky']:.0%} | {shift:+.0%} | "
-                    f"{'yes' if shift > 0 else 'no'} | {wall} |")
+                    f"{'yes' if shift > 0 else 'no'} | {spread_cell} | {wall} |")
     return rows
 
 
