@@ -137,8 +137,8 @@ def _yes_no(value: bool | None) -> str:
     return "" if value is None else ("yes" if value else "no")
 
 
-def _share(value: float | None) -> str:
-    """Return a fraction (0-1) with 4 decimals, or '' for none."""
+def _four(value: float | None) -> str:
+    """Return a number with 4 decimals (fractions 0-1, log10 k ratios, rho, r^2), or '' for none."""
     return "" if value is None else f"{value:.4f}"
 
 
@@ -179,8 +179,8 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
                          "lowest_barrier_kcal_mol": _barrier(None if best is None else best.barrier_kcal_mol),
                          "lowest_relative_barrier_kcal_mol": _barrier(None if best is None else best.relative_barrier_kcal_mol),
                          "lowest_free_barrier_kcal_mol": _barrier(product_lowest_free_barrier_kcal_mol(job, product)),
-                         "fraction": _share(product.fraction), "fraction_low": _share(low), "fraction_high": _share(high),
-                         "elimination_fraction": _share(job_elimination_fraction(job)),
+                         "fraction": _four(product.fraction), "fraction_low": _four(low), "fraction_high": _four(high),
+                         "elimination_fraction": _four(job_elimination_fraction(job)),
                          "computed_major": _yes_no(computed_major),
                          "agreement": _yes_no(None if verdict is None else verdict.agreement),
                          "within_method_uncertainty": "" if verdict is None or verdict.computed_major is None
@@ -193,11 +193,6 @@ SERIES_COLUMNS = ("series", "base", "solvent_model", "solvent", "energy_used", "
                   "barrier_kcal_mol", "barrier_source", "path", "log10_k_rel", "rho", "r_squared", "note")
 
 
-def _number(value: float | None, digits: int) -> str:
-    """Return a number with ``digits`` decimals, or '' for none."""
-    return "" if value is None else f"{value:.{digits}f}"
-
-
 def series_rows(result: RunResult) -> list[dict[str, str]]:
     """Return the rows of series.csv as {column: text}, one per series member (barriers in kcal/mol)."""
     rows = []
@@ -208,10 +203,10 @@ def series_rows(result: RunResult) -> list[dict[str, str]]:
                          "solvent": solvent.name if solvent.model != "none" and solvent.name else "",
                          "energy_used": series.energy_used, "substrate": point.substrate, "sigma": f"{point.sigma:g}",
                          "status": point.status, "job_id": point.job_id or "",
-                         "barrier_kcal_mol": _number(point.barrier_kcal_mol, 3),
+                         "barrier_kcal_mol": _barrier(point.barrier_kcal_mol),
                          "barrier_source": point.barrier_source or "", "path": point.path or "",
-                         "log10_k_rel": _number(point.log10_k_rel, 4), "rho": _number(series.rho, 4),
-                         "r_squared": _number(series.r_squared, 4), "note": point.note or series.note or ""})
+                         "log10_k_rel": _four(point.log10_k_rel), "rho": _four(series.rho),
+                         "r_squared": _four(series.r_squared), "note": point.note or series.note or ""})
     return rows
 
 
