@@ -146,7 +146,7 @@ def largest_start_spread(job: dict) -> float | None:
 def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> list[str]:
     """Return the Markdown rows of one block of the bulky-base shift table, from runs keyed by (model, side)."""
     rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? | "
-            "largest start spread, small / bulky (kcal/mol) | wall time |",
+            "largest GFN2-xTB start spread, small / bulky (kcal/mol) | wall time |",
             "|---|---|---|---|---|---|---|"]
     for model_name in models:
         got, minutes, spreads = {}, [], []
@@ -178,6 +178,8 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
     parser.add_argument("--only", choices=("cases", "shift"), default=None,
                         help="run only the reference cases or only the bulky-base shift rows (the table is still "
                              "written, with the other part from finished runs in --work or 'not computed')")
+    parser.add_argument("--no-compute", action="store_true",
+                        help="compute nothing: write the table from the finished runs in --work only")
     parser.add_argument("--no-write", action="store_true", help="print the table, do not overwrite VALIDATION.md")
     return parser.parse_args(argv)
 
@@ -199,7 +201,7 @@ def _reuse_only(case: dict, work: Path) -> dict:
     out = work / case["config"]["name"]
     if _finished_same(out, yaml.safe_dump(case["config"])):
         return run_case(case, work)
-    return {"error": "not computed (left out with --only)"}
+    return {"error": "not computed (left out of this validation run)"}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -215,8 +217,8 @@ def main(argv: list[str] | None = None) -> int:
     with tempfile.TemporaryDirectory() as tmp, ThreadPoolExecutor(workers) as pool:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
-        run_cases = run_case if args.only in (None, "cases") else _reuse_only
-        run_shift = run_case if args.only in (None, "shift") else _reuse_only
+        run_cases = run_case if args.only in (None, "cases") and not args.no_compute else _reuse_only
+        run_shift = run_case if args.only in (None, "shift") and not args.no_compute else _reuse_only
         case_futures = [pool.submit(run_cases, case, work) for case in cases]
         shift_futures = {key: pool.submit(run_shift, {"config": config}, work) for key, config in shift_jobs}
         for case, future in zip(cases, case_futures):
