@@ -210,19 +210,20 @@ def series_rows(result: RunResult) -> list[dict[str, str]]:
     return rows
 
 
+def _csv_text(columns: tuple[str, ...], rows: list[dict[str, str]]) -> str:
+    """Return CSV text with a header of ``columns`` and one line per row (lines end in '\\n')."""
+    buffer = io.StringIO()
+    writer = csv.DictWriter(buffer, fieldnames=columns, lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(rows)
+    return buffer.getvalue()
+
+
 def series_csv(result: RunResult) -> str:
     """Return series.csv as text: a header and one row per series member (columns in the module docstring)."""
-    buffer = io.StringIO()
-    writer = csv.DictWriter(buffer, fieldnames=SERIES_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(series_rows(result))
-    return buffer.getvalue()
+    return _csv_text(SERIES_COLUMNS, series_rows(result))
 
 
 def summary_csv(result: RunResult) -> str:
     """Return summary.csv as text: a header and one row per job x product (columns in the module docstring)."""
-    buffer = io.StringIO()
-    writer = csv.DictWriter(buffer, fieldnames=SUMMARY_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(summary_rows(result))
-    return buffer.getvalue()
+    return _csv_text(SUMMARY_COLUMNS, summary_rows(result))
