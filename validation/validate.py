@@ -7,6 +7,10 @@ GFN2-xTB saddles (DFT//GFN2). A second table gives the sign of the bulky-base sh
 2-bromobutane, sodium ethoxide vs potassium tert-butoxide) under each base model. Close calls (different products within 1 kcal/mol at a level) are reported
 as "within method uncertainty" instead of a pick. The mixes at every level come from elimscan's own
 Curtin-Hammett function applied to the barriers in results.json.
+
+Options: ``--work DIR`` keeps every run and reuses finished ones (a long validation survives a stop),
+``--only cases|shift`` runs one part, ``--no-compute`` writes the table from kept runs only, ``--no-write``
+prints it without replacing VALIDATION.md.
 """
 
 from __future__ import annotations
@@ -151,7 +155,7 @@ def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> l
     for model_name in models:
         got, minutes, spreads = {}, [], []
         for side in ("small", "bulky"):
-            result = results.get((model_name, side), {"error": "not run"})
+            result = results.get((model_name, side), {"error": "not computed"})
             got[side] = None if "error" in result else terminal_share(result["job"], field, result["temperature_K"])
             spread = None if "error" in result else largest_start_spread(result["job"])
             spreads.append("-" if spread is None else f"{spread:.1f}")
@@ -160,8 +164,8 @@ def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> l
         wall = " + ".join(minutes) + " min" if minutes else "-"
         spread_cell = " / ".join(spreads)
         if None in got.values():
-            why = "; ".join(results.get((model_name, s), {}).get("error", "not computed") for s in ("small", "bulky")
-                            if got[s] is None)
+            why = "; ".join(results.get((model_name, s), {"error": "not computed"}).get("error", "no mix")
+                            for s in ("small", "bulky") if got[s] is None)
             rows.append(f"| {model_name} | - | - | - | {why} | {spread_cell} | {wall} |")
             continue
         shift = got["bulky"] - got["small"]
