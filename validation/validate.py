@@ -164,7 +164,7 @@ def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> l
         wall = " + ".join(minutes) + " min" if minutes else "-"
         spread_cell = " / ".join(spreads)
         if None in got.values():
-            why = "; ".join(results.get((model_name, s), {"error": "not computed"}).get("error", "no mix")
+            why = "; ".join(results.get((model_name, s), {"error": "not computed"}).get("error", "not computed at this level")
                             for s in ("small", "bulky") if got[s] is None)
             rows.append(f"| {model_name} | - | - | - | {why} | {spread_cell} | {wall} |")
             continue
