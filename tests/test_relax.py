@@ -106,3 +106,57 @@ def test_rigid_rotation_only_for_acyclic_bonds(embed):
     before = ring.positions.copy()
     assert not rotate_to_dihedral(ring, (0, 1, 2, 3), 180.0)
     assert (ring.positions == before).all()
+
+
+class _TurnsNonFinite:
+    """A toy calculator that returns NaN forces from its ``after``-th call on (a numerical breakdown)."""
+
+    def __init__(self, toy, after: int):
+        self.inner, self.after, self.calls = toy.calculator(), after, 0
+
+    def wrap(self):
+        from ase.calculators.calculator import Calculator, all_changes
+
+        outer = self
+
+        class Wrapped(Calculator):
+            implemented_properties = ["energy", "free_energy", "forces"]
+
+            def calculate(self, atoms=None, properties=None, system_changes=all_changes):
+                super().calculate(atoms, properties or ["energy"], system_changes)
+                outer.calls += 1
+                energy = outer.inner.get_property("energy", self.atoms.copy())
+                forces = outer.inner.get_property("forces", self.atoms.copy()).copy()
+                if outer.calls >= outer.after:
+                    forces[0, 0] = np.nan
+                self.results = {"energy": energy, "free_energy": energy, "forces": forces}
+
+        return Wrapped()
+
+
+def test_a_numerical_breakdown_inside_sella_is_a_failed_optimisation(ethane):
+    # seen on 2026-12-02 with ddX-CPCM: a non-finite number reached Sella's Hessian update and scipy raised
+    # ValueError("array must not contain infs or NaNs"), which crashed the whole job instead of one path
+    moved = ethane.copy()
+    moved.positions[2] += (0.3, -0.2, 0.1)  # far from the minimum: several steps are needed
+    calc = _TurnsNonFinite(SpringTorsionEngine(ethane), after=3).wrap()
+    with pytest.raises(OptimizationError, match="sella optimisation failed"):
+        relax(moved, calc, (), OptimizerConfig(name="sella"))
+
+
+def test_a_non_finite_engine_result_is_retried_then_an_engine_error(ethane, monkeypatch):
+    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.errors import EngineError
+
+    class NanSeries:
+        def compute(self, positions_bohr):
+            return float("nan"), np.zeros_like(positions_bohr)
+
+    engine = XtbEngine(EngineSettings())
+    monkeypatch.setattr(engine, "_new_series", lambda *args: NanSeries())
+    with pytest.raises(EngineError, match="non-finite energy or gradient") as caught:
+        engine.single_point(ethane, name="ethane test structure")
+    assert "ethane test structure" in str(caught.value)
+    assert engine.stats.retries == 1  # once more at the higher electronic temperature, as for an SCF failure
+    with pytest.raises(EngineError):  # and a relaxation on it stops with our error, not a scipy one
+        relax(ethane, engine.calculator(name="ethane"), (), OptimizerConfig(name="sella"))

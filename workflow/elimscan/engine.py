@@ -243,7 +243,7 @@ class XtbEngine:
                 if holder is not None:
                     holder.keep_series(numbers, series)
             started = time.perf_counter()
-            energy, gradient = series.compute(positions_bohr)
+            energy, gradient = _finite(*series.compute(positions_bohr))
             self.stats.backend_seconds += time.perf_counter() - started
             return SinglePoint(energy, gradient, self.settings.electronic_temperature_K)
         except EngineError:
@@ -256,7 +256,7 @@ class XtbEngine:
         hot = self.settings.retry_electronic_temperature_K
         try:
             retry = self._new_series(numbers, positions_bohr, charge, uhf, hot)
-            energy, gradient = retry.compute(positions_bohr)
+            energy, gradient = _finite(*retry.compute(positions_bohr))
             return SinglePoint(energy, gradient, hot, retried=True)
         except EngineError:
             raise
@@ -273,6 +273,13 @@ class XtbEngine:
 
     def _new_series(self, numbers: np.ndarray, positions_bohr: np.ndarray, charge: int, uhf: int, etemp: float) -> _Series:
         return _SERIES[self.settings.backend](self.settings, numbers, positions_bohr, charge, uhf, etemp)
+
+
+def _finite(energy: float, gradient: np.ndarray) -> tuple[float, np.ndarray]:
+    """Return the backend's (energy in hartree, gradient in hartree/bohr); raise FloatingPointError if not finite."""
+    if not (np.isfinite(energy) and np.all(np.isfinite(gradient))):
+        raise FloatingPointError("the backend returned a non-finite energy or gradient")
+    return energy, gradient
 
 
 class EngineCalculator(Calculator):

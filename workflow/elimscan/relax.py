@@ -175,17 +175,19 @@ def relax(
         if isinstance(item, HeldDihedral) and constraint_error(work.positions, item, target) > settings.rigid_rotation_above_deg:
             rotate_to_dihedral(work, item.atoms, target)  # rings cannot rotate rigidly: left to the projection
     optimizer, fmax_eV_per_A, max_steps = settings.name, settings.fmax_eV_per_A, settings.max_steps
+    if optimizer not in ("bfgs", "sella"):
+        raise ValueError(f"unknown optimizer '{optimizer}' (choose bfgs or sella)")
     try:
         if optimizer == "bfgs":
             steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
-        elif optimizer == "sella":
-            steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
         else:
-            raise ValueError(f"unknown optimizer '{optimizer}' (choose bfgs or sella)")
+            steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
         energy = work.get_potential_energy() / EV_PER_HARTREE
     except EngineError:
         raise
-    except (np.linalg.LinAlgError, RuntimeError, FloatingPointError) as err:
+    # numerical breakdown inside the optimiser (e.g. Sella's Hessian update meeting a non-finite number ends
+    # in scipy's ValueError "array must not contain infs or NaNs"): a failed optimisation, recorded as data
+    except (np.linalg.LinAlgError, RuntimeError, FloatingPointError, ValueError) as err:
         raise OptimizationError(f"{optimizer} optimisation failed: {err}") from err
     error = max((constraint_error(work.positions, h, t) for h, t in zip(held, targets)), default=0.0)
     if raise_on_step_limit and not converged:
