@@ -33,17 +33,14 @@ def _versions() -> dict[str, str]:
     """Return versions of Python and the libraries elimscan relies on (without loading the backends)."""
     import importlib.metadata as md
 
+    optional = dict.fromkeys(("pyscf", "pyscf-dispersion"),  # the optional DFT tier (extra 'dft')
+                             "absent (optional: the DFT tier; pip install 'elimscan[dft]')")
     out = {"elimscan": __version__, "python": platform.python_version()}
-    for dist in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "pydantic", "dask", "distributed"):
+    for dist in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "pydantic", "dask", "distributed", *optional):
         try:
             out[dist] = md.version(dist)
         except md.PackageNotFoundError:
-            out[dist] = "not installed"
-    for dist in ("pyscf", "pyscf-dispersion"):  # the optional DFT tier (extra 'dft')
-        try:
-            out[dist] = md.version(dist)
-        except md.PackageNotFoundError:
-            out[dist] = "absent (optional: the DFT tier; pip install 'elimscan[dft]')"
+            out[dist] = optional.get(dist, "not installed")
     return out
 
 

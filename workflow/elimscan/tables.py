@@ -142,6 +142,11 @@ def _four(value: float | None) -> str:
     return "" if value is None else f"{value:.4f}"
 
 
+def _solvent_cells(solvent: SolventConfig) -> dict[str, str]:
+    """Return the solvent_model and solvent columns of a CSV row (solvent empty for gas phase)."""
+    return {"solvent_model": solvent.model, "solvent": solvent.name if solvent.model != "none" and solvent.name else ""}
+
+
 def job_solvent(result: RunResult, job: JobRecord) -> SolventConfig:
     """Return a job's implicit solvent: its own (a batch over several solvents) or else the config's method.solvent."""
     return getattr(job, "solvent", None) or result.config.method.solvent
@@ -159,7 +164,7 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
             "substrate_smiles": smiles.get(job.substrate, ""), "base": job.base,
             "base_bulky": "" if job.base_info is None else ("yes" if job.base_info.bulky else "no"),
             "leaving_group": "" if job.leaving_group is None else job.leaving_group.label,
-            "solvent_model": solvent.model, "solvent": solvent.name if solvent.model != "none" and solvent.name else "",
+            **_solvent_cells(solvent),
         }
         error = "" if job.error is None else f"{job.error.error_type}: {job.error.error_message}"
         empty = dict.fromkeys(SUMMARY_COLUMNS[len(head):], "")
@@ -199,8 +204,7 @@ def series_rows(result: RunResult) -> list[dict[str, str]]:
     for series in result.series:
         solvent = series.solvent or result.config.method.solvent
         for point in series.points:
-            rows.append({"series": series.name, "base": series.base, "solvent_model": solvent.model,
-                         "solvent": solvent.name if solvent.model != "none" and solvent.name else "",
+            rows.append({"series": series.name, "base": series.base, **_solvent_cells(solvent),
                          "energy_used": series.energy_used, "substrate": point.substrate, "sigma": f"{point.sigma:g}",
                          "status": point.status, "job_id": point.job_id or "",
                          "barrier_kcal_mol": _barrier(point.barrier_kcal_mol),
