@@ -25,6 +25,7 @@ import pytest
 from elimscan.batch import (BatchOptions, FolderLock, files_intact, job_key, lock_holder,
                             plan_batch, read_status, read_substrate_file, run_batch)
 from elimscan.config import parse_config
+from elimscan.engine import CacheStats
 from elimscan.errors import ConfigError, EngineError, ExitCode, OutputError, StructureError
 from elimscan.store import STORE_FILE, JobStore, StoredJob
 from toyjobs import TOY_SETTINGS, without_timings
@@ -371,6 +372,7 @@ class _ScriptedEngine:
 
     def __init__(self, behaviour: str):
         self.behaviour = behaviour
+        self.stats = CacheStats()
 
     def _act(self):
         if self.behaviour == "hang":

@@ -152,8 +152,10 @@ def test_cache_returns_the_same_numbers_without_calling_the_backend(embed):
     moved = atoms.copy()
     moved.positions[0, 0] += 1e-3
     assert engine.single_point(moved).energy_hartree != first.energy_hartree
-    # a different charge is a different key
     assert engine.stats.misses == 2
+    # a different charge is a different key: the cation of the same geometry is computed, not looked up
+    cation = engine.single_point(atoms, charge=1, multiplicity=2)
+    assert engine.stats.misses == 3 and cation.energy_hartree != first.energy_hartree
 
 
 def test_reused_calculator_gives_the_same_energy_as_a_fresh_one(embed):

@@ -113,3 +113,22 @@ def test_a_job_stuck_in_one_stage_is_stopped_at_the_stage_limit(tmp_path, capsys
     assert "longer than the stage time limit of 4 s in step 2/2: base 'methoxide'" in error["error_message"]
     assert document["summary"]["trouble"] == {"job failed: stage_time_limit": 1}
     assert "Traceback" not in err
+
+
+def test_single_points_kept_at_the_retry_temperature_are_counted_per_job_and_in_the_summary(
+        tmp_path, capsys, monkeypatch):
+    # Such a point lies on a smeared surface (see test_engine_xtb.py for the restart that usually avoids it):
+    # a batch counts it on the job that computed it, a single run over the whole run.
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, engine="toyjobs:hot_point_engine",
+                                    ELIMSCAN_TOY_HOT_ON="chloroethane")
+    assert code == ExitCode.OK, err
+    counts = {job["job_id"]: job["retry_temperature_points"] for job in document["jobs"]}
+    assert counts["chloroethane__methoxide"] > 0 and counts["2-bromobutane__methoxide"] == 0
+    key = "single point at retry electronic temperature"
+    assert document["summary"]["trouble"] == {key: counts["chloroethane__methoxide"]}
+    assert key in err  # and the log says so
+    (tmp_path / "run.yaml").write_text(CONFIG)
+    assert main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "single")]) == ExitCode.OK
+    single = json.loads((tmp_path / "single" / "results.json").read_text())
+    assert single["summary"]["trouble"][key] > 0
+    assert all(job["retry_temperature_points"] == 0 for job in single["jobs"])  # one engine: run-wide only

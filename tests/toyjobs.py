@@ -154,3 +154,20 @@ def without_timings(value):
     if isinstance(value, list):
         return [without_timings(v) for v in value]
     return value
+
+
+class _HotPointEngine(ToyJobEngine):
+    """A toy engine that counts every computed geometry of structures named with ELIMSCAN_TOY_HOT_ON as a single
+    point kept at the retry electronic temperature (as ``XtbEngine`` does when even the restart fails)."""
+
+    def check(self, name: str) -> None:
+        """Count a kept hot single point for structures whose name contains the word."""
+        super().check(name)
+        word = os.environ.get("ELIMSCAN_TOY_HOT_ON")
+        if word and word in name:
+            self.stats.hot_points += 1
+
+
+def hot_point_engine(method) -> ToyJobEngine:
+    """Engine factory of the retry-temperature tests: see ``_HotPointEngine``."""
+    return _HotPointEngine()

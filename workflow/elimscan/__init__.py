@@ -1,3 +1,3 @@
 """elimscan: GFN2-xTB barriers for every beta hydrogen of an E2 elimination, beside the geometric rule."""
 
-__version__ = "0.6.0"
+__version__ = "0.6.1"

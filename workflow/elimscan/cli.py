@@ -290,7 +290,8 @@ def cmd_run(args: argparse.Namespace) -> int:
             backend_version=backend_version(config.method.backend), method_label=engine.label),
         config=config, seeds=Seeds(rdkit_embedding=config.seed), molecules=tuple(molecules), jobs=tuple(jobs),
         summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
-                           n_molecules_failed=sum(m.status != "ok" for m in molecules), trouble=count_trouble(jobs)),
+                           n_molecules_failed=sum(m.status != "ok" for m in molecules),
+                           trouble=count_trouble(jobs, engine.stats.hot_points)),
         series=series_records(config.series, jobs, config.method.temperature_K, config.analysis.energy),
     )
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")

@@ -111,6 +111,8 @@ DIELECTRIC_INTERACTION: tuple[str, str | None] = ("ddX-solvation", "cpcm")
 class _Series(Protocol):
     def compute(self, positions_bohr: np.ndarray) -> tuple[float, np.ndarray]: ...
 
+    def set_electronic_temperature(self, kelvin: float) -> None: ...
+
 
 class _TbliteSeries:
     """A tblite calculator for one molecule, restarting each SCF from the previous wavefunction."""
@@ -134,6 +136,10 @@ class _TbliteSeries:
         self._calc.update(positions_bohr)
         self._result = self._calc.singlepoint(self._result) if self._result is not None else self._calc.singlepoint()
         return float(self._result.get("energy")), np.array(self._result.get("gradient"))
+
+    def set_electronic_temperature(self, kelvin: float) -> None:
+        """Set the Fermi smearing temperature (K) of the next SCF, which restarts from the last wavefunction."""
+        self._calc.set("temperature", kelvin * BOLTZMANN_HARTREE_PER_K)
 
 
 class _XtbPythonSeries:
@@ -163,6 +169,10 @@ class _XtbPythonSeries:
         self._result = self._calc.singlepoint(self._result) if self._result is not None else self._calc.singlepoint()
         return float(self._result.get_energy()), np.array(self._result.get_gradient())
 
+    def set_electronic_temperature(self, kelvin: float) -> None:
+        """Set the Fermi smearing temperature (K) of the next SCF, which restarts from the last wavefunction."""
+        self._calc.set_electronic_temperature(kelvin)
+
 
 _SERIES = {"tblite": _TbliteSeries, "xtb": _XtbPythonSeries}
 
@@ -174,6 +184,8 @@ class CacheStats:
     hits: int = 0
     misses: int = 0
     retries: int = 0
+    #: retried single points kept at the retry electronic temperature (the restart at the normal one failed)
+    hot_points: int = 0
     #: wall time spent inside the xTB library (s)
     backend_seconds: float = 0.0
 
@@ -257,7 +269,6 @@ class XtbEngine:
         try:
             retry = self._new_series(numbers, positions_bohr, charge, uhf, hot)
             energy, gradient = _finite(*retry.compute(positions_bohr))
-            return SinglePoint(energy, gradient, hot, retried=True)
         except EngineError:
             raise
         except Exception as err:
@@ -270,6 +281,22 @@ class XtbEngine:
                     f"SCF did not converge for {where}, also on retry at electronic temperature {hot:g} K: {text}"
                 ) from err
             raise EngineError(f"xTB calculation failed for {where}: {text}") from err
+        return self._back_to_normal_temperature(retry, positions_bohr, SinglePoint(energy, gradient, hot, retried=True))
+
+    def _back_to_normal_temperature(self, series: _Series, positions_bohr: np.ndarray, hot: SinglePoint) -> SinglePoint:
+        """Return the point at the normal electronic temperature, restarted from the converged hot wavefunction.
+
+        A point smeared at the retry temperature lies on a different energy surface; it is kept (and counted
+        in ``stats.hot_points``) only when the restart at the normal temperature fails too.
+        """
+        normal = self.settings.electronic_temperature_K
+        try:
+            series.set_electronic_temperature(normal)
+            energy, gradient = _finite(*series.compute(positions_bohr))
+        except Exception:  # the hot point is the best there is: kept, and counted as numerical trouble
+            self.stats.hot_points += 1
+            return hot
+        return SinglePoint(energy, gradient, normal, retried=True)
 
     def _new_series(self, numbers: np.ndarray, positions_bohr: np.ndarray, charge: int, uhf: int, etemp: float) -> _Series:
         return _SERIES[self.settings.backend](self.settings, numbers, positions_bohr, charge, uhf, etemp)

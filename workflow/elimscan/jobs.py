@@ -39,9 +39,11 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
             geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
     """Return the outcome of one job in ``config.method.solvent``; known failures are inside the record, not raised.
 
-    The job's solvent is recorded on its job record and on both molecule records.
+    The job's solvent is recorded on its job record and on both molecule records, and so is the number of
+    single points the engine had to keep at the retry electronic temperature while running it.
     """
     one = single_job_config(config, substrate, base)
+    hot_before = engine.stats.hot_points
     outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
     analysis = outcome.substrates[substrate.name]
     files: dict[str, bytes] = {}
@@ -57,5 +59,6 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
     record = job_record(substrate, base, outcome, one)
     files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), engine.label))
     solvent = {"solvent": one.method.solvent}
+    record = record.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before})
     return JobOutcome(record.model_copy(update=solvent),
                       (substrate_record.model_copy(update=solvent), base_record.model_copy(update=solvent)), files)

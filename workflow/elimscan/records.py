@@ -16,12 +16,13 @@ from pydantic import BaseModel, ConfigDict, Field
 from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 
 RESULT_SCHEMA_NAME = "elimscan.result"
+#: 0.6.1 added one optional field (jobs[].retry_temperature_points and its summary.trouble entry).
 #: 0.6.0 added optional fields only (DFT single points, substituent series, base models, path starts and their
 #: combination, summary.trouble; config keys dft, series, solvent model dielectric, base models, stage limits).
 #: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
 #: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
 #: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
-RESULT_SCHEMA_VERSION = "0.6.0"
+RESULT_SCHEMA_VERSION = "0.6.1"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
@@ -348,6 +349,10 @@ class JobRecord(_Record):
     energy_used: Literal["electronic", "free"] = Field("electronic", description="which barriers drive the product mix")
     substitution: SubstitutionRecord | None = None
     dft: DftJobRecord | None = Field(None, description="optional DFT single-point tier; null: not asked for")
+    retry_temperature_points: int = Field(0, ge=0, description=(
+        "GFN2-xTB single points of this job kept at method.retry_electronic_temperature_K because the SCF "
+        "failed at the normal temperature, both first and when restarted from the retry's converged "
+        "wavefunction; counted per job in batches (one engine per job), run-wide in summary.trouble otherwise"))
 
 
 class SeriesPointRecord(_Record):
@@ -394,14 +399,15 @@ class RunSummary(_Record):
     trouble: dict[str, int] = Field(default_factory=dict, description=(
         "numerical trouble recorded as data, counted over the jobs: 'job failed: <error_type>', 'path failed: "
         "<error_type>' (one anti or syn path of a beta-H class), 'saddle not verified' (refinement collapsed or "
-        "wrong imaginary modes; the barrier is the relaxed-path maximum), 'scan point failed', 'scan point above cap'"))
+        "wrong imaginary modes; the barrier is the relaxed-path maximum), 'scan point failed', 'scan point above cap', 'single point at retry electronic temperature' (SCF "
+        "converged only with the retry's Fermi smearing: that energy lies on a smeared surface)"))
 
 
 class RunResult(_Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds

@@ -16,10 +16,19 @@ from elimscan.records import JobRecord
 _NOT_ATTEMPTED = "not refined"
 
 
-def count_trouble(jobs: Iterable[JobRecord]) -> dict[str, int]:
-    """Return {kind of trouble: count} over the jobs, sorted by kind; {} when nothing went wrong."""
+#: the summary.trouble key of single points kept at the retry electronic temperature
+RETRY_TEMPERATURE = "single point at retry electronic temperature"
+
+
+def count_trouble(jobs: Iterable[JobRecord], retry_temperature_points: int = 0) -> dict[str, int]:
+    """Return {kind of trouble: count} over the jobs, sorted by kind; {} when nothing went wrong.
+
+    ``retry_temperature_points`` adds the run-wide count of a single run (one engine for all its jobs).
+    """
     counts: Counter[str] = Counter()
+    counts[RETRY_TEMPERATURE] += retry_temperature_points
     for job in jobs:
+        counts[RETRY_TEMPERATURE] += job.retry_temperature_points
         if job.status != "ok":
             counts[f"job failed: {job.error.error_type if job.error else 'failed'}"] += 1
             continue
@@ -37,4 +46,4 @@ def count_trouble(jobs: Iterable[JobRecord]) -> dict[str, int]:
                         counts["scan point failed"] += 1
                     elif point.status == "above_cap":
                         counts["scan point above cap"] += 1
-    return dict(sorted(counts.items()))
+    return dict(sorted((kind, n) for kind, n in counts.items() if n))
