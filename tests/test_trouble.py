@@ -132,3 +132,19 @@ def test_single_points_kept_at_the_retry_temperature_are_counted_per_job_and_in_
     single = json.loads((tmp_path / "single" / "results.json").read_text())
     assert single["summary"]["trouble"][key] > 0
     assert all(job["retry_temperature_points"] == 0 for job in single["jobs"])  # one engine: run-wide only
+
+
+def test_an_scf_failure_in_the_base_hessian_fails_the_base_and_keeps_the_run(tmp_path, capsys, monkeypatch):
+    # A single run (one engine for all jobs): the failure is recorded on the base and on its jobs, naming the
+    # base; nothing else is lost and results.json is written.
+    monkeypatch.setenv("ELIMSCAN_TEST_ENGINE_FACTORY", "toyjobs:toy_engine")
+    monkeypatch.setenv("ELIMSCAN_TOY_FAIL_SCF", "base 'methoxide' hessian")
+    (tmp_path / "run.yaml").write_text(CONFIG)
+    code = main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "out")])
+    assert code == ExitCode.JOBS_FAILED, capsys.readouterr().err
+    document = json.loads((tmp_path / "out" / "results.json").read_text())
+    base = next(m for m in document["molecules"] if m["role"] == "base")
+    assert base["status"] == "failed" and base["error"]["error_type"] == "scf_not_converged"
+    assert all(m["status"] == "ok" for m in document["molecules"] if m["role"] == "substrate")
+    assert [j["status"] for j in document["jobs"]] == ["failed", "failed"]
+    assert all("methoxide" in j["error"]["error_message"] for j in document["jobs"])

@@ -35,7 +35,7 @@ class MinimumHessian:
 
 def minimum_hessian(atoms: Atoms, energy_hartree: float, engine, charge: int, multiplicity: int,
                     step_A: float, name: str = "minimum") -> MinimumHessian:
-    """Return the finite-difference Hessian of a relaxed structure."""
+    """Return the finite-difference Hessian (eV/Å²) of a relaxed structure with its energy (hartree)."""
     hessian, n = finite_difference_hessian(atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"), step_A)
     return MinimumHessian(atoms.copy(), energy_hartree, hessian, n)
 

@@ -287,10 +287,14 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
             on_progress(step, total, f"base '{item.name}' ({item.smiles})")
         relaxed, info = relax_base(item, engine, config)
         minimum = None
-        if relaxed.atoms is not None:
-            minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, engine, relaxed.record.charge,
-                                      relaxed.record.multiplicity, config.paths.saddle.hessian_step_A,
-                                      name=f"base '{item.name}'")
+        if relaxed.record.status == "ok":  # a failed base (not relaxed, or not converged) gets no Hessian
+            try:
+                minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, engine, relaxed.record.charge,
+                                          relaxed.record.multiplicity, config.paths.saddle.hessian_step_A,
+                                          name=f"base '{item.name}'")
+            except ElimscanError as err:  # as for a substrate: the molecule fails, its jobs say why
+                failed = relaxed.record.model_copy(update={"status": "failed", "error": error_info(err)})
+                relaxed, info = RelaxedMolecule(failed, relaxed.atoms), None
         outcome.bases[item.name] = BaseAnalysis(relaxed, info, minimum)
     for step, (substrate_cfg, base_cfg) in enumerate(jobs):
         analysis, base = outcome.substrates[substrate_cfg.name], outcome.bases[base_cfg.name]
