@@ -16,7 +16,7 @@ from elimscan.config import (BaseConfig, MethodConfig, OptimizerConfig, PathConf
                              SubstrateConfig)
 from elimscan.geometry import distance
 from elimscan.hessian import finite_difference_hessian, harmonic_analysis
-from elimscan.paths import ComplexResult, PathPoint, Reactive, drive_path, place_base
+from elimscan.paths import UNFINISHED_MAXIMUM, ComplexResult, PathPoint, Reactive, drive_path, path_flags, place_base
 from elimscan.relax import relax
 from elimscan.toyengine import SpringTorsionEngine
 from elimscan.units import KCAL_MOL_PER_HARTREE
@@ -82,10 +82,21 @@ def test_drive_path_steps_the_combined_coordinate(embed):
         assert p.distances["base_h_A"] == pytest.approx(distance(p.atoms.positions, reactive.base, reactive.h))
 
 
-def _point(c_beta_h, base_h, c_alpha_x, base_c_alpha, phi=180.0):
-    atoms = Atoms("H")
-    return PathPoint(0.0, 0.0, atoms, True, {"c_beta_h_A": c_beta_h, "base_h_A": base_h, "c_alpha_x_A": c_alpha_x,
-                                              "base_c_alpha_A": base_c_alpha})
+def _point(energy, c_alpha_x, base_h, converged=True):
+    """Return a path point whose H0-C1-C2-X3 dihedral is 180 degrees and base (atom 4) is far away."""
+    atoms = Atoms("H5", positions=[(0, 1, 0), (0, 0, 0), (1.5, 0, 0), (1.5, -1, 0), (-3, 3, 0)])
+    return PathPoint(0.0, energy, atoms, converged, {"c_beta_h_A": 1.1, "base_h_A": base_h, "c_alpha_x_A": c_alpha_x,
+                                                     "base_c_alpha_A": 3.0})
+
+
+def test_a_path_maximum_that_did_not_finish_relaxing_is_flagged():
+    # An unfinished constrained relaxation lies above its relaxed energy, so such a maximum is an upper bound.
+    reactive = Reactive(0, 1, 2, 3, 4)
+    path = [_point(0.0, 1.9, 2.0), _point(0.01, 2.3, 1.3), _point(-0.02, 3.4, 0.98)]
+    assert path_flags(path, 1, reactive, (), False) == ()
+    path[1] = _point(0.01, 2.3, 1.3, converged=False)
+    assert path_flags(path, 1, reactive, (), False) == (UNFINISHED_MAXIMUM,)
+    assert "end point" in path_flags(path, 2, reactive, (), False)[0]
 
 
 def test_sides_and_flags_from_key_distances():

@@ -50,6 +50,22 @@ def test_toy_relaxation_holds_a_distance_and_a_distance_combination(ethane):
     assert moved.max_constraint_error < 1e-4
 
 
+def test_a_reused_calculator_is_restored_after_each_relaxation(ethane):
+    # Scans and paths relax many points with one calculator: each relaxation counts only its own calls and
+    # leaves the calculator as it found it (no wrapper stacked per point).
+    toy = SpringTorsionEngine(ethane)
+    calc = toy.calculator()
+    moved = ethane.copy()
+    moved.positions[2] += (0.2, 0.0, 0.0)
+    first = relax(moved, calc, (), BFGS)
+    assert "calculate" not in vars(calc)
+    before = toy.stats.misses
+    second = relax(moved, calc, (), BFGS)
+    assert "calculate" not in vars(calc)
+    assert first.n_gradients > 1 and second.n_gradients == first.n_gradients
+    assert toy.stats.misses - before == second.n_gradients
+
+
 def test_sella_refuses_a_distance_combination(ethane):
     toy = SpringTorsionEngine(ethane)
     with pytest.raises(OptimizationError, match="linear combination"):

@@ -5,7 +5,8 @@ the summary counts it.
 The batches compute on the toy engine of ``toyjobs.py`` (the test hook ELIMSCAN_TEST_ENGINE_FACTORY), which
 scripts the trouble: ELIMSCAN_TOY_FAIL_SCF makes named structures raise the ScfConvergenceError that the
 GFN2-xTB engine raises once its retry has failed too (that retry is tested on the real backend in
-test_cli.py); ELIMSCAN_TOY_STRETCH gives every relaxation work to do, so a small step limit is reached.
+test_cli.py); ELIMSCAN_TOY_STRETCH gives relaxations work to do (all, or those named with
+ELIMSCAN_TOY_STRETCH_ON), so a small step limit is reached.
 """
 
 from __future__ import annotations
@@ -81,7 +82,8 @@ def test_an_scf_failure_on_one_path_is_recorded_there_and_the_rest_goes_on(tmp_p
 
 def test_relaxations_at_their_step_limit_are_failed_scan_points_counted_in_the_summary(tmp_path, capsys, monkeypatch):
     text = CONFIG.replace("fmax_eV_per_A: 0.05}", "fmax_eV_per_A: 0.05, max_steps: 2}")
-    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text, ELIMSCAN_TOY_STRETCH="1.05")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text, ELIMSCAN_TOY_STRETCH="1.05",
+                                    ELIMSCAN_TOY_STRETCH_ON="scan")  # conformers that did not converge are dropped
     assert code == ExitCode.OK, err
     points = [p for j in document["jobs"] for b in j["beta_hydrogens"] for s in b["scans"] for p in s["points"]]
     n_failed = sum(p["status"] == "failed" for p in points)
@@ -89,6 +91,17 @@ def test_relaxations_at_their_step_limit_are_failed_scan_points_counted_in_the_s
     assert document["summary"]["trouble"].get("scan point failed") == n_failed
     notes = [n for j in document["jobs"] for b in j["beta_hydrogens"] for s in b["scans"] for n in s["notes"]]
     assert any("optimisation hit its step limit" in n for n in notes), notes
+
+
+def test_conformers_that_did_not_finish_relaxing_are_not_kept(tmp_path, capsys, monkeypatch):
+    # An unfinished relaxation is no minimum: it must not join the ensemble (nor set the zero of the barriers).
+    text = CONFIG.replace("fmax_eV_per_A: 0.05}", "fmax_eV_per_A: 0.05, max_steps: 2}")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text, ELIMSCAN_TOY_STRETCH="1.05",
+                                    ELIMSCAN_TOY_STRETCH_ON="conformer")
+    assert code == ExitCode.JOBS_FAILED, err
+    for job in document["jobs"]:
+        assert job["status"] == "failed" and job["error"]["error_type"] == "optimization_failed"
+        assert "none of" in job["error"]["error_message"] and "did not converge" in job["error"]["error_message"]
 
 
 def test_scan_points_above_the_cap_are_counted(tmp_path, capsys, monkeypatch):

@@ -33,24 +33,28 @@ class _LazyToyCalculator(Calculator):
         super().calculate(atoms, properties or ["energy"], system_changes)
         self.owner.check(self.structure)
         if self.model is None:
-            self.model = SpringTorsionEngine(self.owner.reference(self.atoms), stats=self.owner.stats)
+            self.model = SpringTorsionEngine(self.owner.reference(self.atoms, self.structure), stats=self.owner.stats)
         energy, forces = self.model.energy_forces(self.atoms.positions)
         self.results = {"energy": energy, "free_energy": energy, "forces": forces}
 
 
 class ToyJobEngine:
     """Engine stand-in with XtbEngine's interface; optional trouble: an SCF failure for names containing a word,
-    and a ``stretch`` > 1 that puts every model's minimum away from the geometry it is built from (so each
-    relaxation has work to do and a small optimizer.max_steps is reached)."""
+    and a ``stretch`` > 1 that puts a model's minimum away from the geometry it is built from (so each
+    relaxation has work to do and a small optimizer.max_steps is reached), for every model or only for
+    structures whose name contains ``stretch_on``."""
 
-    def __init__(self, fail_scf_on: str | None = None, stretch: float = 1.0):
+    def __init__(self, fail_scf_on: str | None = None, stretch: float = 1.0, stretch_on: str | None = None):
         self.stats = CacheStats()
         self.fail_scf_on = fail_scf_on
         self.stretch = stretch
+        self.stretch_on = stretch_on
 
-    def reference(self, atoms):
+    def reference(self, atoms, name: str = ""):
         """Return the geometry a new toy model is built on: ``atoms`` scaled about its centre by ``stretch``."""
         reference = atoms.copy()
+        if self.stretch_on and self.stretch_on not in name:
+            return reference
         centre = reference.positions.mean(axis=0)
         reference.positions = centre + self.stretch * (reference.positions - centre)
         return reference
@@ -72,14 +76,16 @@ class ToyJobEngine:
     def single_point(self, atoms, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> SinglePoint:
         """Return the toy energy (hartree) and gradient (hartree/bohr) of a geometry (model built from it)."""
         self.check(name)
-        return SpringTorsionEngine(self.reference(atoms), stats=self.stats).single_point(atoms)
+        return SpringTorsionEngine(self.reference(atoms, name), stats=self.stats).single_point(atoms)
 
 
 def toy_engine(method) -> ToyJobEngine:
     """Engine factory of the batch tests: a toy engine; ELIMSCAN_TOY_FAIL_SCF=word scripts SCF failures,
-    ELIMSCAN_TOY_STRETCH=factor moves the models' minima (see ToyJobEngine)."""
+    ELIMSCAN_TOY_STRETCH=factor moves the models' minima, of structures named with ELIMSCAN_TOY_STRETCH_ON=word
+    only if set (see ToyJobEngine)."""
     return ToyJobEngine(os.environ.get("ELIMSCAN_TOY_FAIL_SCF") or None,
-                        float(os.environ.get("ELIMSCAN_TOY_STRETCH", "1.0")))
+                        float(os.environ.get("ELIMSCAN_TOY_STRETCH", "1.0")),
+                        os.environ.get("ELIMSCAN_TOY_STRETCH_ON") or None)
 
 
 class _BuggyEngine(ToyJobEngine):

@@ -189,7 +189,8 @@ def build_ensemble(
         if on_progress is not None:
             on_progress(k, len(candidates), f"relaxing conformer {k + 1} of {name} ({source})")
         try:
-            result = relax(atoms, engine.calculator(charge, multiplicity, name=f"{name} conformer {k}"), (), optimizer)
+            result = relax(atoms, engine.calculator(charge, multiplicity, name=f"{name} conformer {k}"), (), optimizer,
+                           raise_on_step_limit=True)  # an unfinished relaxation is no conformer (nor a minimum)
         except ElimscanError as err:
             failures.append(f"conformer {k} ({source}): {err}")
             first_error = first_error or err

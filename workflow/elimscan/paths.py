@@ -13,7 +13,7 @@ no file I/O.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -391,14 +391,27 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
                         "one imaginary mode; connects the reactant complex with the products", mode, hessian)
 
 
-def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, other_hydrogens: tuple[int, ...],
-               syn: bool) -> tuple[str, ...]:
-    """Return warnings about competing outcomes read from the path's end and maximum geometries."""
+#: flag of a path whose highest point was not relaxed to the convergence limit
+UNFINISHED_MAXIMUM = ("the path maximum is an unfinished relaxation (optimizer.max_steps reached): its energy is "
+                      "an upper bound")
+
+
+def maximum_flags(points: Sequence[PathPoint], maximum_index: int) -> list[str]:
+    """Return warnings about the path maximum itself: an end point, or an unfinished relaxation."""
     flags = []
-    end = points[-1]
-    d = end.distances
     if maximum_index in (0, len(points) - 1):
         flags.append("no interior maximum along the path: the estimate is an end point")
+    if not points[maximum_index].converged:
+        flags.append(UNFINISHED_MAXIMUM)
+    return flags
+
+
+def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, other_hydrogens: tuple[int, ...],
+               syn: bool) -> tuple[str, ...]:
+    """Return warnings about the maximum and about competing outcomes read from the path's end geometry."""
+    flags = maximum_flags(points, maximum_index)
+    end = points[-1]
+    d = end.distances
     if d["base_h_A"] <= 1.15 and d["c_alpha_x_A"] < 2.4:
         flags.append("proton transferred without C-X cleavage (E1cb-like)")
     if d["base_c_alpha_A"] < 2.2 and d["base_h_A"] > 1.3:
@@ -517,6 +530,6 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
     if settings.saddle.refine and not saddle.verified and settings.saddle.neb_fallback:
         saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings, optimizer,
                                name)
-    flags = ("no interior maximum along the path: the estimate is an end point",) if top in (0, len(points) - 1) else ()
+    flags = tuple(maximum_flags(points, top))
     return PathResult("substitution", complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)

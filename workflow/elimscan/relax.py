@@ -138,17 +138,28 @@ def _fix_internals(held: Sequence[Held], targets: Sequence[float]) -> FixInterna
 
 
 class _Counter:
-    """Counts calls of a calculator's calculate()."""
+    """Counts the calls of a calculator's calculate() inside a ``with`` block, then restores the calculator."""
 
     def __init__(self, calc: Calculator):
         self.calls = 0
-        original = calc.calculate
+        self._calc = calc
+        self._own = vars(calc).get("calculate")  # an instance-level calculate (e.g. a test's wrapper), else None
+
+    def __enter__(self) -> "_Counter":
+        original = self._calc.calculate
 
         def counted(*args, **kwargs):
             self.calls += 1
             return original(*args, **kwargs)
 
-        calc.calculate = counted  # type: ignore[method-assign]
+        self._calc.calculate = counted  # type: ignore[method-assign]
+        return self
+
+    def __exit__(self, *exc_info) -> None:
+        if self._own is None:
+            del self._calc.calculate
+        else:
+            self._calc.calculate = self._own  # type: ignore[method-assign]
 
 
 def relax(
@@ -169,7 +180,6 @@ def relax(
     work = atoms.copy()
     work.set_constraint()
     work.calc = calculator
-    counter = _Counter(calculator)
     targets = _targets(work, held)
     for item, target in zip(held, targets):
         if isinstance(item, HeldDihedral) and constraint_error(work.positions, item, target) > settings.rigid_rotation_above_deg:
@@ -178,11 +188,12 @@ def relax(
     if optimizer not in ("bfgs", "sella"):
         raise ValueError(f"unknown optimizer '{optimizer}' (choose bfgs or sella)")
     try:
-        if optimizer == "bfgs":
-            steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
-        else:
-            steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
-        energy = work.get_potential_energy() / EV_PER_HARTREE
+        with _Counter(calculator) as counter:
+            if optimizer == "bfgs":
+                steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+            else:
+                steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+            energy = work.get_potential_energy() / EV_PER_HARTREE
     except EngineError:
         raise
     # numerical breakdown inside the optimiser (e.g. Sella's Hessian update meeting a non-finite number ends
