@@ -17,6 +17,7 @@ from pathlib import Path
 from elimscan.cli import main
 from elimscan.errors import ExitCode
 from elimscan.reportfiles import validate_result_file
+from elimscan.units import KCAL_MOL_PER_HARTREE
 from toyjobs import TOY_SETTINGS
 
 CONFIG = TOY_SETTINGS + """\
@@ -102,6 +103,22 @@ def test_conformers_that_did_not_finish_relaxing_are_not_kept(tmp_path, capsys, 
     for job in document["jobs"]:
         assert job["status"] == "failed" and job["error"]["error_type"] == "optimization_failed"
         assert "none of" in job["error"]["error_message"] and "did not converge" in job["error"]["error_message"]
+
+
+def test_a_scan_point_below_every_conformer_is_reported(tmp_path, capsys, monkeypatch):
+    # dE is measured from the lowest geometry seen (scan points included), dG from the lowest conformer: when a
+    # scan finds a lower geometry the conformer search missed a minimum, and the job says so.
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, ELIMSCAN_TOY_LOWER="scan:1.0")
+    assert code == ExitCode.OK, err
+    for job in document["jobs"]:
+        below = (min(c["energy_hartree"] for c in job["conformers"]) - job["global_minimum_hartree"]) * KCAL_MOL_PER_HARTREE
+        assert below > 0.9  # 1 kcal/mol, less the toy scan point's own height above its minimum
+        assert any(f"lies {below:.2f} kcal/mol below the lowest conformer" in w for w in job["warnings"]), job["warnings"]
+    monkeypatch.delenv("ELIMSCAN_TOY_LOWER")
+    (tmp_path / "plain").mkdir()
+    code, err, document = run_batch(tmp_path / "plain", capsys, monkeypatch)
+    assert code == ExitCode.OK, err
+    assert not any("below the lowest conformer" in w for job in document["jobs"] for w in job["warnings"])
 
 
 def test_scan_points_above_the_cap_are_counted(tmp_path, capsys, monkeypatch):
