@@ -121,6 +121,20 @@ def test_a_scan_point_below_every_conformer_is_reported(tmp_path, capsys, monkey
     assert not any("below the lowest conformer" in w for job in document["jobs"] for w in job["warnings"])
 
 
+def test_charged_reactants_in_the_dielectric_only_continuum_carry_its_warning(tmp_path, capsys, monkeypatch):
+    # The limits measured against ALPB (tests/test_engine_xtb.py, strict expected failures) travel with the job.
+    text = CONFIG + "method: {solvent: {model: dielectric, name: tert-butanol}}\n"
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text)
+    assert code == ExitCode.OK, err
+    for job in document["jobs"]:  # methoxide is an anion
+        assert any("solvent model 'dielectric'" in w and "8-13 kcal/mol" in w for w in job["warnings"])
+    neutral = text.replace("bases:\n  - {name: methoxide}", "bases:\n  - {name: ammonia, smiles: N}")
+    (tmp_path / "neutral").mkdir()
+    code, err, document = run_batch(tmp_path / "neutral", capsys, monkeypatch, neutral)
+    assert code == ExitCode.OK, err
+    assert not any("solvent model 'dielectric'" in w for job in document["jobs"] for w in job["warnings"])
+
+
 def test_scan_points_above_the_cap_are_counted(tmp_path, capsys, monkeypatch):
     text = CONFIG.replace("scan: {step_deg: 60}", "scan: {step_deg: 60, energy_cap_kcal_mol: 0.01}")
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, text)

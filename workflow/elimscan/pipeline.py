@@ -484,6 +484,8 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
     notes: list[str] = []
     if use_free and any(v is None for v in free.values()):
         notes.append("free-energy product mix: paths without a verified saddle have no dG and are left out")
+    if config.method.solvent.model == "dielectric" and (analysis.charge or base.relaxed.record.charge):
+        notes.append(DIELECTRIC_ION_NOTE)
     below = (lowest - analysis.global_minimum_hartree) * KCAL_MOL_PER_HARTREE
     if below > MISSED_MINIMUM_KCAL_MOL:
         notes.append(f"a dihedral scan point lies {below:.2f} kcal/mol below the lowest conformer: the conformer "
@@ -546,6 +548,11 @@ def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: Ru
         substitution=substitution,
     ), outcome.dft.get((substrate_cfg.name, base_cfg.name)), config)
 
+
+#: job warning for charged reactants in the dielectric-only continuum (numbers measured in test_engine_xtb.py)
+DIELECTRIC_ION_NOTE = ("solvent model 'dielectric' (ddX-CPCM from ε alone) with a charged reactant: against "
+                       "ALPB(methanol) it over-solvates small anions by 8-13 kcal/mol and halves a syn-anti gap "
+                       "(measured); compare these barriers only with other jobs in the same model")
 
 #: how far (kcal/mol) a scan point may lie below the lowest conformer before the job warns that the conformer
 #: search missed a minimum (0.1: well above the optimiser's convergence noise, 0.002 kcal/mol measured in the

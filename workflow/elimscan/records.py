@@ -203,7 +203,8 @@ class ApproachRecord(_Record):
                                                 "null when one start")
     barrier_combination: Literal["lowest", "boltzmann"] | None = Field(
         None, description="how several starts make barrier_kcal_mol: the lowest top, or a Boltzmann sum of the "
-        "distinct tops (then the saddle fields describe the lowest start)")
+        "distinct tops (then the saddle fields, barrier_source and barrier_free_energy_kcal_mol describe the "
+        "lowest start only, and the distinct tops may mix verified saddles with path maxima of other starts)")
     flags: tuple[str, ...] = ()
     n_gradients: int | None = None
     path: tuple[PathPointRecord, ...] = ()
