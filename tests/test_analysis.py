@@ -135,19 +135,32 @@ def test_verdicts_side_by_side():
 
 def test_hammett_fit_recovers_a_known_line():
     # Barriers built from rho = +2.1 exactly (the size DePuy & Bishop, J. Am. Chem. Soc. 1960, 82, 2532 report
-    # for ArCH2CH2Br + EtO-, from memory; here only an input): the fit must return it with r^2 = 1.
+    # for ArCH2CH2Br + EtO-, from memory; here only an input) with the gas constant written out, not taken
+    # from elimscan: R = 8.314462618 J/(mol K) (CODATA 2018, exact) and 4184 J per thermochemical kcal.
     import math
 
     from elimscan.analysis import hammett_fit
-    from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
     sigmas = [-0.27, 0.0, 0.23, 0.54]  # OMe, H, Cl, CF3 (Hansch, Leo & Taft, Chem. Rev. 1991, 91, 165; from memory)
-    rt_ln10 = BOLTZMANN_KCAL_MOL_PER_K * 298.15 * math.log(10)
+    rt_ln10 = 8.314462618 / 4184.0 * 298.15 * math.log(10)
     barriers = [10.0 - 2.1 * s * rt_ln10 for s in sigmas]
     fit = hammett_fit(sigmas, barriers, 298.15, reference_index=1)
-    assert fit.rho == pytest.approx(2.1) and fit.r_squared == pytest.approx(1.0) and fit.intercept == pytest.approx(0.0, abs=1e-12)
+    # 1e-6: elimscan's units come from ASE, whose default is CODATA 2014 (R = 8.3144598): 3.4e-7 relative
+    assert fit.rho == pytest.approx(2.1, rel=1e-6) and fit.r_squared == pytest.approx(1.0)
+    assert fit.intercept == pytest.approx(0.0, abs=1e-12)
     with pytest.raises(ValueError, match="at least three"):
         hammett_fit([0.0, 0.2], [1.0, 2.0], 298.15)
+
+
+def test_hammett_fit_of_equal_barriers_has_no_r_squared_and_equal_sigmas_are_refused():
+    from elimscan.analysis import hammett_fit
+    from elimscan.report import r_squared_text
+
+    flat = hammett_fit([-0.27, 0.0, 0.54], [10.0, 10.0, 10.0], 298.15)
+    assert flat.rho == 0.0 and flat.r_squared is None  # 0/0: a flat line explains nothing
+    assert r_squared_text(flat.r_squared) == "undefined (all barriers equal)"
+    with pytest.raises(ValueError, match="two different sigma values"):
+        hammett_fit([0.23, 0.23, 0.23], [9.0, 10.0, 11.0], 298.15)
 
 
 def test_path_starts_are_distinct_anti_geometries_lowest_first():

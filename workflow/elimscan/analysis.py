@@ -322,15 +322,20 @@ class HammettFit:
 
     rho: float
     intercept: float
-    r_squared: float
+    r_squared: float | None  # None when every barrier is the same (r^2 = 0/0)
     log_k_ratios: tuple[float, ...]
 
 
 def hammett_fit(sigmas: Sequence[float], barriers_kcal_mol: Sequence[float], temperature_K: float,
                 reference_index: int = 0) -> HammettFit:
-    """Return rho, intercept and r^2 of log10(k_X/k_ref) = -(dE_X - dE_ref) / (RT ln 10) against sigma."""
+    """Return rho, intercept and r^2 of log10(k_X/k_ref) = -(dE_X - dE_ref) / (RT ln 10) against sigma.
+
+    r^2 is None when every barrier is the same (a flat line explains nothing, and 0/0 is no fit quality).
+    """
     if len(sigmas) != len(barriers_kcal_mol) or len(sigmas) < 3:
         raise ValueError("a Hammett fit needs at least three substituents with a sigma and a barrier each")
+    if len(set(sigmas)) < 2:
+        raise ValueError(f"a Hammett fit needs two different sigma values; all {len(sigmas)} are {sigmas[0]:+.2f}")
     rt_ln10 = BOLTZMANN_KCAL_MOL_PER_K * temperature_K * math.log(10.0)
     reference = barriers_kcal_mol[reference_index]
     y = [-(b - reference) / rt_ln10 for b in barriers_kcal_mol]
@@ -341,5 +346,5 @@ def hammett_fit(sigmas: Sequence[float], barriers_kcal_mol: Sequence[float], tem
     sxy = sum((xi - mean_x) * (yi - mean_y) for xi, yi in zip(x, y))
     syy = sum((yi - mean_y) ** 2 for yi in y)
     rho = sxy / sxx
-    r2 = (sxy * sxy) / (sxx * syy) if syy > 0 else 1.0
+    r2 = (sxy * sxy) / (sxx * syy) if syy > 0 else None
     return HammettFit(rho, mean_y - rho * mean_x, r2, tuple(y))

@@ -18,7 +18,7 @@ from rdkit.Chem.Draw import rdMolDraw2D
 from elimscan.config import SolventConfig
 from elimscan.plots import (BARRIER_SHIFT_KCAL_MOL, SERIES_BARRIER_WORDS, character_points, figure_svg, job_figures,
                             plot_name, rho_text, series_figure, series_plot_name, signed)
-from elimscan.report import base_model_groups, model_mix
+from elimscan.report import base_model_groups, model_mix, r_squared_text
 from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult, SeriesRecord, SubstitutionRecord
 from elimscan.tables import job_solvent, product_anti_penalty_kcal_mol, product_lowest_barrier, product_paths
 
@@ -812,7 +812,7 @@ def _series_block(series: SeriesRecord, assets: Mapping[str, str]) -> str:
                     f'<td class="num">{esc(ABSENT if point.log10_k_rel is None else signed(point.log10_k_rel, 2))}</td>'
                     f"<td>{esc(point.note or '')}</td></tr>")
     if series.rho is not None:
-        fit = (f"\u03c1 = {rho_text(series.rho)}, r\u00b2 = {series.r_squared:.3f}, from {series.n_fitted} members; "
+        fit = (f"\u03c1 = {rho_text(series.rho)}, r\u00b2 = {r_squared_text(series.r_squared)}, from {series.n_fitted} members; "
                f"k\u2080: {series.reference_substrate}")
     else:
         fit = f"no fit: {series.note}"

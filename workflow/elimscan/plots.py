@@ -22,6 +22,7 @@ from matplotlib.transforms import blended_transform_factory
 
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord, SeriesRecord
+from elimscan.report import r_squared_text
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
 #: two atoms are bonded when closer than this times the sum of their covalent radii (ase.data)
@@ -453,7 +454,7 @@ def series_figure(series: SeriesRecord) -> Figure:
     if series.rho is not None:
         xs = np.array([low - pad, high + pad])
         ax.plot(xs, series.rho * xs + series.intercept, color=CLASS_COLOURS[1], lw=1.4, zorder=2, gid="series-fit",
-                label=f"fit: \u03c1 = {rho_text(series.rho)}, r\u00b2 = {series.r_squared:.3f} (n = {series.n_fitted})")
+                label=f"fit: \u03c1 = {rho_text(series.rho)}, r\u00b2 = {r_squared_text(series.r_squared)} (n = {series.n_fitted})")
     for p in missing:
         ax.axvline(p.sigma, color=CLASS_COLOURS[2], lw=0.9, ls="--", zorder=1)
         ax.annotate(f"{p.substrate}: missing", (p.sigma, 0.02), xycoords=("data", "axes fraction"), rotation=90,

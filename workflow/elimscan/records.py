@@ -386,7 +386,7 @@ class SeriesRecord(_Record):
     n_fitted: int = Field(description="members with a barrier, all of them in the fit")
     rho: float | None = Field(None, description="slope of log10(k/k0) against sigma; null: too few members to fit")
     intercept: float | None = Field(None, description="fitted log10(k/k0) at sigma 0")
-    r_squared: float | None = None
+    r_squared: float | None = Field(None, description="null: no fit, or every fitted barrier the same (0/0)")
     note: str | None = None
 
 

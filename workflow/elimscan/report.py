@@ -11,6 +11,11 @@ def _kcal(value: float | None) -> str:
     return "-" if value is None else f"{value:.2f}"
 
 
+def r_squared_text(r_squared: float | None) -> str:
+    """Return a fit's r² as shown in the reports and plots (3 decimals), or why there is none."""
+    return "undefined (all barriers equal)" if r_squared is None else f"{r_squared:.3f}"
+
+
 def job_table(job: JobRecord) -> list[str]:
     """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls."""
     lines = [f"job {job.job_id}: {job.status}"]
@@ -59,7 +64,7 @@ def series_table(series: SeriesRecord) -> list[str]:
         lines.append(f"  {p.substrate[:27]:<28}{p.sigma:>+7.2f}{_kcal(p.barrier_kcal_mol) + mark:>13}{log_k:>12}  "
                      f"{p.path or p.note or ''}")
     if series.rho is not None:
-        lines.append(f"  rho {series.rho:+.2f}, r^2 {series.r_squared:.3f} ({series.n_fitted} members; k0: "
+        lines.append(f"  rho {series.rho:+.2f}, r^2 {r_squared_text(series.r_squared)} ({series.n_fitted} members; k0: "
                      f"{series.reference_substrate}; * = relaxed-path estimate)")
     else:
         lines.append(f"  no fit: {series.note}")

@@ -95,7 +95,7 @@ def series_record(series: SeriesConfig, jobs: Sequence[JobRecord], temperature_K
         reference_substrate=series.members[found[reference][0]].substrate if found else None,
         points=tuple(points), n_fitted=len(found) if fit is not None else 0,
         rho=None if fit is None else round(fit.rho, 4), intercept=None if fit is None else round(fit.intercept, 4),
-        r_squared=None if fit is None else round(fit.r_squared, 4), note=note)
+        r_squared=None if fit is None or fit.r_squared is None else round(fit.r_squared, 4), note=note)
 
 
 def series_records(series: Sequence[SeriesConfig], jobs: Sequence[JobRecord], temperature_K: float,
