@@ -93,6 +93,14 @@ def test_too_many_ligands_or_a_cation_for_a_neutral_base_is_refused():
         BaseModelConfig(counter_ion="Cs")
 
 
+def test_an_explicit_molecule_without_a_donor_hydrogen_fails_the_base_by_name():
+    outcome, record = _toy_run({"explicit": 1, "explicit_smiles": "CC"})  # ethane cannot hydrogen-bond
+    base = outcome.bases["methoxide"].relaxed.record
+    assert base.status == "failed" and base.error.error_type == "structure_error"
+    assert "base 'methoxide': explicit molecule 'CC' has no O-H or N-H" in base.error.error_message
+    assert record.status == "failed" and "explicit molecule 'CC'" in record.error.error_message
+
+
 def _toy_run(model: dict):
     from toyjobs import ToyJobEngine
 

@@ -113,15 +113,19 @@ def _about(axis: np.ndarray, angle_rad: float) -> np.ndarray:
     return np.eye(3) + np.sin(angle_rad) * k + (1.0 - np.cos(angle_rad)) * k @ k
 
 
-def donor_hydrogen(atoms: Atoms) -> tuple[int, int]:
-    """Return (H, donor atom) of the first O-H or N-H of a molecule (0-based), for a hydrogen bond."""
+def donor_hydrogen(atoms: Atoms, what: str = "explicit solvent molecule") -> tuple[int, int]:
+    """Return (H, donor atom) of the first O-H or N-H of a molecule (0-based), for a hydrogen bond.
+
+    Raises StructureError naming ``what`` (the base and the molecule's SMILES) when there is none.
+    """
     for h in range(len(atoms)):
         if atoms.numbers[h] != 1:
             continue
         donors = [j for j in _bonded(atoms, h) if atoms.numbers[j] in (7, 8)]
         if donors:
             return h, donors[0]
-    raise StructureError("explicit solvent molecule has no O-H or N-H to donate a hydrogen bond")
+    raise StructureError(f"{what} has no O-H or N-H to donate a hydrogen bond (give an alcohol, water or an "
+                         "amine as explicit_smiles)")
 
 
 def _place_molecule(molecule: Atoms, anchor: int, h: int, donor: int, site: np.ndarray, bond_along: np.ndarray,
@@ -167,6 +171,7 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
                              f"the proton transfer (at most {max(len(slots) - 1, 0)}; with a counter-ion, further "
                              "explicit molecules bind the cation)")
     centre = base.positions[basic]
+    what = f"base '{name}': explicit molecule '{explicit_smiles or '?'}'"
     cluster = base.copy()
     smiles = [base_smiles]
     slot = iter(slots)
@@ -175,7 +180,7 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
         smiles.append(f"[{counter_ion}+]")
     for molecule in explicit[:at_base]:
         direction = next(slot)
-        h, donor = donor_hydrogen(molecule)
+        h, donor = donor_hydrogen(molecule, what)
         # hydrogen bond: H at the lone pair, donor->H pointing at the basic atom
         cluster += _place_molecule(molecule, h, h, donor, centre + HYDROGEN_BOND_A * direction, -direction, direction,
                                    cluster.positions)
@@ -189,7 +194,7 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
         for k, molecule in enumerate(on_cation):
             phi = 2.0 * np.pi * k / len(on_cation)
             direction = np.cos(tilt) * axis + np.sin(tilt) * (np.cos(phi) * p + np.sin(phi) * q)
-            h, donor = donor_hydrogen(molecule)
+            h, donor = donor_hydrogen(molecule, what)
             # donor atom on the cation, its O-H pointing away from it
             cluster += _place_molecule(molecule, donor, h, donor, metal + CATION_DISTANCE_A[counter_ion] * direction,
                                        direction, direction, cluster.positions)
