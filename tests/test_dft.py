@@ -16,6 +16,7 @@ from elimscan.config import BaseConfig, DftConfig, PathConfig, RunConfig, Solven
 from elimscan.dft import (DIELECTRIC_CONSTANTS, SaddleCandidate, check_free_ions, dft_fractions, dft_level,
                           refine_job, select_saddles)
 from elimscan.errors import DftRefusedError
+from elimscan.solvents import DIELECTRIC_SOLVENTS
 
 
 #: toy jobs kept small: coarse scans, few embeddings
@@ -33,7 +34,7 @@ def test_water_dielectric_constant():
     # 78.355 for water at 25 °C in the Minnesota Solvent Descriptor Database (Winget, Dolney, Giesen, Cramer &
     # Truhlar, 1999/2010; the SMD descriptors, Marenich, Cramer & Truhlar, J. Phys. Chem. B 2009, 113, 6378);
     # the CRC Handbook of Chemistry and Physics gives 78.36 at 25 °C (from memory).
-    assert DIELECTRIC_CONSTANTS["water"] == pytest.approx(78.36, abs=0.01)
+    assert DIELECTRIC_SOLVENTS["water"].epsilon == pytest.approx(78.36, abs=0.01)
     level = dft_level(DftConfig(enabled=True), SolventConfig(model="alpb", name="h2o"))
     assert level.dielectric_constant == pytest.approx(78.36, abs=0.01) and level.solvent_name == "water"
 

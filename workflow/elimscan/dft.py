@@ -25,7 +25,8 @@ from elimscan.solvents import DIELECTRIC_SOLVENTS, canonical_solvent_name
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 #: Static dielectric constants (25 °C) for our canonical ALPB solvent names (the solvents of the ``dielectric``
-#: model have theirs in solvents.DIELECTRIC_SOLVENTS, from the same database), from the Minnesota Solvent Descriptor
+#: model, and ethanol, methanol and water, have theirs in solvents.DIELECTRIC_SOLVENTS: one entry per solvent,
+#: from the same database), from the Minnesota Solvent Descriptor
 #: Database (Winget, Dolney, Giesen, Cramer & Truhlar, University of Minnesota, 1999/2010; the solvent
 #: descriptors of SMD, Marenich, Cramer & Truhlar, J. Phys. Chem. B 2009, 113, 6378). Furan, phenol and
 #: water-saturated octanol are not in that database: give ``dft.dielectric_constant`` for them.
@@ -42,16 +43,13 @@ DIELECTRIC_CONSTANTS: dict[str, float] = {
     "dmf": 37.219,
     "dmso": 46.826,
     "ether": 4.2400,
-    "ethanol": 24.852,
     "ethylacetate": 5.9867,
     "hexadecane": 2.0402,
     "hexane": 1.8819,
-    "methanol": 32.613,
     "nitromethane": 36.562,
     "octanol": 9.8629,
     "thf": 7.4257,
     "toluene": 2.3741,
-    "water": 78.355,
 }
 
 #: how our names are written in labels
