@@ -69,7 +69,12 @@ def test_a_values_from_the_ensemble(smiles, ring_atom, substituent, a_value):
             side = substituent_orientation(c.atoms.positions, ring, ring_atom, substituent)
             lowest[side] = min(lowest.get(side, 0.0 + 1e9), ensemble.relative_kcal_mol(c))
     assert set(lowest) == {"axial", "equatorial"}, "both chairs must be in the ensemble"
-    assert lowest["axial"] - lowest["equatorial"] == pytest.approx(a_value, abs=0.5)
+    a_computed = lowest["axial"] - lowest["equatorial"]
+    # 0.5 kcal/mol is GFN2-xTB's accuracy for such conformer gaps (common practice); with A-values of only
+    # 0.4-0.5 (Cl, Br) that window alone would pass a zero, so the sign is checked on its own: equatorial
+    # preferred, as in every measurement above (measured here: Cl 0.50, Br 0.30, CH3 1.51 kcal/mol).
+    assert a_computed > 0
+    assert a_computed == pytest.approx(a_value, abs=0.5)
 
 
 @pytest.mark.xtb
