@@ -111,10 +111,18 @@ def test_primary_isotope_effect_of_2_phenylethyl_bromide_with_ethoxide():
     kie = isotope_effect(substrate, path.saddle.atoms, path.saddle.hessian_eV_A2, both_d, 298.15)
     assert 2.5 <= kie.ratio <= 8.0, kie
     assert kie.ratio_wigner > kie.ratio  # tunnelling correction raises k_H/k_D
-    # free energies come out finite and the barrier stays a barrier above the complex-free zero ordering
+    # The free barrier above the free reactants (1 M) must be a barrier: the reaction is slow enough to follow
+    # at room temperature (rate constants of order 1e-3 M^-1 s^-1, i.e. dG about 20 kcal/mol: Saunders &
+    # Edison 1960, from memory), so any dG at or below zero is wrong whatever GFN2-xTB's error. Measured
+    # 2026-12-02: dG 2.5 kcal/mol (k_H/k_D 4.44), far below that experiment: GFN2-xTB barriers above free
+    # ions are much too low in absolute terms (README, "What the numbers mean"); only the sign is checked.
     g_sub = molecule_thermo(substrate, 298.15)
+    free_base = minimum_hessian(base.atoms, base.record.energy_hartree, engine, -1, 1, 0.005)
+    g_base = molecule_thermo(free_base, 298.15)
     g_ts = saddle_thermo(path.saddle.atoms, path.saddle.energy_hartree, path.saddle.hessian_eV_A2, 298.15)
-    assert np.isfinite(g_ts.free_energy_hartree - g_sub.free_energy_hartree)
+    dg = (g_ts.free_energy_hartree - g_sub.free_energy_hartree - g_base.free_energy_hartree) * KCAL_MOL_PER_HARTREE
+    print(f"k_H/k_D {kie.ratio:.2f}, dG {dg:.1f} kcal/mol")
+    assert dg > 0
 
 
 @pytest.mark.xtb
