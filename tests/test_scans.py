@@ -81,7 +81,6 @@ def test_a_failed_point_is_recorded_and_the_other_branch_goes_on(embed):
     toy = SpringTorsionEngine(embed("CC"))
     start = relax(embed("CC"), toy.calculator(), (), BFGS).atoms
     quad = HCCH
-    phi0 = dihedral_deg(start.positions, *quad)
     engine = _FailingEngine(toy, limit_deg=20.0)
     scan = scan_dihedral(start, quad, engine, 0, 1, [(1, 4), (-1, 4)], ScanConfig(), BFGS)
     statuses = [p.status for p in scan.points]
@@ -89,7 +88,6 @@ def test_a_failed_point_is_recorded_and_the_other_branch_goes_on(embed):
     failed = next(p for p in scan.points if p.status == "failed")
     assert failed.error.startswith("scf_not_converged") and failed.energy_hartree is None
     assert any("point failed" in note for note in scan.notes)
-    del phi0
 
 
 @pytest.mark.xtb
