@@ -59,6 +59,6 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
     record = job_record(substrate, base, outcome, one)
     files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), engine.label))
     solvent = {"solvent": one.method.solvent}
-    record = record.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before})
-    return JobOutcome(record.model_copy(update=solvent),
+    record = record.model_copy(update={**solvent, "retry_temperature_points": engine.stats.hot_points - hot_before})
+    return JobOutcome(record,
                       (substrate_record.model_copy(update=solvent), base_record.model_copy(update=solvent)), files)
