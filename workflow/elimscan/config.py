@@ -99,7 +99,9 @@ class ConformerConfig(_Frozen):
     energy_window_kcal_mol: float = Field(10.0, gt=0)
     #: build both chair forms of every saturated six-membered ring on purpose
     ring_flip: bool = True
-    #: xTB relaxations of conformers at most (the lowest force-field energies first)
+    #: xTB relaxations of conformers at most (the lowest force-field energies first); the forced chair forms
+    #: of saturated six-membered rings are always relaxed and count first, plus at least one other start, so
+    #: a molecule with many rings can exceed this number
     max_relaxations: int = Field(12, ge=1)
 
 
