@@ -81,6 +81,23 @@ def test_an_scf_failure_on_one_path_is_recorded_there_and_the_rest_goes_on(tmp_p
     assert count_trouble(jobs) == {"path failed: scf_not_converged": 1, "saddle not verified: saddle_wrong_modes": 1}
 
 
+def test_one_failed_base_rotation_of_a_complex_is_skipped_and_flagged(tmp_path, capsys, monkeypatch):
+    # Seen with ddX-CPCM: a non-finite energy in one of the base orientations tried for a complex. The other
+    # orientations carry the path; only when every orientation fails does the path fail.
+    text = CONFIG.replace("base_rotations: 1", "base_rotations: 3")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, text,
+                                    ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti complex rotation 120")
+    assert code == ExitCode.OK, err
+    anti = classes(document, "2-bromobutane__methoxide")["C3-H9"]["anti"]
+    assert anti["path_status"] == "ok" and anti["barrier_kcal_mol"] is not None
+    assert "base rotation 120 deg of the complex failed (scf_not_converged); the other rotations were used" in anti["flags"]
+    (tmp_path / "all").mkdir()
+    code, err, document = run_batch(tmp_path / "all", capsys, monkeypatch, text,
+                                    ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti complex rotation")
+    anti = classes(document, "2-bromobutane__methoxide")["C3-H9"]["anti"]
+    assert anti["path_status"] == "failed" and anti["error"]["error_type"] == "scf_not_converged"
+
+
 def test_relaxations_at_their_step_limit_are_failed_scan_points_counted_in_the_summary(tmp_path, capsys, monkeypatch):
     text = CONFIG.replace("fmax_eV_per_A: 0.05}", "fmax_eV_per_A: 0.05, max_steps: 2}")
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, text, ELIMSCAN_TOY_STRETCH="1.05",

@@ -75,6 +75,21 @@ def test_the_shift_table_reads_the_1_butene_shares_of_both_bases(validate):
     assert "not computed at this level; not computed at this level" in dft[2]  # the fixture has no DFT barriers
 
 
+def test_a_side_with_failed_paths_is_not_judged(validate):
+    """A mix over part of the paths is no mix (a ddX job once gave "100 % 1-butene" from its one surviving path)."""
+    import copy
+
+    document = json.loads((FIXTURE / "halobutane" / "results.json").read_text())
+    jobs = {j["base"]: j for j in document["jobs"]}
+    temperature = document["config"]["method"]["temperature_K"]
+    bulky = copy.deepcopy(jobs["tert-butoxide"])
+    n_paths = sum(h[a]["path_status"] in ("ok", "failed") for h in bulky["beta_hydrogens"] for a in ("anti", "syn"))
+    bulky["beta_hydrogens"][1]["anti"]["path_status"] = "failed"
+    rows = validate.shift_rows(["bare"], {("bare", "small"): {"job": jobs["ethoxide"], "temperature_K": temperature},
+                                          ("bare", "bulky"): {"job": bulky, "temperature_K": temperature}})
+    assert f"| - | not judged: 1 of {n_paths} paths failed (bulky base) |" in rows[2]
+
+
 def test_every_shift_config_is_a_valid_elimscan_config(validate):
     """The bulky-base shift jobs of validation/cases.yaml load, have unique names, and carry each alcohol's ε."""
     import yaml

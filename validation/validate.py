@@ -147,6 +147,12 @@ def largest_start_spread(job: dict) -> float | None:
     return max(spreads) if spreads else None
 
 
+def failed_paths(job: dict) -> tuple[int, int]:
+    """Return (failed, computed or failed) counts of a job's anti/syn paths: a mix over part of them is no mix."""
+    states = [h[a]["path_status"] for h in job["beta_hydrogens"] for a in ("anti", "syn")]
+    return states.count("failed"), sum(s in ("ok", "failed") for s in states)
+
+
 def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> list[str]:
     """Return the Markdown rows of one block of the bulky-base shift table, from runs keyed by (model, side)."""
     rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? | "
@@ -167,6 +173,12 @@ def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> l
             why = "; ".join(results.get((model_name, s), {"error": "not computed"}).get("error", "not computed at this level")
                             for s in ("small", "bulky") if got[s] is None)
             rows.append(f"| {model_name} | - | - | - | {why} | {spread_cell} | {wall} |")
+            continue
+        broken = {side: failed_paths(results[(model_name, side)]["job"]) for side in ("small", "bulky")}
+        if any(n for n, _ in broken.values()):
+            why = "; ".join(f"not judged: {n} of {total} paths failed ({side} base)"
+                            for side, (n, total) in broken.items() if n)
+            rows.append(f"| {model_name} | {got['small']:.0%} | {got['bulky']:.0%} | - | {why} | {spread_cell} | {wall} |")
             continue
         shift = got["bulky"] - got["small"]
         rows.append(f"| {model_name} | {got['small']:.0%} | {got['bulky']:.0%} | {shift:+.0%} | "

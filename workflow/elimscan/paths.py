@@ -98,6 +98,8 @@ class ComplexResult:
     rotation_deg: float
     energies_hartree: tuple[float, ...]
     n_gradients: int
+    #: rotations whose relaxation failed (skipped while another succeeded), one note each
+    failed_rotations: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -213,20 +215,33 @@ def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, d
 def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
                   engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
                   name: str = "complex", rank: int = 0) -> ComplexResult:
-    """Return the complex of ``rank`` (0: the lowest) over ``settings.base_rotations`` rotations, H...B and dihedral held."""
-    found, energies, spent = [], [], 0
+    """Return the complex of ``rank`` (0: the lowest) over ``settings.base_rotations`` rotations, H...B and dihedral held.
+
+    A rotation whose relaxation fails (SCF, a non-finite backend result, the optimiser) is skipped and noted
+    while another rotation succeeds; when all fail, the first failure is raised.
+    """
+    found, energies, spent, failed = [], [], 0, []
+    first_error: ElimscanError | None = None
     for k in range(settings.base_rotations):
         rotation = 360.0 * k / settings.base_rotations
         start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
         calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
         held = [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
                 HeldDihedral(reactive.quad(), dihedral_target_deg)]
-        result = relax(start, calc, held, optimizer)
+        try:
+            result = relax(start, calc, held, optimizer)
+        except ElimscanError as err:
+            first_error = first_error or err
+            failed.append(f"base rotation {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
+                          "rotations were used")
+            continue
         spent += result.n_gradients
         energies.append(result.energy_hartree)
         found.append((result.energy_hartree, rotation, result.atoms))
+    if not found:
+        raise first_error
     energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(rank, len(found) - 1)]
-    return ComplexResult(atoms, energy, rotation, tuple(energies), spent)
+    return ComplexResult(atoms, energy, rotation, tuple(energies), spent, tuple(failed))
 
 
 def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
@@ -489,7 +504,7 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
         if not saddle.verified and settings.saddle.neb_fallback:  # last resort: a climbing-image NEB seeds Sella
             saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
                                    optimizer, name)
-    flags = path_flags(points, top, reactive, other_hydrogens, syn)
+    flags = complex_.failed_rotations + path_flags(points, top, reactive, other_hydrogens, syn)
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)
 
