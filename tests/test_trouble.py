@@ -4,8 +4,8 @@ the summary counts it.
 
 The batches compute on the toy engine of ``toyjobs.py`` (the test hook ELIMSCAN_TEST_ENGINE_FACTORY), which
 scripts the trouble: ELIMSCAN_TOY_FAIL_SCF makes named structures raise the ScfConvergenceError that the
-GFN2-xTB engine raises once its retry has failed too (that retry is tested on the real backend in
-test_cli.py); ELIMSCAN_TOY_STRETCH gives relaxations work to do (all, or those named with
+GFN2-xTB engine raises once its retry has failed too (that retry is tested in test_engine_retry.py and on
+the real backend in test_engine_xtb.py); ELIMSCAN_TOY_STRETCH gives relaxations work to do (all, or those named with
 ELIMSCAN_TOY_STRETCH_ON), so a small step limit is reached.
 """
 
@@ -178,7 +178,7 @@ def test_a_job_stuck_in_one_stage_is_stopped_at_the_stage_limit(tmp_path, capsys
 
 def test_single_points_kept_at_the_retry_temperature_are_counted_per_job_and_in_the_summary(
         tmp_path, capsys, monkeypatch):
-    # Such a point lies on a smeared surface (see test_engine_xtb.py for the restart that usually avoids it):
+    # Such a point lies on a smeared surface (see test_engine_retry.py for the restart that usually avoids it):
     # a batch counts it on the job that computed it, a single run over the whole run.
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, engine="toyjobs:hot_point_engine",
                                     ELIMSCAN_TOY_HOT_ON="chloroethane")
