@@ -91,6 +91,7 @@ def test_one_failed_base_rotation_of_a_complex_is_skipped_and_flagged(tmp_path, 
     anti = classes(document, "2-bromobutane__methoxide")["C3-H9"]["anti"]
     assert anti["path_status"] == "ok" and anti["barrier_kcal_mol"] is not None
     assert "base rotation 120 deg of the complex failed (scf_not_converged); the other rotations were used" in anti["flags"]
+    assert document["summary"]["trouble"] == {"complex orientation failed": 1}
     (tmp_path / "all").mkdir()
     code, err, document = run_batch(tmp_path / "all", capsys, monkeypatch, text,
                                     ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti complex rotation")

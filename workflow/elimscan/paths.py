@@ -212,6 +212,10 @@ def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, d
                         rotation_deg)
 
 
+#: start of the path flag naming a base orientation of the complex that failed and was skipped
+FAILED_ROTATION = "base rotation"
+
+
 def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
                   engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
                   name: str = "complex", rank: int = 0) -> ComplexResult:
@@ -232,7 +236,7 @@ def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive,
             result = relax(start, calc, held, optimizer)
         except ElimscanError as err:
             first_error = first_error or err
-            failed.append(f"base rotation {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
+            failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
                           "rotations were used")
             continue
         spent += result.n_gradients

@@ -400,7 +400,8 @@ class RunSummary(_Record):
     trouble: dict[str, int] = Field(default_factory=dict, description=(
         "numerical trouble recorded as data, counted over the jobs: 'job failed: <error_type>', 'path failed: "
         "<error_type>' (one anti or syn path of a beta-H class), 'saddle not verified' (refinement collapsed or "
-        "wrong imaginary modes; the barrier is the relaxed-path maximum), 'scan point failed', 'scan point above cap', 'single point at retry electronic temperature' (SCF "
+        "wrong imaginary modes; the barrier is the relaxed-path maximum), 'scan point failed', 'scan point above cap', 'complex orientation failed' (one base orientation of a "
+        "path's complex, skipped; the path used the others), 'single point at retry electronic temperature' (SCF "
         "converged only with the retry's Fermi smearing: that energy lies on a smeared surface)"))
 
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections import Counter
 from collections.abc import Iterable
 
+from elimscan.paths import FAILED_ROTATION
 from elimscan.records import JobRecord
 
 #: saddle notes that mean "not attempted" (a setting), not trouble
@@ -40,6 +41,7 @@ def count_trouble(jobs: Iterable[JobRecord], retry_temperature_points: int = 0) 
                       and not (approach.saddle_note or "").startswith(_NOT_ATTEMPTED)):
                     why = approach.saddle_error_type
                     counts["saddle not verified" + (f": {why}" if why else "")] += 1
+                counts["complex orientation failed"] += sum(f.startswith(FAILED_ROTATION) for f in approach.flags)
             for scan in beta.scans:
                 for point in scan.points:
                     if point.status == "failed":
