@@ -144,6 +144,9 @@ def test_charged_reactants_in_the_dielectric_only_continuum_carry_its_warning(tm
     text = CONFIG + "method: {solvent: {model: dielectric, name: tert-butanol}}\n"
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, text)
     assert code == ExitCode.OK, err
+    (tmp_path / "run.yaml").write_text(text)  # a single run also says that a crash in ddX would lose it
+    assert main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "single")]) == ExitCode.OK
+    assert "tblite's ddX can abort the whole process" in capsys.readouterr().err
     for job in document["jobs"]:  # methoxide is an anion
         assert any("solvent model 'dielectric'" in w and "8-13 kcal/mol" in w for w in job["warnings"])
     neutral = text.replace("bases:\n  - {name: methoxide}", "bases:\n  - {name: ammonia, smiles: N}")

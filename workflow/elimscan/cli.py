@@ -247,6 +247,10 @@ def cmd_run(args: argparse.Namespace) -> int:
     else:
         engine = XtbEngine(EngineSettings.from_method(config.method))
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
+    if config.method.solvent.model == "dielectric":
+        log.warning("solvent model 'dielectric': tblite's ddX can abort the whole process on a failed calculation "
+                    "(seen with tblite 0.8.0), and a single run then ends without results.json; 'elimscan batch' "
+                    "runs each job in its own process and keeps the others")
     started = time.perf_counter()
 
     def progress(done: int, total: int, message: str) -> None:
