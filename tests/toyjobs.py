@@ -9,6 +9,7 @@ this folder on PYTHONPATH.
 
 from __future__ import annotations
 
+import dataclasses
 import os
 import signal
 import time
@@ -49,11 +50,13 @@ class ToyJobEngine:
     relaxation has work to do and a small optimizer.max_steps is reached), for every model or only for
     structures whose name contains ``stretch_on``."""
 
-    def __init__(self, fail_scf_on: str | None = None, stretch: float = 1.0, stretch_on: str | None = None):
+    def __init__(self, fail_scf_on: str | None = None, stretch: float = 1.0, stretch_on: str | None = None,
+                 lower_on: str | None = None, lower_kcal_mol: float = 0.0):
         self.stats = CacheStats()
         self.fail_scf_on = fail_scf_on
         self.stretch = stretch
         self.stretch_on = stretch_on
+        self.lower_on, self.lower_kcal_mol = lower_on, lower_kcal_mol
 
     def reference(self, atoms, name: str = ""):
         """Return the geometry a new toy model is built on: ``atoms`` scaled about its centre by ``stretch``."""
@@ -70,10 +73,9 @@ class ToyJobEngine:
         return "toy spring-torsion model (tests only)"
 
     def offset_eV(self, name: str) -> float:
-        """Return the constant energy shift (eV) of a structure: ELIMSCAN_TOY_LOWER=word:kcal_mol lowers the
-        structures named with the word by that much (forces unchanged), else 0."""
-        word, _, kcal = os.environ.get("ELIMSCAN_TOY_LOWER", "").partition(":")
-        return -float(kcal) * KCAL_MOL_IN_EV if word and word in name else 0.0
+        """Return the constant energy shift (eV) of a structure: minus ``lower_kcal_mol`` for structures named
+        with ``lower_on`` (forces unchanged), else 0."""
+        return -self.lower_kcal_mol * KCAL_MOL_IN_EV if self.lower_on and self.lower_on in name else 0.0
 
     def check(self, name: str) -> None:
         """Raise ScfConvergenceError for structures whose name contains ``fail_scf_on``."""
@@ -87,16 +89,20 @@ class ToyJobEngine:
     def single_point(self, atoms, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> SinglePoint:
         """Return the toy energy (hartree) and gradient (hartree/bohr) of a geometry (model built from it)."""
         self.check(name)
-        return SpringTorsionEngine(self.reference(atoms, name), stats=self.stats).single_point(atoms)
+        point = SpringTorsionEngine(self.reference(atoms, name), stats=self.stats).single_point(atoms)
+        return dataclasses.replace(point, energy_hartree=point.energy_hartree + self.offset_eV(name) / EV_PER_HARTREE)
 
 
 def toy_engine(method) -> ToyJobEngine:
     """Engine factory of the batch tests: a toy engine; ELIMSCAN_TOY_FAIL_SCF=word scripts SCF failures,
     ELIMSCAN_TOY_STRETCH=factor moves the models' minima, of structures named with ELIMSCAN_TOY_STRETCH_ON=word
-    only if set (see ToyJobEngine)."""
+    only if set; ELIMSCAN_TOY_LOWER=word:kcal_mol lowers the energies of structures named with the word (see
+    ToyJobEngine)."""
+    lower_on, _, kcal = os.environ.get("ELIMSCAN_TOY_LOWER", "").partition(":")
     return ToyJobEngine(os.environ.get("ELIMSCAN_TOY_FAIL_SCF") or None,
                         float(os.environ.get("ELIMSCAN_TOY_STRETCH", "1.0")),
-                        os.environ.get("ELIMSCAN_TOY_STRETCH_ON") or None)
+                        os.environ.get("ELIMSCAN_TOY_STRETCH_ON") or None,
+                        lower_on or None, float(kcal or 0.0))
 
 
 class _BuggyEngine(ToyJobEngine):
@@ -174,17 +180,20 @@ def without_timings(value):
 
 
 class _HotPointEngine(ToyJobEngine):
-    """A toy engine that counts every computed geometry of structures named with ELIMSCAN_TOY_HOT_ON as a single
-    point kept at the retry electronic temperature (as ``XtbEngine`` does when even the restart fails)."""
+    """A toy engine that counts every computed geometry of structures named with ``hot_on`` as a single point
+    kept at the retry electronic temperature (as ``XtbEngine`` does when even the restart fails)."""
+
+    def __init__(self, hot_on: str | None):
+        super().__init__()
+        self.hot_on = hot_on
 
     def check(self, name: str) -> None:
-        """Count a kept hot single point for structures whose name contains the word."""
+        """Count a kept hot single point for structures whose name contains ``hot_on``."""
         super().check(name)
-        word = os.environ.get("ELIMSCAN_TOY_HOT_ON")
-        if word and word in name:
+        if self.hot_on and self.hot_on in name:
             self.stats.hot_points += 1
 
 
 def hot_point_engine(method) -> ToyJobEngine:
-    """Engine factory of the retry-temperature tests: see ``_HotPointEngine``."""
-    return _HotPointEngine()
+    """Engine factory of the retry-temperature tests: ELIMSCAN_TOY_HOT_ON=word (see ``_HotPointEngine``)."""
+    return _HotPointEngine(os.environ.get("ELIMSCAN_TOY_HOT_ON") or None)
