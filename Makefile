@@ -13,7 +13,7 @@ export MKL_NUM_THREADS ?= 1
 export OMP_STACKSIZE ?= 1G
 export MPLBACKEND ?= Agg
 
-.PHONY: validate demo test test-fast bench schema clean check-python browser-deps
+.PHONY: validate demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -61,6 +61,12 @@ bench: $(VENV)/.installed
 	$(VPY) benchmarks/bench_substitution.py
 	$(VPY) benchmarks/bench_batch.py
 	$(VPY) benchmarks/bench_dft.py
+
+# GFN2-xTB checks whose verdict flips with the OpenBLAS kernel or a 0.001 Å nudge of the starting geometries, and
+# the demo under two kernels (about an hour on two cores; not part of make test). Resumable in SWEEP_DIR.
+SWEEP_DIR ?= results/kernel-sweep
+kernel-sweep: $(VENV)/.installed
+	$(VPY) benchmarks/kernel_sweep.py --work $(SWEEP_DIR) --demo
 
 # Reference cases against experiment (tens of minutes; not part of make test): writes validation/VALIDATION.md
 validate: $(VENV)/.installed

@@ -135,14 +135,15 @@ def test_every_base_model_runs_a_whole_job_on_the_toy_engine(model, cluster_smil
 
 @pytest.mark.xtb
 def test_an_ion_paired_microsolvated_methoxide_eliminates_from_chloroethane_with_gfn2():
-    """GFN2-xTB, ALPB(methanol): Na+ -OMe with one methanol takes a proton from chloroethane, chloride leaves."""
+    """GFN2-xTB, ALPB(methanol): Na+ -OMe with one methanol takes a proton from chloroethane, chloride leaves,
+    over a verified saddle well above the reactant complex."""
     from elimscan.engine import EngineSettings, XtbEngine
     from elimscan.pipeline import compute_job_paths, relax_base, analyze_substrate, BaseAnalysis
     from elimscan.config import MethodConfig, SolventConfig
-    from elimscan.paths import Reactive, neb_end_points
+    from elimscan.units import KCAL_MOL_PER_HARTREE
 
     method = MethodConfig(solvent=SolventConfig(model="alpb", name="methanol"))
-    paths = PathConfig(approaches=("anti",), substitution=False, base_rotations=1, saddle={"refine": False})
+    paths = PathConfig(approaches=("anti",), substitution=False, base_rotations=1, saddle={"neb_fallback": False})
     base_cfg = BaseConfig(name="methoxide", model={"counter_ion": "Na", "explicit": 1})
     config = RunConfig(method=method, substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
                        bases=(base_cfg,), paths=paths,
@@ -153,16 +154,15 @@ def test_an_ion_paired_microsolvated_methoxide_eliminates_from_chloroethane_with
     analysis = analyze_substrate(config.substrates[0], config, engine)
     result = compute_job_paths(analysis, BaseAnalysis(relaxed, info), config, engine)
     path = next(iter(result.values()))
-    assert 0 < path.maximum_index < len(path.points) - 1  # a barrier between complex and products
-    # the path end, relaxed freely, is on the product side by the verification's own criteria
-    # (C-Cl >= 3.0 Å and base-H <= 1.1 Å: chloride gone, methanol formed)
-    b, lg = analysis.classes[0].beta_class, analysis.substrate.leaving_group
-    n = len(analysis.ensemble.lowest.atoms)
-    reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
-                        n + info.basic_atom_index)
-    ends = neb_end_points(path.complex, list(path.points), reactive, engine, relaxed.record.charge, 1,
-                          config.optimizer, config.paths.saddle)
-    assert ends is not None, path.points[-1].distances
+    # Judged on the verified saddle (one imaginary mode; relaxing both ways along it reaches the reactant
+    # complex and the products: chloride gone, methanol formed), not on which driven point is highest: the top
+    # of this path is flat and double-humped, and the index of its highest point, like the last point's
+    # unfinished relaxation, differs between OpenBLAS kernels (measured: Haswell top at driven point 9 and a
+    # saddle 20.3 kcal/mol above the complex; SkylakeX top at point 8, Sella fails there and succeeds from
+    # point 9, saddle 20.9 kcal/mol). The margin of the bound below is about 15 kcal/mol on both.
+    assert path.saddle.verified, path.saddle.reason
+    barrier = (path.saddle.energy_hartree - path.complex.energy_hartree) * KCAL_MOL_PER_HARTREE
+    assert barrier > 5.0, barrier  # a real barrier between complex and products, unlike the bare anion's
 
 
 def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_report():

@@ -391,3 +391,24 @@ def test_path_starts_each_give_a_path_and_the_record_reports_their_spread():
         assert h.anti.barrier_combination == "boltzmann"
         # the combined barrier is at or below the lowest single path top (parallel channels only add rate)
         assert h.anti.barrier_kcal_mol <= h.anti.relaxed_path_estimate_kcal_mol + 1e-9
+
+
+def test_an_unfinished_point_above_a_finished_interior_top_is_not_the_path_top():
+    # Seen on one linear-algebra kernel (OpenBLAS SkylakeX): the last constrained relaxation of an ion-pair path
+    # strayed and stopped unfinished 24 kcal/mol above its finished neighbour; taking it as the top hid the
+    # interior maximum and sent the saddle search down three fallbacks. The top is the highest finished point.
+    from elimscan.paths import UNFINISHED_ABOVE, path_top_index
+
+    reactive = Reactive(0, 1, 2, 3, 4)
+    path = [_point(0.0, 1.8, 2.0), _point(0.034, 2.2, 1.3), _point(0.030, 2.4, 1.2), _point(0.011, 2.9, 1.0),
+            _point(0.048, 3.5, 1.15, converged=False)]
+    assert path_top_index(path) == 1
+    flags = path_flags(path, path_top_index(path), reactive, (), False)
+    assert flags == (f"{UNFINISHED_ABOVE} (driven point 4 of 4)",)
+    # an unfinished point below the finished top changes nothing
+    path[4] = _point(0.005, 3.5, 1.0, converged=False)
+    assert path_top_index(path) == 1 and path_flags(path, 1, reactive, (), False) == ()
+    # with no finished point at all, the highest point is still returned (and flagged as an upper bound)
+    unfinished = [_point(e, 2.0, 1.5, converged=False) for e in (0.0, 0.02, 0.01)]
+    assert path_top_index(unfinished) == 1
+    assert path_flags(unfinished, 1, reactive, (), False) == (UNFINISHED_MAXIMUM,)

@@ -131,6 +131,9 @@ class SaddleConfig(_Frozen):
 
     #: refine a first-order saddle with Sella from the relaxed-path maximum
     refine: bool = True
+    #: Sella starts tried from the path before the fallbacks: the highest finished interior points, highest
+    #: first (a flat, double-humped top can make Sella fail from one point and succeed from its neighbour)
+    path_starts: int = Field(3, ge=1, le=10)
     #: start Sella from a finite-difference Hessian (6N+1 gradients) instead of its model Hessian
     exact_initial_hessian: bool = True
     max_steps: int = Field(300, ge=1)

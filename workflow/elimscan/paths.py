@@ -14,7 +14,7 @@ no file I/O.
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from ase import Atoms
@@ -410,18 +410,40 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
                         "one imaginary mode; connects the reactant complex with the products", mode, hessian)
 
 
+#: flag of a path with an unfinished point above its finished top (that point is not taken as the top)
+UNFINISHED_ABOVE = "an unfinished relaxation lies above the path top and was not taken as the top"
 #: flag of a path whose highest point was not relaxed to the convergence limit
 UNFINISHED_MAXIMUM = ("the path maximum is an unfinished relaxation (optimizer.max_steps reached): its energy is "
                       "an upper bound")
 
 
+def path_top_index(points: Sequence[PathPoint]) -> int:
+    """Return the index of the path's highest point among finished relaxations (all points if none finished).
+
+    An unfinished constrained relaxation can stray into another region (seen: one linear-algebra kernel
+    left the last point of a path unfinished 24 kcal/mol above its neighbour), so its energy bounds that
+    point from above but is not a point of the path; it is never preferred over a finished point.
+    """
+    energies = [p.energy_hartree for p in points]
+    finished = [k for k, p in enumerate(points) if p.converged]
+    if not finished:
+        return int(np.argmax(energies))
+    return max(finished, key=lambda k: energies[k])
+
+
 def maximum_flags(points: Sequence[PathPoint], maximum_index: int) -> list[str]:
-    """Return warnings about the path maximum itself: an end point, or an unfinished relaxation."""
+    """Return warnings about the path maximum itself: an end point, an unfinished relaxation, or an
+    unfinished point above it that was not taken as the top."""
     flags = []
     if maximum_index in (0, len(points) - 1):
         flags.append("no interior maximum along the path: the estimate is an end point")
     if not points[maximum_index].converged:
         flags.append(UNFINISHED_MAXIMUM)
+    above = [k for k, p in enumerate(points)
+             if not p.converged and p.energy_hartree > points[maximum_index].energy_hartree]
+    if above and points[maximum_index].converged:
+        flags.append(f"{UNFINISHED_ABOVE} (driven point{'s' if len(above) > 1 else ''} "
+                     f"{', '.join(str(k) for k in above)} of {len(points) - 1})")
     return flags
 
 
@@ -444,6 +466,38 @@ def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, 
     if not syn and abs(phi) < 120:
         flags.append(f"the path rotated away from anti (H-C-C-X {phi:.0f} deg at the maximum)")
     return tuple(flags)
+
+
+def saddle_starts(points: Sequence[PathPoint], top: int, count: int) -> list[int]:
+    """Return the indices of up to ``count`` interior path points to start Sella from: the top first, then the
+    other finished interior points, highest first."""
+    interior = range(1, len(points) - 1)
+    if top not in interior:
+        return []
+    others = sorted((k for k in interior if k != top and points[k].converged),
+                    key=lambda k: points[k].energy_hartree, reverse=True)
+    return [top] + others[:count - 1]
+
+
+def refine_from_path(points: Sequence[PathPoint], top: int, reactive, engine, charge: int, multiplicity: int,
+                     settings: PathConfig, optimizer: OptimizerConfig, name: str) -> SaddleResult:
+    """Return the first verified saddle refined from the path's highest interior points (see ``saddle_starts``),
+    else the first start's failure with the number of further starts that failed."""
+    starts = saddle_starts(points, top, settings.saddle.path_starts)
+    if not starts:
+        return SaddleResult(None, None, False, "none", None, (), "no interior maximum along the path",
+                            error_type="no_interior_maximum")
+    first = None
+    for rank, k in enumerate(starts):
+        method = "sella from the path maximum" if rank == 0 else f"sella from driven point {k} (path start {rank + 1})"
+        saddle = refine_and_verify(points[k].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
+                                   name=f"{name} saddle", method=method)
+        if saddle.verified:
+            return saddle
+        first = saddle if first is None or first.atoms is None else first
+    if len(starts) == 1:
+        return first
+    return replace(first, reason=f"{first.reason}; {len(starts) - 1} more start(s) from the path also failed")
 
 
 def _keep_first_failure(first: SaddleResult, second: SaddleResult, source: str) -> SaddleResult:
@@ -488,16 +542,12 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
                              name=f"{name} complex", rank=orientation_rank)
     points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
                            hold_dihedral_deg=settings.syn_dihedral_deg if syn else None, name=f"{name} path")
-    top = int(np.argmax([p.energy_hartree for p in points]))
+    top = path_top_index(points)
     before_saddle = engine.stats.misses
     if not settings.saddle.refine:
         saddle = SaddleResult(None, None, False, "none", None, (), "not refined (paths.saddle.refine is false)")
     else:
-        saddle = SaddleResult(None, None, False, "none", None, (), "no interior maximum along the path",
-                              error_type="no_interior_maximum")
-        if 0 < top < len(points) - 1:
-            saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
-                                       name=f"{name} saddle", method="sella from the path maximum")
+        saddle = refine_from_path(points, top, reactive, engine, charge, multiplicity, settings, optimizer, name)
         if not saddle.verified:  # fallback: the maximum of a base-H distance scan as the starting guess
             guess = base_h_scan_maximum(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
                                         settings.syn_dihedral_deg if syn else None, name=f"{name} base-H scan")
@@ -537,15 +587,12 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
             best = (result.atoms, result.energy_hartree, rotation)
     complex_ = ComplexResult(best[0], best[1], best[2], tuple(energies), spent)
     points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer, name=f"{name} path")
-    top = int(np.argmax([p.energy_hartree for p in points]))
+    top = path_top_index(points)
     before_saddle = engine.stats.misses
-    if settings.saddle.refine and 0 < top < len(points) - 1:
-        saddle = refine_and_verify(points[top].atoms, reactive, engine, charge, multiplicity, settings, optimizer,
-                                   name=f"{name} saddle", method="sella from the path maximum")
+    if settings.saddle.refine:
+        saddle = refine_from_path(points, top, reactive, engine, charge, multiplicity, settings, optimizer, name)
     else:
-        saddle = SaddleResult(None, None, False, "none", None, (),
-                              "not refined" if not settings.saddle.refine else "no interior maximum along the path",
-                              error_type=None if not settings.saddle.refine else "no_interior_maximum")
+        saddle = SaddleResult(None, None, False, "none", None, (), "not refined")
     if settings.saddle.refine and not saddle.verified and settings.saddle.neb_fallback:
         saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings, optimizer,
                                name)
