@@ -12,14 +12,14 @@ from __future__ import annotations
 import argparse
 import time
 
-from elimscan.threads import configure_threads
+from elimscan.engines.threads import configure_threads
 
 configure_threads(1)
 
 from elimscan.config import DftConfig, SolventConfig  # noqa: E402
-from elimscan.dft import dft_level, missing_pyscf, single_point  # noqa: E402
-from elimscan.paths import place_base  # noqa: E402
-from elimscan.structures import build_molecule  # noqa: E402
+from elimscan.engines.dft import dft_level, missing_pyscf, single_point  # noqa: E402
+from elimscan.drivers.paths import place_base  # noqa: E402
+from elimscan.chem.structures import build_molecule  # noqa: E402
 
 SEED = 20261202
 

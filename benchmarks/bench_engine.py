@@ -13,15 +13,15 @@ import statistics
 import sys
 import time
 
-from elimscan.threads import configure_threads
+from elimscan.engines.threads import configure_threads
 
 configure_threads(1)
 
 from elimscan.config import OptimizerConfig  # noqa: E402
-from elimscan.engine import EngineSettings, XtbEngine  # noqa: E402
+from elimscan.engines.xtb import EngineSettings, XtbEngine  # noqa: E402
 from elimscan.geometry import dihedral_deg  # noqa: E402
-from elimscan.relax import HeldDihedral, relax  # noqa: E402
-from elimscan.structures import build_molecule  # noqa: E402
+from elimscan.drivers.relax import HeldDihedral, relax  # noqa: E402
+from elimscan.chem.structures import build_molecule  # noqa: E402
 
 SIZES = {"~15 atoms": "CC(Cl)CC", "~35 atoms": "CCCCCCCCCC(Cl)C", "~70 atoms": "CCCCCCCCCCCCCCCCCCCCC(Cl)C"}
 REPEATS = 9

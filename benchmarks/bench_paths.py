@@ -9,13 +9,13 @@ from __future__ import annotations
 import sys
 import time
 
-from elimscan.threads import configure_threads
+from elimscan.engines.threads import configure_threads
 
 configure_threads(1)
 
 from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, SubstrateConfig  # noqa: E402
-from elimscan.engine import EngineSettings, XtbEngine  # noqa: E402
-from elimscan.pipeline import run_config  # noqa: E402
+from elimscan.engines.xtb import EngineSettings, XtbEngine  # noqa: E402
+from elimscan.pipeline.compute import run_config  # noqa: E402
 
 
 def main() -> int:

@@ -11,14 +11,14 @@ from __future__ import annotations
 import sys
 import time
 
-from elimscan.threads import configure_threads
+from elimscan.engines.threads import configure_threads
 
 configure_threads(1)
 
-from elimscan.bases import describe_base  # noqa: E402
+from elimscan.chem.bases import describe_base  # noqa: E402
 from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, SubstrateConfig  # noqa: E402
-from elimscan.engine import EngineSettings, XtbEngine  # noqa: E402
-from elimscan.pipeline import (DETAIL, SUBSTITUTION_KEY, BaseAnalysis, analyze_substrate,  # noqa: E402
+from elimscan.engines.xtb import EngineSettings, XtbEngine  # noqa: E402
+from elimscan.pipeline.compute import (DETAIL, SUBSTITUTION_KEY, BaseAnalysis, analyze_substrate,  # noqa: E402
                                compute_job_paths, relax_molecule)
 
 #: the progress message compute_job_paths sends just before the SN2 path (it is computed after every E2 path)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import os
 
-from elimscan.threads import configure_threads
+from elimscan.engines.threads import configure_threads
 
 configure_threads(int(os.environ.get("ELIMSCAN_TEST_THREADS", "1")))
 os.environ.setdefault("MPLBACKEND", "Agg")
@@ -13,7 +13,7 @@ import numpy as np  # noqa: E402  (after the thread settings on purpose)
 import pytest  # noqa: E402
 from ase import Atoms  # noqa: E402
 
-from elimscan.structures import build_molecule  # noqa: E402
+from elimscan.chem.structures import build_molecule  # noqa: E402
 
 SEED = 20261202
 
@@ -21,7 +21,7 @@ SEED = 20261202
 @pytest.fixture(scope="session")
 def gfn2_gas():
     """Return a GFN2-xTB gas-phase engine on the default backend (tblite)."""
-    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
 
     return XtbEngine(EngineSettings(hamiltonian="GFN2-xTB", backend="tblite", solvent_model="none"))
 
@@ -52,7 +52,7 @@ def _install_starting_geometry_jitter(amplitude_A: float, seed: int = SEED) -> N
     import pkgutil
 
     import elimscan
-    from elimscan import structures
+    from elimscan.chem import structures
 
     original = structures.mol_to_atoms
     noise = np.random.default_rng(seed)

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import pytest
 
-from elimscan.analysis import (ClassFacts, GeometrySample, Periplanar, best_periplanar, is_trans, rule_status,
+from elimscan.analysis.rule import (ClassFacts, GeometrySample, Periplanar, best_periplanar, is_trans, rule_status,
                                rule_verdict)
 from elimscan.config import RuleConfig
-from elimscan.perception import Alkene
+from elimscan.chem.perception import Alkene
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 RULE = RuleConfig()
@@ -87,7 +87,7 @@ def test_is_trans_reads_the_double_bond_stereo():
 
 def test_boltzmann_weights_with_degeneracy():
     # Two equal barriers with degeneracies 3 and 2 give 60/40 (Curtin-Hammett with path degeneracy).
-    from elimscan.analysis import PathBarrier, product_fractions
+    from elimscan.analysis.rule import PathBarrier, product_fractions
 
     paths = [PathBarrier("C1-H", "anti", "A", 5.0, 3), PathBarrier("C3-H", "anti", "B", 5.0, 2)]
     fractions = product_fractions(paths, 298.15)
@@ -96,7 +96,7 @@ def test_boltzmann_weights_with_degeneracy():
 
 def test_boltzmann_factor_at_room_temperature():
     # 1.364 kcal/mol is a factor of ten at 298.15 K (RT ln 10; R from ase.units via elimscan.units).
-    from elimscan.analysis import PathBarrier, product_fractions
+    from elimscan.analysis.rule import PathBarrier, product_fractions
 
     paths = [PathBarrier("a", "anti", "A", 0.0, 1), PathBarrier("b", "anti", "B", 1.3642, 1)]
     fractions = product_fractions(paths, 298.15)
@@ -104,7 +104,7 @@ def test_boltzmann_factor_at_room_temperature():
 
 
 def test_paths_to_the_same_alkene_add_up_and_ranges_bracket_the_fraction():
-    from elimscan.analysis import PathBarrier, fraction_ranges, product_fractions
+    from elimscan.analysis.rule import PathBarrier, fraction_ranges, product_fractions
 
     paths = [PathBarrier("a", "anti", "A", 5.0, 1), PathBarrier("a", "syn", "B", 5.0, 1),
              PathBarrier("b", "anti", "B", 5.0, 1)]
@@ -116,7 +116,7 @@ def test_paths_to_the_same_alkene_add_up_and_ranges_bracket_the_fraction():
 
 
 def test_verdicts_side_by_side():
-    from elimscan.analysis import PathBarrier, compare_verdicts, product_fractions
+    from elimscan.analysis.rule import PathBarrier, compare_verdicts, product_fractions
 
     paths = [PathBarrier("C1-H", "anti", "C=CCC", 4.0, 3), PathBarrier("C3-Ha", "anti", "C/C=C/C", 6.5, 1)]
     fractions = product_fractions(paths, 298.15)
@@ -139,7 +139,7 @@ def test_hammett_fit_recovers_a_known_line():
     # from elimscan: R = 8.314462618 J/(mol K) (CODATA 2018, exact) and 4184 J per thermochemical kcal.
     import math
 
-    from elimscan.analysis import hammett_fit
+    from elimscan.analysis.rule import hammett_fit
 
     sigmas = [-0.27, 0.0, 0.23, 0.54]  # OMe, H, Cl, CF3 (Hansch, Leo & Taft, Chem. Rev. 1991, 91, 165; from memory)
     rt_ln10 = 8.314462618 / 4184.0 * 298.15 * math.log(10)
@@ -153,8 +153,8 @@ def test_hammett_fit_recovers_a_known_line():
 
 
 def test_hammett_fit_of_equal_barriers_has_no_r_squared_and_equal_sigmas_are_refused():
-    from elimscan.analysis import hammett_fit
-    from elimscan.report import r_squared_text
+    from elimscan.analysis.rule import hammett_fit
+    from elimscan.output.text import r_squared_text
 
     flat = hammett_fit([-0.27, 0.0, 0.54], [10.0, 10.0, 10.0], 298.15)
     assert flat.rho == 0.0 and flat.r_squared is None  # 0/0: a flat line explains nothing
@@ -169,7 +169,7 @@ def test_path_starts_are_distinct_anti_geometries_lowest_first():
     from rdkit.Chem import AllChem, rdMolAlign
     from ase import Atoms
 
-    from elimscan.analysis import periplanar_starts
+    from elimscan.analysis.rule import periplanar_starts
     from elimscan.geometry import dihedral_deg
 
     mol = Chem.AddHs(Chem.MolFromSmiles("CCC(Br)CCC"))  # 3-bromohexane: many backbone rotamers
@@ -208,7 +208,7 @@ def test_boltzmann_combination_of_parallel_channels():
     """Two equal channels are worth RT ln 2 (statistical mechanics of parallel paths; common practice)."""
     import math
 
-    from elimscan.analysis import boltzmann_combined
+    from elimscan.analysis.rule import boltzmann_combined
     from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
     rt = BOLTZMANN_KCAL_MOL_PER_K * 298.15

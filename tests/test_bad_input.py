@@ -221,7 +221,7 @@ def prepare(folder: Path, setup: str | None) -> None:
         (folder / "out").mkdir()
         (folder / "out" / "results.json").write_text('{"finished": "by an earlier run"}\n')
     elif setup == "batch_store":
-        from elimscan.store import STORE_FILE, JobStore
+        from elimscan.batch.store import STORE_FILE, JobStore
 
         (folder / "out").mkdir()
         JobStore(folder / "out" / STORE_FILE).close()

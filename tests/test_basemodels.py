@@ -13,12 +13,12 @@ import pytest
 from rdkit import Chem
 from rdkit.Chem.rdMolDescriptors import CalcMolFormula
 
-from elimscan.basemodels import (CATION_DISTANCE_A, HYDROGEN_BOND_A, build_cluster, conjugate_acid_smiles,
+from elimscan.chem.basemodels import (CATION_DISTANCE_A, HYDROGEN_BOND_A, build_cluster, conjugate_acid_smiles,
                                  lone_pair_directions)
-from elimscan.bases import describe_base
+from elimscan.chem.bases import describe_base
 from elimscan.config import BaseConfig, BaseModelConfig, PathConfig, RunConfig, SubstrateConfig
 from elimscan.errors import StructureError
-from elimscan.structures import build_molecule
+from elimscan.chem.structures import build_molecule
 
 
 def _hill(atoms) -> str:
@@ -104,7 +104,7 @@ def test_an_explicit_molecule_without_a_donor_hydrogen_fails_the_base_by_name():
 def _toy_run(model: dict):
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline import job_record, run_config
+    from elimscan.pipeline.compute import job_record, run_config
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=2, saddle={"refine": False})
     config = RunConfig(substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
@@ -137,8 +137,8 @@ def test_every_base_model_runs_a_whole_job_on_the_toy_engine(model, cluster_smil
 def test_an_ion_paired_microsolvated_methoxide_eliminates_from_chloroethane_with_gfn2():
     """GFN2-xTB, ALPB(methanol): Na+ -OMe with one methanol takes a proton from chloroethane, chloride leaves,
     over a verified saddle well above the reactant complex."""
-    from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.pipeline import compute_job_paths, relax_base, analyze_substrate, BaseAnalysis
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.pipeline.compute import compute_job_paths, relax_base, analyze_substrate, BaseAnalysis
     from elimscan.config import MethodConfig, SolventConfig
     from elimscan.units import KCAL_MOL_PER_HARTREE
 
@@ -169,10 +169,10 @@ def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_repor
     """Toy engine, whole run: methoxide bare and as a Na+ ion pair on chloroethane -> one comparison group."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.htmlreport import base_model_section
-    from elimscan.pipeline import job_record, run_config
-    from elimscan.records import RunResult
-    from elimscan.report import base_model_groups, base_model_table
+    from elimscan.output.html import base_model_section
+    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.results.records import RunResult
+    from elimscan.output.text import base_model_groups, base_model_table
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=1, saddle={"refine": False})
     config = RunConfig(substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),

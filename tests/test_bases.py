@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from elimscan.bases import describe_base
+from elimscan.chem.bases import describe_base
 from elimscan.errors import StructureError
 
 

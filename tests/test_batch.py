@@ -22,12 +22,12 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from elimscan.batch import (BatchOptions, FolderLock, files_intact, job_key, lock_holder,
+from elimscan.batch.driver import (BatchOptions, FolderLock, files_intact, job_key, lock_holder,
                             plan_batch, read_status, read_substrate_file, run_batch)
 from elimscan.config import parse_config
-from elimscan.engine import CacheStats
+from elimscan.engines.xtb import CacheStats
 from elimscan.errors import ConfigError, EngineError, ExitCode, OutputError, StructureError
-from elimscan.store import STORE_FILE, JobStore, StoredJob
+from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from toyjobs import TOY_SETTINGS, without_timings
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -289,7 +289,7 @@ def test_store_counts_a_job_only_once_its_row_is_committed(tmp_path):
 
 
 def test_files_are_checked_against_their_checksums(tmp_path):
-    from elimscan.batch import write_file_atomic
+    from elimscan.batch.driver import write_file_atomic
 
     entry = write_file_atomic(tmp_path, "jobs/a/b.xyz", b"3\nframe\n")
     files = [(entry.path, entry.sha256, entry.size_bytes)]
@@ -304,7 +304,7 @@ def test_files_are_checked_against_their_checksums(tmp_path):
 HOLD_LOCK = """
 import sys, time
 from pathlib import Path
-from elimscan.batch import FolderLock
+from elimscan.batch.driver import FolderLock
 FolderLock(Path(sys.argv[1])).acquire()
 print("locked", flush=True)
 time.sleep(600)
@@ -331,7 +331,7 @@ def test_progress_is_a_live_line_on_a_terminal_and_one_line_per_job_elsewhere(ca
     import io
     import logging
 
-    from elimscan.batch import BatchEvent
+    from elimscan.batch.driver import BatchEvent
     from elimscan.cli import _BatchProgress
 
     class Terminal(io.StringIO):

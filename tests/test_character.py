@@ -6,7 +6,7 @@ import math
 
 import pytest
 
-from elimscan.character import fractional_cleavage, saddle_character
+from elimscan.analysis.character import fractional_cleavage, saddle_character
 
 
 def test_pauling_bond_order_definition():
@@ -29,11 +29,11 @@ def test_beta_phenyl_and_poorer_leaving_group_move_the_saddle_toward_carbanion_l
     # leaving group (Cl below Br) shift the E2 saddle toward the carbanion-like (E1cb-like) side, C-H cleavage
     # ahead of C-X cleavage (Bunnett, Angew. Chem. Int. Ed. 1962, 1, 225, from memory; March's Advanced
     # Organic Chemistry, the E2 mechanism chapter, from memory). Measure: c_h_cleavage - c_x_cleavage of the
-    # verified anti saddle (Pauling bond orders, elimscan.character), ethoxide in ALPB(ethanol), GFN2-xTB.
+    # verified anti saddle (Pauling bond orders, elimscan.analysis.character), ethoxide in ALPB(ethanol), GFN2-xTB.
     from elimscan.config import (BaseConfig, ConformerConfig, MethodConfig, PathConfig, RunConfig, SolventConfig,
                                  SubstrateConfig)
-    from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.pipeline import job_record, run_config
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.pipeline.compute import job_record, run_config
 
     config = RunConfig(
         method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),

@@ -86,7 +86,7 @@ def test_empty_and_non_mapping_configs_are_refused():
 
 def test_solvent_aliases_resolve_to_canonical_names():
     config = parse_config(GOOD.replace("model: alpb, name: ethanol", "model: gbsa, name: H2O"))
-    from elimscan.engine import EngineSettings
+    from elimscan.engines.xtb import EngineSettings
 
     assert EngineSettings.from_method(config.method).solvent_name == "water"
 

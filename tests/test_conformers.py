@@ -6,7 +6,7 @@ import pytest
 from rdkit import Chem
 
 from elimscan.config import ConformerConfig, RunConfig, SubstrateConfig, BaseConfig
-from elimscan.conformers import HeavyAtomMatcher, build_ensemble, embed_conformers, saturated_six_rings
+from elimscan.drivers.conformers import HeavyAtomMatcher, build_ensemble, embed_conformers, saturated_six_rings
 from elimscan.geometry import ring_torsions_deg, six_ring_shape, substituent_orientation
 
 
@@ -58,7 +58,7 @@ A_VALUES = [("CC1CCCCC1", 1, 0, 1.72), ("CC(C)(C)C1CCCCC1", 4, 1, 4.9), ("ClC1CC
 @pytest.mark.slow
 @pytest.mark.parametrize("smiles, ring_atom, substituent, a_value", A_VALUES)
 def test_a_values_from_the_ensemble(smiles, ring_atom, substituent, a_value):
-    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
 
     mol = Chem.AddHs(Chem.MolFromSmiles(smiles))
     ensemble = build_ensemble(mol, XtbEngine(EngineSettings()), 0, 1, seed=20261202)
@@ -81,9 +81,9 @@ def test_a_values_from_the_ensemble(smiles, ring_atom, substituent, a_value):
 def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
     # Classic result (Hückel and co-workers on cyclic cis/trans isomers; standard textbooks): the H on the
     # methyl-bearing carbon is never anti-periplanar to Cl, so only 3-methylcyclohexene forms.
-    from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.bases import describe_base
-    from elimscan.pipeline import BaseAnalysis, RunOutcome, analyze_substrate, job_record, relax_molecule
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.chem.bases import describe_base
+    from elimscan.pipeline.compute import BaseAnalysis, RunOutcome, analyze_substrate, job_record, relax_molecule
 
     smiles = "C[C@@H]1CCCC[C@H]1Cl"
     config = RunConfig(substrates=(SubstrateConfig(name="t2m", smiles=smiles),),

@@ -20,7 +20,7 @@ from pathlib import Path
 import pytest
 
 from elimscan.errors import ExitCode
-from elimscan.store import STORE_FILE
+from elimscan.batch.store import STORE_FILE
 from toyjobs import TOY_SETTINGS, without_timings
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -13,7 +13,7 @@ import pytest
 from ase import Atoms
 
 from elimscan.config import BaseConfig, DftConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
-from elimscan.dft import (DIELECTRIC_CONSTANTS, SaddleCandidate, check_free_ions, dft_fractions, dft_level,
+from elimscan.engines.dft import (DIELECTRIC_CONSTANTS, SaddleCandidate, check_free_ions, dft_fractions, dft_level,
                           refine_job, select_saddles)
 from elimscan.errors import DftRefusedError
 from elimscan.solvents import DIELECTRIC_SOLVENTS
@@ -90,8 +90,8 @@ def test_missing_pyscf_skips_the_tier_and_the_job_stays_ok(monkeypatch):
     """Whole job on the toy engine with the tier on and PySCF hidden: recorded as skipped, with the install hint."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline import job_record, run_config
-    from elimscan.records import JobRecord
+    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.results.records import JobRecord
 
     for name in ("pyscf", "pyscf.dft", "pyscf.solvent", "pyscf.dispersion"):
         monkeypatch.setitem(sys.modules, name, None)  # import of these now raises ImportError
@@ -114,10 +114,10 @@ def test_tier_records_on_the_toy_engine_with_scripted_single_points(monkeypatch)
     from scipy.constants import R, calorie
     from toyjobs import ToyJobEngine
 
-    import elimscan.dft as dft
+    import elimscan.engines.dft as dft
     from elimscan.errors import DftError
-    from elimscan.pipeline import job_record, run_config
-    from elimscan.records import JobRecord
+    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.results.records import JobRecord
 
     calls: list[str] = []
 
@@ -162,7 +162,7 @@ def test_tier_records_on_the_toy_engine_with_scripted_single_points(monkeypatch)
 
 
 def test_dft_settings_enter_the_batch_key_only_when_the_tier_is_on():
-    from elimscan.batch import job_key
+    from elimscan.batch.driver import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),), bases=(BaseConfig(name="hydroxide"),))
     solvent, versions = SolventConfig(model="alpb", name="water"), {"elimscan": "test"}
@@ -198,7 +198,7 @@ def test_lowest_saddles_per_product_and_their_boltzmann_mix():
 def test_dispersion_correction_is_negative_and_in_the_energy():
     """D3(BJ) for B3LYP through pyscf-dispersion: present, negative, and inside the total energy (small molecule)."""
     pytest.importorskip("pyscf.dispersion")
-    from elimscan.dft import DftLevel, single_point
+    from elimscan.engines.dft import DftLevel, single_point
 
     methane = Atoms("CH4", positions=[(0, 0, 0), (0.629, 0.629, 0.629), (-0.629, -0.629, 0.629),
                                       (-0.629, 0.629, -0.629), (0.629, -0.629, -0.629)])
@@ -223,7 +223,7 @@ def test_dft_tier_on_chloroethane_with_hydroxide(tmp_path):
     pytest.importorskip("pyscf.dispersion")
     import jsonschema
 
-    from elimscan.records import RunResult, json_schema
+    from elimscan.results.records import RunResult, json_schema
 
     config = tmp_path / "tiny.yaml"
     config.write_text("""name: dft-tiny

@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from elimscan.engine import _SERIES, EngineSettings, XtbEngine
+from elimscan.engines.xtb import _SERIES, EngineSettings, XtbEngine
 from elimscan.units import ANGSTROM_PER_BOHR
 
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from elimscan.engine import EngineSettings, XtbEngine
+from elimscan.engines.xtb import EngineSettings, XtbEngine
 from elimscan.errors import ScfConvergenceError, SolventError
 from elimscan.solvents import SUPPORTED_SOLVENTS, XTB_PYTHON_NAMES
 from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
@@ -226,7 +226,7 @@ def test_dielectric_table_matches_the_minnesota_database_as_copied_in_pyscf():
 
 def _solvation_kcal(smiles: str, charge: int, model: str) -> float:
     """Return E(solvent model, methanol) - E(gas) at one MMFF geometry (kcal/mol)."""
-    from elimscan.structures import build_molecule
+    from elimscan.chem.structures import build_molecule
 
     atoms = build_molecule(smiles, 7).atoms
     gas = _engine("tblite").single_point(atoms, charge=charge).energy_hartree
@@ -265,7 +265,7 @@ def test_dielectric_continuum_matches_alpb_methanol_for_anions():
 def test_dielectric_continuum_matches_alpb_methanol_for_a_relative_e2_barrier():
     """One small E2 pair (anti vs syn, chloroethane + methoxide): relative barriers within 1.5 kcal/mol."""
     from elimscan.config import BaseConfig, MethodConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
-    from elimscan.pipeline import run_config
+    from elimscan.pipeline.compute import run_config
 
     gaps = {}
     for model in ("alpb", "dielectric"):

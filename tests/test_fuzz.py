@@ -16,8 +16,8 @@ from hypothesis import strategies as st
 
 from elimscan.config import RunConfig, parse_config
 from elimscan.errors import ConfigError, InputError, StructureError
-from elimscan.inputcheck import check_base
-from elimscan.perception import Substrate, check_substrate_topology, perceive_substrate
+from elimscan.chem.inputcheck import check_base
+from elimscan.chem.perception import Substrate, check_substrate_topology, perceive_substrate
 
 pytestmark = pytest.mark.fuzz
 

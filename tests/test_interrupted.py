@@ -20,10 +20,10 @@ from pathlib import Path
 import pytest
 
 from elimscan.atomicio import temporary_name, write_bytes_atomic
-from elimscan.batch import files_intact, lock_holder
+from elimscan.batch.driver import files_intact, lock_holder
 from elimscan.errors import ExitCode, OutputError
-from elimscan.reportfiles import build_report_files, validate_result_file
-from elimscan.store import STORE_FILE, JobStore
+from elimscan.output.files import build_report_files, validate_result_file
+from elimscan.batch.store import STORE_FILE, JobStore
 from toyjobs import TOY_SETTINGS, without_timings
 
 ROOT = Path(__file__).resolve().parents[1]

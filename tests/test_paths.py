@@ -15,10 +15,11 @@ from ase.calculators.calculator import Calculator, all_changes
 from elimscan.config import (BaseConfig, MethodConfig, OptimizerConfig, PathConfig, RunConfig, SolventConfig,
                              SubstrateConfig)
 from elimscan.geometry import distance
-from elimscan.hessian import finite_difference_hessian, harmonic_analysis
-from elimscan.paths import UNFINISHED_MAXIMUM, ComplexResult, PathPoint, Reactive, drive_path, path_flags, place_base
-from elimscan.relax import relax
-from elimscan.toyengine import SpringTorsionEngine
+from elimscan.drivers.hessian import finite_difference_hessian, harmonic_analysis
+from elimscan.results.flags import UNFINISHED_MAXIMUM
+from elimscan.drivers.paths import ComplexResult, PathPoint, Reactive, drive_path, path_flags, place_base
+from elimscan.drivers.relax import relax
+from elimscan.engines.toy import SpringTorsionEngine
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 BFGS = OptimizerConfig(name="bfgs")
@@ -137,7 +138,7 @@ class _CurvedDoubleWell(Calculator):
 
 def test_ci_neb_climbing_image_finds_the_analytic_saddle_off_the_straight_line():
     """The climbing image must sit on the known saddle (0, 0, 0), E = a, not on the interpolation's crossing."""
-    from elimscan.paths import neb_climbing_image
+    from elimscan.drivers.paths import neb_climbing_image
 
     class Engine:
         def calculator(self, charge=0, multiplicity=1, name=""):
@@ -157,8 +158,8 @@ def test_ci_neb_climbing_image_finds_the_analytic_saddle_off_the_straight_line()
 
 def test_saddle_search_falls_back_to_the_base_h_scan_and_then_to_a_ci_neb(embed, monkeypatch):
     """Order of the fallbacks, and a failure of every one is an unverified estimate carrying every reason."""
-    import elimscan.paths as paths
-    from elimscan.paths import SaddleResult, compute_path
+    import elimscan.drivers.paths as paths
+    from elimscan.drivers.paths import SaddleResult, compute_path
 
     substrate = embed("CCCl")
     base = embed("C[O-]")
@@ -198,7 +199,7 @@ def test_fewer_than_fifteen_neb_images_is_refused():
 @pytest.fixture(scope="module")
 def methanol_run():
     """Return (config, engine) for 2-halobutanes with methoxide in ALPB(methanol)."""
-    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
 
     config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="methanol")),
                        substrates=(SubstrateConfig(name="s", smiles="C[C@H](Cl)CC"),),
@@ -207,8 +208,8 @@ def methanol_run():
 
 
 def _c3_paths(smiles, config, engine, approaches):
-    from elimscan.pipeline import BaseAnalysis, analyze_substrate, compute_job_paths, relax_molecule
-    from elimscan.bases import describe_base
+    from elimscan.pipeline.compute import BaseAnalysis, analyze_substrate, compute_job_paths, relax_molecule
+    from elimscan.chem.bases import describe_base
 
     item = SubstrateConfig(name=smiles, smiles=smiles)
     analysis = analyze_substrate(item, config, engine)
@@ -248,7 +249,7 @@ def test_anti_beats_syn_and_bromide_beats_chloride(methanol_run):
     # Variable E2 transition state: the poorer leaving group (Cl) gives a more carbanion-like saddle, C-H
     # cleavage further ahead of C-X cleavage (Bunnett, Angew. Chem. Int. Ed. 1962, 1, 225, from memory;
     # March's Advanced Organic Chemistry).
-    from elimscan.character import saddle_character
+    from elimscan.analysis.character import saddle_character
 
     def lead(paths, key, analysis):
         saddle = paths[key][1].saddle
@@ -370,7 +371,7 @@ def test_path_starts_each_give_a_path_and_the_record_reports_their_spread():
     """Whole job on the toy engine: k backbone starts x 2 orientations -> 2k paths, Boltzmann-combined, spread."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline import job_record, run_config
+    from elimscan.pipeline.compute import job_record, run_config
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=3, base_rotations=2, backbone_conformers=3,
                        backbone_window_kcal_mol=50.0, orientation_paths=2, combine="boltzmann", saddle={"refine": False})
@@ -397,7 +398,8 @@ def test_an_unfinished_point_above_a_finished_interior_top_is_not_the_path_top()
     # Seen on one linear-algebra kernel (OpenBLAS SkylakeX): the last constrained relaxation of an ion-pair path
     # strayed and stopped unfinished 24 kcal/mol above its finished neighbour; taking it as the top hid the
     # interior maximum and sent the saddle search down three fallbacks. The top is the highest finished point.
-    from elimscan.paths import UNFINISHED_ABOVE, path_top_index
+    from elimscan.drivers.paths import path_top_index
+    from elimscan.results.flags import UNFINISHED_ABOVE
 
     reactive = Reactive(0, 1, 2, 3, 4)
     path = [_point(0.0, 1.8, 2.0), _point(0.034, 2.2, 1.3), _point(0.030, 2.4, 1.2), _point(0.011, 2.9, 1.0),

@@ -1,4 +1,4 @@
-"""Tests of elimscan.perception against outside references.
+"""Tests of elimscan.chem.perception against outside references.
 
 Every expected value names its source beside it: a publication (authors, journal, year),
 "common practice" for a rule of thumb with no single source, or "from memory" where the
@@ -17,7 +17,7 @@ from rdkit import Chem
 from rdkit.Chem import rdCIPLabeler, rdDistGeom, rdMolTransforms
 
 from elimscan.errors import InputError, StructureError
-from elimscan.perception import (
+from elimscan.chem.perception import (
     BetaHydrogenClass,
     StereoWarning,
     Substrate,

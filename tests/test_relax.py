@@ -8,8 +8,8 @@ import pytest
 from elimscan.config import OptimizerConfig
 from elimscan.errors import OptimizationError
 from elimscan.geometry import dihedral_deg, distance
-from elimscan.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
-from elimscan.toyengine import SpringTorsionEngine
+from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
+from elimscan.engines.toy import SpringTorsionEngine
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 # Ethane: atoms 0, 1 are C; 2-4 on C0, 5-7 on C1 (RDKit order for SMILES "CC").
@@ -110,7 +110,7 @@ def test_ethane_rotation_barrier_against_experiment(embed, gfn2_gas):
 
 
 def test_rigid_rotation_only_for_acyclic_bonds(embed):
-    from elimscan.relax import rotate_to_dihedral
+    from elimscan.drivers.relax import rotate_to_dihedral
 
     butane = embed("CCCC")
     quad = (0, 1, 2, 3)
@@ -161,7 +161,7 @@ def test_a_numerical_breakdown_inside_sella_is_a_failed_optimisation(ethane):
 
 
 def test_a_non_finite_engine_result_is_retried_then_an_engine_error(ethane, monkeypatch):
-    from elimscan.engine import EngineSettings, XtbEngine
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
     from elimscan.errors import EngineError
 
     class NanSeries:

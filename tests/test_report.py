@@ -31,14 +31,14 @@ import pytest
 import scipy.constants
 from rdkit import Chem
 
-from elimscan.analysis import compare_verdicts, fraction_ranges
+from elimscan.analysis.rule import compare_verdicts, fraction_ranges
 from elimscan.geometry import wrap_degrees
-from elimscan.htmlreport import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB, render_report, substrate_svg
-from elimscan.plots import (BARRIER_SHIFT_KCAL_MOL, closest_frame, figure_svg, job_figures, newman_figure, newman_inputs,
+from elimscan.output.html import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB, render_report, substrate_svg
+from elimscan.output.plots import (BARRIER_SHIFT_KCAL_MOL, closest_frame, figure_svg, job_figures, newman_figure, newman_inputs,
                             newman_view, path_figure, plot_name, product_figure, scan_figure)
-from elimscan.records import RESULT_SCHEMA_VERSION, JobRecord, RunResult
-from elimscan.reportfiles import build_report_files, read_scan_frames, validate_result_file
-from elimscan.tables import SUMMARY_COLUMNS, summary_csv
+from elimscan.results.records import RESULT_SCHEMA_VERSION, JobRecord, RunResult
+from elimscan.output.files import build_report_files, read_scan_frames, validate_result_file
+from elimscan.output.tables import SUMMARY_COLUMNS, summary_csv
 
 FIXTURES = Path(__file__).resolve().parent / "data" / "report-fixture"
 RUNS = ("halobutane", "ring")
@@ -263,7 +263,7 @@ def test_a_job_in_its_own_solvent_is_reported_in_it():
     assert "the jobs ran in several solvents" in words
     foots = [" ".join(e["text"] for e in s["elements"] if e["tag"] == "div" and "job-foot" in e["classes"])
              for s in page.sections]
-    assert "ALPB implicit solvent, ethanol" in foots[0] and "ALPB implicit solvent, water" in foots[1]
+    assert "implicit solvent ALPB(ethanol)" in foots[0] and "implicit solvent ALPB(water)" in foots[1]
 
 
 def test_csv_keeps_a_failed_job_as_one_row():
@@ -961,7 +961,7 @@ def test_report_renders_in_headless_chromium(tmp_path, built):
 
 
 def test_numerical_trouble_is_listed_in_the_summary_text_and_the_report():
-    from elimscan.report import summary_table
+    from elimscan.output.text import summary_table
 
     doc = raw("halobutane")
     assert not doc["summary"].get("trouble")  # every saddle of this fixture verified: nothing to list

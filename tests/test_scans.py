@@ -8,9 +8,9 @@ import pytest
 from elimscan.config import OptimizerConfig, ScanConfig
 from elimscan.errors import ScfConvergenceError
 from elimscan.geometry import dihedral_deg
-from elimscan.relax import relax
-from elimscan.scans import branch_plan, scan_dihedral
-from elimscan.toyengine import SpringTorsionEngine
+from elimscan.drivers.relax import relax
+from elimscan.drivers.scans import branch_plan, scan_dihedral
+from elimscan.engines.toy import SpringTorsionEngine
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 HCCH = (2, 0, 1, 5)  # ethane from SMILES "CC": C0, C1, H2-4 on C0, H5-7 on C1
@@ -96,7 +96,7 @@ def test_butane_gauche_anti_and_ethane_barrier_from_scans(embed, gfn2_gas):
     butane = relax(embed("CCCC"), gfn2_gas.calculator(), ()).atoms
     quad = (0, 1, 2, 3)
     if abs(dihedral_deg(butane.positions, *quad)) < 150:  # start from anti
-        from elimscan.relax import HeldDihedral
+        from elimscan.drivers.relax import HeldDihedral
 
         butane = relax(relax(butane, gfn2_gas.calculator(), [HeldDihedral(quad, 180.0)]).atoms, gfn2_gas.calculator(), ()).atoms
     phi0 = dihedral_deg(butane.positions, *quad)

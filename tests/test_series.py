@@ -24,11 +24,11 @@ import scipy.stats
 from elimscan.config import (BaseConfig, RunConfig, SeriesConfig, SeriesMemberConfig, SolventConfig,
                              SubstrateConfig, parse_config)
 from elimscan.errors import ConfigError
-from elimscan.plots import figure_png, figure_svg, series_figure, series_plot_name
-from elimscan.records import ErrorInfo, JobRecord, RunResult
-from elimscan.report import summary_table
-from elimscan.reportfiles import build_report_files, validate_result_file
-from elimscan.series import lowest_e2_barrier, series_records
+from elimscan.output.plots import figure_png, figure_svg, series_figure, series_plot_name
+from elimscan.results.records import ErrorInfo, JobRecord, RunResult
+from elimscan.output.text import summary_table
+from elimscan.output.files import build_report_files, validate_result_file
+from elimscan.analysis.series import lowest_e2_barrier, series_records
 
 ROOT = Path(__file__).resolve().parents[1]
 FIXTURE = ROOT / "tests" / "data" / "report-fixture" / "primary" / "results.json"
@@ -296,7 +296,7 @@ def test_a_batch_carries_the_series_in_results_and_batch_json(tmp_path):
 
 
 def test_a_batch_refuses_a_series_member_that_is_nowhere(tmp_path):
-    from elimscan.batch import plan_batch
+    from elimscan.batch.driver import plan_batch
 
     (tmp_path / "more.csv").write_text("name,smiles\nOMe,COc1ccc(CCCl)cc1\nCl,Clc1ccc(CCCl)cc1\n")
     (tmp_path / "batch.yaml").write_text(TINY_BATCH)
@@ -308,7 +308,7 @@ def test_a_batch_refuses_a_series_member_that_is_nowhere(tmp_path):
 
 def test_a_series_leaves_the_batch_job_keys_alone(tmp_path):
     # the series only reads finished jobs: adding one must not make a finished batch recompute anything
-    from elimscan.batch import plan_batch
+    from elimscan.batch.driver import plan_batch
 
     (tmp_path / "more.csv").write_text("name,smiles\nOMe,COc1ccc(CCCl)cc1\nCl,Clc1ccc(CCCl)cc1\nCF3,FC(F)(F)c1ccc(CCCl)cc1\n")
     (tmp_path / "batch.yaml").write_text(TINY_BATCH)

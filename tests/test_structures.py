@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from elimscan.errors import ExitCode, StructureError
-from elimscan.structures import build_molecule, parse_smiles
+from elimscan.chem.structures import build_molecule, parse_smiles
 
 
 @pytest.mark.parametrize(
@@ -49,7 +49,7 @@ def test_user_geometry_is_reordered_onto_the_smiles_atoms_and_checked():
     from rdkit.Chem import AllChem
 
     from elimscan.geometry import kabsch_rmsd
-    from elimscan.structures import atoms_from_geometry
+    from elimscan.chem.structures import atoms_from_geometry
 
     ours = Chem.AddHs(Chem.MolFromSmiles("C[C@@H](Br)CC"))
     theirs = Chem.AddHs(Chem.MolFromSmiles(Chem.CanonSmiles("C[C@@H](Br)CC")))  # same molecule, other atom order

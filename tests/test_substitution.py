@@ -5,8 +5,8 @@ from __future__ import annotations
 from rdkit import Chem
 from rdkit.Chem import rdCIPLabeler
 
-from elimscan.perception import perceive_substrate
-from elimscan.substitution import substitution_product
+from elimscan.chem.perception import perceive_substrate
+from elimscan.chem.substitution import substitution_product
 
 
 def _cip(smiles: str) -> str:

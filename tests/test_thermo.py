@@ -8,7 +8,7 @@ from ase import units
 from ase.build import molecule
 from ase.thermochemistry import IdealGasThermo
 
-from elimscan.thermo import (bigeleisen_mayer, free_rotor_entropy_J_per_K, harmonic_entropy_J_per_K, thermochemistry,
+from elimscan.analysis.thermo import (bigeleisen_mayer, free_rotor_entropy_J_per_K, harmonic_entropy_J_per_K, thermochemistry,
                              vibrational_entropy_J_per_K)
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
@@ -80,12 +80,12 @@ def test_primary_isotope_effect_of_2_phenylethyl_bromide_with_ethoxide():
     # PhCD2CH2Br + EtO- (deuterium on the beta carbon): experimental k_H/k_D about 7.1 (Saunders & Edison,
     # J. Am. Chem. Soc. 1960, 82, 138; from memory); usual E2 primary isotope effects 2.5-8 (common
     # practice). GFN2-xTB, ALPB(ethanol), harmonic Bigeleisen-Mayer at 298.15 K must fall in 2.5-8.
-    from elimscan.bases import describe_base
+    from elimscan.chem.bases import describe_base
     from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, SubstrateConfig
-    from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.freeenergy import isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
-    from elimscan.paths import Reactive, compute_path
-    from elimscan.pipeline import analyze_substrate, relax_molecule
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.drivers.freeenergy import isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
+    from elimscan.drivers.paths import Reactive, compute_path
+    from elimscan.pipeline.compute import analyze_substrate, relax_molecule
 
     config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),
                        substrates=(SubstrateConfig(name="pheb", smiles="BrCCc1ccccc1"),), bases=(BaseConfig(name="ethoxide"),))
@@ -132,12 +132,12 @@ def test_hammett_rho_of_2_arylethyl_bromides_is_positive():
     # Chem. Soc. 1960, 82, 2532, from memory). sigma_p: OMe -0.27, H 0, Cl 0.23, CF3 0.54 (Hansch, Leo & Taft,
     # Chem. Rev. 1991, 91, 165, from memory). Relaxed-path estimates of the anti path (saddles not refined,
     # to keep the test short), taken through the whole chain: run, job records, the config's series and
-    # its record (elimscan.series); the sign of rho is the check.
+    # its record (elimscan.analysis.series); the sign of rho is the check.
     from elimscan.config import (BaseConfig, MethodConfig, PathConfig, RunConfig, SaddleConfig, SeriesConfig,
                                  SeriesMemberConfig, SolventConfig, SubstrateConfig)
-    from elimscan.engine import EngineSettings, XtbEngine
-    from elimscan.pipeline import job_record, run_config
-    from elimscan.series import series_records
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.analysis.series import series_records
 
     sigma_p = {"COc1ccc(CCBr)cc1": -0.27, "BrCCc1ccccc1": 0.0, "Clc1ccc(CCBr)cc1": 0.23, "FC(F)(F)c1ccc(CCBr)cc1": 0.54}
     series = SeriesConfig(name="para-X 2-arylethyl bromides", base="ethoxide",

@@ -16,7 +16,7 @@ from pathlib import Path
 
 from elimscan.cli import main
 from elimscan.errors import ExitCode
-from elimscan.reportfiles import validate_result_file
+from elimscan.output.files import validate_result_file
 from elimscan.units import KCAL_MOL_PER_HARTREE
 from toyjobs import TOY_SETTINGS
 
@@ -68,8 +68,8 @@ def test_an_scf_failure_on_one_path_is_recorded_there_and_the_rest_goes_on(tmp_p
     assert "Traceback" not in err
     # saddles are not refined in these settings ('not refined': a setting, no trouble); one whose refinement
     # failed verification counts, the others do not
-    from elimscan.records import JobRecord
-    from elimscan.trouble import count_trouble
+    from elimscan.results.records import JobRecord
+    from elimscan.results.trouble import count_trouble
 
     jobs = [JobRecord.model_validate(j) for j in document["jobs"]]
     assert all(b.anti.saddle_note.startswith("not refined") for j in jobs for b in j.beta_hydrogens

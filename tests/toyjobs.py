@@ -16,9 +16,9 @@ import time
 
 from ase.calculators.calculator import Calculator, all_changes
 
-from elimscan.engine import CacheStats, SinglePoint
+from elimscan.engines.xtb import CacheStats, SinglePoint
 from elimscan.errors import ScfConvergenceError
-from elimscan.toyengine import SpringTorsionEngine
+from elimscan.engines.toy import SpringTorsionEngine
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 #: one kcal/mol in eV (from the project's CODATA-based units)

@@ -28,7 +28,7 @@ from pathlib import Path
 import yaml
 from rdkit import Chem
 
-from elimscan.analysis import PathBarrier, compare_verdicts, product_fractions
+from elimscan.analysis.rule import PathBarrier, compare_verdicts, product_fractions
 
 HERE = Path(__file__).resolve().parent
 #: result field per level: electronic dE, quasi-RRHO dG, DFT single points on the GFN2 saddles

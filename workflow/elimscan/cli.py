@@ -20,7 +20,7 @@ from pathlib import Path
 
 from elimscan import __version__
 from elimscan.errors import ConfigError, ElimscanError, ExitCode, OutputError
-from elimscan.threads import configure_threads
+from elimscan.engines.threads import configure_threads
 
 log = logging.getLogger("elimscan")
 
@@ -97,7 +97,7 @@ def _located(cls, err: Exception, config_path: str, key_path: str, text: str):
 
 def _plan_batch(config, config_path: str):
     """Return the batch plan of a config; an input error naming a key gets the file and the YAML line too."""
-    from elimscan.batch import plan_batch
+    from elimscan.batch.driver import plan_batch
     from elimscan.errors import InputError
 
     try:
@@ -119,20 +119,20 @@ def _check_structures(config, config_path: str) -> None:
     substrate, and bases need a basic atom: all before any calculation.
     """
     from elimscan.errors import StructureError
-    from elimscan.inputcheck import check_base, check_pair, check_substrate
+    from elimscan.chem.inputcheck import (check_base, check_pair, check_substrate, gas_phase_ion_problem,
+                                          modelled_charge)
 
     try:
         text = Path(config_path).read_text(encoding="utf-8")
     except OSError:
         text = ""
-    ions = []
+    charges: dict[str, int] = {}
     for index, item in enumerate(config.substrates):
         try:
             charge = check_substrate(item.smiles, item.charge, item.multiplicity, f"substrate '{item.name}'", config.seed)
         except StructureError as err:
             raise _located(StructureError, err, config_path, f"substrates.{index}.smiles", text) from err
-        if charge:
-            ions.append(f"substrate '{item.name}' (charge {charge:+d})")
+        charges[f"substrate '{item.name}'"] = charge
     base_index = {b.name: i for i, b in enumerate(config.bases)}
     for substrate, base in config.jobs():
         try:
@@ -144,15 +144,10 @@ def _check_structures(config, config_path: str) -> None:
             charge = check_base(item.smiles, item.charge, item.multiplicity, f"base '{item.name}'")
         except StructureError as err:
             raise _located(StructureError, err, config_path, f"bases.{index}.smiles", text) from err
-        if item.model.counter_ion is not None:
-            charge += 1  # the ion pair is the base model: its cation travels with it
-        if charge:
-            ions.append(f"base '{item.name}' (charge {charge:+d})")
-    if ions and config.method.solvent.model == "none":
-        raise _located(ConfigError,
-            f"gas phase requested, but free ions appear: {', '.join(ions)}. A free ion in the gas phase binds "
-            "anything it meets (complexation energies near -20 kcal/mol) and E2 saddles vanish; use an implicit "
-            "solvent (method.solvent: {model: alpb, name: ...})", config_path, "method.solvent.model", text)
+        charges[f"base '{item.name}'"] = modelled_charge(charge, item.model.counter_ion)
+    problem = gas_phase_ion_problem(config.method.solvent.model, charges)
+    if problem is not None:
+        raise _located(ConfigError, problem, config_path, "method.solvent.model", text)
 
 
 def _batch_only(config) -> list[str]:
@@ -172,7 +167,7 @@ def cmd_validate(args: argparse.Namespace) -> int:
                  plan.n_input_failures)
         return ExitCode.OK
     _check_structures(config, args.config)
-    from elimscan.batch import read_geometries
+    from elimscan.batch.driver import read_geometries
 
     read_geometries(config, Path(args.config).parent)
     log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
@@ -182,7 +177,7 @@ def cmd_validate(args: argparse.Namespace) -> int:
 
 def _prepare_output(out: Path, overwrite: bool) -> None:
     """Create the output folder; refuse one holding a finished run unless ``overwrite``."""
-    from elimscan.store import STORE_FILE
+    from elimscan.batch.store import STORE_FILE
 
     if (out / STORE_FILE).exists():
         raise OutputError(f"output folder '{out}' holds a batch ({STORE_FILE}); 'elimscan run' needs a folder of its "
@@ -218,7 +213,7 @@ def cmd_run(args: argparse.Namespace) -> int:
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
     _check_structures(config, args.config)  # input errors stop the run before any calculation
-    from elimscan.batch import read_geometries
+    from elimscan.batch.driver import read_geometries
 
     geometries = read_geometries(config, Path(args.config).parent)
     out = Path(args.out)
@@ -231,17 +226,17 @@ def cmd_run(args: argparse.Namespace) -> int:
     import numpy
     import rdkit
 
-    from elimscan.engine import EngineSettings, XtbEngine, backend_version
-    from elimscan import artifacts
-    from elimscan.pipeline import DETAIL, job_record, run_config, substrate_molecule_record
-    from elimscan.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
-    from elimscan.report import summary_table
-    from elimscan.series import series_records
-    from elimscan.trouble import count_trouble
+    from elimscan.engines.xtb import EngineSettings, XtbEngine, backend_version
+    from elimscan.pipeline import artifacts
+    from elimscan.pipeline.compute import DETAIL, job_record, run_config, substrate_molecule_record
+    from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
+    from elimscan.output.text import summary_table
+    from elimscan.analysis.series import series_records
+    from elimscan.results.trouble import count_trouble
 
     test_engine = os.environ.get("ELIMSCAN_TEST_ENGINE_FACTORY")  # test hook, see DEVELOPERS.md
     if test_engine:
-        from elimscan.workers import load_engine_factory
+        from elimscan.batch.workers import load_engine_factory
 
         engine = load_engine_factory(test_engine)(config.method)
     else:
@@ -299,7 +294,7 @@ def cmd_run(args: argparse.Namespace) -> int:
         series=series_records(config.series, jobs, config.method.temperature_K, config.analysis.energy),
     )
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
-    from elimscan.reportfiles import build_report_files
+    from elimscan.output.files import build_report_files
 
     try:
         _write_files(out, build_report_files(out))
@@ -375,7 +370,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
     config = _read_config(args.config)
     if args.threads is None:  # before anything loads a backend or BLAS
         configure_threads(config.threads.per_process)
-    from elimscan.batch import BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, prepare_batch_folder, run_batch
+    from elimscan.batch.driver import BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, prepare_batch_folder, run_batch
 
     executor = config.executor
     update = {}
@@ -429,7 +424,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
             if outcome.n_computed == 0:
                 log.info("nothing to compute: all %d job(s) of this config are finished in %s", outcome.n_jobs, out)
             if outcome.complete:
-                from elimscan.reportfiles import build_report_files
+                from elimscan.output.files import build_report_files
 
                 _write_files(out, build_report_files(out))
             for job_id, error in outcome.failures:
@@ -446,7 +441,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
 
 def cmd_status(args: argparse.Namespace) -> int:
     """Print the state of a batch folder from its store (read-only, also while the batch runs); return the exit code."""
-    from elimscan.batch import read_status
+    from elimscan.batch.driver import read_status
 
     status = read_status(Path(args.out))
     if status.config_name is None:
@@ -475,8 +470,8 @@ def cmd_summary(args: argparse.Namespace) -> int:
     """Print the summary table of a finished output folder; return the exit code."""
     from pydantic import ValidationError
 
-    from elimscan.records import RunResult
-    from elimscan.report import summary_table
+    from elimscan.results.records import RunResult
+    from elimscan.output.text import summary_table
 
     path = Path(args.out) / RESULTS_FILE
     try:
@@ -499,7 +494,7 @@ def _write_files(out: Path, files: dict[str, bytes]) -> None:
 
 def _checked_result_file(path: Path) -> None:
     """Raise OutputError when ``path`` is missing or does not match the results schema (problems are logged)."""
-    from elimscan.reportfiles import validate_result_file
+    from elimscan.output.files import validate_result_file
 
     if not path.is_file():
         raise OutputError(f"'{path}' not found: give an output folder of a finished run")
@@ -512,7 +507,7 @@ def _checked_result_file(path: Path) -> None:
 
 def cmd_report(args: argparse.Namespace) -> int:
     """Rebuild summary.csv, plots/*.png and report.html of a finished output folder without computing; return the exit code."""
-    from elimscan.reportfiles import build_report_files
+    from elimscan.output.files import build_report_files
 
     out = Path(args.out)
     if not (out / RESULTS_FILE).exists() and (out / "batch.sqlite").exists():
@@ -528,7 +523,7 @@ def cmd_report(args: argparse.Namespace) -> int:
 
 def cmd_validate_results(args: argparse.Namespace) -> int:
     """Check a results JSON file against the results schema; return the exit code (3 when it does not match)."""
-    from elimscan.reportfiles import validate_result_file
+    from elimscan.output.files import validate_result_file
 
     problems = validate_result_file(args.file)
     for problem in problems:

@@ -129,3 +129,17 @@ def dielectric_constant(name: str) -> float:
     if canonical not in DIELECTRIC_SOLVENTS:
         raise SolventError(f"no dielectric constant for solvent '{name}'; known: {', '.join(sorted(DIELECTRIC_SOLVENTS))}")
     return DIELECTRIC_SOLVENTS[canonical].epsilon
+
+
+def medium_label(model: str, name: str | None) -> str:
+    """Return the solvation part of a method label: 'gas phase', 'ALPB(ethanol)', or ddX-CPCM with its ε."""
+    if model == "none":
+        return "gas phase"
+    if model == "dielectric":
+        return f"ddX-CPCM({name}, ε {dielectric_constant(name):g}, no CDS term)"
+    return f"{model.upper()}({name})"
+
+
+def method_label(hamiltonian: str, media: list[tuple[str, str | None]], backend: str, backend_version: str) -> str:
+    """Return the one-line method label, e.g. 'GFN2-xTB/ALPB(ethanol) [tblite 0.8.0]' (media: (model, name) pairs)."""
+    return f"{hamiltonian}/{', '.join(medium_label(m, n) for m, n in media)} [{backend} {backend_version}]"

@@ -1,0 +1,71 @@
+"""Rules that `run` and `batch` once wrote twice, and whose copies drifted: each now has one function."""
+
+from __future__ import annotations
+
+import textwrap
+
+import pytest
+
+from elimscan.batch.driver import plan_batch
+from elimscan.cli import main
+from elimscan.config import parse_config
+
+GAS_PHASE = textwrap.dedent("""\
+    method: {{solvent: {{model: none}}}}
+    substrates:
+      - {{name: bromoethane, smiles: CCBr}}
+    bases:
+      - {{name: ethoxide, smiles: "CC[O-]"{model}}}
+    """)
+
+
+def _write(tmp_path, model: str):
+    path = tmp_path / "gas.yaml"
+    path.write_text(GAS_PHASE.format(model=model))
+    return path
+
+
+def test_an_ion_paired_base_in_the_gas_phase_is_judged_alike_by_run_and_batch(tmp_path):
+    # Na+ ethoxide is neutral as modelled (the cation travels with the base): no free ion in the gas phase.
+    # Before the fix `validate`/`run` accepted this config and `batch` refused every job of it.
+    path = _write(tmp_path, ", model: {counter_ion: Na}")
+    assert main(["validate", str(path), "-q"]) == 0
+    plan = plan_batch(parse_config(path.read_text(), str(path)), path)
+    assert [job.input_error for job in plan.jobs] == [None]
+
+
+def test_a_bare_anion_in_the_gas_phase_is_refused_by_run_and_batch_with_one_message(tmp_path, capsys):
+    path = _write(tmp_path, "")
+    assert main(["validate", str(path)]) == 3
+    said = capsys.readouterr().err
+    plan = plan_batch(parse_config(path.read_text(), str(path)), path)
+    (job,) = plan.jobs
+    assert job.input_error.error_type == "config_error"
+    # one wording: the batch's message is the one `validate` prints
+    assert job.input_error.error_message in said.replace("\n", " ")
+    assert "base 'ethoxide' (charge -1)" in job.input_error.error_message
+
+
+@pytest.mark.parametrize("counter_ion,charge,expected", [(None, -1, -1), ("Na", -1, 0), ("K", 0, 1)])
+def test_the_modelled_charge_of_a_base_counts_its_counter_ion(counter_ion, charge, expected):
+    from elimscan.chem.inputcheck import modelled_charge
+
+    assert modelled_charge(charge, counter_ion) == expected
+
+
+@pytest.mark.parametrize("solvent", ["{model: dielectric, name: ethanol}", "{model: alpb, name: ethanol}",
+                                     "{model: none}"])
+def test_run_and_batch_label_the_method_alike(tmp_path, solvent):
+    # Before the fix the batch wrote 'DIELECTRIC(ethanol)' where `run` wrote 'ddX-CPCM(ethanol, ε 24.852, ...)'.
+    from elimscan.batch.driver import _provenance
+    from elimscan.engines.xtb import EngineSettings
+
+    path = tmp_path / "one.yaml"
+    path.write_text(f"method: {{solvent: {solvent}}}\nsubstrates: [{{name: chloroethane, smiles: CCCl}}]\n"
+                    "bases: [{name: triethylamine, smiles: CCN(CC)CC}]\n")
+    config = parse_config(path.read_text(), str(path))
+    plan = plan_batch(config, path)
+    run_label = EngineSettings.from_method(config.method).describe()
+    assert _provenance(plan, "elimscan batch one.yaml").method_label == run_label
+    if "dielectric" in solvent:
+        assert "ddX-CPCM(ethanol, ε 24.85" in run_label  # ε of ethanol: Minnesota solvent database

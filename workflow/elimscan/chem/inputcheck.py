@@ -1,0 +1,108 @@
+"""Input checks of a config's molecules before any calculation (RDKit only, no I/O, no engine).
+
+Everything that can be told from a SMILES alone is checked here, so a typo stops a run before the
+first GFN2-xTB call: parsing, elements, unpaired electrons, charge and multiplicity, and for
+substrates the full perception (leaving group, atom maps, beta hydrogens, stereo), for bases the
+basic atom; and a base that is the substrate itself. Each error is a ``StructureError`` whose
+message starts with the role and name (``substrate 'x'``) and contains the SMILES.
+"""
+
+from __future__ import annotations
+
+import warnings
+
+from rdkit import Chem
+
+from elimscan.chem.bases import find_basic_atom
+from elimscan.errors import StructureError
+from elimscan.chem.perception import check_substrate_topology, perceive_substrate
+from elimscan.chem.structures import check_charge, parse_smiles
+
+
+def _named(err: StructureError, what: str, smiles: str) -> StructureError:
+    """Return ``err`` with the role and name in front and the SMILES in the text (unchanged if both are there)."""
+    text = str(err)
+    if text.startswith(what) and smiles in text:
+        return err
+    if smiles not in text:
+        text = f"SMILES '{smiles}': {text}"
+    return StructureError(f"{what}: {text}")
+
+
+def molecule_charge(smiles: str, charge: int | None, multiplicity: int, what: str) -> int:
+    """Return the total charge of a molecule (elementary charges); raise StructureError naming it when unusable."""
+    mol = parse_smiles(smiles, what)
+    total = check_charge(smiles, Chem.GetFormalCharge(mol), charge, what)
+    electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - total
+    if (electrons + multiplicity - 1) % 2:
+        raise StructureError(f"{what} '{smiles}': multiplicity {multiplicity} is impossible with {electrons} electrons")
+    return total
+
+
+def check_substrate(smiles: str, charge: int | None, multiplicity: int, what: str, seed: int,
+                    full: bool = True) -> int:
+    """Return a substrate's total charge after perceiving it (leaving group, beta H); raise StructureError naming it.
+
+    ``full=False`` checks only what the molecular graph tells (milliseconds; for the many rows of a batch's
+    substrates file): what needs 3D (stereo that matters) then fails the job when it runs.
+    """
+    total = molecule_charge(smiles, charge, multiplicity, what)
+    try:
+        with warnings.catch_warnings():  # advisories (an arbitrary enantiomer) are recorded by the run itself
+            warnings.simplefilter("ignore")
+            if full:
+                perceive_substrate(smiles, seed=seed)
+            else:
+                check_substrate_topology(smiles)
+    except StructureError as err:
+        raise _named(err, what, smiles) from err
+    return total
+
+
+def check_base(smiles: str, charge: int | None, multiplicity: int, what: str) -> int:
+    """Return a base's total charge after finding its basic atom; raise StructureError naming it."""
+    total = molecule_charge(smiles, charge, multiplicity, what)
+    try:
+        find_basic_atom(parse_smiles(smiles, what), smiles)
+    except StructureError as err:
+        raise _named(err, what, smiles) from err
+    return total
+
+
+def same_molecule(smiles_a: str, smiles_b: str) -> bool:
+    """Return True when two SMILES are the same molecule (atom maps ignored; both must parse)."""
+    keys = []
+    for smiles in (smiles_a, smiles_b):
+        mol = Chem.MolFromSmiles(smiles)
+        if mol is None:
+            return False
+        for atom in mol.GetAtoms():
+            atom.SetAtomMapNum(0)
+        keys.append(Chem.MolToSmiles(mol))
+    return keys[0] == keys[1]
+
+
+def check_pair(substrate_name: str, substrate_smiles: str, base_name: str, base_smiles: str) -> None:
+    """Raise StructureError when a job's base is the substrate itself (it would have to deprotonate itself)."""
+    if same_molecule(substrate_smiles, base_smiles):
+        raise StructureError(f"base '{base_name}' ('{base_smiles}') is the same molecule as substrate "
+                             f"'{substrate_name}' ('{substrate_smiles}'): a base must be another molecule, "
+                             "with a basic atom (an alkoxide, amide or amine)")
+
+
+def modelled_charge(charge: int, counter_ion: str | None) -> int:
+    """Return a base's total charge as modelled (e): its own charge, +1 when an ion pair's cation travels with it."""
+    return charge + (1 if counter_ion is not None else 0)
+
+
+def gas_phase_ion_problem(solvent_model: str, charges: dict[str, int]) -> str | None:
+    """Return why a job with free ions is refused in the gas phase (solvent model 'none'), or None.
+
+    ``charges`` maps a role and name ("base 'ethoxide'") to its modelled charge (see ``modelled_charge``).
+    """
+    ions = [f"{what} (charge {q:+d})" for what, q in charges.items() if q]
+    if solvent_model != "none" or not ions:
+        return None
+    return (f"gas phase requested, but free ions appear: {', '.join(ions)}. A free ion in the gas phase binds "
+            "anything it meets (complexation energies near -20 kcal/mol) and E2 saddles vanish; use an implicit "
+            "solvent ({model: alpb, name: ...})")

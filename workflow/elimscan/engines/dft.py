@@ -1,0 +1,347 @@
+"""Optional DFT single points on the GFN2-xTB saddles of a job: the only module that imports PySCF.
+
+Under Curtin-Hammett the saddles alone set the product mix, so the tier computes the lowest few saddles of
+each product (by GFN2-xTB energy) and, only when absolute barriers are asked for, the free substrate and
+free base. PySCF is an optional extra: without it the tier is skipped with a message, never an error of the
+job. PySCF failures are translated into elimscan's errors here, chained with ``from``; a failed single point
+is data on its path, and the job goes on.
+"""
+
+from __future__ import annotations
+
+import importlib
+import importlib.metadata
+import time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+
+from ase import Atoms
+
+from elimscan.analysis.rule import PathBarrier, product_fractions
+from elimscan.config import DftConfig, SolventConfig
+from elimscan.errors import DftError, DftRefusedError, DftUnavailableError, ElimscanError
+from elimscan.results.records import ErrorInfo
+from elimscan.solvents import DIELECTRIC_SOLVENTS, canonical_solvent_name
+from elimscan.units import KCAL_MOL_PER_HARTREE
+
+#: Static dielectric constants (25 °C) for our canonical ALPB solvent names (the solvents of the ``dielectric``
+#: model, and ethanol, methanol and water, have theirs in solvents.DIELECTRIC_SOLVENTS: one entry per solvent,
+#: from the same database), from the Minnesota Solvent Descriptor
+#: Database (Winget, Dolney, Giesen, Cramer & Truhlar, University of Minnesota, 1999/2010; the solvent
+#: descriptors of SMD, Marenich, Cramer & Truhlar, J. Phys. Chem. B 2009, 113, 6378). Furan, phenol and
+#: water-saturated octanol are not in that database: give ``dft.dielectric_constant`` for them.
+DIELECTRIC_CONSTANTS: dict[str, float] = {
+    "acetone": 20.493,
+    "acetonitrile": 35.688,
+    "aniline": 6.8882,
+    "benzaldehyde": 18.220,
+    "benzene": 2.2706,
+    "ch2cl2": 8.93,
+    "chcl3": 4.7113,
+    "cs2": 2.6105,
+    "dioxane": 2.2099,
+    "dmf": 37.219,
+    "dmso": 46.826,
+    "ether": 4.2400,
+    "ethylacetate": 5.9867,
+    "hexadecane": 2.0402,
+    "hexane": 1.8819,
+    "nitromethane": 36.562,
+    "octanol": 9.8629,
+    "thf": 7.4257,
+    "toluene": 2.3741,
+}
+
+#: how our names are written in labels
+_FUNCTIONAL_LABELS = {"b3lyp": "B3LYP", "pbe0": "PBE0"}
+_DISPERSION_LABELS = {"d3bj": "-D3(BJ)", "d4": "-D4", "none": ""}
+_BASIS_LABELS = {"def2-svpd": "def2-SVPD", "def2-tzvp": "def2-TZVP", "def2-tzvpd": "def2-TZVPD"}
+#: what to install when PySCF is missing
+INSTALL_HINT = "pip install 'elimscan[dft]' (PySCF and pyscf-dispersion)"
+
+#: progress callback: a one-line message
+Report = Callable[[str], None]
+
+
+@dataclass(frozen=True)
+class DftLevel:
+    """Everything that changes a DFT number: functional, dispersion, basis, fitting, solvent (ε; None = gas)."""
+
+    functional: str
+    dispersion: str
+    basis: str
+    density_fit: bool
+    dielectric_constant: float | None
+    solvent_name: str | None
+    grid_level: int
+    max_scf_cycles: int
+    scf_tolerance_hartree: float
+
+    def label(self) -> str:
+        """Return a one-line label such as 'B3LYP-D3(BJ)/def2-SVPD (RI), IEF-PCM(methanol, eps 32.61)'."""
+        solvent = ("gas phase" if self.dielectric_constant is None
+                   else f"IEF-PCM({self.solvent_name or 'user'}, eps {self.dielectric_constant:.2f})")
+        fit = " (RI)" if self.density_fit else ""
+        return (f"{_FUNCTIONAL_LABELS[self.functional]}{_DISPERSION_LABELS[self.dispersion]}/"
+                f"{_BASIS_LABELS[self.basis]}{fit}, {solvent}")
+
+
+@dataclass(frozen=True)
+class DftPoint:
+    """One converged DFT single point: total energy incl. dispersion and solvation (hartree), parts and cost."""
+
+    energy_hartree: float
+    dispersion_hartree: float
+    solvation_hartree: float
+    scf_cycles: int
+    seconds: float
+    retried: bool = False
+
+
+@dataclass(frozen=True)
+class SaddleCandidate:
+    """A path top to refine: its key, the alkene it gives, class degeneracy, GFN2-xTB energy (hartree), geometry."""
+
+    key: tuple[str, str]
+    product_smiles: str
+    degeneracy: int
+    gfn2_energy_hartree: float
+    atoms: Atoms = field(compare=False, repr=False)
+    #: "e2" (an alkene's path) or "sn2" (the backside substitution path, its own product)
+    kind: str = "e2"
+
+
+@dataclass(frozen=True)
+class DftJobResult:
+    """The DFT tier of one job: status, message, level, single points by path key, zero and the product mix."""
+
+    status: str  # ok, partial, skipped, refused, failed
+    message: str
+    level: str | None = None
+    program_version: str | None = None
+    points: dict[tuple[str, str], DftPoint | ErrorInfo] = field(default_factory=dict)
+    #: barriers by path key (kcal/mol) above ``zero_kind``
+    barriers_kcal_mol: dict[tuple[str, str], float] = field(default_factory=dict)
+    zero_kind: str | None = None
+    reference_energy_hartree: float | None = None
+    fractions: dict[str, float] = field(default_factory=dict)
+    #: share of the substitution saddle against every computed saddle (None: no SN2 saddle computed)
+    substitution_fraction: float | None = None
+    seconds: float = 0.0
+    error: ErrorInfo | None = None
+
+
+def pyscf_version() -> str:
+    """Return the installed PySCF version, or 'not installed'."""
+    try:
+        return importlib.metadata.version("pyscf")
+    except importlib.metadata.PackageNotFoundError:
+        return "not installed"
+
+
+def missing_pyscf(dispersion: str) -> str | None:
+    """Return why the tier cannot run here (PySCF or its dispersion package cannot be imported), else None."""
+    needed = ["pyscf", "pyscf.dft", "pyscf.solvent"] + (["pyscf.dispersion"] if dispersion != "none" else [])
+    for name in needed:
+        try:
+            importlib.import_module(name)
+        except ImportError as err:
+            what = "pyscf-dispersion" if name == "pyscf.dispersion" else "PySCF"
+            return f"DFT tier skipped: {what} cannot be imported ({err}); install it with {INSTALL_HINT}"
+    return None
+
+
+def dielectric_constant(solvent: SolventConfig, override: float | None) -> float | None:
+    """Return the dielectric constant for IEF-PCM (dimensionless), None for the gas phase; raise if unknown."""
+    if override is not None:
+        return override
+    if solvent.model == "none" or not solvent.name:
+        return None
+    name = canonical_solvent_name(solvent.name)
+    if name in DIELECTRIC_CONSTANTS:
+        return DIELECTRIC_CONSTANTS[name]
+    if name in DIELECTRIC_SOLVENTS:
+        return DIELECTRIC_SOLVENTS[name].epsilon
+    known = sorted({*DIELECTRIC_CONSTANTS, *DIELECTRIC_SOLVENTS})
+    raise DftRefusedError(f"no dielectric constant known for solvent '{solvent.name}' (known: {', '.join(known)}); "
+                          "give dft.dielectric_constant")
+
+
+def dft_level(config: DftConfig, solvent: SolventConfig) -> DftLevel:
+    """Return the DFT level of a job in ``solvent``: the config's choices and the solvent's ε (None = gas)."""
+    eps = None if config.solvation == "none" else dielectric_constant(solvent, config.dielectric_constant)
+    name = None if eps is None or config.dielectric_constant is not None or solvent.name is None \
+        else canonical_solvent_name(solvent.name)
+    return DftLevel(config.functional, config.dispersion, config.basis, config.density_fit, eps, name,
+                    config.grid_level, config.max_scf_cycles, config.scf_tolerance_hartree)
+
+
+def check_free_ions(job: str, charges: dict[str, int], level: DftLevel) -> None:
+    """Raise DftRefusedError naming the job when a gas-phase DFT level meets a charged substrate or base."""
+    ions = [f"{what} (charge {q:+d})" for what, q in charges.items() if q]
+    if level.dielectric_constant is None and ions:
+        raise DftRefusedError(
+            f"job '{job}': gas-phase DFT refused, the complex holds a free ion ({', '.join(ions)}); ion-dipole "
+            "binding would dominate the saddle energies. Use dft.solvation: pcm with a solvent")
+
+
+def select_saddles(candidates: Sequence[SaddleCandidate], per_product: int) -> list[SaddleCandidate]:
+    """Return the lowest ``per_product`` candidates (GFN2-xTB energy) of each product, lowest first overall."""
+    chosen: list[SaddleCandidate] = []
+    for product in sorted({c.product_smiles for c in candidates}):
+        mine = sorted((c for c in candidates if c.product_smiles == product), key=lambda c: c.gfn2_energy_hartree)
+        chosen.extend(mine[:per_product])
+    return sorted(chosen, key=lambda c: c.gfn2_energy_hartree)
+
+
+def relative_barriers(energies: dict[tuple[str, str], float], zero_hartree: float) -> dict[tuple[str, str], float]:
+    """Return each energy above ``zero_hartree`` in kcal/mol (rounded to 0.001)."""
+    return {key: round((e - zero_hartree) * KCAL_MOL_PER_HARTREE, 3) for key, e in energies.items()}
+
+
+def dft_fractions(candidates: Sequence[SaddleCandidate], barriers: dict[tuple[str, str], float],
+                  temperature_K: float) -> dict[str, float]:
+    """Return alkene shares from the DFT barriers (kcal/mol) of the computed E2 saddles, degeneracy-weighted."""
+    paths = [PathBarrier(c.key[0], c.key[1], c.product_smiles, barriers[c.key], c.degeneracy)
+             for c in candidates if c.key in barriers and c.kind == "e2"]
+    return product_fractions(paths, temperature_K)
+
+
+def substitution_share(candidates: Sequence[SaddleCandidate], barriers: dict[tuple[str, str], float],
+                       temperature_K: float) -> float | None:
+    """Return the share of the SN2 saddle against every computed saddle (E2 and SN2), or None without both kinds."""
+    computed = [c for c in candidates if c.key in barriers]
+    if not any(c.kind == "sn2" for c in computed) or not any(c.kind == "e2" for c in computed):
+        return None
+    paths = [PathBarrier(c.key[0], c.key[1], c.kind, barriers[c.key], c.degeneracy) for c in computed]
+    return product_fractions(paths, temperature_K)["sn2"]
+
+
+def _import_pyscf():
+    """Return PySCF's gto, dft and lib modules (imported on first use); raise DftUnavailableError."""
+    try:
+        from pyscf import dft, gto, lib
+        import pyscf.solvent  # noqa: F401  (registers .PCM on the SCF classes)
+    except ImportError as err:
+        raise DftUnavailableError(f"PySCF cannot be imported: {err}; install it with {INSTALL_HINT}") from err
+    return gto, dft, lib
+
+
+def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int = 1,
+                 name: str = "structure") -> DftPoint:
+    """Return the DFT energy (hartree) of one geometry at ``level``; raise DftError naming the structure on failure."""
+    gto, dft, lib = _import_pyscf()
+    lib.num_threads(threads)
+    start = time.perf_counter()
+    try:
+        mol = gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
+                    unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0)
+        mf = (dft.RKS(mol) if multiplicity == 1 else dft.UKS(mol))
+        mf.xc = level.functional
+        if level.dispersion != "none":
+            mf.disp = level.dispersion
+        mf.grids.level = level.grid_level
+        mf.max_cycle = level.max_scf_cycles
+        mf.conv_tol = level.scf_tolerance_hartree
+        mf.chkfile = None
+        if level.density_fit:
+            mf = mf.density_fit()
+        if level.dielectric_constant is not None:
+            mf = mf.PCM()
+            mf.with_solvent.method = "IEF-PCM"
+            mf.with_solvent.eps = level.dielectric_constant
+        energy = mf.kernel()
+        retried = False
+        if not mf.converged:  # one retry: second-order SCF from the last density
+            retried = True
+            newton = mf.newton()
+            energy = newton.kernel(mf.make_rdm1())
+            mf = newton
+    except (RuntimeError, ValueError, KeyError, ArithmeticError, MemoryError, AssertionError) as err:
+        raise DftError(f"{name}: PySCF single point failed ({type(err).__name__}: {err})") from err
+    except ImportError as err:  # a dispersion library that does not load
+        raise DftUnavailableError(f"{name}: {err}; install it with {INSTALL_HINT}") from err
+    if not mf.converged:
+        raise DftError(f"{name}: DFT SCF did not converge in {level.max_scf_cycles} cycles, nor after a "
+                       "second-order retry")
+    summary = getattr(mf, "scf_summary", {})
+    return DftPoint(energy_hartree=float(energy), dispersion_hartree=float(summary.get("dispersion", 0.0)),
+                    solvation_hartree=float(summary.get("e_solvent", 0.0)),
+                    scf_cycles=int(getattr(mf, "cycles", -1)),
+                    seconds=round(time.perf_counter() - start, 2), retried=retried)
+
+
+def _error(err: ElimscanError) -> ErrorInfo:
+    """Return the ErrorInfo record of one of our errors."""
+    return ErrorInfo(error_type=err.error_type, error_message=str(err))
+
+
+def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, multiplicity: int,
+               charges: dict[str, int], config: DftConfig, solvent: SolventConfig, temperature_K: float,
+               reactants: Sequence[tuple[str, Atoms, int, int]] = (), threads: int = 1,
+               report: Report | None = None) -> DftJobResult:
+    """Return the DFT tier of one job: single points on the chosen saddles, barriers (kcal/mol) and product shares.
+
+    ``charges`` names the substrate's and base's charges (for the gas-phase refusal); ``reactants`` are
+    (what, atoms, charge, multiplicity) of the free substrate and base, used when absolute barriers are asked for.
+    Never raises our errors: a skip, a refusal or a failure is the result's status.
+    """
+    start = time.perf_counter()
+    try:  # a refusal is a problem of the input: reported even where PySCF is missing
+        level = dft_level(config, solvent)
+        check_free_ions(job, charges, level)
+    except DftRefusedError as err:
+        return DftJobResult(status="refused", message=str(err), error=_error(err))
+    missing = missing_pyscf(config.dispersion)
+    if missing is not None:
+        return DftJobResult(status="skipped", message=missing)
+    label, version = level.label(), pyscf_version()
+    chosen = select_saddles(candidates, config.saddles_per_product)
+    if not chosen:
+        return DftJobResult(status="failed", message=f"job '{job}': no saddle to refine (every path failed)",
+                            level=label, program_version=version)
+    points: dict[tuple[str, str], DftPoint | ErrorInfo] = {}
+    for k, cand in enumerate(chosen):
+        if report is not None:
+            report(f"{job}: DFT single point {k + 1}/{len(chosen)} ({cand.key[0]} {cand.key[1]}, {len(cand.atoms)} atoms, "
+                   f"{label})")
+        try:
+            points[cand.key] = single_point(cand.atoms, charge, multiplicity, level, threads,
+                                            name=f"job '{job}' {cand.key[0]} {cand.key[1]} saddle")
+        except ElimscanError as err:
+            points[cand.key] = _error(err)
+    energies = {key: p.energy_hartree for key, p in points.items() if isinstance(p, DftPoint)}
+    failed = len(points) - len(energies)
+    if not energies:
+        first = next(iter(points.values()))
+        return DftJobResult(status="failed", message=f"job '{job}': every DFT single point failed", level=label,
+                            program_version=version, points=points, seconds=round(time.perf_counter() - start, 2),
+                            error=first if isinstance(first, ErrorInfo) else None)
+    zero, zero_kind = min(energies.values()), "lowest DFT saddle of the job"
+    notes = []
+    if config.absolute_barriers and reactants:
+        total, problems = 0.0, []
+        for what, atoms, q, mult in reactants:
+            if report is not None:
+                report(f"{job}: DFT single point of the free {what}")
+            try:
+                total += single_point(atoms, q, mult, level, threads, name=f"job '{job}' free {what}").energy_hartree
+            except ElimscanError as err:
+                problems.append(str(err))
+        if problems:
+            notes.append("absolute barriers not available (" + "; ".join(problems) + "); barriers are relative")
+        else:
+            zero, zero_kind = total, "DFT free substrate + free base"
+    barriers = relative_barriers(energies, zero)
+    fractions = dft_fractions(chosen, barriers, temperature_K)
+    sn2_share = substitution_share(chosen, barriers, temperature_K)
+    computed = ", ".join(f"{c.key[0]} {c.key[1]}" for c in chosen if c.key in energies)
+    message = (f"{len(energies)} of {len(chosen)} saddles computed at {label} ({computed}); barriers above the "
+               f"{zero_kind}")
+    if failed:
+        message += f"; {failed} single point(s) failed, their paths are left out of the DFT product mix"
+    message = "; ".join([message, *notes])
+    return DftJobResult(status="partial" if failed else "ok", message=message, level=label, program_version=version,
+                        points=points, barriers_kcal_mol=barriers, zero_kind=zero_kind,
+                        reference_energy_hartree=zero, fractions=fractions, substitution_fraction=sn2_share,
+                        seconds=round(time.perf_counter() - start, 2))

@@ -1,0 +1,144 @@
+"""Report files of a finished output folder: reads results.json and the scan trajectories, returns the files.
+
+This module reads (never writes): :func:`build_report_files` returns {relative path: bytes} for
+``summary.csv``, ``report.html`` and ``plots/*.png``, and the CLI writes them. :func:`validate_result_file`
+checks any result JSON against the JSON Schema exported from ``records.py`` (the committed
+``results-schema/`` files equal that export, which ``tests/test_schema.py`` enforces).
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping, Sequence
+from pathlib import Path
+
+import ase.io
+import jsonschema
+from ase import Atoms
+from pydantic import ValidationError
+
+from elimscan.errors import OutputError
+from elimscan.output.html import render_report
+from elimscan.output.plots import figure_png, figure_svg, job_figures, series_figures
+from elimscan.results.records import SCHEMA_MODELS, RunResult, json_schema
+from elimscan.output.tables import series_csv, summary_csv
+
+RESULTS_FILE = "results.json"
+CSV_FILE = "summary.csv"
+SERIES_CSV_FILE = "series.csv"
+HTML_FILE = "report.html"
+
+
+def read_result(out_dir: str | Path) -> RunResult:
+    """Return the validated RunResult of an output folder; raise OutputError naming the file when unusable."""
+    path = Path(out_dir) / RESULTS_FILE
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as err:
+        raise OutputError(f"cannot read '{path}': {err.strerror or err}") from err
+    try:
+        return RunResult.model_validate_json(text)
+    except ValidationError as err:
+        first = err.errors()[0]
+        where = ".".join(str(p) for p in first["loc"]) or "(top level)"
+        raise OutputError(f"'{path}' is not a valid elimscan result: {where}: {first['msg']}") from err
+
+
+def read_scan_frames(out_dir: str | Path, result: RunResult) -> dict[str, list[Atoms]]:
+    """Return {xyz_file: frames} for every scan trajectory that exists inside ``out_dir`` and reads cleanly.
+
+    A missing, unreadable or out-of-folder file is left out (its Newman projections are then omitted).
+    """
+    root = Path(out_dir).resolve()
+    frames: dict[str, list[Atoms]] = {}
+    for job in result.jobs:
+        for beta in job.beta_hydrogens:
+            for scan in beta.scans:
+                rel = scan.xyz_file
+                if not rel or rel in frames:
+                    continue
+                path = (root / rel).resolve()
+                if not path.is_relative_to(root) or not path.is_file():
+                    continue
+                try:
+                    images = ase.io.read(path, index=":", format="extxyz")
+                except (OSError, ValueError, IndexError, KeyError):
+                    continue
+                needed = max(beta.representative_index, beta.beta_carbon_index,
+                             job.leaving_group.c_alpha_index, job.leaving_group.leaving_atom_index)
+                frames[rel] = [a for a in images if len(a) > needed]
+    return frames
+
+
+def _figures(result: RunResult, frames: Mapping[str, Sequence[Atoms]]) -> dict:
+    """Return {plot name: matplotlib Figure} for every job of the run."""
+    rule = result.config.rule
+    figures = {}
+    for job in result.jobs:
+        figures.update(job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, frames))
+    figures.update(series_figures(result.series))
+    return figures
+
+
+def load_assets(out_dir: str | Path) -> dict[str, str]:
+    """Return {plot name: SVG text} for every plot of the run in ``out_dir``, Newman projections included."""
+    result = read_result(out_dir)
+    return {name: figure_svg(fig) for name, fig in _figures(result, read_scan_frames(out_dir, result)).items()}
+
+
+def build_report_files(out_dir: str | Path) -> dict[str, bytes]:
+    """Return {path relative to out_dir: content} for summary.csv (series.csv), report.html, plots/*.png from results.json."""
+    result = read_result(out_dir)
+    figures = _figures(result, read_scan_frames(out_dir, result))
+    files: dict[str, bytes] = {}
+    assets: dict[str, str] = {}
+    for name, fig in figures.items():
+        assets[name] = figure_svg(fig)
+        files[f"{name}.png"] = figure_png(fig)
+    files[CSV_FILE] = summary_csv(result).encode("utf-8")
+    if result.series:
+        files[SERIES_CSV_FILE] = series_csv(result).encode("utf-8")
+    files[HTML_FILE] = render_report(result, assets).encode("utf-8")
+    return dict(sorted(files.items()))
+
+
+def _json_path(parts: Sequence[object]) -> str:
+    """Return a JSON path like 'jobs[0].beta_hydrogens[0].degeneracy' ('(top level)' for the document)."""
+    text = ""
+    for part in parts:
+        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
+    return text or "(top level)"
+
+
+def _schema_for(document: object) -> tuple[str, dict] | None:
+    """Return (schema file name, schema) matching the document's schema_name, or None."""
+    name = document.get("schema_name") if isinstance(document, dict) else None
+    for file_name, model in SCHEMA_MODELS.items():
+        field = model.model_fields.get("schema_name")
+        if field is not None and field.default == name:
+            return file_name, json_schema(model, file_name)
+    return None
+
+
+def validate_result_file(path: str | Path) -> list[str]:
+    """Return the problems of a result JSON file against its JSON Schema, each naming the JSON path; [] when valid."""
+    try:
+        document = json.loads(Path(path).read_text(encoding="utf-8"))
+    except OSError as err:
+        return [f"(file): cannot read '{path}': {err.strerror or err}"]
+    except json.JSONDecodeError as err:
+        return [f"(file): not JSON: {err.msg} at line {err.lineno}, column {err.colno}"]
+    found = _schema_for(document)
+    if found is None:
+        known = sorted(str(m.model_fields["schema_name"].default) for m in SCHEMA_MODELS.values() if "schema_name" in m.model_fields)
+        name = document.get("schema_name") if isinstance(document, dict) else None
+        return [f"schema_name: {name!r} is not an elimscan result document (known: {', '.join(known)})"]
+    _, schema = found
+    validator = jsonschema.Draft202012Validator(schema)
+    problems = []
+    for error in validator.iter_errors(document):
+        message = error.message
+        if error.validator in ("anyOf", "oneOf") and error.context:
+            message = jsonschema.exceptions.best_match(error.context).message
+        problems.append(f"{_json_path(error.absolute_path)}: {message}")
+    return sorted(set(problems))

@@ -1,0 +1,141 @@
+"""Text renderings of results (no file I/O: the CLI writes what these return)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from elimscan.results.records import JobRecord, RunResult, SeriesRecord
+
+
+def _kcal(value: float | None) -> str:
+    return "-" if value is None else f"{value:.2f}"
+
+
+def r_squared_text(r_squared: float | None) -> str:
+    """Return a fit's r² as shown in the reports and plots (3 decimals), or why there is none."""
+    return "undefined (all barriers equal)" if r_squared is None else f"{r_squared:.3f}"
+
+
+def job_table(job: JobRecord) -> list[str]:
+    """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls."""
+    lines = [f"job {job.job_id}: {job.status}"]
+    if job.status != "ok":
+        if job.error is not None:
+            lines.append(f"    {job.error.error_type}: {job.error.error_message}")
+        return lines
+    lg = job.leaving_group
+    base = job.base_info
+    lines.append(f"  leaving group {lg.label} (atom {lg.leaving_atom_index}, C-alpha {lg.c_alpha_index}); "
+                 f"base {'bulky' if base.bulky else 'not bulky'} ({base.bulky_reason}); {len(job.conformers)} conformers")
+    lines.append(f"  {'class':<12}{'deg':>4}  {'anti product':<24}{'anti pen':>9}{'syn pen':>9}"
+                 f"{'dE anti':>9}{'dE syn':>9}  rule status")
+    for b in job.beta_hydrogens:
+        lines.append(f"  {b.class_id:<12}{b.degeneracy:>4}  {b.anti.product_smiles[:23]:<24}"
+                     f"{_kcal(b.anti_penalty_kcal_mol):>9}{_kcal(b.syn_penalty_kcal_mol):>9}"
+                     f"{_barrier(b.anti):>9}{_barrier(b.syn):>9}  {b.rule_status}")
+    lines.append("  pen: lowest anti-/syn-periplanar energy above the global minimum; dE: barrier above substrate + free base")
+    lines.append("  (kcal/mol, GFN2-xTB electronic energies; * = relaxed-path estimate, saddle not verified; read relative values)")
+    lines.append(f"  {'rule':<10}{'product':<28}{'subst':<6}{'computed':>9}  {'range':<13} why (rule)")
+    for p in job.products:
+        fraction = "-" if p.fraction is None else f"{p.fraction:.0%}"
+        spread = "" if p.fraction_range is None else f"{p.fraction_range[0]:.0%}-{p.fraction_range[1]:.0%}"
+        lines.append(f"  {p.rule_call:<10}{p.smiles[:27]:<28}{p.substitution:<6}{fraction:>9}  {spread:<13} {p.reason}")
+    if job.verdict is not None:
+        flag = {True: "AGREE", False: "DISAGREE", None: "n/a"}[job.verdict.agreement]
+        lines.append(f"  verdict: rule {job.verdict.rule_major} | computed {job.verdict.computed_major} | {flag}: {job.verdict.reason}")
+    return lines
+
+
+def _barrier(block) -> str:
+    if block.barrier_kcal_mol is None:
+        return {"failed": "failed", "ok": "-"}.get(block.path_status, "-")
+    return f"{block.barrier_kcal_mol:.2f}{'' if block.saddle_verified else '*'}"
+
+
+def series_table(series: SeriesRecord) -> list[str]:
+    """Return the lines of one substituent series: sigma, lowest E2 barrier (kcal/mol), log10(k/k0), and the fit."""
+    kind = "dG" if series.energy_used == "free" else "dE"
+    solvent = f" in {series.solvent.model} {series.solvent.name or ''}".rstrip() if series.solvent is not None else ""
+    lines = [f"series {series.name}: base {series.base}{solvent}, {kind} at {series.temperature_K:g} K"]
+    lines.append(f"  {'substrate':<28}{'sigma':>7}{kind + ' kcal/mol':>13}{'log10 k/k0':>12}  path / note")
+    for p in series.points:
+        log_k = "-" if p.log10_k_rel is None else f"{p.log10_k_rel:+.2f}"
+        mark = "*" if p.barrier_source == "relaxed-path maximum" else ""
+        lines.append(f"  {p.substrate[:27]:<28}{p.sigma:>+7.2f}{_kcal(p.barrier_kcal_mol) + mark:>13}{log_k:>12}  "
+                     f"{p.path or p.note or ''}")
+    if series.rho is not None:
+        lines.append(f"  rho {series.rho:+.2f}, r^2 {r_squared_text(series.r_squared)} ({series.n_fitted} members; k0: "
+                     f"{series.reference_substrate}; * = relaxed-path estimate)")
+    else:
+        lines.append(f"  no fit: {series.note}")
+    if series.sigma_source:
+        lines.append(f"  sigma values: {series.sigma_source}")
+    return lines
+
+
+def base_model_groups(jobs: Sequence[JobRecord]) -> list[list[JobRecord]]:
+    """Return groups of finished jobs with one substrate, one base (its own SMILES) and one solvent run
+    under two or more base models, each group in the order of the jobs."""
+    groups: dict[tuple, list[JobRecord]] = {}
+    for job in jobs:
+        if job.status != "ok" or job.base_info is None or job.base_info.smiles is None:
+            continue
+        solvent = None if job.solvent is None else (job.solvent.model, job.solvent.name)
+        groups.setdefault((job.substrate, job.base_info.smiles, solvent), []).append(job)
+    return [g for g in groups.values() if len({j.base_info.model for j in g}) > 1]
+
+
+def model_mix(group: Sequence[JobRecord]) -> tuple[list[str], list[tuple[JobRecord, dict[str, float | None]]]]:
+    """Return (alkene SMILES in first-seen order, [(job, {SMILES: computed share})]) for one base-model group."""
+    products: list[str] = []
+    rows = []
+    for job in group:
+        shares = {p.smiles: p.fraction for p in job.products}
+        products += [s for s in shares if s not in products]
+        rows.append((job, shares))
+    return products, rows
+
+
+def base_model_table(group: Sequence[JobRecord]) -> list[str]:
+    """Return the lines comparing the computed product mix of one substrate + base under each base model."""
+    products, rows = model_mix(group)
+    first = group[0]
+    lines = [f"base models compared: {first.substrate} + {first.base_info.smiles} (computed shares, GFN2-xTB)",
+             f"  {'job base':<22}{'model':<34}" + "".join(f"{s[:14]:>15}" for s in products)]
+    for job, shares in rows:
+        cells = "".join(f"{'-' if shares.get(s) is None else format(shares[s], '.0%'):>15}" for s in products)
+        lines.append(f"  {job.base[:21]:<22}{(job.base_info.model or 'bare')[:33]:<34}{cells}")
+    return lines
+
+
+def summary_table(result: RunResult) -> str:
+    """Return a plain-text summary of the run: molecules (energies in hartree), then each job's table."""
+    p = result.provenance
+    lines = [
+        f"elimscan {p.program_version} | {p.method_label}",
+        f"{'role':<10}{'name':<22}{'formula':<12}{'status':<8}{'E / hartree':>16}",
+    ]
+    for m in result.molecules:
+        energy = f"{m.energy_hartree:.8f}" if m.energy_hartree is not None else "-"
+        lines.append(f"{m.role:<10}{m.name[:21]:<22}{(m.formula or '-'):<12}{m.status:<8}{energy:>16}")
+    for job in result.jobs:
+        lines.append("")
+        lines.extend(job_table(job))
+    for series in result.series:
+        lines.append("")
+        lines.extend(series_table(series))
+    for group in base_model_groups(result.jobs):
+        lines.append("")
+        lines.extend(base_model_table(group))
+    s = result.summary
+    lines.append(f"\n{s.n_jobs_ok}/{s.n_jobs} jobs ok, {s.n_jobs_failed} failed")
+    lines.extend(trouble_lines(s.trouble))
+    return "\n".join(lines)
+
+
+def trouble_lines(trouble: dict[str, int]) -> list[str]:
+    """Return the lines listing numerical trouble recorded as data (kind: count), or none."""
+    if not trouble:
+        return []
+    return ["numerical trouble recorded as data (see results.json):",
+            *(f"  {kind}: {count}" for kind, count in trouble.items())]

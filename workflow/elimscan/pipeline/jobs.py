@@ -1,0 +1,64 @@
+"""One job (substrate x base, in the config's solvent) from start to records and file contents.
+
+This is the unit of work of a batch: a worker process calls ``run_job`` and returns its ``JobOutcome``;
+only the driver writes files and the store. No file I/O here.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from elimscan.pipeline import artifacts
+from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+from elimscan.pipeline.compute import ProgressCallback, job_record, run_config, substrate_molecule_record
+from elimscan.results.records import JobRecord, MoleculeRecord
+
+
+@dataclass(frozen=True)
+class JobOutcome:
+    """A finished job: its record, the records of its two molecules, and its files {relative path: bytes}."""
+
+    job: JobRecord
+    molecules: tuple[MoleculeRecord, ...]
+    files: dict[str, bytes]
+
+
+def single_job_config(config: RunConfig, substrate: SubstrateConfig, base: BaseConfig,
+                      solvent: SolventConfig | None = None) -> RunConfig:
+    """Return the config restricted to one substrate, one base and one solvent (every other setting kept).
+
+    ``solvent`` replaces ``method.solvent`` (a batch's ``solvents:`` entry); the batch-only keys are cleared.
+    """
+    update = {"substrates": (substrate,), "bases": (base,), "pairs": None, "solvents": None, "substrates_file": None}
+    if solvent is not None:
+        update["method"] = config.method.model_copy(update={"solvent": solvent})
+    return config.model_copy(update=update)
+
+
+def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, engine,
+            geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
+    """Return the outcome of one job in ``config.method.solvent``; known failures are inside the record, not raised.
+
+    The job's solvent is recorded on its job record and on both molecule records, and so is the number of
+    single points the engine had to keep at the retry electronic temperature while running it.
+    """
+    one = single_job_config(config, substrate, base)
+    hot_before = engine.stats.hot_points
+    outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
+    analysis = outcome.substrates[substrate.name]
+    files: dict[str, bytes] = {}
+    substrate_record = substrate_molecule_record(substrate, analysis)
+    if substrate_record.status == "ok":
+        files.update(artifacts.substrate_files(substrate.name, analysis, engine.label))
+    relaxed = outcome.bases[base.name].relaxed
+    base_record = relaxed.record
+    xyz = artifacts.base_file(base.name, relaxed, engine.label)
+    if xyz is not None:
+        files[xyz[0]] = xyz[1]
+        base_record = base_record.model_copy(update={"xyz_file": xyz[0]})
+    record = job_record(substrate, base, outcome, one)
+    files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), engine.label))
+    solvent = {"solvent": one.method.solvent}
+    record = record.model_copy(update={**solvent, "retry_temperature_points": engine.stats.hot_points - hot_before})
+    return JobOutcome(record,
+                      (substrate_record.model_copy(update=solvent), base_record.model_copy(update=solvent)), files)
