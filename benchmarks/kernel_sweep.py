@@ -82,7 +82,7 @@ def run_demo(variant: str, work: Path, config: Path) -> Path:
     out = work / f"demo-{variant.replace(':', '-')}"
     results = out / "results.json"
     if not results.exists():
-        subprocess.run([sys.executable, "-m", "elimscan", "-q", "run", str(config), "--out", str(out), "--overwrite"], cwd=ROOT,
+        subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(out), "--overwrite", "-q"], cwd=ROOT,
                        env=variant_env(variant, 0.0), check=False)
     return results
 
