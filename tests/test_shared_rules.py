@@ -69,3 +69,14 @@ def test_run_and_batch_label_the_method_alike(tmp_path, solvent):
     assert _provenance(plan, "elimscan batch one.yaml").method_label == run_label
     if "dielectric" in solvent:
         assert "ddX-CPCM(ethanol, ε 24.85" in run_label  # ε of ethanol: Minnesota solvent database
+
+
+def test_the_batch_key_versions_name_every_numeric_library_once():
+    # one lookup for the key, the provenance and `elimscan info`: the libraries that change numbers are all in it
+    from elimscan.versions import environment_versions, numeric_versions
+
+    key = numeric_versions("tblite")
+    assert set(key) == {"elimscan", "tblite", "rdkit", "ase", "numpy", "scipy", "sella"}
+    assert "pyscf" in numeric_versions("tblite", dft=True) and "pyscf" not in key
+    info = environment_versions()
+    assert all(info[name] == version for name, version in key.items())

@@ -21,27 +21,13 @@ from pathlib import Path
 from elimscan import __version__
 from elimscan.errors import ConfigError, ElimscanError, ExitCode, OutputError
 from elimscan.engines.threads import configure_threads
+from elimscan.versions import environment_versions
 
 log = logging.getLogger("elimscan")
 
 RESULTS_FILE = "results.json"
 PARTIAL_FILE = "results.partial.json"
 LOG_FILE = "run.log"
-
-
-def _versions() -> dict[str, str]:
-    """Return versions of Python and the libraries elimscan relies on (without loading the backends)."""
-    import importlib.metadata as md
-
-    optional = dict.fromkeys(("pyscf", "pyscf-dispersion"),  # the optional DFT tier (extra 'dft')
-                             "absent (optional: the DFT tier; pip install 'elimscan[dft]')")
-    out = {"elimscan": __version__, "python": platform.python_version()}
-    for dist in ("rdkit", "ase", "numpy", "tblite", "xtb", "sella", "pydantic", "dask", "distributed", *optional):
-        try:
-            out[dist] = md.version(dist)
-        except md.PackageNotFoundError:
-            out[dist] = optional.get(dist, "not installed")
-    return out
 
 
 def _setup_logging(verbosity: int, log_file: Path | None = None) -> None:
@@ -79,7 +65,7 @@ def _read_config(path: str):
 
 def cmd_info(args: argparse.Namespace) -> int:
     """Print versions of Python and the libraries; return the exit code."""
-    for name, version in _versions().items():
+    for name, version in environment_versions().items():
         print(f"{name:<17} {version}")
     return ExitCode.OK
 
@@ -220,13 +206,14 @@ def cmd_run(args: argparse.Namespace) -> int:
     _prepare_output(out, args.overwrite)
     _setup_logging(args.verbosity, out / LOG_FILE)
     log.debug("command: %s", shlex.join(sys.argv))
-    log.debug("versions: %s", json.dumps(_versions()))
+    log.debug("versions: %s", json.dumps(environment_versions()))
 
     import ase
     import numpy
     import rdkit
 
-    from elimscan.engines.xtb import EngineSettings, XtbEngine, backend_version
+    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.versions import backend_version
     from elimscan.pipeline import artifacts
     from elimscan.pipeline.compute import DETAIL, job_record, run_config, substrate_molecule_record
     from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
@@ -411,7 +398,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
         with FolderLock(out):
             _setup_logging(args.verbosity, out / BATCH_LOG)
             log.debug("command: %s", shlex.join(sys.argv))
-            log.debug("versions: %s", json.dumps(_versions()))
+            log.debug("versions: %s", json.dumps(environment_versions()))
             started = time.perf_counter()
             try:
                 outcome = run_batch(plan, out, executor, threads, options, progress)

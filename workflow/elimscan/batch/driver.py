@@ -39,6 +39,7 @@ from elimscan.atomicio import remove_stale_temporaries, write_bytes_atomic
 from elimscan.config import (BaseConfig, ExecutorConfig, RunConfig, SolventConfig, SubstrateConfig,
                              default_workers)
 from elimscan.errors import ConfigError, OutputError, StructureError
+from elimscan.versions import BACKEND_DISTRIBUTIONS, installed_version, numeric_versions
 from elimscan.results.records import (BatchCounts, BatchIndex, BatchJobEntry, ErrorInfo, FileChecksum, JobRecord,
                               MoleculeRecord, Provenance, RunResult, RunSummary, Seeds)
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
@@ -58,7 +59,6 @@ _FILE_FIELDS = frozenset({"conformer_file", "xyz_file", "path_file", "saddle_fil
 _KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents",
                  "series"}
 #: libraries whose version can change a job's numbers (their versions are part of the key)
-_KEY_LIBRARIES = ("rdkit", "ase", "numpy", "scipy", "sella")
 #: seconds between two store updates of one running job's step (status reads them)
 _STEP_WRITE_INTERVAL_S = 2.0
 
@@ -219,21 +219,6 @@ class BatchPlan:
         return sum(job.input_error is not None for job in self.jobs)
 
 
-def library_versions(backend: str) -> dict[str, str]:
-    """Return the versions of elimscan, the xTB backend and the libraries that can change a job's numbers."""
-    import importlib.metadata as md
-
-    from elimscan.engines.xtb import BACKEND_DISTRIBUTIONS
-
-    versions = {"elimscan": __version__}
-    for dist in (BACKEND_DISTRIBUTIONS.get(backend, backend), *_KEY_LIBRARIES):
-        try:
-            versions[dist] = md.version(dist)
-        except md.PackageNotFoundError:
-            versions[dist] = "not installed"
-    return versions
-
-
 def canonical_solvent(solvent: SolventConfig, config: RunConfig) -> SolventConfig:
     """Return the solvent with our canonical name (None for the gas phase), checked against the backend."""
     from elimscan.solvents import check_solvent
@@ -256,12 +241,7 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
     settings = config.model_dump(mode="json", exclude=_KEY_EXCLUDED)
     settings["method"]["solvent"] = {"model": solvent.model, "name": solvent.name}
     if config.dft.enabled:  # the optional DFT tier: its settings and PySCF's version change the job's numbers
-        import importlib.metadata as md
-
-        try:
-            versions = {**versions, "pyscf": md.version("pyscf")}
-        except md.PackageNotFoundError:
-            versions = {**versions, "pyscf": "not installed"}
+        versions = {**versions, "pyscf": installed_version("pyscf")}
     else:  # tier off: keys stay those of configs without a dft block
         settings.pop("dft", None)
     document = {"key_format": 1, "settings": settings, "substrate": substrate,
@@ -309,7 +289,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     from elimscan.pipeline.compute import safe_name
 
     folder = Path(config_path).parent
-    versions = library_versions(config.method.backend)
+    versions = numeric_versions(config.method.backend)
     rows: list[SubstrateRow] = []
     file_sha = None
     if config.substrates_file is not None:
@@ -627,7 +607,6 @@ def _provenance(plan: BatchPlan, command_line: str) -> Provenance:
     import numpy
     import rdkit
 
-    from elimscan.engines.xtb import BACKEND_DISTRIBUTIONS
     from elimscan.solvents import method_label
 
     method = plan.config.method

@@ -10,7 +10,6 @@ is data on its path, and the job goes on.
 from __future__ import annotations
 
 import importlib
-import importlib.metadata
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -20,9 +19,11 @@ from ase import Atoms
 from elimscan.analysis.rule import PathBarrier, product_fractions
 from elimscan.config import DftConfig, SolventConfig
 from elimscan.errors import DftError, DftRefusedError, DftUnavailableError, ElimscanError
+from elimscan.results.failures import error_info
 from elimscan.results.records import ErrorInfo
 from elimscan.solvents import DIELECTRIC_SOLVENTS, canonical_solvent_name
 from elimscan.units import KCAL_MOL_PER_HARTREE
+from elimscan.versions import installed_version
 
 #: Static dielectric constants (25 °C) for our canonical ALPB solvent names (the solvents of the ``dielectric``
 #: model, and ethanol, methanol and water, have theirs in solvents.DIELECTRIC_SOLVENTS: one entry per solvent,
@@ -129,14 +130,6 @@ class DftJobResult:
     substitution_fraction: float | None = None
     seconds: float = 0.0
     error: ErrorInfo | None = None
-
-
-def pyscf_version() -> str:
-    """Return the installed PySCF version, or 'not installed'."""
-    try:
-        return importlib.metadata.version("pyscf")
-    except importlib.metadata.PackageNotFoundError:
-        return "not installed"
 
 
 def missing_pyscf(dispersion: str) -> str | None:
@@ -271,11 +264,6 @@ def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
                     seconds=round(time.perf_counter() - start, 2), retried=retried)
 
 
-def _error(err: ElimscanError) -> ErrorInfo:
-    """Return the ErrorInfo record of one of our errors."""
-    return ErrorInfo(error_type=err.error_type, error_message=str(err))
-
-
 def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, multiplicity: int,
                charges: dict[str, int], config: DftConfig, solvent: SolventConfig, temperature_K: float,
                reactants: Sequence[tuple[str, Atoms, int, int]] = (), threads: int = 1,
@@ -291,11 +279,11 @@ def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, mul
         level = dft_level(config, solvent)
         check_free_ions(job, charges, level)
     except DftRefusedError as err:
-        return DftJobResult(status="refused", message=str(err), error=_error(err))
+        return DftJobResult(status="refused", message=str(err), error=error_info(err))
     missing = missing_pyscf(config.dispersion)
     if missing is not None:
         return DftJobResult(status="skipped", message=missing)
-    label, version = level.label(), pyscf_version()
+    label, version = level.label(), installed_version("pyscf")
     chosen = select_saddles(candidates, config.saddles_per_product)
     if not chosen:
         return DftJobResult(status="failed", message=f"job '{job}': no saddle to refine (every path failed)",
@@ -309,7 +297,7 @@ def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, mul
             points[cand.key] = single_point(cand.atoms, charge, multiplicity, level, threads,
                                             name=f"job '{job}' {cand.key[0]} {cand.key[1]} saddle")
         except ElimscanError as err:
-            points[cand.key] = _error(err)
+            points[cand.key] = error_info(err)
     energies = {key: p.energy_hartree for key, p in points.items() if isinstance(p, DftPoint)}
     failed = len(points) - len(energies)
     if not energies:

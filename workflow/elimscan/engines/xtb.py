@@ -12,7 +12,6 @@ from __future__ import annotations
 import hashlib
 import importlib
 import time
-import importlib.metadata
 from dataclasses import dataclass, field
 from typing import Any, Protocol
 
@@ -23,10 +22,10 @@ from ase.calculators.calculator import Calculator, all_changes
 from elimscan.config import MethodConfig
 from elimscan.errors import BackendUnavailableError, EngineError, ScfConvergenceError
 from elimscan.solvents import XTB_PYTHON_NAMES, check_solvent, dielectric_constant, method_label
+from elimscan.versions import backend_version
 from elimscan.units import ANGSTROM_PER_BOHR, BOLTZMANN_HARTREE_PER_K, EV_PER_HARTREE
 
 #: Python distribution name of each backend (for versions in provenance).
-BACKEND_DISTRIBUTIONS = {"tblite": "tblite", "xtb": "xtb"}
 
 
 @dataclass(frozen=True)
@@ -79,14 +78,6 @@ class SinglePoint:
     def forces_eV_per_A(self) -> np.ndarray:
         """Return the forces in eV/Å (minus the gradient)."""
         return -self.gradient_hartree_per_bohr * EV_PER_HARTREE / ANGSTROM_PER_BOHR
-
-
-def backend_version(backend: str) -> str:
-    """Return the installed version of a backend's Python package, or 'not installed'."""
-    try:
-        return importlib.metadata.version(BACKEND_DISTRIBUTIONS.get(backend, backend))
-    except importlib.metadata.PackageNotFoundError:
-        return "not installed"
 
 
 def _import_backend(backend: str) -> Any:

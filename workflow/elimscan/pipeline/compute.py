@@ -34,6 +34,7 @@ from elimscan.drivers.freeenergy import MinimumHessian, isotope_effect, minimum_
 from elimscan.geometry import distance
 from elimscan.chem.substitution import substitution_product
 from elimscan.drivers.paths import PathResult, Reactive, SubstitutionReactive, compute_path, compute_substitution_path
+from elimscan.results.failures import error_info
 from elimscan.results.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, DftJobRecord,
                               DftPointRecord, ErrorInfo, JobRecord,
                               LeavingGroupRecord, MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
@@ -110,11 +111,6 @@ class RunOutcome:
     paths: dict[tuple[str, str], JobPaths] = field(default_factory=dict)
     #: the optional DFT tier of each job (substrate, base), when dft.enabled
     dft: dict[tuple[str, str], DftJobResult] = field(default_factory=dict)
-
-
-def error_info(err: ElimscanError) -> ErrorInfo:
-    """Return the ErrorInfo record of one of our errors."""
-    return ErrorInfo(error_type=err.error_type, error_message=str(err))
 
 
 def relax_molecule(name: str, role: str, smiles: str, charge: int | None, multiplicity: int, engine,
