@@ -22,8 +22,9 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from elimscan.batch.driver import (BatchOptions, FolderLock, files_intact, job_key, lock_holder,
-                            plan_batch, read_status, read_substrate_file, run_batch)
+from elimscan.batch.driver import (BatchOptions, FolderLock, files_intact, lock_holder, plan_batch, read_status,
+                                   read_substrate_file, run_batch)
+from elimscan.pipeline.document import job_key
 from elimscan.config import parse_config
 from elimscan.engines.xtb import CacheStats
 from elimscan.errors import ConfigError, EngineError, ExitCode, OutputError, StructureError

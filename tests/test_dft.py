@@ -162,7 +162,7 @@ def test_tier_records_on_the_toy_engine_with_scripted_single_points(monkeypatch)
 
 
 def test_dft_settings_enter_the_batch_key_only_when_the_tier_is_on():
-    from elimscan.batch.driver import job_key
+    from elimscan.pipeline.document import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),), bases=(BaseConfig(name="hydroxide"),))
     solvent, versions = SolventConfig(model="alpb", name="water"), {"elimscan": "test"}

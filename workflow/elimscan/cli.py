@@ -6,11 +6,9 @@ Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: 
 from __future__ import annotations
 
 import argparse
-import datetime as _dt
 import json
 import logging
 import os
-import platform
 import shlex
 import shutil
 import signal
@@ -208,18 +206,13 @@ def cmd_run(args: argparse.Namespace) -> int:
     log.debug("command: %s", shlex.join(sys.argv))
     log.debug("versions: %s", json.dumps(environment_versions()))
 
-    import ase
-    import numpy
-    import rdkit
-
     from elimscan.engines.xtb import EngineSettings, XtbEngine
-    from elimscan.versions import backend_version
-    from elimscan.pipeline import artifacts
-    from elimscan.pipeline.compute import DETAIL, job_record, run_config, substrate_molecule_record
-    from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
     from elimscan.output.text import summary_table
-    from elimscan.analysis.series import series_records
-    from elimscan.results.trouble import count_trouble
+    from elimscan.pipeline.compute import DETAIL, run_config
+    from elimscan.pipeline.document import (canonical_solvent, job_key, provenance, run_document, substrate_inputs,
+                                            unique_molecules)
+    from elimscan.pipeline.jobs import job_outcomes
+    from elimscan.versions import numeric_versions
 
     test_engine = os.environ.get("ELIMSCAN_TEST_ENGINE_FACTORY")  # test hook, see DEVELOPERS.md
     if test_engine:
@@ -244,42 +237,23 @@ def cmd_run(args: argparse.Namespace) -> int:
         log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
 
     outcome = run_config(config, engine, progress, geometries)
+    done = job_outcomes(config, outcome, engine.label)
     files: dict[str, bytes] = {}
-    molecules: list[MoleculeRecord] = []
-    for item in {s.name: s for s, _ in outcome.jobs}.values():
-        analysis = outcome.substrates[item.name]
-        record = substrate_molecule_record(item, analysis)
-        if not isinstance(analysis, ErrorInfo):
-            files.update(artifacts.substrate_files(item.name, analysis, engine.label))
-        molecules.append(record)
-    for name, base in outcome.bases.items():
-        record = base.relaxed.record
-        xyz = artifacts.base_file(name, base.relaxed, engine.label)
-        if xyz is not None:
-            files[xyz[0]] = xyz[1]
-            record = record.model_copy(update={"xyz_file": xyz[0]})
-        molecules.append(record)
+    for job in done:
+        files.update(job.files)
+    molecules = unique_molecules(m for job in done for m in job.molecules)
     for record in molecules:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
-    jobs: list[JobRecord] = [job_record(s, b, outcome, config) for s, b in outcome.jobs]
-    for job in jobs:
-        files.update(artifacts.path_files(job, outcome.paths.get((job.substrate, job.base), {}), engine.label))
+    versions = numeric_versions(config.method.backend)
+    keyed = [job.job.model_copy(update={"job_key": job_key(
+        config, substrate_inputs(substrate, geometries.get(substrate.name, (None,))[0] if geometries else None),
+        base, canonical_solvent(config.method.solvent, config), versions)})
+        for job, (substrate, base) in zip(done, outcome.jobs)]
     _write_files(out, files)
-    n_failed = sum(job.status != "ok" for job in jobs)
-    result = RunResult(
-        provenance=Provenance(
-            program_version=__version__, command_line=shlex.join(sys.argv),
-            created_utc=_dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
-            python_version=platform.python_version(), rdkit_version=rdkit.__version__, ase_version=ase.__version__,
-            numpy_version=numpy.__version__, backend=config.method.backend,
-            backend_version=backend_version(config.method.backend), method_label=engine.label),
-        config=config, seeds=Seeds(rdkit_embedding=config.seed), molecules=tuple(molecules), jobs=tuple(jobs),
-        summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
-                           n_molecules_failed=sum(m.status != "ok" for m in molecules),
-                           trouble=count_trouble(jobs, engine.stats.hot_points)),
-        series=series_records(config.series, jobs, config.method.temperature_K, config.analysis.energy),
-    )
+    n_failed = sum(job.status != "ok" for job in keyed)
+    result = run_document(config, provenance(config, shlex.join(sys.argv), versions), keyed, molecules,
+                          engine.stats.hot_points)
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
     from elimscan.output.files import build_report_files
 

@@ -24,7 +24,6 @@ import io
 import json
 import logging
 import os
-import platform
 import signal
 import socket
 import time
@@ -34,16 +33,16 @@ from pathlib import Path, PurePosixPath
 
 from pydantic import ValidationError
 
-from elimscan import __version__
 from elimscan.atomicio import remove_stale_temporaries, write_bytes_atomic
 from elimscan.config import (BaseConfig, ExecutorConfig, RunConfig, SolventConfig, SubstrateConfig,
                              default_workers)
 from elimscan.errors import ConfigError, OutputError, StructureError
-from elimscan.versions import BACKEND_DISTRIBUTIONS, installed_version, numeric_versions
+from elimscan.versions import numeric_versions
 from elimscan.results.records import (BatchCounts, BatchIndex, BatchJobEntry, ErrorInfo, FileChecksum, JobRecord,
-                              MoleculeRecord, Provenance, RunResult, RunSummary, Seeds)
+                              MoleculeRecord, Provenance, RunResult)
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
-from elimscan.results.trouble import count_trouble
+from elimscan.pipeline.document import (canonical_solvent, job_inputs, job_key, provenance, run_document, solvent_label,
+                                        utc_now)
 from elimscan.batch.workers import (DEFAULT_ENGINE_FACTORY, WORKER_LOG_FILE, DaskExecutor, Done, JobTask, LocalExecutor,
                               Progress, Started)
 from elimscan.batch.workers import LOG_FILE  # noqa: F401  (the batch folder's log; cli opens it)
@@ -55,17 +54,8 @@ INDEX_FILE = "batch.json"
 LOCK_FILE = "batch.lock"
 #: output-relative record fields that name a job's files
 _FILE_FIELDS = frozenset({"conformer_file", "xyz_file", "path_file", "saddle_file"})
-#: settings that change no number: left out of the job key
-_KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents",
-                 "series"}
-#: libraries whose version can change a job's numbers (their versions are part of the key)
 #: seconds between two store updates of one running job's step (status reads them)
 _STEP_WRITE_INTERVAL_S = 2.0
-
-
-def _utc_now() -> str:
-    """Return the time now (UTC, ISO 8601, milliseconds)."""
-    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="milliseconds")
 
 
 # --- substrates from a file --------------------------------------------------------------------------------
@@ -219,36 +209,6 @@ class BatchPlan:
         return sum(job.input_error is not None for job in self.jobs)
 
 
-def canonical_solvent(solvent: SolventConfig, config: RunConfig) -> SolventConfig:
-    """Return the solvent with our canonical name (None for the gas phase), checked against the backend."""
-    from elimscan.solvents import check_solvent
-
-    name = check_solvent(config.method.backend, config.method.hamiltonian, solvent.model, solvent.name)
-    return SolventConfig.model_construct(model=solvent.model, name=name)
-
-
-def solvent_label(solvent: SolventConfig) -> str:
-    """Return a short label of an implicit solvent: 'gas' or '<model>-<name>' (e.g. alpb-water)."""
-    return "gas" if solvent.model == "none" else f"{solvent.model}-{solvent.name}"
-
-
-def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: SolventConfig,
-            versions: dict[str, str]) -> str:
-    """Return the SHA-256 hex key of one job: its inputs and every setting and library version that changes its numbers.
-
-    Left out: the batch's name, threads, executor, and the other substrates, bases and solvents.
-    """
-    settings = config.model_dump(mode="json", exclude=_KEY_EXCLUDED)
-    settings["method"]["solvent"] = {"model": solvent.model, "name": solvent.name}
-    if config.dft.enabled:  # the optional DFT tier: its settings and PySCF's version change the job's numbers
-        versions = {**versions, "pyscf": installed_version("pyscf")}
-    else:  # tier off: keys stay those of configs without a dft block
-        settings.pop("dft", None)
-    document = {"key_format": 1, "settings": settings, "substrate": substrate,
-                "base": base.model_dump(mode="json"), "versions": versions}
-    return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
-
-
 def _substrate_problem(smiles: str, charge: int | None, multiplicity: int, what: str,
                        seed: int | None = None, full: bool = True) -> tuple[int | None, str | None]:
     """Return (total charge, None) when a molecule is usable, else (None, the problem naming it).
@@ -354,11 +314,9 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
         row = row_of.get(name)
         substrate = by_name.get(name)
         for solvent in solvents:
-            inputs = {"name": name, "smiles": row.smiles if row else substrate.smiles,
-                      "charge": row.charge if row else substrate.charge,
-                      "multiplicity": row.multiplicity if row else substrate.multiplicity,
-                      "geometry_sha256": hashlib.sha256(geometries[name][0].encode()).hexdigest()
-                      if name in geometries else None}
+            source = row or substrate
+            inputs = job_inputs(name, source.smiles, source.charge, source.multiplicity,
+                                geometries[name][0] if name in geometries else None)
             key = job_key(config, inputs, base, solvent, versions)
             job_id = f"{safe_name(name)}__{safe_name(base.name)}"
             if config.solvents:
@@ -432,7 +390,7 @@ class FolderLock:
             raise OutputError(f"output folder '{self.path.parent}' is in use by another elimscan batch ({holder}); "
                               f"wait for it to finish, or follow it with: elimscan status {self.path.parent}") from None
         os.ftruncate(fd, 0)
-        os.pwrite(fd, f"pid {os.getpid()} on {socket.gethostname()}, started {_utc_now()}\n".encode(), 0)
+        os.pwrite(fd, f"pid {os.getpid()} on {socket.gethostname()}, started {utc_now()}\n".encode(), 0)
         self._fd = fd
         return self
 
@@ -603,21 +561,7 @@ class BatchOutcome:
 
 def _provenance(plan: BatchPlan, command_line: str) -> Provenance:
     """Return the provenance block of the batch's documents."""
-    import ase
-    import numpy
-    import rdkit
-
-    from elimscan.solvents import method_label
-
-    method = plan.config.method
-    solvents = [canonical_solvent(s, plan.config) for s in (plan.config.solvents or (method.solvent,))]
-    backend_version = plan.versions.get(BACKEND_DISTRIBUTIONS.get(method.backend, method.backend), "unknown")
-    return Provenance(program_version=__version__, command_line=command_line, created_utc=_utc_now(),
-                      python_version=platform.python_version(), rdkit_version=rdkit.__version__,
-                      ase_version=ase.__version__, numpy_version=numpy.__version__, backend=method.backend,
-                      backend_version=backend_version,
-                      method_label=method_label(method.hamiltonian, [(s.model, s.name) for s in solvents],
-                                                method.backend, backend_version))
+    return provenance(plan.config, command_line, plan.versions)
 
 
 def _input_failure_row(job: PlannedJob, run_id: int) -> StoredJob:
@@ -637,7 +581,7 @@ def _row(job: PlannedJob, record: JobRecord, molecules: list[MoleculeRecord], fi
         error_type=record.error.error_type if record.error else None,
         error_message=record.error.error_message if record.error else None,
         job_json=record.model_dump_json(), molecules_json=json.dumps([m.model_dump(mode="json") for m in molecules]),
-        folder=job.folder if files else None, started_utc=started_utc, finished_utc=_utc_now(),
+        folder=job.folder if files else None, started_utc=started_utc, finished_utc=utc_now(),
         wall_seconds=None if seconds is None else round(seconds, 3), worker=worker, run_id=run_id,
         files=tuple((f.path, f.sha256, f.size_bytes) for f in files))
 
@@ -663,7 +607,7 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
     wall_start = time.monotonic()
     store = JobStore(out / STORE_FILE)
     try:
-        stale = store.close_stale_runs(_utc_now())
+        stale = store.close_stale_runs(utc_now())
         if stale:
             log.info("a previous batch in %s stopped without finishing; resuming", out)
         keys = [job.key for job in plan.jobs]
@@ -684,7 +628,7 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
                     continue
             todo.append(job)
         parallel_hint = (executor_config.workers or default_workers()) if executor_config.kind == "local" else 0
-        run_id = store.begin_run(_utc_now(), os.getpid(), socket.gethostname(), options.command_line,
+        run_id = store.begin_run(utc_now(), os.getpid(), socket.gethostname(), options.command_line,
                                  plan.config.name, executor_config.kind, parallel_hint,
                                  [(job.key, job.job_id) for job in plan.jobs])
         for job in plan.jobs:
@@ -703,7 +647,7 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
                          wall_start)
             state = "finished"
         finally:
-            store.end_run(run_id, state, _utc_now())
+            store.end_run(run_id, state, utc_now())
             _finish_documents(plan, out, store, options, executor_config, outcome)
         return outcome
     finally:
@@ -758,7 +702,7 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                     continue
                 if isinstance(event, Started):
                     running[event.key] = (time.monotonic(), "started")
-                    store.record_start(run_id, job.key, job.job_id, event.worker, _utc_now())
+                    store.record_start(run_id, job.key, job.job_id, event.worker, utc_now())
                     starts += 1
                     _kill_hook(options, "start", starts)
                     emit("start", job_id=job.job_id, message=event.worker)
@@ -767,12 +711,12 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                         running[event.key] = (running[event.key][0], event.message)
                     log.debug("%s: %s", job.job_id, event.message)
                     if time.monotonic() - step_written.get(event.key, 0.0) > _STEP_WRITE_INTERVAL_S:
-                        store.record_step(job.key, event.message[:300], _utc_now())
+                        store.record_step(job.key, event.message[:300], utc_now())
                         step_written[event.key] = time.monotonic()
                     emit("step", job_id=job.job_id, message=event.message)
                 elif isinstance(event, Done):
                     if event.key not in running:  # the start event may arrive late (Dask) or never
-                        store.record_start(run_id, job.key, job.job_id, event.worker, _utc_now())
+                        store.record_start(run_id, job.key, job.job_id, event.worker, utc_now())
                     running.pop(event.key, None)
                     record = _commit(job, event, out, store, run_id,
                                      lambda point, n=commits + 1: _kill_hook(options, point, n))
@@ -829,30 +773,18 @@ def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: in
 def assemble_results(plan: BatchPlan, rows: dict[str, StoredJob], command_line: str) -> RunResult:
     """Return the RunResult of a finished batch, built from the store's rows for the current config's keys only."""
     jobs: list[JobRecord] = []
-    substrates: dict[tuple[str, str], MoleculeRecord] = {}
-    bases: dict[tuple[str, str], MoleculeRecord] = {}
+    molecules: list[MoleculeRecord] = []
     for job in plan.jobs:
         row = rows[job.key]
         try:
             jobs.append(JobRecord.model_validate_json(row.job_json))
-            stored = [MoleculeRecord.model_validate(data) for data in json.loads(row.molecules_json)]
+            molecules += [MoleculeRecord.model_validate(data).model_copy(update={"solvent": job.solvent})
+                          for data in json.loads(row.molecules_json)]
         except (ValidationError, ValueError) as err:
             raise OutputError(f"job '{job.job_id}': its record in {STORE_FILE} does not match the result format of "
                               f"this elimscan (written by another build?): {str(err).splitlines()[0]}; use a new "
                               "--out for this version") from err
-        for molecule in stored:
-            target = substrates if molecule.role == "substrate" else bases
-            key = (molecule.name, solvent_label(job.solvent))
-            if key not in target or (target[key].status != "ok" and molecule.status == "ok"):
-                target[key] = molecule
-    molecules = tuple(substrates.values()) + tuple(bases.values())
-    n_failed = sum(j.status != "ok" for j in jobs)
-    return RunResult(provenance=_provenance(plan, command_line), config=plan.config,
-                     seeds=Seeds(rdkit_embedding=plan.config.seed), molecules=molecules, jobs=tuple(jobs),
-                     summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
-                                        n_molecules_failed=sum(m.status != "ok" for m in molecules),
-                                        trouble=count_trouble(jobs)),
-                     series=_series(plan, jobs))
+    return run_document(plan.config, _provenance(plan, command_line), jobs, molecules)
 
 
 def _series(plan: BatchPlan, jobs: list[JobRecord]) -> tuple:

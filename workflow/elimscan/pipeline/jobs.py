@@ -10,7 +10,8 @@ from dataclasses import dataclass
 
 from elimscan.pipeline import artifacts
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
-from elimscan.pipeline.compute import ProgressCallback, job_record, run_config, substrate_molecule_record
+from elimscan.pipeline.compute import (ProgressCallback, RunOutcome, job_record, run_config,
+                                       substrate_molecule_record)
 from elimscan.results.records import JobRecord, MoleculeRecord
 
 
@@ -35,6 +36,35 @@ def single_job_config(config: RunConfig, substrate: SubstrateConfig, base: BaseC
     return config.model_copy(update=update)
 
 
+def job_outcomes(config: RunConfig, outcome: RunOutcome, method_label: str,
+                 solvent: SolventConfig | None = None) -> list[JobOutcome]:
+    """Return one JobOutcome per job of a computed run (records stamped with the solvent, and their files).
+
+    A run shares each substrate's analysis and each base between its jobs, so their files repeat from one
+    outcome to the next with the same contents.
+    """
+    stamp = {"solvent": solvent or config.method.solvent}
+    found = []
+    for substrate, base in outcome.jobs:
+        analysis = outcome.substrates[substrate.name]
+        files: dict[str, bytes] = {}
+        substrate_record = substrate_molecule_record(substrate, analysis)
+        if substrate_record.status == "ok":
+            files.update(artifacts.substrate_files(substrate.name, analysis, method_label))
+        relaxed = outcome.bases[base.name].relaxed
+        base_record = relaxed.record
+        xyz = artifacts.base_file(base.name, relaxed, method_label)
+        if xyz is not None:
+            files[xyz[0]] = xyz[1]
+            base_record = base_record.model_copy(update={"xyz_file": xyz[0]})
+        record = job_record(substrate, base, outcome, config)
+        files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), method_label))
+        found.append(JobOutcome(record.model_copy(update=stamp),
+                                (substrate_record.model_copy(update=stamp), base_record.model_copy(update=stamp)),
+                                files))
+    return found
+
+
 def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, engine,
             geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
     """Return the outcome of one job in ``config.method.solvent``; known failures are inside the record, not raised.
@@ -45,20 +75,6 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
     one = single_job_config(config, substrate, base)
     hot_before = engine.stats.hot_points
     outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
-    analysis = outcome.substrates[substrate.name]
-    files: dict[str, bytes] = {}
-    substrate_record = substrate_molecule_record(substrate, analysis)
-    if substrate_record.status == "ok":
-        files.update(artifacts.substrate_files(substrate.name, analysis, engine.label))
-    relaxed = outcome.bases[base.name].relaxed
-    base_record = relaxed.record
-    xyz = artifacts.base_file(base.name, relaxed, engine.label)
-    if xyz is not None:
-        files[xyz[0]] = xyz[1]
-        base_record = base_record.model_copy(update={"xyz_file": xyz[0]})
-    record = job_record(substrate, base, outcome, one)
-    files.update(artifacts.path_files(record, outcome.paths.get((substrate.name, base.name), {}), engine.label))
-    solvent = {"solvent": one.method.solvent}
-    record = record.model_copy(update={**solvent, "retry_temperature_points": engine.stats.hot_points - hot_before})
-    return JobOutcome(record,
-                      (substrate_record.model_copy(update=solvent), base_record.model_copy(update=solvent)), files)
+    (done,) = job_outcomes(one, outcome, engine.label)
+    record = done.job.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before})
+    return JobOutcome(record, done.molecules, done.files)

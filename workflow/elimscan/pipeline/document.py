@@ -1,0 +1,112 @@
+"""The result document of a run, built one way for ``elimscan run`` and ``elimscan batch`` (no file I/O).
+
+Both commands hand over finished job records and molecule records; this module adds the provenance, the
+job keys, the summary counts and the substituent series, so the two ``results.json`` cannot drift apart.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import hashlib
+import json
+import platform
+from collections.abc import Iterable, Sequence
+
+from elimscan import __version__
+from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+from elimscan.results.records import JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
+from elimscan.results.trouble import count_trouble
+from elimscan.solvents import check_solvent, method_label
+from elimscan.versions import BACKEND_DISTRIBUTIONS, installed_version
+
+#: settings that change no number: left out of the job key
+KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents", "series"}
+
+
+def utc_now() -> str:
+    """Return the time now (UTC, ISO 8601, milliseconds)."""
+    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="milliseconds")
+
+
+def canonical_solvent(solvent: SolventConfig, config: RunConfig) -> SolventConfig:
+    """Return the solvent with our canonical name (None for the gas phase), checked against the backend."""
+    name = check_solvent(config.method.backend, config.method.hamiltonian, solvent.model, solvent.name)
+    return SolventConfig.model_construct(model=solvent.model, name=name)
+
+
+def solvent_label(solvent: SolventConfig) -> str:
+    """Return a short label of an implicit solvent: 'gas' or '<model>-<name>' (e.g. alpb-water)."""
+    return "gas" if solvent.model == "none" else f"{solvent.model}-{solvent.name}"
+
+
+def job_inputs(name: str, smiles: str, charge: int | None, multiplicity: int, geometry_text: str | None) -> dict:
+    """Return the substrate part of a job key: name, SMILES, charge, multiplicity and the geometry file's SHA-256."""
+    return {"name": name, "smiles": smiles, "charge": charge, "multiplicity": multiplicity,
+            "geometry_sha256": hashlib.sha256(geometry_text.encode()).hexdigest() if geometry_text is not None else None}
+
+
+def substrate_inputs(substrate: SubstrateConfig, geometry_text: str | None) -> dict:
+    """Return ``job_inputs`` of a substrate of the config."""
+    return job_inputs(substrate.name, substrate.smiles, substrate.charge, substrate.multiplicity, geometry_text)
+
+
+def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: SolventConfig,
+            versions: dict[str, str]) -> str:
+    """Return the SHA-256 hex key of one job: its inputs and every setting and library version that changes its numbers.
+
+    Left out: the config's name, threads, executor, and the other substrates, bases and solvents.
+    """
+    settings = config.model_dump(mode="json", exclude=KEY_EXCLUDED)
+    settings["method"]["solvent"] = {"model": solvent.model, "name": solvent.name}
+    if config.dft.enabled:  # the optional DFT tier: its settings and PySCF's version change the job's numbers
+        versions = {**versions, "pyscf": installed_version("pyscf")}
+    else:  # tier off: keys stay those of configs without a dft block
+        settings.pop("dft", None)
+    document = {"key_format": 1, "settings": settings, "substrate": substrate,
+                "base": base.model_dump(mode="json"), "versions": versions}
+    return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
+
+
+def provenance(config: RunConfig, command_line: str, versions: dict[str, str]) -> Provenance:
+    """Return the provenance block of a result document: program, libraries, backend and the method label."""
+    import ase
+    import numpy
+    import rdkit
+
+    method = config.method
+    media = [canonical_solvent(s, config) for s in (config.solvents or (method.solvent,))]
+    backend_version = versions.get(BACKEND_DISTRIBUTIONS.get(method.backend, method.backend), "unknown")
+    return Provenance(program_version=__version__, command_line=command_line, created_utc=utc_now(),
+                      python_version=platform.python_version(), rdkit_version=rdkit.__version__,
+                      ase_version=ase.__version__, numpy_version=numpy.__version__, backend=method.backend,
+                      backend_version=backend_version,
+                      method_label=method_label(method.hamiltonian, [(s.model, s.name) for s in media],
+                                                method.backend, backend_version))
+
+
+def unique_molecules(molecules: Iterable[MoleculeRecord]) -> tuple[MoleculeRecord, ...]:
+    """Return one record per (role, name, solvent), substrates first, a successful record before a failed one."""
+    kept: dict[tuple, MoleculeRecord] = {}
+    for molecule in molecules:
+        key = (molecule.role != "substrate", molecule.name,
+               None if molecule.solvent is None else solvent_label(molecule.solvent))
+        if key not in kept or (kept[key].status != "ok" and molecule.status == "ok"):
+            kept[key] = molecule
+    return tuple(kept[k] for k in sorted(kept, key=lambda k: k[0]))
+
+
+def run_document(config: RunConfig, origin: Provenance, jobs: Sequence[JobRecord],
+                 molecules: Iterable[MoleculeRecord], retry_temperature_points: int = 0) -> RunResult:
+    """Return the result document (results.json) of finished jobs: records, summary counts, series, seeds."""
+    from elimscan.analysis.series import series_records
+
+    jobs = tuple(jobs)
+    molecules = unique_molecules(molecules)
+    n_failed = sum(job.status != "ok" for job in jobs)
+    return RunResult(provenance=origin, config=config, seeds=Seeds(rdkit_embedding=config.seed),
+                     molecules=molecules, jobs=jobs,
+                     summary=RunSummary(n_jobs=len(jobs), n_jobs_ok=len(jobs) - n_failed, n_jobs_failed=n_failed,
+                                        n_molecules_failed=sum(m.status != "ok" for m in molecules),
+                                        trouble=count_trouble(jobs, retry_temperature_points)),
+                     series=series_records(config.series, list(jobs), config.method.temperature_K,
+                                           config.analysis.energy))
