@@ -3,8 +3,13 @@
 from __future__ import annotations
 
 import os
+import sys
+from pathlib import Path
 
 from elimscan.engines.threads import configure_threads
+
+# test-only engines and job helpers (toyengine.py, toyjobs.py, the plug-in example) live in tests/support/
+sys.path.insert(0, str(Path(__file__).resolve().parent / "support"))
 
 configure_threads(int(os.environ.get("ELIMSCAN_TEST_THREADS", "1")))
 os.environ.setdefault("MPLBACKEND", "Agg")

@@ -267,7 +267,7 @@ def test_bad_input(name, tmp_path, capsys):
 
 def elimscan(*args: str, env: dict | None = None, timeout: float = 300) -> subprocess.CompletedProcess:
     """Run the elimscan command in a subprocess (toyjobs importable by its workers); return the completed process."""
-    path = os.pathsep.join([str(TESTS), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
+    path = os.pathsep.join([str(TESTS / "support"), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
     return subprocess.run([sys.executable, "-m", "elimscan", *args], capture_output=True, text=True, timeout=timeout,
                           env={**os.environ, "PYTHONPATH": path, **(env or {})})
 
@@ -291,8 +291,8 @@ def test_a_bad_csv_row_fails_only_its_own_job(tmp_path, capsys, monkeypatch):
     assert "job broken__methoxide will fail: more.csv line 3: substrate 'broken': cannot parse SMILES 'CC(Cl'" in err
     assert "job neopentyl__methoxide will fail: more.csv line 4: substrate 'neopentyl'" in err
     assert "(4 jobs, 2 of them fail on their input)" in err
-    monkeypatch.setenv("ELIMSCAN_TEST_ENGINE_FACTORY", "toyjobs:toy_engine")
-    code, err = cli(capsys, ["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out")])
+    code, err = cli(capsys, ["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out"),
+                             "--engine", "toyjobs:toy_engine"])
     assert code == ExitCode.JOBS_FAILED, err
     assert "Traceback" not in err
     jobs = {j["job_id"]: j for j in json.loads((tmp_path / "out" / "results.json").read_text())["jobs"]}

@@ -2,7 +2,7 @@
 (RLIMIT_FSIZE), an output folder that stops being writable mid-run, a bug in a worker, atomic files.
 
 Every batch here computes on the toy engine (``toyjobs.py``, selected with the documented test hook
-ELIMSCAN_TEST_ENGINE_FACTORY), so a job takes about a second and no GFN2-xTB is needed: what is tested is
+``--engine toyjobs:toy_engine``), so a job takes about a second and no GFN2-xTB is needed: what is tested is
 the bookkeeping, not the numbers, which are compared only with an uninterrupted run of the same jobs.
 """
 
@@ -42,13 +42,16 @@ executor: {workers: 1}
 JOB_IDS = ["chloroethane__methoxide", "2-chloropropane__methoxide", "1-chloropropane__methoxide"]
 
 
-def elimscan(*args: str, env: dict | None = None, preexec_fn=None) -> subprocess.CompletedProcess:
-    """Run ``elimscan`` in a subprocess on the toy engine; return the completed process."""
-    path = os.pathsep.join([str(TESTS), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
+def elimscan(*args: str, env: dict | None = None, preexec_fn=None,
+             engine: str = "toyjobs:toy_engine") -> subprocess.CompletedProcess:
+    """Run ``elimscan`` in a subprocess on the toy engine (``--engine`` for run and batch); return the process."""
+    if args and args[0] in ("run", "batch"):
+        args = (*args, "--engine", engine)
+    path = os.pathsep.join([str(TESTS / "support"), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
     return subprocess.run([sys.executable, "-m", "elimscan", *args], capture_output=True, text=True, timeout=300,
                           preexec_fn=preexec_fn,
                           env={**os.environ, "PYTHONPATH": path, "PYTHONDONTWRITEBYTECODE": "1",
-                               "ELIMSCAN_TEST_ENGINE_FACTORY": "toyjobs:toy_engine", **(env or {})})
+                               **(env or {})})
 
 
 def batch(folder: Path, **kwargs) -> subprocess.CompletedProcess:
@@ -187,7 +190,7 @@ def stderr_tail(done: subprocess.CompletedProcess) -> str:
 def test_a_bug_in_a_worker_fails_its_job_with_the_traceback_in_the_log_only(tmp_path):
     (tmp_path / "batch.yaml").write_text(CONFIG)
     done = elimscan("batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out"),
-                    env={"ELIMSCAN_TEST_ENGINE_FACTORY": "toyjobs:broken_engine"})
+                    engine="toyjobs:broken_engine")
     assert done.returncode == ExitCode.JOBS_FAILED, done.stderr
     assert "Traceback" not in done.stderr
     assert "internal_error: unexpected ZeroDivisionError in the worker" in done.stderr
@@ -244,9 +247,8 @@ def test_a_permission_error_mid_run_keeps_finished_jobs(tmp_path, reference, cap
         return real_replace(src, dst)
 
     (tmp_path / "batch.yaml").write_text(CONFIG)
-    monkeypatch.setenv("ELIMSCAN_TEST_ENGINE_FACTORY", "toyjobs:toy_engine")
     monkeypatch.setattr(os, "replace", refuse)
-    code = main(["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out")])
+    code = main(["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out"), "--engine", "toyjobs:toy_engine"])
     monkeypatch.undo()
     err = capsys.readouterr().err
     out = tmp_path / "out"

@@ -19,7 +19,7 @@ from elimscan.drivers.hessian import finite_difference_hessian, harmonic_analysi
 from elimscan.results.flags import UNFINISHED_MAXIMUM
 from elimscan.drivers.paths import ComplexResult, PathPoint, Reactive, drive_path, path_flags, place_base
 from elimscan.drivers.relax import relax
-from elimscan.engines.toy import SpringTorsionEngine
+from toyengine import SpringTorsionEngine
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 BFGS = OptimizerConfig(name="bfgs")

@@ -9,7 +9,7 @@ from elimscan.config import OptimizerConfig
 from elimscan.errors import OptimizationError
 from elimscan.geometry import dihedral_deg, distance
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
-from elimscan.engines.toy import SpringTorsionEngine
+from toyengine import SpringTorsionEngine
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 # Ethane: atoms 0, 1 are C; 2-4 on C0, 5-7 on C1 (RDKit order for SMILES "CC").

@@ -28,9 +28,9 @@ FILE_FIELDS = {"conformer_file", "xyz_file", "path_file", "saddle_file"}
 
 
 def _elimscan(*args: str) -> subprocess.CompletedProcess:
-    path = os.pathsep.join([str(TESTS), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
-    return subprocess.run([sys.executable, "-m", "elimscan", *args], capture_output=True, text=True, timeout=300,
-                          env={**os.environ, "PYTHONPATH": path, "ELIMSCAN_TEST_ENGINE_FACTORY": "toyjobs:toy_engine"})
+    path = os.pathsep.join([str(TESTS / "support"), str(ROOT / "workflow"), os.environ.get("PYTHONPATH", "")])
+    return subprocess.run([sys.executable, "-m", "elimscan", *args, "--engine", "toyjobs:toy_engine"],
+                          capture_output=True, text=True, timeout=300, env={**os.environ, "PYTHONPATH": path})
 
 
 def _document(out: Path) -> dict:

@@ -10,7 +10,7 @@ from elimscan.errors import ScfConvergenceError
 from elimscan.geometry import dihedral_deg
 from elimscan.drivers.relax import relax
 from elimscan.drivers.scans import branch_plan, scan_dihedral
-from elimscan.engines.toy import SpringTorsionEngine
+from toyengine import SpringTorsionEngine
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 HCCH = (2, 0, 1, 5)  # ethane from SMILES "CC": C0, C1, H2-4 on C0, H5-7 on C1

@@ -2,7 +2,7 @@
 above the cap, a job stuck in one stage. Each is recorded where it happened, everything else goes on, and
 the summary counts it.
 
-The batches compute on the toy engine of ``toyjobs.py`` (the test hook ELIMSCAN_TEST_ENGINE_FACTORY), which
+The batches compute on the toy engine of ``toyjobs.py`` (`--engine toyjobs:...`), which
 scripts the trouble: ELIMSCAN_TOY_FAIL_SCF makes named structures raise the ScfConvergenceError that the
 GFN2-xTB engine raises once its retry has failed too (that retry is tested in test_engine_retry.py and on
 the real backend in test_engine_xtb.py); ELIMSCAN_TOY_STRETCH gives relaxations work to do (all, or those named with
@@ -34,11 +34,10 @@ executor: {workers: 1}
 def run_batch(tmp_path: Path, capsys, monkeypatch, text: str = CONFIG, engine: str = "toyjobs:toy_engine",
               **env: str) -> tuple[int, str, dict]:
     """Run ``elimscan batch`` in this process on a toy engine; return (exit code, stderr, results.json or {})."""
-    monkeypatch.setenv("ELIMSCAN_TEST_ENGINE_FACTORY", engine)
     for name, value in env.items():
         monkeypatch.setenv(name, value)
     (tmp_path / "batch.yaml").write_text(text)
-    code = main(["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out")])
+    code = main(["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out"), "--engine", engine])
     err = capsys.readouterr().err
     results = tmp_path / "out" / "results.json"
     if not results.exists():
@@ -145,7 +144,8 @@ def test_charged_reactants_in_the_dielectric_only_continuum_carry_its_warning(tm
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, text)
     assert code == ExitCode.OK, err
     (tmp_path / "run.yaml").write_text(text)  # a single run also says that a crash in ddX would lose it
-    assert main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "single")]) == ExitCode.OK
+    assert main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "single"),
+                 "--engine", "toyjobs:hot_point_engine"]) == ExitCode.OK
     assert "tblite's ddX can abort the whole process" in capsys.readouterr().err
     for job in document["jobs"]:  # methoxide is an anion
         assert any("solvent model 'dielectric'" in w and "8-13 kcal/mol" in w for w in job["warnings"])
@@ -193,7 +193,8 @@ def test_single_points_kept_at_the_retry_temperature_are_counted_per_job_and_in_
     assert document["summary"]["trouble"] == {key: counts["chloroethane__methoxide"]}
     assert key in err  # and the log says so
     (tmp_path / "run.yaml").write_text(CONFIG)
-    assert main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "single")]) == ExitCode.OK
+    assert main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "single"),
+                 "--engine", "toyjobs:hot_point_engine"]) == ExitCode.OK
     single = json.loads((tmp_path / "single" / "results.json").read_text())
     assert single["summary"]["trouble"][key] > 0
     assert all(job["retry_temperature_points"] == 0 for job in single["jobs"])  # one engine: run-wide only
@@ -202,10 +203,9 @@ def test_single_points_kept_at_the_retry_temperature_are_counted_per_job_and_in_
 def test_an_scf_failure_in_the_base_hessian_fails_the_base_and_keeps_the_run(tmp_path, capsys, monkeypatch):
     # A single run (one engine for all jobs): the failure is recorded on the base and on its jobs, naming the
     # base; nothing else is lost and results.json is written.
-    monkeypatch.setenv("ELIMSCAN_TEST_ENGINE_FACTORY", "toyjobs:toy_engine")
     monkeypatch.setenv("ELIMSCAN_TOY_FAIL_SCF", "base 'methoxide' hessian")
     (tmp_path / "run.yaml").write_text(CONFIG)
-    code = main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "out")])
+    code = main(["run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "out"), "--engine", "toyjobs:toy_engine"])
     assert code == ExitCode.JOBS_FAILED, capsys.readouterr().err
     document = json.loads((tmp_path / "out" / "results.json").read_text())
     base = next(m for m in document["molecules"] if m["role"] == "base")

@@ -18,7 +18,7 @@ from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.engines.xtb import CacheStats, SinglePoint
 from elimscan.errors import ScfConvergenceError
-from elimscan.engines.toy import SpringTorsionEngine
+from toyengine import SpringTorsionEngine
 from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 #: one kcal/mol in eV (from the project's CODATA-based units)

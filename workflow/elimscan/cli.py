@@ -61,6 +61,25 @@ def _read_config(path: str):
         raise located from err
 
 
+def _with_engine(config, args: argparse.Namespace):
+    """Return the config with ``--engine`` as its method.engine_factory, checked to load (ConfigError if not)."""
+    from pydantic import ValidationError
+
+    from elimscan.config import MethodConfig
+    from elimscan.engines.factory import load_engine_factory
+
+    spec = getattr(args, "engine", None)
+    if spec:
+        try:
+            method = MethodConfig.model_validate({**config.method.model_dump(), "engine_factory": spec})
+        except ValidationError as err:
+            raise ConfigError(f"--engine '{spec}': expected 'module:function'") from err
+        config = config.model_copy(update={"method": method})
+    if config.method.engine_factory:
+        load_engine_factory(config.method.engine_factory)
+    return config
+
+
 def cmd_info(args: argparse.Namespace) -> int:
     """Print versions of Python and the libraries; return the exit code."""
     for name, version in environment_versions().items():
@@ -141,7 +160,7 @@ def _batch_only(config) -> list[str]:
 
 def cmd_validate(args: argparse.Namespace) -> int:
     """Check a config (and its SMILES) without computing; return the exit code."""
-    config = _read_config(args.config)
+    config = _with_engine(_read_config(args.config), args)
     if _batch_only(config):
         plan = _plan_batch(config, args.config)
         for job in plan.jobs:
@@ -190,7 +209,7 @@ def _write_atomic(path: Path, text: str) -> None:
 
 def cmd_run(args: argparse.Namespace) -> int:
     """Run a config into an output folder; return the exit code."""
-    config = _read_config(args.config)
+    config = _with_engine(_read_config(args.config), args)
     if _batch_only(config):
         raise ConfigError(f"{args.config} uses {' and '.join(_batch_only(config))}, which only 'elimscan batch' reads; "
                           f"run it with: elimscan batch {args.config} --out DIR", key_path=_batch_only(config)[0])
@@ -206,7 +225,7 @@ def cmd_run(args: argparse.Namespace) -> int:
     log.debug("command: %s", shlex.join(sys.argv))
     log.debug("versions: %s", json.dumps(environment_versions()))
 
-    from elimscan.engines.xtb import EngineSettings, XtbEngine
+    from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
     from elimscan.pipeline.compute import DETAIL, run_config
     from elimscan.pipeline.document import (canonical_solvent, job_key, provenance, run_document, substrate_inputs,
@@ -214,13 +233,7 @@ def cmd_run(args: argparse.Namespace) -> int:
     from elimscan.pipeline.jobs import job_outcomes
     from elimscan.versions import numeric_versions
 
-    test_engine = os.environ.get("ELIMSCAN_TEST_ENGINE_FACTORY")  # test hook, see DEVELOPERS.md
-    if test_engine:
-        from elimscan.batch.workers import load_engine_factory
-
-        engine = load_engine_factory(test_engine)(config.method)
-    else:
-        engine = XtbEngine(EngineSettings.from_method(config.method))
+    engine = make_engine(config.method)
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
     if config.method.solvent.model == "dielectric":
         log.warning("solvent model 'dielectric': tblite's ddX can abort the whole process on a failed calculation "
@@ -328,7 +341,7 @@ def _raise_interrupt(signum, frame) -> None:
 
 def cmd_batch(args: argparse.Namespace) -> int:
     """Run the unfinished jobs of a batch config into a (re-enterable) output folder; return the exit code."""
-    config = _read_config(args.config)
+    config = _with_engine(_read_config(args.config), args)
     if args.threads is None:  # before anything loads a backend or BLAS
         configure_threads(config.threads.per_process)
     from elimscan.batch.driver import BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, prepare_batch_folder, run_batch
@@ -357,14 +370,12 @@ def cmd_batch(args: argparse.Namespace) -> int:
     plan = _plan_batch(config, args.config)  # input errors in the YAML stop here, before any calculation
     out = Path(args.out)
     prepare_batch_folder(out)
-    # test hooks, see DEVELOPERS.md: kill the driver at a known point; give the workers another engine
+    # test hooks, see DEVELOPERS.md: kill the driver at a known point
     kill_after = os.environ.get("ELIMSCAN_TEST_KILL_AFTER_COMMITS")
     kill_at = os.environ.get("ELIMSCAN_TEST_KILL_AT")
-    test_engine = os.environ.get("ELIMSCAN_TEST_ENGINE_FACTORY")
     options = BatchOptions(retry_failed=args.retry_failed, command_line=shlex.join(sys.argv),
                            kill_after_commits=int(kill_after) if kill_after else None,
-                           kill_at=(kill_at.partition(":")[0], int(kill_at.partition(":")[2] or 1)) if kill_at else None,
-                           **({"engine_factory": test_engine} if test_engine else {}))
+                           kill_at=(kill_at.partition(":")[0], int(kill_at.partition(":")[2] or 1)) if kill_at else None)
     threads = args.threads or config.threads.per_process
     previous = signal.signal(signal.SIGTERM, _raise_interrupt)  # a scheduler's SIGTERM stops cleanly, like Ctrl-C
     progress = _BatchProgress()
@@ -510,11 +521,17 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(func=cmd_info)
     p = sub.add_parser("validate", parents=[common], help="check a config without computing")
     p.add_argument("config")
+    p.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
+                   help="compute with a plug-in engine made by this factory instead of GFN2-xTB "
+                        "(overrides method.engine_factory; see DEVELOPERS.md)")
     p.set_defaults(func=cmd_validate)
     p = sub.add_parser("run", parents=[common], help="run a config into an output folder")
     p.add_argument("config")
     p.add_argument("--out", required=True, help="output folder (refused if it holds a finished run)")
     p.add_argument("--overwrite", action="store_true", help="replace a finished run in --out")
+    p.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
+                   help="compute with a plug-in engine made by this factory instead of GFN2-xTB "
+                        "(overrides method.engine_factory; see DEVELOPERS.md)")
     p.set_defaults(func=cmd_run)
     p = sub.add_parser("batch", parents=[common], help="run many jobs, resumable: computes only the jobs not yet "
                                                           "finished in --out")
@@ -531,6 +548,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
                    help="send the jobs to this existing Dask scheduler (e.g. tcp://host:8786) instead of local workers")
     p.add_argument("--retry-failed", action="store_true", help="compute the jobs that failed before again")
+    p.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
+                   help="compute with a plug-in engine made by this factory instead of GFN2-xTB "
+                        "(overrides method.engine_factory; see DEVELOPERS.md)")
     p.set_defaults(func=cmd_batch)
     p = sub.add_parser("status", parents=[common], help="summarise a running or finished batch folder (read-only)")
     p.add_argument("out", help="batch output folder")

@@ -57,6 +57,9 @@ class MethodConfig(_Frozen):
     max_scf_iterations: int = Field(250, ge=1)
     #: xTB numerical accuracy (1.0 = default; smaller is tighter)
     accuracy: float = Field(1.0, gt=0)
+    #: another engine instead of GFN2-xTB: 'module:function', a factory called with this method config that
+    #: returns an object satisfying elimscan.engines.contract.Engine (see DEVELOPERS.md); None: GFN2-xTB
+    engine_factory: str | None = Field(None, pattern=r"^[A-Za-z_][\w.]*:[A-Za-z_]\w*$")
 
     @model_validator(mode="after")
     def _solvent_supported(self) -> "MethodConfig":
@@ -133,7 +136,7 @@ class SaddleConfig(_Frozen):
     refine: bool = True
     #: Sella starts tried from the path before the fallbacks: the highest finished interior points, highest
     #: first (a flat, double-humped top can make Sella fail from one point and succeed from its neighbour)
-    path_starts: int = Field(3, ge=1, le=10)
+    path_point_starts: int = Field(3, ge=1, le=10)
     #: start Sella from a finite-difference Hessian (6N+1 gradients) instead of its model Hessian
     exact_initial_hessian: bool = True
     max_steps: int = Field(300, ge=1)

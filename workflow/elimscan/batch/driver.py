@@ -43,7 +43,7 @@ from elimscan.results.records import (BatchCounts, BatchIndex, BatchJobEntry, Er
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from elimscan.pipeline.document import (canonical_solvent, job_inputs, job_key, provenance, run_document, solvent_label,
                                         utc_now)
-from elimscan.batch.workers import (DEFAULT_ENGINE_FACTORY, WORKER_LOG_FILE, DaskExecutor, Done, JobTask, LocalExecutor,
+from elimscan.batch.workers import (WORKER_LOG_FILE, DaskExecutor, Done, JobTask, LocalExecutor,
                               Progress, Started)
 from elimscan.batch.workers import LOG_FILE  # noqa: F401  (the batch folder's log; cli opens it)
 
@@ -505,7 +505,8 @@ class BatchOptions:
     """How to run a batch: retry failed jobs, the engine, the command line, and a test hook."""
 
     retry_failed: bool = False
-    engine_factory: str = DEFAULT_ENGINE_FACTORY
+    #: 'module:function' of another engine than the config's (Python API; the command line sets method.engine_factory)
+    engine_factory: str | None = None
     command_line: str = ""
     #: test hook: SIGKILL the driver itself right after this many store commits (None: never)
     kill_after_commits: int | None = None

@@ -14,7 +14,6 @@ batch driver through ``poll``.
 
 from __future__ import annotations
 
-import importlib
 import multiprocessing
 import multiprocessing.connection
 import os
@@ -38,20 +37,11 @@ from elimscan.engines.threads import configure_threads
 
 #: Dask event topic of the progress messages sent by job processes
 PROGRESS_TOPIC = "elimscan-batch-progress"
-#: the engine every worker builds unless told otherwise ("module:function", called with the method config)
-DEFAULT_ENGINE_FACTORY = "elimscan.batch.workers:xtb_engine"
 #: local worker processes that may fail to start before the batch gives up
 _MAX_START_FAILURES = 3
 #: the batch folder's log (tracebacks of bugs go there) and the file that receives what local workers print
 LOG_FILE = "batch.log"
 WORKER_LOG_FILE = "workers.log"
-
-
-def xtb_engine(method):
-    """Return a new GFN2-xTB engine for a method config (the default engine of batch workers)."""
-    from elimscan.engines.xtb import EngineSettings, XtbEngine
-
-    return XtbEngine(EngineSettings.from_method(method))
 
 
 @dataclass(frozen=True)
@@ -64,19 +54,15 @@ class JobTask:
     base: BaseConfig
     config: RunConfig
     geometry: tuple[str, str] | None
-    engine_factory: str
-
-
-def load_engine_factory(spec: str) -> Callable:
-    """Return the engine factory named 'module:function' (called with a MethodConfig, returns an engine)."""
-    module, _, name = spec.partition(":")
-    return getattr(importlib.import_module(module), name)
+    #: 'module:function' of another engine than the job config's (tests); None: the config's
+    engine_factory: str | None = None
 
 
 def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
     """Run one job in this (worker) process; return the ('result', key, outcome, error, traceback, seconds) message."""
-    from elimscan.pipeline.jobs import run_job
+    from elimscan.engines.factory import make_engine
     from elimscan.pipeline.compute import DETAIL
+    from elimscan.pipeline.jobs import run_job
 
     started = time.perf_counter()
     send(("started", task.key))
@@ -85,7 +71,7 @@ def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
         send(("progress", task.key, message if done == DETAIL else f"step {done + 1}/{total}: {message}"))
 
     try:
-        engine = load_engine_factory(task.engine_factory)(task.config.method)
+        engine = make_engine(task.config.method, task.engine_factory)
         outcome = run_job(task.substrate, task.base, task.config, engine, task.geometry, progress)
         return ("result", task.key, outcome, None, None, time.perf_counter() - started)
     except ElimscanError as err:

@@ -475,7 +475,7 @@ def refine_from_path(points: Sequence[PathPoint], top: int, reactive, engine, ch
                      settings: PathConfig, optimizer: OptimizerConfig, name: str) -> SaddleResult:
     """Return the first verified saddle refined from the path's highest interior points (see ``saddle_starts``),
     else the first start's failure with the number of further starts that failed."""
-    starts = saddle_starts(points, top, settings.saddle.path_starts)
+    starts = saddle_starts(points, top, settings.saddle.path_point_starts)
     if not starts:
         return SaddleResult(None, None, False, "none", None, (), "no interior maximum along the path",
                             error_type="no_interior_maximum")

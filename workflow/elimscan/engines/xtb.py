@@ -20,6 +20,7 @@ from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.config import MethodConfig
+from elimscan.engines.contract import CacheStats, SinglePoint
 from elimscan.errors import BackendUnavailableError, EngineError, ScfConvergenceError
 from elimscan.solvents import XTB_PYTHON_NAMES, check_solvent, dielectric_constant, method_label
 from elimscan.versions import backend_version
@@ -63,21 +64,6 @@ class EngineSettings:
         """Return a one-line label such as 'GFN2-xTB/ALPB(ethanol) [tblite 0.8.0]'."""
         return method_label(self.hamiltonian, [(self.solvent_model, self.solvent_name)], self.backend,
                             backend_version(self.backend))
-
-
-@dataclass(frozen=True)
-class SinglePoint:
-    """Energy (hartree) and gradient (hartree/bohr) of one geometry, and the electronic temperature (K) used."""
-
-    energy_hartree: float
-    gradient_hartree_per_bohr: np.ndarray
-    electronic_temperature_K: float
-    retried: bool = False
-
-    @property
-    def forces_eV_per_A(self) -> np.ndarray:
-        """Return the forces in eV/Å (minus the gradient)."""
-        return -self.gradient_hartree_per_bohr * EV_PER_HARTREE / ANGSTROM_PER_BOHR
 
 
 def _import_backend(backend: str) -> Any:
@@ -164,25 +150,6 @@ class _XtbPythonSeries:
 
 
 _SERIES = {"tblite": _TbliteSeries, "xtb": _XtbPythonSeries}
-
-
-@dataclass
-class CacheStats:
-    """Counters of the single-point cache: hits, misses (= backend calls) and SCF retries."""
-
-    hits: int = 0
-    misses: int = 0
-    retries: int = 0
-    #: retried single points kept at the retry electronic temperature (the restart at the normal one failed)
-    hot_points: int = 0
-    #: wall time spent inside the xTB library (s)
-    backend_seconds: float = 0.0
-
-    @property
-    def hit_ratio(self) -> float:
-        """Return hits / (hits + misses), 0 when nothing was asked."""
-        total = self.hits + self.misses
-        return self.hits / total if total else 0.0
 
 
 def geometry_key(numbers: np.ndarray, positions_A: np.ndarray, charge: int, multiplicity: int, settings: EngineSettings) -> str:

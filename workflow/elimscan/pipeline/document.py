@@ -74,14 +74,22 @@ def provenance(config: RunConfig, command_line: str, versions: dict[str, str]) -
     import rdkit
 
     method = config.method
-    media = [canonical_solvent(s, config) for s in (config.solvents or (method.solvent,))]
     backend_version = versions.get(BACKEND_DISTRIBUTIONS.get(method.backend, method.backend), "unknown")
     return Provenance(program_version=__version__, command_line=command_line, created_utc=utc_now(),
                       python_version=platform.python_version(), rdkit_version=rdkit.__version__,
                       ase_version=ase.__version__, numpy_version=numpy.__version__, backend=method.backend,
                       backend_version=backend_version,
-                      method_label=method_label(method.hamiltonian, [(s.model, s.name) for s in media],
-                                                method.backend, backend_version))
+                      method_label=engine_label(config, backend_version))
+
+
+def engine_label(config: RunConfig, backend_version: str) -> str:
+    """Return the method label of a config: GFN2-xTB's, or the plug-in engine's factory in its place."""
+    method = config.method
+    media = [canonical_solvent(s, config) for s in (config.solvents or (method.solvent,))]
+    label = method_label(method.hamiltonian, [(s.model, s.name) for s in media], method.backend, backend_version)
+    if method.engine_factory:
+        return f"plug-in engine {method.engine_factory} (in place of {label})"
+    return label
 
 
 def unique_molecules(molecules: Iterable[MoleculeRecord]) -> tuple[MoleculeRecord, ...]:

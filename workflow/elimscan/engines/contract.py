@@ -1,0 +1,70 @@
+"""What an engine must provide: the contract between the drivers and any electronic-structure backend.
+
+The drivers never import a backend: they receive an object that satisfies ``Engine`` and ask it for ASE
+calculators and single points. ``engines.xtb.XtbEngine`` is the one elimscan ships; a plug-in engine is any
+object with these members, made by a factory named in the config (``method.engine_factory``) or on the
+command line (``--engine module:function``); see ``engines.factory`` and DEVELOPERS.md.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Protocol, runtime_checkable
+
+import numpy as np
+from ase import Atoms
+from ase.calculators.calculator import Calculator
+
+from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
+
+
+@dataclass
+class CacheStats:
+    """Counters of the single-point cache: hits, misses (= backend calls) and SCF retries."""
+
+    hits: int = 0
+    misses: int = 0
+    retries: int = 0
+    #: retried single points kept at the retry electronic temperature (the restart at the normal one failed)
+    hot_points: int = 0
+    #: wall time spent inside the xTB library (s)
+    backend_seconds: float = 0.0
+
+    @property
+    def hit_ratio(self) -> float:
+        """Return hits / (hits + misses), 0 when nothing was asked."""
+        total = self.hits + self.misses
+        return self.hits / total if total else 0.0
+
+
+@dataclass(frozen=True)
+class SinglePoint:
+    """Energy (hartree) and gradient (hartree/bohr) of one geometry, and the electronic temperature (K) used."""
+
+    energy_hartree: float
+    gradient_hartree_per_bohr: np.ndarray
+    electronic_temperature_K: float
+    retried: bool = False
+
+    @property
+    def forces_eV_per_A(self) -> np.ndarray:
+        """Return the forces in eV/Å (minus the gradient)."""
+        return -self.gradient_hartree_per_bohr * EV_PER_HARTREE / ANGSTROM_PER_BOHR
+
+
+@runtime_checkable
+class Engine(Protocol):
+    """An energy-and-gradient engine: a label, counters, ASE calculators and single points."""
+
+    #: one line naming the method, solvation model and backend with its version (written into every file)
+    label: str
+    #: counters: ``misses`` (gradients computed), ``hits``, ``hot_points`` (points kept at a retry temperature)
+    stats: CacheStats
+
+    def calculator(self, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> Calculator:
+        """Return an ASE calculator for one geometry series (energy in eV, forces in eV/Å)."""
+        ...
+
+    def single_point(self, atoms: Atoms, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> SinglePoint:
+        """Return the energy (hartree) and gradient (hartree/bohr) of one geometry."""
+        ...
