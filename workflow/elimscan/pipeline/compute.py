@@ -27,7 +27,9 @@ from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateCon
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, wrap_degrees
-from elimscan.chem.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
+from elimscan.chem.alkenes import Alkene
+from elimscan.chem.betahydrogens import BetaHydrogenClass
+from elimscan.chem.perception import Substrate, perceive_substrate
 from elimscan.analysis.character import saddle_character
 from elimscan.engines.dft import DftJobResult, DftPoint, SaddleCandidate, refine_job
 from elimscan.drivers.freeenergy import MinimumHessian, isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
