@@ -35,7 +35,8 @@ from elimscan.engines.dft import DftJobResult, DftPoint, SaddleCandidate, refine
 from elimscan.drivers.freeenergy import MinimumHessian, isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
 from elimscan.geometry import distance
 from elimscan.chem.substitution import substitution_product
-from elimscan.drivers.paths import PathResult, Reactive, SubstitutionReactive, compute_path, compute_substitution_path
+from elimscan.drivers.complexes import Reactive, SubstitutionReactive
+from elimscan.drivers.paths import PathResult, compute_path, compute_substitution_path
 from elimscan.results.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, DftJobRecord,
                               DftPointRecord, ErrorInfo, JobRecord,
                               LeavingGroupRecord, MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
