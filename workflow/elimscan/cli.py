@@ -229,7 +229,8 @@ def cmd_run(args: argparse.Namespace) -> int:
     from elimscan.engines.xtb import EngineSettings, XtbEngine, backend_version
     from elimscan.pipeline import artifacts
     from elimscan.pipeline.compute import DETAIL, job_record, run_config, substrate_molecule_record
-    from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
+    from elimscan.results.documents import Provenance, RunResult, RunSummary, Seeds
+    from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord
     from elimscan.output.text import summary_table
     from elimscan.analysis.series import series_records
     from elimscan.results.trouble import count_trouble
@@ -470,7 +471,7 @@ def cmd_summary(args: argparse.Namespace) -> int:
     """Print the summary table of a finished output folder; return the exit code."""
     from pydantic import ValidationError
 
-    from elimscan.results.records import RunResult
+    from elimscan.results.documents import RunResult
     from elimscan.output.text import summary_table
 
     path = Path(args.out) / RESULTS_FILE

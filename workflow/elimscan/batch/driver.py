@@ -39,8 +39,9 @@ from elimscan.atomicio import remove_stale_temporaries, write_bytes_atomic
 from elimscan.config import (BaseConfig, ExecutorConfig, RunConfig, SolventConfig, SubstrateConfig,
                              default_workers)
 from elimscan.errors import ConfigError, OutputError, StructureError
-from elimscan.results.records import (BatchCounts, BatchIndex, BatchJobEntry, ErrorInfo, FileChecksum, JobRecord,
-                              MoleculeRecord, Provenance, RunResult, RunSummary, Seeds)
+from elimscan.results.documents import (BatchCounts, BatchIndex, BatchJobEntry, FileChecksum, Provenance, RunResult,
+                                        RunSummary, Seeds)
+from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from elimscan.results.trouble import count_trouble
 from elimscan.batch.workers import (DEFAULT_ENGINE_FACTORY, WORKER_LOG_FILE, DaskExecutor, Done, JobTask, LocalExecutor,
