@@ -4,6 +4,5 @@
 - ``documents``: the documents results.json and batch.json (schema names and versions, provenance, series)
 - ``schema``: the JSON Schema files exported from the documents (``make schema``)
 - ``trouble``: counts of numerical trouble over job records, for ``summary.trouble``
-- ``failures``: one of our errors as the ``ErrorInfo`` a record carries
 - ``flags``: the wording of path flags that drivers write and the trouble counts read
 """
