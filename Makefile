@@ -73,7 +73,7 @@ validate: $(VENV)/.installed
 	$(VPY) validation/validate.py
 
 schema: $(VENV)/.installed
-	$(VPY) -m elimscan.results.records results-schema
+	$(VPY) -m elimscan.results.schema results-schema
 
 clean:
 	rm -rf $(VENV) results/demo .pytest_cache

@@ -18,7 +18,7 @@ configure_threads(1)
 
 from elimscan.config import DftConfig, SolventConfig  # noqa: E402
 from elimscan.engines.dft import dft_level, missing_pyscf, single_point  # noqa: E402
-from elimscan.drivers.paths import place_base  # noqa: E402
+from elimscan.drivers.complexes import place_base  # noqa: E402
 from elimscan.chem.structures import build_molecule  # noqa: E402
 
 SEED = 20261202

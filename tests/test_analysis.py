@@ -7,7 +7,7 @@ import pytest
 from elimscan.analysis.rule import (ClassFacts, GeometrySample, Periplanar, best_periplanar, is_trans, rule_status,
                                rule_verdict)
 from elimscan.config import RuleConfig
-from elimscan.chem.perception import Alkene
+from elimscan.chem.alkenes import Alkene
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 RULE = RuleConfig()

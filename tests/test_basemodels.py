@@ -171,7 +171,7 @@ def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_repor
 
     from elimscan.output.html import base_model_section
     from elimscan.pipeline.compute import job_record, run_config
-    from elimscan.results.records import RunResult
+    from elimscan.results.documents import RunResult
     from elimscan.output.text import base_model_groups, base_model_table
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=1, saddle={"refine": False})

@@ -223,7 +223,8 @@ def test_dft_tier_on_chloroethane_with_hydroxide(tmp_path):
     pytest.importorskip("pyscf.dispersion")
     import jsonschema
 
-    from elimscan.results.records import RunResult, json_schema
+    from elimscan.results.documents import RunResult
+    from elimscan.results.schema import json_schema
 
     config = tmp_path / "tiny.yaml"
     config.write_text("""name: dft-tiny

@@ -17,7 +17,8 @@ from elimscan.config import (BaseConfig, MethodConfig, OptimizerConfig, PathConf
 from elimscan.geometry import distance
 from elimscan.drivers.hessian import finite_difference_hessian, harmonic_analysis
 from elimscan.results.flags import UNFINISHED_MAXIMUM
-from elimscan.drivers.paths import ComplexResult, PathPoint, Reactive, drive_path, path_flags, place_base
+from elimscan.drivers.complexes import ComplexResult, Reactive, place_base
+from elimscan.drivers.paths import PathPoint, drive_path, path_flags
 from elimscan.drivers.relax import relax
 from toyengine import SpringTorsionEngine
 from elimscan.units import KCAL_MOL_PER_HARTREE
@@ -138,7 +139,7 @@ class _CurvedDoubleWell(Calculator):
 
 def test_ci_neb_climbing_image_finds_the_analytic_saddle_off_the_straight_line():
     """The climbing image must sit on the known saddle (0, 0, 0), E = a, not on the interpolation's crossing."""
-    from elimscan.drivers.paths import neb_climbing_image
+    from elimscan.drivers.saddles import neb_climbing_image
 
     class Engine:
         def calculator(self, charge=0, multiplicity=1, name=""):
@@ -159,7 +160,8 @@ def test_ci_neb_climbing_image_finds_the_analytic_saddle_off_the_straight_line()
 def test_saddle_search_falls_back_to_the_base_h_scan_and_then_to_a_ci_neb(embed, monkeypatch):
     """Order of the fallbacks, and a failure of every one is an unverified estimate carrying every reason."""
     import elimscan.drivers.paths as paths
-    from elimscan.drivers.paths import SaddleResult, compute_path
+    from elimscan.drivers.paths import compute_path
+    from elimscan.drivers.saddles import SaddleResult
 
     substrate = embed("CCCl")
     base = embed("C[O-]")

@@ -17,14 +17,9 @@ from rdkit import Chem
 from rdkit.Chem import rdCIPLabeler, rdDistGeom, rdMolTransforms
 
 from elimscan.errors import InputError, StructureError
-from elimscan.chem.perception import (
-    BetaHydrogenClass,
-    StereoWarning,
-    Substrate,
-    find_leaving_groups,
-    perceive_substrate,
-    zaitsev_ranks,
-)
+from elimscan.chem.betahydrogens import BetaHydrogenClass, zaitsev_ranks
+from elimscan.chem.leavinggroups import find_leaving_groups
+from elimscan.chem.perception import StereoWarning, Substrate, perceive_substrate
 
 # --------------------------------------------------------------------------- helpers
 

@@ -36,7 +36,8 @@ from elimscan.geometry import wrap_degrees
 from elimscan.output.html import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB, render_report, substrate_svg
 from elimscan.output.plots import (BARRIER_SHIFT_KCAL_MOL, closest_frame, figure_svg, job_figures, newman_figure, newman_inputs,
                             newman_view, path_figure, plot_name, product_figure, scan_figure)
-from elimscan.results.records import RESULT_SCHEMA_VERSION, JobRecord, RunResult
+from elimscan.results.documents import RESULT_SCHEMA_VERSION, RunResult
+from elimscan.results.records import JobRecord
 from elimscan.output.files import build_report_files, read_scan_frames, validate_result_file
 from elimscan.output.tables import SUMMARY_COLUMNS, summary_csv
 

@@ -8,7 +8,7 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from elimscan.results.records import SCHEMA_MODELS, schema_text
+from elimscan.results.schema import SCHEMA_MODELS, schema_text
 
 ROOT = Path(__file__).resolve().parents[1]
 

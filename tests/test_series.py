@@ -25,7 +25,8 @@ from elimscan.config import (BaseConfig, RunConfig, SeriesConfig, SeriesMemberCo
                              SubstrateConfig, parse_config)
 from elimscan.errors import ConfigError
 from elimscan.output.plots import figure_png, figure_svg, series_figure, series_plot_name
-from elimscan.results.records import ErrorInfo, JobRecord, RunResult
+from elimscan.results.documents import RunResult
+from elimscan.results.records import ErrorInfo, JobRecord
 from elimscan.output.text import summary_table
 from elimscan.output.files import build_report_files, validate_result_file
 from elimscan.analysis.series import lowest_e2_barrier, series_records

@@ -84,7 +84,8 @@ def test_primary_isotope_effect_of_2_phenylethyl_bromide_with_ethoxide():
     from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.engines.xtb import EngineSettings, XtbEngine
     from elimscan.drivers.freeenergy import isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
-    from elimscan.drivers.paths import Reactive, compute_path
+    from elimscan.drivers.complexes import Reactive
+    from elimscan.drivers.paths import compute_path
     from elimscan.pipeline.compute import analyze_substrate, relax_molecule
 
     config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),

@@ -442,7 +442,7 @@ def cmd_summary(args: argparse.Namespace) -> int:
     """Print the summary table of a finished output folder; return the exit code."""
     from pydantic import ValidationError
 
-    from elimscan.results.records import RunResult
+    from elimscan.results.documents import RunResult
     from elimscan.output.text import summary_table
 
     path = Path(args.out) / RESULTS_FILE

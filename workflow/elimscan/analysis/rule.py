@@ -19,7 +19,7 @@ from rdkit import Chem
 
 from elimscan.config import RuleConfig
 from elimscan.geometry import classify_dihedral, kabsch_rmsd
-from elimscan.chem.perception import Alkene
+from elimscan.chem.alkenes import Alkene
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K, KCAL_MOL_PER_HARTREE
 
 #: substitution degrees in increasing order (carbon substituents on the two alkene carbons)

@@ -15,7 +15,8 @@ from collections.abc import Sequence
 
 from elimscan.analysis.rule import hammett_fit
 from elimscan.config import SERIES_MIN_MEMBERS, SeriesConfig, SolventConfig
-from elimscan.results.records import JobRecord, SeriesPointRecord, SeriesRecord
+from elimscan.results.documents import SeriesPointRecord, SeriesRecord
+from elimscan.results.records import JobRecord
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
 

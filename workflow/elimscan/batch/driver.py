@@ -38,8 +38,8 @@ from elimscan.config import (BaseConfig, ExecutorConfig, RunConfig, SolventConfi
                              default_workers)
 from elimscan.errors import ConfigError, OutputError, StructureError
 from elimscan.versions import numeric_versions
-from elimscan.results.records import (BatchCounts, BatchIndex, BatchJobEntry, ErrorInfo, FileChecksum, JobRecord,
-                              MoleculeRecord, Provenance, RunResult)
+from elimscan.results.documents import BatchCounts, BatchIndex, BatchJobEntry, FileChecksum, Provenance, RunResult
+from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from elimscan.pipeline.document import (canonical_solvent, job_inputs, job_key, provenance, run_document, solvent_label,
                                         utc_now)

@@ -1,7 +1,14 @@
 """Chemistry of the inputs, RDKit only (no engine, no files).
 
 - ``structures``: SMILES checks, seeded embedding, user SDF/XYZ onto the SMILES atom order, ``ase.Atoms``
-- ``perception``: the leaving group, C-alpha, beta-H classes (stereo-aware) and the anti/syn alkene products
+- ``perception``: a substrate perceived from its SMILES (leaving group, beta-H classes, products), and the quick
+  graph-only check of a substrate
+- ``leavinggroups``: the leaving groups recognised, the atoms that leave with X, the group atom maps select
+- ``stereo``: open stereo filled in or refused, stereo read from 3D, isotopomer keys, ring conformers
+- ``alkenes``: the alkene of one H-Cbeta-Calpha-X dihedral, its substitution, conjugation and Bredt's rule
+- ``betahydrogens``: classes of symmetry-equivalent beta hydrogens (stereo-aware), their anti/syn products,
+  Zaitsev/Hofmann ranks
+- ``atomgraph``: what one atom is and what it is bonded to (name, sp3 carbon, methyl, hydrogens)
 - ``bases``: the basic atom of a base and whether the rule counts it as bulky
 - ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules)
 - ``substitution``: the SN2 product with Walden inversion

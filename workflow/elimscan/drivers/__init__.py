@@ -5,5 +5,8 @@
 - ``scans``: H-C-C-X dihedral scans
 - ``hessian``: finite-difference Hessians and harmonic frequencies
 - ``freeenergy``: Hessians of free reactants, free barriers and isotope effects
-- ``paths``: base placement, complexes, relaxed E2 and SN2 paths, Sella saddles and their verification
+- ``complexes``: the reactive atoms, base placement (E2 and backside SN2) and the lowest complex over base rotations
+- ``saddles``: Sella refinement of a saddle guess and its verification; the base-H scan and CI-NEB guesses
+- ``paths``: relaxed E2 and SN2 paths and their flags; one approach from complex through path to saddle, with
+  the order of the saddle fallbacks
 """

@@ -1,106 +1,27 @@
-"""Base-substrate complexes, relaxed E2 paths and verified saddles for one beta hydrogen.
+"""Relaxed E2 and SN2 paths for one beta hydrogen, their flags, and the order of the saddle searches.
 
-Atom order in a complex: the substrate's atoms, then the base's. The reaction coordinate driven is
-q = d(Cβ-H) - d(B-H) + d(Cα-X) (Å), everything else relaxed (BFGS + FixInternals: Sella cannot hold a
-combination of distances); the path maximum is the relaxed-path estimate of the saddle. A first-order
-saddle is then refined with Sella (order 1) and verified with a finite-difference Hessian (one imaginary
-mode) and by relaxing both ways along that mode (reactant complex on one side, alkene + conjugate acid
-+ X- on the other). When Sella fails from the path maximum, it starts again from the maximum of a base-H
-distance scan, and then from the climbing image of a CI-NEB (reactant complex to relaxed path end); a
-saddle that fails verification every time is reported as an unverified estimate. The engine is passed in;
-no file I/O.
+The reaction coordinate driven is q = d(Cβ-H) - d(B-H) + d(Cα-X) (Å), everything else relaxed (BFGS +
+FixInternals: Sella cannot hold a combination of distances); the path maximum is the relaxed-path
+estimate of the saddle. The saddle is refined and verified (``saddles``) from the highest path points;
+when Sella fails there, it starts again from the maximum of a base-H distance scan, and then from the
+climbing image of a CI-NEB (reactant complex to relaxed path end); a saddle that fails verification every
+time is reported as an unverified estimate. The engine is passed in; no file I/O.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 from ase import Atoms
 
 from elimscan.config import OptimizerConfig, PathConfig
-from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, distance
-from elimscan.results.flags import FAILED_ROTATION, UNFINISHED_ABOVE, UNFINISHED_MAXIMUM
-from elimscan.drivers.hessian import Vibrations, finite_difference_hessian, harmonic_analysis
+from elimscan.results.flags import UNFINISHED_ABOVE, UNFINISHED_MAXIMUM
+from elimscan.drivers.complexes import ComplexResult, Reactive, SubstitutionReactive, build_complex, place_backside
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
-from elimscan.units import EV_PER_HARTREE
-
-BFGS = "bfgs"
-
-
-@dataclass(frozen=True)
-class Reactive:
-    """Indices (0-based, in the complex) of the atoms that take part: H, Cβ, Cα, X and the basic atom B."""
-
-    h: int
-    c_beta: int
-    c_alpha: int
-    x: int
-    base: int
-
-    def quad(self) -> tuple[int, int, int, int]:
-        """Return the H-Cβ-Cα-X dihedral indices."""
-        return (self.h, self.c_beta, self.c_alpha, self.x)
-
-    def coordinate(self) -> HeldDistanceSum:
-        """Return the driven combination d(Cβ-H) - d(B-H) + d(Cα-X) (target left open)."""
-        return HeldDistanceSum(((self.c_beta, self.h, 1.0), (self.base, self.h, -1.0), (self.c_alpha, self.x, 1.0)))
-
-    def distances(self, positions: np.ndarray) -> dict[str, float]:
-        """Return the bond lengths that tell reactant, saddle and product apart (Å)."""
-        return {"c_beta_h_A": distance(positions, self.c_beta, self.h), "base_h_A": distance(positions, self.base, self.h),
-                "c_alpha_x_A": distance(positions, self.c_alpha, self.x), "base_c_alpha_A": distance(positions, self.base, self.c_alpha)}
-
-    def side(self, positions: np.ndarray, criteria) -> str:
-        """Return 'product' (alkene + conjugate acid + X-), 'reactant' or 'other' from the key distances."""
-        d = self.distances(positions)
-        if d["c_alpha_x_A"] >= criteria.product_c_x_min_A and d["base_h_A"] <= criteria.product_base_h_max_A:
-            return "product"
-        if d["base_h_A"] >= criteria.reactant_base_h_min_A and d["c_alpha_x_A"] <= criteria.reactant_c_x_max_A:
-            return "reactant"
-        return "other"
-
-
-@dataclass(frozen=True)
-class SubstitutionReactive:
-    """Indices (0-based, in the complex) for backside substitution: nucleophile Nu, C-alpha and X."""
-
-    nu: int
-    c_alpha: int
-    x: int
-
-    def coordinate(self) -> HeldDistanceSum:
-        """Return the driven combination d(Cα-X) - d(Cα-Nu) (target left open)."""
-        return HeldDistanceSum(((self.c_alpha, self.x, 1.0), (self.c_alpha, self.nu, -1.0)))
-
-    def distances(self, positions: np.ndarray) -> dict[str, float]:
-        """Return d(Cα-X) and d(Cα-Nu) (Å)."""
-        return {"c_alpha_x_A": distance(positions, self.c_alpha, self.x),
-                "nu_c_alpha_A": distance(positions, self.nu, self.c_alpha)}
-
-    def side(self, positions: np.ndarray, criteria) -> str:
-        """Return 'product' (Nu-Cα bonded, X gone), 'reactant' or 'other' from the key distances."""
-        d = self.distances(positions)
-        if d["c_alpha_x_A"] >= criteria.product_c_x_min_A and d["nu_c_alpha_A"] <= criteria.substitution_bond_max_A:
-            return "product"
-        if d["nu_c_alpha_A"] >= criteria.substitution_reactant_min_A and d["c_alpha_x_A"] <= criteria.reactant_c_x_max_A:
-            return "reactant"
-        return "other"
-
-
-@dataclass(frozen=True)
-class ComplexResult:
-    """The best base-substrate complex over the rotations tried, and every rotation's energy (hartree)."""
-
-    atoms: Atoms
-    energy_hartree: float
-    rotation_deg: float
-    energies_hartree: tuple[float, ...]
-    n_gradients: int
-    #: rotations whose relaxation failed (skipped while another succeeded), one note each
-    failed_rotations: tuple[str, ...] = ()
+from elimscan.drivers.saddles import BFGS, SaddleResult, base_h_scan_maximum, neb_climbing_image, refine_and_verify
 
 
 @dataclass(frozen=True)
@@ -112,24 +33,6 @@ class PathPoint:
     atoms: Atoms
     converged: bool
     distances: dict[str, float]
-
-
-@dataclass(frozen=True)
-class SaddleResult:
-    """The outcome of saddle refinement and verification."""
-
-    atoms: Atoms | None
-    energy_hartree: float | None
-    verified: bool
-    method: str
-    imaginary_cm1: float | None
-    other_imaginary_cm1: tuple[float, ...]
-    reason: str
-    mode: np.ndarray | None = field(default=None, repr=False)
-    #: the verification Hessian (eV/Å^2), kept for free energies and isotope effects
-    hessian_eV_A2: np.ndarray | None = field(default=None, repr=False, compare=False)
-    #: why an unverified saddle failed, machine-readable (None: verified, or not attempted)
-    error_type: str | None = None
 
 
 @dataclass(frozen=True)
@@ -163,88 +66,6 @@ class PathResult:
         return self.saddle.energy_hartree if self.saddle.verified else self.estimate_hartree
 
 
-def _rotation_matrix(axis: np.ndarray, angle_rad: float) -> np.ndarray:
-    """Return the matrix of a right-handed rotation about a unit axis."""
-    axis = axis / np.linalg.norm(axis)
-    k = np.array([[0, -axis[2], axis[1]], [axis[2], 0, -axis[0]], [-axis[1], axis[0], 0]])
-    return np.eye(3) + np.sin(angle_rad) * k + (1 - np.cos(angle_rad)) * k @ k
-
-
-def _align(vector: np.ndarray, target: np.ndarray) -> np.ndarray:
-    """Return a rotation matrix that turns ``vector`` onto ``target`` (both any length)."""
-    a, b = vector / np.linalg.norm(vector), target / np.linalg.norm(target)
-    cross, dot = np.cross(a, b), float(np.dot(a, b))
-    if np.linalg.norm(cross) < 1e-8:
-        if dot > 0:
-            return np.eye(3)
-        perpendicular = np.cross(a, [1.0, 0, 0]) if abs(a[0]) < 0.9 else np.cross(a, [0, 1.0, 0])
-        return _rotation_matrix(perpendicular, np.pi)
-    return _rotation_matrix(cross, np.arccos(np.clip(dot, -1.0, 1.0)))
-
-
-def _place_along(substrate: Atoms, tail: np.ndarray, head: np.ndarray, base: Atoms, basic: int, distance_A: float,
-                 rotation_deg: float) -> Atoms:
-    """Return substrate + base with the basic atom on the tail->head line, ``distance_A`` beyond head.
-
-    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about that line.
-    """
-    axis = head - tail
-    axis = axis / np.linalg.norm(axis)
-    moved = base.positions - base.positions[basic]
-    others = [i for i in range(len(base)) if i != basic]
-    if others:
-        nearest = sorted(others, key=lambda i: np.linalg.norm(moved[i]))[: min(3, len(others))]
-        outward = np.mean(moved[nearest], axis=0)
-        if np.linalg.norm(outward) > 1e-6:
-            moved = moved @ _align(outward, axis).T
-    moved = moved @ _rotation_matrix(axis, np.radians(rotation_deg)).T
-    placed = base.copy()
-    placed.positions = moved + head + distance_A * axis
-    return substrate + placed
-
-
-def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, distance_A: float,
-               rotation_deg: float) -> Atoms:
-    """Return substrate + base with the basic atom on the extension of Cβ-H, ``distance_A`` from H.
-
-    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about the Cβ-H axis.
-    """
-    return _place_along(substrate, substrate.positions[c_beta], substrate.positions[h], base, basic, distance_A,
-                        rotation_deg)
-
-
-def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
-                  engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
-                  name: str = "complex", rank: int = 0) -> ComplexResult:
-    """Return the complex of ``rank`` (0: the lowest) over ``settings.base_rotations`` rotations, H...B and dihedral held.
-
-    A rotation whose relaxation fails (SCF, a non-finite backend result, the optimiser) is skipped and noted
-    while another rotation succeeds; when all fail, the first failure is raised.
-    """
-    found, energies, spent, failed = [], [], 0, []
-    first_error: ElimscanError | None = None
-    for k in range(settings.base_rotations):
-        rotation = 360.0 * k / settings.base_rotations
-        start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
-        calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
-        held = [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
-                HeldDihedral(reactive.quad(), dihedral_target_deg)]
-        try:
-            result = relax(start, calc, held, optimizer)
-        except ElimscanError as err:
-            first_error = first_error or err
-            failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
-                          "rotations were used")
-            continue
-        spent += result.n_gradients
-        energies.append(result.energy_hartree)
-        found.append((result.energy_hartree, rotation, result.atoms))
-    if not found:
-        raise first_error
-    energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(rank, len(found) - 1)]
-    return ComplexResult(atoms, energy, rotation, tuple(energies), spent, tuple(failed))
-
-
 def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
                settings: PathConfig, optimizer: OptimizerConfig, hold_dihedral_deg: float | None = None,
                name: str = "path", on_point: Callable[[PathPoint], None] | None = None) -> tuple[list[PathPoint], int]:
@@ -268,145 +89,6 @@ def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int,
             on_point(point)
         current = result.atoms
     return points, spent
-
-
-def _relax_to_side(atoms: Atoms, displacement: np.ndarray, reactive: Reactive, engine, charge: int, multiplicity: int,
-                   criteria, optimizer: OptimizerConfig, name: str, chunk_steps: int = 20, max_chunks: int = 15) -> str:
-    """Return the side ('reactant', 'product', 'other') reached by relaxing from a displaced saddle.
-
-    Relaxes in chunks and stops as soon as the key distances say reactant or product.
-    """
-    atoms.positions = atoms.positions + displacement
-    chunk = optimizer.model_copy(update={"name": BFGS, "max_steps": chunk_steps})
-    calc = engine.calculator(charge, multiplicity, name=f"{name} side")
-    side = "other"
-    for _ in range(max_chunks):
-        result = relax(atoms, calc, (), chunk)
-        atoms = result.atoms
-        side = reactive.side(atoms.positions, criteria)
-        if side != "other" or result.converged:
-            break
-    return side
-
-
-def base_h_scan_maximum(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
-                        settings: PathConfig, optimizer: OptimizerConfig, hold_dihedral_deg: float | None,
-                        name: str = "base-H scan", end_A: float = 1.0, step_A: float = 0.1) -> Atoms | None:
-    """Return the highest interior point of a scan that shortens d(base-H) toward ``end_A`` (Å), or None."""
-    start = distance(complex_.atoms.positions, reactive.base, reactive.h)
-    targets = np.arange(start - step_A, end_A - 1e-9, -step_A)
-    calc = engine.calculator(charge, multiplicity, name=name)
-    bfgs = optimizer.model_copy(update={"name": BFGS})
-    current, frames = complex_.atoms, []
-    for target in targets:
-        held = [HeldDistance((reactive.base, reactive.h), float(target))]
-        if hold_dihedral_deg is not None:
-            held.append(HeldDihedral(reactive.quad(), hold_dihedral_deg))
-        result = relax(current, calc, held, bfgs)
-        frames.append((result.energy_hartree, result.atoms))
-        current = result.atoms
-    if len(frames) < 3:
-        return None
-    top = int(np.argmax([e for e, _ in frames]))
-    return frames[top][1] if 0 < top < len(frames) - 1 else None
-
-
-def neb_climbing_image(reactant: Atoms, product: Atoms, engine, charge: int, multiplicity: int,
-                       settings: PathConfig, name: str = "neb") -> tuple[Atoms | None, str]:
-    """Return the climbing image of a CI-NEB between two end points (None if it has no interior top) and a note.
-
-    The end points are not moved; images start from an IDPP interpolation; FIRE drives the band. The image is
-    only a starting guess: the caller refines and verifies it, since a converged band can still climb to a
-    false maximum.
-    """
-    from ase.mep import NEB
-    from ase.optimize import FIRE
-
-    s = settings.saddle
-    images = [reactant.copy() for _ in range(s.neb_images - 1)] + [product.copy()]
-    calc = engine.calculator(charge, multiplicity, name=name)
-    for image in images:
-        image.calc = calc
-    band = NEB(images, climb=True, method="improvedtangent", allow_shared_calculator=True)
-    band.interpolate(method="idpp")
-    try:
-        converged = bool(FIRE(band, logfile=None).run(fmax=s.neb_fmax_eV_per_A, steps=s.neb_max_steps))
-        energies = [image.get_potential_energy() for image in images]
-    except ElimscanError as err:
-        return None, f"CI-NEB failed: {err.error_type}"
-    top = int(np.argmax(energies))
-    if top in (0, len(images) - 1):
-        return None, "CI-NEB has no interior maximum"
-    guess = images[top].copy()
-    guess.calc = None
-    return guess, ("CI-NEB converged" if converged else f"CI-NEB not converged in {s.neb_max_steps} steps") + \
-        f"; climbing image {top} of {len(images) - 1}"
-
-
-def neb_end_points(complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine, charge: int,
-                   multiplicity: int, optimizer: OptimizerConfig, criteria, name: str = "neb end"
-                   ) -> tuple[Atoms, Atoms] | None:
-    """Return (reactant complex, freely relaxed path end) when the end relaxes to products, else None."""
-    calc = engine.calculator(charge, multiplicity, name=name)
-    end = relax(points[-1].atoms, calc, (), optimizer.model_copy(update={"name": BFGS})).atoms
-    if reactive.side(end.positions, criteria) != "product":
-        return None
-    return complex_.atoms, end
-
-
-def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, multiplicity: int,
-                      settings: PathConfig, optimizer: OptimizerConfig, name: str = "saddle",
-                      method: str = "sella") -> SaddleResult:
-    """Return a Sella-refined saddle from ``guess`` with its verification (Hessian and both-way relaxation)."""
-    from sella import Sella  # loads jax: imported only when a saddle is refined
-
-    s = settings.saddle
-    work = guess.copy()
-    work.calc = engine.calculator(charge, multiplicity, name=name)
-    try:
-        hessian_function = None
-        if s.exact_initial_hessian:  # a finite-difference start: far more robust on flat saddles (SN2)
-            hessian_function = lambda a: finite_difference_hessian(  # noqa: E731
-                a, engine.calculator(charge, multiplicity, name=f"{name} start hessian"), s.hessian_step_A)[0]
-        opt = Sella(work, order=1, internal=True, logfile=None, hessian_function=hessian_function)
-        converged = bool(opt.run(fmax=s.fmax_eV_per_A, steps=s.max_steps))
-        energy = work.get_potential_energy() / EV_PER_HARTREE
-    except ElimscanError as err:
-        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err.error_type}",
-                            error_type="saddle_search_failed")
-    except (RuntimeError, np.linalg.LinAlgError, ValueError) as err:
-        return SaddleResult(None, None, False, method, None, (), f"saddle search failed: {err}",
-                            error_type="saddle_search_failed")
-    atoms = work.copy()
-    atoms.calc = None
-    if not converged:
-        return SaddleResult(atoms, energy, False, method, None, (), f"Sella did not converge in {s.max_steps} steps",
-                            error_type="saddle_not_converged")
-    hessian, n_grad = finite_difference_hessian(atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"),
-                                                s.hessian_step_A)
-    vib: Vibrations = harmonic_analysis(hessian, atoms, n_gradients=n_grad)
-    imaginary = sorted(vib.imaginary(0.0), reverse=True)
-    main = imaginary[0] if imaginary else None
-    others = tuple(round(float(v), 1) for v in imaginary[1:] if v > s.other_imaginary_max_cm1)
-    if main is None or main < s.imaginary_min_cm1:
-        return SaddleResult(atoms, energy, False, method, None if main is None else float(main), others,
-                            "no imaginary mode above the threshold: the search collapsed to a minimum",
-                            error_type="saddle_collapsed")
-    if others:
-        return SaddleResult(atoms, energy, False, method, float(main), others,
-                            f"{len(others) + 1} imaginary modes: not a first-order saddle",
-                            error_type="saddle_wrong_modes")
-    mode = vib.modes[0]
-    sides = [_relax_to_side(atoms.copy(), sign * s.displacement_A * mode, reactive, engine, charge, multiplicity,
-                            s, optimizer, name) for sign in (+1, -1)]
-    if sorted(sides) != ["product", "reactant"]:
-        return SaddleResult(atoms, energy, False, method, float(main), others,
-                            f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product",
-                            error_type="saddle_not_connected")
-    return SaddleResult(atoms, energy, True, method, float(main), others,
-                        "one imaginary mode; connects the reactant complex with the products", mode, hessian)
-
-
 
 
 def path_top_index(points: Sequence[PathPoint]) -> int:
@@ -501,6 +183,17 @@ def _keep_first_failure(first: SaddleResult, second: SaddleResult, source: str) 
                         f"{second.reason}", first.mode, error_type=first.error_type)
 
 
+def neb_end_points(complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine, charge: int,
+                   multiplicity: int, optimizer: OptimizerConfig, criteria, name: str = "neb end"
+                   ) -> tuple[Atoms, Atoms] | None:
+    """Return (reactant complex, freely relaxed path end) when the end relaxes to products, else None."""
+    calc = engine.calculator(charge, multiplicity, name=name)
+    end = relax(points[-1].atoms, calc, (), optimizer.model_copy(update={"name": BFGS})).atoms
+    if reactive.side(end.positions, criteria) != "product":
+        return None
+    return complex_.atoms, end
+
+
 def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine,
                   charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, name: str
                   ) -> SaddleResult:
@@ -553,13 +246,6 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
     flags = complex_.failed_rotations + path_flags(points, top, reactive, other_hydrogens, syn)
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)
-
-
-def place_backside(substrate: Atoms, c_alpha: int, x: int, base: Atoms, basic: int, distance_A: float,
-                   rotation_deg: float) -> Atoms:
-    """Return substrate + base with the nucleophilic atom behind C-alpha, on the X->C-alpha line, ``distance_A`` from C-alpha."""
-    return _place_along(substrate, substrate.positions[x], substrate.positions[c_alpha], base, basic, distance_A,
-                        rotation_deg)
 
 
 def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,

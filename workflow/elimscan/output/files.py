@@ -2,7 +2,7 @@
 
 This module reads (never writes): :func:`build_report_files` returns {relative path: bytes} for
 ``summary.csv``, ``report.html`` and ``plots/*.png``, and the CLI writes them. :func:`validate_result_file`
-checks any result JSON against the JSON Schema exported from ``records.py`` (the committed
+checks any result JSON against the JSON Schema exported by ``results/schema.py`` (the committed
 ``results-schema/`` files equal that export, which ``tests/test_schema.py`` enforces).
 """
 
@@ -20,7 +20,8 @@ from pydantic import ValidationError
 from elimscan.errors import OutputError
 from elimscan.output.html import render_report
 from elimscan.output.plots import figure_png, figure_svg, job_figures, series_figures
-from elimscan.results.records import SCHEMA_MODELS, RunResult, json_schema
+from elimscan.results.documents import RunResult
+from elimscan.results.schema import SCHEMA_MODELS, json_schema
 from elimscan.output.tables import series_csv, summary_csv
 
 RESULTS_FILE = "results.json"

@@ -20,7 +20,8 @@ from elimscan.solvents import medium_label
 from elimscan.output.plots import (BARRIER_SHIFT_KCAL_MOL, SERIES_BARRIER_WORDS, character_points, figure_svg, job_figures,
                             plot_name, rho_text, series_figure, series_plot_name, signed)
 from elimscan.output.text import base_model_groups, model_mix, r_squared_text
-from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, RunResult, SeriesRecord, SubstitutionRecord
+from elimscan.results.documents import RunResult, SeriesRecord
+from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, SubstitutionRecord
 from elimscan.output.tables import job_solvent, product_anti_penalty_kcal_mol, product_lowest_barrier, product_paths
 
 CAUTION = ("Computed predictions are not safety data. Strong bases (alkoxides, amides, hydrides) and alkyl halides "

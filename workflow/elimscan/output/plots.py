@@ -21,7 +21,8 @@ from matplotlib.figure import Figure
 from matplotlib.transforms import blended_transform_factory
 
 from elimscan.geometry import dihedral_deg, wrap_degrees
-from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord, SeriesRecord
+from elimscan.results.documents import SeriesRecord
+from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord
 from elimscan.output.text import r_squared_text
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 

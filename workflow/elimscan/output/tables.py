@@ -76,7 +76,8 @@ import csv
 import io
 
 from elimscan.config import SolventConfig
-from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord, RunResult
+from elimscan.results.documents import RunResult
+from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord
 
 SUMMARY_COLUMNS = ("job_id", "job_status", "substrate", "substrate_smiles", "base", "base_bulky", "leaving_group",
                    "solvent_model", "solvent", "product_smiles", "substitution", "rule_call", "via_classes",

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from elimscan.results.records import JobRecord, RunResult, SeriesRecord
+from elimscan.results.documents import RunResult, SeriesRecord
+from elimscan.results.records import JobRecord
 
 
 def _kcal(value: float | None) -> str:

@@ -27,13 +27,16 @@ from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateCon
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
 from elimscan.geometry import dihedral_deg, wrap_degrees
-from elimscan.chem.perception import Alkene, BetaHydrogenClass, Substrate, perceive_substrate
+from elimscan.chem.alkenes import Alkene
+from elimscan.chem.betahydrogens import BetaHydrogenClass
+from elimscan.chem.perception import Substrate, perceive_substrate
 from elimscan.analysis.character import saddle_character
 from elimscan.engines.dft import DftJobResult, DftPoint, SaddleCandidate, refine_job
 from elimscan.drivers.freeenergy import MinimumHessian, isotope_effect, minimum_hessian, molecule_thermo, saddle_thermo
 from elimscan.geometry import distance
 from elimscan.chem.substitution import substitution_product
-from elimscan.drivers.paths import PathResult, Reactive, SubstitutionReactive, compute_path, compute_substitution_path
+from elimscan.drivers.complexes import Reactive, SubstitutionReactive
+from elimscan.drivers.paths import PathResult, compute_path, compute_substitution_path
 from elimscan.results.failures import error_info
 from elimscan.results.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, DftJobRecord,
                               DftPointRecord, ErrorInfo, JobRecord,

@@ -14,7 +14,8 @@ from collections.abc import Iterable, Sequence
 
 from elimscan import __version__
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
-from elimscan.results.records import JobRecord, MoleculeRecord, Provenance, RunResult, RunSummary, Seeds
+from elimscan.results.documents import Provenance, RunResult, RunSummary, Seeds
+from elimscan.results.records import JobRecord, MoleculeRecord
 from elimscan.results.trouble import count_trouble
 from elimscan.solvents import check_solvent, method_label
 from elimscan.versions import BACKEND_DISTRIBUTIONS, installed_version

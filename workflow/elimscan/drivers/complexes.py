@@ -1,0 +1,181 @@
+"""The atoms that take part in an E2 or SN2 step, and the base-substrate complexes the paths start from.
+
+Atom order in a complex: the substrate's atoms, then the base's. The basic atom is placed on the extension
+of Cβ-H (E2) or behind C-alpha on the X->C-alpha line (SN2), the base turned about that line; each E2
+complex is relaxed with H...B and the H-Cβ-Cα-X dihedral held. The engine is passed in; no file I/O.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from ase import Atoms
+
+from elimscan.config import OptimizerConfig, PathConfig
+from elimscan.errors import ElimscanError
+from elimscan.geometry import distance
+from elimscan.results.flags import FAILED_ROTATION
+from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
+
+
+@dataclass(frozen=True)
+class Reactive:
+    """Indices (0-based, in the complex) of the atoms that take part: H, Cβ, Cα, X and the basic atom B."""
+
+    h: int
+    c_beta: int
+    c_alpha: int
+    x: int
+    base: int
+
+    def quad(self) -> tuple[int, int, int, int]:
+        """Return the H-Cβ-Cα-X dihedral indices."""
+        return (self.h, self.c_beta, self.c_alpha, self.x)
+
+    def coordinate(self) -> HeldDistanceSum:
+        """Return the driven combination d(Cβ-H) - d(B-H) + d(Cα-X) (target left open)."""
+        return HeldDistanceSum(((self.c_beta, self.h, 1.0), (self.base, self.h, -1.0), (self.c_alpha, self.x, 1.0)))
+
+    def distances(self, positions: np.ndarray) -> dict[str, float]:
+        """Return the bond lengths that tell reactant, saddle and product apart (Å)."""
+        return {"c_beta_h_A": distance(positions, self.c_beta, self.h), "base_h_A": distance(positions, self.base, self.h),
+                "c_alpha_x_A": distance(positions, self.c_alpha, self.x), "base_c_alpha_A": distance(positions, self.base, self.c_alpha)}
+
+    def side(self, positions: np.ndarray, criteria) -> str:
+        """Return 'product' (alkene + conjugate acid + X-), 'reactant' or 'other' from the key distances."""
+        d = self.distances(positions)
+        if d["c_alpha_x_A"] >= criteria.product_c_x_min_A and d["base_h_A"] <= criteria.product_base_h_max_A:
+            return "product"
+        if d["base_h_A"] >= criteria.reactant_base_h_min_A and d["c_alpha_x_A"] <= criteria.reactant_c_x_max_A:
+            return "reactant"
+        return "other"
+
+
+@dataclass(frozen=True)
+class SubstitutionReactive:
+    """Indices (0-based, in the complex) for backside substitution: nucleophile Nu, C-alpha and X."""
+
+    nu: int
+    c_alpha: int
+    x: int
+
+    def coordinate(self) -> HeldDistanceSum:
+        """Return the driven combination d(Cα-X) - d(Cα-Nu) (target left open)."""
+        return HeldDistanceSum(((self.c_alpha, self.x, 1.0), (self.c_alpha, self.nu, -1.0)))
+
+    def distances(self, positions: np.ndarray) -> dict[str, float]:
+        """Return d(Cα-X) and d(Cα-Nu) (Å)."""
+        return {"c_alpha_x_A": distance(positions, self.c_alpha, self.x),
+                "nu_c_alpha_A": distance(positions, self.nu, self.c_alpha)}
+
+    def side(self, positions: np.ndarray, criteria) -> str:
+        """Return 'product' (Nu-Cα bonded, X gone), 'reactant' or 'other' from the key distances."""
+        d = self.distances(positions)
+        if d["c_alpha_x_A"] >= criteria.product_c_x_min_A and d["nu_c_alpha_A"] <= criteria.substitution_bond_max_A:
+            return "product"
+        if d["nu_c_alpha_A"] >= criteria.substitution_reactant_min_A and d["c_alpha_x_A"] <= criteria.reactant_c_x_max_A:
+            return "reactant"
+        return "other"
+
+
+@dataclass(frozen=True)
+class ComplexResult:
+    """The best base-substrate complex over the rotations tried, and every rotation's energy (hartree)."""
+
+    atoms: Atoms
+    energy_hartree: float
+    rotation_deg: float
+    energies_hartree: tuple[float, ...]
+    n_gradients: int
+    #: rotations whose relaxation failed (skipped while another succeeded), one note each
+    failed_rotations: tuple[str, ...] = ()
+
+
+def _rotation_matrix(axis: np.ndarray, angle_rad: float) -> np.ndarray:
+    """Return the matrix of a right-handed rotation about a unit axis."""
+    axis = axis / np.linalg.norm(axis)
+    k = np.array([[0, -axis[2], axis[1]], [axis[2], 0, -axis[0]], [-axis[1], axis[0], 0]])
+    return np.eye(3) + np.sin(angle_rad) * k + (1 - np.cos(angle_rad)) * k @ k
+
+
+def _align(vector: np.ndarray, target: np.ndarray) -> np.ndarray:
+    """Return a rotation matrix that turns ``vector`` onto ``target`` (both any length)."""
+    a, b = vector / np.linalg.norm(vector), target / np.linalg.norm(target)
+    cross, dot = np.cross(a, b), float(np.dot(a, b))
+    if np.linalg.norm(cross) < 1e-8:
+        if dot > 0:
+            return np.eye(3)
+        perpendicular = np.cross(a, [1.0, 0, 0]) if abs(a[0]) < 0.9 else np.cross(a, [0, 1.0, 0])
+        return _rotation_matrix(perpendicular, np.pi)
+    return _rotation_matrix(cross, np.arccos(np.clip(dot, -1.0, 1.0)))
+
+
+def _place_along(substrate: Atoms, tail: np.ndarray, head: np.ndarray, base: Atoms, basic: int, distance_A: float,
+                 rotation_deg: float) -> Atoms:
+    """Return substrate + base with the basic atom on the tail->head line, ``distance_A`` beyond head.
+
+    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about that line.
+    """
+    axis = head - tail
+    axis = axis / np.linalg.norm(axis)
+    moved = base.positions - base.positions[basic]
+    others = [i for i in range(len(base)) if i != basic]
+    if others:
+        nearest = sorted(others, key=lambda i: np.linalg.norm(moved[i]))[: min(3, len(others))]
+        outward = np.mean(moved[nearest], axis=0)
+        if np.linalg.norm(outward) > 1e-6:
+            moved = moved @ _align(outward, axis).T
+    moved = moved @ _rotation_matrix(axis, np.radians(rotation_deg)).T
+    placed = base.copy()
+    placed.positions = moved + head + distance_A * axis
+    return substrate + placed
+
+
+def place_base(substrate: Atoms, h: int, c_beta: int, base: Atoms, basic: int, distance_A: float,
+               rotation_deg: float) -> Atoms:
+    """Return substrate + base with the basic atom on the extension of Cβ-H, ``distance_A`` from H.
+
+    The base's own bonds point away from the substrate; ``rotation_deg`` turns it about the Cβ-H axis.
+    """
+    return _place_along(substrate, substrate.positions[c_beta], substrate.positions[h], base, basic, distance_A,
+                        rotation_deg)
+
+
+def place_backside(substrate: Atoms, c_alpha: int, x: int, base: Atoms, basic: int, distance_A: float,
+                   rotation_deg: float) -> Atoms:
+    """Return substrate + base with the nucleophilic atom behind C-alpha, on the X->C-alpha line, ``distance_A`` from C-alpha."""
+    return _place_along(substrate, substrate.positions[x], substrate.positions[c_alpha], base, basic, distance_A,
+                        rotation_deg)
+
+
+def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
+                  engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
+                  name: str = "complex", rank: int = 0) -> ComplexResult:
+    """Return the complex of ``rank`` (0: the lowest) over ``settings.base_rotations`` rotations, H...B and dihedral held.
+
+    A rotation whose relaxation fails (SCF, a non-finite backend result, the optimiser) is skipped and noted
+    while another rotation succeeds; when all fail, the first failure is raised.
+    """
+    found, energies, spent, failed = [], [], 0, []
+    first_error: ElimscanError | None = None
+    for k in range(settings.base_rotations):
+        rotation = 360.0 * k / settings.base_rotations
+        start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
+        calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
+        held = [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
+                HeldDihedral(reactive.quad(), dihedral_target_deg)]
+        try:
+            result = relax(start, calc, held, optimizer)
+        except ElimscanError as err:
+            first_error = first_error or err
+            failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
+                          "rotations were used")
+            continue
+        spent += result.n_gradients
+        energies.append(result.energy_hartree)
+        found.append((result.energy_hartree, rotation, result.atoms))
+    if not found:
+        raise first_error
+    energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(rank, len(found) - 1)]
+    return ComplexResult(atoms, energy, rotation, tuple(energies), spent, tuple(failed))

@@ -1,0 +1,164 @@
+"""The result documents: results.json of a run and batch.json of a batch, with their schema names and versions.
+
+Every document carries ``schema_name`` and ``schema_version``; the unit is in each field name. Besides the
+job records (``records``) they hold provenance, seeds, run counts, substituent series and the batch's jobs.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import Field
+
+from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
+from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Record
+
+RESULT_SCHEMA_NAME = "elimscan.result"
+#: 0.6.1 added one optional field (jobs[].retry_temperature_points and its summary.trouble entry).
+#: 0.6.0 added optional fields only (DFT single points, substituent series, base models, path starts and their
+#: combination, summary.trouble; config keys dft, series, solvent model dielectric, base models, stage limits).
+#: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
+#: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
+#: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
+RESULT_SCHEMA_VERSION = "0.6.1"
+BATCH_SCHEMA_NAME = "elimscan.batch"
+BATCH_SCHEMA_VERSION = "0.1.0"
+
+
+class Provenance(Record):
+    """Where a result came from: program, backend, versions and the command line."""
+
+    program: Literal["elimscan"] = "elimscan"
+    program_version: str
+    command_line: str
+    created_utc: str = Field(description="ISO 8601 time the document was written (UTC)")
+    python_version: str
+    rdkit_version: str
+    ase_version: str
+    numpy_version: str
+    backend: str = Field(description="xTB backend library: tblite or xtb (xtb-python)")
+    backend_version: str
+    method_label: str = Field(description="method, solvation model and backend in one line")
+
+
+class Seeds(Record):
+    """Random seeds used, so that a run can be repeated."""
+
+    rdkit_embedding: int
+
+
+class SeriesPointRecord(Record):
+    """One member of a substituent series: its sigma, its job's lowest E2 barrier and log10(k/k0), or why it is missing."""
+
+    substrate: str
+    sigma: float = Field(description="substituent constant from the config (dimensionless)")
+    status: Literal["ok", "missing"]
+    job_id: str | None = None
+    barrier_kcal_mol: float | None = Field(None, description="lowest E2 barrier of the job, of the kind in the "
+                                           "series' energy_used (dE or dG, kcal/mol)")
+    barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    path: str | None = Field(None, description="the lowest path: beta-H class and approach")
+    log10_k_rel: float | None = Field(None, description="log10(k/k0) = -(barrier - barrier of k0) / (RT ln 10)")
+    note: str | None = Field(None, description="why the member has no barrier")
+
+
+class SeriesRecord(Record):
+    """A substituent series: barrier and log10(k/k0) against sigma with the fitted slope rho and r^2."""
+
+    name: str
+    base: str
+    solvent: SolventConfig | None = Field(None, description="implicit solvent of the series' jobs (batches); null: "
+                                          "the config's method.solvent")
+    energy_used: Literal["electronic", "free"] = Field(description="which barriers were fitted (dE or dG)")
+    temperature_K: float
+    sigma_source: str | None = None
+    reference_substrate: str | None = Field(None, description="k0: the member with sigma 0, else the first with a barrier")
+    points: tuple[SeriesPointRecord, ...]
+    n_fitted: int = Field(description="members with a barrier, all of them in the fit")
+    rho: float | None = Field(None, description="slope of log10(k/k0) against sigma; null: too few members to fit")
+    intercept: float | None = Field(None, description="fitted log10(k/k0) at sigma 0")
+    r_squared: float | None = Field(None, description="null: no fit, or every fitted barrier the same (0/0)")
+    note: str | None = None
+
+
+class RunSummary(Record):
+    """Counts over the run."""
+
+    n_jobs: int
+    n_jobs_ok: int
+    n_jobs_failed: int
+    n_molecules_failed: int
+    trouble: dict[str, int] = Field(default_factory=dict, description=(
+        "numerical trouble recorded as data, counted over the jobs: 'job failed: <error_type>', 'path failed: "
+        "<error_type>' (one anti or syn path of a beta-H class), 'saddle not verified' (refinement collapsed or "
+        "wrong imaginary modes; the barrier is the relaxed-path maximum), 'scan point failed', 'scan point above cap', 'complex orientation failed' (one base orientation of a "
+        "path's complex, skipped; the path used the others), 'single point at retry electronic temperature' (SCF "
+        "converged only with the retry's Fermi smearing: that energy lies on a smeared surface)"))
+
+
+class RunResult(Record):
+    """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
+
+    schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
+    schema_version: Literal["0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    provenance: Provenance
+    config: RunConfig
+    seeds: Seeds
+    molecules: tuple[MoleculeRecord, ...]
+    jobs: tuple[JobRecord, ...]
+    summary: RunSummary
+    series: tuple[SeriesRecord, ...] = Field((), description="substituent series (Hammett fits) of the config")
+
+
+class FileChecksum(Record):
+    """One file a batch job wrote: its path, SHA-256 and size, as committed to the store."""
+
+    path: str = Field(description="relative to the output folder")
+    sha256: str
+    size_bytes: int
+
+
+class BatchJobEntry(Record):
+    """One job of a batch as the store holds it."""
+
+    job_key: str = Field(description="SHA-256 of the job's inputs and every setting that changes its numbers")
+    job_id: str
+    substrate: str
+    base: str
+    solvent: SolventConfig
+    source: str = Field(description="where the substrate came from: 'config' or '<file> line <n>'")
+    status: Literal["ok", "failed", "not finished"]
+    error: ErrorInfo | None = None
+    job_starts: int = Field(description="times a worker started this job (all batch runs in this folder)")
+    started_utc: str | None = None
+    finished_utc: str | None = None
+    wall_seconds: float | None = Field(None, description="wall time of the finished attempt (s)")
+    worker: str | None = Field(None, description="the worker that finished it (local process or Dask worker)")
+    folder: str | None = Field(None, description="folder of the job's files, relative to the output folder")
+    files: tuple[FileChecksum, ...] = ()
+
+
+class BatchCounts(Record):
+    """Jobs of the current config: finished ok, failed, and not finished."""
+
+    n_jobs: int
+    n_ok: int
+    n_failed: int
+    n_not_finished: int
+
+
+class BatchIndex(Record):
+    """The document batch.json: every job of a batch's current config, its key, state, time and files."""
+
+    schema_name: Literal["elimscan.batch"] = BATCH_SCHEMA_NAME
+    schema_version: Literal["0.1.0"] = BATCH_SCHEMA_VERSION
+    provenance: Provenance
+    config_name: str
+    complete: bool = Field(description="every job finished (ok or failed); results.json then holds them all")
+    store_file: str = Field(description="the SQLite store, relative to the output folder")
+    substrates_file: str | None = Field(None, description="the substrates file as the config names it")
+    substrates_file_sha256: str | None = None
+    executor: ExecutorConfig
+    counts: BatchCounts
+    jobs: tuple[BatchJobEntry, ...]
+    series: tuple[SeriesRecord, ...] = Field((), description="substituent series over the jobs finished so far")
