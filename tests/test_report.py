@@ -33,9 +33,15 @@ from rdkit import Chem
 
 from elimscan.analysis.rule import compare_verdicts, fraction_ranges
 from elimscan.geometry import wrap_degrees
-from elimscan.output.html import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB, render_report, substrate_svg
-from elimscan.output.plots import (BARRIER_SHIFT_KCAL_MOL, closest_frame, figure_svg, job_figures, newman_figure, newman_inputs,
-                            newman_view, path_figure, plot_name, product_figure, scan_figure)
+from elimscan.output.html.depictions import substrate_svg
+from elimscan.output.html.page import render_report
+from elimscan.output.html.words import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB
+from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL, figure_svg
+from elimscan.output.plots.jobplots import job_figures, plot_name
+from elimscan.output.plots.newman import closest_frame, newman_figure, newman_inputs, newman_view
+from elimscan.output.plots.paths import path_figure
+from elimscan.output.plots.products import product_figure
+from elimscan.output.plots.scans import scan_figure
 from elimscan.results.records import RESULT_SCHEMA_VERSION, JobRecord, RunResult
 from elimscan.output.files import build_report_files, read_scan_frames, validate_result_file
 from elimscan.output.tables import SUMMARY_COLUMNS, summary_csv
