@@ -34,10 +34,11 @@ from rdkit import Chem
 from elimscan.analysis.rule import compare_verdicts, fraction_ranges
 from elimscan.geometry import wrap_degrees
 from elimscan.output.html.depictions import substrate_svg
+from elimscan.output.html.jobsection import PLOT_WORDS
 from elimscan.output.html.page import render_report
 from elimscan.output.html.words import BARRIERS_ABSENT, CAUTION, NO_BARRIERS_JOB
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL, figure_svg
-from elimscan.output.plots.jobplots import job_figures, plot_name
+from elimscan.output.plots.jobplots import JOB_PLOT_KINDS, drawn_kinds, job_figures, plot_name, shown_kinds
 from elimscan.output.plots.newman import closest_frame, newman_figure, newman_inputs, newman_view
 from elimscan.output.plots.paths import path_figure
 from elimscan.output.plots.products import product_figure
@@ -702,6 +703,32 @@ def test_svg_is_byte_identical_on_rebuild_and_undated():
     two = figure_svg(job_figures(job, 150.0, 30.0, 3.0, {})[plot_name(job.job_id, "scan")])
     assert one == two
     assert "<dc:date>" not in one
+
+
+@pytest.mark.parametrize("run", ALL_RUNS)
+def test_the_plot_files_and_the_report_hold_the_kinds_of_one_table(run, built):
+    # plots.jobplots.JOB_PLOT_KINDS alone says which plots a job has: the PNG files, the page built from them
+    # and the page that draws its plots itself (no assets given) hold the same kinds
+    res = result(run)
+    assert set(PLOT_WORDS) == {k.kind for k in JOB_PLOT_KINDS}
+    drawn = {plot_name(j.job_id, k) for j in res.jobs for k in drawn_kinds(j)}
+    assert {n.removesuffix(".png") for n in built[run] if n.endswith(".png") and "-newman-" not in n} == drawn
+    for page in (parse(built[run]["report.html"].decode("utf-8")), parse(render_report(res, {}))):
+        for job, section in zip(res.jobs, page.sections):
+            prefixes = {k.kind: plot_name(job.job_id, k.kind).replace("/", "-") + "-" for k in JOB_PLOT_KINDS}
+            inline = {k for k, prefix in prefixes.items() if any(i.startswith(prefix) for i in section["svg_ids"])}
+            assert inline == set(drawn_kinds(job)) & set(shown_kinds(job)) == set(drawn_kinds(job))
+
+
+def test_barriers_without_path_points_keep_the_path_heading_and_say_there_is_no_plot():
+    # results written before the path points were kept: barriers, so the heading, but nothing to draw
+    doc = raw("halobutane")
+    for job in doc["jobs"]:
+        for _, _, approach in approaches(job):
+            approach["path"] = []
+    res = RunResult.model_validate(doc)
+    assert all("paths" in shown_kinds(j) and "paths" not in drawn_kinds(j) for j in res.jobs)
+    assert words_of(render_report(res, {})).count("Relaxed E2 paths No path plot.") == len(res.jobs)
 
 
 # --- validation --------------------------------------------------------------------------------------

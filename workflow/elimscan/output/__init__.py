@@ -5,7 +5,7 @@ Each module imports only those above it in this list:
 - ``text``: terminal text of results
 - ``tables``: ``summary.csv`` and ``series.csv``
 - ``plots/``: matplotlib figures, one module a kind: Newman projections, scans, relaxed paths, saddle character,
-  product calls, Hammett plots (see its map)
+  product calls, Hammett plots; ``plots.jobplots`` holds the one table of a job's plot kinds (see its map)
 - ``html/``: the self-contained ``report.html``, from prose and style up to the page (see its map)
 - ``files``: reads an output folder, returns the report files, validates result files against the schema
 """

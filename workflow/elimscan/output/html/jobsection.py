@@ -2,27 +2,65 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 
 from elimscan.output.html.boxes import substitution_box, verdict_box
 from elimscan.output.html.cells import anchor, esc, figure_block, inline_svg
 from elimscan.output.html.depictions import substrate_svg
 from elimscan.output.html.jobtables import beta_table, isotope_table, product_table
 from elimscan.output.html.words import CAUTION, ENERGY_WORDS, NO_BARRIERS_JOB, method_line
-from elimscan.output.plots.character import character_points
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL
-from elimscan.output.plots.jobplots import plot_name
+from elimscan.output.plots.jobplots import NEWMAN_TARGETS_DEG, newman_plot_name, plot_name, shown_kinds
 from elimscan.output.plots.paths import has_barriers
 from elimscan.output.tables import job_solvent
 from elimscan.results.records import JobRecord, RunResult
+
+
+#: heading (HTML), caption and the note when the figure is missing of each kind in plots.jobplots.JOB_PLOT_KINDS,
+#: given whether the job has barriers
+PLOT_WORDS: dict[str, Callable[[bool], tuple[str, str, str]]] = {
+    "scan": lambda barriers: (
+        "Dihedral scans",
+        "Relative energy along each H\u2013C\u03b2\u2013C\u03b1\u2013X scan; shaded: the rule's anti and syn windows.",
+        "No scan plot."),
+    "products": lambda barriers: (
+        "The rule\u2019s calls" + (" beside the computed shares" if barriers else ""),
+        "The geometric rule's call on each alkene" + (
+            f"; right: the computed share, the bar spanning the share when every barrier moves by "
+            f"\u00b1{BARRIER_SHIFT_KCAL_MOL:g} kcal/mol." if barriers else "."), "No products."),
+    "paths": lambda barriers: (
+        "Relaxed E2 paths",
+        "Energy along each relaxed path (colour: class; solid: anti, dashed: syn) above substrate + free base; "
+        "diamonds at the path maximum: filled, verified saddle (at its energy); open, unverified "
+        "(the path maximum).", "No path plot."),
+    "character": lambda barriers: (
+        "Saddle character",
+        "Each verified E2 saddle (class and path) on the two cleavage axes, 1 \u2212 Pauling bond order "
+        "with r\u2080 from the free substrate; dotted: both bonds breaking in step; the corners are the "
+        "reactant, the alkene with the conjugate acid and X\u207b, and the two stepwise intermediates.",
+        "No character plot."),
+}
+
+
+def plot_blocks(job: JobRecord, kinds: tuple[str, ...], assets: Mapping[str, str], own: Mapping[str, str]) -> list[str]:
+    """Return heading and figure (or the note that it is missing) of each of ``kinds`` the job's section shows.
+
+    A figure is taken from ``assets``, else from ``own`` (the plots the page drew itself).
+    """
+    blocks = []
+    for kind in (k for k in kinds if k in shown_kinds(job)):
+        key = plot_name(job.job_id, kind)
+        heading, caption, missing = PLOT_WORDS[kind](has_barriers(job))
+        blocks += [f"<h3>{heading}</h3>", figure_block(assets.get(key) or own.get(key), key.replace("/", "-"), caption, missing)]
+    return blocks
 
 
 def newman_block(job: JobRecord, assets: Mapping[str, str]) -> str:
     """Return the job's Newman projections found in ``assets``, with what they show and which are missing."""
     parts, absent = [], []
     for b in job.beta_hydrogens:
-        for geometry in ("anti", "syn"):
-            key = plot_name(job.job_id, f"newman-{b.class_id}-{geometry}")
+        for geometry in NEWMAN_TARGETS_DEG:
+            key = newman_plot_name(job.job_id, b.class_id, geometry)
             if key in assets:
                 parts.append(f'<figure class="newman-figure">{inline_svg(assets[key], key.replace("/", "-"))}</figure>')
             else:
@@ -90,10 +128,6 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
                       "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti cost in kcal/mol "
                       "(\u201c-\u201d: never reached below the cap; ")
                    + "blue: anti accessible, orange: syn only, red: blocked under the rule).</figcaption></figure>")
-    scan_key, product_key = plot_name(job.job_id, "scan"), plot_name(job.job_id, "products")
-    path_key = plot_name(job.job_id, "paths")
-    path_svg = assets.get(path_key) or own.get(path_key)
-    character_key = plot_name(job.job_id, "character")
     body = [
         verdict_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
@@ -111,35 +145,11 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         "<h3>Alkenes: the rule\u2019s call" + (" and the computed shares</h3>" if barriers else "</h3>"),
         product_table(job),
     ]
-    if barriers:
-        body += [
-            "<h3>Relaxed E2 paths</h3>",
-            figure_block(path_svg, path_key.replace("/", "-"),
-                    "Energy along each relaxed path (colour: class; solid: anti, dashed: syn) above substrate + free base; "
-                    "diamonds at the path maximum: filled, verified saddle (at its energy); open, unverified "
-                    "(the path maximum).", "No path plot."),
-        ]
-        if character_points(job):
-            body += [
-                "<h3>Saddle character</h3>",
-                figure_block(assets.get(character_key) or own.get(character_key), character_key.replace("/", "-"),
-                        "Each verified E2 saddle (class and path) on the two cleavage axes, 1 \u2212 Pauling bond order "
-                        "with r\u2080 from the free substrate; dotted: both bonds breaking in step; the corners are the "
-                        "reactant, the alkene with the conjugate acid and X\u207b, and the two stepwise intermediates.",
-                        "No character plot."),
-            ]
+    body += plot_blocks(job, ("paths", "character"), assets, own)
     if job.substitution is not None:
         body += ["<h3>Substitution (SN2) beside elimination</h3>", substitution_box(job, job.substitution)]
+    body += plot_blocks(job, ("scan", "products"), assets, own)
     body += [
-        "<h3>Dihedral scans</h3>",
-        figure_block(assets.get(scan_key) or own.get(scan_key), scan_key.replace("/", "-"),
-                "Relative energy along each H\u2013C\u03b2\u2013C\u03b1\u2013X scan; shaded: the rule's anti and syn windows.",
-                "No scan plot."),
-        "<h3>The rule\u2019s calls" + (" beside the computed shares</h3>" if barriers else "</h3>"),
-        figure_block(assets.get(product_key) or own.get(product_key), product_key.replace("/", "-"),
-                "The geometric rule's call on each alkene" + (
-                    f"; right: the computed share, the bar spanning the share when every barrier moves by "
-                    f"\u00b1{BARRIER_SHIFT_KCAL_MOL:g} kcal/mol." if barriers else "."), "No products."),
         "<h3>Down the C\u03b2\u2013C\u03b1 bond</h3>", newman_block(job, assets),
         "<h3>How the rule reached its call</h3>",
         "<ol class=\"reasoning\">" + "".join(f"<li>{esc(line)}</li>" for line in rule.reasoning) + "</ol>",

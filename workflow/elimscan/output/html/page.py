@@ -10,17 +10,16 @@ from elimscan.output.html.runsections import base_model_section, index_table, se
 from elimscan.output.html.style import CSP, SCRIPT, STYLE
 from elimscan.output.html.words import CAUTION, MEANING, barrier_points, run_method_line
 from elimscan.output.plots.figures import figure_svg
-from elimscan.output.plots.character import character_points
-from elimscan.output.plots.jobplots import job_figures, plot_name
-from elimscan.output.plots.paths import has_barriers
+from elimscan.output.plots.jobplots import drawn_kinds, job_figures, plot_name
 from elimscan.results.records import RunResult
 
 
 def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
     """Return the whole report as one self-contained HTML document (UTF-8 text).
 
-    ``assets`` maps plot names (``plots.jobplots.plot_name``) to SVG text; scan, path and product plots missing from
-    it are drawn here from results.json alone, Newman projections (which need the scan trajectories) are left out.
+    ``assets`` maps plot names (``plots.jobplots.plot_name``) to SVG text; the plots of
+    ``plots.jobplots.JOB_PLOT_KINDS`` missing from it are drawn here from results.json alone, Newman
+    projections (which need the scan trajectories) are left out.
     """
     rule = result.config.rule
     p = result.provenance
@@ -49,12 +48,9 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
         parts.append(index_table(result))
     for job in result.jobs:
         own: dict[str, str] = {}
-        if job.status == "ok":
-            kinds = ("scan", "products", "paths") if has_barriers(job) else ("scan", "products")
-            kinds += ("character",) if character_points(job) else ()
-            if not all(plot_name(job.job_id, k) in assets for k in kinds):
-                figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
-                own = {k: figure_svg(f) for k, f in figures.items() if k not in assets}
+        if not all(plot_name(job.job_id, k) in assets for k in drawn_kinds(job)):
+            figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
+            own = {k: figure_svg(f) for k, f in figures.items() if k not in assets}
         parts.append(job_section(result, job, assets, own))
     if result.series:
         parts.append(series_section(result, assets))

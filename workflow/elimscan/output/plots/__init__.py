@@ -12,5 +12,5 @@ those above it in this list:
 - ``character``: the saddle-character map
 - ``products``: the rule's call on each alkene beside the computed shares
 - ``series``: Hammett plots of substituent series
-- ``jobplots``: plot names and the figures of one job
+- ``jobplots``: the one table of a job's plot kinds and when each is drawn and shown; plot names; a job's figures
 """
