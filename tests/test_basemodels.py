@@ -169,7 +169,7 @@ def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_repor
     """Toy engine, whole run: methoxide bare and as a Na+ ion pair on chloroethane -> one comparison group."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.output.html import base_model_section
+    from elimscan.output.html.runsections import base_model_section
     from elimscan.pipeline.compute import job_record, run_config
     from elimscan.results.documents import RunResult
     from elimscan.output.text import base_model_groups, base_model_table

@@ -24,7 +24,8 @@ import scipy.stats
 from elimscan.config import (BaseConfig, RunConfig, SeriesConfig, SeriesMemberConfig, SolventConfig,
                              SubstrateConfig, parse_config)
 from elimscan.errors import ConfigError
-from elimscan.output.plots import figure_png, figure_svg, series_figure, series_plot_name
+from elimscan.output.plots.figures import figure_png, figure_svg
+from elimscan.output.plots.series import series_figure, series_plot_name
 from elimscan.results.documents import RunResult
 from elimscan.results.records import ErrorInfo, JobRecord
 from elimscan.output.text import summary_table

@@ -1,8 +1,11 @@
 """What a person reads: renderings of result documents (no computation).
 
+Each module imports only those above it in this list:
+
 - ``text``: terminal text of results
-- ``tables``: ``summary.csv``
-- ``plots``: Newman projections, scan plots, product charts (matplotlib figures)
-- ``html``: the self-contained ``report.html``
+- ``tables``: ``summary.csv`` and ``series.csv``
+- ``plots/``: matplotlib figures, one module a kind: Newman projections, scans, relaxed paths, saddle character,
+  product calls, Hammett plots; ``plots.jobplots`` holds the one table of a job's plot kinds (see its map)
+- ``html/``: the self-contained ``report.html``, from prose and style up to the page (see its map)
 - ``files``: reads an output folder, returns the report files, validates result files against the schema
 """

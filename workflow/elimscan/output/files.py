@@ -18,8 +18,10 @@ from ase import Atoms
 from pydantic import ValidationError
 
 from elimscan.errors import OutputError
-from elimscan.output.html import render_report
-from elimscan.output.plots import figure_png, figure_svg, job_figures, series_figures
+from elimscan.output.html.page import render_report
+from elimscan.output.plots.figures import figure_png, figure_svg
+from elimscan.output.plots.jobplots import job_figures
+from elimscan.output.plots.series import series_figures
 from elimscan.results.documents import RunResult
 from elimscan.results.schema import SCHEMA_MODELS, json_schema
 from elimscan.output.tables import series_csv, summary_csv

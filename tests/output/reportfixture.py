@@ -1,0 +1,171 @@
+"""The committed fixture runs of the output tests and the helpers that read them and the report page.
+
+The fixtures in tests/data/report-fixture/ are real outputs of ``elimscan run`` (results.json and the scan
+trajectories it references) for configs/halobutane-bases.yaml (``halobutane``: every saddle verified),
+configs/ring-demo.yaml (``ring``: two unverified saddles, flagged paths, anti paths not computed) and a small
+bromoethane + methoxide run (``primary``: free energies, saddle character, isotope effects, substitution).
+Raw JSON is read without our models, so that every number the page shows can be compared with it; the page
+is read with the stdlib HTML parser.
+"""
+
+from __future__ import annotations
+
+import copy
+import json
+from html.parser import HTMLParser
+from pathlib import Path
+
+from elimscan.output.plots.jobplots import plot_name
+from elimscan.results.documents import RunResult
+
+FIXTURES = Path(__file__).resolve().parent.parent / "data" / "report-fixture"
+RUNS = ("halobutane", "ring")
+#: the run with the v0.5 fields (barrier_free_energy_kcal_mol, saddle_character, isotope_effects, substitution)
+PRIMARY = "primary"
+ALL_RUNS = (*RUNS, PRIMARY)
+REFRESH = "results.json of the fixture no longer matches records.py: refresh it (tests/data/report-fixture/README.md)"
+
+
+def raw(run: str) -> dict:
+    """Return results.json of a fixture run as plain JSON (not through our models)."""
+    return json.loads((FIXTURES / run / "results.json").read_text(encoding="utf-8"))
+
+
+def result(run: str) -> RunResult:
+    """Return the RunResult of a fixture run."""
+    return RunResult.model_validate_json((FIXTURES / run / "results.json").read_text(encoding="utf-8"))
+
+
+class _Page(HTMLParser):
+    """Collects, per job section, its id, its beta-H rows, images, inline SVGs, the cells, notes and verdict box
+    (attributes and text); and every resource URL."""
+
+    CAPTURED = ("td", "li", "div", "tr")
+    BLOCKS = ("p", "div", "dt", "dd", "li", "td", "th", "tr", "br", "dl", "ol", "ul")  # a browser breaks the text there
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.sections: list[dict] = []
+        self.urls: list[str] = []
+        self.text: list[str] = []
+        self.meta: list[dict] = []
+        self.index_links: list[str] = []
+        self._in_index = False
+        self._open: list[dict] = []  # captured elements still open, innermost last
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        for name in ("src", "href", "xlink:href", "data", "poster", "srcset", "action"):
+            if a.get(name):
+                self.urls.append(a[name])
+        if tag == "meta":
+            self.meta.append(a)
+        if tag == "table" and a.get("id") == "job-index":
+            self._in_index = True
+        if tag == "a" and self._in_index:
+            self.index_links.append(a.get("href", ""))
+        if tag == "section" and "job" in (a.get("class") or "").split():
+            self.sections.append({"id": a.get("id"), "job": a.get("data-job"), "beta_rows": [], "img": [], "svg": 0,
+                                  "elements": [], "svg_ids": []})
+        elif self.sections:
+            here = self.sections[-1]
+            if tag == "tr" and "beta-row" in (a.get("class") or "").split():
+                here["beta_rows"].append(a.get("data-class"))
+            if tag == "img":
+                here["img"].append(a.get("src", ""))
+            if tag == "svg":
+                here["svg"] += 1
+            if a.get("id"):
+                here["svg_ids"].append(a["id"])
+            if tag in self.BLOCKS:
+                self._space()
+            if tag in self.CAPTURED:
+                element = {"tag": tag, "attrs": a, "classes": (a.get("class") or "").split(), "text": [],
+                           "row": self._row()}
+                here["elements"].append(element)
+                self._open.append(element)
+
+    def _row(self) -> dict | None:
+        return next((e for e in reversed(self._open) if e["tag"] == "tr"), None)
+
+    def _space(self) -> None:
+        for element in self._open:
+            element["text"].append(" ")
+
+    def handle_endtag(self, tag):
+        if tag == "table":
+            self._in_index = False
+        if tag in self.BLOCKS:
+            self._space()
+        if tag in self.CAPTURED:
+            for k in range(len(self._open) - 1, -1, -1):
+                if self._open[k]["tag"] == tag:
+                    self._open[k]["text"] = " ".join("".join(self._open[k]["text"]).split())
+                    del self._open[k]
+                    break
+
+    def handle_data(self, data):
+        self.text.append(data)
+        for element in self._open:
+            element["text"].append(data)
+
+
+def parse(html_text: str) -> _Page:
+    page = _Page()
+    page.feed(html_text)
+    return page
+
+
+def elements(section: dict, tag: str, cls: str) -> list[dict]:
+    """Return the captured elements of a section with this tag and class, in page order."""
+    return [e for e in section["elements"] if e["tag"] == tag and cls in e["classes"]]
+
+
+def words_of(html_text: str) -> str:
+    """Return the page's text with whitespace runs made single spaces."""
+    return " ".join(" ".join(parse(html_text).text).split())
+
+
+def approaches(job: dict):
+    """Yield (class record, 'anti' | 'syn', approach record) of a raw JSON job."""
+    for beta in job["beta_hydrogens"]:
+        for name in ("anti", "syn"):
+            yield beta, name, beta[name]
+
+
+def computed(job: dict) -> list[tuple[dict, str, dict]]:
+    """Return the approaches of a raw JSON job whose path was computed (status ok, with a barrier)."""
+    return [(b, n, a) for b, n, a in approaches(job) if a.get("path_status") == "ok" and a.get("barrier_kcal_mol") is not None]
+
+
+def shown_barrier(value: float) -> str:
+    """Return how the page prints a barrier: 2 decimals, U+2212 for minus (-0.00 prints as 0.00)."""
+    text = f"{value:.2f}"
+    return ("0.00" if text == "-0.00" else text).replace("-", "\u2212")
+
+
+def shown_free(value: float | None) -> str:
+    """Return how the page prints a \u0394G\u2021: like a barrier, or an em dash when absent."""
+    return "\u2014" if value is None else shown_barrier(value)
+
+
+def blank_plots(doc: dict) -> dict[str, str]:
+    """Return placeholder SVGs for every scan, path and product plot of a raw document (pages that need no real plots)."""
+    return {plot_name(j["job_id"], kind): "<svg></svg>" for j in doc["jobs"] for kind in ("scan", "paths", "products")}
+
+
+def strip_barriers(doc: dict) -> dict:
+    """Return a copy of a raw results document as a run without paths writes it (no barriers, no shares)."""
+    doc = copy.deepcopy(doc)
+    for job in doc["jobs"]:
+        for _, _, approach in approaches(job):
+            for key in ("barrier_kcal_mol", "relative_barrier_kcal_mol", "barrier_source", "relaxed_path_estimate_kcal_mol",
+                        "imaginary_frequency_cm1", "saddle_note", "saddle_method", "complex_energy_kcal_mol",
+                        "complex_rotation_spread_kcal_mol", "n_gradients", "path_file", "saddle_file", "error"):
+                approach[key] = None
+            approach.update(path_status="not computed", saddle_verified=False, flags=[], path=[])
+        for product in job["products"]:
+            product["fraction"] = product["fraction_range"] = None
+        job["verdict"] = {"rule_major": job["rule"]["rule_major"], "computed_major": None, "agreement": None,
+                          "within_method_uncertainty": False, "reason": "no barrier could be computed"}
+    return doc
