@@ -5,7 +5,10 @@ This replaces a hand-kept table (which drifted from the code). The order, lowest
     foundation (elimscan/*.py) -> chem -> results -> analysis -> engines -> drivers -> pipeline -> output
     -> batch -> cli (elimscan/cli.py, elimscan/__main__.py)
 
-Imports inside functions count too: they are how a layer reaches down lazily, never up.
+Imports inside functions count too: they are how a layer reaches down lazily, never up. The package face
+(``elimscan/__init__.py``) sits above every layer: it names the public API and loads each name lazily by its
+module path (``tests/test_public_api.py`` checks every name resolves), so no module of a layer imports it
+except for ``__version__``.
 """
 
 from __future__ import annotations

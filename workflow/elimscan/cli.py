@@ -227,11 +227,8 @@ def cmd_run(args: argparse.Namespace) -> int:
 
     from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
-    from elimscan.pipeline.compute import DETAIL, run_config
-    from elimscan.pipeline.document import (canonical_solvent, job_key, provenance, run_document, substrate_inputs,
-                                            unique_molecules)
-    from elimscan.pipeline.jobs import job_outcomes
-    from elimscan.versions import numeric_versions
+    from elimscan.pipeline.compute import DETAIL
+    from elimscan.pipeline.jobs import compute_run
 
     engine = make_engine(config.method)
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
@@ -249,24 +246,12 @@ def cmd_run(args: argparse.Namespace) -> int:
         left = f", about {elapsed / done * (total - done):.0f} s left" if 0 < done < total else ""
         log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
 
-    outcome = run_config(config, engine, progress, geometries)
-    done = job_outcomes(config, outcome, engine.label)
-    files: dict[str, bytes] = {}
-    for job in done:
-        files.update(job.files)
-    molecules = unique_molecules(m for job in done for m in job.molecules)
-    for record in molecules:
+    result, files = compute_run(config, engine, progress, geometries, shlex.join(sys.argv))
+    for record in result.molecules:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
-    versions = numeric_versions(config.method.backend)
-    keyed = [job.job.model_copy(update={"job_key": job_key(
-        config, substrate_inputs(substrate, geometries.get(substrate.name, (None,))[0] if geometries else None),
-        base, canonical_solvent(config.method.solvent, config), versions)})
-        for job, (substrate, base) in zip(done, outcome.jobs)]
     _write_files(out, files)
-    n_failed = sum(job.status != "ok" for job in keyed)
-    result = run_document(config, provenance(config, shlex.join(sys.argv), versions), keyed, molecules,
-                          engine.stats.hot_points)
+    n_failed = result.summary.n_jobs_failed
     _write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
     from elimscan.output.files import build_report_files
 

@@ -12,7 +12,10 @@ from elimscan.pipeline import artifacts
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 from elimscan.pipeline.compute import (ProgressCallback, RunOutcome, job_record, run_config,
                                        substrate_molecule_record)
+from elimscan.pipeline.document import canonical_solvent, job_key, provenance, run_document, substrate_inputs
+from elimscan.results.documents import RunResult
 from elimscan.results.records import JobRecord, MoleculeRecord
+from elimscan.versions import numeric_versions
 
 
 @dataclass(frozen=True)
@@ -78,3 +81,26 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
     (done,) = job_outcomes(one, outcome, engine.label)
     record = done.job.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before})
     return JobOutcome(record, done.molecules, done.files)
+
+
+def compute_run(config: RunConfig, engine, on_progress: ProgressCallback | None = None,
+                geometries: dict[str, tuple[str, str]] | None = None,
+                command_line: str = "") -> tuple[RunResult, dict[str, bytes]]:
+    """Return the result document of a whole run and its files {relative path: bytes}; nothing is written.
+
+    Every job is keyed as a batch keys it, and the document is built by ``pipeline.document.run_document``,
+    as for a batch.
+    """
+    outcome = run_config(config, engine, on_progress, geometries)
+    done = job_outcomes(config, outcome, engine.label)
+    files: dict[str, bytes] = {}
+    for job in done:
+        files.update(job.files)
+    versions = numeric_versions(config.method.backend)
+    solvent = canonical_solvent(config.method.solvent, config)
+    keyed = [job.job.model_copy(update={"job_key": job_key(
+        config, substrate_inputs(substrate, (geometries or {}).get(substrate.name, (None,))[0]), base, solvent,
+        versions)}) for job, (substrate, base) in zip(done, outcome.jobs)]
+    molecules = [m for job in done for m in job.molecules]
+    return (run_document(config, provenance(config, command_line, versions), keyed, molecules,
+                         engine.stats.hot_points), files)
