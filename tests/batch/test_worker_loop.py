@@ -65,46 +65,42 @@ def test_execute_reports_a_bug_with_its_traceback(planned):
     assert "ZeroDivisionError" in trace
 
 
-def test_serve_over_a_pipe(planned):
+@pytest.fixture
+def worker():
+    """Return (driver's end of the Pipe, process) of a spawned worker running ``serve``; killed at the end if alive."""
     context = multiprocessing.get_context("spawn")
     parent, child = context.Pipe()
     process = context.Process(target=serve, args=(child, 1, os.getpid()), daemon=True)
     process.start()
     child.close()
-    try:
-        assert parent.poll(120), "the worker never said it was ready"
-        assert parent.recv() == ("ready", process.pid)
-        parent.send(("job", task_for(planned, "toyjobs:toy_engine")))
-        messages = []
-        while not messages or messages[-1][0] != "result":
-            assert parent.poll(300), f"no result; last messages {messages[-3:]}"
-            messages.append(parent.recv())
-        kinds = [m[0] for m in messages]
-        assert kinds[0] == "started" and set(kinds[1:-1]) == {"progress"}
-        result = messages[-1]
-        assert result[1] == planned.key and result[3] is None and result[2].job.status == "ok"
-        parent.send(("stop",))
-        process.join(30)
-        assert process.exitcode == 0
-    finally:
-        if process.is_alive():
-            process.kill()
-            process.join(5)
-        parent.close()
+    yield parent, process
+    if process.is_alive():
+        process.kill()
+        process.join(5)
+    parent.close()
 
 
-def test_serve_ends_when_the_driver_closes_its_end(planned):
-    context = multiprocessing.get_context("spawn")
-    parent, child = context.Pipe()
-    process = context.Process(target=serve, args=(child, 1, os.getpid()), daemon=True)
-    process.start()
-    child.close()
-    try:
-        assert parent.poll(120) and parent.recv()[0] == "ready"
-        parent.close()
-        process.join(30)
-        assert process.exitcode == 0
-    finally:
-        if process.is_alive():
-            process.kill()
-            process.join(5)
+def test_serve_over_a_pipe(planned, worker):
+    parent, process = worker
+    assert parent.poll(120), "the worker never said it was ready"
+    assert parent.recv() == ("ready", process.pid)
+    parent.send(("job", task_for(planned, "toyjobs:toy_engine")))
+    messages = []
+    while not messages or messages[-1][0] != "result":
+        assert parent.poll(300), f"no result; last messages {messages[-3:]}"
+        messages.append(parent.recv())
+    kinds = [m[0] for m in messages]
+    assert kinds[0] == "started" and set(kinds[1:-1]) == {"progress"}
+    result = messages[-1]
+    assert result[1] == planned.key and result[3] is None and result[2].job.status == "ok"
+    parent.send(("stop",))
+    process.join(30)
+    assert process.exitcode == 0
+
+
+def test_serve_ends_when_the_driver_closes_its_end(worker):
+    parent, process = worker
+    assert parent.poll(120) and parent.recv()[0] == "ready"
+    parent.close()
+    process.join(30)
+    assert process.exitcode == 0
