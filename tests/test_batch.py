@@ -22,8 +22,12 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from elimscan.batch.driver import (BatchOptions, FolderLock, files_intact, lock_holder, plan_batch, read_status,
-                                   read_substrate_file, run_batch)
+from elimscan.batch.driver import BatchOptions, run_batch
+from elimscan.batch.inputs import read_substrate_file
+from elimscan.batch.jobfiles import files_intact
+from elimscan.batch.lock import FolderLock, lock_holder
+from elimscan.batch.plan import plan_batch
+from elimscan.batch.status import read_status
 from elimscan.pipeline.document import job_key
 from elimscan.config import parse_config
 from elimscan.engines.xtb import CacheStats
@@ -290,7 +294,7 @@ def test_store_counts_a_job_only_once_its_row_is_committed(tmp_path):
 
 
 def test_files_are_checked_against_their_checksums(tmp_path):
-    from elimscan.batch.driver import write_file_atomic
+    from elimscan.batch.jobfiles import write_file_atomic
 
     entry = write_file_atomic(tmp_path, "jobs/a/b.xyz", b"3\nframe\n")
     files = [(entry.path, entry.sha256, entry.size_bytes)]
@@ -305,7 +309,7 @@ def test_files_are_checked_against_their_checksums(tmp_path):
 HOLD_LOCK = """
 import sys, time
 from pathlib import Path
-from elimscan.batch.driver import FolderLock
+from elimscan.batch.lock import FolderLock
 FolderLock(Path(sys.argv[1])).acquire()
 print("locked", flush=True)
 time.sleep(600)

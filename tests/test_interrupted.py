@@ -20,7 +20,8 @@ from pathlib import Path
 import pytest
 
 from elimscan.atomicio import temporary_name, write_bytes_atomic
-from elimscan.batch.driver import files_intact, lock_holder
+from elimscan.batch.jobfiles import files_intact
+from elimscan.batch.lock import lock_holder
 from elimscan.errors import ExitCode, OutputError
 from elimscan.output.files import build_report_files, validate_result_file
 from elimscan.batch.store import STORE_FILE, JobStore

@@ -298,7 +298,7 @@ def test_a_batch_carries_the_series_in_results_and_batch_json(tmp_path):
 
 
 def test_a_batch_refuses_a_series_member_that_is_nowhere(tmp_path):
-    from elimscan.batch.driver import plan_batch
+    from elimscan.batch.plan import plan_batch
 
     (tmp_path / "more.csv").write_text("name,smiles\nOMe,COc1ccc(CCCl)cc1\nCl,Clc1ccc(CCCl)cc1\n")
     (tmp_path / "batch.yaml").write_text(TINY_BATCH)
@@ -310,7 +310,7 @@ def test_a_batch_refuses_a_series_member_that_is_nowhere(tmp_path):
 
 def test_a_series_leaves_the_batch_job_keys_alone(tmp_path):
     # the series only reads finished jobs: adding one must not make a finished batch recompute anything
-    from elimscan.batch.driver import plan_batch
+    from elimscan.batch.plan import plan_batch
 
     (tmp_path / "more.csv").write_text("name,smiles\nOMe,COc1ccc(CCCl)cc1\nCl,Clc1ccc(CCCl)cc1\nCF3,FC(F)(F)c1ccc(CCCl)cc1\n")
     (tmp_path / "batch.yaml").write_text(TINY_BATCH)

@@ -6,7 +6,7 @@ import textwrap
 
 import pytest
 
-from elimscan.batch.driver import plan_batch
+from elimscan.batch.plan import plan_batch
 from elimscan.cli import main
 from elimscan.config import parse_config
 
@@ -57,7 +57,7 @@ def test_the_modelled_charge_of_a_base_counts_its_counter_ion(counter_ion, charg
                                      "{model: none}"])
 def test_run_and_batch_label_the_method_alike(tmp_path, solvent):
     # Before the fix the batch wrote 'DIELECTRIC(ethanol)' where `run` wrote 'ddX-CPCM(ethanol, ε 24.852, ...)'.
-    from elimscan.batch.driver import _provenance
+    from elimscan.batch.documents import _provenance
     from elimscan.engines.xtb import EngineSettings
 
     path = tmp_path / "one.yaml"

@@ -100,7 +100,7 @@ def _located(cls, err: Exception, config_path: str, key_path: str, text: str):
 
 def _plan_batch(config, config_path: str):
     """Return the batch plan of a config; an input error naming a key gets the file and the YAML line too."""
-    from elimscan.batch.driver import plan_batch
+    from elimscan.batch.plan import plan_batch
     from elimscan.errors import InputError
 
     try:
@@ -170,7 +170,7 @@ def cmd_validate(args: argparse.Namespace) -> int:
                  plan.n_input_failures)
         return ExitCode.OK
     _check_structures(config, args.config)
-    from elimscan.batch.driver import read_geometries
+    from elimscan.batch.inputs import read_geometries
 
     read_geometries(config, Path(args.config).parent)
     log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
@@ -216,7 +216,7 @@ def cmd_run(args: argparse.Namespace) -> int:
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
     _check_structures(config, args.config)  # input errors stop the run before any calculation
-    from elimscan.batch.driver import read_geometries
+    from elimscan.batch.inputs import read_geometries
 
     geometries = read_geometries(config, Path(args.config).parent)
     out = Path(args.out)
@@ -329,7 +329,9 @@ def cmd_batch(args: argparse.Namespace) -> int:
     config = _with_engine(_read_config(args.config), args)
     if args.threads is None:  # before anything loads a backend or BLAS
         configure_threads(config.threads.per_process)
-    from elimscan.batch.driver import BatchOptions, FolderLock, LOG_FILE as BATCH_LOG, prepare_batch_folder, run_batch
+    from elimscan.batch.driver import BatchOptions, run_batch
+    from elimscan.batch.lock import FolderLock, prepare_batch_folder
+    from elimscan.batch.worker import LOG_FILE as BATCH_LOG
 
     executor = config.executor
     update = {}
@@ -398,7 +400,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
 
 def cmd_status(args: argparse.Namespace) -> int:
     """Print the state of a batch folder from its store (read-only, also while the batch runs); return the exit code."""
-    from elimscan.batch.driver import read_status
+    from elimscan.batch.status import read_status
 
     status = read_status(Path(args.out))
     if status.config_name is None:

@@ -1,6 +1,16 @@
 """Many jobs into one resumable folder: the only layer (with the command line) that writes output folders.
 
-- ``driver``: substrates files, job keys, the folder lock, the driver that writes files then store rows, documents, status
+- ``inputs``: substrates files (CSV, ``.smi``) and the geometry files a config names
+- ``plan``: ``plan_batch``: every job of a config with its key, id, single-job config and input error
+- ``lock``: the folder lock (one batch per output folder), its holder, the folder's preparation
+- ``jobfiles``: a finished job's files moved into its folder, written atomically, checked by checksum
+- ``documents``: ``results.json`` and ``batch.json`` assembled from the store's rows
+- ``status``: the read-only status of a batch folder and the time estimate
+- ``driver``: ``run_batch``: the loop that writes each finished job's files, then its store row
 - ``store``: the SQLite store of finished jobs, file checksums, runs and job starts
-- ``workers``: local worker processes and Dask tasks that run ``pipeline.jobs.run_job``
+- ``executors``: the ``Executor`` contract and the registry by ``executor.kind``
+- ``events``: what executors report (``Started``, ``Progress``, ``Done``) and the time-limit errors
+- ``worker``: what runs inside a worker process (``serve``: one job at a time through ``pipeline.jobs.run_job``)
+- ``local``: ``LocalExecutor``: worker processes on this machine
+- ``dasktasks``: ``DaskExecutor``: one supervised job process per Dask task on an existing cluster
 """

@@ -1,0 +1,86 @@
+"""The batch folder's lock: one batch at a time per output folder (an OS lock the kernel drops when its process dies).
+
+Also the folder's preparation: a batch refuses a folder that holds the result of ``elimscan run``.
+"""
+
+from __future__ import annotations
+
+import fcntl
+import os
+import socket
+from pathlib import Path
+
+from elimscan.errors import OutputError
+from elimscan.pipeline.document import utc_now
+from elimscan.batch.documents import RESULTS_FILE
+from elimscan.batch.store import STORE_FILE
+
+LOCK_FILE = "batch.lock"
+
+
+class FolderLock:
+    """An exclusive OS lock (fcntl.flock) on OUT/batch.lock, held while a batch runs; the OS drops it when the process dies."""
+
+    def __init__(self, out: Path):
+        self.path = Path(out) / LOCK_FILE
+        self._fd: int | None = None
+
+    def acquire(self) -> "FolderLock":
+        """Take the lock or raise OutputError naming the batch that holds it; return self."""
+        try:
+            fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o644)
+        except OSError as err:
+            raise OutputError(f"cannot create the lock file '{self.path}': {err.strerror or err}") from err
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except BlockingIOError:
+            holder = os.pread(fd, 4096, 0).decode("utf-8", "replace").strip() or "unknown process"
+            os.close(fd)
+            raise OutputError(f"output folder '{self.path.parent}' is in use by another elimscan batch ({holder}); "
+                              f"wait for it to finish, or follow it with: elimscan status {self.path.parent}") from None
+        os.ftruncate(fd, 0)
+        os.pwrite(fd, f"pid {os.getpid()} on {socket.gethostname()}, started {utc_now()}\n".encode(), 0)
+        self._fd = fd
+        return self
+
+    def release(self) -> None:
+        """Release the lock (the file stays; a stale file without a lock means nothing)."""
+        if self._fd is not None:
+            fcntl.flock(self._fd, fcntl.LOCK_UN)
+            os.close(self._fd)
+            self._fd = None
+
+    def __enter__(self) -> "FolderLock":
+        return self.acquire()
+
+    def __exit__(self, *exc) -> None:
+        self.release()
+
+
+def lock_holder(out: Path) -> str | None:
+    """Return who holds the batch lock of ``out`` (pid, host, start), or None when no batch runs there."""
+    path = Path(out) / LOCK_FILE
+    try:
+        fd = os.open(path, os.O_RDONLY)
+    except OSError:
+        return None
+    try:
+        fcntl.flock(fd, fcntl.LOCK_SH | fcntl.LOCK_NB)
+    except BlockingIOError:
+        return os.pread(fd, 4096, 0).decode("utf-8", "replace").strip() or "unknown process"
+    else:
+        fcntl.flock(fd, fcntl.LOCK_UN)
+        return None
+    finally:
+        os.close(fd)
+
+
+def prepare_batch_folder(out: Path) -> None:
+    """Create the output folder; refuse one that holds the result of ``elimscan run`` (raise OutputError)."""
+    if (out / RESULTS_FILE).exists() and not (out / STORE_FILE).exists():
+        raise OutputError(f"output folder '{out}' holds the result of 'elimscan run' ({RESULTS_FILE} without a batch "
+                          f"store): a batch needs a folder of its own; choose another --out")
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as err:
+        raise OutputError(f"cannot create output folder '{out}': {err.strerror or err}") from err

@@ -1,0 +1,197 @@
+"""Planning a batch: every job of a config (substrate x base x solvent) with its key, id, single-job config and input error.
+
+A job's key is a SHA-256 of its inputs and of every setting and library version that changes its numbers
+(``pipeline.document.job_key``); the driver skips the keys its store already holds.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+from elimscan.errors import ConfigError, StructureError
+from elimscan.versions import numeric_versions
+from elimscan.results.records import ErrorInfo
+from elimscan.pipeline.document import canonical_solvent, job_inputs, job_key, solvent_label
+from elimscan.batch.inputs import SubstrateRow, read_geometries, read_substrate_file
+
+
+@dataclass(frozen=True)
+class PlannedJob:
+    """One job of a batch: its key and id, inputs, the single-job config, and an input error if it cannot run."""
+
+    key: str
+    job_id: str
+    substrate_name: str
+    substrate_smiles: str
+    base: BaseConfig
+    solvent: SolventConfig
+    source: str
+    config: RunConfig | None = None
+    substrate: SubstrateConfig | None = None
+    geometry: tuple[str, str] | None = None
+    input_error: ErrorInfo | None = None
+
+    @property
+    def folder(self) -> str:
+        """Return the folder of this job's files, relative to the output folder (one per key)."""
+        return f"jobs/{self.job_id}/{self.key[:12]}"
+
+
+@dataclass(frozen=True)
+class BatchPlan:
+    """The jobs of a batch config, the config with file rows merged in, and the substrates file's checksum."""
+
+    config: RunConfig
+    jobs: tuple[PlannedJob, ...]
+    substrates_file: str | None
+    substrates_file_sha256: str | None
+    versions: dict[str, str]
+
+    @property
+    def n_input_failures(self) -> int:
+        """Return the number of jobs that fail on their input (no worker runs them)."""
+        return sum(job.input_error is not None for job in self.jobs)
+
+
+def _substrate_problem(smiles: str, charge: int | None, multiplicity: int, what: str,
+                       seed: int | None = None, full: bool = True) -> tuple[int | None, str | None]:
+    """Return (total charge, None) when a molecule is usable, else (None, the problem naming it).
+
+    With a ``seed`` the molecule is a substrate and is perceived (leaving group, beta H; in full, or with
+    ``full=False`` by its graph only, for file rows); without, a base (it needs a basic atom).
+    """
+    from elimscan.chem.inputcheck import check_base, check_substrate
+
+    try:
+        if seed is None:
+            total = check_base(smiles, charge, multiplicity, what)
+        else:
+            total = check_substrate(smiles, charge, multiplicity, what, seed, full)
+    except StructureError as err:
+        return None, str(err)
+    return total, None
+
+
+def _same_molecule_problem(name: str, smiles: str, base: BaseConfig, row: "SubstrateRow | None") -> str | None:
+    """Return why a job whose base is its own substrate cannot run (naming the file row), or None."""
+    from elimscan.chem.inputcheck import check_pair
+
+    try:
+        check_pair(name, smiles, base.name, base.smiles)
+    except StructureError as err:
+        return f"{row.source}: {err}" if row else str(err)
+    return None
+
+
+def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
+    """Return the planned jobs of a batch config; read its substrates file and geometry files (relative to the config).
+
+    Bad SMILES or charges in the YAML raise ConfigError/StructureError (nothing is computed); a bad row of
+    the substrates file only fails its own jobs.
+    """
+    from elimscan.chem.inputcheck import gas_phase_ion_problem, modelled_charge
+    from elimscan.pipeline.compute import safe_name
+
+    folder = Path(config_path).parent
+    versions = numeric_versions(config.method.backend)
+    rows: list[SubstrateRow] = []
+    file_sha = None
+    if config.substrates_file is not None:
+        path = Path(config.substrates_file)
+        path = path if path.is_absolute() else folder / path
+        rows, file_sha = read_substrate_file(path, config.substrates_file)
+    # the YAML's molecules must be usable, as for 'run'; file rows fail on their own
+    charges: dict[str, int] = {}
+    for role, items in (("substrate", config.substrates), ("base", config.bases)):
+        for index, item in enumerate(items):
+            total, problem = _substrate_problem(item.smiles, item.charge, item.multiplicity, f"{role} '{item.name}'",
+                                                config.seed if role == "substrate" else None)
+            if problem is not None:
+                raise StructureError(problem, key_path=f"{role}s.{index}.smiles")
+            charges[f"{role} '{item.name}'"] = (total if role == "substrate"
+                                                else modelled_charge(total, item.model.counter_ion))
+    names = {s.name: "in the config" for s in config.substrates}
+    merged: list[SubstrateConfig] = list(config.substrates)
+    row_of: dict[str, SubstrateRow] = {}
+    for row in rows:
+        duplicate = row.name in names
+        if duplicate:  # the row fails under a name of its own; the first use keeps its jobs
+            row = replace(row, name=f"{row.name}@line{row.line}",
+                          problem=f"{row.source}: substrate name '{row.name}' is already used ({names[row.name]})")
+        elif row.problem is None:
+            total, problem = _substrate_problem(row.smiles, row.charge, row.multiplicity, f"substrate '{row.name}'",
+                                                config.seed, full=False)
+            if problem is not None:
+                row = replace(row, problem=f"{row.source}: {problem}")
+            else:
+                charges[f"substrate '{row.name}'"] = total
+        names[row.name] = f"on {row.source}"
+        row_of[row.name] = row
+        if row.name and row.smiles and not duplicate:  # recorded in results.json's config, bad SMILES too
+            merged.append(SubstrateConfig(name=row.name, smiles=row.smiles, charge=row.charge,
+                                          multiplicity=row.multiplicity))
+    bases = {b.name: b for b in config.bases}
+    for index, pair in enumerate(config.pairs or ()):
+        if pair.substrate not in names:
+            raise ConfigError(f"pair names unknown substrate '{pair.substrate}' (not in the config nor in "
+                              f"'{config.substrates_file}')", key_path=f"pairs.{index}.substrate")
+    kept = {s.name for s in merged}
+    for index, item in enumerate(config.series):
+        for number, member in enumerate(item.members):
+            if member.substrate not in kept:
+                raise ConfigError(f"series '{item.name}' member {number} ('{member.substrate}'): no such substrate in "
+                                  f"the config nor a row with a SMILES in '{config.substrates_file}'",
+                                  key_path=f"series.{index}.members.{number}.substrate")
+    merged_config = RunConfig.model_validate({
+        **config.model_dump(mode="json", exclude={"substrates", "substrates_file", "pairs"}),
+        "substrates": [s.model_dump(mode="json") for s in merged],
+        "pairs": None if config.pairs is None else [p.model_dump() for p in config.pairs if p.substrate in kept]})
+    geometries = read_geometries(config, folder)
+    by_name = {s.name: s for s in merged}
+    if config.pairs:
+        pairs = [(p.substrate, bases[p.base]) for p in config.pairs]
+    else:
+        pairs = [(name, b) for name in names for b in config.bases]
+    solvents = [canonical_solvent(s, config) for s in (config.solvents or (config.method.solvent,))]
+    jobs = []
+    for name, base in pairs:
+        row = row_of.get(name)
+        substrate = by_name.get(name)
+        for solvent in solvents:
+            source = row or substrate
+            inputs = job_inputs(name, source.smiles, source.charge, source.multiplicity,
+                                geometries[name][0] if name in geometries else None)
+            key = job_key(config, inputs, base, solvent, versions)
+            job_id = f"{safe_name(name)}__{safe_name(base.name)}"
+            if config.solvents:
+                job_id += f"__{safe_name(solvent_label(solvent))}"
+            common = dict(key=key, job_id=job_id, substrate_name=name, substrate_smiles=inputs["smiles"], base=base,
+                          solvent=solvent, source=row.source if row else "config")
+            problem = row.problem if row else None
+            if problem is None:
+                problem = _same_molecule_problem(name, inputs["smiles"], base, row)
+            if problem is None:
+                problem = gas_phase_ion_problem(solvent.model, {w: q for w, q in charges.items()
+                                                               if w in (f"substrate '{name}'", f"base '{base.name}'")})
+                error_type = "config_error"
+            else:
+                error_type = "structure_error"
+            if problem is not None:
+                jobs.append(PlannedJob(**common, input_error=ErrorInfo(error_type=error_type, error_message=problem)))
+                continue
+            from elimscan.pipeline.jobs import single_job_config
+
+            jobs.append(PlannedJob(**common, substrate=substrate, geometry=geometries.get(name),
+                                   config=single_job_config(config, substrate, base, solvent)))
+    seen: dict[str, PlannedJob] = {}
+    for job in jobs:
+        if job.job_id in seen:
+            other = seen[job.job_id]
+            raise ConfigError(f"two jobs would have the id '{job.job_id}' ({other.substrate_name} + {other.base.name} "
+                              f"and {job.substrate_name} + {job.base.name}): a pair is listed twice, or two names differ "
+                              "only in characters that file names cannot hold", key_path="pairs" if config.pairs else None)
+        seen[job.job_id] = job
+    return BatchPlan(merged_config, tuple(jobs), config.substrates_file, file_sha, versions)
+
