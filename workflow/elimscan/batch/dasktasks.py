@@ -18,6 +18,7 @@ import time
 from collections.abc import Callable, Iterable
 from pathlib import Path
 
+import elimscan
 from elimscan.config import ExecutorConfig
 from elimscan.errors import ConfigError
 from elimscan.results.records import ErrorInfo
@@ -37,7 +38,7 @@ def run_supervised(task: JobTask, time_limit_s: float, threads: int,
     process is a subprocess of the interpreter, served over an inherited socket.
     """
     parent, child = multiprocessing.Pipe()
-    package_root = str(Path(__file__).resolve().parents[1])
+    package_root = str(Path(elimscan.__file__).resolve().parents[1])  # the folder that holds this elimscan
     env = dict(os.environ)
     env["PYTHONPATH"] = os.pathsep.join([package_root, *filter(None, [env.get("PYTHONPATH")])])
     configure_threads(threads, env)
