@@ -227,10 +227,11 @@ def cmd_run(args: argparse.Namespace) -> int:
 
     from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
-    from elimscan.pipeline.compute import DETAIL, run_config
+    from elimscan.pipeline.compute import run_config
     from elimscan.pipeline.document import (canonical_solvent, job_key, provenance, run_document, substrate_inputs,
                                             unique_molecules)
     from elimscan.pipeline.jobs import job_outcomes
+    from elimscan.pipeline.outcome import DETAIL
     from elimscan.versions import numeric_versions
 
     engine = make_engine(config.method)

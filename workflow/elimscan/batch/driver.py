@@ -246,7 +246,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     the substrates file only fails its own jobs.
     """
     from elimscan.chem.inputcheck import gas_phase_ion_problem, modelled_charge
-    from elimscan.pipeline.compute import safe_name
+    from elimscan.pipeline.names import safe_name
 
     folder = Path(config_path).parent
     versions = numeric_versions(config.method.backend)

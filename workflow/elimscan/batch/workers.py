@@ -61,8 +61,8 @@ class JobTask:
 def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
     """Run one job in this (worker) process; return the ('result', key, outcome, error, traceback, seconds) message."""
     from elimscan.engines.factory import make_engine
-    from elimscan.pipeline.compute import DETAIL
     from elimscan.pipeline.jobs import run_job
+    from elimscan.pipeline.outcome import DETAIL
 
     started = time.perf_counter()
     send(("started", task.key))
