@@ -18,8 +18,8 @@ configure_threads(1)
 from elimscan.chem.bases import describe_base  # noqa: E402
 from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, SubstrateConfig  # noqa: E402
 from elimscan.engines.xtb import EngineSettings, XtbEngine  # noqa: E402
-from elimscan.pipeline.compute import (DETAIL, SUBSTITUTION_KEY, BaseAnalysis, analyze_substrate,  # noqa: E402
-                               compute_job_paths, relax_molecule)
+from elimscan.pipeline.compute import analyze_substrate, compute_job_paths, relax_molecule  # noqa: E402
+from elimscan.pipeline.outcome import DETAIL, SUBSTITUTION_KEY, BaseAnalysis  # noqa: E402
 
 #: the progress message compute_job_paths sends just before the SN2 path (it is computed after every E2 path)
 SN2_MESSAGE = "backside substitution (SN2) path"

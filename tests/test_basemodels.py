@@ -104,7 +104,8 @@ def test_an_explicit_molecule_without_a_donor_hydrogen_fails_the_base_by_name():
 def _toy_run(model: dict):
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=2, saddle={"refine": False})
     config = RunConfig(substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
@@ -138,7 +139,8 @@ def test_an_ion_paired_microsolvated_methoxide_eliminates_from_chloroethane_with
     """GFN2-xTB, ALPB(methanol): Na+ -OMe with one methanol takes a proton from chloroethane, chloride leaves,
     over a verified saddle well above the reactant complex."""
     from elimscan.engines.xtb import EngineSettings, XtbEngine
-    from elimscan.pipeline.compute import compute_job_paths, relax_base, analyze_substrate, BaseAnalysis
+    from elimscan.pipeline.compute import compute_job_paths, relax_base, analyze_substrate
+    from elimscan.pipeline.outcome import BaseAnalysis
     from elimscan.config import MethodConfig, SolventConfig
     from elimscan.units import KCAL_MOL_PER_HARTREE
 
@@ -170,7 +172,8 @@ def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_repor
     from toyjobs import ToyJobEngine
 
     from elimscan.output.html.runsections import base_model_section
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
     from elimscan.results.documents import RunResult
     from elimscan.output.text import base_model_groups, base_model_table
 

@@ -33,7 +33,8 @@ def test_beta_phenyl_and_poorer_leaving_group_move_the_saddle_toward_carbanion_l
     from elimscan.config import (BaseConfig, ConformerConfig, MethodConfig, PathConfig, RunConfig, SolventConfig,
                                  SubstrateConfig)
     from elimscan.engines.xtb import EngineSettings, XtbEngine
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
 
     config = RunConfig(
         method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),

@@ -83,7 +83,9 @@ def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
     # methyl-bearing carbon is never anti-periplanar to Cl, so only 3-methylcyclohexene forms.
     from elimscan.engines.xtb import EngineSettings, XtbEngine
     from elimscan.chem.bases import describe_base
-    from elimscan.pipeline.compute import BaseAnalysis, RunOutcome, analyze_substrate, job_record, relax_molecule
+    from elimscan.pipeline.compute import analyze_substrate, relax_molecule
+    from elimscan.pipeline.jobs import job_record
+    from elimscan.pipeline.outcome import BaseAnalysis, RunOutcome
 
     smiles = "C[C@@H]1CCCC[C@H]1Cl"
     config = RunConfig(substrates=(SubstrateConfig(name="t2m", smiles=smiles),),

@@ -90,7 +90,8 @@ def test_missing_pyscf_skips_the_tier_and_the_job_stays_ok(monkeypatch):
     """Whole job on the toy engine with the tier on and PySCF hidden: recorded as skipped, with the install hint."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
     from elimscan.results.records import JobRecord
 
     for name in ("pyscf", "pyscf.dft", "pyscf.solvent", "pyscf.dispersion"):
@@ -116,7 +117,8 @@ def test_tier_records_on_the_toy_engine_with_scripted_single_points(monkeypatch)
 
     import elimscan.engines.dft as dft
     from elimscan.errors import DftError
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
     from elimscan.results.records import JobRecord
 
     calls: list[str] = []

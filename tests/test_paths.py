@@ -210,7 +210,8 @@ def methanol_run():
 
 
 def _c3_paths(smiles, config, engine, approaches):
-    from elimscan.pipeline.compute import BaseAnalysis, analyze_substrate, compute_job_paths, relax_molecule
+    from elimscan.pipeline.compute import analyze_substrate, compute_job_paths, relax_molecule
+    from elimscan.pipeline.outcome import BaseAnalysis
     from elimscan.chem.bases import describe_base
 
     item = SubstrateConfig(name=smiles, smiles=smiles)
@@ -373,7 +374,8 @@ def test_path_starts_each_give_a_path_and_the_record_reports_their_spread():
     """Whole job on the toy engine: k backbone starts x 2 orientations -> 2k paths, Boltzmann-combined, spread."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=3, base_rotations=2, backbone_conformers=3,
                        backbone_window_kcal_mol=50.0, orientation_paths=2, combine="boltzmann", saddle={"refine": False})

@@ -137,7 +137,8 @@ def test_hammett_rho_of_2_arylethyl_bromides_is_positive():
     from elimscan.config import (BaseConfig, MethodConfig, PathConfig, RunConfig, SaddleConfig, SeriesConfig,
                                  SeriesMemberConfig, SolventConfig, SubstrateConfig)
     from elimscan.engines.xtb import EngineSettings, XtbEngine
-    from elimscan.pipeline.compute import job_record, run_config
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.jobs import job_record
     from elimscan.analysis.series import series_records
 
     sigma_p = {"COc1ccc(CCBr)cc1": -0.27, "BrCCc1ccccc1": 0.0, "Clc1ccc(CCBr)cc1": 0.23, "FC(F)(F)c1ccc(CCBr)cc1": 0.54}

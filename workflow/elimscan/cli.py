@@ -227,8 +227,8 @@ def cmd_run(args: argparse.Namespace) -> int:
 
     from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
-    from elimscan.pipeline.compute import DETAIL
     from elimscan.pipeline.jobs import compute_run
+    from elimscan.pipeline.outcome import DETAIL
 
     engine = make_engine(config.method)
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)

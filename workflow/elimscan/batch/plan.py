@@ -92,7 +92,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     the substrates file only fails its own jobs.
     """
     from elimscan.chem.inputcheck import gas_phase_ion_problem, modelled_charge
-    from elimscan.pipeline.compute import safe_name
+    from elimscan.pipeline.names import job_id_of, safe_name
 
     folder = Path(config_path).parent
     versions = numeric_versions(config.method.backend)
@@ -164,7 +164,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             inputs = job_inputs(name, source.smiles, source.charge, source.multiplicity,
                                 geometries[name][0] if name in geometries else None)
             key = job_key(config, inputs, base, solvent, versions)
-            job_id = f"{safe_name(name)}__{safe_name(base.name)}"
+            job_id = job_id_of(name, base.name)
             if config.solvents:
                 job_id += f"__{safe_name(solvent_label(solvent))}"
             common = dict(key=key, job_id=job_id, substrate_name=name, substrate_smiles=inputs["smiles"], base=base,

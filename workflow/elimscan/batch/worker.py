@@ -47,7 +47,7 @@ class JobTask:
 def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
     """Run one job in this (worker) process; return the ('result', key, outcome, error, traceback, seconds) message."""
     from elimscan.engines.factory import make_engine
-    from elimscan.pipeline.compute import DETAIL
+    from elimscan.pipeline.outcome import DETAIL
     from elimscan.pipeline.jobs import run_job
 
     started = time.perf_counter()

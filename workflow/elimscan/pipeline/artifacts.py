@@ -57,7 +57,7 @@ def conformer_sdf(name: str, analysis, method_label: str) -> bytes:
 
 def substrate_files(name: str, analysis, method_label: str) -> Files:
     """Return a substrate's conformer SDF and one XYZ trajectory per dihedral scan."""
-    from elimscan.pipeline.compute import conformer_file_name, scan_file_name
+    from elimscan.pipeline.names import conformer_file_name, scan_file_name
 
     files = {conformer_file_name(name): conformer_sdf(name, analysis, method_label)}
     for c in analysis.classes:
@@ -75,7 +75,7 @@ def substrate_files(name: str, analysis, method_label: str) -> Files:
 
 def base_file(name: str, relaxed, method_label: str) -> tuple[str, bytes] | None:
     """Return (relative path, XYZ) of a relaxed base, or None when it failed."""
-    from elimscan.pipeline.compute import safe_name
+    from elimscan.pipeline.names import safe_name
 
     if relaxed.atoms is None:
         return None

@@ -10,9 +10,11 @@ from dataclasses import dataclass
 
 from elimscan.pipeline import artifacts
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
-from elimscan.pipeline.compute import (ProgressCallback, RunOutcome, job_record, run_config,
-                                       substrate_molecule_record)
+from elimscan.pipeline.assemble import failed_job_record, pack_job, substrate_molecule_record, with_dft
+from elimscan.pipeline.compute import run_config
 from elimscan.pipeline.document import canonical_solvent, job_key, provenance, run_document, substrate_inputs
+from elimscan.pipeline.energetics import job_numbers
+from elimscan.pipeline.outcome import ProgressCallback, RunOutcome
 from elimscan.results.documents import RunResult
 from elimscan.results.records import JobRecord, MoleculeRecord
 from elimscan.versions import numeric_versions
@@ -37,6 +39,21 @@ def single_job_config(config: RunConfig, substrate: SubstrateConfig, base: BaseC
     if solvent is not None:
         update["method"] = config.method.model_copy(update={"solvent": solvent})
     return config.model_copy(update=update)
+
+
+def job_record(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, outcome: RunOutcome, config: RunConfig) -> JobRecord:
+    """Return the record of one job: beta-H classes, products and the rule's verdict, or its failure.
+
+    Its numbers are computed first (``energetics.job_numbers``), then packed (``assemble``) with the DFT tier.
+    """
+    analysis, base = outcome.substrates[substrate_cfg.name], outcome.bases[base_cfg.name]
+    failed = failed_job_record(substrate_cfg, base_cfg, analysis, base)
+    if failed is not None:
+        return failed
+    paths = outcome.paths.get((substrate_cfg.name, base_cfg.name), {})
+    numbers = job_numbers(analysis, base, base_cfg, paths, config)
+    return with_dft(pack_job(substrate_cfg, base_cfg, analysis, base, paths, numbers, config),
+                    outcome.dft.get((substrate_cfg.name, base_cfg.name)), config)
 
 
 def job_outcomes(config: RunConfig, outcome: RunOutcome, method_label: str,
