@@ -4,7 +4,7 @@ Model ``dielectric`` covers solvents with no ALPB parameters (tert-butanol, 2-pr
 dielectric constant alone (``DIELECTRIC_SOLVENTS``, tblite only).
 
 The tables were measured on the pinned versions (tblite 0.8.0, xtb-python 22.1) by asking each
-backend for every name; they are checked again by tests/test_engine_xtb.py. They exist because
+backend for every name; they are checked again by tests/engines/test_engine_xtb.py. They exist because
 xtb-python's ASE calculator silently returns gas-phase energies for a solvent name it does not know.
 """
 
@@ -28,7 +28,7 @@ _MN = ("Minnesota Solvent Descriptor Database (Winget, Dolney, Giesen, Cramer & 
 #: Solvents for the dielectric-only continuum (model ``dielectric``): no parametrised ALPB exists for them.
 #: The model is tblite's ddX conductor-like PCM at this ε (engine.DIELECTRIC_INTERACTION), with no
 #: cavity-dispersion-solvent-structure term and no empirical shift, so its energies are not comparable
-#: with a named ALPB solvent's; compare relative barriers only. tests/test_engine_xtb.py checks the values
+#: with a named ALPB solvent's; compare relative barriers only. tests/engines/test_engine_xtb.py checks the values
 #: against PySCF's copy of the database.
 DIELECTRIC_SOLVENTS: dict[str, Dielectric] = {
     "tert-butanol": Dielectric(12.47, _MN),

@@ -3,7 +3,7 @@
 This module reads (never writes): :func:`build_report_files` returns {relative path: bytes} for
 ``summary.csv``, ``report.html`` and ``plots/*.png``, and the CLI writes them. :func:`validate_result_file`
 checks any result JSON against the JSON Schema exported by ``results/schema.py`` (the committed
-``results-schema/`` files equal that export, which ``tests/test_schema.py`` enforces).
+``results-schema/`` files equal that export, which ``tests/results/test_schema.py`` enforces).
 """
 
 from __future__ import annotations

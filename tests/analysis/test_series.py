@@ -6,7 +6,7 @@ sigma_p values (Hansch, Leo & Taft, Chem. Rev. 1991, 91, 165, from memory), the 
 2-arylethyl bromide E2 (DePuy & Bishop, J. Am. Chem. Soc. 1960, 82, 2532, from memory), an independent
 least-squares fit (scipy.stats.linregress) with CODATA constants from scipy.constants, jsonschema for the
 result file, and the PNG signature. The GFN2-xTB sign of rho is checked in
-tests/test_thermo.py::test_hammett_rho_of_2_arylethyl_bromides_is_positive.
+tests/analysis/test_thermo.py::test_hammett_rho_of_2_arylethyl_bromides_is_positive.
 """
 
 from __future__ import annotations
@@ -32,7 +32,7 @@ from elimscan.output.text import summary_table
 from elimscan.output.files import build_report_files, validate_result_file
 from elimscan.analysis.series import lowest_e2_barrier, series_records
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 FIXTURE = ROOT / "tests" / "data" / "report-fixture" / "primary" / "results.json"
 #: sigma_p (Hansch, Leo & Taft, Chem. Rev. 1991, 91, 165; from memory)
 SIGMA_P = {"OMe": -0.27, "H": 0.00, "Cl": 0.23, "CF3": 0.54, "NO2": 0.78}
@@ -247,7 +247,7 @@ def test_demo_config_carries_the_published_sigma_values():
     assert [(s.name, b.name) for s, b in config.jobs()] == [(m.substrate, "ethoxide") for m in series.members]
 
 
-#: tiny batch settings (as in tests/test_batch.py): the numbers are not compared with chemistry here
+#: tiny batch settings (as in tests/batch/test_batch.py): the numbers are not compared with chemistry here
 TINY_BATCH = """\
 name: series-batch
 optimizer: {name: bfgs, fmax_eV_per_A: 0.05}

@@ -139,7 +139,7 @@ def test_a_scan_point_below_every_conformer_is_reported(tmp_path, capsys, monkey
 
 
 def test_charged_reactants_in_the_dielectric_only_continuum_carry_its_warning(tmp_path, capsys, monkeypatch):
-    # The limits measured against ALPB (tests/test_engine_xtb.py, strict expected failures) travel with the job.
+    # The limits measured against ALPB (tests/engines/test_engine_xtb.py, strict expected failures) travel with the job.
     text = CONFIG + "method: {solvent: {model: dielectric, name: tert-butanol}}\n"
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, text)
     assert code == ExitCode.OK, err

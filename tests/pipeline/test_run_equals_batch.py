@@ -11,8 +11,8 @@ from pathlib import Path
 
 from toyjobs import TOY_SETTINGS, without_timings
 
-ROOT = Path(__file__).resolve().parents[1]
-TESTS = Path(__file__).resolve().parent
+ROOT = Path(__file__).resolve().parents[2]
+TESTS = Path(__file__).resolve().parents[1]
 CONFIG = TOY_SETTINGS + """\
 name: one-job
 substrates:

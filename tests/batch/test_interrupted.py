@@ -27,8 +27,8 @@ from elimscan.output.files import build_report_files, validate_result_file
 from elimscan.batch.store import STORE_FILE, JobStore
 from toyjobs import TOY_SETTINGS, without_timings
 
-ROOT = Path(__file__).resolve().parents[1]
-TESTS = Path(__file__).resolve().parent
+ROOT = Path(__file__).resolve().parents[2]
+TESTS = Path(__file__).resolve().parents[1]
 
 CONFIG = TOY_SETTINGS + """\
 name: interrupted

@@ -23,8 +23,8 @@ from elimscan.errors import ExitCode
 from elimscan.batch.store import STORE_FILE
 from toyjobs import TOY_SETTINGS, without_timings
 
-ROOT = Path(__file__).resolve().parents[1]
-TESTS = Path(__file__).resolve().parent
+ROOT = Path(__file__).resolve().parents[2]
+TESTS = Path(__file__).resolve().parents[1]
 
 CONFIG = TOY_SETTINGS + """\
 name: lost-worker

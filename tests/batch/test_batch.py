@@ -35,7 +35,7 @@ from elimscan.errors import ConfigError, EngineError, ExitCode, OutputError, Str
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from toyjobs import TOY_SETTINGS, without_timings
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 RESULT_SCHEMA = json.loads((ROOT / "results-schema" / "result.schema.json").read_text())
 BATCH_SCHEMA = json.loads((ROOT / "results-schema" / "batch.schema.json").read_text())
 

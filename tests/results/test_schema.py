@@ -10,7 +10,7 @@ import pytest
 
 from elimscan.results.schema import SCHEMA_MODELS, schema_text
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 
 @pytest.mark.parametrize("file_name", sorted(SCHEMA_MODELS))
