@@ -68,6 +68,8 @@ def _install_starting_geometry_jitter(amplitude_A: float, seed: int = SEED) -> N
         return atoms
 
     for info in pkgutil.walk_packages(elimscan.__path__, "elimscan."):
+        if info.name.endswith("__main__"):  # importing it would run the command line
+            continue
         module = importlib.import_module(info.name)
         for name, value in list(vars(module).items()):
             if value is original:
