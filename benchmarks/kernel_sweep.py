@@ -46,10 +46,11 @@ def variant_env(variant: str, jitter_A: float) -> dict[str, str]:
 
 
 def outcomes(xml_path: Path) -> dict[str, str]:
-    """Return {test id: 'passed' | 'failed' | 'skipped' | 'xfailed' | 'xpassed'} from a JUnit XML file."""
+    """Return {'test_file::test': 'passed' | 'failed' | 'skipped' | 'xfailed'} from a JUnit XML file."""
     result = {}
     for case in ET.parse(xml_path).getroot().iter("testcase"):
-        name = f"{case.get('classname')}::{case.get('name')}"
+        # keyed by the test file's own name, so that moving a file between test folders is not a change
+        name = f"{case.get('classname').rsplit('.', 1)[-1]}::{case.get('name')}"
         kinds = {child.tag for child in case}
         if "failure" in kinds or "error" in kinds:
             result[name] = "failed"

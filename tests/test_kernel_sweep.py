@@ -11,7 +11,7 @@ sweep = importlib.util.module_from_spec(spec)
 spec.loader.exec_module(sweep)
 
 JUNIT = """<?xml version="1.0" encoding="utf-8"?><testsuites><testsuite name="pytest">
-<testcase classname="tests.test_a" name="test_ok" time="1.0"/>
+<testcase classname="tests.drivers.test_a" name="test_ok" time="1.0"/>
 <testcase classname="tests.test_a" name="test_bad" time="1.0"><failure message="assert 20 &lt; 20">x</failure></testcase>
 <testcase classname="tests.test_b" name="test_known" time="1.0"><skipped type="pytest.xfail" message="measured 4.4"/></testcase>
 <testcase classname="tests.test_b" name="test_gone" time="0.0"><skipped type="pytest.skip" message="no chromium"/></testcase>
@@ -21,8 +21,9 @@ JUNIT = """<?xml version="1.0" encoding="utf-8"?><testsuites><testsuite name="py
 def test_junit_outcomes_are_read_per_test(tmp_path):
     xml = tmp_path / "own.xml"
     xml.write_text(JUNIT)
-    assert sweep.outcomes(xml) == {"tests.test_a::test_ok": "passed", "tests.test_a::test_bad": "failed",
-                                   "tests.test_b::test_known": "xfailed", "tests.test_b::test_gone": "skipped"}
+    # keyed by the file's own name: tests.drivers.test_a and tests.test_a are the same test after a move
+    assert sweep.outcomes(xml) == {"test_a::test_ok": "passed", "test_a::test_bad": "failed",
+                                   "test_b::test_known": "xfailed", "test_b::test_gone": "skipped"}
 
 
 def test_a_demo_comparison_reports_the_largest_moves_and_a_flipped_call():
