@@ -112,3 +112,25 @@ def test_csv_free_barrier_and_elimination_columns_match_the_json(run):
         assert row["elimination_fraction"] == ("" if not sub else f"{sub['elimination_fraction']:.4f}")
     if run == PRIMARY:
         assert all(r["lowest_free_barrier_kcal_mol"] and r["elimination_fraction"] for r in rows)
+
+
+@pytest.mark.parametrize("text, expected", [
+    ("=HYPERLINK(\"http://example.org\")", "'=HYPERLINK(\"http://example.org\")"),
+    ("+cmd", "'+cmd"), ("-2+3", "'-2+3"), ("@SUM(A1)", "'@SUM(A1)"), ("\tx", "'\tx"),
+    ("-3.2500", "-3.2500"), ("+1", "+1"), ("1e-3", "1e-3"), ("ethoxide", "ethoxide"), ("", ""),
+])
+def test_cells_that_start_like_a_formula_are_neutralised_and_numbers_are_not(text, expected):
+    # common practice (OWASP, "CSV injection"): a cell starting with = + - @ tab or CR gets a leading quote
+    from elimscan.output.tables import neutral_cell
+    assert neutral_cell(text) == expected
+
+
+def test_a_user_name_that_looks_like_a_formula_reaches_summary_csv_neutralised():
+    doc = raw(PRIMARY)
+    hostile = "=HYPERLINK(\"http://example.org\",\"open\")"
+    doc["jobs"][0]["substrate"] = hostile
+    rows = list(csv.DictReader(io.StringIO(summary_csv(RunResult.model_validate(doc)))))
+    first = [r for r in rows if r["job_id"] == doc["jobs"][0]["job_id"]]
+    assert first and all(r["substrate"] == "'" + hostile for r in first)
+    numbers = [r["lowest_barrier_kcal_mol"] for r in rows if r["lowest_barrier_kcal_mol"]]
+    assert numbers and all(float(n) == float(n.lstrip("'")) and not n.startswith("'") for n in numbers)

@@ -215,12 +215,30 @@ def series_rows(result: RunResult) -> list[dict[str, str]]:
     return rows
 
 
+#: First characters with which a spreadsheet reads a cell as a formula (OWASP "CSV injection"; common practice)
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def neutral_cell(text: str) -> str:
+    """Return a CSV cell a spreadsheet will not run as a formula: text starting like one gets a leading "'".
+
+    Numbers (which may start with - or +) are left as they are: a spreadsheet reads them as numbers.
+    """
+    if not text.startswith(FORMULA_STARTS):
+        return text
+    try:
+        float(text)
+    except ValueError:
+        return "'" + text
+    return text
+
+
 def _csv_text(columns: tuple[str, ...], rows: list[dict[str, str]]) -> str:
-    """Return CSV text with a header of ``columns`` and one line per row (lines end in '\\n')."""
+    """Return CSV text with a header of ``columns`` and one line per row (lines end in '\\n'), cells neutralised."""
     buffer = io.StringIO()
     writer = csv.DictWriter(buffer, fieldnames=columns, lineterminator="\n")
     writer.writeheader()
-    writer.writerows(rows)
+    writer.writerows({k: neutral_cell(v) if isinstance(v, str) else v for k, v in row.items()} for row in rows)
     return buffer.getvalue()
 
 
