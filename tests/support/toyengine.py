@@ -41,6 +41,8 @@ class SpringTorsionEngine:
     spring_eV_per_A2: float = 20.0
     torsion_barrier_eV: float = 0.005
     stats: CacheStats = field(default_factory=CacheStats)
+    #: further springs (i, j, rest length in Å) beyond those of the reference geometry
+    extra_springs: tuple[tuple[int, int, float], ...] = ()
 
     def __post_init__(self) -> None:
         bonds = _bonds(self.reference)
@@ -55,8 +57,9 @@ class SpringTorsionEngine:
                     if i < j:
                         pairs.add((i, j))
         ref = self.reference.positions
-        self._pairs = sorted(pairs)
-        self._lengths = np.array([np.linalg.norm(ref[i] - ref[j]) for i, j in self._pairs])
+        self._pairs = sorted(pairs) + [(i, j) for i, j, _ in self.extra_springs]
+        self._lengths = np.array([np.linalg.norm(ref[i] - ref[j]) for i, j in sorted(pairs)]
+                                 + [length for _, _, length in self.extra_springs])
         self._torsions = [(a, b, c, d) for b, c in bonds for a in neighbours[b] - {c} for d in neighbours[c] - {b, a}]
 
     @property

@@ -14,6 +14,7 @@ import os
 import signal
 import time
 
+import numpy as np
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.engines.xtb import CacheStats, SinglePoint
@@ -38,10 +39,51 @@ class _LazyToyCalculator(Calculator):
         super().calculate(atoms, properties or ["energy"], system_changes)
         self.owner.check(self.structure)
         if self.model is None:
-            self.model = SpringTorsionEngine(self.owner.reference(self.atoms, self.structure), stats=self.owner.stats)
+            reference = self.owner.reference(self.atoms, self.structure)
+            self.model = SpringTorsionEngine(reference, stats=self.owner.stats,
+                                             extra_springs=reference.info.get("toy_springs", ()))
         energy, forces = self.model.energy_forces(self.atoms.positions)
         energy += self.owner.offset_eV(self.structure)
         self.results = {"energy": energy, "free_energy": energy, "forces": forces}
+
+
+_HALOGENS = ("F", "Cl", "Br", "I")
+
+
+def _move_to(positions, anchor: int, moved: int, distance_A: float) -> None:
+    """Put atom ``moved`` at ``distance_A`` from ``anchor`` along their present direction (in place)."""
+    vector = positions[moved] - positions[anchor]
+    positions[moved] = positions[anchor] + distance_A * vector / max(float(np.linalg.norm(vector)), 1e-6)
+
+
+def _products_of(atoms, substitution: bool):
+    """Return a copy of a path's end with its reaction completed: X 3.5 Å from C-alpha, and the nearest
+    carbon-bound H on the base's O/N at 1.0 Å (E2) or the base's O/N on C-alpha at 1.45 Å (SN2).
+
+    The toy model's minimum is the geometry it is built on, so an end relaxed in this model goes downhill
+    to its products, as a real path end past its saddle does; the toy has no chemistry to find them itself.
+    """
+    out = atoms.copy()
+    pos, symbols = out.positions, out.get_chemical_symbols()
+    carbons = [i for i, s in enumerate(symbols) if s == "C"]
+    pairs = [(float(np.linalg.norm(pos[x] - pos[c])), x, c) for x in range(len(out)) if symbols[x] in _HALOGENS
+             for c in carbons]
+    if not pairs:
+        return out
+    _, x, c_alpha = min(pairs)
+    donors = [i for i, s in enumerate(symbols) if s in ("O", "N")]
+    if substitution and donors:
+        nu = min(donors, key=lambda i: np.linalg.norm(pos[i] - pos[c_alpha]))
+        _move_to(pos, c_alpha, nu, 1.45)
+    elif donors:
+        hydrogens = [h for h, s in enumerate(symbols) if s == "H"
+                     and min(np.linalg.norm(pos[h] - pos[c]) for c in carbons) < 1.6]
+        h, base = min(((h, b) for h in hydrogens for b in donors), key=lambda hb: np.linalg.norm(pos[hb[0]] - pos[hb[1]]))
+        _move_to(pos, base, h, 1.0)
+    _move_to(pos, c_alpha, x, 3.5)
+    out.positions = pos
+    out.info["toy_springs"] = ((c_alpha, x, 3.5),)  # X is bonded to nothing in the products: this pulls it off
+    return out
 
 
 class ToyJobEngine:
@@ -59,8 +101,11 @@ class ToyJobEngine:
         self.lower_on, self.lower_kcal_mol = lower_on, lower_kcal_mol
 
     def reference(self, atoms, name: str = ""):
-        """Return the geometry a new toy model is built on: ``atoms`` scaled about its centre by ``stretch``."""
+        """Return the geometry a new toy model is built on: ``atoms`` scaled about its centre by ``stretch``;
+        for the free relaxation of a path's end (a name ending in ' end'), the products of that path."""
         reference = atoms.copy()
+        if name.endswith(" end"):
+            return _products_of(reference, substitution=name.endswith("substitution end"))
         if self.stretch_on and self.stretch_on not in name:
             return reference
         centre = reference.positions.mean(axis=0)

@@ -16,7 +16,7 @@ from collections.abc import Sequence
 from elimscan.analysis.rule import hammett_fit
 from elimscan.config import SERIES_MIN_MEMBERS, SeriesConfig, SolventConfig
 from elimscan.results.documents import SeriesPointRecord, SeriesRecord
-from elimscan.results.records import JobRecord
+from elimscan.results.records import JobRecord, counts_as_barrier
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
 
@@ -35,7 +35,7 @@ def lowest_e2_barrier(job: JobRecord, energy: str) -> tuple[float, str, str] | N
         for name in ("anti", "syn"):
             approach = getattr(beta, name)
             value = approach.barrier_free_energy_kcal_mol if energy == "free" else approach.barrier_kcal_mol
-            if approach.path_status == "ok" and value is not None:
+            if counts_as_barrier(approach) and value is not None:
                 source = "verified saddle" if energy == "free" else (approach.barrier_source or "relaxed-path maximum")
                 found.append((value, f"{beta.class_id} {name}", source))
     return min(found, key=lambda item: item[0]) if found else None

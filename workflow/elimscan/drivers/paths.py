@@ -18,7 +18,7 @@ from ase import Atoms
 
 from elimscan.config import OptimizerConfig, PathConfig
 from elimscan.geometry import dihedral_deg, distance
-from elimscan.results.flags import UNFINISHED_ABOVE, UNFINISHED_MAXIMUM
+from elimscan.results.flags import NOT_TO_PRODUCTS, UNFINISHED_ABOVE, UNFINISHED_MAXIMUM
 from elimscan.drivers.complexes import ComplexResult, Reactive, SubstitutionReactive, build_complex, place_backside
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 from elimscan.drivers.saddles import BFGS, SaddleResult, base_h_scan_maximum, neb_climbing_image, refine_and_verify
@@ -56,6 +56,11 @@ class PathResult:
     def estimate_hartree(self) -> float:
         """Return the relaxed-path maximum (hartree)."""
         return self.points[self.maximum_index].energy_hartree
+
+    @property
+    def reaches_products(self) -> bool:
+        """Return False when the path was shown not to reach its products (its top is then no barrier)."""
+        return NOT_TO_PRODUCTS not in self.flags
 
     @property
     def top_hartree(self) -> float:
@@ -194,12 +199,10 @@ def neb_end_points(complex_: ComplexResult, points: list[PathPoint], reactive: R
     return complex_.atoms, end
 
 
-def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[PathPoint], reactive: Reactive, engine,
+def _neb_fallback(saddle: SaddleResult, ends: tuple[Atoms, Atoms] | None, reactive: Reactive, engine,
                   charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, name: str
                   ) -> SaddleResult:
     """Return the saddle refined from a CI-NEB climbing image if verified, else ``saddle`` with the reason added."""
-    ends = neb_end_points(complex_, points, reactive, engine, charge, multiplicity, optimizer, settings.saddle,
-                          name=f"{name} neb end")
     if ends is None:
         return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (),
                                                         "the path end did not relax to products",
@@ -214,6 +217,23 @@ def _neb_fallback(saddle: SaddleResult, complex_: ComplexResult, points: list[Pa
         return SaddleResult(third.atoms, third.energy_hartree, True, third.method, third.imaginary_cm1,
                             third.other_imaginary_cm1, f"{third.reason} ({note})", third.mode, third.hessian_eV_A2)
     return _keep_first_failure(saddle, third, f"a CI-NEB climbing image ({note})")
+
+
+def _unverified_end(saddle: SaddleResult, complex_: ComplexResult, points: list[PathPoint], reactive, engine,
+                    charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, name: str
+                    ) -> tuple[SaddleResult, tuple[str, ...]]:
+    """Return (saddle, flags) for a path without a verified saddle: whether its freely relaxed end reaches the
+    products (else the NOT_TO_PRODUCTS flag: the top is no barrier), then the CI-NEB fallback when it is on.
+
+    A verified saddle needs neither: its both-way check already connects it to the products.
+    """
+    if saddle.verified:
+        return saddle, ()
+    ends = neb_end_points(complex_, points, reactive, engine, charge, multiplicity, optimizer, settings.saddle,
+                          name=f"{name} end")
+    if settings.saddle.refine and settings.saddle.neb_fallback:  # last resort: a climbing-image NEB seeds Sella
+        saddle = _neb_fallback(saddle, ends, reactive, engine, charge, multiplicity, settings, optimizer, name)
+    return saddle, (() if ends is not None or saddle.verified else (NOT_TO_PRODUCTS,))
 
 
 def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
@@ -240,10 +260,9 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
                 second = refine_and_verify(guess, reactive, engine, charge, multiplicity, settings, optimizer,
                                            name=f"{name} saddle", method="sella from the base-H scan maximum")
                 saddle = _keep_first_failure(saddle, second, "the base-H scan maximum")
-        if not saddle.verified and settings.saddle.neb_fallback:  # last resort: a climbing-image NEB seeds Sella
-            saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
-                                   optimizer, name)
-    flags = complex_.failed_rotations + path_flags(points, top, reactive, other_hydrogens, syn)
+    saddle, to_products = _unverified_end(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
+                                          optimizer, name)
+    flags = complex_.failed_rotations + path_flags(points, top, reactive, other_hydrogens, syn) + to_products
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)
 
@@ -271,9 +290,8 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
         saddle = refine_from_path(points, top, reactive, engine, charge, multiplicity, settings, optimizer, name)
     else:
         saddle = SaddleResult(None, None, False, "none", None, (), "not refined")
-    if settings.saddle.refine and not saddle.verified and settings.saddle.neb_fallback:
-        saddle = _neb_fallback(saddle, complex_, points, reactive, engine, charge, multiplicity, settings, optimizer,
-                               name)
-    flags = tuple(maximum_flags(points, top))
+    saddle, to_products = _unverified_end(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
+                                          optimizer, name)
+    flags = tuple(maximum_flags(points, top)) + to_products
     return PathResult("substitution", complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)

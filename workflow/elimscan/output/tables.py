@@ -77,7 +77,7 @@ import io
 
 from elimscan.config import SolventConfig
 from elimscan.results.documents import RunResult
-from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord
+from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord, counts_as_barrier
 
 SUMMARY_COLUMNS = ("job_id", "job_status", "substrate", "substrate_smiles", "base", "base_bulky", "leaving_group",
                    "solvent_model", "solvent", "product_smiles", "substitution", "rule_call", "via_classes",
@@ -105,11 +105,12 @@ def product_anti_penalty_kcal_mol(job: JobRecord, product: ProductRecord) -> flo
 
 
 def product_paths(job: JobRecord, product: ProductRecord) -> list[tuple[BetaHydrogenRecord, str, ApproachRecord]]:
-    """Return (class, 'anti' | 'syn', approach) of every computed path (with a barrier) that gives ``product``."""
+    """Return (class, 'anti' | 'syn', approach) of every computed path with a barrier (reaching its products) that
+    gives ``product``."""
     found = []
     for beta in job.beta_hydrogens:
         for name, approach in (("anti", beta.anti), ("syn", beta.syn)):
-            if (approach.path_status == "ok" and approach.barrier_kcal_mol is not None and approach.product_possible
+            if (counts_as_barrier(approach) and approach.product_possible
                     and approach.product_smiles == product.smiles):
                 found.append((beta, name, approach))
     return found

@@ -170,20 +170,26 @@ def _substitution_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_
     path = paths.get(SUBSTITUTION_KEY)
     if path is None or isinstance(path, ErrorInfo):
         return SubstitutionNumbers(product, call, why)
+    reaches = path.reaches_products
     barrier = round((path.top_hartree - zero) * KCAL_MOL_PER_HARTREE, 3)
     free = _saddle_free_energy(path, g_zero, base, analysis, config.method.temperature_K)
     mine = free if use_free else barrier
     shares = None
-    if mine is not None and e2_barriers:
+    if mine is not None and e2_barriers and reaches:
         mix = product_fractions([*e2_barriers, PathBarrier("substitution", "backside", "SN2", mine, 1)],
                                 config.method.temperature_K)
         shares = (1.0 - mix["SN2"], mix["SN2"])
     return SubstitutionNumbers(product, call, why, barrier, free, shares)
 
 
-def _notes(analysis: SubstrateAnalysis, base: BaseAnalysis, config: RunConfig, missing_free: bool) -> tuple[str, ...]:
-    """Return the job's warnings: free energies left out of the mix, a charged dielectric job, a missed minimum."""
+def _notes(analysis: SubstrateAnalysis, base: BaseAnalysis, config: RunConfig, missing_free: bool,
+           not_to_products: int = 0) -> tuple[str, ...]:
+    """Return the job's warnings: free energies left out of the mix, paths that miss their products, a charged
+    dielectric job, a missed minimum."""
     notes: list[str] = []
+    if not_to_products:
+        notes.append(f"{not_to_products} path(s) do not reach their products (see their flags): their tops are not "
+                     "barriers and are left out of every share")
     if missing_free:
         notes.append("free-energy product mix: paths without a verified saddle have no dG and are left out")
     if config.method.solvent.model == "dielectric" and (analysis.charge or base.relaxed.record.charge):
@@ -205,6 +211,8 @@ def job_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_cfg: BaseC
     verdict = rule_verdict(facts, config.rule, base.info.bulky, lg.kind, lg.label)
     zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
     done = {key: p for key, p in paths.items() if not isinstance(p, ErrorInfo) and key != SUBSTITUTION_KEY}
+    # a path that does not reach its products has no barrier: it decides no share (it stays in its record)
+    counted = {key: p for key, p in done.items() if p.reaches_products}
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products_of = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
                    for c in analysis.classes for a in ("anti", "syn")}
@@ -214,17 +222,20 @@ def job_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_cfg: BaseC
     use_free = config.analysis.energy == "free"
     barriers = [PathBarrier(cid, a, products_of[(cid, a)],
                             free[(cid, a)] if use_free else (p.top_hartree - zero) * KCAL_MOL_PER_HARTREE, degeneracy[cid])
-                for (cid, a), p in done.items() if not use_free or free[(cid, a)] is not None]
+                for (cid, a), p in counted.items() if not use_free or free[(cid, a)] is not None]
     fractions = product_fractions(barriers, temperature)
     characters = {(c.beta_class.class_id, a): found for c in analysis.classes for a in ("anti", "syn")
                   for found in [_character(analysis, c.beta_class, paths.get((c.beta_class.class_id, a)))]
                   if found is not None}
     return JobNumbers(
-        verdict=verdict, zero_hartree=zero, lowest_top_hartree=min((p.top_hartree for p in done.values()), default=None),
+        verdict=verdict, zero_hartree=zero, lowest_top_hartree=min((p.top_hartree for p in counted.values()), default=None),
         use_free=use_free, free_kcal_mol=free, characters=characters,
         isotope_effects={c.beta_class.class_id: _isotope_effects(analysis, c.beta_class, paths, temperature)
                          for c in analysis.classes},
         fractions=fractions, ranges=fraction_ranges(barriers, temperature),
         computed=compare_verdicts(verdict.major, fractions, barriers),
         substitution=_substitution_numbers(analysis, base, base_cfg, paths, zero, g_zero, barriers, config, use_free),
-        notes=_notes(analysis, base, config, use_free and any(v is None for v in free.values())))
+        notes=_notes(analysis, base, config, use_free and any(v is None for v in free.values()),
+                     sum(not p.reaches_products for p in done.values())
+                     + int(isinstance(paths.get(SUBSTITUTION_KEY), PathResult)
+                           and not paths[SUBSTITUTION_KEY].reaches_products)))

@@ -7,3 +7,7 @@ UNFINISHED_ABOVE = "an unfinished relaxation lies above the path top and was not
 #: flag of a path whose highest point was not relaxed to the convergence limit
 UNFINISHED_MAXIMUM = ("the path maximum is an unfinished relaxation (optimizer.max_steps reached): its energy is "
                       "an upper bound")
+#: flag of a path without a verified saddle whose freely relaxed end is not the product side: its top is no
+#: barrier of this channel and is left out of every product share and of the E2 : SN2 split
+NOT_TO_PRODUCTS = ("the path does not reach its products (its freely relaxed end is not the product side): its top "
+                   "is not a barrier and is left out of every share")

@@ -146,6 +146,9 @@ class ApproachRecord(Record):
                                            "substrate global minimum + free base, same solvent")
     relative_barrier_kcal_mol: float | None = Field(None, description="above the lowest barrier of the job")
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    reaches_products: bool | None = Field(None, description="false: the path was shown not to reach its products "
+                                          "(no verified saddle, and its freely relaxed end is not the product side); "
+                                          "its top is then no barrier and decides no share; null: not computed")
     barrier_free_energy_kcal_mol: float | None = Field(None, description="dG (quasi-RRHO, 1 M, T of the run) of the "
                                                        "verified saddle above free substrate + free base")
     saddle_character: SaddleCharacterRecord | None = None
@@ -239,6 +242,9 @@ class SubstitutionRecord(Record):
     barrier_kcal_mol: float | None = Field(None, description="same zero and kind as the E2 barriers")
     barrier_free_energy_kcal_mol: float | None = None
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
+    reaches_products: bool | None = Field(None, description="false: the path was shown not to reach its products "
+                                          "(no verified saddle, and its freely relaxed end is not the product side); "
+                                          "its top is then no barrier and decides no share; null: not computed")
     saddle_verified: bool = False
     imaginary_frequency_cm1: float | None = None
     saddle_note: str | None = None
@@ -317,3 +323,9 @@ class JobRecord(Record):
         "GFN2-xTB single points of this job kept at method.retry_electronic_temperature_K because the SCF "
         "failed at the normal temperature, both first and when restarted from the retry's converged "
         "wavefunction; counted per job in batches (one engine per job), run-wide in summary.trouble otherwise"))
+
+
+def counts_as_barrier(approach: "ApproachRecord | SubstitutionRecord") -> bool:
+    """Return True when a path record holds a barrier that may decide a share (computed, reaching its products)."""
+    return (approach.path_status == "ok" and approach.barrier_kcal_mol is not None
+            and approach.reaches_products is not False)
