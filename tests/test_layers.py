@@ -2,8 +2,8 @@
 
 This replaces a hand-kept table (which drifted from the code). The order, lowest first:
 
-    foundation (elimscan/*.py) -> chem -> results -> analysis -> engines -> drivers -> pipeline -> output
-    -> batch -> cli (elimscan/cli.py, elimscan/__main__.py)
+    foundation (elimscan/*.py) -> config -> chem -> results -> analysis -> engines -> drivers -> pipeline
+    -> output -> batch -> cli (elimscan/cli/, elimscan/__main__.py)
 
 Imports inside functions count too: they are how a layer reaches down lazily, never up. The package face
 (``elimscan/__init__.py``) sits above every layer: it names the public API and loads each name lazily by its
@@ -19,7 +19,7 @@ from pathlib import Path
 import elimscan
 
 PACKAGE = Path(elimscan.__file__).resolve().parent
-ORDER = ("foundation", "chem", "results", "analysis", "engines", "drivers", "pipeline", "output", "batch", "cli")
+ORDER = ("foundation", "config", "chem", "results", "analysis", "engines", "drivers", "pipeline", "output", "batch", "cli")
 TOP_MODULES = {"cli", "__main__"}
 
 

@@ -337,7 +337,7 @@ def test_progress_is_a_live_line_on_a_terminal_and_one_line_per_job_elsewhere(ca
     import logging
 
     from elimscan.batch.driver import BatchEvent
-    from elimscan.cli import _BatchProgress
+    from elimscan.cli.progress import BatchProgress
 
     class Terminal(io.StringIO):
         def isatty(self):
@@ -348,7 +348,7 @@ def test_progress_is_a_live_line_on_a_terminal_and_one_line_per_job_elsewhere(ca
     done = BatchEvent(kind="finish", n_jobs=4, n_ok=2, n_failed=0, n_left=2, elapsed_s=40.0, eta_s=80.0,
                       job_id="a__b", status="ok", seconds=12.0)
     terminal = Terminal()
-    live = _BatchProgress(terminal)
+    live = BatchProgress(terminal)
     with caplog.at_level(logging.INFO, logger="elimscan"):
         live(step)
         live(done)
@@ -359,7 +359,7 @@ def test_progress_is_a_live_line_on_a_terminal_and_one_line_per_job_elsewhere(ca
     plain = io.StringIO()
     caplog.clear()
     with caplog.at_level(logging.INFO, logger="elimscan"):
-        quiet = _BatchProgress(plain)
+        quiet = BatchProgress(plain)
         quiet(step)
         quiet(done)
     assert plain.getvalue() == ""  # no control characters into a file or pipe

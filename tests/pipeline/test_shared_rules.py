@@ -80,3 +80,24 @@ def test_the_batch_key_versions_name_every_numeric_library_once():
     assert "pyscf" in numeric_versions("tblite", dft=True) and "pyscf" not in key
     info = environment_versions()
     assert all(info[name] == version for name, version in key.items())
+
+
+def test_the_provenance_of_a_run_document_carries_every_library_of_the_job_key(tmp_path):
+    # SciPy and Sella enter every job key and PySCF enters it with the DFT tier: results.json records them too
+    from elimscan import compute_run
+    from elimscan.batch.documents import _provenance
+    from elimscan.versions import numeric_versions
+    from toyjobs import TOY_SETTINGS, ToyJobEngine
+
+    text = TOY_SETTINGS + "substrates: [{name: 2-chloropropane, smiles: 'CC(C)Cl'}]\nbases: [{name: methoxide}]\n"
+    result, _ = compute_run(parse_config(text), ToyJobEngine())
+    key = numeric_versions("tblite")
+    origin = result.provenance
+    assert (origin.scipy_version, origin.sella_version, origin.pyscf_version) == (key["scipy"], key["sella"], None)
+    assert "not installed" not in (origin.scipy_version, origin.sella_version)
+    assert origin.backend_version == key["tblite"]
+    path = tmp_path / "dft.yaml"
+    path.write_text(text + "dft: {enabled: true}\n")
+    batch = _provenance(plan_batch(parse_config(path.read_text(), str(path)), path), "elimscan batch dft.yaml")
+    assert batch.pyscf_version == numeric_versions("tblite", dft=True)["pyscf"]
+    assert (batch.scipy_version, batch.sella_version) == (key["scipy"], key["sella"])

@@ -10,7 +10,7 @@ the thread settings can still be made before a backend loads)::
         print(job.substrate, job.base, [(p.smiles, p.fraction) for p in job.products])
 
 Layers, lowest first (each a sub-package with its own module map): foundation modules here (errors, units,
-geometry, solvents, config, versions, atomicio), ``chem``, ``results``, ``analysis``, ``engines``,
+geometry, solvents, versions, atomicio), ``config``, ``chem``, ``results``, ``analysis``, ``engines``,
 ``drivers``, ``pipeline``, ``output``, ``batch``, and ``cli``; ``tests/test_layers.py`` keeps imports
 pointing down.
 """

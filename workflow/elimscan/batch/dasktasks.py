@@ -146,6 +146,11 @@ class DaskExecutor:
         """Return the executor of a batch on the Dask scheduler at ``config.address`` (``n_tasks``, ``out``: unused)."""
         return cls(config.address, threads, config.time_limit_seconds, config.stage_time_limit_seconds)
 
+    @classmethod
+    def planned_parallel_jobs(cls, config: ExecutorConfig) -> int:
+        """Return 0: the cluster's size is known only once connected (``parallel_jobs`` asks it)."""
+        return 0
+
     @property
     def parallel_jobs(self) -> int:
         """Return how many jobs can run at once (the cluster's worker threads, asked at most every 30 s)."""

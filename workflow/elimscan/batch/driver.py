@@ -26,13 +26,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from elimscan.atomicio import remove_stale_temporaries
-from elimscan.config import ExecutorConfig, default_workers
+from elimscan.config import ExecutorConfig
 from elimscan.results.documents import FileChecksum
 from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord
 from elimscan.pipeline.document import solvent_label, utc_now
 from elimscan.batch.documents import INDEX_FILE, RESULTS_FILE, assemble_results, batch_index
 from elimscan.batch.events import Done, Progress, Started
-from elimscan.batch.executors import make_executor
+from elimscan.batch.executors import make_executor, planned_parallel_jobs
 from elimscan.batch.jobfiles import files_intact, relocate_outcome, write_file_atomic, write_job_files
 from elimscan.batch.plan import BatchPlan, PlannedJob
 from elimscan.batch.status import estimate_left
@@ -159,7 +159,7 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
                 else:
                     continue
             todo.append(job)
-        parallel_hint = (executor_config.workers or default_workers()) if executor_config.kind == "local" else 0
+        parallel_hint = planned_parallel_jobs(executor_config)
         run_id = store.begin_run(utc_now(), os.getpid(), socket.gethostname(), options.command_line,
                                  plan.config.name, executor_config.kind, parallel_hint,
                                  [(job.key, job.job_id) for job in plan.jobs])

@@ -27,6 +27,12 @@ class Executor(Protocol):
         """Return an executor for a batch of ``n_tasks`` jobs with ``threads`` threads each, writing logs into ``out``."""
         ...
 
+    @classmethod
+    def planned_parallel_jobs(cls, config: ExecutorConfig) -> int:
+        """Return how many jobs can run at once as the config alone tells, before anything starts (stored for
+        ``elimscan status``); 0 when only the running executor knows (the status then counts the running jobs)."""
+        ...
+
     @property
     def parallel_jobs(self) -> int:
         """Return how many jobs can run at once (for the time estimate)."""
@@ -65,3 +71,10 @@ def make_executor(config: ExecutorConfig, threads: int, n_tasks: int, out: Path)
         raise ConfigError(f"unknown executor kind '{config.kind}' (known: {', '.join(sorted(EXECUTORS))})",
                           key_path="executor.kind")
     return executor_class.from_config(config, threads, n_tasks, out)
+
+
+def planned_parallel_jobs(config: ExecutorConfig) -> int:
+    """Return the parallel-jobs hint of ``config.kind``'s executor for the store (0 for a kind not registered:
+    ``make_executor`` refuses it by name when there is something to compute)."""
+    executor_class = EXECUTORS.get(config.kind)
+    return 0 if executor_class is None else executor_class.planned_parallel_jobs(config)

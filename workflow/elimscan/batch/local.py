@@ -65,6 +65,11 @@ class LocalExecutor:
         workers = min(config.workers or default_workers(), n_tasks)
         return cls(workers, threads, config.time_limit_seconds, out / WORKER_LOG_FILE, config.stage_time_limit_seconds)
 
+    @classmethod
+    def planned_parallel_jobs(cls, config: ExecutorConfig) -> int:
+        """Return the worker processes the config asks for (``executor.workers``, else the core count)."""
+        return config.workers or default_workers()
+
     @property
     def parallel_jobs(self) -> int:
         """Return how many jobs can run at once."""

@@ -95,7 +95,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     from elimscan.pipeline.names import job_id_of, safe_name
 
     folder = Path(config_path).parent
-    versions = numeric_versions(config.method.backend)
+    versions = numeric_versions(config.method.backend, dft=config.dft.enabled)
     rows: list[SubstrateRow] = []
     file_sha = None
     if config.substrates_file is not None:

@@ -69,7 +69,11 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
 
 
 def provenance(config: RunConfig, command_line: str, versions: dict[str, str]) -> Provenance:
-    """Return the provenance block of a result document: program, libraries, backend and the method label."""
+    """Return the provenance block of a result document: program, libraries, backend and the method label.
+
+    ``versions`` are the job key's (``versions.numeric_versions``, with PySCF when the DFT tier is on): SciPy,
+    Sella and PySCF are recorded from them.
+    """
     import ase
     import numpy
     import rdkit
@@ -78,7 +82,9 @@ def provenance(config: RunConfig, command_line: str, versions: dict[str, str]) -
     backend_version = versions.get(BACKEND_DISTRIBUTIONS.get(method.backend, method.backend), "unknown")
     return Provenance(program_version=__version__, command_line=command_line, created_utc=utc_now(),
                       python_version=platform.python_version(), rdkit_version=rdkit.__version__,
-                      ase_version=ase.__version__, numpy_version=numpy.__version__, backend=method.backend,
+                      ase_version=ase.__version__, numpy_version=numpy.__version__,
+                      scipy_version=versions.get("scipy"), sella_version=versions.get("sella"),
+                      pyscf_version=versions.get("pyscf"), backend=method.backend,
                       backend_version=backend_version,
                       method_label=engine_label(config, backend_version))
 

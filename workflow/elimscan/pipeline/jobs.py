@@ -113,7 +113,7 @@ def compute_run(config: RunConfig, engine, on_progress: ProgressCallback | None 
     files: dict[str, bytes] = {}
     for job in done:
         files.update(job.files)
-    versions = numeric_versions(config.method.backend)
+    versions = numeric_versions(config.method.backend, dft=config.dft.enabled)
     solvent = canonical_solvent(config.method.solvent, config)
     keyed = [job.job.model_copy(update={"job_key": job_key(
         config, substrate_inputs(substrate, (geometries or {}).get(substrate.name, (None,))[0]), base, solvent,

@@ -14,8 +14,9 @@ from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Record
 
 RESULT_SCHEMA_NAME = "elimscan.result"
-#: 0.7.0 added optional config keys only (method.engine_factory, paths.saddle.path_point_starts); run's
-#: documents now carry each job's solvent and key as batch's do.
+#: 0.7.0 added optional fields only: config keys method.engine_factory and paths.saddle.path_point_starts, and
+#: provenance.scipy_version, sella_version and pyscf_version (every library of the job key); run's documents now
+#: carry each job's solvent and key as batch's do.
 #: 0.6.1 added one optional field (jobs[].retry_temperature_points and its summary.trouble entry).
 #: 0.6.0 added optional fields only (DFT single points, substituent series, base models, path starts and their
 #: combination, summary.trouble; config keys dft, series, solvent model dielectric, base models, stage limits).
@@ -38,6 +39,12 @@ class Provenance(Record):
     rdkit_version: str
     ase_version: str
     numpy_version: str
+    scipy_version: str | None = Field(None, description="SciPy version (it enters the job key); null: a document "
+                                      "written before it was recorded")
+    sella_version: str | None = Field(None, description="Sella version (it enters the job key); null: a document "
+                                      "written before it was recorded")
+    pyscf_version: str | None = Field(None, description="PySCF version when the DFT tier is on (it then enters the "
+                                      "job key); null: the tier is off")
     backend: str = Field(description="xTB backend library: tblite or xtb (xtb-python)")
     backend_version: str
     method_label: str = Field(description="method, solvation model and backend in one line")

@@ -1,0 +1,23 @@
+"""The ``elimscan`` command: info, validate, run, batch, status, summary, report. Orchestrates; computes nothing itself.
+
+Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: see errors.ExitCode. With
+``batch/``, the only code that reads files named by the user or writes output folders.
+
+- ``parser``: ``build_parser`` (every subcommand and option) and ``main`` (dispatch, exit codes, an error as
+  one line without a traceback)
+- ``logs``: log records to stderr (``-v``/``-q``) and to the output folder's log file
+- ``inputs``: the config read, the ``--engine`` plug-in checked, every molecule checked before any calculation,
+  the batch plan; input errors located by file, key path and YAML line
+- ``folders``: output file names, a finished run refused without ``--overwrite``, files written through a
+  rename, a results file checked against its schema
+- ``run``: ``elimscan run`` (one config in this process)
+- ``batch``: ``elimscan batch`` (executor options from the command line, the folder lock, SIGTERM as Ctrl-C)
+- ``progress``: the batch's live status line on a terminal, one line per finished job elsewhere
+- ``commands``: the commands that compute nothing: info, validate, status, summary, report, validate-results
+"""
+
+from __future__ import annotations
+
+from elimscan.cli.parser import build_parser, main
+
+__all__ = ["build_parser", "main"]

@@ -1,0 +1,117 @@
+"""The commands that compute nothing: info, validate, status, summary, report, validate-results."""
+
+from __future__ import annotations
+
+import argparse
+import logging
+from pathlib import Path
+
+from elimscan.cli.folders import RESULTS_FILE, checked_result_file, write_files
+from elimscan.cli.inputs import batch_only, check_structures, plan_located, read_config, with_engine
+from elimscan.cli.progress import human_duration
+from elimscan.errors import ExitCode, OutputError
+from elimscan.versions import environment_versions
+
+log = logging.getLogger("elimscan")
+
+
+def cmd_info(args: argparse.Namespace) -> int:
+    """Print versions of Python and the libraries; return the exit code."""
+    for name, version in environment_versions().items():
+        print(f"{name:<17} {version}")
+    return ExitCode.OK
+
+
+def cmd_validate(args: argparse.Namespace) -> int:
+    """Check a config (and its SMILES) without computing; return the exit code."""
+    config = with_engine(read_config(args.config), args)
+    if batch_only(config):
+        plan = plan_located(config, args.config)
+        for job in plan.jobs:
+            if job.input_error is not None:
+                log.warning("job %s will fail: %s", job.job_id, job.input_error.error_message)
+        log.info("%s: valid batch config (%d jobs, %d of them fail on their input)", args.config, len(plan.jobs),
+                 plan.n_input_failures)
+        return ExitCode.OK
+    check_structures(config, args.config)
+    from elimscan.batch.inputs import read_geometries
+
+    read_geometries(config, Path(args.config).parent)
+    log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
+             len(config.bases), len(config.jobs()))
+    return ExitCode.OK
+
+
+def cmd_status(args: argparse.Namespace) -> int:
+    """Print the state of a batch folder from its store (read-only, also while the batch runs); return the exit code."""
+    from elimscan.batch.status import read_status
+
+    status = read_status(Path(args.out))
+    if status.config_name is None:
+        print(f"{status.out}: a batch store without runs")
+        return ExitCode.OK
+    if status.holder:
+        state = f"running ({status.holder})"
+    else:
+        state = {"finished": "finished", "interrupted": "interrupted (Ctrl-C or SIGTERM); run the batch again to resume",
+                 "stopped": "stopped without finishing (killed?); run the batch again to resume"}.get(
+            status.run_state, "stopped without finishing (killed?); run the batch again to resume")
+    print(f"batch '{status.config_name}' in {status.out}: {state}")
+    print(f"  last started {status.run_started_utc} on {status.executor}")
+    print(f"  jobs: {status.n_ok} ok, {status.n_failed} failed, {status.n_left} not finished, of {status.n_jobs}")
+    if status.mean_job_seconds is not None:
+        eta = f"; about {human_duration(status.eta_s)} left" if status.eta_s is not None else ""
+        print(f"  mean time per computed job: {human_duration(status.mean_job_seconds)}{eta}")
+    for job_id, worker, since, step in status.running:
+        print(f"  running: {job_id} on {worker or '?'} since {since}: {step or 'starting'}")
+    for job_id, error_type, message in status.failures:
+        print(f"  failed: {job_id}: {error_type}: {message}")
+    return ExitCode.OK
+
+
+def cmd_summary(args: argparse.Namespace) -> int:
+    """Print the summary table of a finished output folder; return the exit code."""
+    from pydantic import ValidationError
+
+    from elimscan.results.documents import RunResult
+    from elimscan.output.text import summary_table
+
+    path = Path(args.out) / RESULTS_FILE
+    try:
+        result = RunResult.model_validate_json(path.read_text(encoding="utf-8"))
+    except OSError as err:
+        raise OutputError(f"cannot read '{path}': {err.strerror or err}") from err
+    except ValidationError as err:
+        raise OutputError(f"'{path}' is not a valid elimscan result: {err.errors()[0]['msg']}") from err
+    print(summary_table(result))
+    return ExitCode.OK
+
+
+def cmd_report(args: argparse.Namespace) -> int:
+    """Rebuild summary.csv, plots/*.png and report.html of a finished output folder without computing; return the exit code."""
+    from elimscan.output.files import build_report_files
+
+    out = Path(args.out)
+    if not (out / RESULTS_FILE).exists() and (out / "batch.sqlite").exists():
+        raise OutputError(f"the batch in '{out}' has not finished yet (no {RESULTS_FILE}); finish it with "
+                          f"'elimscan batch CONFIG --out {out}', follow it with 'elimscan status {out}'")
+    checked_result_file(out / RESULTS_FILE)
+    files = build_report_files(out)
+    write_files(out, files)
+    n_plots = sum(name.startswith("plots/") for name in files)
+    log.info("wrote %s, %s and %d plot(s)", out / "report.html", out / "summary.csv", n_plots)
+    return ExitCode.OK
+
+
+def cmd_validate_results(args: argparse.Namespace) -> int:
+    """Check a results JSON file against the results schema; return the exit code (3 when it does not match)."""
+    from elimscan.output.files import validate_result_file
+
+    problems = validate_result_file(args.file)
+    for problem in problems:
+        log.error("%s: %s", args.file, problem)
+    if problems:
+        log.error("%s: %d problem(s)", args.file, len(problems))
+        return ExitCode.CONFIG
+    log.info("%s: valid", args.file)
+    return ExitCode.OK

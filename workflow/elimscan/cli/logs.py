@@ -1,0 +1,24 @@
+"""Log records of the command: to stderr (level by -v/-q) and to a log file in the output folder."""
+
+from __future__ import annotations
+
+import logging
+import sys
+from pathlib import Path
+
+
+def setup_logging(verbosity: int, log_file: Path | None = None) -> None:
+    """Send log records to stderr (level by -v/-q) and, when given, to a log file (DEBUG, with tracebacks)."""
+    root = logging.getLogger("elimscan")
+    root.handlers.clear()
+    root.setLevel(logging.DEBUG)
+    root.propagate = False
+    stderr = logging.StreamHandler(sys.stderr)
+    stderr.setLevel({-1: logging.WARNING, 0: logging.INFO}.get(verbosity, logging.DEBUG))
+    stderr.setFormatter(logging.Formatter("%(levelname)s %(message)s" if verbosity > 0 else "%(message)s"))
+    root.addHandler(stderr)
+    if log_file is not None:
+        handler = logging.FileHandler(log_file, encoding="utf-8")
+        handler.setLevel(logging.DEBUG)
+        handler.setFormatter(logging.Formatter("%(asctime)s %(levelname)s %(name)s: %(message)s"))
+        root.addHandler(handler)

@@ -1,0 +1,77 @@
+"""How each calculation is done: method, backend and implicit solvent, the geometry optimiser, threads."""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import Field, model_validator
+
+from elimscan.config.frozen import Frozen
+from elimscan.errors import SolventError
+from elimscan.solvents import check_solvent
+
+
+class SolventConfig(Frozen):
+    """Implicit solvent: model (alpb, gbsa, dielectric or none) and solvent name.
+
+    ``dielectric``: a continuum known only by its dielectric constant (solvents.DIELECTRIC_SOLVENTS), for
+    solvents without ALPB parameters such as tert-butanol; tblite only.
+    """
+
+    model: Literal["alpb", "gbsa", "dielectric", "none"] = "alpb"
+    name: str | None = "ethanol"
+
+    @model_validator(mode="after")
+    def _name_needed(self) -> "SolventConfig":
+        if self.model != "none" and not self.name:
+            raise ValueError(f"solvent model '{self.model}' needs a solvent name")
+        return self
+
+
+class MethodConfig(Frozen):
+    """Electronic-structure method, backend, solvent and temperatures."""
+
+    hamiltonian: Literal["GFN2-xTB", "GFN1-xTB"] = "GFN2-xTB"
+    backend: Literal["tblite", "xtb"] = "tblite"
+    solvent: SolventConfig = SolventConfig()
+    #: temperature for Boltzmann weights and free energies (K)
+    temperature_K: float = Field(298.15, gt=0)
+    #: electronic (Fermi smearing) temperature of the SCF (K)
+    electronic_temperature_K: float = Field(300.0, gt=0)
+    #: electronic temperature of the single retry after an SCF failure (K)
+    retry_electronic_temperature_K: float = Field(1000.0, gt=0)
+    max_scf_iterations: int = Field(250, ge=1)
+    #: xTB numerical accuracy (1.0 = default; smaller is tighter)
+    accuracy: float = Field(1.0, gt=0)
+    #: another engine instead of GFN2-xTB: 'module:function', a factory called with this method config that
+    #: returns an object satisfying elimscan.engines.contract.Engine (see DEVELOPERS.md); None: GFN2-xTB
+    engine_factory: str | None = Field(None, pattern=r"^[A-Za-z_][\w.]*:[A-Za-z_]\w*$")
+
+    @model_validator(mode="after")
+    def _solvent_supported(self) -> "MethodConfig":
+        try:
+            check_solvent(self.backend, self.hamiltonian, self.solvent.model, self.solvent.name)
+        except SolventError as err:
+            raise ValueError(str(err)) from err
+        return self
+
+
+class OptimizerConfig(Frozen):
+    """Geometry optimiser for (constrained) relaxations."""
+
+    #: 'sella' = Sella in internal coordinates (default: fewer gradients and less time per constrained
+    #: point in benchmarks/bench_engine.py); 'bfgs' = ASE BFGS with FixInternals (the only one that
+    #: can hold a linear combination of distances)
+    name: Literal["bfgs", "sella"] = "sella"
+    #: convergence: largest force component (eV/Å)
+    fmax_eV_per_A: float = Field(0.01, gt=0)
+    max_steps: int = Field(500, ge=1)
+    #: a held dihedral further than this from its target is first set by rotating one side of the bond
+    #: (acyclic bonds only); smaller differences are projected by the constraint (degrees)
+    rigid_rotation_above_deg: float = Field(5.0, gt=0)
+
+
+class ThreadsConfig(Frozen):
+    """OpenMP/BLAS threads per worker process (parallelism comes from processes)."""
+
+    per_process: int = Field(1, ge=1)

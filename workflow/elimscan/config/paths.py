@@ -1,0 +1,82 @@
+"""The E2 (and SN2) paths of a job: complexes, relaxed paths, their starts, and saddle refinement and verification."""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import Field
+
+from elimscan.config.frozen import Frozen
+
+
+class SaddleConfig(Frozen):
+    """Saddle refinement and verification."""
+
+    #: refine a first-order saddle with Sella from the relaxed-path maximum
+    refine: bool = True
+    #: Sella starts tried from the path before the fallbacks: the highest finished interior points, highest
+    #: first (a flat, double-humped top can make Sella fail from one point and succeed from its neighbour)
+    path_point_starts: int = Field(3, ge=1, le=10)
+    #: start Sella from a finite-difference Hessian (6N+1 gradients) instead of its model Hessian
+    exact_initial_hessian: bool = True
+    max_steps: int = Field(300, ge=1)
+    fmax_eV_per_A: float = Field(0.01, gt=0)
+    #: finite-difference step of the verification Hessian (Å)
+    hessian_step_A: float = Field(0.005, gt=0)
+    #: the reaction mode must be imaginary beyond this (cm^-1) ...
+    imaginary_min_cm1: float = Field(100.0, gt=0)
+    #: ... and no other mode imaginary beyond this (cm^-1)
+    other_imaginary_max_cm1: float = Field(50.0, gt=0)
+    #: displacement along the imaginary mode before relaxing both ways (Å, whole-molecule norm)
+    displacement_A: float = Field(0.3, gt=0)
+    #: product side: C-alpha...X at least this (Å) and base-H at most product_base_h_max_A (Å)
+    product_c_x_min_A: float = Field(3.0, gt=0)
+    product_base_h_max_A: float = Field(1.1, gt=0)
+    #: reactant side: base...H at least this (Å) and C-alpha-X at most reactant_c_x_max_A (Å)
+    reactant_base_h_min_A: float = Field(1.3, gt=0)
+    reactant_c_x_max_A: float = Field(2.4, gt=0)
+    #: substitution: product side has Nu-C-alpha at most this (Å); reactant side at least the next (Å)
+    substitution_bond_max_A: float = Field(1.7, gt=0)
+    substitution_reactant_min_A: float = Field(2.5, gt=0)
+    #: last fallback when Sella fails from the path maximum and from the base-H scan: a climbing-image NEB
+    #: between the reactant complex and the freely relaxed path end, whose climbing image seeds Sella again
+    neb_fallback: bool = True
+    #: NEB images including the two end points (at least 15: fewer let the climbing image sit on a false maximum)
+    neb_images: int = Field(15, ge=15)
+    #: NEB convergence (eV/Å, largest NEB force) and step limit (FIRE)
+    neb_fmax_eV_per_A: float = Field(0.05, gt=0)
+    neb_max_steps: int = Field(300, ge=1)
+
+
+class PathConfig(Frozen):
+    """Base-substrate complexes and the relaxed E2 path for each beta-H class."""
+
+    #: compute anti and/or syn paths
+    approaches: tuple[Literal["anti", "syn"], ...] = ("anti", "syn")
+    #: basic atom placed on the extension of the C-beta-H bond at this H...base distance (Å)
+    complex_distance_A: float = Field(2.0, gt=0.8)
+    #: rotations of the base about that axis tried for each complex
+    base_rotations: int = Field(3, ge=1)
+    #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
+    step_A: float = Field(0.15, gt=0)
+    #: ... for this many points after the complex
+    points: int = Field(20, ge=2)
+    #: syn paths hold H-C-C-X at this dihedral (degrees)
+    syn_dihedral_deg: float = Field(0.0, ge=-30, le=30)
+    #: also compute backside substitution (SN2) at C-alpha for every job
+    substitution: bool = True
+    #: start each E2 approach from up to this many distinct backbone conformers (lowest first); the lowest
+    #: path top is used and the spread over them is reported as an uncertainty
+    backbone_conformers: int = Field(1, ge=1)
+    #: ... only conformers within this window above the lowest periplanar one (kcal/mol) ...
+    backbone_window_kcal_mol: float = Field(3.0, gt=0)
+    #: ... and differing from each other by more than this heavy-atom RMSD (Å)
+    backbone_distinct_rmsd_A: float = Field(0.25, gt=0)
+    #: drive a whole path from each of this many lowest base rotations of the complex (at most base_rotations)
+    orientation_paths: int = Field(1, ge=1)
+    #: how the paths of one approach from several starts (backbone conformers x orientations) make one
+    #: barrier: the lowest top, or a Boltzmann sum over distinct tops at method.temperature_K
+    combine: Literal["lowest", "boltzmann"] = "lowest"
+    #: nucleophile placed behind C-alpha at this distance for the substitution complex (Å)
+    substitution_distance_A: float = Field(3.0, gt=1.5)
+    saddle: SaddleConfig = SaddleConfig()
