@@ -190,6 +190,21 @@ def test_a_job_whose_files_cannot_be_written_fails_alone_and_is_not_repeated(tmp
     assert (rerun.n_computed, rerun.n_ok, rerun.n_failed) == (0, 1, 1)
 
 
+def test_a_name_in_the_yaml_too_long_for_a_file_name_stops_the_batch_before_it_starts(tmp_path):
+    from elimscan.errors import ConfigError
+
+    for key_path, old, new in (("substrates.0.name", "{name: chloroethane,", f"{{name: {'y' * 250},"),
+                               ("bases.0.name", "{name: methoxide}", f"{{name: {'b' * 250}, smiles: '[O-]C'}}")):
+        config = write_config(tmp_path)
+        config.write_text(config.read_text().replace(old, new))
+        with pytest.raises(ConfigError) as info:
+            plan_of(config)
+        assert info.value.key_path == key_path
+        what = "substrate" if key_path.startswith("substrates") else "base"
+        assert str(info.value).startswith(f"key '{key_path}': {what} name '{new[7:47]}…' (250 characters) makes its ")
+        assert str(info.value).endswith("bytes long; file systems hold at most 255: shorten the name")
+
+
 # --- 2: an input file the batch would overwrite -----------------------------------------------------------------
 
 
