@@ -2,8 +2,8 @@
 
 A reader (or a resumed batch) sees either the old file or the complete new one, never a half-written
 file, whatever instant the process dies at. Used by every writer of result files (``cli``, ``batch``).
-Write errors (folder not writable, disk full, file-size limit) become ``OutputError`` naming the file,
-and the temporary file is removed.
+Write errors become ``OutputError`` naming the file ("disk full while writing PATH: ..." when the disk, the
+quota or a file-size limit is full; "cannot write PATH: ..." otherwise), and the temporary file is removed.
 """
 
 from __future__ import annotations
@@ -19,7 +19,20 @@ from elimscan.errors import OutputError
 TMP_PREFIX = "."
 TMP_SUFFIX = ".tmp"
 #: errors that mean the disk (or the allowed file size or quota) is full
-_FULL = (errno.EFBIG, errno.ENOSPC, errno.EDQUOT)
+FULL_DISK_ERRNOS = frozenset({errno.EFBIG, errno.ENOSPC, errno.EDQUOT})
+
+
+def write_error(path: str | Path, err: OSError) -> OutputError:
+    """Return the OutputError of a failed write of ``path`` (its ``errno`` set): the disk-full wording for a full
+    disk, quota or file-size limit, else 'cannot write PATH: reason'."""
+    reason = err.strerror or str(err)
+    if err.errno in FULL_DISK_ERRNOS:
+        limit = " (a file-size limit)" if err.errno == errno.EFBIG else ""
+        error = OutputError(f"disk full while writing '{path}': {reason}{limit}")
+    else:
+        error = OutputError(f"cannot write '{path}': {reason}")
+    error.errno = err.errno
+    return error
 
 
 def temporary_name(path: Path) -> Path:
@@ -63,8 +76,7 @@ def write_bytes_atomic(path: str | Path, content: bytes,
             tmp.unlink(missing_ok=True)
         except OSError:
             pass
-        raise OutputError(f"cannot write '{path}': {err.strerror or err}"
-                          + (" (disk full or file-size limit reached)" if err.errno in _FULL else "")) from err
+        raise write_error(path, err) from err
     fsync_folder(path.parent)
 
 
@@ -76,11 +88,14 @@ def write_text_atomic(path: str | Path, text: str) -> None:
 def remove_stale_temporaries(folder: Path) -> int:
     """Remove temporary files left in ``folder`` by a killed writer; return how many were removed."""
     removed = 0
-    if folder.is_dir():
-        for stale in folder.glob(f"{TMP_PREFIX}*{TMP_SUFFIX}"):
-            try:
-                stale.unlink()
-                removed += 1
-            except OSError:
-                pass
+    try:
+        stale_files = list(folder.glob(f"{TMP_PREFIX}*{TMP_SUFFIX}")) if folder.is_dir() else []
+    except OSError:  # a folder name too long, a folder that cannot be read: nothing to clean up there
+        return 0
+    for stale in stale_files:
+        try:
+            stale.unlink()
+            removed += 1
+        except OSError:
+            pass
     return removed

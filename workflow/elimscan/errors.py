@@ -128,3 +128,13 @@ class OutputError(ElimscanError):
 
     error_type = "output_error"
     exit_code = ExitCode.OUTPUT
+
+    #: the OS error number of a failed write (errno.ENOSPC, ...), when the error is one; None otherwise
+    errno: int | None = None
+
+
+class StoreDamagedError(OutputError):
+    """Fires before a batch (or its status) reads a store that is damaged, empty beside its write-ahead log, or
+    missing from a folder that holds finished jobs; the message says what happened and how to rebuild it."""
+
+    error_type = "store_damaged"

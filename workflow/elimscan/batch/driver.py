@@ -4,12 +4,15 @@ The driver (this module, in the ``elimscan batch`` process) takes a plan (``plan
 key), skips the keys the store already holds, and hands the rest to an executor (``executors.py``).
 Workers compute and return a ``JobOutcome``; only the driver writes: first the job's files
 (``jobfiles.py``: temporary file, fsync, rename), then one store transaction with the record and the
-files' checksums. Killing the driver at any moment loses at most the jobs being computed.
+files' checksums. Killing the driver at any moment loses at most the jobs being computed. A job whose files cannot be
+written for reasons of its own (a name too long for the file system) fails alone; a full disk or an
+unwritable folder stops the batch with one message, and the store records why (``elimscan status``).
+A damaged store is refused before anything is read (``recovery.py``), or rebuilt on request.
 ``results.json`` and ``batch.json`` are assembled from the store's rows for the current config's keys
 (``documents.py``).
 
 Only the batch layer (with ``cli``) touches output folders. Progress is reported through a callback,
-never printed.
+never printed; the text in its events (and in ``BatchOutcome.failures``) is printable (``output.text.printable``).
 """
 
 from __future__ import annotations
@@ -27,14 +30,19 @@ from pathlib import Path
 
 from elimscan.atomicio import remove_stale_temporaries
 from elimscan.config import ExecutorConfig
+from elimscan.errors import ElimscanError, OutputError
 from elimscan.results.documents import FileChecksum
 from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord
 from elimscan.pipeline.document import solvent_label, utc_now
+from elimscan.output.text import printable
 from elimscan.batch.documents import INDEX_FILE, RESULTS_FILE, assemble_results, batch_index
 from elimscan.batch.events import Done, Progress, Started
 from elimscan.batch.executors import make_executor, planned_parallel_jobs
-from elimscan.batch.jobfiles import files_intact, relocate_outcome, write_file_atomic, write_job_files
+from elimscan.batch.jobfiles import (JOB_OWN_WRITE_ERRNOS, files_intact, relocate_outcome, write_file_atomic,
+                                     write_job_copy, write_job_files)
+from elimscan.batch.lock import refuse_inputs_among_outputs
 from elimscan.batch.plan import BatchPlan, PlannedJob
+from elimscan.batch.recovery import check_store, rebuild_store
 from elimscan.batch.status import estimate_left
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from elimscan.batch.worker import LOG_FILE, JobTask
@@ -50,6 +58,8 @@ class BatchOptions:
     """How to run a batch: retry failed jobs, the engine, the command line, and a test hook."""
 
     retry_failed: bool = False
+    #: move a damaged store aside and rebuild it from the job folders' job.json before the batch (--rebuild-store)
+    rebuild_store: bool = False
     #: 'module:function' of another engine than the config's (Python API; the command line sets method.engine_factory)
     engine_factory: str | None = None
     command_line: str = ""
@@ -73,7 +83,8 @@ def _kill_hook(options: "BatchOptions", point: str, count: int) -> None:
 
 @dataclass(frozen=True)
 class BatchEvent:
-    """Progress of a batch: what happened, to which job, and the counts and time estimate (s) after it."""
+    """Progress of a batch: what happened, to which job, and the counts and time estimate (s) after it; its text
+    (message, running steps) is printable: control characters of user-given names are escaped."""
 
     kind: str  # plan | start | step | finish | tick
     n_jobs: int
@@ -111,18 +122,19 @@ def _input_failure_row(job: PlannedJob, run_id: int) -> StoredJob:
                        error=job.input_error, solvent=job.solvent, job_key=job.key)
     molecule = MoleculeRecord(name=job.substrate_name, role="substrate", smiles=job.substrate_smiles, status="failed",
                               error=job.input_error, solvent=job.solvent)
-    return _row(job, record, [molecule], [], run_id, None, None, None)
+    return _row(job, record, [molecule], [], run_id, None, None, None, folder=None)
 
 
 def _row(job: PlannedJob, record: JobRecord, molecules: list[MoleculeRecord], files: list[FileChecksum],
-         run_id: int | None, started_utc: str | None, seconds: float | None, worker: str | None) -> StoredJob:
+         run_id: int | None, started_utc: str | None, seconds: float | None, worker: str | None,
+         folder: str | None) -> StoredJob:
     return StoredJob(
         job_key=job.key, job_id=job.job_id, substrate=job.substrate_name, base=job.base.name,
         solvent=solvent_label(job.solvent), source=job.source, status=record.status,
         error_type=record.error.error_type if record.error else None,
         error_message=record.error.error_message if record.error else None,
         job_json=record.model_dump_json(), molecules_json=json.dumps([m.model_dump(mode="json") for m in molecules]),
-        folder=job.folder if files else None, started_utc=started_utc, finished_utc=utc_now(),
+        folder=folder, started_utc=started_utc, finished_utc=utc_now(),
         wall_seconds=None if seconds is None else round(seconds, 3), worker=worker, run_id=run_id,
         files=tuple((f.path, f.sha256, f.size_bytes) for f in files))
 
@@ -137,6 +149,11 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
     """
     out = Path(out)
     wall_start = time.monotonic()
+    refuse_inputs_among_outputs(out, plan.input_files)  # before anything is written
+    if options.rebuild_store:
+        _rebuild(out)
+    else:
+        check_store(out)  # before SQLite opens (and might empty) a damaged store
     store = JobStore(out / STORE_FILE)
     try:
         stale = store.close_stale_runs(utc_now())
@@ -168,22 +185,63 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
                 row = finished.get(job.key)
                 if row is None or row.error_message != job.input_error.error_message:
                     store.record_finished(_input_failure_row(job, run_id))
-                    log.warning("job %s fails on its input: %s", job.job_id, job.input_error.error_message)
+                    log.warning("job %s fails on its input: %s", job.job_id, printable(job.input_error.error_message))
         outcome = BatchOutcome(n_jobs=len(plan.jobs))
         todo_keys = {job.key for job in todo}
         outcome.n_reused = sum(1 for job in plan.jobs if job.input_error is None and job.key not in todo_keys)
-        state = "interrupted"
+        state, stop, stopping = "interrupted", None, True
         try:
             if todo:
                 _compute(plan, todo, out, store, run_id, executor_config, threads, options, on_event, outcome,
                          wall_start)
-            state = "finished"
+            state, stopping = "finished", False
+        except Exception as err:  # KeyboardInterrupt (Ctrl-C, SIGTERM) stays 'interrupted'
+            state, stop = "stopped", _stop_reason(err)
+            raise
         finally:
-            store.end_run(run_id, state, utc_now())
-            _finish_documents(plan, out, store, options, executor_config, outcome)
+            _wind_up(plan, out, store, run_id, state, stop, options, executor_config, outcome, stopping)
         return outcome
     finally:
         store.close()
+
+
+def _rebuild(out: Path) -> None:
+    """Rebuild the store of ``out`` from its job copies (``recovery.rebuild_store``) and log what was kept."""
+    report = rebuild_store(out)
+    moved = ", ".join(str(p) for p in report.moved) or "no store file was there"
+    log.warning("rebuilt the batch store %s from the job folders: %d ok and %d failed job(s) kept; the old store "
+                "was moved aside (%s)", out / STORE_FILE, report.n_ok, report.n_failed, moved)
+    if report.index_note:
+        log.warning("%s", report.index_note)
+    for where, why in report.skipped:
+        log.warning("not kept, computed again: %s: %s", printable(where), printable(why))
+
+
+def _stop_reason(err: Exception) -> tuple[str, str]:
+    """Return (kind, message) of the error that stops a batch: write_error, error or internal_error."""
+    if isinstance(err, OutputError):
+        return "write_error", str(err)
+    if isinstance(err, ElimscanError):
+        return "error", f"{err.error_type}: {err}"
+    return "internal_error", f"unexpected {type(err).__name__} (a bug; the traceback is in {LOG_FILE})"
+
+
+def _wind_up(plan: BatchPlan, out: Path, store: JobStore, run_id: int, state: str, stop: tuple[str, str] | None,
+             options: BatchOptions, executor_config: ExecutorConfig, outcome: BatchOutcome, stopping: bool) -> None:
+    """Record the run's end (and why it stopped), then write the documents. While an error already stops the batch,
+    a failure of these writes (the same full disk, most likely) is only logged, so that the first error is the
+    one reported; otherwise it is raised."""
+    first: OutputError | None = None
+    for what, write in (("the run's end", lambda: store.end_run(run_id, state, utc_now(), stop)),
+                        (INDEX_FILE, lambda: _finish_documents(plan, out, store, options, executor_config, outcome))):
+        try:
+            write()
+        except OutputError as err:
+            if not stopping and first is None:
+                first = err
+            log.debug("could not write %s: %s", what, err)
+    if first is not None:
+        raise first
 
 
 def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore, run_id: int,
@@ -195,7 +253,7 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
              for job in todo]
     executor = make_executor(executor_config, threads, len(tasks), out)
     log.info("batch %s: %d job(s): %d finished before, %d failing on their input, %d to compute on %s",
-             plan.config.name, len(plan.jobs), len(plan.jobs) - len(todo) - plan.n_input_failures,
+             printable(plan.config.name), len(plan.jobs), len(plan.jobs) - len(todo) - plan.n_input_failures,
              plan.n_input_failures, len(todo), executor.description)
     finished_now = store.finished([job.key for job in plan.jobs])
     n_ok = sum(r.status == "ok" for k, r in finished_now.items() if k not in by_key)
@@ -205,7 +263,8 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
     step_written: dict[str, float] = {}
     commits = starts = 0
 
-    def emit(kind: str, **extra) -> None:
+    def emit(kind: str, message: str | None = None, **extra) -> None:
+        """Send a BatchEvent; its message and running steps are printable (user-given names escaped)."""
         if on_event is None:
             return
         now = time.monotonic()
@@ -214,7 +273,8 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                              executor.parallel_jobs)
         on_event(BatchEvent(kind=kind, n_jobs=len(plan.jobs), n_ok=n_ok, n_failed=n_failed, n_left=left,
                             elapsed_s=now - wall_start, eta_s=eta,
-                            running=tuple((by_key[k].job_id, step) for k, (_, step) in running.items()), **extra))
+                            running=tuple((by_key[k].job_id, printable(step)) for k, (_, step) in running.items()),
+                            message=None if message is None else printable(message), **extra))
 
     base_done = n_ok + n_failed
     emit("plan", message=executor.description)
@@ -235,7 +295,7 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                 elif isinstance(event, Progress):
                     if event.key in running:
                         running[event.key] = (running[event.key][0], event.message)
-                    log.debug("%s: %s", job.job_id, event.message)
+                    log.debug("%s: %s", job.job_id, printable(event.message))
                     if time.monotonic() - step_written.get(event.key, 0.0) > _STEP_WRITE_INTERVAL_S:
                         store.record_step(job.key, event.message[:300], utc_now())
                         step_written[event.key] = time.monotonic()
@@ -270,9 +330,12 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
 
 def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: int,
             hook: Callable[[str], None] | None = None) -> JobRecord:
-    """Write a finished job's files, then commit its row with their checksums; return its record.
+    """Write a finished job's files and its job.json, then commit its row with their checksums; return its record.
 
-    ``hook`` is the kill test's: called with 'rename' (first temporary file complete) and 'files' (all written).
+    A job whose files cannot be written for a reason of its own (``JOB_OWN_WRITE_ERRNOS``: a name too long for
+    the file system) is committed as failed (output_error, naming its input row); any other write error stops
+    the batch. ``hook`` is the kill test's: called with 'rename' (first temporary file complete) and 'files'
+    (all written, job.json too).
     """
     if event.outcome is not None:
         record, molecules, files = relocate_outcome(job, event.outcome)
@@ -285,11 +348,24 @@ def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: in
         log.debug("job %s: traceback of the unexpected error:\n%s", job.job_id, event.traceback.rstrip())
     elif event.traceback:
         log.debug("job %s failed: %s", job.job_id, event.traceback.rstrip())
-    sums = write_job_files(out, files, (lambda tmp: hook("rename")) if hook else None)
+    started = (_dt.datetime.now(_dt.timezone.utc) - _dt.timedelta(seconds=event.seconds)).isoformat(timespec="milliseconds")
+    try:
+        sums = write_job_files(out, files, (lambda tmp: hook("rename")) if hook else None)
+        row = _row(job, record, molecules, sums, run_id, started, event.seconds, event.worker, folder=job.folder)
+        row = write_job_copy(out, row, record, molecules)
+    except OutputError as err:
+        if err.errno not in JOB_OWN_WRITE_ERRNOS:
+            raise
+        where = job.source if job.source != "config" else "the config"
+        error = ErrorInfo(error_type="output_error", error_message=f"{where}: substrate '{job.substrate_name}': the "
+                          f"job's files cannot be written, so its results are not kept: {err}")
+        log.warning("job %s failed: %s; the other jobs go on", job.job_id, printable(error.error_message))
+        record = JobRecord(job_id=job.job_id, substrate=job.substrate_name, base=job.base.name, status="failed",
+                           error=error, solvent=job.solvent, job_key=job.key)
+        row = _row(job, record, [], [], run_id, started, event.seconds, event.worker, folder=None)
     if hook is not None:
         hook("files")
-    started = (_dt.datetime.now(_dt.timezone.utc) - _dt.timedelta(seconds=event.seconds)).isoformat(timespec="milliseconds")
-    store.record_finished(_row(job, record, molecules, sums, run_id, started, event.seconds, event.worker))
+    store.record_finished(row)
     return record
 
 
@@ -301,7 +377,9 @@ def _finish_documents(plan: BatchPlan, out: Path, store: JobStore, options: Batc
     write_file_atomic(out, INDEX_FILE, (index.model_dump_json(indent=2) + "\n").encode(),
                       lambda tmp: _kill_hook(options, "documents", 1))
     outcome.n_ok, outcome.n_failed = index.counts.n_ok, index.counts.n_failed
-    outcome.failures = [(e.job_id, e.error) for e in index.jobs if e.status == "failed" and e.error is not None]
+    outcome.failures = [(e.job_id, ErrorInfo(error_type=printable(e.error.error_type),
+                                             error_message=printable(e.error.error_message)))
+                        for e in index.jobs if e.status == "failed" and e.error is not None]
     outcome.complete = index.complete
     if index.complete:
         result = assemble_results(plan, store.finished([job.key for job in plan.jobs], with_records=True),

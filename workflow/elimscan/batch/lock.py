@@ -1,6 +1,7 @@
 """The batch folder's lock: one batch at a time per output folder (an OS lock the kernel drops when its process dies).
 
-Also the folder's preparation: a batch refuses a folder that holds the result of ``elimscan run``.
+Also the folder's preparation: a batch refuses a folder that holds the result of ``elimscan run``, and an
+input file that is one of the files the batch writes there (it would be overwritten).
 """
 
 from __future__ import annotations
@@ -8,14 +9,17 @@ from __future__ import annotations
 import fcntl
 import os
 import socket
+from collections.abc import Iterable
 from pathlib import Path
 
-from elimscan.errors import OutputError
+from elimscan.errors import ConfigError, OutputError
 from elimscan.pipeline.document import utc_now
-from elimscan.batch.documents import RESULTS_FILE
+from elimscan.batch.documents import INDEX_FILE, RESULTS_FILE
 from elimscan.batch.store import STORE_FILE
 
 LOCK_FILE = "batch.lock"
+#: folders of a batch's output folder that only the batch writes into
+OUTPUT_FOLDERS = ("jobs", "plots")
 
 
 class FolderLock:
@@ -75,9 +79,37 @@ def lock_holder(out: Path) -> str | None:
         os.close(fd)
 
 
-def prepare_batch_folder(out: Path) -> None:
-    """Create the output folder; refuse one that holds the result of ``elimscan run`` (raise OutputError)."""
-    if (out / RESULTS_FILE).exists() and not (out / STORE_FILE).exists():
+def output_files() -> tuple[str, ...]:
+    """Return the names of the files a batch writes at the top of its output folder (store side files too)."""
+    from elimscan.output.files import CSV_FILE, HTML_FILE, SERIES_CSV_FILE
+    from elimscan.batch.worker import LOG_FILE, WORKER_LOG_FILE
+
+    return (RESULTS_FILE, INDEX_FILE, STORE_FILE, f"{STORE_FILE}-wal", f"{STORE_FILE}-shm", LOCK_FILE, LOG_FILE,
+            WORKER_LOG_FILE, CSV_FILE, SERIES_CSV_FILE, HTML_FILE)
+
+
+def refuse_inputs_among_outputs(out: Path, inputs: Iterable[tuple[str, Path]]) -> None:
+    """Raise ConfigError naming both paths when an input file (what, path) is a file the batch writes in ``out``."""
+    root = Path(out).resolve()
+    names = output_files()
+    for what, path in inputs:
+        resolved = Path(path).resolve()
+        if not resolved.is_relative_to(root) or resolved == root:
+            continue
+        rel = resolved.relative_to(root)
+        if rel.as_posix() in names or rel.parts[0] in OUTPUT_FOLDERS:
+            raise ConfigError(
+                f"the {what} '{path}' is '{Path(out) / rel}', a file this batch writes into its output folder "
+                f"'{out}': it would be overwritten. Move it out of the output folder, or choose another --out",
+                key_path="substrates_file" if what == "substrates file" else None)
+
+
+def prepare_batch_folder(out: Path, inputs: Iterable[tuple[str, Path]] = ()) -> None:
+    """Create the output folder; refuse one that holds the result of ``elimscan run`` (raise OutputError) and input
+    files (what, path) that the batch would overwrite there (raise ConfigError), before anything is written."""
+    refuse_inputs_among_outputs(out, inputs)
+    batch_traces = [out / STORE_FILE, out / f"{STORE_FILE}-wal", out / INDEX_FILE]
+    if (out / RESULTS_FILE).exists() and not any(p.exists() for p in batch_traces):
         raise OutputError(f"output folder '{out}' holds the result of 'elimscan run' ({RESULTS_FILE} without a batch "
                           f"store): a batch needs a folder of its own; choose another --out")
     try:

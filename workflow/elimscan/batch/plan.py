@@ -16,6 +16,10 @@ from elimscan.results.records import ErrorInfo
 from elimscan.pipeline.document import canonical_solvent, job_inputs, job_key, solvent_label
 from elimscan.batch.inputs import SubstrateRow, read_geometries, read_substrate_file
 
+#: the longest file or folder name (bytes, UTF-8) that common file systems hold (ext4, XFS, btrfs, APFS, NTFS):
+#: a job whose folder or base file name is longer cannot be written, so it fails on its input
+NAME_MAX_BYTES = 255
+
 
 @dataclass(frozen=True)
 class PlannedJob:
@@ -48,6 +52,8 @@ class BatchPlan:
     substrates_file: str | None
     substrates_file_sha256: str | None
     versions: dict[str, str]
+    #: (what, resolved path) of every file the plan read: the config, the substrates file, geometry files
+    input_files: tuple[tuple[str, Path], ...] = ()
 
     @property
     def n_input_failures(self) -> int:
@@ -85,6 +91,22 @@ def _same_molecule_problem(name: str, smiles: str, base: BaseConfig, row: "Subst
     return None
 
 
+def _name_bytes(name: str) -> int:
+    return len(name.encode("utf-8", "surrogateescape"))
+
+
+def _long_name_problem(what: str, name: str, file_name: str, kind: str) -> str | None:
+    """Return why the file or folder name ``file_name`` made from a user-given name is too long to write, or None."""
+    from elimscan.output.text import printable
+
+    size = _name_bytes(file_name)
+    if size <= NAME_MAX_BYTES:
+        return None
+    shown = printable(name if len(name) <= 40 else name[:40] + "…")
+    return (f"{what} '{shown}' ({len(name)} characters) makes its {kind} name {size} bytes long; file systems hold "
+            f"at most {NAME_MAX_BYTES}: shorten the name")
+
+
 def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     """Return the planned jobs of a batch config; read its substrates file and geometry files (relative to the config).
 
@@ -98,10 +120,16 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     versions = numeric_versions(config.method.backend, dft=config.dft.enabled)
     rows: list[SubstrateRow] = []
     file_sha = None
+    inputs_read: list[tuple[str, Path]] = [("config file", Path(config_path))]
     if config.substrates_file is not None:
         path = Path(config.substrates_file)
         path = path if path.is_absolute() else folder / path
         rows, file_sha = read_substrate_file(path, config.substrates_file)
+        inputs_read.append(("substrates file", path))
+    for index, item in enumerate(config.bases):  # the YAML's names must fit in a file name, as its SMILES must parse
+        problem = _long_name_problem("base name", item.name, f"base-{safe_name(item.name)}.xyz", "file")
+        if problem is not None:
+            raise ConfigError(problem, key_path=f"bases.{index}.name")
     # the YAML's molecules must be usable, as for 'run'; file rows fail on their own
     charges: dict[str, int] = {}
     for role, items in (("substrate", config.substrates), ("base", config.bases)):
@@ -149,6 +177,8 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
         "substrates": [s.model_dump(mode="json") for s in merged],
         "pairs": None if config.pairs is None else [p.model_dump() for p in config.pairs if p.substrate in kept]})
     geometries = read_geometries(config, folder)
+    inputs_read += [(f"geometry file of substrate '{s.name}'", Path(s.geometry) if Path(s.geometry).is_absolute()
+                     else folder / s.geometry) for s in config.substrates if s.geometry is not None]
     by_name = {s.name: s for s in merged}
     if config.pairs:
         pairs = [(p.substrate, bases[p.base]) for p in config.pairs]
@@ -167,9 +197,17 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             job_id = job_id_of(name, base.name)
             if config.solvents:
                 job_id += f"__{safe_name(solvent_label(solvent))}"
+            too_long = _long_name_problem("substrate name", name, job_id, "job folder")
+            if too_long is not None and row is None:
+                index = next(i for i, s in enumerate(config.substrates) if s.name == name)
+                raise ConfigError(too_long, key_path=f"substrates.{index}.name")
             common = dict(key=key, job_id=job_id, substrate_name=name, substrate_smiles=inputs["smiles"], base=base,
                           solvent=solvent, source=row.source if row else "config")
             problem = row.problem if row else None
+            if problem is None and too_long is not None:  # a file row: only its jobs fail
+                jobs.append(PlannedJob(**common, input_error=ErrorInfo(error_type="config_error",
+                                                                       error_message=f"{row.source}: {too_long}")))
+                continue
             if problem is None:
                 problem = _same_molecule_problem(name, inputs["smiles"], base, row)
             if problem is None:
@@ -193,5 +231,5 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
                               f"and {job.substrate_name} + {job.base.name}): a pair is listed twice, or two names differ "
                               "only in characters that file names cannot hold", key_path="pairs" if config.pairs else None)
         seen[job.job_id] = job
-    return BatchPlan(merged_config, tuple(jobs), config.substrates_file, file_sha, versions)
+    return BatchPlan(merged_config, tuple(jobs), config.substrates_file, file_sha, versions, tuple(inputs_read))
 

@@ -2,10 +2,41 @@
 
 from __future__ import annotations
 
+import unicodedata
 from collections.abc import Sequence
 
 from elimscan.results.documents import RunResult, SeriesRecord
 from elimscan.results.records import JobRecord
+
+
+#: Unicode categories a terminal may act on instead of showing: controls (C0, DEL, C1: escape sequences),
+#: format characters (bidirectional overrides, zero-width marks), line and paragraph separators, and lone
+#: surrogates (which cannot even be encoded for the terminal)
+_UNPRINTABLE_CATEGORIES = frozenset({"Cc", "Cf", "Zl", "Zp", "Cs"})
+
+
+def _escaped(char: str) -> str:
+    code = ord(char)
+    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}" if code < 0x10000 else f"\\U{code:08x}"
+
+
+def printable(text: str) -> str:
+    """Return ``text`` (a user-given name or message) safe for a terminal: control, format, separator and
+    surrogate characters written as Python escapes (ESC as \\x1b, U+202E as \\u202e), everything else unchanged."""
+    if text.isprintable():  # the common case: nothing to escape (isprintable is False for every category above)
+        return text
+    return "".join(_escaped(c) if unicodedata.category(c) in _UNPRINTABLE_CATEGORIES else c for c in text)
+
+
+def duration_text(seconds: float | None) -> str:
+    """Return a short human duration of ``seconds`` ('45 s', '12 min', '3.5 h'; 'unknown' for None)."""
+    if seconds is None:
+        return "unknown"
+    if seconds < 90:
+        return f"{seconds:.0f} s"
+    if seconds < 5400:
+        return f"{seconds / 60:.0f} min"
+    return f"{seconds / 3600:.1f} h"
 
 
 def _kcal(value: float | None) -> str:

@@ -1,4 +1,5 @@
-"""The result documents: results.json of a run and batch.json of a batch, with their schema names and versions.
+"""The result documents: results.json of a run, batch.json of a batch and each batch job's job.json, with their
+schema names and versions.
 
 Every document carries ``schema_name`` and ``schema_version``; the unit is in each field name. Besides the
 job records (``records``) they hold provenance, seeds, run counts, substituent series and the batch's jobs.
@@ -26,6 +27,8 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 RESULT_SCHEMA_VERSION = "0.7.0"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
+JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
+JOB_COPY_SCHEMA_VERSION = "0.1.0"
 
 
 class Provenance(Record):
@@ -171,3 +174,26 @@ class BatchIndex(Record):
     counts: BatchCounts
     jobs: tuple[BatchJobEntry, ...]
     series: tuple[SeriesRecord, ...] = Field((), description="substituent series over the jobs finished so far")
+
+
+class FinishedJobCopy(Record):
+    """The document job.json in a finished batch job's folder: its store row (records, times, the checksums of its
+    other files), from which a damaged store is rebuilt."""
+
+    schema_name: Literal["elimscan.batch-job"] = JOB_COPY_SCHEMA_NAME
+    schema_version: Literal["0.1.0"] = JOB_COPY_SCHEMA_VERSION
+    job_key: str = Field(description="SHA-256 of the job's inputs and every setting that changes its numbers")
+    job_id: str
+    substrate: str
+    base: str
+    solvent: str = Field(description="the solvent label as the store keeps it (model and name)")
+    source: str = Field(description="where the substrate came from: 'config' or '<file> line <n>'")
+    status: Literal["ok", "failed"]
+    job: JobRecord
+    molecules: tuple[MoleculeRecord, ...]
+    folder: str = Field(description="this file's folder, relative to the output folder")
+    started_utc: str | None = None
+    finished_utc: str
+    wall_seconds: float | None = Field(None, description="wall time of the job (s)")
+    worker: str | None = Field(None, description="the worker that computed it (local process or Dask worker)")
+    files: tuple[FileChecksum, ...] = Field((), description="the job's other files, as committed to the store")

@@ -12,12 +12,13 @@ from typing import Any
 
 from pydantic import BaseModel
 
-from elimscan.results.documents import BatchIndex, RunResult
+from elimscan.results.documents import BatchIndex, FinishedJobCopy, RunResult
 
 SCHEMA_BASE_URI = "https://elimscan.invalid/results-schema"
 
 #: schema file name -> model
-SCHEMA_MODELS: dict[str, type[BaseModel]] = {"result.schema.json": RunResult, "batch.schema.json": BatchIndex}
+SCHEMA_MODELS: dict[str, type[BaseModel]] = {"result.schema.json": RunResult, "batch.schema.json": BatchIndex,
+                                             "job.schema.json": FinishedJobCopy}
 
 
 def json_schema(model: type[BaseModel], file_name: str) -> dict[str, Any]:
