@@ -59,11 +59,12 @@ def cmd_batch(args: argparse.Namespace) -> int:
         config = config.model_copy(update={"executor": executor})
     plan = plan_located(config, args.config)  # input errors in the YAML stop here, before any calculation
     out = Path(args.out)
-    prepare_batch_folder(out)
+    prepare_batch_folder(out, plan.input_files)  # an input among the batch's own files is refused
     # test hooks, see DEVELOPERS.md: kill the driver at a known point
     kill_after = os.environ.get("ELIMSCAN_TEST_KILL_AFTER_COMMITS")
     kill_at = os.environ.get("ELIMSCAN_TEST_KILL_AT")
-    options = BatchOptions(retry_failed=args.retry_failed, command_line=shlex.join(sys.argv),
+    options = BatchOptions(retry_failed=args.retry_failed, rebuild_store=args.rebuild_store,
+                           command_line=shlex.join(sys.argv),
                            kill_after_commits=int(kill_after) if kill_after else None,
                            kill_at=(kill_at.partition(":")[0], int(kill_at.partition(":")[2] or 1)) if kill_at else None)
     threads = args.threads or config.threads.per_process

@@ -8,7 +8,6 @@ from pathlib import Path
 
 from elimscan.cli.folders import RESULTS_FILE, checked_result_file, write_files
 from elimscan.cli.inputs import batch_only, check_structures, plan_located, read_config, with_engine
-from elimscan.cli.progress import human_duration
 from elimscan.errors import ExitCode, OutputError
 from elimscan.versions import environment_versions
 
@@ -44,28 +43,9 @@ def cmd_validate(args: argparse.Namespace) -> int:
 
 def cmd_status(args: argparse.Namespace) -> int:
     """Print the state of a batch folder from its store (read-only, also while the batch runs); return the exit code."""
-    from elimscan.batch.status import read_status
+    from elimscan.batch.status import read_status, status_lines
 
-    status = read_status(Path(args.out))
-    if status.config_name is None:
-        print(f"{status.out}: a batch store without runs")
-        return ExitCode.OK
-    if status.holder:
-        state = f"running ({status.holder})"
-    else:
-        state = {"finished": "finished", "interrupted": "interrupted (Ctrl-C or SIGTERM); run the batch again to resume",
-                 "stopped": "stopped without finishing (killed?); run the batch again to resume"}.get(
-            status.run_state, "stopped without finishing (killed?); run the batch again to resume")
-    print(f"batch '{status.config_name}' in {status.out}: {state}")
-    print(f"  last started {status.run_started_utc} on {status.executor}")
-    print(f"  jobs: {status.n_ok} ok, {status.n_failed} failed, {status.n_left} not finished, of {status.n_jobs}")
-    if status.mean_job_seconds is not None:
-        eta = f"; about {human_duration(status.eta_s)} left" if status.eta_s is not None else ""
-        print(f"  mean time per computed job: {human_duration(status.mean_job_seconds)}{eta}")
-    for job_id, worker, since, step in status.running:
-        print(f"  running: {job_id} on {worker or '?'} since {since}: {step or 'starting'}")
-    for job_id, error_type, message in status.failures:
-        print(f"  failed: {job_id}: {error_type}: {message}")
+    print("\n".join(status_lines(read_status(Path(args.out)))))
     return ExitCode.OK
 
 

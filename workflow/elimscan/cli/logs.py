@@ -6,6 +6,8 @@ import logging
 import sys
 from pathlib import Path
 
+from elimscan.output.logsetup import LogFileHandler, PrintableFormatter
+
 
 def setup_logging(verbosity: int, log_file: Path | None = None) -> None:
     """Send log records to stderr (level by -v/-q) and, when given, to a log file (DEBUG, with tracebacks)."""
@@ -15,10 +17,11 @@ def setup_logging(verbosity: int, log_file: Path | None = None) -> None:
     root.propagate = False
     stderr = logging.StreamHandler(sys.stderr)
     stderr.setLevel({-1: logging.WARNING, 0: logging.INFO}.get(verbosity, logging.DEBUG))
-    stderr.setFormatter(logging.Formatter("%(levelname)s %(message)s" if verbosity > 0 else "%(message)s"))
+    # names reach the terminal with control characters escaped (a name may carry terminal escape sequences)
+    stderr.setFormatter(PrintableFormatter("%(levelname)s %(message)s" if verbosity > 0 else "%(message)s"))
     root.addHandler(stderr)
     if log_file is not None:
-        handler = logging.FileHandler(log_file, encoding="utf-8")
+        handler = LogFileHandler(log_file)  # a full disk stops the log file with one line, not a traceback each
         handler.setLevel(logging.DEBUG)
         handler.setFormatter(logging.Formatter("%(asctime)s %(levelname)s %(name)s: %(message)s"))
         root.addHandler(handler)

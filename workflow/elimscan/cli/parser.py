@@ -57,6 +57,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
                    help="send the jobs to this existing Dask scheduler (e.g. tcp://host:8786) instead of local workers")
     p.add_argument("--retry-failed", action="store_true", help="compute the jobs that failed before again")
+    p.add_argument("--rebuild-store", action="store_true",
+                   help="the folder's store is damaged: move it aside and rebuild it from the job folders' job.json "
+                        "files whose checksums hold, then resume")
     p.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
                    help="compute with a plug-in engine made by this factory instead of GFN2-xTB "
                         "(overrides method.engine_factory; see DEVELOPERS.md)")
