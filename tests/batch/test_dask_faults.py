@@ -93,7 +93,11 @@ def test_a_dask_worker_lost_mid_job_costs_only_that_jobs_rerun(tmp_path, monkeyp
 
 
 def test_a_job_stuck_in_one_stage_on_dask_is_stopped_at_the_stage_limit(tmp_path, monkeypatch):
-    """The stuck toy engine hangs on the base; the Dask task's supervisor kills the job process at 15 s (the job process alone takes about 3 s to start on a quiet machine and over 4 s under load, and start-up is a stage too)."""
+    """The stuck toy engine hangs on the base; the Dask task's supervisor kills the job process at 15 s.
+
+    Start-up counts as a stage too: a job process alone takes about 3 s to start on a quiet machine and took
+    over 4 s under load, so the limit sits well above that.
+    """
     pytest.importorskip("distributed")
     from distributed import LocalCluster
 
