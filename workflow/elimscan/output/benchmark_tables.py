@@ -57,6 +57,20 @@ def headline_line(scores: Sequence[CaseScore], level: str, category: str | None 
     return text + (f", not computed {h.not_computed}/{h.n}" if h.not_computed else "")
 
 
+def count_rows(scores: Sequence[CaseScore], levels: Sequence[str], categories: Sequence[str] | None) -> list[str]:
+    """Return a Markdown table of the counts per level (and per category when given), undecided in its own column."""
+    first = "| category | level |" if categories is not None else "| level |"
+    rows = [first + " computed right | rule right | undecided (not right) | not computed |",
+            "|---|" + ("---|" if categories is not None else "") + "---|---|---|---|"]
+    for category in categories if categories is not None else [None]:
+        for level in levels:
+            h = headline(scores, level, category)
+            lead = f"| {category} | {LEVEL_WORDS[level]} |" if category is not None else f"| {LEVEL_WORDS[level]} |"
+            rows.append(f"{lead} {h.right}/{h.n} | {h.rule_right}/{h.rule_n} | {h.undecided}/{h.n} | "
+                        f"{h.not_computed}/{h.n} |")
+    return rows
+
+
 def _experiment(score: CaseScore) -> str:
     """Return the experiment cell: major, published shares, E2 share, approach, and the source."""
     e = score.case.expected
@@ -87,7 +101,7 @@ def _level_cell(score: CaseScore, level: str) -> str:
     majors = Counter(s.mix.major for s in ls.seeds if s.mix is not None)
     parts = [f"**{ls.outcome}**"]
     if majors:
-        parts.append("top " + ", ".join(_code(m) + (f" ({n} seeds)" if len(majors) > 1 else "")
+        parts.append("top " + ", ".join(_code(m) + (f" ({n} seed{'s' if n > 1 else ''})" if len(majors) > 1 else "")
                                          for m, n in majors.most_common()))
         parts.append("mix " + ", ".join(f"{_code(p)} {100 * f:.0f} %" for p, f in ls.mean_shares.items()))
     judged = [f"{_code(s)} {100 * ls.mean_alkene_shares[isomer_key(s)]:.0f} % of alkenes"
@@ -181,11 +195,9 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
     lines += ["## Headline", ""]
     for level in levels:
         lines.append(f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level)}")
-    lines += ["", "## Per category", "", "| category | " + " | ".join(LEVEL_WORDS[lv] for lv in levels) + " |",
-              "|---|" + "---|" * len(levels)]
-    for category in CATEGORIES:
-        if any(category in s.case.category for s in scores):
-            lines.append(f"| {category} | " + " | ".join(headline_line(scores, lv, category) for lv in levels) + " |")
+    lines += ["", *count_rows(scores, levels, None)]
+    lines += ["", "## Per category", "", "A case counts once in each of its categories.", "",
+              *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
     lines += ["", "## Test cases", "",
               "| case | experiment — source | rule | " + " | ".join(LEVEL_WORDS[lv] for lv in levels)
               + " | seed spread (points) | job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
