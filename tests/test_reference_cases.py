@@ -161,3 +161,12 @@ def test_the_command_line_refuses_no_compute_without_a_work_folder(validate, cap
         validate._parse(["--no-compute"])
     assert "--no-compute needs --work" in capsys.readouterr().err
     assert validate._parse(["--subset", "fast", "--seeds", "2"]).seeds == 2
+
+
+def test_a_paths_override_is_checked_like_a_config():
+    text = CASES_TEXT.replace("    substrate: {name: bromoethane, smiles: \"CCBr\"}\n    base: ethoxide\n    temperature_K: 328.15\n"
+                              "    expected:", "    substrate: {name: bromoethane, smiles: \"CCBr\"}\n    base: ethoxide\n"
+                              "    temperature_K: 328.15\n    paths: {substitution: maybe}\n    expected:", 1)
+    assert text != CASES_TEXT
+    with pytest.raises(CaseFileError, match="'bromoethane-ethoxide'.*paths.substitution"):
+        parse_cases(text)

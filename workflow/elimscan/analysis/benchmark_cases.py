@@ -16,7 +16,7 @@ import yaml
 from pydantic import BaseModel, ConfigDict, Field, ValidationError
 from rdkit import Chem
 
-from elimscan.config import BASE_LIBRARY, SolventConfig
+from elimscan.config import BASE_LIBRARY, PathConfig, SolventConfig
 from elimscan.errors import CaseFileError, SolventError, StructureError
 from elimscan.solvents import check_solvent
 from elimscan.chem.structures import parse_smiles
@@ -184,6 +184,11 @@ def _check_common(case: _Computed) -> list[str]:
         problems.append(f"solvent: {err}")
     if len(set(case.seeds)) != len(case.seeds):
         problems.append(f"seeds repeat a value: {list(case.seeds)}")
+    if case.paths:
+        try:
+            PathConfig.model_validate(case.paths)
+        except ValidationError as err:
+            problems.append(f"paths.{_validation_message(err)}")
     return problems
 
 
