@@ -43,6 +43,8 @@ FAST_SUBSET = ("bromoethane-ethoxide", "2-bromopropane-ethoxide", "2-bromo-2-met
                "2-bromobutane-ethoxide", "trans-2-methylcyclohexyl-chloride-ethoxide",
                "ethyl-bromide-ethoxide-sn2-rate", "isopropyl-bromide-ethoxide-e2-rate")
 PAGES = {"all": HERE / "VALIDATION.md", "fast": HERE / "VALIDATION-fast.md"}
+#: one JSON line per invocation that computed in a work folder (its wall time, commit, subset and seeds)
+RUN_LOG = "validate-runs.jsonl"
 
 
 def _parse(argv: list[str] | None) -> argparse.Namespace:
@@ -112,17 +114,27 @@ def _commit() -> str:
 def main(argv: list[str] | None = None) -> int:
     """Run the benchmark's batches, score them and write the page; return the exit code."""
     started, commit = time.perf_counter(), _commit()  # the code that runs is the code at the start
+    started_utc = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     args = _parse(argv)
     cases = parse_cases((HERE / "cases.yaml").read_text())
     chosen = [c for c in (*cases.calibration, *cases.test) if args.subset == "all" or c.id in FAST_SUBSET]
     seed_count = args.seeds if args.seeds is not None else (1 if args.subset == "fast" else None)
-    groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine), key=lambda g: (g.config["seed"], g.name))
+    groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine),
+                    key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
         if not args.no_compute:
-            for group in groups:
-                _run_group(group, work, args.workers)
+            try:
+                for group in groups:
+                    _run_group(group, work, args.workers)
+            finally:  # an interrupted invocation counts its wall time too
+                entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
+                         "commit": commit, "subset": args.subset, "seeds": seed_count}
+                with open(work / RUN_LOG, "a") as log:
+                    log.write(json.dumps(entry) + "\n")
+        log_file = work / RUN_LOG
+        runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
         records: dict[str, dict[int, dict]] = {}
         seconds: dict[str, dict[int, float | None]] = {}
         provenance, n_jobs, n_finished, job_seconds = None, 0, 0, 0.0
@@ -150,6 +162,7 @@ def main(argv: list[str] | None = None) -> int:
     all_seeds = sorted({s for case in chosen for s in seeds_for(case, seed_count)})
     info = RunInfo(date_utc=_dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"), commit=commit,
                    wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, method=method,
+                   compute_seconds=sum(r["wall_seconds"] for r in runs), n_compute_runs=len(runs),
                    seeds=tuple(all_seeds), subset="all cases" if args.subset == "all" else
                    f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)",
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),

@@ -13,7 +13,7 @@ from benchmarkrecords import case, record  # bookkeeping job records and cases (
 
 INFO = RunInfo(date_utc="2026-12-03 12:00 UTC", commit="abc1234", wall_seconds=5400.0, job_seconds=7200.0,
                method="GFN2-xTB/ALPB(ethanol)", seeds=(1, 2, 3), subset="all cases", command="python validation/validate.py",
-               n_jobs=6, n_jobs_finished=5)
+               n_jobs=6, n_jobs_finished=5, compute_seconds=9000.0, n_compute_runs=2)
 
 
 def scores():
@@ -38,7 +38,7 @@ def test_the_headline_counts_right_rule_and_undecided_apart():
 
 def test_the_page_names_the_run_and_gives_every_part():
     page = validation_markdown(INFO, scores(), [], ["dE"])
-    assert "2026-12-03 12:00 UTC, commit `abc1234`" in page and "wall time of this invocation 1 h 30 min" in page
+    assert "2026-12-03 12:00 UTC, commit `abc1234`" in page and "wall time: 2 h 30 min over the 2 invocation(s) that computed in this work folder (this one: 1 h 30 min)" in page
     assert "5 of 6 jobs finished (**1 not finished" in page
     assert "- **GFN2-xTB dE**: computed right 1/3, rule right 2/3, undecided 1/3" in page
     assert "| GFN2-xTB dE | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column

@@ -35,6 +35,9 @@ class RunInfo:
     command: str
     n_jobs: int
     n_jobs_finished: int
+    #: summed wall time (s) of the invocations that computed in this work folder, and how many there were
+    compute_seconds: float = 0.0
+    n_compute_runs: int = 0
 
 
 def _code(smiles: str | None) -> str:
@@ -177,8 +180,9 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"- run: {info.date_utc}, commit `{info.commit}`, {info.method}",
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
-             f"- wall time of this invocation {_duration(info.wall_seconds)}; time of the jobs it scored "
-             f"{_duration(info.job_seconds)} (summed over jobs; jobs from an earlier invocation keep their own time)",
+             f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
+             f"in this work folder (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
+             f"{_duration(info.job_seconds)} summed over jobs",
              f"- command: `{info.command}`", "",
              "How to read it. Levels: dE, GFN2-xTB electronic barriers; dG, quasi-RRHO free barriers of verified saddles "
              "(1 M; paths without one are left out of that level's mix); DFT//GFN2, DFT single points on the GFN2-xTB "
