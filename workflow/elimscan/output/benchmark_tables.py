@@ -175,8 +175,9 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
     """Return the whole VALIDATION.md text of one benchmark run."""
     unfinished = info.n_jobs - info.n_jobs_finished
     lines = ["# elimscan reference benchmark", "",
-             "Written by `validation/validate.py` (`make reference-cases`) from `validation/cases.yaml`; never edited "
-             "by hand. Re-running the same command rewrites this page.", "",
+             "Written by `validation/validate.py` (`make reference-cases`, or `make reference-cases-fast` for the fast "
+             "subset) from `validation/cases.yaml`; never edited by hand. Re-running the same command rewrites this "
+             "page.", "",
              f"- run: {info.date_utc}, commit `{info.commit}`, {info.method}",
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
