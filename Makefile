@@ -1,7 +1,7 @@
 # elimscan: two commands for a fresh clone (see README.md)
 #   make demo   - create .venv if missing, install, run the demo, print a summary
 #   make test   - create/update .venv with test extras, run pytest (both tiers)
-# Other targets: test-fast (no GFN2-xTB), bench, schema, clean.
+# Other targets: test-fast (no GFN2-xTB), bench, reference-cases(-fast), schema, clean.
 
 PYTHON ?= python3.11
 VENV   := .venv
@@ -13,7 +13,7 @@ export MKL_NUM_THREADS ?= 1
 export OMP_STACKSIZE ?= 1G
 export MPLBACKEND ?= Agg
 
-.PHONY: validate demo test test-fast bench kernel-sweep schema clean check-python browser-deps
+.PHONY: reference-cases reference-cases-fast demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -68,9 +68,17 @@ SWEEP_DIR ?= results/kernel-sweep
 kernel-sweep: $(VENV)/.installed
 	$(VPY) benchmarks/kernel_sweep.py --work $(SWEEP_DIR) --demo
 
-# Reference cases against experiment (tens of minutes; not part of make test): writes validation/VALIDATION.md
-validate: $(VENV)/.installed
-	$(VPY) validation/validate.py
+# The reference benchmark (validation/cases.yaml) against experiment; not part of make test. Resumable: the
+# batches stay in REFERENCE_DIR, and running the target again computes only the unfinished jobs.
+#   reference-cases       every case, three seeds; writes validation/VALIDATION.md (days on two cores)
+#   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast.md (a quick look)
+REFERENCE_DIR ?= results/reference-cases
+REFERENCE_WORKERS ?= 2
+reference-cases: $(VENV)/.installed
+	$(VPY) validation/validate.py --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
+
+reference-cases-fast: $(VENV)/.installed
+	$(VPY) validation/validate.py --subset fast --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
 
 schema: $(VENV)/.installed
 	$(VPY) -m elimscan.results.schema results-schema

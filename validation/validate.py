@@ -1,273 +1,178 @@
-"""`make validate`: run the reference cases and write validation/VALIDATION.md (takes tens of minutes).
+"""`make reference-cases`: run the reference benchmark of validation/cases.yaml and write its page.
 
-For each case: the experimental outcome with its source, and at each level the predicted major product and
-whether it agrees: the geometric rule; GFN2-xTB electronic barriers (dE); GFN2-xTB quasi-RRHO free
-barriers (dG, verified saddles only); and, for cases that switch the DFT tier on, DFT single points on the
-GFN2-xTB saddles (DFT//GFN2). A second table gives the sign of the bulky-base shift (1-butene from
-2-bromobutane, sodium ethoxide vs potassium tert-butoxide) under each base model. Close calls (different products within 1 kcal/mol at a level) are reported
-as "within method uncertainty" instead of a pick. The mixes at every level come from elimscan's own
-Curtin-Hammett function applied to the barriers in results.json.
+A thin entry point. ``elimscan.analysis.benchmark_cases`` reads and checks the case file,
+``benchmark_jobs`` turns every case x seed into a job of a batch config (one config per seed, temperature,
+solvent and paths block), ``benchmark_scoring`` and ``benchmark_calibration`` score the finished job
+records, and ``elimscan.output.benchmark_tables`` renders the page. The jobs run as ordinary resumable
+``elimscan batch`` runs in the work folder (``--work``): run the same command again after a stop and only
+unfinished jobs are computed; change a case and only its jobs run again.
 
-Options: ``--work DIR`` keeps every run and reuses finished ones (a long validation survives a stop),
-``--only cases|shift`` runs one part, ``--no-compute`` writes the table from kept runs only, ``--no-write``
-prints it without replacing VALIDATION.md.
+Options: ``--work DIR`` (keep the batches; default a temporary folder), ``--no-compute`` (score what DIR
+holds, also while another invocation still runs), ``--no-write`` (print the page only), ``--subset fast``
+(a few small cases, one seed, writes VALIDATION-fast.md), ``--seeds N`` (the first N seeds of each case),
+``--workers N`` (local worker processes of each batch).
 """
 
 from __future__ import annotations
 
 import argparse
+import datetime as _dt
 import json
-import os
 import subprocess
 import sys
 import tempfile
 import time
-from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import yaml
-from rdkit import Chem
 
-from elimscan.analysis.rule import PathBarrier, compare_verdicts, product_fractions
+from elimscan.analysis.benchmark_calibration import score_calibration
+from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
+from elimscan.analysis.benchmark_jobs import BatchGroup, batch_groups, benchmark_jobs, seeds_for
+from elimscan.analysis.benchmark_scoring import computed_levels, score_case
+from elimscan.atomicio import write_text_atomic
+from elimscan.batch.documents import INDEX_FILE
+from elimscan.batch.plan import plan_batch
+from elimscan.batch.store import STORE_FILE, JobStore
+from elimscan.config import parse_config
+from elimscan.output.benchmark_tables import RunInfo, series_rows, validation_markdown
 
 HERE = Path(__file__).resolve().parent
-#: result field per level: electronic dE, quasi-RRHO dG, DFT single points on the GFN2 saddles
-LEVELS = {"dE": "barrier_kcal_mol", "dG": "barrier_free_energy_kcal_mol", "DFT//GFN2": "barrier_dft_kcal_mol"}
-
-
-def _classify(smiles: str | None, case: dict) -> str:
-    """Return 'internal', 'terminal' or the SMILES itself, as the case's expectation is phrased."""
-    if smiles is None:
-        return "none"
-    mol = Chem.MolFromSmiles(smiles)
-    if "expected_major_smarts" in case:
-        return "expected" if mol.HasSubstructMatch(Chem.MolFromSmarts(case["expected_major_smarts"])) else smiles
-    return "terminal" if mol.HasSubstructMatch(Chem.MolFromSmarts("[CH2]=[CH]")) else "internal"
-
-
-def _verdict(got: str, case: dict) -> str:
-    """Return 'agrees' or 'disagrees' with the case's expected major product."""
-    want = "expected" if "expected_major_smarts" in case else case["expected_major"]
-    return "agrees" if got == want else "disagrees"
-
-
-def level_paths(job: dict, field: str) -> list[PathBarrier]:
-    """Return the E2 paths of a job record that carry a barrier in ``field`` (kcal/mol)."""
-    paths = []
-    for h in job["beta_hydrogens"]:
-        for approach in ("anti", "syn"):
-            block = h[approach]
-            if block.get("path_status") == "ok" and block.get(field) is not None:
-                paths.append(PathBarrier(h["class_id"], approach, block["product_smiles"], block[field], h["degeneracy"]))
-    return paths
-
-
-def level_cell(job: dict, field: str, temperature_K: float, case: dict) -> str:
-    """Return the table cell of one level: major product, agreement and the mix, or why there is none."""
-    paths = level_paths(job, field)
-    if not paths:
-        return "not computed"
-    shares = product_fractions(paths, temperature_K)
-    verdict = compare_verdicts(job["rule"]["rule_major"], shares, paths)
-    mix = ", ".join(f"{s} {f:.0%}" for s, f in sorted(shares.items(), key=lambda kv: -kv[1]))
-    if verdict.within_method_uncertainty:
-        return f"within method uncertainty ({mix})"
-    return f"{verdict.computed_major} ({_verdict(_classify(verdict.computed_major, case), case)}; {mix})"
-
-
-def _finished_same(out: Path, config_text: str) -> bool:
-    """Return True when ``out`` holds a finished run of exactly this config (so it can be reused)."""
-    kept = out.parent / f"{out.name}.yaml.done"
-    return (out / "results.json").exists() and kept.exists() and kept.read_text() == config_text
-
-
-def run_case(case: dict, work: Path) -> dict:
-    """Return the finished job record of one case (or an error), run through the elimscan command.
-
-    A finished run of the same config already in ``work`` is reused, so an interrupted ``make validate``
-    with a kept work folder computes only what is missing.
-    """
-    config = work / f"{case['config']['name']}.yaml"
-    config_text = yaml.safe_dump(case["config"])
-    config.write_text(config_text)
-    out = work / case["config"]["name"]
-    seconds_file = work / f"{case['config']['name']}.seconds"
-    if _finished_same(out, config_text):
-        print(f"reusing {out}", file=sys.stderr, flush=True)
-        seconds = float(seconds_file.read_text()) if seconds_file.exists() else float("nan")
-    else:
-        start = time.perf_counter()
-        done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(out), "-q",
-                               "--overwrite"], capture_output=True, text=True)
-        seconds = time.perf_counter() - start
-        if done.returncode not in (0, 5):
-            return {"error": done.stderr.strip().splitlines()[-1] if done.stderr.strip() else f"exit {done.returncode}"}
-        seconds_file.write_text(f"{seconds:.1f}")
-        (work / f"{case['config']['name']}.yaml.done").write_text(config_text)
-    document = json.loads((out / "results.json").read_text())
-    job = document["jobs"][0]
-    if job["status"] != "ok":
-        return {"error": job["error"]["error_message"]}
-    return {"job": job, "temperature_K": document["config"]["method"]["temperature_K"], "seconds": seconds}
-
-
-def _shift_configs(spec: dict) -> list[tuple[tuple[str, str, str], dict]]:
-    """Return ((continuum, model, side), config) for every continuum, base model and side of the shift."""
-    configs = []
-    for continuum in spec["continua"]:
-        for model_name in continuum.get("models", list(spec["models"])):
-            model = spec["models"][model_name]
-            for side in ("small", "bulky"):
-                part = spec[side]
-                resolved = {k: (part["cation"] if v == "cation" else v) for k, v in model.items()}
-                slug = "".join(c if c.isalnum() else "-" for c in f"{continuum[side]['model']}-{model_name}-{side}")
-                config = {"name": f"val-shift-{slug}", "method": {"solvent": continuum[side]},
-                          "substrates": [spec["substrate"]], "paths": {**spec.get("paths", {}),
-                                                                       **continuum.get("paths", {})},
-                          "bases": [{"name": part["base"], **({"model": resolved} if resolved else {})}]}
-                if model_name in continuum.get("dft_models", []):
-                    config["dft"] = {**spec["dft"], "dielectric_constant": part["dft_epsilon"]}
-                configs.append(((continuum["name"], model_name, side), config))
-    return configs
-
-
-def terminal_share(job: dict, field: str, temperature_K: float) -> float | None:
-    """Return the computed 1-alkene (terminal) share (0-1) of a job from the barriers in ``field``, or None."""
-    paths = level_paths(job, field)
-    if not paths:
-        return None
-    shares = product_fractions(paths, temperature_K)
-    return sum(f for s, f in shares.items() if _classify(s, {}) == "terminal")
-
-
-def largest_start_spread(job: dict) -> float | None:
-    """Return the largest spread of path tops over the starts of one approach in a job (kcal/mol), or None."""
-    spreads = [h[a]["start_spread_kcal_mol"] for h in job["beta_hydrogens"] for a in ("anti", "syn")
-               if h[a].get("start_spread_kcal_mol") is not None]
-    return max(spreads) if spreads else None
-
-
-def failed_paths(job: dict) -> tuple[int, int]:
-    """Return (failed, computed or failed) counts of a job's anti/syn paths: a mix over part of them is no mix."""
-    states = [h[a]["path_status"] for h in job["beta_hydrogens"] for a in ("anti", "syn")]
-    return states.count("failed"), sum(s in ("ok", "failed") for s in states)
-
-
-def shift_rows(models: list[str], results: dict, field: str = LEVELS["dE"]) -> list[str]:
-    """Return the Markdown rows of one block of the bulky-base shift table, from runs keyed by (model, side)."""
-    rows = ["| base model | 1-butene, small base | 1-butene, bulky base | shift | sign as experiment? | "
-            "largest GFN2-xTB start spread, small / bulky (kcal/mol) | wall time |",
-            "|---|---|---|---|---|---|---|"]
-    for model_name in models:
-        got, minutes, spreads = {}, [], []
-        for side in ("small", "bulky"):
-            result = results.get((model_name, side), {"error": "not computed"})
-            got[side] = None if "error" in result else terminal_share(result["job"], field, result["temperature_K"])
-            spread = None if "error" in result else largest_start_spread(result["job"])
-            spreads.append("-" if spread is None else f"{spread:.1f}")
-            if "seconds" in result:
-                minutes.append(f"{result['seconds'] / 60:.0f}")
-        wall = " + ".join(minutes) + " min" if minutes else "-"
-        spread_cell = " / ".join(spreads)
-        if None in got.values():
-            why = "; ".join(results.get((model_name, s), {"error": "not computed"}).get("error", "not computed at this level")
-                            for s in ("small", "bulky") if got[s] is None)
-            rows.append(f"| {model_name} | - | - | - | {why} | {spread_cell} | {wall} |")
-            continue
-        broken = {side: failed_paths(results[(model_name, side)]["job"]) for side in ("small", "bulky")}
-        if any(n for n, _ in broken.values()):
-            why = "; ".join(f"not judged: {n} of {total} paths failed ({side} base)"
-                            for side, (n, total) in broken.items() if n)
-            rows.append(f"| {model_name} | {got['small']:.0%} | {got['bulky']:.0%} | - | {why} | {spread_cell} | {wall} |")
-            continue
-        shift = got["bulky"] - got["small"]
-        rows.append(f"| {model_name} | {got['small']:.0%} | {got['bulky']:.0%} | {shift:+.0%} | "
-                    f"{'yes' if shift > 0 else 'no'} | {spread_cell} | {wall} |")
-    return rows
+#: a quick look (issue 17): five small test cases and the two rate constants that share their jobs, one seed
+FAST_SUBSET = ("bromoethane-ethoxide", "2-bromopropane-ethoxide", "2-bromo-2-methylpropane-ethoxide",
+               "2-bromobutane-ethoxide", "trans-2-methylcyclohexyl-chloride-ethoxide",
+               "ethyl-bromide-ethoxide-sn2-rate", "isopropyl-bromide-ethoxide-e2-rate")
+PAGES = {"all": HERE / "VALIDATION.md", "fast": HERE / "VALIDATION-fast.md"}
+#: one JSON line per invocation that computed in a work folder (its wall time, commit, subset and seeds)
+RUN_LOG = "validate-runs.jsonl"
 
 
 def _parse(argv: list[str] | None) -> argparse.Namespace:
-    """Return the parsed command line of the validation run."""
-    parser = argparse.ArgumentParser(description="run the reference cases and write validation/VALIDATION.md")
+    """Return the parsed command line."""
+    parser = argparse.ArgumentParser(description="run the reference benchmark and write validation/VALIDATION.md")
     parser.add_argument("--work", type=Path, default=None,
-                        help="keep the runs in this folder and reuse finished ones (default: a temporary folder)")
-    parser.add_argument("--only", choices=("cases", "shift"), default=None,
-                        help="run only the reference cases or only the bulky-base shift rows (the table is still "
-                             "written, with the other part from finished runs in --work or 'not computed')")
-    parser.add_argument("--no-compute", action="store_true",
-                        help="compute nothing: write the table from the finished runs in --work only")
-    parser.add_argument("--no-write", action="store_true", help="print the table, do not overwrite VALIDATION.md")
-    return parser.parse_args(argv)
+                        help="keep the batch folders here and resume them (default: a temporary folder)")
+    parser.add_argument("--no-compute", action="store_true", help="compute nothing: score the jobs finished in --work")
+    parser.add_argument("--no-write", action="store_true", help="print the page, do not write it")
+    parser.add_argument("--subset", choices=("all", "fast"), default="all",
+                        help="fast: %d small cases, one seed, page VALIDATION-fast.md" % len(FAST_SUBSET))
+    parser.add_argument("--seeds", type=int, default=None, metavar="N",
+                        help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
+    parser.add_argument("--workers", type=int, default=None, help="local worker processes of each batch "
+                        "(default: the batch config's executor.workers, else the core count)")
+    parser.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
+                        help="compute with a plug-in engine instead of GFN2-xTB (for tests; part of each job's key)")
+    args = parser.parse_args(argv)
+    if args.no_compute and args.work is None:
+        parser.error("--no-compute needs --work (the folder that holds the finished batches)")
+    if args.seeds is not None and args.seeds < 1:
+        parser.error("--seeds must be at least 1")
+    return args
 
 
-def _case_row(case: dict, result: dict) -> str:
-    """Return the Markdown row of one reference case."""
-    source = f"{case['experiment']} ({case['source']})"
-    if "error" in result:
-        return f"| {case['name']} | {source} | - |" + " - |" * len(LEVELS) + f" {result['error']} |"
-    job = result["job"]
-    rule_major = job["rule"]["rule_major"]
-    cells = [level_cell(job, field, result["temperature_K"], case) for field in LEVELS.values()]
-    return (f"| {case['name']} | {source} | {rule_major} ({_verdict(_classify(rule_major, case), case)}) | "
-            + " | ".join(cells) + f" | {result['seconds'] / 60:.1f} min |")
+def _run_group(group: BatchGroup, work: Path, workers: int | None) -> None:
+    """Run (or resume) one group's batch through the elimscan command; report a batch that could not run."""
+    config = work / f"{group.name}.yaml"
+    text = yaml.safe_dump(group.config, sort_keys=False)
+    if not config.exists() or config.read_text() != text:
+        config.write_text(text)
+    command = [sys.executable, "-m", "elimscan", "batch", str(config), "--out", str(work / group.name), "-q"]
+    if workers is not None:
+        command += ["--workers", str(workers)]
+    print(f"batch {group.name}: {len(group.serves)} job(s)", file=sys.stderr, flush=True)
+    done = subprocess.run(command, stderr=subprocess.PIPE, text=True)
+    if done.returncode not in (0, 5):  # 5: finished with failed jobs (their records say why)
+        tail = done.stderr.strip().splitlines()[-3:]
+        print(f"batch {group.name} stopped with exit code {done.returncode}: {' / '.join(tail)}", file=sys.stderr)
 
 
-def _reuse_only(case: dict, work: Path) -> dict:
-    """Return a finished run of ``case`` kept in ``work``, or an error saying it was not run this time."""
-    out = work / case["config"]["name"]
-    if _finished_same(out, yaml.safe_dump(case["config"])):
-        return run_case(case, work)
-    return {"error": "not computed (left out of this validation run)"}
+def _read_group(group: BatchGroup, work: Path) -> tuple[dict[tuple[str, str], tuple[dict, float | None]], dict | None]:
+    """Return the finished job records of one group by (substrate, base) with their wall time (s), and its provenance."""
+    config_file, out = work / f"{group.name}.yaml", work / group.name
+    if not (out / STORE_FILE).is_file():
+        return {}, None
+    plan = plan_batch(parse_config(yaml.safe_dump(group.config, sort_keys=False), str(config_file)), config_file)
+    names = {job.key: (job.substrate_name, job.base.name) for job in plan.jobs}
+    with JobStore(out / STORE_FILE, read_only=True) as store:
+        rows = store.finished(list(names), with_records=True)
+    index = out / INDEX_FILE
+    provenance = json.loads(index.read_text())["provenance"] if index.is_file() else None
+    return {names[key]: (json.loads(row.job_json), row.wall_seconds) for key, row in rows.items()}, provenance
+
+
+def _commit() -> str:
+    """Return the short commit of the checkout ('-dirty' with uncommitted changes to tracked files)."""
+    def git(*words: str) -> subprocess.CompletedProcess:
+        return subprocess.run(["git", "-C", str(HERE), *words], capture_output=True, text=True)
+
+    head = git("rev-parse", "--short", "HEAD")
+    if head.returncode:
+        return "unknown"
+    return head.stdout.strip() + ("-dirty" if git("diff", "--quiet", "HEAD").returncode else "")
 
 
 def main(argv: list[str] | None = None) -> int:
-    """Run the cases (two at a time on a 2-core machine) and write VALIDATION.md; return the exit code."""
+    """Run the benchmark's batches, score them and write the page; return the exit code."""
+    started, commit = time.perf_counter(), _commit()  # the code that runs is the code at the start
+    started_utc = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     args = _parse(argv)
-    document = yaml.safe_load((HERE / "cases.yaml").read_text())
-    cases, spec = document["cases"], document.get("bulky_shift")
-    head = "| case | experiment (source) | rule | " + " | ".join(f"GFN2-xTB {k}" if k != "DFT//GFN2" else k
-                                                               for k in LEVELS) + " | wall time |"
-    rows = [head, "|" + "---|" * (4 + len(LEVELS))]
-    shift_jobs = _shift_configs(spec) if spec else []
-    workers = max(1, min(os.cpu_count() or 1, int(os.environ.get("VALIDATE_WORKERS", "2"))))
-    with tempfile.TemporaryDirectory() as tmp, ThreadPoolExecutor(workers) as pool:
+    cases = parse_cases((HERE / "cases.yaml").read_text())
+    chosen = [c for c in (*cases.calibration, *cases.test) if args.subset == "all" or c.id in FAST_SUBSET]
+    seed_count = args.seeds if args.seeds is not None else (1 if args.subset == "fast" else None)
+    groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine),
+                    key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
+    with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
-        run_cases = run_case if args.only in (None, "cases") and not args.no_compute else _reuse_only
-        run_shift = run_case if args.only in (None, "shift") and not args.no_compute else _reuse_only
-        case_futures = [pool.submit(run_cases, case, work) for case in cases]
-        shift_futures = {key: pool.submit(run_shift, {"config": config}, work) for key, config in shift_jobs}
-        for case, future in zip(cases, case_futures):
-            rows.append(_case_row(case, future.result()))
-            print(f"finished {case['name']}", file=sys.stderr, flush=True)
-        shift_results = {}
-        for key, future in shift_futures.items():
-            shift_results[key] = future.result()
-            print(f"finished bulky-base shift: {', '.join(key)} base", file=sys.stderr, flush=True)
-    text = ["# elimscan validation table", "",
-            "Written by `make validate` (validation/validate.py) from validation/cases.yaml. Each level names the "
-            "computed major product, whether it agrees with experiment, and the Curtin-Hammett mix at that level. "
-            "dE: GFN2-xTB electronic barriers; dG: quasi-RRHO free barriers (1 M, verified saddles only); "
-            "DFT//GFN2: DFT single points on the GFN2-xTB saddles (only for cases that switch the tier on). "
-            "'within method uncertainty': different products within 1 kcal/mol at that level.", "", *rows, ""]
-    if spec:
-        text += ["## The bulky-base shift under each base model", "",
-                 f"2-bromobutane; small base: {spec['small']['base']} ({spec['small']['cation']}+ where paired); "
-                 f"bulky base: {spec['bulky']['base']} ({spec['bulky']['cation']}+ where paired); paths: "
-                 f"{spec.get('paths', {})}. Experiment: {spec['experiment']} ({spec['source']}). Only the sign of "
-                 "the shift is judged.", ""]
-        for continuum in spec["continua"]:
-            name = continuum["name"]
-            block = {key[1:]: result for key, result in shift_results.items() if key[0] == name}
-            models = continuum.get("models", list(spec["models"]))
-            text += [f"### {name}", "", "GFN2-xTB electronic barriers (dE):", "", *shift_rows(models, block), ""]
-            if continuum.get("dft_models"):
-                text += [f"DFT//GFN2, IEF-PCM at each alcohol's ε (ethanol {spec['small']['dft_epsilon']}, "
-                         f"tert-butanol {spec['bulky']['dft_epsilon']}):", "",
-                         *shift_rows(continuum["dft_models"], block, LEVELS["DFT//GFN2"]), ""]
+        if not args.no_compute:
+            try:
+                for group in groups:
+                    _run_group(group, work, args.workers)
+            finally:  # an interrupted invocation counts its wall time too
+                entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
+                         "commit": commit, "subset": args.subset, "seeds": seed_count}
+                with open(work / RUN_LOG, "a") as log:
+                    log.write(json.dumps(entry) + "\n")
+        log_file = work / RUN_LOG
+        runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
+        records: dict[str, dict[int, dict]] = {}
+        seconds: dict[str, dict[int, float | None]] = {}
+        provenance, n_jobs, n_finished, job_seconds = None, 0, 0, 0.0
+        for group in groups:
+            found, group_provenance = _read_group(group, work)
+            provenance = provenance or group_provenance
+            n_jobs += len(group.serves)
+            for pair, served in group.serves.items():
+                if pair not in found:
+                    continue
+                job, wall = found[pair]
+                n_finished += 1
+                job_seconds += wall or 0.0
+                for slot, seed in served:
+                    records.setdefault(slot, {})[seed] = job
+                    seconds.setdefault(slot, {})[seed] = wall
+    tests = [c for c in chosen if isinstance(c, OutcomeCase)]
+    levels = computed_levels([job for by_seed in records.values() for job in by_seed.values()]) or ["dE"]
+    scores = [score_case(case, records.get(case.id, {}), seeds_for(case, seed_count), levels,
+                         sum(s or 0.0 for s in seconds.get(case.id, {}).values()) or None) for case in tests]
+    calibration = [score_calibration(case, records, seeds_for(case, seed_count))
+                   for case in chosen if not isinstance(case, OutcomeCase)]
+    method = (f"{provenance['method_label']} ({provenance['backend']} {provenance['backend_version']}, elimscan "
+              f"{provenance['program_version']})") if provenance else "no finished batch"
+    all_seeds = sorted({s for case in chosen for s in seeds_for(case, seed_count)})
+    info = RunInfo(date_utc=_dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"), commit=commit,
+                   wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, method=method,
+                   compute_seconds=sum(r["wall_seconds"] for r in runs), n_compute_runs=len(runs),
+                   seeds=tuple(all_seeds), subset="all cases" if args.subset == "all" else
+                   f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)",
+                   command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
+                   n_jobs=n_jobs, n_jobs_finished=n_finished)
+    page = validation_markdown(info, scores, calibration, levels)
     if not args.no_write:
-        (HERE / "VALIDATION.md").write_text("\n".join(text))
-    print("\n".join(text))
+        write_text_atomic(PAGES[args.subset], page)
+        print(f"wrote {PAGES[args.subset]}", file=sys.stderr)
+    print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
+    print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))
     return 0
 
 

@@ -68,6 +68,12 @@ class StructureError(InputError):
     error_type = "structure_error"
 
 
+class CaseFileError(InputError):
+    """Fires while reading the benchmark's case file (validation/cases.yaml): the message names the case id."""
+
+    error_type = "case_file_error"
+
+
 class SolventError(InputError):
     """Fires when a backend is asked for a solvent model or solvent name it does not support."""
 

@@ -4,4 +4,8 @@
 - ``thermo``: ideal-gas thermochemistry with quasi-RRHO entropy; Bigeleisen-Mayer isotope effects
 - ``character``: saddle character from Pauling bond orders
 - ``series``: substituent series, log10(k/k0) and the Hammett fit
+- ``benchmark_cases``: the reference benchmark's case file (validation/cases.yaml) as checked frozen models
+- ``benchmark_jobs``: every case x seed as a job, grouped into batch configs
+- ``benchmark_scoring``: the test set scored per level and seed (exact isomers, shares, undecided, the rule)
+- ``benchmark_calibration``: the calibration set's errors (Eyring barriers, isotope effects, Hammett rho)
 """

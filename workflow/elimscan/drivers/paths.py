@@ -18,7 +18,8 @@ from ase import Atoms
 
 from elimscan.config import OptimizerConfig, PathConfig
 from elimscan.geometry import dihedral_deg, distance
-from elimscan.results.flags import NOT_TO_PRODUCTS, UNFINISHED_ABOVE, UNFINISHED_MAXIMUM
+from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, NOT_TO_PRODUCTS, OTHER_HYDROGEN, SN2_LIKE,
+                                    UNFINISHED_ABOVE, UNFINISHED_MAXIMUM)
 from elimscan.drivers.complexes import ComplexResult, Reactive, SubstitutionReactive, build_complex, place_backside
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 from elimscan.drivers.saddles import BFGS, SaddleResult, base_h_scan_maximum, neb_climbing_image, refine_and_verify
@@ -133,14 +134,14 @@ def path_flags(points: list[PathPoint], maximum_index: int, reactive: Reactive, 
     end = points[-1]
     d = end.distances
     if d["base_h_A"] <= 1.15 and d["c_alpha_x_A"] < 2.4:
-        flags.append("proton transferred without C-X cleavage (E1cb-like)")
+        flags.append(E1CB_LIKE)
     if d["base_c_alpha_A"] < 2.2 and d["base_h_A"] > 1.3:
-        flags.append("base bonded to C-alpha (SN2-like)")
+        flags.append(SN2_LIKE)
     positions = end.atoms.positions
     if other_hydrogens:
         nearest = min(other_hydrogens, key=lambda i: distance(positions, reactive.base, i))
         if distance(positions, reactive.base, nearest) < distance(positions, reactive.base, reactive.h) - 0.2:
-            flags.append(f"the base took another hydrogen (atom {nearest})")
+            flags.append(f"{OTHER_HYDROGEN} (atom {nearest})")
     phi = dihedral_deg(points[maximum_index].atoms.positions, *reactive.quad())
     if not syn and abs(phi) < 120:
         flags.append(f"the path rotated away from anti (H-C-C-X {phi:.0f} deg at the maximum)")
@@ -205,7 +206,7 @@ def _neb_fallback(saddle: SaddleResult, ends: tuple[Atoms, Atoms] | None, reacti
     """Return the saddle refined from a CI-NEB climbing image if verified, else ``saddle`` with the reason added."""
     if ends is None:
         return _keep_first_failure(saddle, SaddleResult(None, None, False, "ci-neb", None, (),
-                                                        "the path end did not relax to products",
+                                                        END_NOT_PRODUCTS,
                                                         error_type="saddle_not_connected"), "a CI-NEB")
     guess, note = neb_climbing_image(*ends, engine, charge, multiplicity, settings, name=f"{name} neb")
     if guess is None:

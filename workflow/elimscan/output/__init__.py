@@ -5,6 +5,7 @@ Each module imports only those above it in this list:
 - ``text``: terminal text of results; ``printable`` escapes control characters of user-given names
 - ``logsetup``: the command line's log handlers (names escaped on the terminal, a log file that survives a full disk)
 - ``tables``: ``summary.csv`` and ``series.csv``
+- ``benchmark_tables``: the reference benchmark's page (VALIDATION.md) from its scores
 - ``plots/``: matplotlib figures, one module a kind: Newman projections, scans, relaxed paths, saddle character,
   product calls, Hammett plots; ``plots.jobplots`` holds the one table of a job's plot kinds (see its map)
 - ``html/``: the self-contained ``report.html``, from prose and style up to the page (see its map)

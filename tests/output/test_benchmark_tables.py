@@ -1,0 +1,58 @@
+"""VALIDATION.md of the benchmark (output/benchmark_tables.py), rendered from scores of hand-built records.
+
+BOOKKEEPING FIXTURES, NOT CHEMISTRY: the job records come from ``record`` in tests/support/benchmarkrecords.py
+(invented barriers that put each case on one side of a rule).
+"""
+
+from __future__ import annotations
+
+from elimscan.analysis.benchmark_scoring import score_case
+from elimscan.output.benchmark_tables import RunInfo, headline_line, series_rows, validation_markdown
+
+from benchmarkrecords import case, record  # bookkeeping job records and cases (tests/support)
+
+INFO = RunInfo(date_utc="2026-12-03 12:00 UTC", commit="abc1234", wall_seconds=5400.0, job_seconds=7200.0,
+               method="GFN2-xTB/ALPB(ethanol)", seeds=(1, 2, 3), subset="all cases", command="python validation/validate.py",
+               n_jobs=6, n_jobs_finished=5, compute_seconds=9000.0, n_compute_runs=2)
+
+
+def scores():
+    """Return three scored bookkeeping cases: one right, one undecided (rule wrong), one wrong with a series."""
+    right = record([("C3-H9", "anti", "C/C=C/C", 0.0, 1), ("C0-H5", "anti", "C=CCC", 2.0, 3)])
+    close = record([("C3-H9", "anti", "C/C=C/C", 0.0, 1), ("C0-H5", "anti", "C=CCC", 0.3, 3)])
+    wrong = record([("C3-H9", "anti", "CC=C(C)C", 2.0, 1), ("C0-H5", "anti", "C=C(C)CC", 0.0, 3)], rule_major="CC=C(C)C")
+    first = score_case(case(major="C/C=C/C", shares={"C=CCC": 19}, seeds=(1, 2, 3)), {1: right, 2: right, 3: close},
+                       (1, 2, 3), ["dE"], 3600.0)
+    rule_z = record([("C3-H9", "anti", "C/C=C/C", 0.0, 1), ("C0-H5", "anti", "C=CCC", 0.3, 3)], rule_major="C/C=C\\C")
+    second = score_case(case(major="C/C=C/C", seeds=(1,), category=("ez-ratio",)), {1: rule_z}, (1,), ["dE"])
+    tertiary = case(major="CC=C(C)C", seeds=(1,), category=("base-size",)).model_copy(update={"id": "amyl", "series": "bases"})
+    third = score_case(tertiary, {1: wrong}, (1,), ["dE"])
+    return [first, second, third]
+
+
+def test_the_headline_counts_right_rule_and_undecided_apart():
+    found = scores()
+    assert headline_line(found, "dE") == "computed right 1/3, rule right 2/3, undecided 1/3"
+    assert headline_line(found, "dE", "ez-ratio") == "computed right 0/1, rule right 0/1, undecided 1/1"
+
+
+def test_the_page_names_the_run_and_gives_every_part():
+    page = validation_markdown(INFO, scores(), [], ["dE"])
+    assert "2026-12-03 12:00 UTC, commit `abc1234`" in page and "wall time: 2 h 30 min over the 2 invocation(s) that computed in this work folder (this one: 1 h 30 min)" in page
+    assert "5 of 6 jobs finished (**1 not finished" in page
+    assert "- **GFN2-xTB dE**: computed right 1/3, rule right 2/3, undecided 1/3" in page
+    assert "| GFN2-xTB dE | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column
+    assert "| ez-ratio | GFN2-xTB dE | 0/1 | 0/1 | 1/1 | 0/1 |" in page
+    row = next(line for line in page.splitlines() if line.startswith("| bookkeeping | major `C/C=C/C`; `C=CCC` 19 %"))
+    assert "| **right**: `C/C=C/C` | **right**; top `C/C=C/C` (2 seeds), `C=CCC` (1 seed); mix `C/C=C/C` " in row
+    assert "judged `C=CCC` 28 % of alkenes" in row and row.endswith("| dE 55 | 1 h 00 min |")
+    wrong = next(line for line in page.splitlines() if line.startswith("| amyl |"))
+    assert "**wrong**" in wrong and "why: major C=C(C)CC, expected CC=C(C)C" in wrong
+
+
+def test_a_series_shows_the_terminal_share_per_member():
+    rows = series_rows(scores(), ["dE"])
+    assert rows[2].startswith("| bases | amyl | - | ")
+    # terminal share of the wrong case's mix: C=C(C)CC from 3 x exp(0) against exp(-2/RT)
+    share = float(rows[2].split("|")[4].strip().rstrip(" %"))
+    assert 90 < share < 100

@@ -1,0 +1,171 @@
+"""The reference benchmark's case file (validation/cases.yaml) and its entry point (validation/validate.py).
+
+Real checks of the case file: it loads, every SMILES parses with elimscan's own reader, each test case's
+expected products are products elimscan perceives for that substrate (chem perception, no GFN2-xTB), the
+stereospecific cases' expected isomers are the anti products, and the set covers what issue 17 asks for.
+Then the jobs: every case x seed is served by exactly one job of a batch config that elimscan loads.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import warnings
+from collections import Counter
+from pathlib import Path
+
+import pytest
+import yaml
+from rdkit import Chem
+
+from elimscan.analysis.benchmark_cases import (CATEGORIES, SUBSTITUTION, HammettCase, IsotopeCase, RateCase, case_slots, isomer_key, parse_cases)
+from elimscan.analysis.benchmark_jobs import batch_groups, benchmark_jobs, seeds_for
+from elimscan.chem.perception import perceive_substrate
+from elimscan.chem.structures import parse_smiles
+from elimscan.config import parse_config
+from elimscan.errors import CaseFileError
+
+ROOT = Path(__file__).resolve().parents[1]
+CASES_TEXT = (ROOT / "validation" / "cases.yaml").read_text()
+
+
+@pytest.fixture(scope="module")
+def cases():
+    return parse_cases(CASES_TEXT)
+
+
+@pytest.fixture(scope="module")
+def perceived(cases):
+    """Return {case id: (anti products, syn products)} as isomer keys, from elimscan's perception."""
+    by_smiles = {}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # open stereocentres that only pick an enantiomer
+        for smiles in {case.substrate.smiles for case in cases.test}:  # each substrate once
+            substrate = perceive_substrate(smiles)
+            anti = {isomer_key(b.anti_product.smiles) for b in substrate.beta_classes if b.anti_product.possible}
+            syn = {isomer_key(b.syn_product.smiles) for b in substrate.beta_classes if b.syn_product.possible}
+            by_smiles[smiles] = (anti, syn)
+    return {case.id: by_smiles[case.substrate.smiles] for case in cases.test}
+
+
+def test_the_case_file_loads_with_unique_ids_and_a_source_each(cases):
+    ids = [c.id for c in (*cases.calibration, *cases.test)]
+    assert len(ids) == len(set(ids)) == 38
+    assert all(c.source.strip() for c in (*cases.calibration, *cases.test))
+
+
+def test_every_smiles_parses(cases):
+    for case in (*cases.calibration, *cases.test):
+        for _, substrate in case_slots(case):
+            assert parse_smiles(substrate.smiles, case.id).GetNumAtoms() > 0
+        if case.base.smiles is not None:
+            assert parse_smiles(case.base.smiles, case.id) is not None
+    for case in cases.test:
+        for smiles in [case.expected.major, *case.expected.alkene_shares_percent]:
+            if smiles not in (None, SUBSTITUTION):
+                assert Chem.MolFromSmiles(smiles) is not None, (case.id, smiles)
+
+
+def test_each_expected_product_is_one_elimscan_perceives(cases, perceived):
+    for case in cases.test:
+        anti, syn = perceived[case.id]
+        wanted = [s for s in [case.expected.major, *case.expected.alkene_shares_percent] if s not in (None, SUBSTITUTION)]
+        for smiles in wanted:
+            assert isomer_key(smiles) in anti | syn, f"{case.id}: {smiles} is not among {sorted(anti | syn)}"
+
+
+def test_the_stereospecific_isomers_are_the_anti_products(cases, perceived):
+    # the case file derives each isomer from the anti-periplanar geometry (RDKit, independently of elimscan);
+    # elimscan's perception must give that isomer from an anti path and its E/Z partner only from a syn path
+    stereospecific = [c for c in cases.test if "stereospecific" in c.category]
+    assert len(stereospecific) >= 2
+    for case in stereospecific:
+        anti, syn = perceived[case.id]
+        major = isomer_key(case.expected.major)
+        assert major in anti, case.id
+        partners = (syn - anti) - {major}
+        assert partners, f"{case.id}: no isomer reachable only syn"
+
+
+def test_the_set_covers_what_issue_17_asks_for(cases):
+    counts = Counter(category for case in cases.test for category in case.category)
+    for category, least in {"open-chain-regio": 6, "ez-ratio": 4, "stereospecific": 2, "syn-rigid": 1,
+                            "e2-vs-sn2": 4}.items():
+        assert counts[category] >= least, category
+    assert counts["ring-competing"] + counts["ring-single"] >= 3 and counts["ring-competing"] and counts["ring-single"]
+    series = Counter(case.series for case in cases.test if case.series)
+    assert any(n >= 3 for name, n in series.items()
+               if all("base-size" in c.category for c in cases.test if c.series == name))
+    assert any(n >= 4 for name, n in series.items()
+               if all("leaving-group" in c.category for c in cases.test if c.series == name))
+    assert all(c.expected.e2_percent is not None for c in cases.test if "e2-vs-sn2" in c.category)
+    kinds = Counter(type(c) for c in cases.calibration)
+    assert kinds[RateCase] >= 3 and kinds[IsotopeCase] >= 2 and kinds[HammettCase] >= 1
+    assert len(cases.test) >= 30 and set(counts) <= set(CATEGORIES)
+
+
+def test_an_error_names_the_case_id():
+    bad = CASES_TEXT.replace('smiles: "CCCC(C)Br"', 'smiles: "CCCC(C)Brx"', 1)
+    with pytest.raises(CaseFileError, match="test case '2-bromopentane-ethoxide'"):
+        parse_cases(bad)
+    with pytest.raises(CaseFileError, match="'2-bromopentane-ethoxide'.*unknown category ez"):
+        parse_cases(CASES_TEXT.replace("category: [open-chain-regio, ez-ratio]\n    substrate: {name: 2-bromopentane",
+                                       "category: [open-chain-regio, ez]\n    substrate: {name: 2-bromopentane", 1))
+    with pytest.raises(CaseFileError, match="'phenethyl-bromide-d2-kie'.*matches no atom"):
+        parse_cases(CASES_TEXT.replace('"[CH2;$(C-c)]"', '"[NH2]"', 1))
+    with pytest.raises(CaseFileError, match="'bromoethane-ethoxide'.*used twice"):
+        parse_cases(CASES_TEXT.replace("id: 1-bromopropane-ethoxide", "id: bromoethane-ethoxide", 1))
+
+
+def test_every_case_and_seed_is_served_by_one_job_of_a_loadable_batch_config(cases):
+    everything = [*cases.calibration, *cases.test]
+    groups = batch_groups(benchmark_jobs(everything))
+    served = Counter(slot for group in groups for slots in group.serves.values() for slot in slots)
+    wanted = Counter((slot, seed) for case in everything for seed in seeds_for(case, None) for slot, _ in case_slots(case))
+    assert served == wanted and max(served.values()) == 1
+    for group in groups:
+        config = parse_config(yaml.safe_dump(group.config), group.name)
+        jobs = config.jobs()
+        assert len(jobs) == len(group.serves)
+        assert {(s.name, b.name) for s, b in jobs} == set(group.serves)
+        assert config.seed == group.config["seed"]
+    # the same substrate (canonical SMILES) with the same base at the same seed and temperature runs once:
+    # 2-bromopropane + ethoxide at 328.15 K serves a rate constant and a test case
+    shared = [slots for group in groups for slots in group.serves.values() if len(slots) > 1]
+    assert any({"isopropyl-bromide-ethoxide-e2-rate", "2-bromopropane-ethoxide"} <= {s for s, _ in slots}
+               for slots in shared)
+
+
+@pytest.fixture(scope="module")
+def validate():
+    spec = importlib.util.spec_from_file_location("validate", ROOT / "validation" / "validate.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_the_fast_subset_is_a_few_small_cases_with_one_seed(cases, validate):
+    ids = {c.id for c in (*cases.calibration, *cases.test)}
+    assert set(validate.FAST_SUBSET) <= ids
+    fast = [c for c in cases.test if c.id in validate.FAST_SUBSET]
+    assert 4 <= len(fast) <= 6
+    jobs = benchmark_jobs([c for c in (*cases.calibration, *cases.test) if c.id in validate.FAST_SUBSET], 1)
+    groups = batch_groups(jobs)
+    assert sum(len(g.serves) for g in groups) <= 6 and {g.config["seed"] for g in groups} == {1}
+    heavy = [c.id for c in fast if Chem.MolFromSmiles(c.substrate.smiles).GetNumHeavyAtoms() > 8]
+    assert not heavy
+
+
+def test_the_command_line_refuses_no_compute_without_a_work_folder(validate, capsys):
+    with pytest.raises(SystemExit):
+        validate._parse(["--no-compute"])
+    assert "--no-compute needs --work" in capsys.readouterr().err
+    assert validate._parse(["--subset", "fast", "--seeds", "2"]).seeds == 2
+
+
+def test_a_paths_override_is_checked_like_a_config():
+    text = CASES_TEXT.replace("    substrate: {name: bromoethane, smiles: \"CCBr\"}\n    base: ethoxide\n    temperature_K: 328.15\n"
+                              "    expected:", "    substrate: {name: bromoethane, smiles: \"CCBr\"}\n    base: ethoxide\n"
+                              "    temperature_K: 328.15\n    paths: {substitution: maybe}\n    expected:", 1)
+    assert text != CASES_TEXT
+    with pytest.raises(CaseFileError, match="'bromoethane-ethoxide'.*paths.substitution"):
+        parse_cases(text)

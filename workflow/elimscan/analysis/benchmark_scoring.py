@@ -1,0 +1,295 @@
+"""Scoring of the benchmark's test set from job record dicts (pure: no engine, no files).
+
+For one case and one level (dE: GFN2-xTB electronic barriers; dG: quasi-RRHO free barriers of verified
+saddles; DFT//GFN2: DFT single points on the GFN2-xTB tops) the product mix is elimscan's Curtin-Hammett
+function (``rule.product_fractions``) over every E2 path and the SN2 path that have a barrier at that level.
+A path whose record says it does not reach its products (``reaches_products: false``, the tool's own rule, or in
+older records a saddle note saying the path end did not relax to products) is no barrier: it is left out of
+the mix and named, E2 and SN2 alike.
+
+Products are compared as exact isomers: canonical isomeric SMILES with tetrahedral stereo removed and E/Z
+kept (``benchmark_cases.isomer_key``); the SN2 product is 'substitution'. One seed is:
+
+- undecided: the case names a major product and the computed top products lie within the method's
+  uncertainty (``rule.compare_verdicts``: best barriers of different products closer than 1 kcal/mol);
+  counted as not right;
+- right: the major product is the expected one, every published alkene share (normalised over the alkenes)
+  and the published E2 share (of E2 + SN2) lie within ``SHARE_TOLERANCE_POINTS``, and the main path's
+  approach is the expected one where the case gives it; else wrong;
+- not computed: the job failed, is not finished, or has no barrier at this level.
+
+Over seeds the majority decides (more than half of the seeds asked for); without a majority the case is
+undecided ('seeds split'). The rule's call (the rule's major alkene, or 'substitution' where the textbook
+E2/SN2 call is substitution; its path is anti by definition) is scored on the same case and majority.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+
+from rdkit import Chem
+
+from elimscan.analysis.benchmark_cases import SUBSTITUTION, Expected, OutcomeCase, isomer_key
+from elimscan.analysis.rule import PathBarrier, compare_verdicts, product_fractions
+from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS
+from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
+
+#: level name -> barrier field of the path records (kcal/mol)
+LEVELS: dict[str, str] = {"dE": "barrier_kcal_mol", "dG": "barrier_free_energy_kcal_mol",
+                          "DFT//GFN2": "barrier_dft_kcal_mol"}
+#: a published share is met when the computed one lies within this many percentage points (issue 17)
+SHARE_TOLERANCE_POINTS = 20.0
+RIGHT, WRONG, UNDECIDED, NOT_COMPUTED, NOT_SCORED = "right", "wrong", "undecided", "not computed", "not scored"
+#: the approach the geometric rule assumes for its major product
+RULE_APPROACH = "anti"
+_TERMINAL = Chem.MolFromSmarts("[CH2]=C")
+
+
+def path_left_out(block: Mapping) -> str | None:
+    """Return why a path record is no barrier (it was shown not to reach its products), or None when it counts.
+
+    The same rule as the tool's own mixes (``reaches_products``); records written before that field existed
+    say it only in the saddle note of an unverified saddle.
+    """
+    if block.get("reaches_products") is False or NOT_TO_PRODUCTS in (block.get("flags") or ()):
+        return NOT_TO_PRODUCTS
+    if not block.get("saddle_verified") and END_NOT_PRODUCTS in (block.get("saddle_note") or ""):
+        return END_NOT_PRODUCTS
+    return None
+
+
+def e2_paths(job: Mapping, level: str) -> tuple[list[PathBarrier], list[str]]:
+    """Return the E2 paths with a barrier at ``level`` (kcal/mol; products as isomer keys) and the paths left out."""
+    field = LEVELS[level]
+    paths, left_out = [], []
+    for beta in job.get("beta_hydrogens") or ():
+        for approach in ("anti", "syn"):
+            block = beta[approach]
+            if block.get("path_status") != "ok" or block.get(field) is None:
+                continue
+            why = path_left_out(block)
+            if why is not None:
+                left_out.append(f"{beta['class_id']} {approach}: {why}")
+                continue
+            paths.append(PathBarrier(beta["class_id"], approach, isomer_key(block["product_smiles"]), block[field],
+                                     beta["degeneracy"]))
+    return paths, left_out
+
+
+def sn2_path(job: Mapping, level: str) -> PathBarrier | None:
+    """Return the SN2 path with a barrier at ``level`` (kcal/mol) as product 'substitution', or None."""
+    block = job.get("substitution")
+    if not block or block.get("path_status") != "ok" or block.get(LEVELS[level]) is None or path_left_out(block):
+        return None
+    return PathBarrier("substitution", "backside", SUBSTITUTION, block[LEVELS[level]], 1)
+
+
+@dataclass(frozen=True)
+class LevelMix:
+    """The computed outcome of one job at one level (shares are fractions 0-1)."""
+
+    #: every product (alkene isomer keys and 'substitution') -> share of all products
+    shares: dict[str, float]
+    #: alkenes only, normalised over the alkenes
+    alkene_shares: dict[str, float]
+    #: E2 share of E2 + SN2; None without an SN2 barrier at this level
+    e2_fraction: float | None
+    major: str
+    #: the top products lie within the method's uncertainty (rule.compare_verdicts)
+    undecided: bool
+    #: approach of the path with the largest Curtin-Hammett weight
+    main_approach: str
+    #: paths left out because their record says they did not reach their alkene
+    left_out: tuple[str, ...]
+
+
+def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None:
+    """Return the product mix of a job at one level at temperature_K (K), or None without an E2 barrier there."""
+    paths, left_out = e2_paths(job, level)
+    if not paths:
+        return None
+    sn2 = sn2_path(job, level)
+    everything = [*paths, sn2] if sn2 is not None else paths
+    shares = product_fractions(everything, temperature_K)
+    verdict = compare_verdicts(None, shares, everything)
+    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
+    main = min(paths, key=lambda p: p.barrier_kcal_mol - rt * math.log(p.degeneracy))
+    return LevelMix(shares=shares, alkene_shares=product_fractions(paths, temperature_K),
+                    e2_fraction=None if sn2 is None else 1.0 - shares[SUBSTITUTION], major=verdict.computed_major,
+                    undecided=verdict.within_method_uncertainty, main_approach=main.approach,
+                    left_out=tuple(left_out))
+
+
+def judge_mix(expected: Expected, mix: LevelMix | None) -> tuple[str, tuple[str, ...]]:
+    """Return (right | wrong | undecided | not computed, reasons) of one computed mix against experiment."""
+    if mix is None:
+        return NOT_COMPUTED, ("no barrier at this level",)
+    if expected.major is not None and mix.undecided:
+        return UNDECIDED, (f"top products within the method's uncertainty (computed top: {mix.major})",)
+    reasons = []
+    if expected.major is not None and mix.major != isomer_key(expected.major):
+        reasons.append(f"major {mix.major}, expected {expected.major}")
+    for smiles, percent in expected.alkene_shares_percent.items():
+        got = 100.0 * mix.alkene_shares.get(isomer_key(smiles), 0.0)
+        if abs(got - percent) > SHARE_TOLERANCE_POINTS:
+            reasons.append(f"{smiles} {got:.0f} % of alkenes, published {percent:g} %")
+    if expected.e2_percent is not None:
+        if mix.e2_fraction is None:
+            return NOT_COMPUTED, ("no SN2 barrier at this level: the E2 share cannot be judged",)
+        if abs(100.0 * mix.e2_fraction - expected.e2_percent) > SHARE_TOLERANCE_POINTS:
+            reasons.append(f"E2 {100.0 * mix.e2_fraction:.0f} %, published {expected.e2_percent:g} %")
+    if expected.approach is not None and mix.main_approach != expected.approach:
+        reasons.append(f"main path {mix.main_approach}, expected {expected.approach}")
+    return (WRONG, tuple(reasons)) if reasons else (RIGHT, ())
+
+
+def rule_call(job: Mapping) -> str | None:
+    """Return the rule's call on a job: 'substitution', its major alkene (isomer key), or None (no E2 predicted)."""
+    block = job.get("substitution")
+    if block and block.get("rule_call") == SUBSTITUTION:
+        return SUBSTITUTION
+    major = (job.get("rule") or {}).get("rule_major")
+    return isomer_key(major) if major else None
+
+
+def judge_rule(expected: Expected, call: str | None) -> str:
+    """Return right or wrong for the rule's call (its path is anti); 'not scored' for a case without a major."""
+    if expected.major is None:
+        return NOT_SCORED
+    if call != isomer_key(expected.major):
+        return WRONG
+    return WRONG if expected.approach not in (None, RULE_APPROACH) else RIGHT
+
+
+def majority(outcomes: Sequence[str], n_seeds: int) -> str:
+    """Return the outcome more than half of the ``n_seeds`` seeds gave, else 'undecided' (or 'not computed')."""
+    counts = Counter(outcomes)
+    for outcome in (RIGHT, WRONG, UNDECIDED, NOT_COMPUTED, NOT_SCORED):
+        if counts[outcome] * 2 > n_seeds:
+            return outcome
+    return UNDECIDED if counts[RIGHT] + counts[WRONG] + counts[UNDECIDED] else NOT_COMPUTED
+
+
+@dataclass(frozen=True)
+class SeedScore:
+    """One seed of one case at one level: its outcome, why, and the mix."""
+
+    seed: int
+    outcome: str
+    reasons: tuple[str, ...]
+    mix: LevelMix | None
+
+
+@dataclass(frozen=True)
+class LevelScore:
+    """One case at one level over its seeds: the majority outcome, mean shares and the spread over seeds."""
+
+    outcome: str
+    seeds: tuple[SeedScore, ...]
+    #: product -> mean share of all products over the seeds with a mix (0-1)
+    mean_shares: dict[str, float]
+    #: mean alkene share (of the alkenes) of each published alkene, and mean E2 share (0-1)
+    mean_alkene_shares: dict[str, float]
+    mean_e2_fraction: float | None
+    #: largest max - min of a product's share over the seeds (percentage points); None with fewer than 2 mixes
+    spread_points: float | None
+    note: str
+
+
+def _mean(values: Sequence[float]) -> float | None:
+    """Return the mean of the values, or None for none."""
+    return sum(values) / len(values) if values else None
+
+
+def score_level(case: OutcomeCase, jobs: Mapping[int, Mapping], level: str, seeds: Sequence[int]) -> LevelScore:
+    """Return one case's score at one level from its job records by seed (missing seeds: not computed)."""
+    scores = []
+    for seed in seeds:
+        job = jobs.get(seed)
+        if job is None:
+            scores.append(SeedScore(seed, NOT_COMPUTED, ("job not finished",), None))
+        elif job.get("status") != "ok":
+            error = job.get("error") or {}
+            scores.append(SeedScore(seed, NOT_COMPUTED, (f"job failed: {error.get('error_type', 'failed')}",), None))
+        else:
+            mix = level_mix(job, level, job.get("temperature_K") or case.temperature_K)
+            outcome, reasons = judge_mix(case.expected, mix)
+            scores.append(SeedScore(seed, outcome, reasons, mix))
+    mixes = [s.mix for s in scores if s.mix is not None]
+    products = sorted({p for m in mixes for p in m.shares})
+    mean_shares = {p: _mean([m.shares.get(p, 0.0) for m in mixes]) for p in products}
+    spreads = [max(m.shares.get(p, 0.0) for m in mixes) - min(m.shares.get(p, 0.0) for m in mixes) for p in products]
+    published = [isomer_key(s) for s in case.expected.alkene_shares_percent]
+    outcome = majority([s.outcome for s in scores], len(seeds))
+    split = outcome == UNDECIDED and sum(s.outcome == UNDECIDED for s in scores) * 2 <= len(seeds)
+    return LevelScore(
+        outcome=outcome, seeds=tuple(scores),
+        mean_shares=dict(sorted(mean_shares.items(), key=lambda kv: -kv[1])),
+        mean_alkene_shares={p: _mean([m.alkene_shares.get(p, 0.0) for m in mixes]) for p in published if mixes},
+        mean_e2_fraction=_mean([m.e2_fraction for m in mixes if m.e2_fraction is not None]),
+        spread_points=100.0 * max(spreads) if len(mixes) > 1 and spreads else None,
+        note="seeds split: " + ", ".join(f"{s.seed} {s.outcome}" for s in scores) if split else "")
+
+
+@dataclass(frozen=True)
+class CaseScore:
+    """One test case: its score per level, and the rule's calls per seed and majority outcome."""
+
+    case: OutcomeCase
+    levels: dict[str, LevelScore]
+    rule_calls: tuple[str | None, ...]
+    rule_outcome: str
+    wall_seconds: float | None
+
+
+def score_case(case: OutcomeCase, jobs: Mapping[int, Mapping], seeds: Sequence[int], levels: Sequence[str],
+               wall_seconds: float | None = None) -> CaseScore:
+    """Return a test case's score at each level and the rule's, from its job records by seed."""
+    finished = [jobs[s] for s in seeds if s in jobs and jobs[s].get("status") == "ok"]
+    calls = tuple(rule_call(job) for job in finished)
+    rule = [judge_rule(case.expected, call) for call in calls]
+    rule += [NOT_SCORED if case.expected.major is None else NOT_COMPUTED] * (len(seeds) - len(finished))
+    return CaseScore(case=case, levels={level: score_level(case, jobs, level, seeds) for level in levels},
+                     rule_calls=calls, rule_outcome=majority(rule, len(seeds)), wall_seconds=wall_seconds)
+
+
+@dataclass(frozen=True)
+class Headline:
+    """Counts of one level (and category): computed right, rule right (of the cases it can be scored on), undecided."""
+
+    n: int
+    right: int
+    undecided: int
+    not_computed: int
+    rule_right: int
+    rule_n: int
+
+
+def headline(scores: Sequence[CaseScore], level: str, category: str | None = None) -> Headline:
+    """Return the headline counts of one level over the cases (of one category when given)."""
+    chosen = [s for s in scores if category is None or category in s.case.category]
+    outcomes = [s.levels[level].outcome for s in chosen]
+    return Headline(n=len(chosen), right=outcomes.count(RIGHT), undecided=outcomes.count(UNDECIDED),
+                    not_computed=outcomes.count(NOT_COMPUTED),
+                    rule_right=sum(s.rule_outcome == RIGHT for s in chosen),
+                    rule_n=sum(s.rule_outcome != NOT_SCORED for s in chosen))
+
+
+def computed_levels(jobs: Sequence[Mapping]) -> list[str]:
+    """Return the levels (in LEVELS order) at which at least one job has an E2 barrier."""
+    return [level for level in LEVELS if any(e2_paths(job, level)[0] for job in jobs if job.get("status") == "ok")]
+
+
+def terminal_share(mix: LevelMix | None) -> float | None:
+    """Return the share of terminal alkenes (a =CH2 end) among the alkenes of a mix (0-1), or None."""
+    if mix is None:
+        return None
+    return sum(f for s, f in mix.alkene_shares.items() if is_terminal(s))
+
+
+def is_terminal(smiles: str) -> bool:
+    """Return True for an alkene with a =CH2 end (a terminal alkene)."""
+    return Chem.MolFromSmiles(smiles).HasSubstructMatch(_TERMINAL)

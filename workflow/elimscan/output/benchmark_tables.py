@@ -1,0 +1,222 @@
+"""VALIDATION.md of the reference benchmark, rendered from its scores (pure: returns text, writes nothing).
+
+The page: when, at which commit and how long the run took; per level the headline "computed right X/N,
+rule right Y/M, undecided Z/N", then per category; the per-case table (experiment with its source, the
+rule's call, the computed call per level with the mean mix over seeds, right/wrong/undecided, the spread
+over seeds); the terminal-alkene share of each series' members; and the calibration errors.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from elimscan.analysis.benchmark_calibration import CalibrationScore
+from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, isomer_key
+from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, LevelScore,
+                                                 headline, is_terminal)
+
+#: how a level is named in the page
+LEVEL_WORDS = {"dE": "GFN2-xTB dE", "dG": "GFN2-xTB dG (quasi-RRHO, 1 M)", "DFT//GFN2": "DFT//GFN2"}
+
+
+@dataclass(frozen=True)
+class RunInfo:
+    """What the page says about the run: date, commit, timing (s), method, seeds and which cases ran."""
+
+    date_utc: str
+    commit: str
+    wall_seconds: float
+    job_seconds: float
+    method: str
+    seeds: tuple[int, ...]
+    subset: str
+    command: str
+    n_jobs: int
+    n_jobs_finished: int
+    #: summed wall time (s) of the invocations that computed in this work folder, and how many there were
+    compute_seconds: float = 0.0
+    n_compute_runs: int = 0
+
+
+def _code(smiles: str | None) -> str:
+    """Return a SMILES as a Markdown code span ('none' for None)."""
+    return "none" if smiles is None else f"`{smiles}`"
+
+
+def _duration(seconds: float | None) -> str:
+    """Return seconds as '3 h 05 min' or '12 min' ('-' for None)."""
+    if seconds is None:
+        return "-"
+    minutes = round(seconds / 60.0)
+    return f"{minutes // 60} h {minutes % 60:02d} min" if minutes >= 60 else f"{minutes} min"
+
+
+def headline_line(scores: Sequence[CaseScore], level: str, category: str | None = None) -> str:
+    """Return 'computed right X/N, rule right Y/M, undecided Z/N' (and not computed) for one level."""
+    h = headline(scores, level, category)
+    text = f"computed right {h.right}/{h.n}, rule right {h.rule_right}/{h.rule_n}, undecided {h.undecided}/{h.n}"
+    return text + (f", not computed {h.not_computed}/{h.n}" if h.not_computed else "")
+
+
+def count_rows(scores: Sequence[CaseScore], levels: Sequence[str], categories: Sequence[str] | None) -> list[str]:
+    """Return a Markdown table of the counts per level (and per category when given), undecided in its own column."""
+    first = "| category | level |" if categories is not None else "| level |"
+    rows = [first + " computed right | rule right | undecided (not right) | not computed |",
+            "|---|" + ("---|" if categories is not None else "") + "---|---|---|---|"]
+    for category in categories if categories is not None else [None]:
+        for level in levels:
+            h = headline(scores, level, category)
+            lead = f"| {category} | {LEVEL_WORDS[level]} |" if category is not None else f"| {LEVEL_WORDS[level]} |"
+            rows.append(f"{lead} {h.right}/{h.n} | {h.rule_right}/{h.rule_n} | {h.undecided}/{h.n} | "
+                        f"{h.not_computed}/{h.n} |")
+    return rows
+
+
+def _experiment(score: CaseScore) -> str:
+    """Return the experiment cell: major, published shares, E2 share, approach, and the source."""
+    e = score.case.expected
+    parts = []
+    if e.major is not None:
+        parts.append(f"major {_code(e.major)}" if e.major != SUBSTITUTION else "major substitution")
+    if e.alkene_shares_percent:
+        parts.append(", ".join(f"{_code(s)} {v:g} %" for s, v in e.alkene_shares_percent.items()) + " of alkenes")
+    if e.e2_percent is not None:
+        parts.append(f"E2 {e.e2_percent:g} %")
+    if e.approach is not None:
+        parts.append(f"{e.approach} path")
+    memory = " (from memory)" if score.case.from_memory else ""
+    return "; ".join(parts) + f" — {score.case.source}{memory}"
+
+
+def _rule_cell(score: CaseScore) -> str:
+    """Return the rule's cell: its call(s) over the seeds and its outcome."""
+    calls = Counter(score.rule_calls)
+    shown = ", ".join(_code(c) + (f" ({n})" if len(calls) > 1 else "") for c, n in calls.most_common()) or "-"
+    outcome = "not scored (no published major)" if score.rule_outcome == NOT_SCORED else score.rule_outcome
+    return f"**{outcome}**: {shown}"
+
+
+def _level_cell(score: CaseScore, level: str) -> str:
+    """Return one level's cell: outcome, the seeds' majors, the mean mix, the judged shares and why not right."""
+    ls: LevelScore = score.levels[level]
+    majors = Counter(s.mix.major for s in ls.seeds if s.mix is not None)
+    parts = [f"**{ls.outcome}**"]
+    if majors:
+        parts.append("top " + ", ".join(_code(m) + (f" ({n} seed{'s' if n > 1 else ''})" if len(majors) > 1 else "")
+                                         for m, n in majors.most_common()))
+        parts.append("mix " + ", ".join(f"{_code(p)} {100 * f:.0f} %" for p, f in ls.mean_shares.items()))
+    judged = [f"{_code(s)} {100 * ls.mean_alkene_shares[isomer_key(s)]:.0f} % of alkenes"
+              for s in score.case.expected.alkene_shares_percent if isomer_key(s) in ls.mean_alkene_shares]
+    if ls.mean_e2_fraction is not None and score.case.expected.e2_percent is not None:
+        judged.append(f"E2 {100 * ls.mean_e2_fraction:.0f} %")
+    if judged:
+        parts.append("judged " + ", ".join(judged))
+    reasons = sorted({r for s in ls.seeds if s.outcome == ls.outcome for r in s.reasons})
+    if ls.outcome != RIGHT and reasons:
+        parts.append("why: " + "; ".join(reasons))
+    left = sorted({p for s in ls.seeds if s.mix is not None for p in s.mix.left_out})
+    if left:
+        parts.append("left out (did not reach the alkene): " + "; ".join(left))
+    if ls.note:
+        parts.append(ls.note)
+    return "; ".join(parts)
+
+
+def _spread_cell(score: CaseScore, levels: Sequence[str]) -> str:
+    """Return the seed spread of each level (largest max - min of a product share, points)."""
+    cells = [f"{level} {score.levels[level].spread_points:.0f}" for level in levels
+             if score.levels[level].spread_points is not None]
+    return ", ".join(cells) or "-"
+
+
+def series_rows(scores: Sequence[CaseScore], levels: Sequence[str]) -> list[str]:
+    """Return Markdown rows: the terminal-alkene share (mean over seeds) of each series member per level."""
+    rows = ["| series | case | published terminal share | " + " | ".join(LEVEL_WORDS[lv] for lv in levels) + " |",
+            "|---|---|---|" + "---|" * len(levels)]
+    for name in sorted({s.case.series for s in scores if s.case.series}):
+        for score in (s for s in scores if s.case.series == name):
+            shares = score.case.expected.alkene_shares_percent
+            terminal = [v for smiles, v in shares.items() if is_terminal(smiles)]
+            published = f"{sum(terminal):g} %" if terminal else "-"
+            cells = []
+            for level in levels:
+                ls = score.levels[level]
+                values = [sum(f for p, f in s.mix.alkene_shares.items() if is_terminal(p))
+                          for s in ls.seeds if s.mix is not None]
+                cells.append(f"{100 * sum(values) / len(values):.0f} %" + (
+                    f" ({100 * (max(values) - min(values)):.0f})" if len(values) > 1 else "") if values else "-")
+            rows.append(f"| {name} | {score.case.id} | {published} | " + " | ".join(cells) + " |")
+    return rows
+
+
+def _number(value: float | None, digits: int = 1) -> str:
+    """Return a number with ``digits`` decimals, '-' for None."""
+    return "-" if value is None else f"{value:.{digits}f}"
+
+
+def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
+    """Return Markdown rows of the calibration errors (one row per case and estimate)."""
+    rows = ["| case | measured | computed | mean (spread over seeds) | error | source |", "|---|---|---|---|---|---|"]
+    for score in calibration:
+        memory = " (from memory)" if score.case.from_memory else ""
+        unit = f" {score.unit}" if score.unit else ""
+        for estimate in score.estimates:
+            spread = f" ({_number(estimate.spread, 2)})" if estimate.spread is not None else ""
+            error = "-" if estimate.error is None else f"{estimate.error:+.1f}{' ' + score.error_unit if score.error_unit else ''}"
+            rows.append(f"| {score.case.id} ({score.case.temperature_K:g} K) | {score.quantity}: {score.measured:.2f}{unit} | "
+                        f"{estimate.label} | {_number(estimate.mean, 2)}{spread} | {error} | {score.case.source}{memory} |")
+    return rows
+
+
+def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
+                        levels: Sequence[str]) -> str:
+    """Return the whole VALIDATION.md text of one benchmark run."""
+    unfinished = info.n_jobs - info.n_jobs_finished
+    lines = ["# elimscan reference benchmark", "",
+             "Written by `validation/validate.py` (`make reference-cases`, or `make reference-cases-fast` for the fast "
+             "subset) from `validation/cases.yaml`; never edited by hand. Re-running the same command rewrites this "
+             "page.", "",
+             f"- run: {info.date_utc}, commit `{info.commit}`, {info.method}",
+             f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
+             f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
+             f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
+             f"in this work folder (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
+             f"{_duration(info.job_seconds)} summed over jobs",
+             f"- command: `{info.command}`", "",
+             "How to read it. Levels: dE, GFN2-xTB electronic barriers; dG, quasi-RRHO free barriers of verified saddles "
+             "(1 M; paths without one are left out of that level's mix); DFT//GFN2, DFT single points on the GFN2-xTB "
+             "tops (only where a case turns the tier on). The mix is elimscan's Curtin–Hammett share over every E2 path "
+             "and the SN2 path; a path whose record says it did not reach its alkene is left out. Products are compared "
+             "as exact isomers (E/Z compared, tetrahedral stereo not). **right**: the expected major product, every "
+             f"published share within ±{SHARE_TOLERANCE_POINTS:g} percentage points (alkene shares of the alkenes, E2 of "
+             "E2 + SN2), and the expected path geometry where the case names one. **undecided**: the top products lie "
+             "within the method's uncertainty (best barriers closer than 1 kcal/mol); it counts as not right. Each "
+             "case ran once per seed; the majority of seeds decides, a split is undecided, and the mix shown is the "
+             "mean over seeds, its spread the largest max − min of a share (points). The rule (anti-periplanar "
+             "hydrogen, Zaitsev or Hofmann, textbook E2/SN2 call) is scored on the same cases, on its major product "
+             "and its anti path; a case without a published major is not scored for it.", ""]
+    lines += ["## Headline", ""]
+    for level in levels:
+        lines.append(f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level)}")
+    lines += ["", *count_rows(scores, levels, None)]
+    lines += ["", "## Per category", "", "A case counts once in each of its categories.", "",
+              *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
+    lines += ["", "## Test cases", "",
+              "| case | experiment — source | rule | " + " | ".join(LEVEL_WORDS[lv] for lv in levels)
+              + " | seed spread (points) | job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
+    for score in scores:
+        lines.append(f"| {score.case.id} | {_experiment(score)} | {_rule_cell(score)} | "
+                     + " | ".join(_level_cell(score, lv) for lv in levels)
+                     + f" | {_spread_cell(score, levels)} | {_duration(score.wall_seconds)} |")
+    if any(s.case.series for s in scores):
+        lines += ["", "## Series: terminal-alkene share of the alkenes", "",
+                  "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
+    if calibration:
+        lines += ["", "## Calibration set (errors only, never scored right or wrong)", "",
+                  "Rate: ΔG‡ from the measured k2 by Eyring's equation (1 M, CODATA 2018) against the Boltzmann sum "
+                  "over the channel's paths (dE: an electronic barrier set against a free one). Isotope effect: "
+                  "k_H/k_D of the class on the named carbon (error in % of the measured value). Hammett: rho fitted "
+                  "to the members' E2 channel barriers.", "", *calibration_rows(calibration)]
+    return "\n".join(lines) + "\n"
