@@ -52,6 +52,72 @@ def test_quasi_rrho_limits():
         assert vibrational_entropy_J_per_K(low, 298.15) < harmonic_entropy_J_per_K(low, 298.15)[0]
 
 
+@pytest.mark.xtb
+def test_quasi_rrho_agrees_with_goodvibes_on_gfn2_frequencies(gfn2_gas, tmp_path):
+    # Independent implementation of the same scheme: GoodVibes 4.4.0 (Luchini, Alegre-Requena, Funes-Ardoiz &
+    # Paton, F1000Research 2020, 9, 291), Grimme's quasi-RRHO entropy (Chem. Eur. J. 2012, 18, 9955, eqs. 3-7:
+    # S_R = R [1/2 + ln sqrt(8 pi^3 mu' kT / h^2)], mu' = mu B_av / (mu + B_av), mu = h / (8 pi^2 nu),
+    # w = 1 / (1 + (nu0 / nu)^4)). Real frequencies: a GFN2-xTB Hessian of 2-phenylethyl bromide in the gas
+    # phase, whose phenyl and CH2Br torsions lie below nu0 = 100 cm^-1 (about 40, 70 and 80 cm^-1), so the
+    # switching function decides part of the entropy. Same T (298.15 K), nu0 = 100 cm^-1, alpha = 4,
+    # B_av = 1e-44 kg m^2 on both sides. GoodVibes functions called: thermo.calc_rrho_entropy,
+    # thermo.calc_freerot_entropy (bav=thermo.GRIMME_BAV), thermo.calc_damp (per mode, J/mol/K), and
+    # api.compute_thermo (whole molecule: qh_gibbs_free_energy, qh_entropy, enthalpy and the
+    # plain-RRHO gibbs_free_energy, read from an extended XYZ written by ase_helper.write_thermo_extxyz)
+    # with inertia="global": GoodVibes' other choice, inertia="conf", averages the molecule's own principal
+    # moments for B_av (thermo.calc_avg_moment_of_inertia), which Grimme's fixed 1e-44 kg m^2 is not.
+    # Convention differences, both far below the 0.01 kcal/mol compared: GoodVibes takes CODATA 2010
+    # constants (ASE, which elimscan uses, 2014) and the most abundant isotope's mass for each atom
+    # (elimscan: standard atomic weights, as ASE), which moves S_trans and S_rot by ~1e-3 cal/mol/K here.
+    from goodvibes import thermo as gv_thermo
+    from goodvibes.api import compute_thermo
+    from goodvibes.ase_helper import write_thermo_extxyz
+
+    from elimscan.config import OptimizerConfig
+    from elimscan.drivers.freeenergy import minimum_hessian
+    from elimscan.drivers.hessian import harmonic_analysis
+    from elimscan.pipeline.compute import relax_molecule
+
+    t, cutoff = 298.15, 100.0
+    relaxed = relax_molecule("2-phenylethyl bromide", "substrate", "BrCCc1ccccc1", None, 1, gfn2_gas,
+                             OptimizerConfig(fmax_eV_per_A=0.001), 20261202)
+    assert relaxed.record.converged
+    minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, gfn2_gas, 0, 1, 0.005)
+    nu = harmonic_analysis(minimum.hessian_eV_A2, minimum.atoms).frequencies_cm1
+    assert nu.min() > 0 and np.sum(nu < cutoff) >= 2, nu[:5]  # a minimum, with soft modes to switch
+
+    # the vibrational entropy, mode by mode through GoodVibes' own functions (J/mol/K)
+    s_ho = gv_thermo.calc_rrho_entropy(t, list(nu))
+    s_fr = gv_thermo.calc_freerot_entropy(t, list(nu), bav=gv_thermo.GRIMME_BAV)
+    w = gv_thermo.calc_damp(list(nu), cutoff)
+    theirs_s_vib = sum(wi * h + (1 - wi) * f for wi, h, f in zip(w, s_ho, s_fr))
+    ours_s_vib = vibrational_entropy_J_per_K(nu, t, switching_cm1=cutoff) * units._Nav
+    assert ours_s_vib == pytest.approx(theirs_s_vib, rel=1e-5)
+    assert ours_s_vib < sum(s_ho) - 1.0  # the switching lowers S below the harmonic value by > 1 J/mol/K here
+
+    # the whole molecule at 1 M: entropy and the free-energy correction G - E (hartree)
+    xyz = tmp_path / "pheb.extxyz"
+    zpe_hartree = 0.5 * float(nu.sum()) * units.invcm / units.Hartree
+    write_thermo_extxyz(str(xyz), minimum.atoms, minimum.energy_hartree, frequencies=list(nu), zpe=zpe_hartree,
+                        symmno=1, linear_mol=False)
+    theirs = compute_thermo(str(xyz), QS="grimme", QH=False, s_freq_cutoff=cutoff, temperature=t, concentration=1.0,
+                            freq_scale_factor=1.0, zpe_scale_factor=1.0, inertia="global")
+    ours = thermochemistry(minimum.atoms, nu, minimum.energy_hartree, t, standard_state="1M", switching_cm1=cutoff)
+    ours_ho = thermochemistry(minimum.atoms, nu, minimum.energy_hartree, t, standard_state="1M", switching_cm1=None)
+    to_kcal = KCAL_MOL_PER_HARTREE
+    assert (ours.free_energy_hartree - minimum.energy_hartree) * to_kcal == pytest.approx(
+        (theirs.qh_gibbs_free_energy - theirs.scf_energy) * to_kcal, abs=0.01)
+    assert ours.entropy_hartree_per_K * t * to_kcal == pytest.approx(theirs.qh_entropy * t * to_kcal, abs=0.01)
+    assert ours.enthalpy_hartree * to_kcal == pytest.approx(theirs.enthalpy * to_kcal, abs=0.01)
+    # what the switching function alone changes in G: free of the mass and constant conventions above
+    ours_switch = (ours.free_energy_hartree - ours_ho.free_energy_hartree) * to_kcal
+    theirs_switch = (theirs.qh_gibbs_free_energy - theirs.gibbs_free_energy) * to_kcal  # their plain RRHO G
+    print(f"lowest modes {np.round(nu[:4], 1)} cm^-1; G(qRRHO) - G(RRHO): elimscan {ours_switch:.4f}, "
+          f"GoodVibes {theirs_switch:.4f} kcal/mol")
+    assert ours_switch > 0.1  # low modes: the free-rotor entropy is smaller, G higher
+    assert ours_switch == pytest.approx(theirs_switch, abs=1e-3)
+
+
 def test_thermochemistry_refuses_imaginary_modes():
     with pytest.raises(ValueError, match="imaginary"):
         thermochemistry(molecule("H2O"), np.array([-500.0, 1595.0, 3657.0]), 0.0, 298.15)
