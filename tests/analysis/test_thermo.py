@@ -159,9 +159,10 @@ def phenylethyl_anti(jobs: dict):
 @pytest.mark.slow
 def test_2_phenylethyl_bromide_anti_saddle_is_verified_and_tunnelling_raises_kh_kd(ethoxide_e2_jobs):
     # What the two comparisons with experiment below stand on (the job: tests/analysis/conftest.py, shared with
-    # test_character.py; narrowed there to anti paths, one base orientation and four conformer relaxations,
-    # none of which the isotope effect or dG of the verified anti saddle reads): one class of two benzylic H
-    # (mirror images), both labelled, from a verified anti saddle with its dG.
+    # test_character.py; narrowed there to anti paths, one base orientation and four conformer relaxations: the
+    # path of its own with three orientations that this test computed before gave the same k_H/k_D 4.44 and
+    # dG 2.5 kcal/mol): one class of two benzylic H (mirror images), both labelled, from a verified anti saddle
+    # with its dG.
     benzylic, cd2 = phenylethyl_anti(ethoxide_e2_jobs)
     print(f"2-phenylethyl bromide + EtO-: k_H/k_D(CD2) {cd2.kh_kd:.2f} (Wigner {cd2.kh_kd_wigner:.2f}), "
           f"dG {benzylic.anti.barrier_free_energy_kcal_mol} kcal/mol, dE {benzylic.anti.barrier_kcal_mol} kcal/mol")

@@ -42,6 +42,8 @@ def ethoxide_jobs() -> dict:
     # - no SN2 path: the alkene shares are Boltzmann shares over the E2 paths alone
     #   (analysis.rule.product_fractions); the SN2 path enters only the separate E2/SN2 split.
     # Measured 2026-12-03 (the same to 0.001 kcal/mol under OpenBLAS Haswell and SkylakeX): about 175 s of CPU.
+    # The rest stays at the defaults: one base orientation and four conformer relaxations would save about 50 s
+    # but moved these barriers by up to 0.3 kcal/mol (measured), which is no longer the same job.
     from elimscan.config import BaseConfig, MethodConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.engines.xtb import EngineSettings, XtbEngine
     from elimscan.pipeline.compute import run_config
