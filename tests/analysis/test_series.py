@@ -5,8 +5,8 @@ with hand-set barriers: test inputs, not results. Checks against something outsi
 sigma_p values (Hansch, Leo & Taft, Chem. Rev. 1991, 91, 165, from memory), the published rho of the
 2-arylethyl bromide E2 (DePuy & Bishop, J. Am. Chem. Soc. 1960, 82, 2532, from memory), an independent
 least-squares fit (scipy.stats.linregress) with CODATA constants from scipy.constants, jsonschema for the
-result file, and the PNG signature. The GFN2-xTB sign of rho is checked in
-tests/analysis/test_thermo.py::test_hammett_rho_of_2_arylethyl_bromides_is_positive.
+result file, and the PNG signature. The GFN2-xTB rho is compared with the published one in
+tests/analysis/test_thermo.py::test_hammett_rho_of_2_arylethyl_bromides_matches_experiment (an expected failure).
 """
 
 from __future__ import annotations

@@ -277,5 +277,6 @@ bases:
           f"{pair['syn']['barrier_kcal_mol'] - pair['anti']['barrier_kcal_mol']:.2f}); "
           f"seconds per single point: {[b['dft']['seconds'] for b in pair.values()]}")
     # E2 prefers the anti-periplanar saddle (standard textbooks; computed for chloroethane + hydroxide and other
-    # E2 model reactions by Bach, Badger & Lang, J. Am. Chem. Soc. 1979, 101, 2845, from memory)
-    assert gap > 0.0
+    # E2 model reactions by Bach, Badger & Lang, J. Am. Chem. Soc. 1979, 101, 2845, from memory). Measured
+    # 2026-12-03 (alike under OpenBLAS Haswell and SkylakeX): anti 9.96 kcal/mol, syn - anti 5.63 (GFN2-xTB 7.70).
+    assert gap > 2.0
