@@ -12,6 +12,10 @@ export OPENBLAS_NUM_THREADS ?= 1
 export MKL_NUM_THREADS ?= 1
 export OMP_STACKSIZE ?= 1G
 export MPLBACKEND ?= Agg
+# pytest-xdist worker processes for make test / test-fast (one core each: the tests run one thread a process).
+# Tests that share an expensive module fixture carry an xdist_group mark, which --dist loadgroup keeps together.
+TEST_WORKERS ?= 2
+PYTEST_XDIST := -n $(TEST_WORKERS) --dist loadgroup
 
 .PHONY: reference-cases reference-cases-fast demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 
@@ -50,10 +54,10 @@ browser-deps:
 	fi
 
 test: $(VENV)/.installed browser-deps
-	$(VPY) -m pytest
+	$(VPY) -m pytest $(PYTEST_XDIST)
 
 test-fast: $(VENV)/.installed
-	$(VPY) -m pytest -m "not xtb"
+	$(VPY) -m pytest $(PYTEST_XDIST) -m "not xtb"
 
 bench: $(VENV)/.installed
 	$(VPY) benchmarks/bench_engine.py

@@ -23,6 +23,19 @@ from elimscan.chem.structures import build_molecule  # noqa: E402
 SEED = 20261202
 
 
+def pytest_collection_modifyitems(config, items):
+    """Under pytest-xdist, hand out the long GFN2-xTB checks first, so that no worker ends alone with one."""
+    if not os.environ.get("PYTEST_XDIST_WORKER"):  # a plain run keeps the file order
+        return
+
+    def rank(item) -> int:  # slow GFN2-xTB checks, then the other GFN2-xTB and fuzz tests, then the rest
+        if item.get_closest_marker("slow"):
+            return 0
+        return 1 if item.get_closest_marker("xtb") or item.get_closest_marker("fuzz") else 2
+
+    items.sort(key=rank)
+
+
 @pytest.fixture(scope="session")
 def gfn2_gas():
     """Return a GFN2-xTB gas-phase engine on the default backend (tblite)."""

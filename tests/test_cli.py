@@ -11,6 +11,7 @@ import jsonschema
 import pytest
 
 from elimscan.errors import ExitCode
+from toyjobs import TOY_SETTINGS
 
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA = json.loads((ROOT / "results-schema" / "result.schema.json").read_text())
@@ -123,8 +124,6 @@ def test_run_writes_schema_valid_results_and_refuses_to_overwrite(tmp_path):
     # a finished folder is never overwritten without being asked
     again = elimscan("run", write(tmp_path, TINY), "--out", str(out))
     assert again.returncode == ExitCode.OUTPUT and "--overwrite" in again.stderr
-    forced = elimscan("run", write(tmp_path, TINY), "--out", str(out), "--overwrite")
-    assert forced.returncode == ExitCode.OK
     summary = elimscan("summary", str(out))
     assert "chloroethane" in summary.stdout and "1/1 jobs ok" in summary.stdout
     # the run wrote the report; 'report' rebuilds the CSV byte for byte without computing
@@ -141,6 +140,12 @@ def test_run_writes_schema_valid_results_and_refuses_to_overwrite(tmp_path):
     (tmp_path / "broken.json").write_text(json.dumps(broken))
     bad = elimscan("validate-results", str(tmp_path / "broken.json"))
     assert bad.returncode == ExitCode.CONFIG and "jobs[0].beta_hydrogens[0].degeneracy" in bad.stderr
+    # asked to, a run replaces the finished folder (a cheap config of another name: the overwrite does not depend
+    # on the settings, and the name shows that the new results replaced the old ones)
+    cheap = TOY_SETTINGS + TINY.replace("name: tiny", "name: tiny-again").replace("paths: {approaches: [anti]}\n", "")
+    forced = elimscan("run", write(tmp_path, cheap, "again.yaml"), "--out", str(out), "--overwrite")
+    assert forced.returncode == ExitCode.OK, forced.stderr
+    assert json.loads((out / "results.json").read_text())["config"]["name"] == "tiny-again"
 
 
 @pytest.mark.xtb
