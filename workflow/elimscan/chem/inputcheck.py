@@ -34,14 +34,12 @@ def _named(err: StructureError, what: str, smiles: str) -> StructureError:
 def molecule_charge(smiles: str, charge: int | None, multiplicity: int, what: str) -> int:
     """Return the total charge of a molecule (elementary charges); raise StructureError naming it when unusable.
 
-    Only closed shells are computed: the multiplicity must be 1 and the electron count even.
+    Only closed shells are computed: no unpaired electrons (``parse_smiles`` refuses them with the electron
+    count) and multiplicity 1.
     """
     mol = parse_smiles(smiles, what)
     total = check_charge(smiles, Chem.GetFormalCharge(mol), charge, what)
     electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - total
-    if electrons % 2:
-        raise StructureError(f"{what} '{smiles}': {electrons} electrons, an odd count: elimscan handles closed-shell "
-                             "molecules only; add the missing hydrogens or charges")
     if multiplicity != CLOSED_SHELL_MULTIPLICITY:
         raise StructureError(f"{what} '{smiles}': multiplicity {multiplicity}: elimscan handles closed-shell "
                              f"molecules only (multiplicity {CLOSED_SHELL_MULTIPLICITY}, a singlet; {electrons} "
@@ -66,10 +64,7 @@ def check_geometry(smiles: str, seed: int, text: str, fmt: str, what: str) -> No
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         mol = perceive_substrate(smiles, seed=seed).mol
-    try:
-        atoms_from_geometry(mol, text, fmt, what)
-    except StructureError as err:
-        raise _named(err, what, smiles) from err
+    atoms_from_geometry(mol, text, fmt, what)  # its errors name the substrate
 
 
 def check_substrate(smiles: str, charge: int | None, multiplicity: int, what: str, seed: int,
@@ -110,9 +105,12 @@ def check_base_model(smiles: str, charge: int | None, multiplicity: int, counter
     """
     if counter_ion is None and not explicit:
         return
-    if explicit_smiles is not None:
-        molecule_charge(explicit_smiles, None, CLOSED_SHELL_MULTIPLICITY, f"base '{name}' explicit_smiles")
     model_cluster(smiles, charge, multiplicity, counter_ion, explicit, explicit_smiles, seed, name)
+
+
+def check_explicit_smiles(explicit_smiles: str, name: str) -> None:
+    """Raise StructureError naming the base when the SMILES of its explicit molecules cannot be used."""
+    molecule_charge(explicit_smiles, None, CLOSED_SHELL_MULTIPLICITY, f"base '{name}' explicit_smiles")
 
 
 def same_molecule(smiles_a: str, smiles_b: str) -> bool:

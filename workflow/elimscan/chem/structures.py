@@ -69,8 +69,10 @@ def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True
     radicals = Descriptors.NumRadicalElectrons(mol)
     if radicals:
         atoms = [f"{a.GetSymbol()} atom {a.GetIdx()}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+        electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - Chem.GetFormalCharge(mol)
+        count = f"{electrons} electrons" + (", an odd count" if electrons % 2 else "")
         raise StructureError(
-            f"{what} '{smiles}' has {radicals} unpaired electron(s) on {', '.join(atoms)}: "
+            f"{what} '{smiles}' has {radicals} unpaired electron(s) on {', '.join(atoms)} ({count}): "
             "elimscan handles closed-shell molecules; add the missing hydrogens or charges"
         )
     return mol

@@ -138,17 +138,20 @@ def check_models(config, config_path: str, geometries: dict[str, tuple[str, str]
     Both would otherwise fail only after the substrate or base is computed: the base model is built as the
     calculation builds it, and each geometry file is matched to its substrate's SMILES.
     """
-    from elimscan.chem.inputcheck import check_base_model, check_geometry
+    from elimscan.chem.inputcheck import check_base_model, check_explicit_smiles, check_geometry
     from elimscan.errors import StructureError
 
     text = _config_text(config_path)
     for index, item in enumerate(config.bases):
         model = item.model
+        key = f"bases.{index}.model.explicit_smiles"
         try:
+            if model.explicit_smiles is not None:
+                check_explicit_smiles(model.explicit_smiles, item.name)
+            key = f"bases.{index}.model"
             check_base_model(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
                              model.explicit_smiles, config.seed, item.name)
         except StructureError as err:
-            key = f"bases.{index}.model" + (".explicit_smiles" if model.explicit_smiles and "explicit" in str(err) else "")
             raise located_error(StructureError, err, config_path, key, text) from err
     for index, item in enumerate(config.substrates):
         if item.name not in geometries:

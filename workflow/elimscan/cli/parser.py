@@ -85,8 +85,9 @@ def _internal_error_hint(args: argparse.Namespace, argv: list[str]) -> str:
             return f"the traceback is in {handler.baseFilename}"
     if args.verbosity > 0:
         return "the traceback is above"
-    at = argv.index(args.command) + 1 if args.command in argv else len(argv)
-    return f"see the traceback with: {shlex.join(['elimscan', *argv[:at], '-v', *argv[at:]])}"
+    rest = [a for a in argv if a not in ("-q", "--quiet")]  # a later -q would silence the -v
+    at = rest.index(args.command) + 1 if args.command in rest else len(rest)
+    return f"see the traceback with: {shlex.join(['elimscan', *rest[:at], '-v', *rest[at:]])}"
 
 
 def _stdout_closed() -> int:
