@@ -40,9 +40,9 @@ bases:
   - {name: methoxide}
 executor: {workers: 1}
 """
-#: 487 bytes that PyYAML expands to 9**6 strings (an "alias bomb"); the duplicate-key walk took hours on it
+#: 377 bytes that PyYAML expands to 9**10 strings (an "alias bomb"): the duplicate-key walk hung on such a config
 ALIAS_BOMB = ('a: &a ["lol","lol","lol","lol","lol","lol","lol","lol","lol"]\n'
-              + "".join(f"{n}: &{n} [{','.join(['*' + p] * 9)}]\n" for p, n in zip("abcde", "bcdef")))
+              + "".join(f"{n}: &{n} [{','.join(['*' + p] * 9)}]\n" for p, n in zip("abcdefghi", "bcdefghij")))
 #: chloroethane as methane: the wrong atoms for the substrate's SMILES
 METHANE_XYZ = "5\nmethane\nC 0 0 0\nH 0.63 0.63 0.63\nH -0.63 -0.63 0.63\nH -0.63 0.63 -0.63\nH 0.63 -0.63 -0.63\n"
 FINISHED = '{"finished": "by an earlier run"}\n'

@@ -2,7 +2,7 @@
 
 - ``inputs``: substrates files (CSV, ``.smi``) and the geometry files a config names
 - ``plan``: ``plan_batch``: every job of a config with its key, id, single-job config and input error
-- ``lock``: the folder lock (one batch per output folder), its holder, the folder's preparation
+- ``lock``: the folder lock (one batch or run per output folder), its holder, the folder's preparation
 - ``jobfiles``: a finished job's files moved into its folder, written atomically, checked by checksum
 - ``documents``: ``results.json`` and ``batch.json`` assembled from the store's rows
 - ``status``: the read-only status of a batch folder and the time estimate
