@@ -127,6 +127,9 @@ class RunConfig(Frozen):
         bases = {b.name for b in info.data["bases"]}
         pairs = info.data.get("pairs")
         from_file = info.data.get("substrates_file") is not None
+        clash = clashing_names(item.name for item in series)  # series names become plot file names
+        if clash is not None:
+            raise ValueError(clash_message(*clash))
         names: dict[str, int] = {}
         for k, item in enumerate(series):
             if item.name in names:
