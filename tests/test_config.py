@@ -42,8 +42,10 @@ def test_config_is_frozen():
     "text, key_path, line, words",
     [
         (GOOD.replace('smiles: "CC[O-]"', 'smiles: "CC[O-]", bulkyy: true'), "bases.0.bulkyy", 6, "did you mean 'bulky'"),
-        (GOOD.replace("temperature_K: 298.15", "temperature_K: -5"), "method.temperature_K", 2, "greater than 0"),
-        (GOOD.replace("temperature_K: 298.15", "temperature_K: 0"), "method.temperature_K", 2, "greater than 0"),
+        (GOOD.replace("temperature_K: 298.15", "temperature_K: -5"), "method.temperature_K", 2,
+         "temperature -5 K is outside 150-1000 K"),
+        (GOOD.replace("temperature_K: 298.15", "temperature_K: 0"), "method.temperature_K", 2,
+         "temperature 0 K is outside 150-1000 K"),
         (GOOD.replace("temperature_K: 298.15", "temperature_K: warm"), "method.temperature_K", 2, "valid number"),
         (GOOD.replace("backend: tblite", "backend: xtb"), "method", 2, "backend 'xtb' cannot do solvent model 'alpb'"),
         (GOOD.replace("name: ethanol", "name: ethanoll"), "method", 2, "no ALPB parameters for solvent 'ethanoll'"),

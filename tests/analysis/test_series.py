@@ -221,6 +221,9 @@ bases:
     ("[{name: s1, base: ethoxide, members: [{substrate: a, sigma: .nan}, {substrate: b, sigma: 0}, "
      "{substrate: c, sigma: 0.23}]}]", ("series.0.members.0.sigma",)),
     ("[{name: s1, base: ethoxide, members: [{substrate: a, sig: -0.27}]}]", ("unknown key 'sig'", "sigma")),
+    ("[" + ", ".join("{name: '%s', base: ethoxide, members: [{substrate: a, sigma: -0.27}, {substrate: b, sigma: 0}, "
+                     "{substrate: c, sigma: 0.23}]}" % name for name in ("para/X", "para X")) + "]",
+     ("names 'para/X' and 'para X' both become the file name 'para_X'",)),  # one plot file for both
 ])
 def test_config_errors_name_the_series_and_member(series, words):
     with pytest.raises(ConfigError) as caught:

@@ -20,7 +20,8 @@ class ExitCode(IntEnum):
     CONFIG = 3  # the configuration or an input structure is invalid
     ENGINE = 4  # a GFN2-xTB calculation failed and the run could not go on
     JOBS_FAILED = 5  # the run finished but some jobs failed (see results.json)
-    OUTPUT = 6  # the output folder cannot be used (exists, not writable, disk full)
+    OUTPUT = 6  # the output folder cannot be used (exists, not writable, disk full), or standard output is full
+    PIPE_CLOSED = 141  # standard output was closed by its reader (| head): as a process stopped by SIGPIPE (128 + 13)
 
 
 class ElimscanError(Exception):

@@ -50,11 +50,10 @@ def _csv_rows(text: str, display: str) -> list[SubstrateRow]:
     lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
     if not lines:
         raise ConfigError(f"substrates file '{display}' has no rows", key_path="substrates_file")
-    reader = csv.reader(io.StringIO(text))
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)  # lines may end in \n, \r\n or \r alone
     header: list[str] | None = None
     rows: list[SubstrateRow] = []
-    for cells in reader:
-        line = reader.line_num
+    for cells, line in _csv_records(reader, display):
         if not any(c.strip() for c in cells) or cells[0].lstrip().startswith("#"):
             continue
         if header is None:
@@ -89,7 +88,36 @@ def _csv_rows(text: str, display: str) -> list[SubstrateRow]:
         elif bad_charge or bad_mult:
             problem = f"{source}: substrate '{name}': {bad_charge or bad_mult}"
         rows.append(SubstrateRow(name, cell["smiles"], charge, multiplicity or 1, source, line, problem))
+    if not rows:
+        raise ConfigError(f"substrates file '{display}' has a header but no substrate rows", key_path="substrates_file")
     return rows
+
+
+def _open_quote(display: str, start: int, end: int | None) -> ConfigError:
+    """Return the error for a CSV quote opened on line ``start`` and never closed (the field runs on to line ``end``,
+    None: to the end of the file)."""
+    until = f"line {end}" if end is not None else "the end of the file"
+    return ConfigError(f"substrates file '{display}' line {start}: a quote (\") opened here is never closed (the "
+                       f"field runs on to {until}); close it or remove it", key_path="substrates_file")
+
+
+def _csv_records(reader, display: str):
+    """Yield (cells, first line) of each CSV record; raise ConfigError naming the line of a quote never closed."""
+    start = 1
+    while True:
+        try:
+            cells = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as err:
+            if "end of data" in str(err):
+                raise _open_quote(display, start, None) from err
+            raise ConfigError(f"substrates file '{display}' line {reader.line_num}: not valid CSV ({err})",
+                              key_path="substrates_file") from err
+        if any("\n" in c or "\r" in c for c in cells):  # no name or SMILES spans lines: a quote left open
+            raise _open_quote(display, start, reader.line_num)
+        yield cells, start
+        start = reader.line_num + 1
 
 
 def _smiles_rows(text: str, display: str, stem: str) -> list[SubstrateRow]:

@@ -1,4 +1,5 @@
-"""The batch folder's lock: one batch at a time per output folder (an OS lock the kernel drops when its process dies).
+"""The output folder's lock: one ``elimscan batch`` or ``elimscan run`` at a time per output folder (an OS lock the
+kernel drops when its process dies). The holder writes who it is (pid, host, start, command) into the lock file.
 
 Also the folder's preparation: a batch refuses a folder that holds the result of ``elimscan run``, and an
 input file that is one of the files the batch writes there (it would be overwritten).
@@ -6,6 +7,7 @@ input file that is one of the files the batch writes there (it would be overwrit
 
 from __future__ import annotations
 
+import errno
 import fcntl
 import os
 import socket
@@ -22,15 +24,28 @@ LOCK_FILE = "batch.lock"
 OUTPUT_FOLDERS = ("jobs", "plots")
 
 
-class FolderLock:
-    """An exclusive OS lock (fcntl.flock) on OUT/batch.lock, held while a batch runs; the OS drops it when the process dies."""
+#: the commands that take the lock, as the holder's line names them
+LOCKING_COMMANDS = ("batch", "run")
 
-    def __init__(self, out: Path):
+
+def _holder_text(fd: int) -> str:
+    """Return the holder's line of a lock file ('pid N on HOST, started T, by elimscan batch')."""
+    return os.pread(fd, 4096, 0).decode("utf-8", "replace").strip() or "unknown process"
+
+
+class FolderLock:
+    """An exclusive OS lock (fcntl.flock) on OUT/batch.lock, held while a batch or a run computes into OUT; the OS
+    drops it when the process dies. ``command`` ('batch' or 'run') names the holder for the others."""
+
+    def __init__(self, out: Path, command: str = "batch"):
+        if command not in LOCKING_COMMANDS:
+            raise ValueError(f"command must be one of {LOCKING_COMMANDS}, got {command!r}")
         self.path = Path(out) / LOCK_FILE
+        self.command = command
         self._fd: int | None = None
 
     def acquire(self) -> "FolderLock":
-        """Take the lock or raise OutputError naming the batch that holds it; return self."""
+        """Take the lock or raise OutputError naming the command and process that hold it; return self."""
         try:
             fd = os.open(self.path, os.O_RDWR | os.O_CREAT, 0o644)
         except OSError as err:
@@ -38,12 +53,21 @@ class FolderLock:
         try:
             fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except BlockingIOError:
-            holder = os.pread(fd, 4096, 0).decode("utf-8", "replace").strip() or "unknown process"
+            holder = _holder_text(fd)
             os.close(fd)
-            raise OutputError(f"output folder '{self.path.parent}' is in use by another elimscan batch ({holder}); "
-                              f"wait for it to finish, or follow it with: elimscan status {self.path.parent}") from None
-        os.ftruncate(fd, 0)
-        os.pwrite(fd, f"pid {os.getpid()} on {socket.gethostname()}, started {utc_now()}\n".encode(), 0)
+            command = "run" if holder.endswith("by elimscan run") else "batch"
+            follow = (f"or follow it with: elimscan status {self.path.parent}" if command == "batch"
+                      else "or give this command another --out")
+            raise OutputError(f"output folder '{self.path.parent}' is in use by another elimscan {command} ({holder}); "
+                              f"wait for it to finish, {follow}") from None
+        try:
+            os.ftruncate(fd, 0)
+            os.pwrite(fd, f"pid {os.getpid()} on {socket.gethostname()}, started {utc_now()}, by elimscan "
+                          f"{self.command}\n".encode(), 0)
+        except OSError as err:  # a full disk: the lock holds all the same, only its note is missing
+            if err.errno not in (errno.ENOSPC, errno.EDQUOT, errno.EFBIG):
+                os.close(fd)
+                raise OutputError(f"cannot write the lock file '{self.path}': {err.strerror or err}") from err
         self._fd = fd
         return self
 
@@ -62,7 +86,7 @@ class FolderLock:
 
 
 def lock_holder(out: Path) -> str | None:
-    """Return who holds the batch lock of ``out`` (pid, host, start), or None when no batch runs there."""
+    """Return who holds the lock of ``out`` (pid, host, start, command), or None when no batch or run computes there."""
     path = Path(out) / LOCK_FILE
     try:
         fd = os.open(path, os.O_RDONLY)
@@ -71,7 +95,7 @@ def lock_holder(out: Path) -> str | None:
     try:
         fcntl.flock(fd, fcntl.LOCK_SH | fcntl.LOCK_NB)
     except BlockingIOError:
-        return os.pread(fd, 4096, 0).decode("utf-8", "replace").strip() or "unknown process"
+        return _holder_text(fd)
     else:
         fcntl.flock(fd, fcntl.LOCK_UN)
         return None

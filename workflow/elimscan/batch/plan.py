@@ -172,6 +172,9 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
                 raise ConfigError(f"series '{item.name}' member {number} ('{member.substrate}'): no such substrate in "
                                   f"the config nor a row with a SMILES in '{config.substrates_file}'",
                                   key_path=f"series.{index}.members.{number}.substrate")
+    if not merged:
+        raise ConfigError(f"no substrate to compute: none in the config, and no row of '{config.substrates_file}' has "
+                          f"a name and a SMILES ({len(rows)} row(s) read)", key_path="substrates_file")
     merged_config = RunConfig.model_validate({
         **config.model_dump(mode="json", exclude={"substrates", "substrates_file", "pairs"}),
         "substrates": [s.model_dump(mode="json") for s in merged],

@@ -1,6 +1,7 @@
 """Chemistry of the inputs, RDKit only (no engine, no files).
 
-- ``structures``: SMILES checks, seeded embedding, user SDF/XYZ onto the SMILES atom order, ``ase.Atoms``
+- ``structures``: SMILES checks (one word, no isotope labels, size bounds, closed shells), seeded embedding,
+  user SDF/XYZ onto the SMILES atom order, ``ase.Atoms``
 - ``perception``: a substrate perceived from its SMILES (leaving group, beta-H classes, products), and the quick
   graph-only check of a substrate
 - ``leavinggroups``: the leaving groups recognised, the atoms that leave with X, the group atom maps select
@@ -10,7 +11,9 @@
   Zaitsev/Hofmann ranks
 - ``atomgraph``: what one atom is and what it is bonded to (name, sp3 carbon, methyl, hydrogens)
 - ``bases``: the basic atom of a base and whether the rule counts it as bulky
-- ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules)
+- ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules); ``model_cluster``, the one
+  builder for the calculation and the input check
 - ``substitution``: the SN2 product with Walden inversion
-- ``inputcheck``: every molecule of a config checked before any calculation
+- ``inputcheck``: every molecule of a config checked before any calculation (base models and geometry files too),
+  and the overnight size warning
 """

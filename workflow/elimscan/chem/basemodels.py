@@ -22,6 +22,7 @@ from ase import Atoms
 from ase.data import covalent_radii
 from rdkit import Chem
 
+from elimscan.config.run import SEED_LIMIT
 from elimscan.errors import StructureError
 
 #: metal-oxygen contact distances of alkali alkoxides and hydroxides (Å), starting values; common practice
@@ -206,3 +207,22 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
     charge = base_charge + (1 if counter_ion else 0)
     return BaseCluster(cluster, ".".join(smiles), charge, basic, len(base), " + ".join(parts))
 
+
+
+def model_cluster(smiles: str, charge: int | None, multiplicity: int, counter_ion: str | None, explicit: int,
+                  explicit_smiles: str | None, seed: int, name: str) -> BaseCluster:
+    """Return the base model of a base config (Å): the embedded base with its cation and explicit molecules.
+
+    The one builder for the calculation (``pipeline.compute.relax_base``) and the input check
+    (``inputcheck.check_base_model``); raises StructureError naming the base when the model cannot be built.
+    """
+    from elimscan.chem.bases import find_basic_atom
+    from elimscan.chem.structures import build_molecule, parse_smiles
+
+    what = f"base '{name}'"
+    basic = find_basic_atom(parse_smiles(smiles, what), smiles)
+    built = build_molecule(smiles, seed, charge, multiplicity, what)
+    molecule_smiles = explicit_smiles or conjugate_acid_smiles(smiles, basic)
+    molecules = [build_molecule(molecule_smiles, (seed + k) % SEED_LIMIT, None, 1, f"{what} explicit molecule").atoms
+                 for k in range(explicit)]
+    return build_cluster(built.atoms, basic, smiles, built.formal_charge, counter_ion, molecules, molecule_smiles, name)

@@ -1,9 +1,9 @@
 """Input checks of a config's molecules before any calculation (RDKit only, no I/O, no engine).
 
 Everything that can be told from a SMILES alone is checked here, so a typo stops a run before the
-first GFN2-xTB call: parsing, elements, unpaired electrons, charge and multiplicity, and for
-substrates the full perception (leaving group, atom maps, beta hydrogens, stereo), for bases the
-basic atom; and a base that is the substrate itself. Each error is a ``StructureError`` whose
+first GFN2-xTB call: parsing, elements, isotope labels, size, unpaired electrons, charge and closed-shell
+multiplicity, and for substrates the full perception (leaving group, atom maps, beta hydrogens, stereo) and a
+user's geometry file, for bases the basic atom and the base model; and a base that is the substrate itself. Each error is a ``StructureError`` whose
 message starts with the role and name (``substrate 'x'``) and contains the SMILES.
 """
 
@@ -13,10 +13,12 @@ import warnings
 
 from rdkit import Chem
 
+from elimscan.chem.basemodels import model_cluster
 from elimscan.chem.bases import find_basic_atom
 from elimscan.errors import StructureError
 from elimscan.chem.perception import check_substrate_topology, perceive_substrate
 from elimscan.chem.structures import check_charge, parse_smiles
+from elimscan.config.molecules import CLOSED_SHELL_MULTIPLICITY, OVERNIGHT_HEAVY_ATOMS
 
 
 def _named(err: StructureError, what: str, smiles: str) -> StructureError:
@@ -30,13 +32,39 @@ def _named(err: StructureError, what: str, smiles: str) -> StructureError:
 
 
 def molecule_charge(smiles: str, charge: int | None, multiplicity: int, what: str) -> int:
-    """Return the total charge of a molecule (elementary charges); raise StructureError naming it when unusable."""
+    """Return the total charge of a molecule (elementary charges); raise StructureError naming it when unusable.
+
+    Only closed shells are computed: no unpaired electrons (``parse_smiles`` refuses them with the electron
+    count) and multiplicity 1.
+    """
     mol = parse_smiles(smiles, what)
     total = check_charge(smiles, Chem.GetFormalCharge(mol), charge, what)
     electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - total
-    if (electrons + multiplicity - 1) % 2:
-        raise StructureError(f"{what} '{smiles}': multiplicity {multiplicity} is impossible with {electrons} electrons")
+    if multiplicity != CLOSED_SHELL_MULTIPLICITY:
+        raise StructureError(f"{what} '{smiles}': multiplicity {multiplicity}: elimscan handles closed-shell "
+                             f"molecules only (multiplicity {CLOSED_SHELL_MULTIPLICITY}, a singlet; {electrons} "
+                             "electrons)")
     return total
+
+
+def size_warning(substrate_smiles: str, base_smiles: str, what: str) -> str | None:
+    """Return a warning when a job's substrate and base together exceed OVERNIGHT_HEAVY_ATOMS heavy atoms, else None."""
+    heavy = sum(parse_smiles(s, what, add_hydrogens=False).GetNumHeavyAtoms() for s in (substrate_smiles, base_smiles))
+    if heavy <= OVERNIGHT_HEAVY_ATOMS:
+        return None
+    return (f"{what}: {heavy} heavy atoms in substrate and base, more than {OVERNIGHT_HEAVY_ATOMS}: such a job is "
+            "unlikely to finish overnight on one core (a rough bound from one measured job, until the benchmark "
+            "measures costs by size); a batch with executor.time_limit_seconds stops it in time")
+
+
+def check_geometry(smiles: str, seed: int, text: str, fmt: str, what: str) -> None:
+    """Raise StructureError naming the substrate when its geometry file (SDF or XYZ text) is not its SMILES's molecule."""
+    from elimscan.chem.structures import atoms_from_geometry
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        mol = perceive_substrate(smiles, seed=seed).mol
+    atoms_from_geometry(mol, text, fmt, what)  # its errors name the substrate
 
 
 def check_substrate(smiles: str, charge: int | None, multiplicity: int, what: str, seed: int,
@@ -67,6 +95,22 @@ def check_base(smiles: str, charge: int | None, multiplicity: int, what: str) ->
     except StructureError as err:
         raise _named(err, what, smiles) from err
     return total
+
+
+def check_base_model(smiles: str, charge: int | None, multiplicity: int, counter_ion: str | None, explicit: int,
+                     explicit_smiles: str | None, seed: int, name: str) -> None:
+    """Raise StructureError naming the base when its model (ion pair, explicit molecules) cannot be built.
+
+    Builds the same cluster as the calculation does (``basemodels.model_cluster``), without an engine.
+    """
+    if counter_ion is None and not explicit:
+        return
+    model_cluster(smiles, charge, multiplicity, counter_ion, explicit, explicit_smiles, seed, name)
+
+
+def check_explicit_smiles(explicit_smiles: str, name: str) -> None:
+    """Raise StructureError naming the base when the SMILES of its explicit molecules cannot be used."""
+    molecule_charge(explicit_smiles, None, CLOSED_SHELL_MULTIPLICITY, f"base '{name}' explicit_smiles")
 
 
 def same_molecule(smiles_a: str, smiles_b: str) -> bool:

@@ -9,6 +9,7 @@ from ase import Atoms
 from rdkit import Chem, RDLogger
 from rdkit.Chem import AllChem, Descriptors, rdMolDescriptors
 
+from elimscan.config.molecules import MAX_HEAVY_ATOMS, MAX_SMILES_CHARS
 from elimscan.errors import StructureError
 
 #: GFN2-xTB is parametrised for H to Rn (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).
@@ -29,10 +30,19 @@ class BuiltMolecule:
 def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True) -> Chem.Mol:
     """Return the sanitised RDKit molecule (explicit H unless told not); raise StructureError naming the SMILES.
 
-    Checks: the SMILES parses and sanitises, every element is within GFN2-xTB's range, no unpaired electrons.
+    Checks: one SMILES word (RDKit would silently drop text after a space), at most MAX_SMILES_CHARS characters and
+    MAX_HEAVY_ATOMS heavy atoms, it parses and sanitises, no isotope labels, every element within GFN2-xTB's
+    range, no unpaired electrons.
     """
     if not isinstance(smiles, str) or not smiles.strip():
         raise StructureError(f"{what}: empty or non-text SMILES {smiles!r}")
+    if len(smiles) > MAX_SMILES_CHARS:
+        raise StructureError(f"{what}: the SMILES has {len(smiles):,} characters; at most {MAX_SMILES_CHARS:,} are read")
+    words = smiles.split()
+    if len(words) > 1:
+        raise StructureError(f"{what}: SMILES '{smiles}' holds a space: '{words[0]}' would be read and "
+                             f"'{smiles.strip()[len(words[0]):].strip()}' silently dropped; give the SMILES alone "
+                             "(the name goes under 'name')")
     RDLogger.DisableLog("rdApp.*")
     try:
         mol = Chem.MolFromSmiles(smiles)
@@ -40,6 +50,14 @@ def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True
         RDLogger.EnableLog("rdApp.*")
     if mol is None:
         raise StructureError(f"{what}: cannot parse SMILES '{smiles}' (check brackets, ring closures and valences)")
+    heavy = mol.GetNumHeavyAtoms()
+    if heavy > MAX_HEAVY_ATOMS:
+        raise StructureError(f"{what} '{smiles[:60]}...': {heavy} heavy atoms; at most {MAX_HEAVY_ATOMS} are computed")
+    labelled = [f"{a.GetIsotope()}{a.GetSymbol()} atom {a.GetIdx()}" for a in mol.GetAtoms() if a.GetIsotope()]
+    if labelled:
+        raise StructureError(f"{what} '{smiles}': isotope labels ({', '.join(labelled)}) are not read: every "
+                             "structure is computed with natural masses, and k_H/k_D of each beta hydrogen is "
+                             "computed on its own from the unlabelled molecule; give the SMILES without labels")
     if add_hydrogens:
         mol = Chem.AddHs(mol)
     for atom in mol.GetAtoms():
@@ -51,8 +69,10 @@ def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True
     radicals = Descriptors.NumRadicalElectrons(mol)
     if radicals:
         atoms = [f"{a.GetSymbol()} atom {a.GetIdx()}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+        electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - Chem.GetFormalCharge(mol)
+        count = f"{electrons} electrons" + (", an odd count" if electrons % 2 else "")
         raise StructureError(
-            f"{what} '{smiles}' has {radicals} unpaired electron(s) on {', '.join(atoms)}: "
+            f"{what} '{smiles}' has {radicals} unpaired electron(s) on {', '.join(atoms)} ({count}): "
             "elimscan handles closed-shell molecules; add the missing hydrogens or charges"
         )
     return mol

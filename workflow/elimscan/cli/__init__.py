@@ -5,12 +5,13 @@ Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: 
 
 - ``parser``: ``build_parser`` (every subcommand and option) and ``main`` (dispatch, exit codes, an error as
   one line without a traceback)
-- ``logs``: log records to stderr (``-v``/``-q``) and to the output folder's log file
-- ``inputs``: the config read, the ``--engine`` plug-in checked, every molecule checked before any calculation,
-  the batch plan; input errors located by file, key path and YAML line
+- ``logs``: log records to stderr (``-v``/``-q``) and to the output folder's log file; ``echo`` to standard output
+- ``inputs``: the config read (size-bounded, UTF-8), the ``--engine`` plug-in checked, every molecule, base model
+  and geometry file checked before any calculation, size warnings, the batch plan; input errors located by file,
+  key path and YAML line
 - ``folders``: output file names, a finished run refused without ``--overwrite``, files written through a
-  rename, a results file checked against its schema
-- ``run``: ``elimscan run`` (one config in this process)
+  rename (each on its own), a replaced run's files removed, a results file checked against its schema
+- ``run``: ``elimscan run`` (one config in this process, under the folder lock; results.json written first)
 - ``batch``: ``elimscan batch`` (executor options from the command line, the folder lock, SIGTERM as Ctrl-C)
 - ``progress``: the batch's live status line on a terminal, one line per finished job elsewhere
 - ``commands``: the commands that compute nothing: info, validate, status, summary, report, validate-results

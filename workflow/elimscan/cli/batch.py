@@ -13,7 +13,7 @@ import time
 from pathlib import Path
 
 from elimscan.cli.folders import RESULTS_FILE, write_files
-from elimscan.cli.inputs import plan_located, read_config, with_engine
+from elimscan.cli.inputs import check_models, plan_located, read_config, warn_sizes, with_engine
 from elimscan.cli.logs import setup_logging
 from elimscan.cli.progress import BatchProgress
 from elimscan.engines.threads import configure_threads
@@ -58,6 +58,10 @@ def cmd_batch(args: argparse.Namespace) -> int:
                               key_path="executor") from err
         config = config.model_copy(update={"executor": executor})
     plan = plan_located(config, args.config)  # input errors in the YAML stop here, before any calculation
+    from elimscan.batch.inputs import read_geometries
+
+    check_models(config, args.config, read_geometries(config, Path(args.config).parent))
+    warn_sizes((job.job_id, job.substrate_smiles, job.base.smiles) for job in plan.jobs if job.input_error is None)
     out = Path(args.out)
     prepare_batch_folder(out, plan.input_files)  # an input among the batch's own files is refused
     # test hooks, see DEVELOPERS.md: kill the driver at a known point
@@ -71,7 +75,8 @@ def cmd_batch(args: argparse.Namespace) -> int:
     previous = signal.signal(signal.SIGTERM, _raise_interrupt)  # a scheduler's SIGTERM stops cleanly, like Ctrl-C
     progress = BatchProgress()
     try:
-        with FolderLock(out):
+        with FolderLock(out, "batch"):
+            prepare_batch_folder(out)  # again under the lock: a run may have finished into this folder meanwhile
             setup_logging(args.verbosity, out / BATCH_LOG)
             log.debug("command: %s", shlex.join(sys.argv))
             log.debug("versions: %s", json.dumps(environment_versions()))

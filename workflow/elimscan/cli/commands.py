@@ -7,7 +7,9 @@ import logging
 from pathlib import Path
 
 from elimscan.cli.folders import RESULTS_FILE, checked_result_file, write_files
-from elimscan.cli.inputs import batch_only, check_structures, plan_located, read_config, with_engine
+from elimscan.cli.inputs import (batch_only, check_models, check_structures, plan_located, read_config, warn_sizes,
+                                 with_engine)
+from elimscan.cli.logs import echo
 from elimscan.errors import ExitCode, OutputError
 from elimscan.versions import environment_versions
 
@@ -17,25 +19,29 @@ log = logging.getLogger("elimscan")
 def cmd_info(args: argparse.Namespace) -> int:
     """Print versions of Python and the libraries; return the exit code."""
     for name, version in environment_versions().items():
-        print(f"{name:<17} {version}")
+        echo(f"{name:<17} {version}")
     return ExitCode.OK
 
 
 def cmd_validate(args: argparse.Namespace) -> int:
-    """Check a config (and its SMILES) without computing; return the exit code."""
+    """Check a config (its SMILES, base models and geometry files) without computing; return the exit code."""
+    from elimscan.batch.inputs import read_geometries
+    from elimscan.pipeline.names import job_id_of
+
     config = with_engine(read_config(args.config), args)
     if batch_only(config):
         plan = plan_located(config, args.config)
+        check_models(config, args.config, read_geometries(config, Path(args.config).parent))
         for job in plan.jobs:
             if job.input_error is not None:
                 log.warning("job %s will fail: %s", job.job_id, job.input_error.error_message)
+        warn_sizes((job.job_id, job.substrate_smiles, job.base.smiles) for job in plan.jobs if job.input_error is None)
         log.info("%s: valid batch config (%d jobs, %d of them fail on their input)", args.config, len(plan.jobs),
                  plan.n_input_failures)
         return ExitCode.OK
     check_structures(config, args.config)
-    from elimscan.batch.inputs import read_geometries
-
-    read_geometries(config, Path(args.config).parent)
+    check_models(config, args.config, read_geometries(config, Path(args.config).parent))
+    warn_sizes((job_id_of(s.name, b.name), s.smiles, b.smiles) for s, b in config.jobs())
     log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
              len(config.bases), len(config.jobs()))
     return ExitCode.OK
@@ -45,25 +51,17 @@ def cmd_status(args: argparse.Namespace) -> int:
     """Print the state of a batch folder from its store (read-only, also while the batch runs); return the exit code."""
     from elimscan.batch.status import read_status, status_lines
 
-    print("\n".join(status_lines(read_status(Path(args.out)))))
+    for line in status_lines(read_status(Path(args.out))):
+        echo(line)
     return ExitCode.OK
 
 
 def cmd_summary(args: argparse.Namespace) -> int:
     """Print the summary table of a finished output folder; return the exit code."""
-    from pydantic import ValidationError
-
-    from elimscan.results.documents import RunResult
+    from elimscan.output.files import read_result
     from elimscan.output.text import summary_table
 
-    path = Path(args.out) / RESULTS_FILE
-    try:
-        result = RunResult.model_validate_json(path.read_text(encoding="utf-8"))
-    except OSError as err:
-        raise OutputError(f"cannot read '{path}': {err.strerror or err}") from err
-    except ValidationError as err:
-        raise OutputError(f"'{path}' is not a valid elimscan result: {err.errors()[0]['msg']}") from err
-    print(summary_table(result))
+    echo(summary_table(read_result(args.out)))
     return ExitCode.OK
 
 

@@ -3,19 +3,35 @@
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
 from elimscan.errors import ConfigError
+
+
+def read_config_text(path: str) -> str:
+    """Return the text of a config file; ConfigError names the file when it is unreadable, too large or not UTF-8."""
+    from elimscan.config import MAX_CONFIG_BYTES
+
+    try:
+        with open(path, "rb") as handle:
+            data = handle.read(MAX_CONFIG_BYTES + 1)
+    except OSError as err:
+        raise ConfigError(f"cannot read config file '{path}': {err.strerror or err}") from err
+    if len(data) > MAX_CONFIG_BYTES:
+        raise ConfigError(f"{path}: the config has more than {MAX_CONFIG_BYTES:,} bytes (a config lists settings and a "
+                          "few molecules: give many substrates in a 'substrates_file')")
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as err:
+        line = data[: err.start].count(b"\n") + 1
+        raise ConfigError(f"{path}: the config is not UTF-8 text (byte 0x{data[err.start]:02x} at offset {err.start}, "
+                          f"line {line}); save it as UTF-8") from err
 
 
 def read_config(path: str):
     """Return the validated config read from a YAML file; ConfigError names the file."""
     from elimscan.config import parse_config
 
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except OSError as err:
-        raise ConfigError(f"cannot read config file '{path}': {err.strerror}") from err
+    text = read_config_text(path)
     try:
         return parse_config(text, source=path)
     except ConfigError as err:
@@ -64,11 +80,15 @@ def plan_located(config, config_path: str):
     except InputError as err:
         if not err.key_path or err.line is not None:
             raise
-        try:
-            text = Path(config_path).read_text(encoding="utf-8")
-        except OSError:
-            raise err from None
-        raise located_error(type(err), err, config_path, err.key_path, text) from err
+        raise located_error(type(err), err, config_path, err.key_path, _config_text(config_path)) from err
+
+
+def _config_text(config_path: str) -> str:
+    """Return the config's text for locating keys ('' when it cannot be read again)."""
+    try:
+        return read_config_text(config_path)
+    except ConfigError:
+        return ""
 
 
 def check_structures(config, config_path: str) -> None:
@@ -81,10 +101,7 @@ def check_structures(config, config_path: str) -> None:
     from elimscan.chem.inputcheck import (check_base, check_pair, check_substrate, gas_phase_ion_problem,
                                           modelled_charge)
 
-    try:
-        text = Path(config_path).read_text(encoding="utf-8")
-    except OSError:
-        text = ""
+    text = _config_text(config_path)
     charges: dict[str, int] = {}
     for index, item in enumerate(config.substrates):
         try:
@@ -112,3 +129,52 @@ def check_structures(config, config_path: str) -> None:
 def batch_only(config) -> list[str]:
     """Return the batch-only keys a config uses (substrates_file, solvents)."""
     return [key for key in ("substrates_file", "solvents") if getattr(config, key) is not None]
+
+
+def check_models(config, config_path: str, geometries: dict[str, tuple[str, str]]) -> None:
+    """Raise StructureError (file, key path, YAML line) for a base model or a geometry file that cannot be used.
+
+    Both would otherwise fail only after the substrate or base is computed: the base model is built as the
+    calculation builds it, and each geometry file is matched to its substrate's SMILES.
+    """
+    from elimscan.chem.inputcheck import check_base_model, check_explicit_smiles, check_geometry
+    from elimscan.errors import StructureError
+
+    text = _config_text(config_path)
+    for index, item in enumerate(config.bases):
+        model = item.model
+        key = f"bases.{index}.model.explicit_smiles"
+        try:
+            if model.explicit_smiles is not None:
+                check_explicit_smiles(model.explicit_smiles, item.name)
+            key = f"bases.{index}.model"
+            check_base_model(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
+                             model.explicit_smiles, config.seed, item.name)
+        except StructureError as err:
+            raise located_error(StructureError, err, config_path, key, text) from err
+    for index, item in enumerate(config.substrates):
+        if item.name not in geometries:
+            continue
+        try:
+            check_geometry(item.smiles, config.seed, *geometries[item.name], f"substrate '{item.name}'")
+        except StructureError as err:
+            raise located_error(StructureError, err, config_path, f"substrates.{index}.geometry", text) from err
+
+
+def warn_sizes(jobs) -> int:
+    """Log a warning for every (job label, substrate SMILES, base SMILES) too large to finish overnight; return how many."""
+    import logging
+
+    from elimscan.chem.inputcheck import size_warning
+    from elimscan.errors import StructureError
+
+    warned = 0
+    for label, substrate_smiles, base_smiles in jobs:
+        try:
+            warning = size_warning(substrate_smiles, base_smiles, label)
+        except StructureError:  # a bad row: its job fails on its own input
+            continue
+        if warning is not None:
+            logging.getLogger("elimscan").warning("%s", warning)
+            warned += 1
+    return warned

@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import argparse
 import logging
+import shlex
+import sys
 
 from elimscan import __version__
 from elimscan.cli.batch import cmd_batch
 from elimscan.cli.commands import cmd_info, cmd_report, cmd_status, cmd_summary, cmd_validate, cmd_validate_results
-from elimscan.cli.logs import setup_logging
+from elimscan.cli.logs import discard_stdout, echo_flush, setup_logging
 from elimscan.cli.run import cmd_run
 from elimscan.engines.threads import configure_threads
 from elimscan.errors import ElimscanError, ExitCode
@@ -79,14 +81,37 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _internal_error_hint(args: argparse.Namespace, argv: list[str]) -> str:
+    """Return where the traceback of an unexpected error is: the open log file, else the command to rerun with -v."""
+    for handler in logging.getLogger("elimscan").handlers:
+        if isinstance(handler, logging.FileHandler):
+            return f"the traceback is in {handler.baseFilename}"
+    if args.verbosity > 0:
+        return "the traceback is above"
+    rest = [a for a in argv if a not in ("-q", "--quiet")]  # a later -q would silence the -v
+    at = rest.index(args.command) + 1 if args.command in rest else len(rest)
+    return f"see the traceback with: {shlex.join(['elimscan', *rest[:at], '-v', *rest[at:]])}"
+
+
+def _stdout_closed() -> int:
+    """Return the exit code for a reader that closed standard output early (``| head``): no message, no traceback."""
+    discard_stdout()
+    return int(ExitCode.PIPE_CLOSED)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the elimscan command line; return the process exit code."""
+    argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(argv)
     configure_threads(args.threads or 1)
     setup_logging(args.verbosity)
     try:
-        return int(args.func(args))
+        code = int(args.func(args))
+        echo_flush()
+        return code
+    except BrokenPipeError:
+        return _stdout_closed()
     except ElimscanError as err:
         log.debug("error details", exc_info=True)
         log.error("error (%s): %s", err.error_type, err)
@@ -96,7 +121,5 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except Exception:  # a bug: keep the traceback in the log file, a short line on the terminal
         log.debug("unexpected error", exc_info=True)
-        log.error("unexpected internal error; the traceback is in the log file (run.log or batch.log in the "
-                  "output folder) if one was opened, or rerun with -v",
-                  exc_info=logging.getLogger("elimscan").handlers[0].level <= logging.DEBUG)
+        log.error("unexpected internal error (a bug); %s", _internal_error_hint(args, argv))
         return int(ExitCode.INTERNAL)

@@ -1,4 +1,9 @@
-"""``elimscan run``: one config computed in this process into an output folder."""
+"""``elimscan run``: one config computed in this process into an output folder.
+
+The folder is locked as a batch's is (one run or batch at a time). results.json is written first, through a
+temporary file and a rename, so a finished run it replaces stays until the new one is complete; the other files
+follow, each on its own: one that cannot be written is reported and the rest are kept.
+"""
 
 from __future__ import annotations
 
@@ -11,8 +16,9 @@ import time
 from pathlib import Path
 
 from elimscan import __version__
-from elimscan.cli.folders import LOG_FILE, RESULTS_FILE, prepare_output, write_atomic, write_files
-from elimscan.cli.inputs import batch_only, check_structures, read_config, with_engine
+from elimscan.cli.folders import (LOG_FILE, RESULTS_FILE, check_output, create_output, remove_previous_files,
+                                  write_atomic, write_each)
+from elimscan.cli.inputs import batch_only, check_models, check_structures, read_config, warn_sizes, with_engine
 from elimscan.cli.logs import setup_logging
 from elimscan.engines.threads import configure_threads
 from elimscan.errors import ConfigError, ExitCode, OutputError
@@ -31,14 +37,25 @@ def cmd_run(args: argparse.Namespace) -> int:
         configure_threads(config.threads.per_process)
     check_structures(config, args.config)  # input errors stop the run before any calculation
     from elimscan.batch.inputs import read_geometries
+    from elimscan.batch.lock import FolderLock
+    from elimscan.pipeline.names import job_id_of
 
     geometries = read_geometries(config, Path(args.config).parent)
+    check_models(config, args.config, geometries)
     out = Path(args.out)
-    prepare_output(out, args.overwrite)
-    setup_logging(args.verbosity, out / LOG_FILE)
-    log.debug("command: %s", shlex.join(sys.argv))
-    log.debug("versions: %s", json.dumps(environment_versions()))
+    check_output(out, args.overwrite)  # refusals that change nothing come first
+    warn_sizes((job_id_of(s.name, b.name), s.smiles, b.smiles) for s, b in config.jobs())
+    create_output(out)
+    with FolderLock(out, "run"):  # one run or batch at a time per folder
+        check_output(out, args.overwrite)  # again under the lock: another run may have finished meanwhile
+        setup_logging(args.verbosity, out / LOG_FILE)
+        log.debug("command: %s", shlex.join(sys.argv))
+        log.debug("versions: %s", json.dumps(environment_versions()))
+        return _compute_and_write(config, geometries, out)
 
+
+def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path) -> int:
+    """Compute the run and write its files (results.json first); return the exit code."""
     from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
     from elimscan.pipeline.jobs import compute_run
@@ -64,19 +81,29 @@ def cmd_run(args: argparse.Namespace) -> int:
     for record in result.molecules:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
-    write_files(out, files)
-    n_failed = result.summary.n_jobs_failed
-    write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
+    replacing = (out / RESULTS_FILE).exists()
+    try:  # the results first: a file that fails later cannot take them with it
+        write_atomic(out / RESULTS_FILE, result.model_dump_json(indent=2) + "\n")
+    except OutputError as err:
+        kept = f"; the previous {RESULTS_FILE} is kept unchanged" if replacing else ""
+        raise OutputError(f"{err}: the results of this run could not be saved{kept}") from err
+    problems = remove_previous_files(out) if replacing else []
+    problems += write_each(out, files)
     from elimscan.output.files import build_report_files
 
     try:
-        write_files(out, build_report_files(out))
-    except OutputError as err:  # the results are safe: say so, and how to get the report later
-        raise OutputError(f"{err}; the results are complete in {out / RESULTS_FILE}: after freeing space, "
-                          f"rebuild the report with: elimscan report {out}") from err
+        problems += write_each(out, build_report_files(out))
+    except OutputError as err:
+        problems.append(str(err))
     log.info("%s", summary_table(result))
     for kind, count in result.summary.trouble.items():
         log.warning("numerical trouble recorded as data: %s: %d (see results.json)", kind, count)
+    for problem in problems:
+        log.warning("not written: %s", problem)
+    if problems:
+        raise OutputError(f"{len(problems)} file(s) could not be written (first: {problems[0]}); the results are "
+                          f"complete in {out / RESULTS_FILE} and every other file was kept: after freeing space or "
+                          f"fixing the folder, rebuild the report with: elimscan report {out}")
     log.info("wrote %s in %.1f s (%d xTB gradients, cache hit ratio %.2f)", out / RESULTS_FILE,
              time.perf_counter() - started, engine.stats.misses, engine.stats.hit_ratio)
-    return ExitCode.JOBS_FAILED if n_failed else ExitCode.OK
+    return ExitCode.JOBS_FAILED if result.summary.n_jobs_failed else ExitCode.OK

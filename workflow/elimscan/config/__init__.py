@@ -15,28 +15,43 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
 - ``dft``: the optional DFT tier (``DftConfig``)
 - ``executor``: where a batch's jobs run and their time limits (``ExecutorConfig``, ``default_workers``)
 - ``run``: ``RunConfig``, the whole run, with the checks across its parts, and ``DEFAULT_SEED``
+- ``names``: names that become file names: ``safe_name``, the length bound ``MAX_NAME_BYTES``, ``clashing_names``
+  (one rule for run, validate and batch)
+- ``yamlreader``: the strict YAML reading (plain decimal numbers, true/false, no anchors or aliases, bounded
+  size ``MAX_CONFIG_BYTES`` and depth ``MAX_CONFIG_DEPTH``)
 - ``loading``: YAML text -> ``RunConfig`` (``parse_config``), errors with key path, line and "did you mean";
   ``key_line`` (the YAML line of a key path) and ``config_to_dict``
+
+Input bounds are named constants of their block: ``MIN_TEMPERATURE_K``/``MAX_TEMPERATURE_K`` (method),
+``SEED_LIMIT`` (run), ``CLOSED_SHELL_MULTIPLICITY``, ``MAX_SMILES_CHARS``, ``MAX_HEAVY_ATOMS`` and the warning
+level ``OVERNIGHT_HEAVY_ATOMS`` (molecules), ``MAX_CONFORMER_COUNT`` (conformers), ``MAX_PATH_COUNT`` (paths).
 """
 
 from __future__ import annotations
 
 from elimscan.config.analysis import SERIES_MIN_MEMBERS, AnalysisConfig, RuleConfig, SeriesConfig, SeriesMemberConfig
-from elimscan.config.conformers import ConformerConfig, ScanConfig
+from elimscan.config.conformers import MAX_CONFORMER_COUNT, ConformerConfig, ScanConfig
 from elimscan.config.dft import DftConfig
 from elimscan.config.executor import DEFAULT_JOB_TIME_LIMIT_SECONDS, ExecutorConfig, default_workers
 from elimscan.config.frozen import Frozen
 from elimscan.config.loading import config_to_dict, key_line, parse_config
-from elimscan.config.method import MethodConfig, OptimizerConfig, SolventConfig, ThreadsConfig
-from elimscan.config.molecules import (BASE_LIBRARY, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig, PairConfig,
-                                       SubstrateConfig)
-from elimscan.config.paths import PathConfig, SaddleConfig
-from elimscan.config.run import DEFAULT_SEED, RunConfig
+from elimscan.config.method import (MAX_ELECTRONIC_TEMPERATURE_K, MAX_TEMPERATURE_K, MIN_TEMPERATURE_K, MethodConfig,
+                                    OptimizerConfig, SolventConfig, ThreadsConfig)
+from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, MAX_HEAVY_ATOMS, MAX_SMILES_CHARS,
+                                       OVERNIGHT_HEAVY_ATOMS, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig,
+                                       PairConfig, SubstrateConfig)
+from elimscan.config.names import MAX_NAME_BYTES, clashing_names, safe_name
+from elimscan.config.paths import MAX_PATH_COUNT, PathConfig, SaddleConfig
+from elimscan.config.run import DEFAULT_SEED, SEED_LIMIT, RunConfig
+from elimscan.config.yamlreader import MAX_CONFIG_BYTES, MAX_CONFIG_DEPTH
 
 __all__ = [
-    "AnalysisConfig", "BASE_LIBRARY", "BaseConfig", "BaseModelConfig", "ConformerConfig",
-    "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "Frozen", "MethodConfig",
-    "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig", "SERIES_MIN_MEMBERS",
-    "SUBSTRATE_FILE_SUFFIXES", "SaddleConfig", "ScanConfig", "SeriesConfig", "SeriesMemberConfig", "SolventConfig",
-    "SubstrateConfig", "ThreadsConfig", "config_to_dict", "default_workers", "key_line", "parse_config",
+    "AnalysisConfig", "BASE_LIBRARY", "BaseConfig", "BaseModelConfig", "CLOSED_SHELL_MULTIPLICITY", "ConformerConfig",
+    "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "Frozen", "MAX_CONFIG_BYTES",
+    "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K", "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES",
+    "MAX_PATH_COUNT", "MAX_SMILES_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
+    "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig",
+    "SEED_LIMIT", "SERIES_MIN_MEMBERS", "SUBSTRATE_FILE_SUFFIXES", "SaddleConfig", "ScanConfig", "SeriesConfig",
+    "SeriesMemberConfig", "SolventConfig", "SubstrateConfig", "ThreadsConfig", "clashing_names", "config_to_dict",
+    "default_workers", "key_line", "parse_config", "safe_name",
 ]

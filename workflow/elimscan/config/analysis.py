@@ -4,9 +4,10 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from elimscan.config.frozen import Frozen
+from elimscan.config.molecules import file_name_length
 
 
 class RuleConfig(Frozen):
@@ -48,6 +49,8 @@ class SeriesConfig(Frozen):
     name: str = Field(min_length=1)
     base: str = Field(min_length=1)
     members: tuple[SeriesMemberConfig, ...]
+
+    _name_length = field_validator("name", mode="after")(file_name_length)
     #: where the sigma values come from (shown beside the fit in the report), e.g. a table and its citation
     sigma_source: str | None = None
 

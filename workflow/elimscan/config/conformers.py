@@ -6,15 +6,19 @@ from pydantic import Field
 
 from elimscan.config.frozen import Frozen
 
+#: every count of the conformer search (embeddings, relaxations) is at most this: beyond it the search would
+#: run out of memory or time before any path is computed
+MAX_CONFORMER_COUNT = 1000
+
 
 class ConformerConfig(Frozen):
     """Conformer search: seeded ETKDG embedding, pruning, GFN2-xTB relaxation, de-duplication."""
 
     #: embeddings = base + per rotatable bond + per ring, capped at max_embeddings
-    base_embeddings: int = Field(6, ge=1)
-    per_rotatable_bond: int = Field(4, ge=0)
-    per_ring: int = Field(4, ge=0)
-    max_embeddings: int = Field(40, ge=1)
+    base_embeddings: int = Field(6, ge=1, le=MAX_CONFORMER_COUNT)
+    per_rotatable_bond: int = Field(4, ge=0, le=MAX_CONFORMER_COUNT)
+    per_ring: int = Field(4, ge=0, le=MAX_CONFORMER_COUNT)
+    max_embeddings: int = Field(40, ge=1, le=MAX_CONFORMER_COUNT)
     #: force-field geometries closer than this heavy-atom RMSD (Å) are pruned before xTB
     prune_rmsd_A: float = Field(0.25, gt=0)
     #: after GFN2-xTB: same conformer when both energy and heavy-atom RMSD are this close
@@ -27,7 +31,7 @@ class ConformerConfig(Frozen):
     #: xTB relaxations of conformers at most (the lowest force-field energies first); the forced chair forms
     #: of saturated six-membered rings are always relaxed and count first, plus at least one other start, so
     #: a molecule with many rings can exceed this number
-    max_relaxations: int = Field(12, ge=1)
+    max_relaxations: int = Field(12, ge=1, le=MAX_CONFORMER_COUNT)
 
 
 class ScanConfig(Frozen):

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import re
 from typing import Literal
 
 from pydantic import Field, model_validator
@@ -12,6 +13,11 @@ from elimscan.config.frozen import Frozen
 #: Per-job wall-time limit of a batch (s): a job still running after this is stopped and recorded as
 #: failed (error_type time_limit). Four hours: a large substrate with every path takes well under one.
 DEFAULT_JOB_TIME_LIMIT_SECONDS = 14400.0
+
+
+#: a Dask scheduler address: an optional protocol, a host name or address (IPv6 in brackets), an optional port
+SCHEDULER_ADDRESS = re.compile(r"^(?:(?:tcp|tls|ucx|ws|wss|inproc)://)?(?:\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9._-]+)"
+                               r"(?::[0-9]{1,5})?(?:/[A-Za-z0-9._/-]*)?$")
 
 
 def default_workers() -> int:
@@ -42,4 +48,7 @@ class ExecutorConfig(Frozen):
             raise ValueError("executor kind 'dask' needs an address (the scheduler, e.g. tcp://host:8786)")
         if self.kind == "local" and self.address:
             raise ValueError("executor.address is the Dask scheduler: set kind: dask, or drop the address")
+        if self.address and not SCHEDULER_ADDRESS.match(self.address):
+            raise ValueError(f"'{self.address}' is not a Dask scheduler address (e.g. tcp://10.0.0.5:8786 or "
+                             "host:8786)")
         return self

@@ -1,5 +1,6 @@
 """YAML text -> the validated ``RunConfig``; errors name the key path (``substrates.0.smiles``) and, where the YAML
-has one, the line, with a "did you mean" for a misspelt key."""
+has one, the line, with a "did you mean" for a misspelt key. The text is read by ``yamlreader`` (plain decimal
+numbers, no anchors or aliases, bounded size and depth)."""
 
 from __future__ import annotations
 
@@ -10,6 +11,7 @@ import yaml
 from pydantic import BaseModel, ValidationError
 
 from elimscan.config.run import RunConfig
+from elimscan.config.yamlreader import SEXAGESIMAL, StrictLoader, read_yaml
 from elimscan.errors import ConfigError
 
 
@@ -104,7 +106,12 @@ def _translate(err: ValidationError, root: yaml.Node | None) -> ConfigError:
         if first["type"] == "missing":
             message = f"required key '{loc[-1]}' is missing"
         elif "input" in first and not isinstance(first["input"], (dict, list)):
-            message = f"{message} (got {first['input']!r})"
+            if not (first["type"] == "value_error" and f"{first['input']}" in message):  # said already
+                message = f"{message} (got {first['input']!r})"
+            if isinstance(first["input"], str) and SEXAGESIMAL.match(first["input"].strip()):
+                guess = first["input"].strip().replace(":", ".", 1) if first["input"].count(":") == 1 else None
+                message += (": numbers are read as plain decimals (YAML 1.1 would read this as base 60)"
+                            + (f"; did you mean {guess}?" if guess else ""))
     # errors on a parent of the first location are consequences of it (an emptied list)
     extra = sum(1 for e in errors[1:] if tuple(e["loc"]) != loc[: len(e["loc"])] and tuple(e["loc"])[:-1] != loc[:-1])
     if extra:
@@ -115,8 +122,7 @@ def _translate(err: ValidationError, root: yaml.Node | None) -> ConfigError:
 def parse_config(text: str, source: str = "<config>") -> RunConfig:
     """Return the validated RunConfig for YAML text; raise ConfigError naming key path and line."""
     try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
-        data = yaml.safe_load(text)
+        root, data = read_yaml(text)
     except yaml.YAMLError as err:
         mark = getattr(err, "problem_mark", None)
         line = mark.line + 1 if mark is not None else None
@@ -141,8 +147,8 @@ def config_to_dict(config: RunConfig) -> dict[str, Any]:
 def key_line(text: str, key_path: str) -> int | None:
     """Return the 1-based YAML line of a dotted key path (``substrates.0.smiles``) in config text, or None."""
     try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
-    except yaml.YAMLError:
+        root = yaml.compose(text, Loader=StrictLoader)
+    except (yaml.YAMLError, ConfigError):
         return None
     loc = tuple(int(p) if p.isdigit() else p for p in key_path.split("."))
     return _node_line(root, loc) if root is not None else None

@@ -4,11 +4,18 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from elimscan.config.frozen import Frozen
 from elimscan.errors import SolventError
 from elimscan.solvents import check_solvent
+
+#: the temperature of Boltzmann weights and free energies lies in this range (K): solution chemistry, where the
+#: harmonic (quasi-RRHO) free energies and the conformer weights of the method mean something
+MIN_TEMPERATURE_K = 150.0
+MAX_TEMPERATURE_K = 1000.0
+#: electronic (Fermi smearing) temperatures of the SCF at most this (K); xTB's default is 300 K
+MAX_ELECTRONIC_TEMPERATURE_K = 10000.0
 
 
 class SolventConfig(Frozen):
@@ -34,18 +41,27 @@ class MethodConfig(Frozen):
     hamiltonian: Literal["GFN2-xTB", "GFN1-xTB"] = "GFN2-xTB"
     backend: Literal["tblite", "xtb"] = "tblite"
     solvent: SolventConfig = SolventConfig()
-    #: temperature for Boltzmann weights and free energies (K)
-    temperature_K: float = Field(298.15, gt=0)
+    #: temperature for Boltzmann weights and free energies (K), from MIN_TEMPERATURE_K to MAX_TEMPERATURE_K
+    temperature_K: float = Field(298.15, ge=MIN_TEMPERATURE_K, le=MAX_TEMPERATURE_K)
     #: electronic (Fermi smearing) temperature of the SCF (K)
-    electronic_temperature_K: float = Field(300.0, gt=0)
+    electronic_temperature_K: float = Field(300.0, gt=0, le=MAX_ELECTRONIC_TEMPERATURE_K)
     #: electronic temperature of the single retry after an SCF failure (K)
-    retry_electronic_temperature_K: float = Field(1000.0, gt=0)
+    retry_electronic_temperature_K: float = Field(1000.0, gt=0, le=MAX_ELECTRONIC_TEMPERATURE_K)
     max_scf_iterations: int = Field(250, ge=1)
     #: xTB numerical accuracy (1.0 = default; smaller is tighter)
     accuracy: float = Field(1.0, gt=0)
     #: another engine instead of GFN2-xTB: 'module:function', a factory called with this method config that
     #: returns an object satisfying elimscan.engines.contract.Engine (see DEVELOPERS.md); None: GFN2-xTB
     engine_factory: str | None = Field(None, pattern=r"^[A-Za-z_][\w.]*:[A-Za-z_]\w*$")
+
+    @field_validator("temperature_K", mode="before")
+    @classmethod
+    def _physical_temperature(cls, value: object) -> object:
+        if isinstance(value, (int, float)) and not isinstance(value, bool) and (
+                value == value and not MIN_TEMPERATURE_K <= value <= MAX_TEMPERATURE_K):
+            raise ValueError(f"temperature {value:g} K is outside {MIN_TEMPERATURE_K:g}-{MAX_TEMPERATURE_K:g} K, the "
+                             "range where the method's Boltzmann weights and free energies mean something")
+        return value
 
     @model_validator(mode="after")
     def _solvent_supported(self) -> "MethodConfig":

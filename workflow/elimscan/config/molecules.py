@@ -7,6 +7,35 @@ from typing import Any, Literal
 from pydantic import Field, field_validator, model_validator
 
 from elimscan.config.frozen import Frozen
+from elimscan.config.names import name_length_problem
+
+#: the only spin state elimscan computes: closed-shell singlets (E2 substrates and bases are closed shells)
+CLOSED_SHELL_MULTIPLICITY = 1
+#: a SMILES may have at most this many characters (read before RDKit parses it) ...
+MAX_SMILES_CHARS = 5000
+#: ... and its molecule at most this many heavy (non-hydrogen) atoms
+MAX_HEAVY_ATOMS = 200
+#: above this many heavy atoms in a substrate plus its base a job is unlikely to finish overnight on one core of a
+#: workstation (a warning, not a refusal). A rough bound until the benchmark measures costs by size: one measured
+#: job (2-bromobutane + ethoxide, 8 heavy atoms, 99 s on one core) scaled by the cube of the heavy-atom count to
+#: 12 h (8 x (43200 / 99) ** (1/3) = 61)
+OVERNIGHT_HEAVY_ATOMS = 60
+
+
+def closed_shell_multiplicity(value: object) -> object:
+    """Return a multiplicity given in a config unchanged; raise ValueError unless it is 1 (a closed-shell singlet)."""
+    if isinstance(value, int) and not isinstance(value, bool) and value != CLOSED_SHELL_MULTIPLICITY:
+        raise ValueError(f"multiplicity {value}: elimscan handles closed-shell molecules only (multiplicity "
+                         f"{CLOSED_SHELL_MULTIPLICITY}, a singlet)")
+    return value
+
+
+def file_name_length(value: object) -> object:
+    """Return a name unchanged; raise ValueError when it is too long to become a file name."""
+    problem = name_length_problem(value) if isinstance(value, str) else None
+    if problem is not None:
+        raise ValueError(problem)
+    return value
 
 
 class SubstrateConfig(Frozen):
@@ -16,10 +45,14 @@ class SubstrateConfig(Frozen):
     smiles: str = Field(min_length=1)
     #: total charge; None = take the formal charge of the SMILES
     charge: int | None = None
-    multiplicity: int = Field(1, ge=1)
+    #: spin multiplicity 2S+1: only 1 (closed shells) is computed
+    multiplicity: int = Field(CLOSED_SHELL_MULTIPLICITY, ge=1, le=CLOSED_SHELL_MULTIPLICITY)
     #: optional SDF or XYZ file (path relative to the config file) with a 3D structure of this substrate;
     #: it joins the conformer ensemble. The SMILES still fixes connectivity, charge and stereochemistry.
     geometry: str | None = None
+
+    _multiplicity = field_validator("multiplicity", mode="before")(closed_shell_multiplicity)
+    _name_length = field_validator("name", mode="after")(file_name_length)
 
     @field_validator("geometry")
     @classmethod
@@ -75,10 +108,14 @@ class BaseConfig(Frozen):
         return data
 
     charge: int | None = None
-    multiplicity: int = Field(1, ge=1)
+    #: spin multiplicity 2S+1: only 1 (closed shells) is computed
+    multiplicity: int = Field(CLOSED_SHELL_MULTIPLICITY, ge=1, le=CLOSED_SHELL_MULTIPLICITY)
     #: True marks a sterically demanding base for the geometric rule (Hofmann shift)
     bulky: bool | None = None
     model: BaseModelConfig = BaseModelConfig()
+
+    _multiplicity = field_validator("multiplicity", mode="before")(closed_shell_multiplicity)
+    _name_length = field_validator("name", mode="after")(file_name_length)
 
 
 class PairConfig(Frozen):

@@ -8,6 +8,10 @@ from pydantic import Field
 
 from elimscan.config.frozen import Frozen
 
+#: the counts that multiply the paths of a job (path points, base rotations, backbone conformers, orientations)
+#: are each at most this
+MAX_PATH_COUNT = 1000
+
 
 class SaddleConfig(Frozen):
     """Saddle refinement and verification."""
@@ -56,24 +60,24 @@ class PathConfig(Frozen):
     #: basic atom placed on the extension of the C-beta-H bond at this H...base distance (Å)
     complex_distance_A: float = Field(2.0, gt=0.8)
     #: rotations of the base about that axis tried for each complex
-    base_rotations: int = Field(3, ge=1)
+    base_rotations: int = Field(3, ge=1, le=MAX_PATH_COUNT)
     #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
     step_A: float = Field(0.15, gt=0)
     #: ... for this many points after the complex
-    points: int = Field(20, ge=2)
+    points: int = Field(20, ge=2, le=MAX_PATH_COUNT)
     #: syn paths hold H-C-C-X at this dihedral (degrees)
     syn_dihedral_deg: float = Field(0.0, ge=-30, le=30)
     #: also compute backside substitution (SN2) at C-alpha for every job
     substitution: bool = True
     #: start each E2 approach from up to this many distinct backbone conformers (lowest first); the lowest
     #: path top is used and the spread over them is reported as an uncertainty
-    backbone_conformers: int = Field(1, ge=1)
+    backbone_conformers: int = Field(1, ge=1, le=MAX_PATH_COUNT)
     #: ... only conformers within this window above the lowest periplanar one (kcal/mol) ...
     backbone_window_kcal_mol: float = Field(3.0, gt=0)
     #: ... and differing from each other by more than this heavy-atom RMSD (Å)
     backbone_distinct_rmsd_A: float = Field(0.25, gt=0)
     #: drive a whole path from each of this many lowest base rotations of the complex (at most base_rotations)
-    orientation_paths: int = Field(1, ge=1)
+    orientation_paths: int = Field(1, ge=1, le=MAX_PATH_COUNT)
     #: how the paths of one approach from several starts (backbone conformers x orientations) make one
     #: barrier: the lowest top, or a Boltzmann sum over distinct tops at method.temperature_K
     combine: Literal["lowest", "boltzmann"] = "lowest"

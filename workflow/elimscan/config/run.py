@@ -13,19 +13,24 @@ from elimscan.config.executor import ExecutorConfig
 from elimscan.config.frozen import Frozen
 from elimscan.config.method import MethodConfig, OptimizerConfig, SolventConfig, ThreadsConfig
 from elimscan.config.molecules import SUBSTRATE_FILE_SUFFIXES, BaseConfig, PairConfig, SubstrateConfig
+from elimscan.config.names import clash_message, clashing_names
 from elimscan.config.paths import PathConfig
 from elimscan.errors import SolventError
 from elimscan.solvents import check_solvent
 
 #: Random seed used when the config gives none (RDKit embedding, base rotations).
 DEFAULT_SEED = 20261202
+#: seeds are whole numbers 0 <= seed < SEED_LIMIT: RDKit's random seed is a signed 32-bit integer, and -1
+#: (or any negative seed) makes its embedding random, which a recorded seed could not repeat
+SEED_LIMIT = 2**31
 
 
 class RunConfig(Frozen):
     """A whole elimscan run: method, molecules and the jobs to compute."""
 
     name: str = Field("elimscan-run", min_length=1)
-    seed: int = DEFAULT_SEED
+    #: random seed of the RDKit embeddings (0 <= seed < 2**31)
+    seed: int = Field(DEFAULT_SEED, ge=0, lt=SEED_LIMIT)
     method: MethodConfig = MethodConfig()
     optimizer: OptimizerConfig = OptimizerConfig()
     threads: ThreadsConfig = ThreadsConfig()
@@ -50,6 +55,14 @@ class RunConfig(Frozen):
     #: optional DFT single points on the saddles of each job (PySCF; off by default)
     dft: DftConfig = DftConfig()
 
+    @field_validator("seed", mode="before")
+    @classmethod
+    def _seed_range(cls, value: Any) -> Any:
+        if isinstance(value, int) and not isinstance(value, bool) and not 0 <= value < SEED_LIMIT:
+            raise ValueError(f"seed {value} is outside 0 to {SEED_LIMIT - 1}: RDKit's random seed is a 32-bit "
+                             "integer, and a negative one makes every embedding random (not repeatable)")
+        return value
+
     @field_validator("substrates", "bases")
     @classmethod
     def _unique_names(cls, items: tuple[Any, ...]) -> tuple[Any, ...]:
@@ -58,6 +71,9 @@ class RunConfig(Frozen):
             if item.name in seen:
                 raise ValueError(f"duplicate name '{item.name}' (entries {seen[item.name]} and {index}, counted from 0)")
             seen[item.name] = index
+        clash = clashing_names(item.name for item in items)
+        if clash is not None:
+            raise ValueError(clash_message(*clash))
         return items
 
     @field_validator("substrates_file")
@@ -111,6 +127,9 @@ class RunConfig(Frozen):
         bases = {b.name for b in info.data["bases"]}
         pairs = info.data.get("pairs")
         from_file = info.data.get("substrates_file") is not None
+        clash = clashing_names(item.name for item in series)  # series names become plot file names
+        if clash is not None:
+            raise ValueError(clash_message(*clash))
         names: dict[str, int] = {}
         for k, item in enumerate(series):
             if item.name in names:

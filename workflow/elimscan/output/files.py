@@ -35,16 +35,26 @@ HTML_FILE = "report.html"
 def read_result(out_dir: str | Path) -> RunResult:
     """Return the validated RunResult of an output folder; raise OutputError naming the file when unusable."""
     path = Path(out_dir) / RESULTS_FILE
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as err:
-        raise OutputError(f"cannot read '{path}': {err.strerror or err}") from err
+    text = _result_text(path)
     try:
         return RunResult.model_validate_json(text)
+    except RecursionError as err:
+        raise OutputError(f"'{path}' is not a valid elimscan result: its JSON nests too deep") from err
     except ValidationError as err:
         first = err.errors()[0]
         where = ".".join(str(p) for p in first["loc"]) or "(top level)"
         raise OutputError(f"'{path}' is not a valid elimscan result: {where}: {first['msg']}") from err
+
+
+def _result_text(path: Path) -> str:
+    """Return a result file's text; raise OutputError naming it when it cannot be read or is not UTF-8 text."""
+    try:
+        return path.read_text(encoding="utf-8")
+    except OSError as err:
+        raise OutputError(f"cannot read '{path}': {err.strerror or err}") from err
+    except UnicodeDecodeError as err:
+        raise OutputError(f"'{path}' is not an elimscan result: not UTF-8 text (byte 0x{err.object[err.start]:02x} "
+                          f"at offset {err.start})") from err
 
 
 def read_scan_frames(out_dir: str | Path, result: RunResult) -> dict[str, list[Atoms]]:
@@ -126,11 +136,13 @@ def _schema_for(document: object) -> tuple[str, dict] | None:
 def validate_result_file(path: str | Path) -> list[str]:
     """Return the problems of a result JSON file against its JSON Schema, each naming the JSON path; [] when valid."""
     try:
-        document = json.loads(Path(path).read_text(encoding="utf-8"))
-    except OSError as err:
-        return [f"(file): cannot read '{path}': {err.strerror or err}"]
+        document = json.loads(_result_text(Path(path)))
+    except OutputError as err:
+        return [f"(file): {err}"]
     except json.JSONDecodeError as err:
         return [f"(file): not JSON: {err.msg} at line {err.lineno}, column {err.colno}"]
+    except RecursionError:
+        return ["(file): the JSON nests too deep to be an elimscan result"]
     found = _schema_for(document)
     if found is None:
         known = sorted(str(m.model_fields["schema_name"].default) for m in SCHEMA_MODELS.values() if "schema_name" in m.model_fields)
@@ -139,9 +151,12 @@ def validate_result_file(path: str | Path) -> list[str]:
     _, schema = found
     validator = jsonschema.Draft202012Validator(schema)
     problems = []
-    for error in validator.iter_errors(document):
-        message = error.message
-        if error.validator in ("anyOf", "oneOf") and error.context:
-            message = jsonschema.exceptions.best_match(error.context).message
-        problems.append(f"{_json_path(error.absolute_path)}: {message}")
+    try:
+        for error in validator.iter_errors(document):
+            message = error.message
+            if error.validator in ("anyOf", "oneOf") and error.context:
+                message = jsonschema.exceptions.best_match(error.context).message
+            problems.append(f"{_json_path(error.absolute_path)}: {message}")
+    except RecursionError:
+        problems.append("(file): the JSON nests too deep to be an elimscan result")
     return sorted(set(problems))

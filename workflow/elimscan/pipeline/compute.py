@@ -18,7 +18,7 @@ from rdkit import Chem
 
 from elimscan.analysis.rule import GeometrySample, best_periplanar, boltzmann_combined, periplanar_starts, rule_status
 from elimscan.chem.bases import BaseInfo, describe_base
-from elimscan.chem.basemodels import build_cluster, conjugate_acid_smiles
+from elimscan.chem.basemodels import model_cluster
 from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
@@ -80,12 +80,8 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
     start = time.perf_counter()
     try:
         info = describe_base(item.smiles, item.bulky)
-        built = build_molecule(item.smiles, config.seed, item.charge, item.multiplicity, what)
-        explicit_smiles = model.explicit_smiles or conjugate_acid_smiles(item.smiles, info.basic_atom_index)
-        explicit = [build_molecule(explicit_smiles, config.seed + k, None, 1, f"{what} explicit molecule").atoms
-                    for k in range(model.explicit)]
-        cluster = build_cluster(built.atoms, info.basic_atom_index, item.smiles, built.formal_charge, model.counter_ion,
-                                explicit, explicit_smiles, item.name)
+        cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
+                                model.explicit_smiles, config.seed, item.name)
         calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
         result = relax(cluster.atoms, calc, (), config.optimizer)
     except ElimscanError as err:

@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+from elimscan.config.names import safe_name
+
+__all__ = ["conformer_file_name", "job_id_of", "path_file_name", "safe_name", "scan_file_name"]
+
 
 def scan_file_name(substrate: str, class_id: str, index: int) -> str:
     """Return the output-relative path of one scan trajectory."""
@@ -13,15 +17,9 @@ def conformer_file_name(substrate: str) -> str:
     return f"substrates/{safe_name(substrate)}/conformers.sdf"
 
 
-def safe_name(name: str) -> str:
-    """Return a file-name-safe version of a user-given name."""
-    return "".join(c if c.isalnum() or c in "-_." else "_" for c in name)
-
-
 def path_file_name(job_id: str, class_id: str, approach: str, kind: str = "path") -> str:
     """Return the output-relative path of a path ('path') or saddle ('saddle') trajectory."""
     return f"jobs/{safe_name(job_id)}/{kind}-{safe_name(class_id)}-{approach}.xyz"
-
 
 
 def job_id_of(substrate: str, base: str) -> str:

@@ -20,6 +20,7 @@ from elimscan.output.plots.paths import computed_paths, has_barriers, path_figur
 from elimscan.output.plots.products import product_figure, product_fraction_map
 from elimscan.output.plots.scans import scan_figure
 from elimscan.results.records import JobRecord
+from elimscan.config.names import safe_name
 
 #: the target H-C-C-X dihedral (degrees) of each geometry a class gets a Newman projection for
 NEWMAN_TARGETS_DEG = {"anti": 180.0, "syn": 0.0}
@@ -57,8 +58,7 @@ JOB_PLOT_KINDS = (
 
 def plot_name(job_id: str, kind: str) -> str:
     """Return the output-relative name (no extension) of one plot of a job, e.g. 'plots/<job>-scan'."""
-    safe = "".join(c if c.isalnum() or c in "-_." else "_" for c in f"{job_id}-{kind}")
-    return f"plots/{safe}"
+    return f"plots/{safe_name(f'{job_id}-{kind}')}"
 
 
 def newman_plot_name(job_id: str, class_id: str, geometry: str) -> str:

@@ -11,6 +11,7 @@ from elimscan.output.plots.figures import CLASS_COLOURS, GREY, signed
 from elimscan.output.text import r_squared_text
 from elimscan.results.documents import SeriesRecord
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
+from elimscan.config.names import safe_name
 
 #: energy kind of a series -> the barrier symbol on its right axis
 SERIES_BARRIER_WORDS = {"electronic": "\u0394E\u2021", "free": "\u0394G\u2021"}
@@ -24,8 +25,7 @@ def rho_text(rho: float) -> str:
 def series_plot_name(series: SeriesRecord) -> str:
     """Return the output-relative name (no extension) of a series plot, e.g. 'plots/series-<name>[-<solvent>]'."""
     label = series.name + (f"-{series.solvent.model}-{series.solvent.name or 'none'}" if series.solvent is not None else "")
-    safe = "".join(c if c.isalnum() or c in "-_." else "_" for c in f"series-{label}")
-    return f"plots/{safe}"
+    return f"plots/{safe_name(f'series-{label}')}"
 
 
 def series_figure(series: SeriesRecord) -> Figure:
