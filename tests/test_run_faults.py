@@ -140,10 +140,10 @@ def test_a_full_disk_at_each_write_keeps_the_new_or_the_previous_results(replay,
             code, err = cli(capsys, "run", replay.config, "--out", out, "--overwrite", *TOY)
         assert disk.opened[0].startswith(".results.json.")  # results.json is written first
         assert "Traceback" not in err and not list(out.rglob("*.tmp"))
-        full = f"{os.strerror(errno.ENOSPC)} (disk full or file-size limit reached)"
+        full = os.strerror(errno.ENOSPC)
         if full_from == 1:  # nothing could be saved: the previous run is untouched, all of it
             assert code == ExitCode.OUTPUT
-            assert error_line(err) == (f"error (output_error): cannot write '{out / 'results.json'}': {full}: the results "
+            assert error_line(err) == (f"error (output_error): disk full while writing '{out / 'results.json'}': {full}: the results "
                                        "of this run could not be saved; the previous results.json is kept unchanged")
             assert {rel: (out / rel).read_bytes() for rel in before} == before
             continue
@@ -155,7 +155,7 @@ def test_a_full_disk_at_each_write_keeps_the_new_or_the_previous_results(replay,
         if missing:
             assert code == ExitCode.OUTPUT
             assert error_line(err).startswith(f"error (output_error): {len(missing)} file(s) could not be written "
-                                              f"(first: cannot write '{out / missing[0]}': {full}); the results are "
+                                              f"(first: disk full while writing '{out / missing[0]}': {full}); the results are "
                                               f"complete in {out / 'results.json'}")
         else:
             assert code == ExitCode.OK, err

@@ -150,8 +150,8 @@ def test_a_name_too_long_for_a_folder_fails_only_its_row_and_a_rerun_goes_on(fin
     config, out, done = finished
     assert done.returncode == ExitCode.JOBS_FAILED, done.stderr[-3000:]
     assert done.stderr.splitlines()[0] == (
-        f"job {LONG_NAME}__methoxide fails on its input: more.csv line 3: substrate name '{'x' * 40}…' (300 "
-        "characters) makes its job folder name 311 bytes long; file systems hold at most 255: shorten the name")
+        f"job {LONG_NAME}__methoxide fails on its input: more.csv line 3: name '{'x' * 40}...' has 300 bytes as a "
+        "file name; at most 100 (names become folder and file names in the output folder)")
     assert "Traceback" not in done.stderr
     rows = committed(out)
     assert sorted(j for j, r in rows.items() if r.status == "ok") == sorted(COMPUTED)  # nothing else was lost
@@ -200,9 +200,9 @@ def test_a_name_in_the_yaml_too_long_for_a_file_name_stops_the_batch_before_it_s
         with pytest.raises(ConfigError) as info:
             plan_of(config)
         assert info.value.key_path == key_path
-        what = "substrate" if key_path.startswith("substrates") else "base"
-        assert str(info.value).startswith(f"key '{key_path}': {what} name '{new[7:47]}…' (250 characters) makes its ")
-        assert str(info.value).endswith("bytes long; file systems hold at most 255: shorten the name")
+        # the config's one name rule (config/names.py): a name is at most 100 bytes as a file name
+        assert str(info.value).startswith(f"key '{key_path}', line ")
+        assert f"name '{new[7:47]}...' has 250 bytes as a file name; at most 100" in str(info.value)
 
 
 # --- 2: an input file the batch would overwrite -----------------------------------------------------------------

@@ -9,6 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from pathlib import Path
 
+from pydantic import ValidationError
+
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 from elimscan.errors import ConfigError, StructureError
 from elimscan.versions import numeric_versions
@@ -143,6 +145,7 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     names = {s.name: "in the config" for s in config.substrates}
     merged: list[SubstrateConfig] = list(config.substrates)
     row_of: dict[str, SubstrateRow] = {}
+    config_rule_rows: set[str] = set()  # rows that break a rule of the config itself (a name too long, a spin state)
     for row in rows:
         duplicate = row.name in names
         if duplicate:  # the row fails under a name of its own; the first use keeps its jobs
@@ -156,10 +159,16 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             else:
                 charges[f"substrate '{row.name}'"] = total
         names[row.name] = f"on {row.source}"
-        row_of[row.name] = row
         if row.name and row.smiles and not duplicate:  # recorded in results.json's config, bad SMILES too
-            merged.append(SubstrateConfig(name=row.name, smiles=row.smiles, charge=row.charge,
-                                          multiplicity=row.multiplicity))
+            try:
+                merged.append(SubstrateConfig(name=row.name, smiles=row.smiles, charge=row.charge,
+                                              multiplicity=row.multiplicity))
+            except ValidationError as err:  # the config's own rules (name, multiplicity): only this row fails
+                why = "; ".join(e["msg"].removeprefix("Value error, ") for e in err.errors())
+                if row.problem is None:
+                    row = replace(row, problem=f"{row.source}: {why}")
+                    config_rule_rows.add(row.name)
+        row_of[row.name] = row
     bases = {b.name: b for b in config.bases}
     for index, pair in enumerate(config.pairs or ()):
         if pair.substrate not in names:
@@ -207,6 +216,9 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
             common = dict(key=key, job_id=job_id, substrate_name=name, substrate_smiles=inputs["smiles"], base=base,
                           solvent=solvent, source=row.source if row else "config")
             problem = row.problem if row else None
+            if problem is not None and name in config_rule_rows:
+                jobs.append(PlannedJob(**common, input_error=ErrorInfo(error_type="config_error", error_message=problem)))
+                continue
             if problem is None and too_long is not None:  # a file row: only its jobs fail
                 jobs.append(PlannedJob(**common, input_error=ErrorInfo(error_type="config_error",
                                                                        error_message=f"{row.source}: {too_long}")))
