@@ -256,7 +256,7 @@ name: series-batch
 optimizer: {name: bfgs, fmax_eV_per_A: 0.05}
 conformers: {base_embeddings: 2, per_rotatable_bond: 1, max_relaxations: 2}
 scan: {step_deg: 60}
-paths: {approaches: [anti], points: 4, base_rotations: 1, substitution: false, saddle: {refine: false}}
+paths: {approaches: [anti], base_rotations: 1, substitution: false, saddle: {refine: false}}
 method: {solvent: {model: alpb, name: ethanol}}
 substrates:
   - {name: H, smiles: "ClCCc1ccccc1"}
@@ -273,7 +273,9 @@ series:
 
 @pytest.mark.xtb
 def test_a_batch_carries_the_series_in_results_and_batch_json(tmp_path):
-    # Plumbing through `elimscan batch` (tiny settings, one worker): members from the YAML and from the CSV,
+    # Plumbing through `elimscan batch` (small settings, one worker; the driven paths keep their default length,
+    # since a path that stops short of its products is no barrier and makes no series point): members from the
+    # YAML and from the CSV,
     # one member (CF3) with an unusable SMILES, whose job fails on its input, so missing. Both documents carry
     # the same series record, recomputed here from the jobs of results.json, and both validate against the
     # schema exported from records.py.
