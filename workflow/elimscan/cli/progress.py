@@ -6,18 +6,9 @@ import logging
 import shutil
 import sys
 
+from elimscan.output.text import duration_text
+
 log = logging.getLogger("elimscan")
-
-
-def human_duration(seconds: float | None) -> str:
-    """Return a short human duration ('45 s', '12 min', '3.5 h')."""
-    if seconds is None:
-        return "unknown"
-    if seconds < 90:
-        return f"{seconds:.0f} s"
-    if seconds < 5400:
-        return f"{seconds / 60:.0f} min"
-    return f"{seconds / 3600:.1f} h"
 
 
 class BatchProgress:
@@ -38,14 +29,14 @@ class BatchProgress:
 
     def __call__(self, event) -> None:
         counts = f"{event.n_ok} ok, {event.n_failed} failed, {event.n_left} left of {event.n_jobs}"
-        eta = "" if event.eta_s is None else f", about {human_duration(event.eta_s)} left"
+        eta = "" if event.eta_s is None else f", about {duration_text(event.eta_s)} left"
         if event.kind == "plan":
             log.debug("computing on %s", event.message)
             return
         if event.kind == "finish":
             self._clear()
             what = "ok" if event.status == "ok" else f"FAILED ({event.message})"
-            log.info("[%s] %s %s in %s%s", counts, event.job_id, what, human_duration(event.seconds), eta)
+            log.info("[%s] %s %s in %s%s", counts, event.job_id, what, duration_text(event.seconds), eta)
         elif event.kind == "start":
             log.debug("%s started on %s", event.job_id, event.message)
         if self.live and event.kind in ("start", "step", "tick", "finish"):
