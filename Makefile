@@ -13,9 +13,9 @@ export MKL_NUM_THREADS ?= 1
 export OMP_STACKSIZE ?= 1G
 export MPLBACKEND ?= Agg
 # pytest-xdist worker processes for make test / test-fast (one core each: the tests run one thread a process).
-# Tests that share an expensive module fixture carry an xdist_group mark, which --dist loadgroup keeps together.
+# A worker takes whole test files (a module fixture is computed once), in the order tests/conftest.py gives them.
 TEST_WORKERS ?= 2
-PYTEST_XDIST := -n $(TEST_WORKERS) --dist loadgroup
+PYTEST_XDIST := -n $(TEST_WORKERS) --dist loadfile --no-loadscope-reorder
 
 .PHONY: reference-cases reference-cases-fast demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 

@@ -23,17 +23,25 @@ from elimscan.chem.structures import build_molecule  # noqa: E402
 SEED = 20261202
 
 
+def _rank(item) -> int:
+    """Return 0 for a slow GFN2-xTB check, 1 for another GFN2-xTB or fuzz test, 2 for the rest."""
+    if item.get_closest_marker("slow"):
+        return 0
+    return 1 if item.get_closest_marker("xtb") or item.get_closest_marker("fuzz") else 2
+
+
 def pytest_collection_modifyitems(config, items):
-    """Under pytest-xdist, hand out the long GFN2-xTB checks first, so that no worker ends alone with one."""
-    if not os.environ.get("PYTEST_XDIST_WORKER"):  # a plain run keeps the file order
+    """Under pytest-xdist, hand out first the test files that hold slow checks, so that no worker ends alone with one.
+
+    ``make test`` gives each worker whole files (``--dist loadfile --no-loadscope-reorder``); a file keeps its own
+    order, so its module fixtures are computed once. A plain run keeps the file order.
+    """
+    if not os.environ.get("PYTEST_XDIST_WORKER"):
         return
-
-    def rank(item) -> int:  # slow GFN2-xTB checks, then the other GFN2-xTB and fuzz tests, then the rest
-        if item.get_closest_marker("slow"):
-            return 0
-        return 1 if item.get_closest_marker("xtb") or item.get_closest_marker("fuzz") else 2
-
-    items.sort(key=rank)
+    rank: dict = {}
+    for item in items:
+        rank[item.path] = min(rank.get(item.path, 2), _rank(item))
+    items.sort(key=lambda item: rank[item.path])  # stable: each file's tests stay together and in order
 
 
 @pytest.fixture(scope="session")

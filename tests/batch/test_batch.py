@@ -453,7 +453,6 @@ def reference(tmp_path_factory):
 
 
 @pytest.mark.xtb
-@pytest.mark.xdist_group(name="batch-reference")  # shares the module's reference batch
 def test_a_batch_writes_valid_documents_and_a_rerun_computes_nothing(reference):
     config, out = reference
     document = results(out)
@@ -482,7 +481,6 @@ def test_a_batch_writes_valid_documents_and_a_rerun_computes_nothing(reference):
 
 
 @pytest.mark.xtb
-@pytest.mark.xdist_group(name="batch-reference")  # shares the module's reference batch
 def test_a_batch_killed_hard_resumes_without_recomputing_finished_jobs(tmp_path, reference):
     _, reference_out = reference
     config = write_batch(tmp_path, SMALL)
@@ -547,7 +545,6 @@ def test_failures_are_isolated_recorded_and_exit_5(tmp_path):
 
 
 @pytest.mark.xtb
-@pytest.mark.xdist_group(name="batch-reference")  # shares the module's reference batch
 def test_dask_cluster_gives_the_same_results_as_local_workers(tmp_path, reference):
     pytest.importorskip("distributed")
     from distributed import LocalCluster
@@ -591,7 +588,6 @@ def test_a_second_batch_on_the_same_folder_is_refused(tmp_path):
 
 
 @pytest.mark.xtb
-@pytest.mark.xdist_group(name="batch-reference")  # shares the module's reference batch
 def test_a_changed_setting_makes_new_keys_and_never_mixes_results(tmp_path, reference):
     config, reference_out = reference
     out = tmp_path / "out"

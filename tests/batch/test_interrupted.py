@@ -107,7 +107,6 @@ KILL_POINTS = [("start", 2), ("rename", 2), ("files", 2), ("commit", 1), ("docum
 
 
 @pytest.mark.parametrize("point, n", KILL_POINTS, ids=[f"{p}-{n}" for p, n in KILL_POINTS])
-@pytest.mark.xdist_group(name="interrupted-reference")  # shares the module's reference batch
 def test_a_batch_killed_at_a_known_point_resumes_to_the_uninterrupted_result(tmp_path, reference, point, n):
     out = tmp_path / "out"
     killed = batch(tmp_path, env={"ELIMSCAN_TEST_KILL_AT": f"{point}:{n}"})
@@ -139,7 +138,6 @@ def _file_size_limit(limit_bytes: int):
     return apply
 
 
-@pytest.mark.xdist_group(name="interrupted-reference")  # shares the module's reference batch
 def test_a_disk_that_fills_up_keeps_every_finished_job(tmp_path, reference):
     # RLIMIT_FSIZE caps each file; the store's write-ahead log grows with every commit, so a cap between one
     # and three jobs' worth makes the disk "full" part-way. The sizes depend on the record format, so the
@@ -167,7 +165,6 @@ def test_a_disk_that_fills_up_keeps_every_finished_job(tmp_path, reference):
     assert numbers(out) == numbers(reference)
 
 
-@pytest.mark.xdist_group(name="interrupted-reference")  # shares the module's reference batch
 def test_an_output_folder_that_stops_being_writable_keeps_finished_jobs(tmp_path, reference):
     # CI runs as root, so permissions cannot make a folder unwritable: the failure is injected by putting a
     # plain file where the second job's folder must go (writing below it fails with "Not a directory")
@@ -236,7 +233,6 @@ def test_an_atomic_write_past_the_file_size_limit_leaves_the_old_file(tmp_path):
     assert not list(tmp_path.glob(".*.tmp"))
 
 
-@pytest.mark.xdist_group(name="interrupted-reference")  # shares the module's reference batch
 def test_a_permission_error_mid_run_keeps_finished_jobs(tmp_path, reference, capsys, monkeypatch):
     # injected in the driver (this process): renaming the second job's files into place is refused, as on a
     # folder whose permissions changed under a running batch (root ignores permissions, so they cannot be used)
