@@ -81,10 +81,12 @@ def test_cluster_composition_charge_and_contacts(counter_ion, explicit):
 
 
 def test_too_many_ligands_or_a_cation_for_a_neutral_base_is_refused():
+    # two lone pairs on NH2-: one H-bond donor on the nitrogen, the other lone pair stays free; a second
+    # ammonia then binds the first one (second shell)
+    amide_shell, _ = _cluster("[NH2-]", None, 2)
+    assert "1 x N hydrogen-bonded" in amide_shell.label and "1 x N in the second shell" in amide_shell.label
     with pytest.raises(StructureError, match="leave none free"):
-        _cluster("CC(C)(C)[O-]", None, 3)
-    with pytest.raises(StructureError, match="leave none free"):
-        _cluster("[NH2-]", None, 2)  # two lone pairs on NH2-: one H-bond donor at most, the other stays free
+        _cluster("CN(C)C", None, 1)  # an amine's one lone pair is the one the proton transfer needs
     amide, _ = _cluster("[NH2-]", "K", 1)  # the cation takes one lone pair; the ammonia then binds the cation
     assert "1 x N on the cation" in amide.label
     with pytest.raises(StructureError, match="not an anion"):
@@ -195,3 +197,33 @@ def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_repor
     assert 'id="base-models"' in html and "Na+ ion pair" in html and "MeO bare" in html
     # one model only: no comparison
     assert base_model_groups(jobs[:1]) == [] and base_model_section(RunResult.model_construct(jobs=tuple(jobs[:1]))) == ""
+
+
+@pytest.mark.parametrize("explicit", [3, 4])
+def test_molecules_beyond_the_free_lone_pairs_form_a_second_shell_without_a_cation(explicit):
+    """Without a cation, molecules past the two O-H...O- bonds bind the first-shell alcohols' oxygens.
+
+    Expected geometry: the starting distances chosen in basemodels (common practice: O-H...O about 1.75 Å to
+    an alkoxide, about 1.9 Å between neutral alcohols); composition and charge as RDKit reads the SMILES.
+    """
+    from elimscan.chem.basemodels import SECOND_SHELL_BOND_A
+
+    cluster, info = _cluster("CC[O-]", None, explicit)
+    assert _hill(cluster.atoms) == _rdkit_hill(cluster.smiles)
+    assert cluster.charge == -1 and f"{explicit - 2} x" in cluster.label and "second shell" in cluster.label
+    positions, o = cluster.atoms.positions, cluster.basic_atom_index
+    per = (len(cluster.atoms) - cluster.n_base_atoms) // explicit  # ethanol: 9 atoms each
+    oxygens = [cluster.n_base_atoms + k * per + int(np.flatnonzero(cluster.atoms.numbers[
+        cluster.n_base_atoms + k * per: cluster.n_base_atoms + (k + 1) * per] == 8)[0]) for k in range(explicit)]
+    hydrogens = [i for i in range(cluster.n_base_atoms, len(positions)) if cluster.atoms.numbers[i] == 1]
+    # exactly two hydroxyl H on the alkoxide oxygen: one of its three lone pairs stays free for the proton transfer
+    assert sum(np.linalg.norm(positions[h] - positions[o]) == pytest.approx(HYDROGEN_BOND_A, abs=1e-6)
+               for h in hydrogens) == 2
+    # each second-shell molecule donates to a first-shell oxygen at the chosen distance
+    for k in range(2, explicit):
+        first_shell_oxygen = oxygens[(k - 2) % 2]
+        donated = [h for h in hydrogens if np.linalg.norm(positions[h] - positions[first_shell_oxygen])
+                   == pytest.approx(SECOND_SHELL_BOND_A, abs=1e-6)]
+        assert len(donated) == 1
+    distances = np.linalg.norm(positions[:, None] - positions[None], axis=2) + 10 * np.eye(len(positions))
+    assert distances.min() > 0.9

@@ -6,7 +6,9 @@ on the lone-pair directions of the basic atom (tetrahedral about its bonds); one
 free for the proton transfer, and since the complex builder turns the base so that its nearest atoms
 point away from the substrate, that free lone pair is the one that faces the beta hydrogen. Explicit
 molecules beyond the lone pairs left bind the cation through their donor atom (O or N), on the far side
-from the base, as alcohols solvate a potassium ion.
+from the base, as alcohols solvate a potassium ion; without a cation they form a second shell, each
+hydrogen-bonded to the donor atom of a first-shell molecule (taken in turn), as an alkoxide's solvating
+alcohols are themselves solvated in the neat alcohol.
 
 Distances (Å) are starting values only: every cluster is relaxed before use, alone (the reference of the
 common zero) and in each complex.
@@ -29,6 +31,8 @@ from elimscan.errors import StructureError
 CATION_DISTANCE_A: dict[str, float] = {"Li": 1.95, "Na": 2.30, "K": 2.65}
 #: H...O distance of an alcohol hydrogen bond to an alkoxide oxygen (Å), starting value; common practice
 HYDROGEN_BOND_A = 1.75
+#: H...O distance of an alcohol-to-alcohol hydrogen bond (second shell), starting value (Å); common practice
+SECOND_SHELL_BOND_A = 1.90
 #: explicit molecules on the cation: their donor atom this far (degrees) off the base->cation axis, beyond it
 CATION_LIGAND_TILT_DEG = 70.0
 #: tetrahedral angle (degrees)
@@ -75,7 +79,7 @@ def _perpendicular(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def lone_pair_directions(atoms: Atoms, basic: int) -> list[np.ndarray]:
-    """Return unit vectors of the basic atom's lone pairs, tetrahedral about its bonds (empty for 3+ bonds)."""
+    """Return unit vectors of an atom's lone pairs, tetrahedral about its bonds (one for 3 bonds, none for 4)."""
     centre = atoms.positions[basic]
     bonds = [(atoms.positions[j] - centre) / np.linalg.norm(atoms.positions[j] - centre) for j in _bonded(atoms, basic)]
     theta = np.radians(TETRAHEDRAL_DEG)
@@ -93,6 +97,9 @@ def lone_pair_directions(atoms: Atoms, basic: int) -> list[np.ndarray]:
         normal /= np.linalg.norm(normal)
         half = theta / 2.0
         return [-np.cos(half) * bisector + sign * np.sin(half) * normal for sign in (1.0, -1.0)]
+    if len(bonds) == 3:  # pyramidal (an amine's nitrogen): one lone pair, opposite the sum of its bonds
+        away = -(bonds[0] + bonds[1] + bonds[2])
+        return [away / np.linalg.norm(away)] if np.linalg.norm(away) > 1e-6 else []
     return []
 
 
@@ -147,6 +154,38 @@ def _place_molecule(molecule: Atoms, anchor: int, h: int, donor: int, site: np.n
     return placed
 
 
+def _second_shell(cluster: Atoms, first: int, first_sizes: Sequence[int], molecules: Sequence[Atoms],
+                  what: str) -> Atoms:
+    """Return ``cluster`` with each molecule hydrogen-bonded to a lone pair of a first-shell donor atom (Å).
+
+    The first-shell molecules start at atom ``first`` (right after the base) with ``first_sizes`` atoms each;
+    the k-th added molecule binds the (k mod n)-th of them, on the lone pair of its donor atom that leaves the
+    most room (a second molecule on the same donor takes the next one).
+    """
+    starts = [first + sum(first_sizes[:j]) for j in range(len(first_sizes))]
+    used: dict[int, int] = {}
+    for k, molecule in enumerate(molecules):
+        start = starts[k % len(starts)]
+        _, donor = donor_hydrogen(cluster[start:start + first_sizes[k % len(starts)]], what)
+        donor += start
+        centre = cluster.positions[donor]
+
+        def room(direction: np.ndarray) -> float:
+            site = centre + SECOND_SHELL_BOND_A * direction
+            return float(np.min(np.linalg.norm(cluster.positions - site, axis=1)))
+
+        free = sorted(lone_pair_directions(cluster, donor), key=room, reverse=True)
+        turn = used.get(donor, 0)
+        if turn >= len(free):
+            raise StructureError(f"{what}: no lone pair left on a first-shell molecule for a second-shell one")
+        used[donor] = turn + 1
+        direction = free[turn]
+        h, own_donor = donor_hydrogen(molecule, what)
+        cluster += _place_molecule(molecule, h, h, own_donor, centre + SECOND_SHELL_BOND_A * direction, -direction,
+                                   direction, cluster.positions)
+    return cluster
+
+
 def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, counter_ion: str | None,
                   explicit: Sequence[Atoms] = (), explicit_smiles: str | None = None, name: str = "base") -> BaseCluster:
     """Return the base model: the base, then the cation (if any), then the explicit molecules (Å).
@@ -165,12 +204,12 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
                                  "a counter-ion pairs only with an anionic base")
     slots = lone_pair_directions(base, basic)
     at_base = len(slots) - 1 - (1 if counter_ion else 0)  # explicit molecules the basic atom can take
-    if at_base < 0 or (counter_ion is None and len(explicit) > at_base):
+    if at_base < 0 or (counter_ion is None and explicit and at_base == 0):
         ligands = (1 if counter_ion else 0) + len(explicit)
         raise StructureError(f"base '{name}' ({base_smiles}): its basic atom has {len(slots)} lone pair(s); "
                              f"{ligands} ligand(s) (counter-ion and explicit molecules) would leave none free for "
-                             f"the proton transfer (at most {max(len(slots) - 1, 0)}; with a counter-ion, further "
-                             "explicit molecules bind the cation)")
+                             f"the proton transfer (at most {max(len(slots) - 1, 0)} on the basic atom; further "
+                             "explicit molecules bind the cation or, without one, the first-shell molecules)")
     centre = base.positions[basic]
     what = f"base '{name}': explicit molecule '{explicit_smiles or '?'}'"
     cluster = base.copy()
@@ -186,7 +225,11 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
         cluster += _place_molecule(molecule, h, h, donor, centre + HYDROGEN_BOND_A * direction, -direction, direction,
                                    cluster.positions)
         smiles.append(explicit_smiles or "?")
-    on_cation = explicit[at_base:]
+    on_cation = explicit[at_base:] if counter_ion is not None else ()
+    second_shell = explicit[at_base:] if counter_ion is None else ()
+    if second_shell:
+        cluster = _second_shell(cluster, len(base), [len(m) for m in explicit[:at_base]], second_shell, what)
+        smiles += [explicit_smiles or "?"] * len(second_shell)
     if on_cation:
         metal = cluster.positions[len(base)]
         axis = (metal - centre) / np.linalg.norm(metal - centre)
@@ -203,7 +246,8 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
     n_bonded = min(len(explicit), at_base)
     parts = ([f"{counter_ion}+ ion pair"] if counter_ion else []) + \
         ([f"{n_bonded} x {explicit_smiles} hydrogen-bonded"] if n_bonded else []) + \
-        ([f"{len(on_cation)} x {explicit_smiles} on the cation"] if on_cation else [])
+        ([f"{len(on_cation)} x {explicit_smiles} on the cation"] if on_cation else []) + \
+        ([f"{len(second_shell)} x {explicit_smiles} in the second shell"] if second_shell else [])
     charge = base_charge + (1 if counter_ion else 0)
     return BaseCluster(cluster, ".".join(smiles), charge, basic, len(base), " + ".join(parts))
 

@@ -20,6 +20,9 @@ MAX_HEAVY_ATOMS = 200
 #: job (2-bromobutane + ethoxide, 8 heavy atoms, 99 s on one core) scaled by the cube of the heavy-atom count to
 #: 12 h (8 x (43200 / 99) ** (1/3) = 61)
 OVERNIGHT_HEAVY_ATOMS = 60
+#: explicit solvent molecules of a base model at most: two on an alkoxide oxygen (one lone pair stays free),
+#: the rest on the cation or in a second shell; issue 18 asks for n = 0 ... 4 as calibration candidates
+MAX_EXPLICIT_MOLECULES = 4
 
 
 def closed_shell_multiplicity(value: object) -> object:
@@ -71,8 +74,8 @@ class BaseModelConfig(Frozen):
 
     #: metal cation paired with an anionic base (None: no counter-ion)
     counter_ion: Literal["Li", "Na", "K"] | None = None
-    #: explicit solvent molecules hydrogen-bonded to the basic atom
-    explicit: int = Field(0, ge=0, le=3)
+    #: explicit solvent molecules: hydrogen-bonded to the basic atom, then on the cation, else a second shell
+    explicit: int = Field(0, ge=0, le=MAX_EXPLICIT_MOLECULES)
     #: SMILES of the explicit molecule; None: the base's conjugate acid (tert-butanol for tert-butoxide)
     explicit_smiles: str | None = Field(None, min_length=1)
 
