@@ -169,3 +169,25 @@ def test_a_paths_override_is_checked_like_a_config():
     assert text != CASES_TEXT
     with pytest.raises(CaseFileError, match="'bromoethane-ethoxide'.*paths.substitution"):
         parse_cases(text)
+
+
+@pytest.mark.parametrize("name", ["alcohol-2", "alcohol-4", "Na-pair", "Na-pair-alcohol-2"])
+def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(cases, validate, name):
+    """Each candidate of issue 18 runs the calibration set with its model on every base, apart from the default's."""
+    from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, base_model_block
+
+    chosen = validate._chosen("calibration", list(cases.calibration), list(cases.test))
+    assert chosen and all(c in cases.calibration for c in chosen)
+    default = batch_groups(benchmark_jobs(chosen, 1))
+    groups = batch_groups(benchmark_jobs(chosen, 1), base_model=name)
+    assert {g.name for g in groups}.isdisjoint(g.name for g in default)
+    assert all(g.name.startswith(f"{name}--") for g in groups)
+    for group in groups:
+        config = parse_config(yaml.safe_dump(group.config), group.name)
+        for base in config.bases:
+            assert base.model.model_dump(exclude_defaults=True) == base_model_block(name)
+    assert validate.page_path("calibration", name).name == f"CALIBRATION-{name}.md"
+    assert validate.page_path("all", "bare").name == "VALIDATION.md"
+    assert validate._parse(["--base-model", name]).base_model == name and name in BASE_MODEL_CANDIDATES
+    with pytest.raises(ValueError, match="unknown base model 'alcohol-9'"):
+        base_model_block("alcohol-9")

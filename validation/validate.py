@@ -9,8 +9,10 @@ unfinished jobs are computed; change a case and only its jobs run again.
 
 Options: ``--work DIR`` (keep the batches; default a temporary folder), ``--no-compute`` (score what DIR
 holds, also while another invocation still runs), ``--no-write`` (print the page only), ``--subset fast``
-(a few small cases, one seed, writes VALIDATION-fast.md), ``--seeds N`` (the first N seeds of each case),
-``--workers N`` (local worker processes of each batch).
+(a few small cases, one seed, writes VALIDATION-fast.md), ``--subset calibration`` (the calibration set only,
+writes CALIBRATION.md), ``--base-model NAME`` (a candidate of ``elimscan.analysis.benchmark_models``; pages of
+a model other than the default carry its name, e.g. VALIDATION-alcohol-2.md), ``--seeds N`` (the first N seeds
+of each case), ``--workers N`` (local worker processes of each batch).
 """
 
 from __future__ import annotations
@@ -29,6 +31,7 @@ import yaml
 from elimscan.analysis.benchmark_calibration import score_calibration
 from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
 from elimscan.analysis.benchmark_jobs import BatchGroup, batch_groups, benchmark_jobs, seeds_for
+from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, DEFAULT_BASE_MODEL
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.atomicio import write_text_atomic
 from elimscan.batch.documents import INDEX_FILE
@@ -42,7 +45,7 @@ HERE = Path(__file__).resolve().parent
 FAST_SUBSET = ("bromoethane-ethoxide", "2-bromopropane-ethoxide", "2-bromo-2-methylpropane-ethoxide",
                "2-bromobutane-ethoxide", "trans-2-methylcyclohexyl-chloride-ethoxide",
                "ethyl-bromide-ethoxide-sn2-rate", "isopropyl-bromide-ethoxide-e2-rate")
-PAGES = {"all": HERE / "VALIDATION.md", "fast": HERE / "VALIDATION-fast.md"}
+PAGES = {"all": "VALIDATION", "fast": "VALIDATION-fast", "calibration": "CALIBRATION"}
 #: one JSON line per invocation that computed in a work folder (its wall time, commit, subset and seeds)
 RUN_LOG = "validate-runs.jsonl"
 
@@ -54,8 +57,11 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         help="keep the batch folders here and resume them (default: a temporary folder)")
     parser.add_argument("--no-compute", action="store_true", help="compute nothing: score the jobs finished in --work")
     parser.add_argument("--no-write", action="store_true", help="print the page, do not write it")
-    parser.add_argument("--subset", choices=("all", "fast"), default="all",
-                        help="fast: %d small cases, one seed, page VALIDATION-fast.md" % len(FAST_SUBSET))
+    parser.add_argument("--subset", choices=tuple(PAGES), default="all",
+                        help="fast: %d small cases, one seed, page VALIDATION-fast.md; calibration: the calibration "
+                        "set only, page CALIBRATION.md" % len(FAST_SUBSET))
+    parser.add_argument("--base-model", choices=tuple(BASE_MODEL_CANDIDATES), default=DEFAULT_BASE_MODEL,
+                        help="model every base with this candidate (default: %(default)s, the free anion)")
     parser.add_argument("--seeds", type=int, default=None, metavar="N",
                         help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
     parser.add_argument("--workers", type=int, default=None, help="local worker processes of each batch "
@@ -100,6 +106,19 @@ def _read_group(group: BatchGroup, work: Path) -> tuple[dict[tuple[str, str], tu
     return {names[key]: (json.loads(row.job_json), row.wall_seconds) for key, row in rows.items()}, provenance
 
 
+def page_path(subset: str, base_model: str) -> Path:
+    """Return the page a subset and base model write (the default model's pages carry no model name)."""
+    suffix = "" if base_model == DEFAULT_BASE_MODEL else f"-{base_model}"
+    return HERE / f"{PAGES[subset]}{suffix}.md"
+
+
+def _chosen(subset: str, calibration: list, test: list) -> list:
+    """Return the cases a subset runs: all, the fast few, or the calibration set."""
+    if subset == "calibration":
+        return list(calibration)
+    return [c for c in (*calibration, *test) if subset == "all" or c.id in FAST_SUBSET]
+
+
 def _commit() -> str:
     """Return the short commit of the checkout ('-dirty' with uncommitted changes to tracked files)."""
     def git(*words: str) -> subprocess.CompletedProcess:
@@ -117,9 +136,10 @@ def main(argv: list[str] | None = None) -> int:
     started_utc = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     args = _parse(argv)
     cases = parse_cases((HERE / "cases.yaml").read_text())
-    chosen = [c for c in (*cases.calibration, *cases.test) if args.subset == "all" or c.id in FAST_SUBSET]
+    chosen = _chosen(args.subset, list(cases.calibration), list(cases.test))
     seed_count = args.seeds if args.seeds is not None else (1 if args.subset == "fast" else None)
-    groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine),
+    groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine,
+                                 base_model=args.base_model),
                     key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
@@ -130,11 +150,12 @@ def main(argv: list[str] | None = None) -> int:
                     _run_group(group, work, args.workers)
             finally:  # an interrupted invocation counts its wall time too
                 entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
-                         "commit": commit, "subset": args.subset, "seeds": seed_count}
+                         "commit": commit, "subset": args.subset, "seeds": seed_count, "base_model": args.base_model}
                 with open(work / RUN_LOG, "a") as log:
                     log.write(json.dumps(entry) + "\n")
         log_file = work / RUN_LOG
         runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
+        runs = [r for r in runs if r.get("base_model", DEFAULT_BASE_MODEL) == args.base_model]
         records: dict[str, dict[int, dict]] = {}
         seconds: dict[str, dict[int, float | None]] = {}
         provenance, n_jobs, n_finished, job_seconds = None, 0, 0, 0.0
@@ -163,14 +184,15 @@ def main(argv: list[str] | None = None) -> int:
     info = RunInfo(date_utc=_dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"), commit=commit,
                    wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, method=method,
                    compute_seconds=sum(r["wall_seconds"] for r in runs), n_compute_runs=len(runs),
-                   seeds=tuple(all_seeds), subset="all cases" if args.subset == "all" else
-                   f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)",
+                   seeds=tuple(all_seeds), subset={"all": "all cases", "calibration": "the calibration set only"}.get(
+                       args.subset, f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)"),
+                   base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
                    n_jobs=n_jobs, n_jobs_finished=n_finished)
     page = validation_markdown(info, scores, calibration, levels)
     if not args.no_write:
-        write_text_atomic(PAGES[args.subset], page)
-        print(f"wrote {PAGES[args.subset]}", file=sys.stderr)
+        write_text_atomic(page_path(args.subset, args.base_model), page)
+        print(f"wrote {page_path(args.subset, args.base_model)}", file=sys.stderr)
     print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
     print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))
     return 0

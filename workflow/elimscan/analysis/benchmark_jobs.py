@@ -18,6 +18,7 @@ from rdkit import Chem
 
 from elimscan.config import BASE_LIBRARY, SolventConfig
 from elimscan.analysis.benchmark_cases import CalibrationCase, Molecule, OutcomeCase, case_slots
+from elimscan.analysis.benchmark_models import DEFAULT_BASE_MODEL, base_model_block, model_prefix
 
 
 @dataclass(frozen=True)
@@ -90,14 +91,17 @@ class BatchGroup:
 
 
 def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
-                 engine_factory: str | None = None) -> list[BatchGroup]:
+                 engine_factory: str | None = None, base_model: str = DEFAULT_BASE_MODEL) -> list[BatchGroup]:
     """Return the batch configs of the jobs, one per group, with each job's pair shared by equal jobs.
 
     ``engine_factory`` ('module:function') puts a plug-in engine into every config (tests); None: GFN2-xTB.
+    ``base_model`` names a candidate of ``benchmark_models``: every base of every job gets its ``model:``
+    block, and the groups' folder names its prefix (none for the default model).
     """
+    model, prefix = base_model_block(base_model), model_prefix(base_model)
     groups: dict[str, list[BenchmarkJob]] = {}
     for job in jobs:
-        groups.setdefault(job.group, []).append(job)
+        groups.setdefault(prefix + job.group, []).append(job)
     found = []
     for name, members in groups.items():
         first = members[0]
@@ -114,8 +118,11 @@ def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
             bkey = Chem.CanonSmiles(_base_smiles(job.base))
             bname = next((n for n, k in base_names.items() if k == bkey), None) or \
                 _unique_name(job.base.name, bkey, base_names)
-            bases.setdefault(bname, {"name": bname} if job.base.smiles is None and bname == job.base.name
-                             else {"name": bname, "smiles": _base_smiles(job.base)})
+            entry = ({"name": bname} if job.base.smiles is None and bname == job.base.name
+                     else {"name": bname, "smiles": _base_smiles(job.base)})
+            if model is not None:
+                entry["model"] = dict(model)
+            bases.setdefault(bname, entry)
             serves.setdefault((sname, bname), []).append((job.slot, job.seed))
         config: dict[str, Any] = {
             "name": f"{config_prefix}-{name}", "seed": first.seed,

@@ -38,6 +38,9 @@ class RunInfo:
     #: summed wall time (s) of the invocations that computed in this work folder, and how many there were
     compute_seconds: float = 0.0
     n_compute_runs: int = 0
+    #: the benchmark candidate every base was modelled with (analysis/benchmark_models.py) and what it is
+    base_model: str = "bare"
+    base_model_words: str = "the free alkoxide in the continuum"
 
 
 def _code(smiles: str | None) -> str:
@@ -179,6 +182,7 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              "subset) from `validation/cases.yaml`; never edited by hand. Re-running the same command rewrites this "
              "page.", "",
              f"- run: {info.date_utc}, commit `{info.commit}`, {info.method}",
+             f"- base model: `{info.base_model}` ({info.base_model_words}), for every base of every case",
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "

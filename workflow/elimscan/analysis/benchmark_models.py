@@ -1,0 +1,40 @@
+"""The base models the benchmark can be run with: one named candidate per physical picture of the base.
+
+Issue 18 asks for the bare anion, the ion pair, the anion with n explicit molecules of its own alcohol
+(n = 0 ... 4) and both together, each reported on the benchmark; the choice among them is made on the
+calibration set (rate constants, alkoxide basicity order, convergence in n), never on the test set. Pure: a
+candidate is the ``model:`` block of a base config (None for the bare anion).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+#: the model every job uses unless told otherwise (elimscan's default base model)
+DEFAULT_BASE_MODEL = "bare"
+
+#: name -> (``model:`` block of each benchmark base, or None, and what it represents)
+BASE_MODEL_CANDIDATES: dict[str, tuple[dict[str, Any] | None, str]] = {
+    "bare": (None, "the free alkoxide in the continuum"),
+    "alcohol-1": ({"explicit": 1}, "one alcohol molecule hydrogen-bonded to the alkoxide oxygen"),
+    "alcohol-2": ({"explicit": 2}, "two alcohol molecules hydrogen-bonded (one lone pair left free)"),
+    "alcohol-3": ({"explicit": 3}, "two hydrogen-bonded alcohols and one in the second shell"),
+    "alcohol-4": ({"explicit": 4}, "two hydrogen-bonded alcohols and two in the second shell"),
+    "Na-pair": ({"counter_ion": "Na"}, "the contact ion pair with Na+"),
+    "Na-pair-alcohol-2": ({"counter_ion": "Na", "explicit": 2},
+                          "the Na+ contact ion pair, one alcohol on the oxygen and one on Na+"),
+}
+
+
+def base_model_block(name: str) -> dict[str, Any] | None:
+    """Return the ``model:`` block of a named candidate (None: the bare anion); ValueError names the choices."""
+    if name not in BASE_MODEL_CANDIDATES:
+        raise ValueError(f"unknown base model '{name}': choose one of {', '.join(BASE_MODEL_CANDIDATES)}")
+    block = BASE_MODEL_CANDIDATES[name][0]
+    return dict(block) if block is not None else None
+
+
+def model_prefix(name: str) -> str:
+    """Return the prefix of a candidate's batch folders ('' for the default model, so old folders are reused)."""
+    base_model_block(name)
+    return "" if name == DEFAULT_BASE_MODEL else f"{name}--"
