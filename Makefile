@@ -1,7 +1,7 @@
 # elimscan: two commands for a fresh clone (see README.md)
 #   make demo   - create .venv if missing, install, run the demo, print a summary
 #   make test   - create/update .venv with test extras, run pytest (both tiers)
-# Other targets: test-fast (no GFN2-xTB), bench, reference-cases(-fast), schema, clean.
+# Other targets: test-fast (no GFN2-xTB), bench, reference-cases(-fast), calibration, basicity, schema, clean.
 
 PYTHON ?= python3.11
 VENV   := .venv
@@ -17,7 +17,7 @@ export MPLBACKEND ?= Agg
 TEST_WORKERS ?= 2
 PYTEST_XDIST := -n $(TEST_WORKERS) --dist loadfile --no-loadscope-reorder
 
-.PHONY: reference-cases reference-cases-fast demo test test-fast bench kernel-sweep schema clean check-python browser-deps
+.PHONY: reference-cases reference-cases-fast calibration basicity demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -83,6 +83,16 @@ reference-cases: $(VENV)/.installed
 
 reference-cases-fast: $(VENV)/.installed
 	$(VPY) validation/validate.py --subset fast --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
+
+# Choosing the base model (issue 18), never on the test cases: the calibration set under one candidate
+# (BASE_MODEL=alcohol-2 etc., see workflow/elimscan/analysis/benchmark_models.py; writes CALIBRATION-<model>.md),
+# and the relative alkoxide basicity under every candidate (writes validation/BASICITY.md; minutes).
+BASE_MODEL ?= bare
+calibration: $(VENV)/.installed
+	$(VPY) validation/validate.py --subset calibration --base-model $(BASE_MODEL) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
+
+basicity: $(VENV)/.installed
+	$(VPY) validation/basicity.py
 
 schema: $(VENV)/.installed
 	$(VPY) -m elimscan.results.schema results-schema
