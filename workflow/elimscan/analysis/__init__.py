@@ -8,4 +8,6 @@
 - ``benchmark_jobs``: every case x seed as a job, grouped into batch configs
 - ``benchmark_scoring``: the test set scored per level and seed (exact isomers, shares, undecided, the rule)
 - ``benchmark_calibration``: the calibration set's errors (Eyring barriers, isotope effects, Hammett rho)
+- ``benchmark_models``: the named base-model candidates the benchmark can run with (issue 18)
+- ``basicity``: relative pKa of base models from a balanced proton exchange (a physics check on a model)
 """
