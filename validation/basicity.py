@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import argparse
 import datetime as _dt
+import subprocess
 import sys
 import time
 from pathlib import Path
@@ -61,6 +62,8 @@ def main(argv: list[str] | None = None) -> int:
     """Relax every model's alkoxides and the alcohols, print and write the relative pKa table; return 0."""
     args = _parse(argv)
     started = time.perf_counter()
+    head = subprocess.run(["git", "-C", str(HERE), "rev-parse", "--short", "HEAD"], capture_output=True, text=True)
+    commit = head.stdout.strip() or "unknown"
     method = MethodConfig(solvent={"model": "alpb", "name": "ethanol"}, temperature_K=TEMPERATURE_K)
     engine = make_engine(method)
     acids: dict[str, float] = {}
@@ -103,7 +106,7 @@ def main(argv: list[str] | None = None) -> int:
         "relaxed base models and alcohols (thermal terms left out), lowest over "
         f"{args.seeds} starting arrangement(s), {TEMPERATURE_K} K; pKa(ROH) − pKa(methanol) from the balanced "
         "proton exchange (explicit molecules of each base's own alcohol change sides with it).", "",
-        f"- run: {_dt.datetime.now(_dt.timezone.utc).strftime('%Y-%m-%d %H:%M UTC')}, "
+        f"- run: {_dt.datetime.now(_dt.timezone.utc).strftime('%Y-%m-%d %H:%M UTC')}, commit `{commit}`, "
         f"{time.perf_counter() - started:.0f} s", "",
         "Measured: ethanol +0.4 (water) / +0.8 (DMSO); tert-butanol +2.5 (water) / +3.2 (DMSO) (water: textbook "
         "tables; DMSO: Bordwell, Acc. Chem. Res. 1988, 21, 456; both from memory). In the gas phase the order is "
