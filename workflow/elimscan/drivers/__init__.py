@@ -1,5 +1,6 @@
 """Algorithms over any engine passed in (an ASE calculator factory); no files.
 
+- ``constraints``: ASE's FixInternals with a cached, matrix-free force projection (same numbers, less Python)
 - ``relax``: constrained relaxation (held dihedrals, distances, distance sums), BFGS or Sella
 - ``conformers``: seeded ETKDG + MMFF + pruning, forced chairs, relaxation, de-duplication
 - ``scans``: H-C-C-X dihedral scans
