@@ -199,6 +199,10 @@ class PathConfig(_Frozen):
     combine: Literal["lowest", "boltzmann"] = "lowest"
     #: nucleophile placed behind C-alpha at this distance for the substitution complex (Å)
     substitution_distance_A: float = Field(3.0, gt=1.5)
+    #: gradients one path (complex, driven path, saddle search, checks and fallbacks) may spend, per atom of the
+    #: complex; a path that would spend more is stopped and reported as an unfinished estimate that decides no
+    #: product share (null: no limit)
+    gradient_budget_per_atom: float | None = Field(150.0, gt=0)
     saddle: SaddleConfig = SaddleConfig()
 
 

@@ -44,7 +44,8 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
     rotations = path.complex.energies_hartree
     return ApproachRecord(
         **record, path_status="ok", barrier_kcal_mol=kcal(path.top_hartree),
-        relative_barrier_kcal_mol=round((path.top_hartree - lowest_top) * KCAL_MOL_PER_HARTREE, 3),
+        relative_barrier_kcal_mol=(None if lowest_top is None  # every path of the job stopped by its budget
+                                   else round((path.top_hartree - lowest_top) * KCAL_MOL_PER_HARTREE, 3)),
         barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
         barrier_free_energy_kcal_mol=free_energy_kcal_mol,
         saddle_character=None if character is None else SaddleCharacterRecord(

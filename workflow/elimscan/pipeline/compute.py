@@ -283,13 +283,14 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
 
 
 def lowest_of_starts(tried: list[PathResult], combine: str = "lowest", temperature_K: float = 298.15) -> PathResult:
-    """Return the path with the lowest top (verified saddles first), carrying every start's top (hartree).
+    """Return the path with the lowest top (verified saddles first, paths stopped by their gradient budget last),
+    carrying the top of every start that finished (hartree).
 
     With ``combine='boltzmann'`` the returned path also carries the Boltzmann-combined top of the distinct
     tops (analysis.boltzmann_combined), which then stands for the approach's barrier.
     """
-    best = min(tried, key=lambda p: (not p.saddle.verified, p.top_hartree))
-    tops = tuple(p.top_hartree for p in tried)
+    best = min(tried, key=lambda p: (not p.saddle.verified, p.stopped_stage is not None, p.top_hartree))
+    tops = tuple(p.top_hartree for p in tried if p.stopped_stage is None) or (best.top_hartree,)
     combined = boltzmann_combined(tops, temperature_K) if combine == "boltzmann" and len(tops) > 1 else None
     return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined,
                                n_gradients=sum(p.n_gradients for p in tried))

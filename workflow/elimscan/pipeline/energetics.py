@@ -174,7 +174,7 @@ def _substitution_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_
     free = _saddle_free_energy(path, g_zero, base, analysis, config.method.temperature_K)
     mine = free if use_free else barrier
     shares = None
-    if mine is not None and e2_barriers:
+    if mine is not None and e2_barriers and path.stopped_stage is None:
         mix = product_fractions([*e2_barriers, PathBarrier("substitution", "backside", "SN2", mine, 1)],
                                 config.method.temperature_K)
         shares = (1.0 - mix["SN2"], mix["SN2"])
@@ -204,7 +204,9 @@ def job_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_cfg: BaseC
              for c in analysis.classes]
     verdict = rule_verdict(facts, config.rule, base.info.bulky, lg.kind, lg.label)
     zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
-    done = {key: p for key, p in paths.items() if not isinstance(p, ErrorInfo) and key != SUBSTITUTION_KEY}
+    # a path stopped by its gradient budget is an unfinished estimate: it decides no share and sets no zero
+    done = {key: p for key, p in paths.items()
+            if not isinstance(p, ErrorInfo) and key != SUBSTITUTION_KEY and p.stopped_stage is None}
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products_of = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
                    for c in analysis.classes for a in ("anti", "syn")}

@@ -7,3 +7,6 @@ UNFINISHED_ABOVE = "an unfinished relaxation lies above the path top and was not
 #: flag of a path whose highest point was not relaxed to the convergence limit
 UNFINISHED_MAXIMUM = ("the path maximum is an unfinished relaxation (optimizer.max_steps reached): its energy is "
                       "an upper bound")
+#: start of the flag of a path stopped by its gradient budget (paths.gradient_budget_per_atom): the stage that ran
+#: long follows; such a path is an unfinished estimate and decides no product share
+BUDGET_SPENT = "gradient budget spent"

@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections import Counter
 from collections.abc import Iterable
 
-from elimscan.results.flags import FAILED_ROTATION
+from elimscan.results.flags import BUDGET_SPENT, FAILED_ROTATION
 from elimscan.results.records import JobRecord
 
 #: saddle notes that mean "not attempted" (a setting), not trouble
@@ -37,6 +37,8 @@ def count_trouble(jobs: Iterable[JobRecord], retry_temperature_points: int = 0) 
             for approach in (beta.anti, beta.syn):
                 if approach.path_status == "failed":
                     counts[f"path failed: {approach.error.error_type if approach.error else 'failed'}"] += 1
+                elif any(f.startswith(BUDGET_SPENT) for f in approach.flags):
+                    counts["path stopped by its gradient budget"] += 1
                 elif (approach.path_status == "ok" and not approach.saddle_verified
                       and not (approach.saddle_note or "").startswith(_NOT_ATTEMPTED)):
                     why = approach.saddle_error_type
