@@ -62,10 +62,10 @@ Held = HeldDihedral | HeldDistance | HeldDistanceSum
 
 @dataclass
 class BfgsMemory:
-    """The last BFGS Hessian (eV/Å^2, 3N x 3N) of a series of relaxations, handed to the next one as its start.
+    """A BFGS Hessian (eV/Å^2, 3N x 3N) to start a relaxation from, kept up to date with its last one.
 
-    Neighbouring points of a driven path or a distance scan differ by one small step of the held coordinate,
-    so the curvature learned at one point starts the next far better than ASE's uniform guess.
+    Seeded with an exact Hessian (the saddle's, for the relaxations off it) or handed along a series of
+    relaxations, it starts each far better than ASE's uniform guess.
     """
 
     hessian_eV_A2: np.ndarray | None = None
