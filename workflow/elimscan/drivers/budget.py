@@ -11,6 +11,8 @@ from __future__ import annotations
 
 from ase.calculators.calculator import Calculator, all_changes
 
+from elimscan.engines.contract import geometry_snapshot
+
 
 class BudgetSpent(Exception):
     """Raised before the first gradient past a path's budget; ``stage`` names the step that ran long."""
@@ -91,14 +93,18 @@ class _MeteredEngine:
 class _MeteredCalculator(Calculator):
     """An ASE calculator that checks a budget, then lets the wrapped calculator (kept for its series) compute."""
 
-    implemented_properties = ["energy", "free_energy", "forces"]
-
     def __init__(self, inner: Calculator, budget: GradientBudget):
         super().__init__()
         self._inner, self._budget = inner, budget
+        self.implemented_properties = list(inner.implemented_properties)
+
+    def check_state(self, atoms, tol: float = 1e-15) -> list[str]:
+        """Return the wrapped calculator's view of what changed since the last calculation."""
+        return self._inner.check_state(atoms, tol)
 
     def calculate(self, atoms=None, properties=None, system_changes=all_changes) -> None:
         self._budget.check()
-        super().calculate(atoms, properties or ["energy"], system_changes)
-        self._inner.calculate(self.atoms, properties or ["energy"], system_changes)
+        if atoms is not None:
+            self.atoms = geometry_snapshot(atoms)
+        self._inner.calculate(atoms, properties or ["energy"], system_changes)
         self.results = dict(self._inner.results)
