@@ -202,7 +202,7 @@ class PathConfig(_Frozen):
     #: gradients one path (complex, driven path, saddle search, checks and fallbacks) may spend, per atom of the
     #: complex; a path that would spend more is stopped and reported as an unfinished estimate that decides no
     #: product share (null: no limit)
-    gradient_budget_per_atom: float | None = Field(150.0, gt=0)
+    gradient_budget_per_atom: float | None = Field(200.0, gt=0)
     saddle: SaddleConfig = SaddleConfig()
 
 
