@@ -137,7 +137,7 @@ class SaddleConfig(_Frozen):
     #: Sella starts tried from the path before the fallbacks: the highest finished interior points, highest
     #: first (a flat, double-humped top can make Sella fail from one point and succeed from its neighbour)
     path_point_starts: int = Field(3, ge=1, le=10)
-    #: start Sella from a finite-difference Hessian (6N+1 gradients) instead of its model Hessian
+    #: start Sella from a one-sided finite-difference Hessian (3N+1 gradients) instead of its model Hessian
     exact_initial_hessian: bool = True
     max_steps: int = Field(300, ge=1)
     fmax_eV_per_A: float = Field(0.01, gt=0)
