@@ -17,7 +17,6 @@ HCCH = (2, 0, 1, 5)
 BFGS = OptimizerConfig(name="bfgs")
 TIGHT = OptimizerConfig(name="bfgs", fmax_eV_per_A=1e-4)
 TIGHTER = OptimizerConfig(name="bfgs", fmax_eV_per_A=1e-5)
-SCAN = OptimizerConfig(name="bfgs", fmax_eV_per_A=1e-3)
 
 
 @pytest.fixture(scope="module")
@@ -177,25 +176,3 @@ def test_a_non_finite_engine_result_is_retried_then_an_engine_error(ethane, monk
     assert engine.stats.retries == 1  # once more at the higher electronic temperature, as for an SCF failure
     with pytest.raises(EngineError):  # and a relaxation on it stops with our error, not a scipy one
         relax(ethane, engine.calculator(name="ethane"), (), OptimizerConfig(name="sella"))
-
-
-def test_a_bfgs_hessian_handed_along_a_scan_ends_at_the_same_points_in_fewer_steps(embed):
-    # the toy surface of ethanol has one minimum per held C-O distance: starting each point from the previous
-    # point's Hessian (drive_path does this) must reach the same energies as ASE's fresh start, in fewer steps
-    from elimscan.drivers.relax import BfgsMemory
-
-    atoms = embed("CCO")
-    toy = SpringTorsionEngine(atoms, torsion_barrier_eV=0.01)
-    targets = [1.45 + 0.05 * k for k in range(1, 5)]
-    runs = {}
-    for label, memory in (("fresh", None), ("handed on", BfgsMemory())):
-        current, energies, steps = atoms, [], 0
-        for target in targets:
-            result = relax(current, toy.calculator(), [HeldDistance((1, 2), target)], SCAN, memory=memory)
-            assert result.converged
-            energies.append(result.energy_hartree * EV_PER_HARTREE)
-            steps += result.n_steps
-            current = result.atoms
-        runs[label] = (np.array(energies), steps)
-    assert runs["handed on"][0] == pytest.approx(runs["fresh"][0], abs=1e-5)  # eV
-    assert runs["handed on"][1] < 0.8 * runs["fresh"][1], runs

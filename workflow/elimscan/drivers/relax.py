@@ -60,17 +60,6 @@ class HeldDistanceSum:
 Held = HeldDihedral | HeldDistance | HeldDistanceSum
 
 
-@dataclass
-class BfgsMemory:
-    """A BFGS Hessian (eV/Å^2, 3N x 3N) to start a relaxation from, kept up to date with its last one.
-
-    Seeded with an exact Hessian (the saddle's, for the relaxations off it) or handed along a series of
-    relaxations, it starts each far better than ASE's uniform guess.
-    """
-
-    hessian_eV_A2: np.ndarray | None = None
-
-
 @dataclass(frozen=True)
 class RelaxResult:
     """Outcome of one relaxation: final atoms, energy (hartree), gradient calls, steps, convergence."""
@@ -181,7 +170,6 @@ def relax(
     settings: OptimizerConfig = OptimizerConfig(),
     on_step: Callable[[int, float], None] | None = None,
     raise_on_step_limit: bool = False,
-    memory: BfgsMemory | None = None,
 ) -> RelaxResult:
     """Return the relaxed copy of ``atoms`` (energy in hartree) with the ``held`` coordinates fixed.
 
@@ -189,7 +177,6 @@ def relax(
     A held dihedral more than ``settings.rigid_rotation_above_deg`` from its target is first set by rotating the
     fragment on one side of an acyclic bond; other differences are projected onto the targets at the
     start (keep such moves small, e.g. one scan step). ``on_step(step, energy_hartree)`` reports progress.
-    ``memory`` (BFGS only) starts from the Hessian it holds, if it fits, and keeps this relaxation's last one.
     """
     work = atoms.copy()
     work.set_constraint()
@@ -204,7 +191,7 @@ def relax(
     try:
         with _Counter(calculator) as counter:
             if optimizer == "bfgs":
-                steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step, memory)
+                steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
             else:
                 steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
             energy = work.get_potential_energy() / EV_PER_HARTREE
@@ -223,19 +210,15 @@ def relax(
 
 
 def _run_bfgs(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
-              on_step: Callable[[int, float], None] | None, memory: BfgsMemory | None = None) -> tuple[int, bool]:
-    """Run ASE BFGS with FixInternals (from the Hessian in ``memory`` if it fits); return (steps, converged)."""
+              on_step: Callable[[int, float], None] | None) -> tuple[int, bool]:
+    """Run ASE BFGS with FixInternals; return (steps, converged)."""
     if held:
         work.set_constraint(_fix_internals(held, targets))
         work.set_positions(work.get_positions())  # projects onto the targets
     opt = BFGS(work, logfile=None)
-    if memory is not None and memory.hessian_eV_A2 is not None and memory.hessian_eV_A2.shape == opt.H0.shape:
-        opt.H0 = memory.hessian_eV_A2.copy()  # ASE updates its Hessian in place: the memory keeps its own
     if on_step is not None:
         opt.attach(lambda: on_step(opt.nsteps, work.get_potential_energy() / EV_PER_HARTREE))
     converged = opt.run(fmax=fmax, steps=max_steps)
-    if memory is not None and opt.state is not None:  # no state: converged at the start, nothing learned
-        memory.hessian_eV_A2 = opt.state.hessian.copy()
     work.set_constraint()
     return opt.nsteps, bool(converged)
 
