@@ -93,7 +93,7 @@ def main() -> int:
     spread = max(per_path) / statistics.median(per_path) if per_path else float("nan")
     print("\nfigures of the speed issue (one run)")
     print(row("median gradients per E2 path", f"{median_e2:.0f}", "<= 600", median_e2 <= 600))
-    print(row("median gradients per verified saddle", f"{per_saddle:.0f}", "<= 250 (Hessians 2 x (6N+1) ...)",
+    print(row("median gradients per verified saddle", f"{per_saddle:.0f}", "<= 250",
               per_saddle <= 250))
     print(row("share of wall time inside the xTB library", f"{inside:.0%}", ">= 80 %", inside >= 0.80))
     print(row("job time / mean gradient time in the library", f"{times:,.0f}",
