@@ -279,16 +279,17 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
 
 
 def lowest_of_starts(tried: list[PathResult], combine: str = "lowest", temperature_K: float = 298.15) -> PathResult:
-    """Return the path with the lowest top (verified saddles first), carrying every start's top (hartree).
+    """Return the path with the lowest top (verified saddles first), carrying every counted start's top (hartree).
 
-    Starts shown not to reach their products are left out while any start reaches them.
+    Starts that are no barrier (shown not to reach their products, or stopped by their gradient budget:
+    ``PathResult.counts_as_barrier``) are left out while any start is a barrier.
 
     With ``combine='boltzmann'`` the returned path also carries the Boltzmann-combined top of the distinct
     tops (analysis.boltzmann_combined), which then stands for the approach's barrier.
     """
-    reaching = [p for p in tried if p.reaches_products] or tried  # a start that misses the products is no barrier
-    best = min(reaching, key=lambda p: (not p.saddle.verified, p.top_hartree))
-    tops = tuple(p.top_hartree for p in reaching)
+    counted = [p for p in tried if p.counts_as_barrier] or tried  # a start that is no barrier decides nothing
+    best = min(counted, key=lambda p: (not p.saddle.verified, p.top_hartree))
+    tops = tuple(p.top_hartree for p in counted)
     combined = boltzmann_combined(tops, temperature_K) if combine == "boltzmann" and len(tops) > 1 else None
     return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined,
                                n_gradients=sum(p.n_gradients for p in tried))
