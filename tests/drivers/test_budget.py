@@ -9,7 +9,8 @@ import pytest
 
 from elimscan.config import BaseConfig, OptimizerConfig, PathConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.complexes import Reactive, place_base
-from elimscan.drivers.budget import STAGE_COMPLEX, STAGE_PATH, STAGE_SADDLE, path_budget
+from elimscan.drivers.budget import (STAGE_COMPLEX, STAGE_END, STAGE_PATH, STAGE_SADDLE, GradientBudget,
+                                     path_budget)
 from elimscan.drivers.paths import compute_path
 from elimscan.errors import GradientBudgetError
 from elimscan.results.flags import BUDGET_SPENT, BUDGET_STOPPED, NOT_TO_PRODUCTS, no_barrier_reason
@@ -91,20 +92,25 @@ def test_a_stopped_path_is_reported_but_decides_no_product_share():
 
     from elimscan.pipeline.compute import run_config
     from elimscan.pipeline.jobs import job_record
+    from elimscan.pipeline.outcome import DETAIL
     from elimscan.results.trouble import count_trouble
     from elimscan.results.records import counts_as_barrier
 
-    def job(per_atom):
+    def job(per_atom, heard=None):
         paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=1,
                            saddle={"refine": False}, gradient_budget_per_atom=per_atom)
         config = RunConfig(substrates=(SubstrateConfig(name="2-bromobutane", smiles="C[C@H](Br)CC"),),
                            bases=(BaseConfig(name="methoxide"),), paths=paths, optimizer=BFGS,
                            conformers={"base_embeddings": 2, "per_rotatable_bond": 1, "max_relaxations": 2},
                            scan={"step_deg": 60})
-        outcome = run_config(config, ToyJobEngine())
+        outcome = run_config(config, ToyJobEngine(), None if heard is None else (lambda *m: heard.append(m)))
         return job_record(*outcome.jobs[0], outcome, config)
 
-    free = job(None)
+    heard = []
+    free = job(None, heard)
+    # each path stage reaches the progress callback as a sub-step message naming the path, with gradients and s
+    stages = [text for done, _, text in heard if done == DETAIL and f"{STAGE_PATH} (path " in text]
+    assert stages and all(text.startswith("2-bromobutane C") and "gradients" in text for text in stages)
     assert any(p.fraction is not None for p in free.products)
     computed = [h.anti for h in free.beta_hydrogens if h.anti.path_status == "ok"]
     assert computed and all(a.n_gradients > 0 and counts_as_barrier(a) and a.budget_spent_in is None for a in computed)
@@ -122,3 +128,46 @@ def test_a_stopped_path_is_reported_but_decides_no_product_share():
     assert all(p.fraction is None for p in stopped.products)
     assert count_trouble([stopped])["path stopped by its gradient budget"] == len(computed)
     assert any(w.startswith(f"{len(computed)} path(s) were stopped by their gradient budget") for w in stopped.warnings)
+
+
+class _Stats:
+    """Cache counters of a stand-in engine: ``misses`` are the gradients computed."""
+
+    misses = 0
+
+
+class _Engine:
+    """A stand-in engine whose gradient count the test sets by hand."""
+
+    def __init__(self):
+        self.stats = _Stats()
+
+
+def test_the_budget_reports_each_stage_and_a_long_stage_again_with_its_gradients_and_seconds():
+    engine, now, heard = _Engine(), [100.0], []
+    budget = GradientBudget(engine, 500, heard.append, interval_s=30.0, clock=lambda: now[0])
+    engine.stats.misses = 7
+    now[0] = 102.0
+    budget.enter(STAGE_PATH)
+    engine.stats.misses, now[0] = 50, 131.0
+    budget.check()  # 29 s since the last report: nothing yet
+    engine.stats.misses, now[0] = 60, 132.5
+    budget.check()
+    assert heard == ["driven path (path 7 of 500 gradients, 2 s so far)",
+                     "driven path: 53 gradients, 30 s (path 60 of 500 gradients, 32 s)"]
+    assert budget.metered(engine) is not engine  # a report meters the engine even without a limit
+    assert GradientBudget(engine, None).metered(engine) is engine
+
+
+def test_a_path_without_a_limit_reports_its_stages_in_order(embed):
+    from elimscan.drivers.complexes import Reactive, place_base
+
+    substrate, base = embed("CCCl"), embed("C[O-]")
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=len(substrate) + 1)
+    engine = SpringTorsionEngine(place_base(substrate, 3, 0, base, 1, 2.0, 0.0))
+    heard = []
+    settings = PathConfig(points=4, base_rotations=1, saddle={"refine": False}, gradient_budget_per_atom=None)
+    result = compute_path(substrate, base, 1, reactive, "anti", engine, 0, 1, settings, BFGS, (4, 5),
+                          on_stage=heard.append)
+    assert [text.split(" (path")[0] for text in heard] == [STAGE_COMPLEX, STAGE_PATH, STAGE_END]
+    assert heard[-1].startswith(f"{STAGE_END} (path {result.n_gradients - result.saddle_gradients} gradients")

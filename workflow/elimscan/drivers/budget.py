@@ -3,6 +3,8 @@
 ``GradientBudget`` holds the limit and the stage a path is in (complex relaxations, driven path, saddle search
 and its checks, fallbacks); ``metered(engine)`` gives the stages an engine whose calculators check the budget
 before each energy+gradient, so every stage (Hessians and a CI-NEB included) stops at the limit, not after it.
+With a ``report`` callback the budget also tells, at each stage and every ``REPORT_INTERVAL_S`` within one,
+the gradients and seconds of the stage and of the path so far, so a slow path shows while it runs.
 The stop is ``BudgetSpent``, an ``Exception`` outside elimscan's error tree on purpose: no handler for known
 failures catches it, only ``paths.compute_path``, which reports the path as unfinished. No file I/O.
 """
@@ -10,6 +12,8 @@ failures catches it, only ``paths.compute_path``, which reports the path as unfi
 from __future__ import annotations
 
 import math
+import time
+from collections.abc import Callable
 
 from ase.calculators.calculator import Calculator, all_changes
 
@@ -18,6 +22,11 @@ from elimscan.engines.contract import geometry_snapshot
 #: names of the stages of one path, as the gradient-budget flag and the progress report name them
 STAGE_COMPLEX, STAGE_PATH, STAGE_SADDLE = "complex relaxations", "driven path", "saddle search from the path"
 STAGE_BASE_H, STAGE_END, STAGE_NEB = "base-H scan fallback", "path end relaxation", "CI-NEB fallback"
+
+
+#: seconds between two progress reports within one stage of a path (a report also opens each stage): often enough
+#: to see a slow stage while it runs, rare enough for one log line each (common practice for progress output)
+REPORT_INTERVAL_S = 30.0
 
 
 def path_budget(per_atom: float | None, n_atoms: int) -> int | None:
@@ -36,12 +45,15 @@ class BudgetSpent(Exception):
 class GradientBudget:
     """Gradients one path may spend (``limit``; None: no limit), counted on the engine's ``stats.misses``."""
 
-    def __init__(self, engine, limit: int | None):
+    def __init__(self, engine, limit: int | None, report: Callable[[str], None] | None = None,
+                 interval_s: float = REPORT_INTERVAL_S, clock: Callable[[], float] = time.monotonic):
         self.engine, self.limit = engine, limit
         self.stage = "start"
         self._start = engine.stats.misses
         self.by_stage: dict[str, int] = {}
         self._stage_start = self._start
+        self._report, self._interval_s, self._clock = report, interval_s, clock
+        self._opened = self._stage_opened = self._last_report = clock()
 
     @property
     def spent(self) -> int:
@@ -49,9 +61,27 @@ class GradientBudget:
         return self.engine.stats.misses - self._start
 
     def enter(self, stage: str) -> None:
-        """Start counting a new stage (the previous one's gradients go to ``by_stage``)."""
+        """Start counting a new stage (the previous one's gradients go to ``by_stage``) and report it."""
         self._close_stage()
         self.stage = stage
+        self._stage_opened = self._clock()
+        self._tell(opening=True)
+
+    def _path_text(self, now: float) -> str:
+        """Return the path's gradients (of its limit) and seconds so far, in words."""
+        limit = "" if self.limit is None else f" of {self.limit}"
+        return f"path {self.spent}{limit} gradients, {now - self._opened:.0f} s"
+
+    def _tell(self, opening: bool = False) -> None:
+        """Report the current stage's gradients and seconds and the path's (nothing without a report callback)."""
+        if self._report is None:
+            return
+        now = self._last_report = self._clock()
+        if opening:
+            self._report(f"{self.stage} ({self._path_text(now)} so far)")
+        else:
+            here = self.engine.stats.misses - self._stage_start
+            self._report(f"{self.stage}: {here} gradients, {now - self._stage_opened:.0f} s ({self._path_text(now)})")
 
     def _close_stage(self) -> None:
         """Add the gradients since the last stage change to the current stage's count."""
@@ -66,13 +96,16 @@ class GradientBudget:
         return dict(self.by_stage)
 
     def check(self) -> None:
-        """Raise ``BudgetSpent`` when the budget is used up (the next gradient would exceed it)."""
+        """Raise ``BudgetSpent`` when the budget is used up (the next gradient would exceed it); report the stage
+        when ``REPORT_INTERVAL_S`` passed since the last report."""
         if self.limit is not None and self.spent >= self.limit:
             raise BudgetSpent(self.stage, self.spent, self.limit)
+        if self._report is not None and self._clock() - self._last_report >= self._interval_s:
+            self._tell()
 
     def metered(self, engine):
-        """Return ``engine`` itself without a limit, else an engine whose calculators check this budget."""
-        return engine if self.limit is None else _MeteredEngine(engine, self)
+        """Return ``engine`` itself without a limit or report, else an engine whose calculators check this budget."""
+        return engine if self.limit is None and self._report is None else _MeteredEngine(engine, self)
 
 
 class _MeteredEngine:

@@ -264,9 +264,10 @@ def _stopped(approach: str, complex_: ComplexResult, points: list[PathPoint], sp
                       saddle_gradients, stopped_stage=spent.stage)
 
 
-def _open_budget(engine, settings: PathConfig, start: Atoms, base: Atoms) -> tuple[GradientBudget, object]:
-    """Return the path's gradient budget and the engine its stages use (metered when there is a limit)."""
-    budget = GradientBudget(engine, path_budget(settings.gradient_budget_per_atom, len(start) + len(base)))
+def _open_budget(engine, settings: PathConfig, start: Atoms, base: Atoms, on_stage: Callable[[str], None] | None
+                 ) -> tuple[GradientBudget, object]:
+    """Return the path's gradient budget and the engine its stages use (metered with a limit or a report)."""
+    budget = GradientBudget(engine, path_budget(settings.gradient_budget_per_atom, len(start) + len(base)), on_stage)
     return budget, budget.metered(engine)
 
 
@@ -278,14 +279,16 @@ def _no_complex(name: str, spent: BudgetSpent) -> GradientBudgetError:
 
 def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
                  multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, other_hydrogens: tuple[int, ...],
-                 name: str = "path", orientation_rank: int = 0) -> PathResult:
+                 name: str = "path", orientation_rank: int = 0, on_stage: Callable[[str], None] | None = None
+                 ) -> PathResult:
     """Return the complex, relaxed path, saddle and flags of one approach ('anti' or 'syn') for one hydrogen.
 
     A path that spends its gradient budget (``path_budget``) stops there and comes back flagged as an unfinished
     estimate (``stopped_stage``); one stopped before its complex was relaxed raises ``GradientBudgetError``.
+    ``on_stage`` hears each stage and its gradients and seconds (``budget.GradientBudget``).
     """
     misses0 = engine.stats.misses
-    budget, metered = _open_budget(engine, settings, start, base)
+    budget, metered = _open_budget(engine, settings, start, base, on_stage)
     syn = approach == "syn"
     hold = settings.syn_dihedral_deg if syn else None
     dihedral = settings.syn_dihedral_deg if syn else dihedral_deg(start.positions, *reactive.quad())
@@ -330,13 +333,14 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
 
 def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,
                               charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
-                              name: str = "substitution") -> PathResult:
+                              name: str = "substitution", on_stage: Callable[[str], None] | None = None
+                              ) -> PathResult:
     """Return the complex, relaxed path and verified saddle of backside substitution at C-alpha (SN2).
 
-    The gradient budget works as in ``compute_path``.
+    The gradient budget and ``on_stage`` work as in ``compute_path``.
     """
     misses0 = engine.stats.misses
-    budget, metered = _open_budget(engine, settings, start, base)
+    budget, metered = _open_budget(engine, settings, start, base, on_stage)
     best, energies, spent_complex = None, [], 0
     budget.enter(STAGE_COMPLEX)
     try:
