@@ -3,8 +3,8 @@
 Every beta-H class, anti and syn paths and the SN2 path, saddles verified. Prints the gradients of each stage
 and the speed issue's figures beside their goals, all measured in one run: median gradients per E2 path,
 gradients per verified saddle, the share of wall time inside the xTB library, the job's wall time in units of
-this run's own time per gradient (so a busy or slow machine does not move it), and the largest path over the
-median path. Quote these ratios, not seconds.
+this run's own time per gradient (so a busy or slow machine does not move it), the largest path over the
+median path, and each barrier against the one measured before the speed work. Quote these ratios, not seconds.
 """
 
 from __future__ import annotations
@@ -23,12 +23,21 @@ from elimscan.config import BaseConfig, MethodConfig, RunConfig, SolventConfig, 
 from elimscan.engines.xtb import EngineSettings, XtbEngine  # noqa: E402
 from elimscan.pipeline.compute import run_config  # noqa: E402
 from elimscan.pipeline.outcome import SUBSTITUTION_KEY  # noqa: E402
+from elimscan.units import KCAL_MOL_PER_HARTREE  # noqa: E402
 
 #: the issue's own measurement of this job before the speed work: 99 s on one core, 10,420 gradients, 49 % of
 #: the wall time inside the xTB library, so 99 s x 0.49 / 10,420 = 4.66 ms per gradient inside the library
 REFERENCE_MS_PER_GRADIENT = 99.0 * 0.49 / 10_420 * 1e3
 #: the issue's goal for this job: 45 s on one core, i.e. this many gradient times of that machine
 GOAL_GRADIENT_TIMES = 45.0 / (REFERENCE_MS_PER_GRADIENT / 1e3)
+
+#: barriers of this job (dE, kcal/mol above the substrate's global minimum + free base; class id and approach)
+#: measured at main 1bb65b8, before the speed work was merged: one run of the same job (10,420 gradients, all seven
+#: saddles verified), same machine, 2026-12-03
+BEFORE_BARRIERS_KCAL_MOL = {"C0-H5 anti": -3.334, "C0-H5 syn": 5.707, "C3-H9 anti": -3.302, "C3-H9 syn": 5.676,
+                            "C3-H10 anti": -3.994, "C3-H10 syn": 6.459, "substitution backside": -0.333}
+#: the issue's goal: the same barriers as before within this (kcal/mol)
+BARRIER_GOAL_KCAL_MOL = 0.3
 
 #: stage of a gradient, from the name of the calculator that asked for it (first match wins)
 STAGES = (("start hessian", "saddle: Sella's start Hessian"), ("saddle hessian", "saddle: verification Hessian"),
@@ -39,6 +48,8 @@ STAGES = (("start hessian", "saddle: Sella's start Hessian"), ("saddle hessian",
 
 def stage_of(name: str) -> str:
     """Return the stage a calculator name belongs to ('reactants: relaxations' when none matches)."""
+    if name.endswith(" end"):  # the free relaxation of an unverified path's end (does it reach the products?)
+        return "path end relaxation"
     return next((stage for key, stage in STAGES if key in name), "reactants: relaxations")
 
 
@@ -108,11 +119,25 @@ def main() -> int:
         + sum(b.minimum.n_gradients for b in outcome.bases.values() if b.minimum)
     print(row("free-energy/KIE extra cost (share of gradients)", f"{extra / engine.stats.misses:.1%}", "<= 25 %",
               extra / engine.stats.misses <= 0.25))
-    print("\nper path: gradients (complex / driven path / saddle and checks), saddle")
+    analysis, base = next(iter(outcome.substrates.values())), next(iter(outcome.bases.values()))
+    zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
+    barriers = {f"{cid} {approach}": (p.top_hartree - zero) * KCAL_MOL_PER_HARTREE for (cid, approach), p in paths.items()}
+    changes = {key: value - BEFORE_BARRIERS_KCAL_MOL[key] for key, value in barriers.items()
+               if key in BEFORE_BARRIERS_KCAL_MOL}
+    if changes and len(changes) == len(BEFORE_BARRIERS_KCAL_MOL):
+        largest = max(abs(c) for c in changes.values())
+        print(row("largest barrier change against before (kcal/mol)", f"{largest:.3f}",
+                  f"<= {BARRIER_GOAL_KCAL_MOL} ({len(changes)} paths)", largest <= BARRIER_GOAL_KCAL_MOL))
+    else:
+        print(row("largest barrier change against before (kcal/mol)", "-",
+                  f"paths differ: {sorted(set(barriers) ^ set(BEFORE_BARRIERS_KCAL_MOL))}", False))
+    print("\nper path: gradients (complex / driven path / saddle and checks), saddle, barrier (change, kcal/mol)")
     for (cid, approach), p in paths.items():
         drive = p.n_gradients - p.complex.n_gradients - p.saddle_gradients
+        key = f"{cid} {approach}"
+        change = f" ({changes[key]:+.3f})" if key in changes else ""
         print(f"  {cid:<14}{approach:<10}{p.n_gradients:>6}  ({p.complex.n_gradients} / {drive} / {p.saddle_gradients})"
-              f"  {'verified' if p.saddle.verified else 'not verified'}"
+              f"  {'verified' if p.saddle.verified else 'not verified'}, {barriers[key]:.3f}{change}"
               + (f", stopped in the {p.stopped_stage}" if p.stopped_stage else ""))
     return 0
 
