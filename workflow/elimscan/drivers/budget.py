@@ -22,8 +22,6 @@ from elimscan.engines.contract import geometry_snapshot
 #: names of the stages of one path, as the gradient-budget flag and the progress report name them
 STAGE_COMPLEX, STAGE_PATH, STAGE_SADDLE = "complex relaxations", "driven path", "saddle search from the path"
 STAGE_BASE_H, STAGE_END, STAGE_NEB = "base-H scan fallback", "path end relaxation", "CI-NEB fallback"
-
-
 #: seconds between two progress reports within one stage of a path (a report also opens each stage): often enough
 #: to see a slow stage while it runs, rare enough for one log line each (common practice for progress output)
 REPORT_INTERVAL_S = 30.0
