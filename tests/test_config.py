@@ -109,3 +109,14 @@ def test_base_models_parse_and_an_unknown_counter_ion_names_its_key():
     with pytest.raises(ConfigError) as info:
         parse_config(text.replace("counter_ion: K", "counter_ion: Cs"))
     assert info.value.key_path.startswith("bases.0.model.counter_ion")
+
+
+def test_the_gradient_budget_is_bounded_and_null_means_no_limit():
+    from elimscan.config import MAX_GRADIENT_BUDGET_PER_ATOM
+
+    assert parse_config(GOOD).paths.gradient_budget_per_atom == 200.0
+    assert parse_config(GOOD + "paths: {gradient_budget_per_atom: null}\n").paths.gradient_budget_per_atom is None
+    for bad in (0, -5, MAX_GRADIENT_BUDGET_PER_ATOM * 2):
+        with pytest.raises(ConfigError) as info:
+            parse_config(GOOD + f"paths: {{gradient_budget_per_atom: {bad}}}\n", source="run.yaml")
+        assert info.value.key_path == "paths.gradient_budget_per_atom" and info.value.line == 7

@@ -68,6 +68,19 @@ def test_harmonic_analysis_matches_ase_vibrations(embed, tmp_path, monkeypatch):
     assert ours == pytest.approx(theirs, rel=1e-3, abs=1.0)
 
 
+def test_the_one_sided_start_hessian_agrees_with_the_central_one_at_half_the_gradients(embed):
+    # the central Hessian is checked against ASE's Vibrations above; Sella's start needs only its first order
+    from elimscan.drivers.hessian import forward_difference_hessian
+
+    atoms = embed("CCO")
+    toy = SpringTorsionEngine(atoms)
+    central, n_central = finite_difference_hessian(atoms, toy.calculator(), 0.005)
+    one_sided, n_one_sided = forward_difference_hessian(atoms, toy.calculator(), 0.005)
+    assert n_one_sided == 3 * len(atoms) + 1 and n_central == 6 * len(atoms) + 1
+    assert np.abs(one_sided - central).max() < 0.02 * np.abs(central).max()
+    assert np.array_equal(one_sided, one_sided.T)
+
+
 def test_drive_path_steps_the_combined_coordinate(embed):
     substrate = embed("CCCl")
     toy_atoms = place_base(substrate, 3, 0, embed("C[O-]"), 1, 2.0, 0.0)

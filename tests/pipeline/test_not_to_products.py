@@ -1,4 +1,6 @@
-"""A path that does not reach its products is not a barrier: it decides no share (toy engine, no GFN2-xTB).
+"""A path that does not reach its products, or that its gradient budget stopped, is not a barrier: it decides no
+share, no E2 : SN2 split, no lowest start and no DFT point; one rule (``flags.no_barrier_reason``) says so for
+path results, records and the benchmark scoring alike (toy engine, no GFN2-xTB).
 
 Before the fix, an unverified SN2 relaxed-path maximum whose end did not relax to products decided the E2 : SN2
 split (seen with GFN2-xTB: a 1,2-dibromide with ethoxide, an "SN2 barrier" 12 kcal/mol below the verified E2
@@ -16,12 +18,12 @@ from elimscan.drivers.saddles import SaddleResult
 from elimscan.results.flags import NOT_TO_PRODUCTS
 
 
-def _run(monkeypatch, miss: str):
-    """Return the job record of bromoethane + ethoxide where paths whose name holds ``miss`` miss the products."""
+def _outcome(monkeypatch, miss: str):
+    """Return (run outcome, config) of bromoethane + ethoxide where paths whose name holds ``miss`` miss the
+    products."""
     from toyjobs import ToyJobEngine
 
     from elimscan.pipeline.compute import run_config
-    from elimscan.pipeline.jobs import job_record
 
     real_refine = paths.refine_from_path
 
@@ -42,7 +44,14 @@ def _run(monkeypatch, miss: str):
                           saddle={"neb_fallback": False})
     config = RunConfig(substrates=(SubstrateConfig(name="bromoethane", smiles="CCBr"),),
                        bases=(BaseConfig(name="ethoxide"),), paths=settings)
-    outcome = run_config(config, ToyJobEngine())
+    return run_config(config, ToyJobEngine()), config
+
+
+def _run(monkeypatch, miss: str):
+    """Return the job record of bromoethane + ethoxide where paths whose name holds ``miss`` miss the products."""
+    from elimscan.pipeline.jobs import job_record
+
+    outcome, config = _outcome(monkeypatch, miss)
     return job_record(*outcome.jobs[0], outcome, config)
 
 
@@ -106,3 +115,58 @@ def test_starts_that_miss_their_products_are_not_the_lowest_start():
     alone = lowest_of_starts([fake(-1.0, False)])  # no start reaches: kept, and still flagged
     assert not alone.reaches_products
     assert dataclasses.replace(alone).flags == (NOT_TO_PRODUCTS,)
+
+
+def _fake_path(top: float, flags: tuple[str, ...] = (), stopped: str | None = None) -> paths.PathResult:
+    """Return an unverified one-point path result with this top (hartree), flags and budget stop."""
+    saddle = SaddleResult(None, None, False, "none", None, (), "not refined")
+    point = paths.PathPoint(0.0, top, None, True, {})
+    return paths.PathResult("anti", None, (point,), 0, saddle, flags, 10, stopped_stage=stopped)
+
+
+def test_a_start_stopped_by_its_budget_is_not_the_lowest_start():
+    from elimscan.pipeline.compute import lowest_of_starts
+
+    stopped = _fake_path(-2.0, stopped="driven path")
+    assert stopped.reaches_products is None and not stopped.counts_as_barrier
+    best = lowest_of_starts([stopped, _fake_path(-1.0, (NOT_TO_PRODUCTS,)), _fake_path(-0.5)])
+    assert best.top_hartree == -0.5 and best.counts_as_barrier and best.start_tops_hartree == (-0.5,)
+    assert best.n_gradients == 30
+
+
+def test_the_dft_tier_gets_only_paths_that_are_barriers(monkeypatch):
+    import dataclasses
+
+    from elimscan.pipeline import dfttier
+    from elimscan.pipeline.outcome import SUBSTITUTION_KEY
+
+    outcome, config = _outcome(monkeypatch, "substitution")  # the SN2 path misses its products
+    (sub_name, base_name), job_paths = next(iter(outcome.paths.items()))
+    seen = []
+    monkeypatch.setattr(dfttier, "refine_job", lambda name, candidates, *a, **k: seen.append([c.key for c in candidates]))
+
+    def candidates(job_paths) -> list:
+        dfttier.job_dft(outcome.substrates[sub_name], outcome.bases[base_name], job_paths, config)
+        return seen.pop()
+
+    e2 = [key for key in job_paths if key != SUBSTITUTION_KEY]
+    assert e2 and candidates(job_paths) == e2  # the SN2 path that misses its products gets no DFT point
+    stopped = {**job_paths, e2[0]: dataclasses.replace(job_paths[e2[0]], stopped_stage="driven path")}
+    assert candidates(stopped) == e2[1:]  # nor does an E2 path stopped by its gradient budget
+    reaching = {**job_paths, SUBSTITUTION_KEY: dataclasses.replace(job_paths[SUBSTITUTION_KEY], flags=())}
+    assert candidates(reaching) == [*e2, SUBSTITUTION_KEY]  # the check can fail: a reaching SN2 path is a candidate
+
+
+def test_records_and_the_benchmark_scoring_ask_the_same_rule():
+    from elimscan.analysis.benchmark_scoring import path_left_out
+    from elimscan.results.flags import BUDGET_STOPPED
+    from elimscan.results.records import SubstitutionRecord, counts_as_barrier
+
+    cases = {None: dict(reaches_products=True), NOT_TO_PRODUCTS: dict(reaches_products=False),
+             BUDGET_STOPPED: dict(reaches_products=None, budget_spent_in="saddle search from the path")}
+    for why, fields in cases.items():
+        record = SubstitutionRecord(path_status="ok", barrier_kcal_mol=20.0, rule_call="mixture", rule_reason="test",
+                                    **fields)
+        assert counts_as_barrier(record) is (why is None), why
+        assert path_left_out(record.model_dump()) == why
+    assert not counts_as_barrier(SubstitutionRecord(path_status="failed", rule_call="mixture", rule_reason="test"))

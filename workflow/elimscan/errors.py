@@ -103,6 +103,12 @@ class OptimizationError(EngineError):
     error_type = "optimization_failed"
 
 
+class GradientBudgetError(OptimizationError):
+    """Fires when a path spends its gradient budget (paths.gradient_budget_per_atom) before its complex is relaxed."""
+
+    error_type = "gradient_budget_spent"
+
+
 class BackendUnavailableError(EngineError):
     """Fires when the requested xTB backend library is not installed or cannot be loaded."""
 

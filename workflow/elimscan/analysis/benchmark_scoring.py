@@ -3,9 +3,9 @@
 For one case and one level (dE: GFN2-xTB electronic barriers; dG: quasi-RRHO free barriers of verified
 saddles; DFT//GFN2: DFT single points on the GFN2-xTB tops) the product mix is elimscan's Curtin-Hammett
 function (``rule.product_fractions``) over every E2 path and the SN2 path that have a barrier at that level.
-A path whose record says it does not reach its products (``reaches_products: false``, the tool's own rule, or in
-older records a saddle note saying the path end did not relax to products) is no barrier: it is left out of
-the mix and named, E2 and SN2 alike.
+A path whose record says it is no barrier (``reaches_products: false`` or ``budget_spent_in`` set, the tool's own
+rule, or in older records a saddle note saying the path end did not relax to products) is left out of the mix
+and named, E2 and SN2 alike.
 
 Products are compared as exact isomers: canonical isomeric SMILES with tetrahedral stereo removed and E/Z
 kept (``benchmark_cases.isomer_key``); the SN2 product is 'substitution'. One seed is:
@@ -34,7 +34,7 @@ from rdkit import Chem
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, Expected, OutcomeCase, isomer_key
 from elimscan.analysis.rule import PathBarrier, compare_verdicts, product_fractions
-from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS
+from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS, no_barrier_reason
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
 #: level name -> barrier field of the path records (kcal/mol)
@@ -49,13 +49,16 @@ _TERMINAL = Chem.MolFromSmarts("[CH2]=C")
 
 
 def path_left_out(block: Mapping) -> str | None:
-    """Return why a path record is no barrier (it was shown not to reach its products), or None when it counts.
+    """Return why a path record is no barrier (shown not to reach its products, or stopped by its gradient
+    budget), or None when it counts.
 
-    The same rule as the tool's own mixes (``reaches_products``); records written before that field existed
-    say it only in the saddle note of an unverified saddle.
+    The same rule as the tool's own mixes (``flags.no_barrier_reason``); records written before
+    ``reaches_products`` existed say it only in the saddle note of an unverified saddle.
     """
-    if block.get("reaches_products") is False or NOT_TO_PRODUCTS in (block.get("flags") or ()):
-        return NOT_TO_PRODUCTS
+    reaches = False if NOT_TO_PRODUCTS in (block.get("flags") or ()) else block.get("reaches_products")
+    why = no_barrier_reason(reaches, block.get("budget_spent_in"))
+    if why is not None:
+        return why
     if not block.get("saddle_verified") and END_NOT_PRODUCTS in (block.get("saddle_note") or ""):
         return END_NOT_PRODUCTS
     return None

@@ -24,7 +24,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
 
 Input bounds are named constants of their block: ``MIN_TEMPERATURE_K``/``MAX_TEMPERATURE_K`` (method),
 ``SEED_LIMIT`` (run), ``CLOSED_SHELL_MULTIPLICITY``, ``MAX_SMILES_CHARS``, ``MAX_HEAVY_ATOMS`` and the warning
-level ``OVERNIGHT_HEAVY_ATOMS`` (molecules), ``MAX_CONFORMER_COUNT`` (conformers), ``MAX_PATH_COUNT`` (paths).
+level ``OVERNIGHT_HEAVY_ATOMS`` (molecules), ``MAX_CONFORMER_COUNT`` (conformers), ``MAX_PATH_COUNT`` and
+``MAX_GRADIENT_BUDGET_PER_ATOM`` (paths).
 """
 
 from __future__ import annotations
@@ -41,14 +42,15 @@ from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, 
                                        OVERNIGHT_HEAVY_ATOMS, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig,
                                        PairConfig, SubstrateConfig)
 from elimscan.config.names import MAX_NAME_BYTES, clashing_names, safe_name
-from elimscan.config.paths import MAX_PATH_COUNT, PathConfig, SaddleConfig
+from elimscan.config.paths import MAX_GRADIENT_BUDGET_PER_ATOM, MAX_PATH_COUNT, PathConfig, SaddleConfig
 from elimscan.config.run import DEFAULT_SEED, SEED_LIMIT, RunConfig
 from elimscan.config.yamlreader import MAX_CONFIG_BYTES, MAX_CONFIG_DEPTH
 
 __all__ = [
     "AnalysisConfig", "BASE_LIBRARY", "BaseConfig", "BaseModelConfig", "CLOSED_SHELL_MULTIPLICITY", "ConformerConfig",
     "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "Frozen", "MAX_CONFIG_BYTES",
-    "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K", "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES",
+    "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K", "MAX_GRADIENT_BUDGET_PER_ATOM",
+    "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES",
     "MAX_PATH_COUNT", "MAX_SMILES_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
     "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig",
     "SEED_LIMIT", "SERIES_MIN_MEMBERS", "SUBSTRATE_FILE_SUFFIXES", "SaddleConfig", "ScanConfig", "SeriesConfig",

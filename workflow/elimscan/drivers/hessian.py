@@ -51,6 +51,28 @@ def finite_difference_hessian(atoms: Atoms, calculator, step_A: float = 0.005) -
     return 0.5 * (hessian + hessian.T), 6 * n + 1
 
 
+def forward_difference_hessian(atoms: Atoms, calculator, step_A: float = 0.005) -> tuple[np.ndarray, int]:
+    """Return a (3N, 3N) Hessian in eV/Å^2 from one-sided differences of forces, and the gradient count (3N + 1).
+
+    Half the gradients of ``finite_difference_hessian`` with an error of first order in the step: good as a
+    starting Hessian for a saddle search, never for frequencies.
+    """
+    work = atoms.copy()
+    work.calc = calculator
+    reference = work.get_forces().ravel().copy()
+    n = len(work)
+    hessian = np.zeros((3 * n, 3 * n))
+    base = work.positions.copy()
+    for i in range(n):
+        for k in range(3):
+            displaced = base.copy()
+            displaced[i, k] += step_A
+            work.positions = displaced
+            hessian[:, 3 * i + k] = (reference - work.get_forces().ravel()) / step_A
+    work.positions = base
+    return 0.5 * (hessian + hessian.T), 3 * n + 1
+
+
 def _rigid_body_vectors(positions: np.ndarray, masses: np.ndarray) -> np.ndarray:
     """Return orthonormal mass-weighted translation and rotation vectors, shape (k, 3N), k = 5 or 6."""
     sqrt_m = np.sqrt(masses)

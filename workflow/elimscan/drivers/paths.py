@@ -17,9 +17,12 @@ import numpy as np
 from ase import Atoms
 
 from elimscan.config import OptimizerConfig, PathConfig
+from elimscan.errors import GradientBudgetError
 from elimscan.geometry import dihedral_deg, distance
 from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, NOT_TO_PRODUCTS, OTHER_HYDROGEN, SN2_LIKE,
-                                    UNFINISHED_ABOVE, UNFINISHED_MAXIMUM)
+                                    UNFINISHED_ABOVE, UNFINISHED_MAXIMUM, budget_spent_flag, no_barrier_reason)
+from elimscan.drivers.budget import (STAGE_BASE_H, STAGE_COMPLEX, STAGE_END, STAGE_NEB, STAGE_PATH, STAGE_SADDLE,
+                                     BudgetSpent, GradientBudget, path_budget)
 from elimscan.drivers.complexes import ComplexResult, Reactive, SubstitutionReactive, build_complex, place_backside
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 from elimscan.drivers.saddles import BFGS, SaddleResult, base_h_scan_maximum, neb_climbing_image, refine_and_verify
@@ -52,6 +55,9 @@ class PathResult:
     start_tops_hartree: tuple[float, ...] = ()
     #: Boltzmann-combined top of those starts (hartree), when paths.combine is 'boltzmann'
     combined_top_hartree: float | None = None
+    #: the stage during which the path's gradient budget ran out (None: the path finished); a stopped path is
+    #: an unfinished estimate and no barrier
+    stopped_stage: str | None = None
 
     @property
     def estimate_hartree(self) -> float:
@@ -59,9 +65,17 @@ class PathResult:
         return self.points[self.maximum_index].energy_hartree
 
     @property
-    def reaches_products(self) -> bool:
-        """Return False when the path was shown not to reach its products (its top is then no barrier)."""
-        return NOT_TO_PRODUCTS not in self.flags
+    def reaches_products(self) -> bool | None:
+        """Return False when the path was shown not to reach its products, None when its gradient budget stopped
+        it before that was known, else True."""
+        if NOT_TO_PRODUCTS in self.flags:
+            return False
+        return None if self.stopped_stage is not None else True
+
+    @property
+    def counts_as_barrier(self) -> bool:
+        """Return True when the path's top may decide a share (the one rule: ``flags.no_barrier_reason``)."""
+        return no_barrier_reason(self.reaches_products, self.stopped_stage) is None
 
     @property
     def top_hartree(self) -> float:
@@ -81,6 +95,8 @@ def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int,
     points = [PathPoint(q0, complex_.energy_hartree, complex_.atoms, True, reactive.distances(complex_.atoms.positions))]
     calc = engine.calculator(charge, multiplicity, name=name)
     bfgs = optimizer.model_copy(update={"name": BFGS})
+    # every point starts from ASE's fresh Hessian: handing the previous point's Hessian on took 62 % fewer
+    # gradients but let the base settle in another orientation at the top of one demo path (0.43 kcal/mol higher)
     current, spent = complex_.atoms, 0
     for k in range(1, settings.points + 1):
         target = q0 + k * settings.step_A
@@ -221,8 +237,8 @@ def _neb_fallback(saddle: SaddleResult, ends: tuple[Atoms, Atoms] | None, reacti
 
 
 def _unverified_end(saddle: SaddleResult, complex_: ComplexResult, points: list[PathPoint], reactive, engine,
-                    charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, name: str
-                    ) -> tuple[SaddleResult, tuple[str, ...]]:
+                    charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, name: str,
+                    budget: GradientBudget) -> tuple[SaddleResult, tuple[str, ...]]:
     """Return (saddle, flags) for a path without a verified saddle: whether its freely relaxed end reaches the
     products (else the NOT_TO_PRODUCTS flag: the top is no barrier), then the CI-NEB fallback when it is on.
 
@@ -230,39 +246,86 @@ def _unverified_end(saddle: SaddleResult, complex_: ComplexResult, points: list[
     """
     if saddle.verified:
         return saddle, ()
+    budget.enter(STAGE_END)
     ends = neb_end_points(complex_, points, reactive, engine, charge, multiplicity, optimizer, settings.saddle,
                           name=f"{name} end")
     if settings.saddle.refine and settings.saddle.neb_fallback:  # last resort: a climbing-image NEB seeds Sella
+        budget.enter(STAGE_NEB)
         saddle = _neb_fallback(saddle, ends, reactive, engine, charge, multiplicity, settings, optimizer, name)
     return saddle, (() if ends is not None or saddle.verified else (NOT_TO_PRODUCTS,))
 
 
+def _stopped(approach: str, complex_: ComplexResult, points: list[PathPoint], spent: BudgetSpent,
+             budget: GradientBudget, flags: tuple[str, ...], n_gradients: int, saddle_gradients: int) -> PathResult:
+    """Return a path stopped by its gradient budget: the points so far, no saddle, and the flag naming the stage."""
+    flag = budget_spent_flag(spent.stage, spent.spent, spent.limit, budget.stage_counts())
+    saddle = SaddleResult(None, None, False, "none", None, (), f"stopped: {spent}")
+    return PathResult(approach, complex_, tuple(points), path_top_index(points), saddle, flags + (flag,), n_gradients,
+                      saddle_gradients, stopped_stage=spent.stage)
+
+
+def _open_budget(engine, settings: PathConfig, start: Atoms, base: Atoms, on_stage: Callable[[str], None] | None
+                 ) -> tuple[GradientBudget, object]:
+    """Return the path's gradient budget and the engine its stages use (metered with a limit or a report)."""
+    budget = GradientBudget(engine, path_budget(settings.gradient_budget_per_atom, len(start) + len(base)), on_stage)
+    return budget, budget.metered(engine)
+
+
+def _no_complex(name: str, spent: BudgetSpent) -> GradientBudgetError:
+    """Return the error of a path whose budget ran out before its complex was relaxed (nothing to estimate)."""
+    return GradientBudgetError(f"{name}: {spent}, before the complex was relaxed "
+                               "(raise paths.gradient_budget_per_atom)")
+
+
 def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
                  multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, other_hydrogens: tuple[int, ...],
-                 name: str = "path", orientation_rank: int = 0) -> PathResult:
-    """Return the complex, relaxed path, saddle and flags of one approach ('anti' or 'syn') for one hydrogen."""
+                 name: str = "path", orientation_rank: int = 0, on_stage: Callable[[str], None] | None = None
+                 ) -> PathResult:
+    """Return the complex, relaxed path, saddle and flags of one approach ('anti' or 'syn') for one hydrogen.
+
+    A path that spends its gradient budget (``path_budget``) stops there and comes back flagged as an unfinished
+    estimate (``stopped_stage``); one stopped before its complex was relaxed raises ``GradientBudgetError``.
+    ``on_stage`` hears each stage and its gradients and seconds (``budget.GradientBudget``).
+    """
     misses0 = engine.stats.misses
+    budget, metered = _open_budget(engine, settings, start, base, on_stage)
     syn = approach == "syn"
+    hold = settings.syn_dihedral_deg if syn else None
     dihedral = settings.syn_dihedral_deg if syn else dihedral_deg(start.positions, *reactive.quad())
-    complex_ = build_complex(start, base, basic, reactive, dihedral, engine, charge, multiplicity, settings, optimizer,
-                             name=f"{name} complex", rank=orientation_rank)
-    points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
-                           hold_dihedral_deg=settings.syn_dihedral_deg if syn else None, name=f"{name} path")
-    top = path_top_index(points)
-    before_saddle = engine.stats.misses
-    if not settings.saddle.refine:
-        saddle = SaddleResult(None, None, False, "none", None, (), "not refined (paths.saddle.refine is false)")
-    else:
-        saddle = refine_from_path(points, top, reactive, engine, charge, multiplicity, settings, optimizer, name)
-        if not saddle.verified:  # fallback: the maximum of a base-H distance scan as the starting guess
-            guess = base_h_scan_maximum(complex_, reactive, engine, charge, multiplicity, settings, optimizer,
-                                        settings.syn_dihedral_deg if syn else None, name=f"{name} base-H scan")
-            if guess is not None:
-                second = refine_and_verify(guess, reactive, engine, charge, multiplicity, settings, optimizer,
-                                           name=f"{name} saddle", method="sella from the base-H scan maximum")
-                saddle = _keep_first_failure(saddle, second, "the base-H scan maximum")
-    saddle, to_products = _unverified_end(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
-                                          optimizer, name)
+    budget.enter(STAGE_COMPLEX)
+    try:
+        complex_ = build_complex(start, base, basic, reactive, dihedral, metered, charge, multiplicity, settings,
+                                 optimizer, name=f"{name} complex", rank=orientation_rank)
+    except BudgetSpent as spent:
+        raise _no_complex(name, spent) from spent
+    points = [PathPoint(reactive.coordinate().value(complex_.atoms.positions), complex_.energy_hartree, complex_.atoms,
+                        True, reactive.distances(complex_.atoms.positions))]
+    before_saddle = None
+    try:
+        budget.enter(STAGE_PATH)
+        points, _ = drive_path(complex_, reactive, metered, charge, multiplicity, settings, optimizer,
+                               hold_dihedral_deg=hold, name=f"{name} path", on_point=points.append)
+        top = path_top_index(points)
+        before_saddle = engine.stats.misses
+        if not settings.saddle.refine:
+            saddle = SaddleResult(None, None, False, "none", None, (), "not refined (paths.saddle.refine is false)")
+        else:
+            budget.enter(STAGE_SADDLE)
+            saddle = refine_from_path(points, top, reactive, metered, charge, multiplicity, settings, optimizer, name)
+            if not saddle.verified:  # fallback: the maximum of a base-H distance scan as the starting guess
+                budget.enter(STAGE_BASE_H)
+                guess = base_h_scan_maximum(complex_, reactive, metered, charge, multiplicity, settings, optimizer,
+                                            hold, name=f"{name} base-H scan")
+                if guess is not None:
+                    second = refine_and_verify(guess, reactive, metered, charge, multiplicity, settings, optimizer,
+                                               name=f"{name} saddle", method="sella from the base-H scan maximum")
+                    saddle = _keep_first_failure(saddle, second, "the base-H scan maximum")
+        saddle, to_products = _unverified_end(saddle, complex_, points, reactive, metered, charge, multiplicity,
+                                              settings, optimizer, name, budget)
+    except BudgetSpent as spent:
+        flags = complex_.failed_rotations + tuple(maximum_flags(points, path_top_index(points)))
+        return _stopped(approach, complex_, points, spent, budget, flags, engine.stats.misses - misses0,
+                        0 if before_saddle is None else engine.stats.misses - before_saddle)
     flags = complex_.failed_rotations + path_flags(points, top, reactive, other_hydrogens, syn) + to_products
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)
@@ -270,29 +333,50 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
 
 def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,
                               charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
-                              name: str = "substitution") -> PathResult:
-    """Return the complex, relaxed path and verified saddle of backside substitution at C-alpha (SN2)."""
+                              name: str = "substitution", on_stage: Callable[[str], None] | None = None
+                              ) -> PathResult:
+    """Return the complex, relaxed path and verified saddle of backside substitution at C-alpha (SN2).
+
+    The gradient budget and ``on_stage`` work as in ``compute_path``.
+    """
     misses0 = engine.stats.misses
-    best, energies, spent = None, [], 0
-    for k in range(settings.base_rotations):
-        rotation = 360.0 * k / settings.base_rotations
-        placed = place_backside(start, reactive.c_alpha, reactive.x, base, basic, settings.substitution_distance_A, rotation)
-        held = [HeldDistance((reactive.nu, reactive.c_alpha), settings.substitution_distance_A)]
-        result = relax(placed, engine.calculator(charge, multiplicity, name=f"{name} complex"), held, optimizer)
-        spent += result.n_gradients
-        energies.append(result.energy_hartree)
-        if best is None or result.energy_hartree < best[1]:
-            best = (result.atoms, result.energy_hartree, rotation)
-    complex_ = ComplexResult(best[0], best[1], best[2], tuple(energies), spent)
-    points, _ = drive_path(complex_, reactive, engine, charge, multiplicity, settings, optimizer, name=f"{name} path")
-    top = path_top_index(points)
-    before_saddle = engine.stats.misses
-    if settings.saddle.refine:
-        saddle = refine_from_path(points, top, reactive, engine, charge, multiplicity, settings, optimizer, name)
-    else:
-        saddle = SaddleResult(None, None, False, "none", None, (), "not refined")
-    saddle, to_products = _unverified_end(saddle, complex_, points, reactive, engine, charge, multiplicity, settings,
-                                          optimizer, name)
+    budget, metered = _open_budget(engine, settings, start, base, on_stage)
+    best, energies, spent_complex = None, [], 0
+    budget.enter(STAGE_COMPLEX)
+    try:
+        for k in range(settings.base_rotations):
+            rotation = 360.0 * k / settings.base_rotations
+            placed = place_backside(start, reactive.c_alpha, reactive.x, base, basic, settings.substitution_distance_A,
+                                    rotation)
+            held = [HeldDistance((reactive.nu, reactive.c_alpha), settings.substitution_distance_A)]
+            result = relax(placed, metered.calculator(charge, multiplicity, name=f"{name} complex"), held, optimizer)
+            spent_complex += result.n_gradients
+            energies.append(result.energy_hartree)
+            if best is None or result.energy_hartree < best[1]:
+                best = (result.atoms, result.energy_hartree, rotation)
+    except BudgetSpent as spent:
+        raise _no_complex(name, spent) from spent
+    complex_ = ComplexResult(best[0], best[1], best[2], tuple(energies), spent_complex)
+    points = [PathPoint(reactive.coordinate().value(complex_.atoms.positions), complex_.energy_hartree, complex_.atoms,
+                        True, reactive.distances(complex_.atoms.positions))]
+    before_saddle = None
+    try:
+        budget.enter(STAGE_PATH)
+        points, _ = drive_path(complex_, reactive, metered, charge, multiplicity, settings, optimizer,
+                               name=f"{name} path", on_point=points.append)
+        top = path_top_index(points)
+        before_saddle = engine.stats.misses
+        if settings.saddle.refine:
+            budget.enter(STAGE_SADDLE)
+            saddle = refine_from_path(points, top, reactive, metered, charge, multiplicity, settings, optimizer, name)
+        else:
+            saddle = SaddleResult(None, None, False, "none", None, (), "not refined")
+        saddle, to_products = _unverified_end(saddle, complex_, points, reactive, metered, charge, multiplicity,
+                                              settings, optimizer, name, budget)
+    except BudgetSpent as spent:
+        return _stopped("substitution", complex_, points, spent, budget,
+                        tuple(maximum_flags(points, path_top_index(points))), engine.stats.misses - misses0,
+                        0 if before_saddle is None else engine.stats.misses - before_saddle)
     flags = tuple(maximum_flags(points, top)) + to_products
     return PathResult("substitution", complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
                       engine.stats.misses - before_saddle)

@@ -2,9 +2,10 @@
 
 Part of the engine layer but backend-agnostic: it drives any ASE calculator (GFN2-xTB from
 ``engine.py`` or the toy model). Held coordinates: dihedrals, distances and linear combinations
-of distances. ``bfgs`` uses ASE BFGS with ``FixInternals`` (all three kinds); ``sella`` uses Sella in
-internal coordinates with its own constraints, which hold dihedrals and distances but no linear
-combination of distances (Sella 2.6 has no such constraint type), so a combination is refused there.
+of distances. ``bfgs`` uses ASE BFGS with ``FixInternals`` (all three kinds; its force projection made
+cheaper in ``constraints``); ``sella`` uses Sella in internal coordinates with its own constraints, which
+hold dihedrals and distances but no linear combination of distances (Sella 2.6 has no such constraint
+type), so a combination is refused there.
 """
 
 from __future__ import annotations
@@ -16,11 +17,11 @@ from dataclasses import dataclass
 import numpy as np
 from ase import Atoms
 from ase.calculators.calculator import Calculator
-from ase.constraints import FixInternals
 from ase.neighborlist import NeighborList, natural_cutoffs
 from ase.optimize import BFGS
 
 from elimscan.config import OptimizerConfig
+from elimscan.drivers.constraints import ProjectedInternals
 from elimscan.errors import EngineError, OptimizationError
 from elimscan.geometry import dihedral_deg, distance, wrap_degrees
 from elimscan.units import EV_PER_HARTREE
@@ -124,8 +125,8 @@ def rotate_to_dihedral(atoms: Atoms, indices: tuple[int, int, int, int], target_
     return True
 
 
-def _fix_internals(held: Sequence[Held], targets: Sequence[float]) -> FixInternals:
-    """Return an ASE FixInternals holding every coordinate at its target."""
+def _fix_internals(held: Sequence[Held], targets: Sequence[float]) -> ProjectedInternals:
+    """Return a FixInternals with the cheaper force projection (``constraints``) holding each coordinate at its target."""
     bonds, dihedrals, combos = [], [], []
     for item, target in zip(held, targets):
         if isinstance(item, HeldDihedral):
@@ -134,7 +135,7 @@ def _fix_internals(held: Sequence[Held], targets: Sequence[float]) -> FixInterna
             bonds.append([target, list(item.atoms)])
         else:
             combos.append([target, [[i, j, coef] for i, j, coef in item.terms]])
-    return FixInternals(bonds=bonds or None, dihedrals_deg=dihedrals or None, bondcombos=combos or None)
+    return ProjectedInternals(bonds=bonds or None, dihedrals_deg=dihedrals or None, bondcombos=combos or None)
 
 
 class _Counter:

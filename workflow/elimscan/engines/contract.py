@@ -18,6 +18,32 @@ from ase.calculators.calculator import Calculator
 from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
 
 
+#: the ASE system changes an energy and gradient of a molecule depend on (charge and spin belong to the calculator)
+GEOMETRY_CHANGES = ("numbers", "positions", "cell", "pbc")
+
+
+def geometry_snapshot(atoms: Atoms) -> Atoms:
+    """Return a copy of the atomic numbers, positions (Å), cell and pbc only: no constraints, info or calculator."""
+    return Atoms(numbers=atoms.numbers, positions=atoms.positions, cell=atoms.cell, pbc=atoms.pbc)
+
+
+def geometry_changes(stored: Atoms | None, atoms: Atoms, tol: float = 1e-15) -> list[str]:
+    """Return which of ``GEOMETRY_CHANGES`` differ between a calculator's stored atoms and ``atoms``.
+
+    Compared as ASE's ``compare_atoms`` does (within ``tol``, no relative tolerance), but an identical array is
+    recognised first and the atoms' constraints and other arrays are not looked at: ASE's full comparison cost
+    more than a tenth of a driven path's time (it runs about three times per gradient).
+    """
+    if stored is None:
+        return list(GEOMETRY_CHANGES)
+    changes = []
+    for name, old, new in (("numbers", stored.numbers, atoms.numbers), ("positions", stored.positions, atoms.positions),
+                           ("cell", stored.cell.array, atoms.cell.array), ("pbc", stored.pbc, atoms.pbc)):
+        if np.shape(old) != np.shape(new) or not (np.array_equal(old, new) or np.allclose(old, new, rtol=0, atol=tol)):
+            changes.append(name)
+    return changes
+
+
 @dataclass
 class CacheStats:
     """Counters of the single-point cache: hits, misses (= backend calls) and SCF retries."""

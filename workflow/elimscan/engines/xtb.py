@@ -20,7 +20,7 @@ from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.config import MethodConfig
-from elimscan.engines.contract import CacheStats, SinglePoint
+from elimscan.engines.contract import CacheStats, SinglePoint, geometry_changes, geometry_snapshot
 from elimscan.errors import BackendUnavailableError, EngineError, ScfConvergenceError
 from elimscan.solvents import XTB_PYTHON_NAMES, check_solvent, dielectric_constant, method_label
 from elimscan.versions import backend_version
@@ -293,9 +293,14 @@ class EngineCalculator(Calculator):
         """Forget the kept backend object (after a failure)."""
         self._series, self._series_numbers = None, None
 
+    def check_state(self, atoms: Atoms, tol: float = 1e-15) -> list[str]:
+        """Return the changes since the last calculation that move the result: numbers, positions, cell, pbc."""
+        return geometry_changes(self.atoms, atoms, tol)
+
     def calculate(self, atoms: Atoms | None = None, properties: list[str] | None = None,
                   system_changes: list[str] = all_changes) -> None:
-        super().calculate(atoms, properties or ["energy"], system_changes)
+        if atoms is not None:  # ASE's Calculator.calculate deep-copies the atoms, constraints included
+            self.atoms = geometry_snapshot(atoms)
         point = self.engine.compute(self.atoms.numbers, self.atoms.positions, self.charge, self.multiplicity, self.structure_name, holder=self)
         energy_eV = point.energy_hartree * EV_PER_HARTREE
         self.results = {"energy": energy_eV, "free_energy": energy_eV, "forces": point.forces_eV_per_A}

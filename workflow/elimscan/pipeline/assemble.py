@@ -44,10 +44,11 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
     rotations = path.complex.energies_hartree
     return ApproachRecord(
         **record, path_status="ok", barrier_kcal_mol=kcal(path.top_hartree),
-        relative_barrier_kcal_mol=None if lowest_top is None else round((path.top_hartree - lowest_top) * KCAL_MOL_PER_HARTREE, 3),
+        relative_barrier_kcal_mol=(None if lowest_top is None  # no path of the job is a barrier
+                                   else round((path.top_hartree - lowest_top) * KCAL_MOL_PER_HARTREE, 3)),
         barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
         barrier_free_energy_kcal_mol=free_energy_kcal_mol,
-        reaches_products=path.reaches_products,
+        reaches_products=path.reaches_products, budget_spent_in=path.stopped_stage,
         saddle_character=None if character is None else SaddleCharacterRecord(
             c_h_cleavage=character.c_h_cleavage, c_x_cleavage=character.c_x_cleavage, label=character.label),
         relaxed_path_estimate_kcal_mol=kcal(path.estimate_hartree), saddle_verified=path.saddle.verified,
@@ -120,7 +121,8 @@ def _substitution_record(numbers: JobNumbers, paths: JobPaths, job_id: str) -> S
     return SubstitutionRecord(
         **head, path_status="ok", barrier_kcal_mol=sn2.barrier_kcal_mol, barrier_free_energy_kcal_mol=sn2.free_energy_kcal_mol,
         barrier_source="verified saddle" if path.saddle.verified else "relaxed-path maximum",
-        reaches_products=path.reaches_products, saddle_verified=path.saddle.verified,
+        reaches_products=path.reaches_products, budget_spent_in=path.stopped_stage,
+        saddle_verified=path.saddle.verified,
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
         saddle_note=path.saddle.reason, path_file=path_file_name(job_id, "substitution", "backside"),
         saddle_file=path_file_name(job_id, "substitution", "backside", "saddle") if path.saddle.atoms is not None else None,

@@ -11,8 +11,8 @@ Progress is reported through a callback, never printed.
 from __future__ import annotations
 
 import dataclasses
-
 import time
+from collections.abc import Callable
 
 from rdkit import Chem
 
@@ -226,6 +226,13 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
     return outcome
 
 
+def _stage_reporter(on_progress: ProgressCallback | None, name: str) -> Callable[[str], None] | None:
+    """Return the callback that passes a path's stage reports (gradients, s) on as sub-step messages, or None."""
+    if on_progress is None:
+        return None
+    return lambda text: on_progress(DETAIL, DETAIL, f"{name}: {text}")
+
+
 def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: RunConfig, engine,
                       on_progress: ProgressCallback | None = None) -> JobPaths:
     """Return every (class, approach) path of one substrate with one base; failures are recorded, not raised."""
@@ -254,13 +261,14 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
                         on_progress(DETAIL, DETAIL, f"{analysis.name}: {approach} path of {b.class_id} "
                                                     f"(from {start.source}, {start.dihedral_deg:.0f} deg"
                                                     + (f", orientation {rank + 1}/{orientations})" if orientations > 1 else ")"))
+                    name = (f"{analysis.name} {b.class_id} {approach}" + (f" start {k}" if k else "")
+                            + (f" orientation {rank}" if rank else ""))
                     try:
                         tried.append(compute_path(
                             start.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine,
                             charge, multiplicity, config.paths, config.optimizer,
                             tuple(i for i in all_h if i != b.representative_index),
-                            name=f"{analysis.name} {b.class_id} {approach}" + (f" start {k}" if k else "")
-                            + (f" orientation {rank}" if rank else ""), orientation_rank=rank))
+                            name=name, orientation_rank=rank, on_stage=_stage_reporter(on_progress, name)))
                     except ElimscanError as err:
                         failure = failure or error_info(err)
             paths[(b.class_id, approach)] = (lowest_of_starts(tried, config.paths.combine, config.method.temperature_K)
@@ -270,25 +278,28 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
             on_progress(DETAIL, DETAIL, f"{analysis.name}: backside substitution (SN2) path")
         reactive = SubstitutionReactive(n + base.info.basic_atom_index, lg.c_alpha_index, lg.leaving_atom_index)
         try:
+            name = f"{analysis.name} substitution"
             paths[SUBSTITUTION_KEY] = compute_substitution_path(
                 analysis.ensemble.lowest.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, engine,
-                charge, multiplicity, config.paths, config.optimizer, name=f"{analysis.name} substitution")
+                charge, multiplicity, config.paths, config.optimizer, name=name,
+                on_stage=_stage_reporter(on_progress, name))
         except ElimscanError as err:
             paths[SUBSTITUTION_KEY] = error_info(err)
     return paths
 
 
 def lowest_of_starts(tried: list[PathResult], combine: str = "lowest", temperature_K: float = 298.15) -> PathResult:
-    """Return the path with the lowest top (verified saddles first), carrying every start's top (hartree).
+    """Return the path with the lowest top (verified saddles first), carrying every counted start's top (hartree).
 
-    Starts shown not to reach their products are left out while any start reaches them.
+    Starts that are no barrier (shown not to reach their products, or stopped by their gradient budget:
+    ``PathResult.counts_as_barrier``) are left out while any start is a barrier.
 
     With ``combine='boltzmann'`` the returned path also carries the Boltzmann-combined top of the distinct
     tops (analysis.boltzmann_combined), which then stands for the approach's barrier.
     """
-    reaching = [p for p in tried if p.reaches_products] or tried  # a start that misses the products is no barrier
-    best = min(reaching, key=lambda p: (not p.saddle.verified, p.top_hartree))
-    tops = tuple(p.top_hartree for p in reaching)
+    counted = [p for p in tried if p.counts_as_barrier] or tried  # a start that is no barrier decides nothing
+    best = min(counted, key=lambda p: (not p.saddle.verified, p.top_hartree))
+    tops = tuple(p.top_hartree for p in counted)
     combined = boltzmann_combined(tops, temperature_K) if combine == "boltzmann" and len(tops) > 1 else None
     return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined,
                                n_gradients=sum(p.n_gradients for p in tried))

@@ -22,13 +22,14 @@ def _top_atoms(path: PathResult) -> Atoms:
 
 def job_dft(analysis: SubstrateAnalysis, base: BaseAnalysis, paths: JobPaths, config: RunConfig,
             on_progress: ProgressCallback | None = None) -> DftJobResult:
-    """Return the DFT tier of one job: single points on the lowest GFN2-xTB saddles of each product (E2 paths)."""
+    """Return the DFT tier of one job: single points on the lowest GFN2-xTB saddles of each product and of SN2
+    (paths that are no barrier, ``PathResult.counts_as_barrier``, left out)."""
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
                 for c in analysis.classes for a in ("anti", "syn")}
     candidates = [SaddleCandidate(key, products[key], degeneracy[key[0]], p.top_hartree, _top_atoms(p))
                   if key != SUBSTITUTION_KEY else SaddleCandidate(key, "SN2", 1, p.top_hartree, _top_atoms(p), kind="sn2")
-                  for key, p in paths.items() if not isinstance(p, ErrorInfo)]
+                  for key, p in paths.items() if not isinstance(p, ErrorInfo) and p.counts_as_barrier]
     base_charge, base_mult = base.info.formal_charge, base.relaxed.record.multiplicity or 1
     reactants = (("substrate", analysis.ensemble.lowest.atoms, analysis.charge, analysis.multiplicity),
                  ("base", base.relaxed.atoms, base_charge, base_mult))

@@ -8,6 +8,7 @@ Boltzmann-weighted product fractions (and their ranges), the E2/SN2 shares, and 
 
 from __future__ import annotations
 
+from collections import Counter
 from dataclasses import dataclass
 
 from elimscan.analysis.character import SaddleCharacter, saddle_character
@@ -21,6 +22,7 @@ from elimscan.drivers.freeenergy import isotope_effect, molecule_thermo, saddle_
 from elimscan.drivers.paths import PathResult
 from elimscan.geometry import distance
 from elimscan.pipeline.outcome import SUBSTITUTION_KEY, BaseAnalysis, JobPaths, SubstrateAnalysis
+from elimscan.results.flags import BUDGET_STOPPED, NOT_TO_PRODUCTS, no_barrier_reason
 from elimscan.results.records import ErrorInfo
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
@@ -170,12 +172,11 @@ def _substitution_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_
     path = paths.get(SUBSTITUTION_KEY)
     if path is None or isinstance(path, ErrorInfo):
         return SubstitutionNumbers(product, call, why)
-    reaches = path.reaches_products
     barrier = round((path.top_hartree - zero) * KCAL_MOL_PER_HARTREE, 3)
     free = _saddle_free_energy(path, g_zero, base, analysis, config.method.temperature_K)
     mine = free if use_free else barrier
     shares = None
-    if mine is not None and e2_barriers and reaches:
+    if mine is not None and e2_barriers and path.counts_as_barrier:
         mix = product_fractions([*e2_barriers, PathBarrier("substitution", "backside", "SN2", mine, 1)],
                                 config.method.temperature_K)
         shares = (1.0 - mix["SN2"], mix["SN2"])
@@ -183,13 +184,18 @@ def _substitution_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_
 
 
 def _notes(analysis: SubstrateAnalysis, base: BaseAnalysis, config: RunConfig, missing_free: bool,
-           not_to_products: int = 0) -> tuple[str, ...]:
-    """Return the job's warnings: free energies left out of the mix, paths that miss their products, a charged
-    dielectric job, a missed minimum."""
+           no_barrier: Counter[str] | None = None) -> tuple[str, ...]:
+    """Return the job's warnings: paths that are no barrier (``no_barrier``: reason -> count), free energies left
+    out of the mix, a charged dielectric job, a missed minimum."""
     notes: list[str] = []
-    if not_to_products:
-        notes.append(f"{not_to_products} path(s) do not reach their products (see their flags): their tops are not "
-                     "barriers and are left out of every share")
+    no_barrier = no_barrier or Counter()
+    if no_barrier[NOT_TO_PRODUCTS]:
+        notes.append(f"{no_barrier[NOT_TO_PRODUCTS]} path(s) do not reach their products (see their flags): their "
+                     "tops are not barriers and are left out of every share")
+    if no_barrier[BUDGET_STOPPED]:
+        notes.append(f"{no_barrier[BUDGET_STOPPED]} path(s) were stopped by their gradient budget "
+                     "(paths.gradient_budget_per_atom; see their flags): their tops are unfinished estimates, not "
+                     "barriers, and are left out of every share")
     if missing_free:
         notes.append("free-energy product mix: paths without a verified saddle have no dG and are left out")
     if config.method.solvent.model == "dielectric" and (analysis.charge or base.relaxed.record.charge):
@@ -211,8 +217,11 @@ def job_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_cfg: BaseC
     verdict = rule_verdict(facts, config.rule, base.info.bulky, lg.kind, lg.label)
     zero = analysis.global_minimum_hartree + base.relaxed.record.energy_hartree
     done = {key: p for key, p in paths.items() if not isinstance(p, ErrorInfo) and key != SUBSTITUTION_KEY}
-    # a path that does not reach its products has no barrier: it decides no share (it stays in its record)
-    counted = {key: p for key, p in done.items() if p.reaches_products}
+    # a path that is no barrier (it does not reach its products, or its gradient budget stopped it) decides no
+    # share and sets no zero; it stays in its record
+    counted = {key: p for key, p in done.items() if p.counts_as_barrier}
+    sn2 = paths.get(SUBSTITUTION_KEY)
+    computed = [*done.values(), *([sn2] if isinstance(sn2, PathResult) else [])]
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products_of = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
                    for c in analysis.classes for a in ("anti", "syn")}
@@ -236,6 +245,5 @@ def job_numbers(analysis: SubstrateAnalysis, base: BaseAnalysis, base_cfg: BaseC
         computed=compare_verdicts(verdict.major, fractions, barriers),
         substitution=_substitution_numbers(analysis, base, base_cfg, paths, zero, g_zero, barriers, config, use_free),
         notes=_notes(analysis, base, config, use_free and any(v is None for v in free.values()),
-                     sum(not p.reaches_products for p in done.values())
-                     + int(isinstance(paths.get(SUBSTITUTION_KEY), PathResult)
-                           and not paths[SUBSTITUTION_KEY].reaches_products)))
+                     Counter(no_barrier_reason(p.reaches_products, p.stopped_stage) for p in computed
+                             if not p.counts_as_barrier)))

@@ -1,4 +1,6 @@
-"""The wording of path flags: written by the drivers, counted by ``trouble``, matched by the tests."""
+"""The wording of path flags: written by the drivers, counted by ``trouble``, matched by the tests; and
+``no_barrier_reason``, the one rule saying which computed paths are no barrier (``records.counts_as_barrier``
+and the drivers' ``PathResult.counts_as_barrier`` both ask it)."""
 
 #: start of the path flag naming a base orientation of the complex that failed and was skipped
 FAILED_ROTATION = "base rotation"
@@ -11,9 +13,37 @@ UNFINISHED_MAXIMUM = ("the path maximum is an unfinished relaxation (optimizer.m
 #: barrier of this channel and is left out of every product share and of the E2 : SN2 split
 NOT_TO_PRODUCTS = ("the path does not reach its products (its freely relaxed end is not the product side): its top "
                    "is not a barrier and is left out of every share")
+#: start of the flag of a path stopped by its gradient budget (paths.gradient_budget_per_atom); the stage that
+#: ran long, the gradients of each stage and BUDGET_STOPPED follow (``budget_spent_flag``)
+BUDGET_SPENT = "gradient budget spent"
+#: why a path stopped by its gradient budget is no barrier: its top is an unfinished estimate, left out of every
+#: product share, the E2 : SN2 split, the lowest of several starts and the DFT tier
+BUDGET_STOPPED = ("the path was stopped before it finished: its top is an unfinished estimate, not a barrier, and "
+                  "is left out of every share")
+
+
+def budget_spent_flag(stage: str, spent: int, limit: int, by_stage: dict[str, int]) -> str:
+    """Return the flag of a path stopped by its gradient budget in ``stage`` (counts in gradients)."""
+    counts = ", ".join(f"{name} {count}" for name, count in by_stage.items())
+    return f"{BUDGET_SPENT} in the {stage} ({spent} of {limit} gradients; {counts}): {BUDGET_STOPPED}"
+
+
+def no_barrier_reason(reaches_products: bool | None, budget_spent_in: str | None) -> str | None:
+    """Return why a computed path's top is no barrier (BUDGET_STOPPED or NOT_TO_PRODUCTS), None when it is one.
+
+    The one rule behind every share, the E2 : SN2 split, the lowest start and the DFT tier: a path stopped by
+    its gradient budget, or shown not to reach its products, decides none of them.
+    """
+    if budget_spent_in is not None:
+        return BUDGET_STOPPED
+    if reaches_products is False:
+        return NOT_TO_PRODUCTS
+    return None
+
 
 # Flags read from a path's (constrained) end geometry: warnings about what the path looks like. Whether a
-# path counts as a barrier is decided by NOT_TO_PRODUCTS (a free relaxation of its end, or a verified saddle).
+# path counts as a barrier is decided by ``no_barrier_reason`` (NOT_TO_PRODUCTS: a free relaxation of its end, or
+# a verified saddle; or a stop by the gradient budget).
 #: the base took the proton but the C-X bond stayed (E1cb-like)
 E1CB_LIKE = "proton transferred without C-X cleavage (E1cb-like)"
 #: the base ended bonded to C-alpha (SN2-like)

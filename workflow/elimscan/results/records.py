@@ -11,6 +11,7 @@ from typing import Literal
 from pydantic import BaseModel, ConfigDict, Field
 
 from elimscan.config import SolventConfig
+from elimscan.results.flags import no_barrier_reason
 
 
 class Record(BaseModel):
@@ -148,7 +149,12 @@ class ApproachRecord(Record):
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
     reaches_products: bool | None = Field(None, description="false: the path was shown not to reach its products "
                                           "(no verified saddle, and its freely relaxed end is not the product side); "
-                                          "its top is then no barrier and decides no share; null: not computed")
+                                          "its top is then no barrier and decides no share; null: not computed, or "
+                                          "stopped by its gradient budget before it was known")
+    budget_spent_in: str | None = Field(None, description="the stage of the path (complex relaxations, driven path, "
+                                        "saddle search, a fallback) in which its gradient budget "
+                                        "(paths.gradient_budget_per_atom) ran out; the top is then an unfinished "
+                                        "estimate, no barrier, and decides no share; null: the path finished")
     barrier_free_energy_kcal_mol: float | None = Field(None, description="dG (quasi-RRHO, 1 M, T of the run) of the "
                                                        "verified saddle above free substrate + free base")
     saddle_character: SaddleCharacterRecord | None = None
@@ -244,7 +250,12 @@ class SubstitutionRecord(Record):
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
     reaches_products: bool | None = Field(None, description="false: the path was shown not to reach its products "
                                           "(no verified saddle, and its freely relaxed end is not the product side); "
-                                          "its top is then no barrier and decides no share; null: not computed")
+                                          "its top is then no barrier and decides no share; null: not computed, or "
+                                          "stopped by its gradient budget before it was known")
+    budget_spent_in: str | None = Field(None, description="the stage of the path (complex relaxations, driven path, "
+                                        "saddle search, a fallback) in which its gradient budget "
+                                        "(paths.gradient_budget_per_atom) ran out; the top is then an unfinished "
+                                        "estimate, no barrier, and decides no share; null: the path finished")
     saddle_verified: bool = False
     imaginary_frequency_cm1: float | None = None
     saddle_note: str | None = None
@@ -326,6 +337,7 @@ class JobRecord(Record):
 
 
 def counts_as_barrier(approach: "ApproachRecord | SubstitutionRecord") -> bool:
-    """Return True when a path record holds a barrier that may decide a share (computed, reaching its products)."""
+    """Return True when a path record holds a barrier that may decide a share: computed, and no reason of
+    ``flags.no_barrier_reason`` against it (shown not to reach its products, or stopped by its gradient budget)."""
     return (approach.path_status == "ok" and approach.barrier_kcal_mol is not None
-            and approach.reaches_products is not False)
+            and no_barrier_reason(approach.reaches_products, approach.budget_spent_in) is None)

@@ -19,6 +19,8 @@ _NOT_ATTEMPTED = "not refined"
 
 #: the summary.trouble key of single points kept at the retry electronic temperature
 RETRY_TEMPERATURE = "single point at retry electronic temperature"
+#: the summary.trouble key of paths (E2 and SN2) stopped by their gradient budget (paths.gradient_budget_per_atom)
+BUDGET_STOPPED_KIND = "path stopped by its gradient budget"
 
 
 def count_trouble(jobs: Iterable[JobRecord], retry_temperature_points: int = 0) -> dict[str, int]:
@@ -37,6 +39,8 @@ def count_trouble(jobs: Iterable[JobRecord], retry_temperature_points: int = 0) 
             for approach in (beta.anti, beta.syn):
                 if approach.path_status == "failed":
                     counts[f"path failed: {approach.error.error_type if approach.error else 'failed'}"] += 1
+                elif approach.budget_spent_in is not None:
+                    counts[BUDGET_STOPPED_KIND] += 1
                 elif (approach.path_status == "ok" and not approach.saddle_verified
                       and not (approach.saddle_note or "").startswith(_NOT_ATTEMPTED)):
                     why = approach.saddle_error_type
@@ -48,4 +52,6 @@ def count_trouble(jobs: Iterable[JobRecord], retry_temperature_points: int = 0) 
                         counts["scan point failed"] += 1
                     elif point.status == "above_cap":
                         counts["scan point above cap"] += 1
+        if job.substitution is not None and job.substitution.budget_spent_in is not None:
+            counts[BUDGET_STOPPED_KIND] += 1
     return dict(sorted((kind, n) for kind, n in counts.items() if n))
