@@ -57,6 +57,25 @@ class InputError(ElimscanError):
         super().__init__(prefix + message)
 
 
+class InputProblems(InputError):
+    """Fires before any calculation when an input has several problems: each an ``InputError``, all listed at once.
+
+    ``problems`` keeps them in file order; the message is a header line and one line per problem (each naming its
+    file, key path and YAML line where known). ``error_type`` is the problems' own type when they share one.
+    """
+
+    error_type = "input_error"
+
+    def __init__(self, problems: "list[InputError]", source: str | None = None):
+        self.problems = tuple(problems)
+        kinds = {p.error_type for p in self.problems}
+        if len(kinds) == 1:
+            self.error_type = kinds.pop()
+        header = f"{source}: " if source else ""
+        listing = "\n".join(f"  {number}. {problem}" for number, problem in enumerate(self.problems, start=1))
+        super().__init__(f"{header}{len(self.problems)} problems, all listed:\n{listing}")
+
+
 class ConfigError(InputError):
     """Fires while reading a YAML config: syntax, unknown key, wrong type or value."""
 

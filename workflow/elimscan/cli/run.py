@@ -18,7 +18,7 @@ from pathlib import Path
 from elimscan import __version__
 from elimscan.cli.folders import (LOG_FILE, RESULTS_FILE, check_output, create_output, remove_previous_files,
                                   write_atomic, write_each)
-from elimscan.cli.inputs import batch_only, check_models, check_structures, read_config, warn_sizes, with_engine
+from elimscan.cli.inputs import batch_only, check_inputs, read_config, warn_sizes, with_engine
 from elimscan.cli.logs import setup_logging
 from elimscan.engines.threads import configure_threads
 from elimscan.errors import ConfigError, ExitCode, OutputError
@@ -35,13 +35,10 @@ def cmd_run(args: argparse.Namespace) -> int:
                           f"run it with: elimscan batch {args.config} --out DIR", key_path=batch_only(config)[0])
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
-    check_structures(config, args.config)  # input errors stop the run before any calculation
-    from elimscan.batch.inputs import read_geometries
+    geometries = check_inputs(config, args.config)  # every input error, at once, before any calculation
     from elimscan.batch.lock import FolderLock
     from elimscan.pipeline.names import job_id_of
 
-    geometries = read_geometries(config, Path(args.config).parent)
-    check_models(config, args.config, geometries)
     out = Path(args.out)
     check_output(out, args.overwrite)  # refusals that change nothing come first
     warn_sizes((job_id_of(s.name, b.name), s.smiles, b.smiles) for s, b in config.jobs())

@@ -19,7 +19,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
   (one rule for run, validate and batch)
 - ``yamlreader``: the strict YAML reading (plain decimal numbers, true/false, no anchors or aliases, bounded
   size ``MAX_CONFIG_BYTES`` and depth ``MAX_CONFIG_DEPTH``)
-- ``loading``: YAML text -> ``RunConfig`` (``parse_config``), errors with key path, line and "did you mean";
+- ``loading``: YAML text -> ``RunConfig`` (``parse_config``; ``config_problems`` returns every problem at once), errors
+  with key path, line, "did you mean" and the quote hint for a name cut at a comma;
   ``key_line`` (the YAML line of a key path) and ``config_to_dict``
 
 Input bounds are named constants of their block: ``MIN_TEMPERATURE_K``/``MAX_TEMPERATURE_K`` (method),
@@ -34,7 +35,7 @@ from elimscan.config.conformers import MAX_CONFORMER_COUNT, ConformerConfig, Sca
 from elimscan.config.dft import DftConfig
 from elimscan.config.executor import DEFAULT_JOB_TIME_LIMIT_SECONDS, ExecutorConfig, default_workers
 from elimscan.config.frozen import Frozen
-from elimscan.config.loading import config_to_dict, key_line, parse_config
+from elimscan.config.loading import config_problems, config_to_dict, key_line, parse_config
 from elimscan.config.method import (MAX_ELECTRONIC_TEMPERATURE_K, MAX_TEMPERATURE_K, MIN_TEMPERATURE_K, MethodConfig,
                                     OptimizerConfig, SolventConfig, ThreadsConfig)
 from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, MAX_HEAVY_ATOMS, MAX_SMILES_CHARS,
@@ -52,6 +53,7 @@ __all__ = [
     "MAX_PATH_COUNT", "MAX_SMILES_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
     "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig",
     "SEED_LIMIT", "SERIES_MIN_MEMBERS", "SUBSTRATE_FILE_SUFFIXES", "SaddleConfig", "ScanConfig", "SeriesConfig",
-    "SeriesMemberConfig", "SolventConfig", "SubstrateConfig", "ThreadsConfig", "clashing_names", "config_to_dict",
+    "SeriesMemberConfig", "SolventConfig", "SubstrateConfig", "ThreadsConfig", "clashing_names", "config_problems",
+    "config_to_dict",
     "default_workers", "key_line", "parse_config", "safe_name",
 ]
