@@ -185,7 +185,7 @@ def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[Mea
         if job.input_error is not None:
             line += f"; will fail: {job.input_error}"
         elif classes.get(job.substrate_name):
-            n_paths = 2 * classes[job.substrate_name] + 1
+            n_paths = 2 * classes[job.substrate_name] + int(config.paths.substitution)
             heavy = sum(Chem.MolFromSmiles(s).GetNumHeavyAtoms() for s in (job.substrate_smiles, job.base.smiles))
             seconds = job_seconds(anchor, n_paths, heavy)
             total_s += seconds
