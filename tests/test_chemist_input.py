@@ -250,3 +250,54 @@ def test_the_old_name_of_check_results_still_works(tmp_path, capsys):
     assert code == ExitCode.CONFIG
     assert err.splitlines()[0] == "note: 'elimscan validate-results' is now 'elimscan check-results' (the old name still works for now)"
     assert run_cli(capsys, ["check-results", tmp_path / "broken.json"])[0] == ExitCode.CONFIG
+
+
+# --- progress of a run -----------------------------------------------------------------------------------------------
+
+
+class FakeClock:
+    """A clock the test moves by hand (s)."""
+
+    def __init__(self):
+        self.now = 0.0
+
+    def __call__(self) -> float:
+        return self.now
+
+
+def test_the_run_counts_one_counter_and_shows_time_left_only_after_a_comparable_step(caplog):
+    import logging
+
+    from elimscan.cli.progress import RunProgress
+
+    clock = FakeClock()
+    progress = RunProgress(["substrate", "base", "job", "job"], clock)
+    caplog.set_level(logging.INFO, logger="elimscan")
+    for at, step, message in ((0, 0, "substrate 'a'"), (5, -1, "a: conformer search"), (10, 1, "base 'b'"),
+                              (12, 2, "paths of a + b"), (612, 3, "paths of a + c")):
+        clock.now = at
+        progress(step, 4 if step >= 0 else -1, message)
+    lines = [r.getMessage() for r in caplog.records]
+    assert lines[0] == "[1/4] substrate 'a' (0 s elapsed)"
+    assert lines[1] == "    a: conformer search (5 s elapsed)"
+    assert lines[2] == "[2/4] base 'b' (10 s elapsed)"  # a base is still to come: no base measured yet
+    assert lines[3] == "[3/4] paths of a + b (12 s elapsed)"  # the substrate's 10 s say nothing about paths
+    assert lines[4] == "[4/4] paths of a + c (10 min elapsed, about 10 min left)"  # one job measured: 600 s
+    clock.now = 1000
+    progress.close()
+    assert progress.durations_s == {"substrate": [10.0], "base": [2.0], "job": [600.0, 388.0]}
+
+
+def test_a_run_reports_one_counter_from_the_first_step_to_the_last(tmp_path):
+    from elimscan.config import parse_config as parse
+    from elimscan.pipeline.compute import run_steps
+    from elimscan.pipeline.jobs import compute_run
+    from toyjobs import toy_engine
+
+    config = parse(TOY_SETTINGS + "name: counter\nsubstrates:\n  - {name: chloroethane, smiles: \"CCCl\"}\n"
+                   "  - {name: chloropropane, smiles: \"CCCCl\"}\nbases:\n  - {name: methoxide}\n  - {name: ethoxide}\n")
+    calls = []
+    compute_run(config, toy_engine(config.method), lambda done, total, message: calls.append((done, total, message)))
+    counted = [(done, total) for done, total, _ in calls if done >= 0]
+    assert run_steps(config) == ["substrate"] * 2 + ["base"] * 2 + ["job"] * 4
+    assert counted == [(k, 8) for k in range(8)]  # one total, steps 1 to 8 in order

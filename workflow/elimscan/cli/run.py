@@ -20,6 +20,7 @@ from elimscan.cli.folders import (LOG_FILE, RESULTS_FILE, check_output, create_o
                                   write_atomic, write_each)
 from elimscan.cli.inputs import batch_only, check_inputs, read_config, warn_sizes, with_engine
 from elimscan.cli.logs import setup_logging
+from elimscan.cli.progress import RunProgress
 from elimscan.engines.threads import configure_threads
 from elimscan.errors import ConfigError, ExitCode, OutputError
 from elimscan.versions import environment_versions
@@ -55,8 +56,8 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
     """Compute the run and write its files (results.json first); return the exit code."""
     from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
+    from elimscan.pipeline.compute import run_steps
     from elimscan.pipeline.jobs import compute_run
-    from elimscan.pipeline.outcome import DETAIL
 
     engine = make_engine(config.method)
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
@@ -65,16 +66,9 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
                     "(seen with tblite 0.8.0), and a single run then ends without results.json; 'elimscan batch' "
                     "runs each job in its own process and keeps the others")
     started = time.perf_counter()
-
-    def progress(done: int, total: int, message: str) -> None:
-        elapsed = time.perf_counter() - started
-        if done == DETAIL:
-            log.info("    %s (%.1f s elapsed)", message, elapsed)
-            return
-        left = f", about {elapsed / done * (total - done):.0f} s left" if 0 < done < total else ""
-        log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
-
+    progress = RunProgress(run_steps(config))  # one counter for the whole run
     result, files = compute_run(config, engine, progress, geometries, shlex.join(sys.argv))
+    progress.close()
     for record in result.molecules:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)
