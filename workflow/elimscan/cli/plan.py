@@ -164,10 +164,20 @@ def _plan_jobs(config, config_path: str) -> list[PlanJob]:
     return [PlanJob(job_id_of(s.name, b.name), s.name, s.smiles, b, solvent) for s, b in config.jobs()]
 
 
-def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[MeasuredJob]) -> list[str]:
-    """Return the whole plan as lines of text: substrates, jobs and the rough time (one core)."""
+def _heavy_atoms(substrate_smiles: str, base) -> int:
+    """Return the heavy atoms of a job as modelled: substrate, base, its cation and its explicit molecules."""
     from rdkit import Chem
 
+    def count(smiles: str) -> int:
+        return Chem.MolFromSmiles(smiles).GetNumHeavyAtoms()
+
+    model = base.model
+    return (count(substrate_smiles) + count(base.smiles) + (model.counter_ion is not None)
+            + model.explicit * count(model.explicit_smiles or base.smiles))
+
+
+def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[MeasuredJob]) -> list[str]:
+    """Return the whole plan as lines of text: substrates, jobs and the rough time (one core)."""
     substrates = {job.substrate_name: job.substrate_smiles for job in jobs}
     n_bases = len({job.base.name for job in jobs})
     lines = [f"plan of {config_path} ({config.name}): {len(substrates)} substrate(s), {n_bases} base(s), "
@@ -186,7 +196,7 @@ def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[Mea
             line += f"; will fail: {job.input_error}"
         elif classes.get(job.substrate_name):
             n_paths = 2 * classes[job.substrate_name] + int(config.paths.substitution)
-            heavy = sum(Chem.MolFromSmiles(s).GetNumHeavyAtoms() for s in (job.substrate_smiles, job.base.smiles))
+            heavy = _heavy_atoms(job.substrate_smiles, job.base)
             seconds = job_seconds(anchor, n_paths, heavy)
             total_s += seconds
             n_estimated += 1
