@@ -152,6 +152,16 @@ def test_an_abbreviation_resolves_to_its_anion_and_counter_ion(name):
     assert Chem.GetFormalCharge(Chem.MolFromSmiles(base.smiles)) == -1
 
 
+def test_the_cations_of_the_table_are_the_ones_the_ion_pair_model_builds():
+    import typing
+
+    from elimscan.chem.basemodels import CATION_DISTANCE_A
+    from elimscan.config import BaseModelConfig
+
+    allowed = set(typing.get_args(typing.get_args(BaseModelConfig.model_fields["counter_ion"].annotation)[0]))
+    assert set(COUNTER_IONS) == set(CATION_DISTANCE_A) == allowed
+
+
 def test_other_spellings_and_case_resolve_alike():
     assert named_base("tBuOK") == named_base("kotbu") == named_base(" KOt-Bu ") == BASE_ABBREVIATIONS["kotbu"]
 

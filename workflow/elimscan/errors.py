@@ -57,8 +57,15 @@ class InputError(ElimscanError):
         super().__init__(prefix + message)
 
 
-class InputProblems(InputError):
-    """Fires before any calculation when an input has several problems: each an ``InputError``, all listed at once.
+class ConfigError(InputError):
+    """Fires while reading a YAML config: syntax, unknown key, wrong type or value."""
+
+    error_type = "config_error"
+
+
+class InputProblems(ConfigError):
+    """Fires before any calculation when a config and its inputs have several problems: each an ``InputError``
+    (a config or a structure error), all listed at once; a ``ConfigError`` so that whoever reads configs catches it.
 
     ``problems`` keeps them in file order; the message is a header line and one line per problem (each naming its
     file, key path and YAML line where known). ``error_type`` is the problems' own type when they share one.
@@ -74,12 +81,6 @@ class InputProblems(InputError):
         header = f"{source}: " if source else ""
         listing = "\n".join(f"  {number}. {problem}" for number, problem in enumerate(self.problems, start=1))
         super().__init__(f"{header}{len(self.problems)} problems, all listed:\n{listing}")
-
-
-class ConfigError(InputError):
-    """Fires while reading a YAML config: syntax, unknown key, wrong type or value."""
-
-    error_type = "config_error"
 
 
 class StructureError(InputError):

@@ -8,6 +8,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
   (``OptimizerConfig``), threads per process (``ThreadsConfig``)
 - ``conformers``: the conformer search (``ConformerConfig``) and the H-C-C-X dihedral scans (``ScanConfig``)
 - ``paths``: complexes and relaxed E2/SN2 paths (``PathConfig``), saddle refinement and verification (``SaddleConfig``)
+- ``basenames``: base abbreviations a chemist types (KOtBu, NaOEt, LDA, ...): the anion and its cation
+  (``named_base``, ``COUNTER_IONS``)
 - ``molecules``: substrates, bases with the built-in names (``BASE_LIBRARY``) and base models, pairs, the
   suffixes a substrates file may have
 - ``analysis``: the geometric rule's windows (``RuleConfig``), the energy of the product mix
@@ -16,7 +18,7 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
 - ``executor``: where a batch's jobs run and their time limits (``ExecutorConfig``, ``default_workers``)
 - ``run``: ``RunConfig``, the whole run, with the checks across its parts, and ``DEFAULT_SEED``
 - ``names``: names that become file names: ``safe_name``, the length bound ``MAX_NAME_BYTES``, ``clashing_names``
-  (one rule for run, validate and batch)
+  (one rule for run, plan and batch)
 - ``yamlreader``: the strict YAML reading (plain decimal numbers, true/false, no anchors or aliases, bounded
   size ``MAX_CONFIG_BYTES`` and depth ``MAX_CONFIG_DEPTH``)
 - ``loading``: YAML text -> ``RunConfig`` (``parse_config``; ``config_problems`` returns every problem at once), errors
