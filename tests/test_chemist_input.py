@@ -102,6 +102,21 @@ def test_a_solvent_of_the_wrong_shape_says_what_is_expected_in_plain_words():
     assert "SolventConfig" not in str(caught.value)
 
 
+def test_a_block_setting_written_at_the_top_level_names_its_block():
+    with pytest.raises(ConfigError) as caught:
+        parse_config(ONE_JOB + "solvent: ethanol\n")
+    assert str(caught.value) == ("key 'solvent', line 6: unknown key 'solvent' at the top level: it belongs in the "
+                                 "'method' block (method: {solvent: ...})")
+
+
+def test_a_list_given_as_one_word_says_a_list_is_expected():
+    with pytest.raises(ConfigError) as caught:
+        parse_config(ONE_JOB + "substrates_file: more.csv\nsolvents: ethanol\n")
+    assert "key 'solvents', line 7: expected a list ([a, b], or lines starting with '- '), got 'ethanol'" in str(
+        caught.value)
+    assert "tuple" not in str(caught.value)
+
+
 def test_a_solvent_known_only_by_its_dielectric_constant_gets_the_way_to_ask_for_it():
     with pytest.raises(ConfigError) as caught:
         parse_config(ONE_JOB + "method: {solvent: tert-butanol}\n")

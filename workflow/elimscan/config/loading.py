@@ -79,6 +79,16 @@ def _model_at(loc: tuple[Any, ...]) -> type[BaseModel] | None:
     return model if isinstance(model, type) and issubclass(model, BaseModel) else None
 
 
+def _blocks_with(key: str) -> list[str]:
+    """Return the top-level blocks of the config whose model has a setting of this name."""
+    blocks = []
+    for name, field in RunConfig.model_fields.items():
+        annotation = field.annotation
+        if isinstance(annotation, type) and issubclass(annotation, BaseModel) and key in annotation.model_fields:
+            blocks.append(name)
+    return blocks
+
+
 def _duplicate_keys(node: yaml.Node | None, path: str = "") -> list[ConfigError]:
     """Return a ConfigError for every key a YAML mapping repeats (PyYAML would silently keep the last)."""
     found: list[ConfigError] = []
@@ -149,6 +159,10 @@ def _problem(error: dict[str, Any], root: yaml.Node | None) -> ConfigError:
                                key_path=key_path, line=line)
         model = _model_at(loc)
         known = sorted(model.model_fields) if model is not None else []
+        blocks = _blocks_with(str(loc[-1])) if len(loc) == 1 else []
+        if blocks:  # a setting of a block written at the top level ('solvent: ethanol')
+            return ConfigError(f"unknown key '{loc[-1]}' at the top level: it belongs in the '{blocks[0]}' block "
+                               f"({blocks[0]}: {{{loc[-1]}: ...}})", key_path=key_path, line=line)
         close = difflib.get_close_matches(str(loc[-1]), known, n=1)
         hint = f"; did you mean '{close[0]}'?" if close else ""
         return ConfigError(f"unknown key '{loc[-1]}'{hint} (allowed here: {', '.join(known)})", key_path=key_path,
@@ -161,6 +175,10 @@ def _problem(error: dict[str, Any], root: yaml.Node | None) -> ConfigError:
         model = _model_at(loc + ("",))
         message = (f"expected {_SHORTHANDS.get(model, 'a mapping of keys (key: value lines, or {key: value, ...})')}"
                    + (f", got {got!r}" if not isinstance(got, (dict, list)) else ", got a list"))
+    elif error["type"] in ("tuple_type", "list_type"):
+        got = error.get("input")
+        message = "expected a list ([a, b], or lines starting with '- ')" + (
+            f", got {got!r}" if not isinstance(got, (dict, list)) else ", got a mapping")
     elif "input" in error and not isinstance(error["input"], (dict, list)):
         if not (error["type"] == "value_error" and f"{error['input']}" in message):  # said already
             message = f"{message} (got {error['input']!r})"
