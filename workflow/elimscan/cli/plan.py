@@ -81,7 +81,9 @@ def measured_from_folder(folder: Path) -> list[MeasuredJob]:
         mols = [Chem.MolFromSmiles(smiles.get((role, job.get(role))) or "") for role in ("substrate", "base")]
         if not wall or job.get("status") != "ok" or any(m is None for m in mols):
             continue
-        n_paths = 2 * len(job.get("beta_hydrogens", ())) + (job.get("substitution") is not None)
+        n_paths = sum(1 for beta in job.get("beta_hydrogens", ()) for approach in ("anti", "syn")
+                      if (beta.get(approach) or {}).get("path_status", "not computed") != "not computed")
+        n_paths += job.get("substitution") is not None
         if n_paths:
             found.append(MeasuredJob(float(wall), n_paths, sum(m.GetNumHeavyAtoms() for m in mols),
                                      f"{folder}/batch.json"))
@@ -176,6 +178,13 @@ def _heavy_atoms(substrate_smiles: str, base) -> int:
             + model.explicit * count(model.explicit_smiles or base.smiles))
 
 
+def job_estimate(config, job: PlanJob, n_classes: int, unit_s: float) -> tuple[int, int, float]:
+    """Return a job's (paths, heavy atoms as modelled, estimated wall time in s on one core)."""
+    n_paths = len(config.paths.approaches) * n_classes + int(config.paths.substitution)
+    heavy = _heavy_atoms(job.substrate_smiles, job.base)
+    return n_paths, heavy, job_seconds(unit_s, n_paths, heavy)
+
+
 def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[MeasuredJob]) -> list[str]:
     """Return the whole plan as lines of text: substrates, jobs and the rough time (one core)."""
     substrates = {job.substrate_name: job.substrate_smiles for job in jobs}
@@ -195,12 +204,10 @@ def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[Mea
         if job.input_error is not None:
             line += f"; will fail: {job.input_error}"
         elif classes.get(job.substrate_name):
-            n_paths = 2 * classes[job.substrate_name] + int(config.paths.substitution)
-            heavy = _heavy_atoms(job.substrate_smiles, job.base)
-            seconds = job_seconds(anchor, n_paths, heavy)
+            n_paths, heavy, seconds = job_estimate(config, job, classes[job.substrate_name], anchor)
             total_s += seconds
             n_estimated += 1
-            line += f"; {n_paths} paths, {heavy} heavy atoms, {rough_duration(seconds)}"
+            line += f"; {n_paths} path{'' if n_paths == 1 else 's'}, {heavy} heavy atoms, {rough_duration(seconds)}"
         lines.append(line)
     basis = (f"the {len(measured)} finished job(s) of {measured[0].source}" if measured else
              f"{MEASURED_JOB.source}: an estimate")
