@@ -64,7 +64,7 @@ def rough_duration(seconds: float) -> str:
 
 
 def measured_from_folder(folder: Path) -> list[MeasuredJob]:
-    """Return the finished ok jobs of a batch folder (batch.json times, results.json or job.json contents)."""
+    """Return the finished ok jobs of a batch folder: wall times from batch.json, paths and molecules from results.json."""
     from rdkit import Chem
 
     try:
@@ -197,8 +197,7 @@ def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[Mea
         lines += block + [""]
     lines.append("jobs (substrate + base, base model, solvent):")
     total_s, n_estimated = 0.0, 0
-    anchor = seconds_per_path(measured[0]) if len(measured) == 1 else (
-        statistics.median(seconds_per_path(m) for m in measured) if measured else seconds_per_path(MEASURED_JOB))
+    anchor = statistics.median(seconds_per_path(m) for m in measured or [MEASURED_JOB])  # s per path, 8 heavy atoms
     for job in jobs:
         line = f"  {job.job_id}: {job.substrate_name} + {job.base.name} ({_base_label(job.base)}), {job.solvent}"
         if job.input_error is not None:
