@@ -1,7 +1,9 @@
 # elimscan: two commands for a fresh clone (see README.md)
-#   make demo   - create .venv if missing, install, run the demo, print a summary
-#   make test   - create/update .venv with test extras, run pytest (both tiers)
-# Other targets: test-fast (no GFN2-xTB), bench, reference-cases(-fast), calibration, basicity, schema, clean.
+#   make demo     - create .venv if missing, install, run the demo into results/demo, print a summary
+#   make test     - create/update .venv with test extras, run pytest (both tiers); as root with apt-get it first
+#                   installs Debian's chromium and chromium-driver for the browser test (target browser-deps)
+# Other targets: install (.venv with the test extras, nothing else), test-fast (no GFN2-xTB), bench,
+# reference-cases(-fast), calibration, basicity, schema, clean.
 
 PYTHON ?= python3.11
 VENV   := .venv
@@ -17,7 +19,7 @@ export MPLBACKEND ?= Agg
 TEST_WORKERS ?= 2
 PYTEST_XDIST := -n $(TEST_WORKERS) --dist loadfile --no-loadscope-reorder
 
-.PHONY: reference-cases reference-cases-fast calibration basicity demo test test-fast bench kernel-sweep schema clean check-python browser-deps
+.PHONY: install reference-cases reference-cases-fast calibration basicity demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -34,6 +36,9 @@ $(VENV)/.installed: pyproject.toml | check-python
 	$(VPY) -m pip install --quiet --upgrade pip
 	$(VPY) -m pip install --quiet -e '.[test]'
 	@touch $@
+
+# install only: .venv with elimscan (editable) and its test extras; nothing is run and nothing system-wide changes
+install: $(VENV)/.installed
 
 demo: $(VENV)/.installed
 	@rm -rf results/demo

@@ -76,7 +76,7 @@ class Case:
 
 
 def validate(text: str, *words: str, error_type: str = "config_error", **extra) -> Case:
-    return Case({"run.yaml": text}, ("validate", "{d}/run.yaml"), ExitCode.CONFIG, error_type, words, **extra)
+    return Case({"run.yaml": text}, ("plan", "{d}/run.yaml"), ExitCode.CONFIG, error_type, words, **extra)
 
 
 CASES: dict[str, Case] = {
@@ -157,13 +157,13 @@ CASES: dict[str, Case] = {
     "base_outside_gfn2_range": validate(with_base("C[Og-]"), "base 'methoxide' 'C[Og-]'", "element Og",
                                         error_type="structure_error"),
     # --- files and folders
-    "missing_config_file": Case({}, ("validate", "{d}/nowhere.yaml"), ExitCode.CONFIG, "config_error",
+    "missing_config_file": Case({}, ("plan", "{d}/nowhere.yaml"), ExitCode.CONFIG, "config_error",
                                 ("cannot read config file", "nowhere.yaml"), also_run=False),
-    "missing_substrates_file": Case({"batch.yaml": BATCH}, ("validate", "{d}/batch.yaml"), ExitCode.CONFIG,
+    "missing_substrates_file": Case({"batch.yaml": BATCH}, ("plan", "{d}/batch.yaml"), ExitCode.CONFIG,
                                     "config_error", ("key 'substrates_file'", "cannot read substrates file",
                                                      "more.csv"), also_run=False),
     "substrates_file_unknown_column": Case({"batch.yaml": BATCH, "more.csv": "name,smile\na,CCCl\n"},
-                                           ("validate", "{d}/batch.yaml"), ExitCode.CONFIG, "config_error",
+                                           ("plan", "{d}/batch.yaml"), ExitCode.CONFIG, "config_error",
                                            ("more.csv' line 1: unknown column 'smile'; did you mean 'smiles'?",),
                                            also_run=False),
     "bad_smiles_in_a_batch_yaml_stops_the_batch": Case(
@@ -286,11 +286,13 @@ def test_the_terminal_never_shows_a_traceback(tmp_path):
 def test_a_bad_csv_row_fails_only_its_own_job(tmp_path, capsys, monkeypatch):
     (tmp_path / "batch.yaml").write_text(BATCH)
     (tmp_path / "more.csv").write_text("name,smiles\n2-chloropropane,CC(C)Cl\nbroken,CC(Cl\nneopentyl,CC(C)(C)CBr\n")
-    code, err = cli(capsys, ["validate", str(tmp_path / "batch.yaml")])
-    assert code == ExitCode.OK, err
-    assert "job broken__methoxide will fail: more.csv line 3: substrate 'broken': cannot parse SMILES 'CC(Cl'" in err
-    assert "job neopentyl__methoxide will fail: more.csv line 4: substrate 'neopentyl'" in err
-    assert "(4 jobs, 2 of them fail on their input)" in err
+    code = main(["plan", str(tmp_path / "batch.yaml")])
+    out = capsys.readouterr().out
+    assert code == ExitCode.OK, out
+    assert ("broken__methoxide: broken + methoxide (bare base), ALPB(ethanol); will fail: more.csv line 3: substrate "
+            "'broken': cannot parse SMILES 'CC(Cl'") in out
+    assert "neopentyl__methoxide: neopentyl + methoxide (bare base), ALPB(ethanol); will fail: more.csv line 4" in out
+    assert "4 job(s)" in out and "for 2 job(s)" in out  # two of the four fail on their input: no time for them
     code, err = cli(capsys, ["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out"),
                              "--engine", "toyjobs:toy_engine"])
     assert code == ExitCode.JOBS_FAILED, err

@@ -50,10 +50,25 @@ def test_info_prints_versions():
     assert "not installed" not in done.stdout
 
 
-def test_validate_accepts_the_demo_config():
+def test_plan_accepts_the_demo_config_and_prints_to_stdout_also_when_quiet():
+    done = elimscan("plan", str(ROOT / "configs" / "demo.yaml"), "-q")
+    assert done.returncode == ExitCode.OK, done.stderr
+    assert done.stderr == ""
+    # (S)-2-chloropentane, C[C@H](Cl)CCC: Cl is the 3rd atom of the SMILES on C-alpha, the 2nd; the beta carbons are
+    # the 1st (CH3 -> 1-pentene) and the 4th (CH2 -> 2-pentenes), numbered from 1 as a chemist counts
+    assert "leaving group Cl (atom Cl3) on C-alpha C2" in done.stdout
+    assert "C1-H7: 3 H (H7, H8, H9)" in done.stdout and "anti -> C=CCCC" in done.stdout
+    assert done.stdout.count("C4-H") == 2
+    assert "s-2-chloropentane__ethoxide: s-2-chloropentane + ethoxide" in done.stdout
+    assert "time: about" in done.stdout and "an estimate" in done.stdout
+
+
+def test_the_old_command_names_still_work_with_a_notice():
     done = elimscan("validate", str(ROOT / "configs" / "demo.yaml"))
     assert done.returncode == ExitCode.OK, done.stderr
-    assert "valid" in done.stderr
+    assert "'elimscan validate' is now 'elimscan plan'" in done.stderr
+    assert "leaving group Cl (atom Cl3) on C-alpha C2" in done.stdout
+    assert len(done.stderr.strip().splitlines()) == 1
 
 
 @pytest.mark.parametrize(
@@ -70,7 +85,7 @@ def test_validate_accepts_the_demo_config():
     ],
 )
 def test_bad_input_gives_its_exit_code_and_a_message_without_traceback(tmp_path, text, code, words):
-    for command in (["validate"], ["run", "--out", str(tmp_path / "out")]):
+    for command in (["plan"], ["run", "--out", str(tmp_path / "out")]):
         done = elimscan(*command[:1], write(tmp_path, text), *command[1:])
         assert done.returncode == code, done.stderr
         assert words in done.stderr
@@ -79,7 +94,7 @@ def test_bad_input_gives_its_exit_code_and_a_message_without_traceback(tmp_path,
 
 
 def test_missing_config_file_is_a_config_error(tmp_path):
-    done = elimscan("validate", str(tmp_path / "nope.yaml"))
+    done = elimscan("plan", str(tmp_path / "nope.yaml"))
     assert done.returncode == ExitCode.CONFIG
     assert "cannot read config file" in done.stderr
 
@@ -133,12 +148,12 @@ def test_run_writes_schema_valid_results_and_refuses_to_overwrite(tmp_path):
     rebuilt = elimscan("report", str(out))
     assert rebuilt.returncode == ExitCode.OK, rebuilt.stderr
     assert (out / "summary.csv").read_bytes() == csv_before
-    # validate-results checks a kept file; a hand-broken copy names the offending path
-    assert elimscan("validate-results", str(out / "results.json")).returncode == ExitCode.OK
+    # check-results checks a kept file; a hand-broken copy names the offending path
+    assert elimscan("check-results", str(out / "results.json")).returncode == ExitCode.OK
     broken = json.loads((out / "results.json").read_text())
     broken["jobs"][0]["beta_hydrogens"][0]["degeneracy"] = "three"
     (tmp_path / "broken.json").write_text(json.dumps(broken))
-    bad = elimscan("validate-results", str(tmp_path / "broken.json"))
+    bad = elimscan("check-results", str(tmp_path / "broken.json"))
     assert bad.returncode == ExitCode.CONFIG and "jobs[0].beta_hydrogens[0].degeneracy" in bad.stderr
     # asked to, a run replaces the finished folder (a cheap config of another name: the overwrite does not depend
     # on the settings, and the name shows that the new results replaced the old ones)
@@ -166,7 +181,7 @@ def test_scf_failure_is_recorded_and_the_run_says_jobs_failed(tmp_path):
 
 def test_missing_geometry_file_is_a_config_error(tmp_path):
     text = TINY.replace('smiles: "CCCl"}', 'smiles: "CCCl", geometry: nowhere.xyz}')
-    done = elimscan("validate", write(tmp_path, text))
+    done = elimscan("plan", write(tmp_path, text))
     assert done.returncode == ExitCode.CONFIG
     assert "cannot read geometry file" in done.stderr and "substrates.0.geometry" in done.stderr
 

@@ -74,7 +74,7 @@ def setting(text: str) -> str:
 
 @dataclass(frozen=True)
 class Yaml:
-    """A config that 'validate' and 'run --overwrite' must both refuse the same way."""
+    """A config that 'plan' and 'run --overwrite' must both refuse the same way."""
 
     text: str
     error_type: str
@@ -148,7 +148,7 @@ YAML_CASES = {
 
 
 @pytest.mark.parametrize("name", sorted(YAML_CASES))
-def test_a_hostile_config_is_refused_by_validate_and_run(name, tmp_path, capsys):
+def test_a_hostile_config_is_refused_by_plan_and_run(name, tmp_path, capsys):
     case = YAML_CASES[name]
     config = tmp_path / "run.yaml"
     config.write_text(case.text)
@@ -156,7 +156,7 @@ def test_a_hostile_config_is_refused_by_validate_and_run(name, tmp_path, capsys)
         (tmp_path / rel).write_text(text)
     (tmp_path / "out").mkdir()
     (tmp_path / "out" / "results.json").write_text(FINISHED)
-    for argv in (["validate", config], ["run", config, "--out", tmp_path / "out", "--overwrite",
+    for argv in (["plan", config], ["run", config, "--out", tmp_path / "out", "--overwrite",
                                         "--engine", "toyjobs:toy_engine"]):
         code, err = cli(capsys, argv)
         assert code == ExitCode.CONFIG, err
@@ -192,15 +192,14 @@ def test_no_stays_a_name_and_a_switch_still_reads_it(tmp_path, capsys):
     config = parse_config(text)  # YAML 1.1 would make the base's name the boolean false, refused as a name
     assert config.bases[0].name == "no" and config.paths.substitution is False
     (tmp_path / "run.yaml").write_text(text)
-    code, err = cli(capsys, ["validate", tmp_path / "run.yaml"])
-    assert code == ExitCode.OK, err
-    assert err.splitlines()[-1] == f"{tmp_path / 'run.yaml'}: valid (1 substrates, 1 bases, 1 jobs)"
+    assert main(["plan", str(tmp_path / "run.yaml")]) == ExitCode.OK
+    assert "1 substrate(s), 1 base(s), 1 job(s)" in capsys.readouterr().out
 
 
 def test_a_config_over_the_size_bound_is_refused_unread(tmp_path, capsys):
     config = tmp_path / "run.yaml"
     config.write_text(GOOD + "# " + "x" * MAX_CONFIG_BYTES + "\n")
-    code, err = cli(capsys, ["validate", config])
+    code, err = cli(capsys, ["plan", config])
     assert code == ExitCode.CONFIG
     assert err.splitlines()[0] == (f"error (config_error): {config}: the config has more than 1,000,000 bytes (a config "
                                    "lists settings and a few molecules: give many substrates in a 'substrates_file')")
@@ -209,7 +208,7 @@ def test_a_config_over_the_size_bound_is_refused_unread(tmp_path, capsys):
 def test_a_config_that_is_not_utf8_names_the_byte_and_line(tmp_path, capsys):
     config = tmp_path / "run.yaml"
     config.write_bytes(GOOD.encode() + b"# caf\xe9\n")
-    code, err = cli(capsys, ["validate", config])
+    code, err = cli(capsys, ["plan", config])
     assert code == ExitCode.CONFIG
     assert err.splitlines()[0] == (f"error (config_error): {config}: the config is not UTF-8 text (byte 0xe9 at offset "
                                    f"{len(GOOD) + 5}, line 10); save it as UTF-8")
@@ -219,7 +218,7 @@ def test_a_config_that_is_not_utf8_names_the_byte_and_line(tmp_path, capsys):
 def test_a_job_too_large_for_one_night_is_warned_not_refused(tmp_path, capsys):
     config = tmp_path / "run.yaml"
     config.write_text(substrate("C" * 60 + "Br"))
-    code, err = cli(capsys, ["validate", config])
+    code, err = cli(capsys, ["plan", config])
     assert code == ExitCode.OK, err
     assert err.splitlines()[0] == ("chloroethane__methoxide: 63 heavy atoms in substrate and base, more than 60: such a "
                                    "job is unlikely to finish overnight on one core (a rough bound from one measured "
@@ -246,7 +245,7 @@ def test_a_broken_substrates_file_is_an_input_error(name, tmp_path, capsys):
     text, words = CSV_CASES[name]
     (tmp_path / "batch.yaml").write_text(BATCH)
     (tmp_path / "more.csv").write_text(text, newline="")
-    for argv in (["validate", tmp_path / "batch.yaml"], ["batch", tmp_path / "batch.yaml", "--out", tmp_path / "out"]):
+    for argv in (["plan", tmp_path / "batch.yaml"], ["batch", tmp_path / "batch.yaml", "--out", tmp_path / "out"]):
         code, err = cli(capsys, argv)
         assert code == ExitCode.CONFIG, err
         assert error_line(err).startswith(f"error (config_error): {tmp_path / 'batch.yaml'}, key 'substrates_file', "
@@ -258,9 +257,9 @@ def test_a_broken_substrates_file_is_an_input_error(name, tmp_path, capsys):
 def test_a_csv_with_carriage_returns_only_is_read(tmp_path, capsys):
     (tmp_path / "batch.yaml").write_text(BATCH)
     (tmp_path / "more.csv").write_text("name,smiles\rpropyl,CCCCl\rbutyl,CCCCCl\r", newline="")
-    code, err = cli(capsys, ["validate", tmp_path / "batch.yaml"])
-    assert code == ExitCode.OK, err
-    assert err.splitlines()[-1] == f"{tmp_path / 'batch.yaml'}: valid batch config (2 jobs, 0 of them fail on their input)"
+    assert main(["plan", str(tmp_path / "batch.yaml")]) == ExitCode.OK
+    out = capsys.readouterr().out
+    assert "2 substrate(s), 1 base(s), 2 job(s)" in out and "will fail" not in out
 
 
 def test_a_scheduler_that_is_not_an_address_is_an_input_error(tmp_path, capsys):
@@ -289,14 +288,14 @@ def test_a_binary_or_deeply_nested_results_file_is_refused(kind, tmp_path, capsy
             f"an elimscan result: {why}" if kind == "binary" else f"a valid elimscan result: {why}")),
         "report": (ExitCode.OUTPUT, f"error (output_error): '{path}' does not match the results schema (1 problem(s), "
                                     "listed above)"),
-        "validate-results": (ExitCode.CONFIG, f"{path}: (file): " + (
+        "check-results": (ExitCode.CONFIG, f"{path}: (file): " + (
             f"'{path}' is not an elimscan result: {why}" if kind == "binary"
             else "the JSON nests too deep to be an elimscan result")),
     }
     for command, (exit_code, first) in expected.items():
-        code, err = cli(capsys, [command, path if command == "validate-results" else tmp_path])
+        code, err = cli(capsys, [command, path if command == "check-results" else tmp_path])
         assert code == exit_code, err
-        assert (error_line(err) if command != "validate-results" else err.splitlines()[0]) == first, err
+        assert (error_line(err) if command != "check-results" else err.splitlines()[0]) == first, err
         assert "Traceback" not in err
     assert (tmp_path / "results.json").read_bytes() == BAD_RESULTS[kind]
     assert not (tmp_path / "report.html").exists()
@@ -347,14 +346,13 @@ def test_the_message_of_a_bug_points_to_a_real_log_or_a_command_the_parser_takes
     def bug(*args):
         raise RuntimeError("a bug")
 
-    monkeypatch.setattr("elimscan.cli.commands.check_structures", bug)
-    code, err = cli(capsys, ["validate", config, "-q"])
+    monkeypatch.setattr("elimscan.cli.plan.check_inputs", bug)
+    code, err = cli(capsys, ["plan", config, "-q"])
     assert code == ExitCode.INTERNAL
-    assert err.splitlines() == [f"unexpected internal error (a bug); see the traceback with: elimscan validate -v {config}"]
+    assert err.splitlines() == [f"unexpected internal error (a bug); see the traceback with: elimscan plan -v {config}"]
     rerun = build_parser().parse_args(err.split("see the traceback with: elimscan ")[1].split())
-    assert rerun.verbosity == 1 and rerun.command == "validate"  # the parser takes the suggested command
-    monkeypatch.setattr("elimscan.cli.run.check_structures", bug)
-    monkeypatch.setattr("elimscan.cli.run.check_models", lambda *a: bug())
+    assert rerun.verbosity == 1 and rerun.command == "plan"  # the parser takes the suggested command
+    monkeypatch.setattr("elimscan.cli.run.check_inputs", bug)
     code, err = cli(capsys, ["run", config, "--out", tmp_path / "out"])
     assert code == ExitCode.INTERNAL and not (tmp_path / "out").exists()  # no log file was opened: say how to see it
     assert error_line(err) == f"unexpected internal error (a bug); see the traceback with: elimscan run -v {config} --out {tmp_path / 'out'}"

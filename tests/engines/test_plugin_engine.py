@@ -41,7 +41,7 @@ def test_a_plugin_engine_satisfies_the_contract_and_computes_a_whole_run(tmp_pat
 
 def test_the_engine_factory_in_the_config_is_used_like_the_option(tmp_path, capsys):
     (tmp_path / "run.yaml").write_text("method: {engine_factory: 'plugin_engine:make'}\n" + CONFIG)
-    assert main(["validate", str(tmp_path / "run.yaml")]) == ExitCode.OK, capsys.readouterr().err
+    assert main(["plan", str(tmp_path / "run.yaml")]) == ExitCode.OK, capsys.readouterr().err
 
 
 def test_an_engine_that_lacks_a_member_of_the_contract_is_refused_by_name():
@@ -58,5 +58,5 @@ def test_a_factory_that_cannot_be_loaded_is_an_input_error(spec, words):
 
 def test_validate_refuses_an_engine_option_that_is_not_module_colon_function(tmp_path, capsys):
     (tmp_path / "run.yaml").write_text(CONFIG)
-    assert main(["validate", str(tmp_path / "run.yaml"), "--engine", "not a factory"]) == ExitCode.CONFIG
+    assert main(["plan", str(tmp_path / "run.yaml"), "--engine", "not a factory"]) == ExitCode.CONFIG
     assert "expected 'module:function'" in capsys.readouterr().err

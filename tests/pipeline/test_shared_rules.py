@@ -27,21 +27,21 @@ def _write(tmp_path, model: str):
 
 def test_an_ion_paired_base_in_the_gas_phase_is_judged_alike_by_run_and_batch(tmp_path):
     # Na+ ethoxide is neutral as modelled (the cation travels with the base): no free ion in the gas phase.
-    # Before the fix `validate`/`run` accepted this config and `batch` refused every job of it.
+    # Before the fix `plan`/`run` accepted this config and `batch` refused every job of it.
     path = _write(tmp_path, ", model: {counter_ion: Na}")
-    assert main(["validate", str(path), "-q"]) == 0
+    assert main(["plan", str(path), "-q"]) == 0
     plan = plan_batch(parse_config(path.read_text(), str(path)), path)
     assert [job.input_error for job in plan.jobs] == [None]
 
 
 def test_a_bare_anion_in_the_gas_phase_is_refused_by_run_and_batch_with_one_message(tmp_path, capsys):
     path = _write(tmp_path, "")
-    assert main(["validate", str(path)]) == 3
+    assert main(["plan", str(path)]) == 3
     said = capsys.readouterr().err
     plan = plan_batch(parse_config(path.read_text(), str(path)), path)
     (job,) = plan.jobs
     assert job.input_error.error_type == "config_error"
-    # one wording: the batch's message is the one `validate` prints
+    # one wording: the batch's message is the one `plan` prints
     assert job.input_error.error_message in said.replace("\n", " ")
     assert "base 'ethoxide' (charge -1)" in job.input_error.error_message
 

@@ -174,8 +174,8 @@ def test_a_job_stuck_in_one_stage_is_stopped_at_the_stage_limit(tmp_path, capsys
     assert code == ExitCode.JOBS_FAILED, err
     error = document["jobs"][0]["error"]
     assert error["error_type"] == "stage_time_limit"
-    # the stuck stage is the base's relaxation (step 2 of 2: the substrate's analysis finished)
-    assert "longer than the stage time limit of 4 s in step 2/2: base 'methoxide'" in error["error_message"]
+    # the stuck stage is the base's relaxation (step 2 of 3, substrate, base, the job's paths: one counter per job)
+    assert "longer than the stage time limit of 4 s in step 2/3: base 'methoxide'" in error["error_message"]
     assert document["summary"]["trouble"] == {"job failed: stage_time_limit": 1}
     assert "Traceback" not in err
 

@@ -63,6 +63,26 @@ class ConfigError(InputError):
     error_type = "config_error"
 
 
+class InputProblems(ConfigError):
+    """Fires before any calculation when a config and its inputs have several problems: each an ``InputError``
+    (a config or a structure error), all listed at once; a ``ConfigError`` so that whoever reads configs catches it.
+
+    ``problems`` keeps them in file order; the message is a header line and one line per problem (each naming its
+    file, key path and YAML line where known). ``error_type`` is the problems' own type when they share one.
+    """
+
+    error_type = "input_error"
+
+    def __init__(self, problems: "list[InputError]", source: str | None = None):
+        self.problems = tuple(problems)
+        kinds = {p.error_type for p in self.problems}
+        if len(kinds) == 1:
+            self.error_type = kinds.pop()
+        header = f"{source}: " if source else ""
+        listing = "\n".join(f"  {number}. {problem}" for number, problem in enumerate(self.problems, start=1))
+        super().__init__(f"{header}{len(self.problems)} problems, all listed:\n{listing}")
+
+
 class StructureError(InputError):
     """Fires when a SMILES or structure cannot be used (unparsable, unsupported element, ...)."""
 

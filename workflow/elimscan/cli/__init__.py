@@ -1,4 +1,4 @@
-"""The ``elimscan`` command: info, validate, run, batch, status, summary, report. Orchestrates; computes nothing itself.
+"""The ``elimscan`` command: info, plan, run, batch, status, summary, report, check-results. Orchestrates; computes nothing itself.
 
 Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: see errors.ExitCode. With
 ``batch/``, the only code that reads files named by the user or writes output folders.
@@ -13,8 +13,13 @@ Logs go to stderr and to ``OUT/run.log``; results go only to files. Exit codes: 
   rename (each on its own), a replaced run's files removed, a results file checked against its schema
 - ``run``: ``elimscan run`` (one config in this process, under the folder lock; results.json written first)
 - ``batch``: ``elimscan batch`` (executor options from the command line, the folder lock, SIGTERM as Ctrl-C)
-- ``progress``: the batch's live status line on a terminal, one line per finished job elsewhere
-- ``commands``: the commands that compute nothing: info, validate, status, summary, report, validate-results
+- ``progress``: the batch's live status line on a terminal, one line per finished job elsewhere; the run's one
+  counter over all its steps, with a time left once a step of each kind still to come has been measured
+- ``plan``: ``elimscan plan`` (every input problem at once, then per substrate the leaving group, beta-H classes
+  with 1-based atom numbers and their alkenes, the jobs and a rough time from measured costs, to standard output);
+  ``validate`` is its old name
+- ``commands``: the other commands that compute nothing: info, status, summary, report, check-results (old name
+  validate-results)
 """
 
 from __future__ import annotations

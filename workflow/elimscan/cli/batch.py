@@ -13,7 +13,7 @@ import time
 from pathlib import Path
 
 from elimscan.cli.folders import RESULTS_FILE, write_files
-from elimscan.cli.inputs import check_models, plan_located, read_config, warn_sizes, with_engine
+from elimscan.cli.inputs import check_batch_inputs, read_config, warn_sizes, with_engine
 from elimscan.cli.logs import setup_logging
 from elimscan.cli.progress import BatchProgress
 from elimscan.engines.threads import configure_threads
@@ -57,10 +57,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
             raise ConfigError(f"command-line options: {err.errors()[0]['msg'].removeprefix('Value error, ')}",
                               key_path="executor") from err
         config = config.model_copy(update={"executor": executor})
-    plan = plan_located(config, args.config)  # input errors in the YAML stop here, before any calculation
-    from elimscan.batch.inputs import read_geometries
-
-    check_models(config, args.config, read_geometries(config, Path(args.config).parent))
+    plan, _ = check_batch_inputs(config, args.config)  # every input error of the YAML stops here, before any calculation
     warn_sizes((job.job_id, job.substrate_smiles, job.base.smiles) for job in plan.jobs if job.input_error is None)
     out = Path(args.out)
     prepare_batch_folder(out, plan.input_files)  # an input among the batch's own files is refused

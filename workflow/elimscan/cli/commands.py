@@ -1,4 +1,4 @@
-"""The commands that compute nothing: info, validate, status, summary, report, validate-results."""
+"""The commands that compute nothing: info, status, summary, report, check-results (``plan`` is in plan.py)."""
 
 from __future__ import annotations
 
@@ -7,8 +7,6 @@ import logging
 from pathlib import Path
 
 from elimscan.cli.folders import RESULTS_FILE, checked_result_file, write_files
-from elimscan.cli.inputs import (batch_only, check_models, check_structures, plan_located, read_config, warn_sizes,
-                                 with_engine)
 from elimscan.cli.logs import echo
 from elimscan.errors import ExitCode, OutputError
 from elimscan.versions import environment_versions
@@ -20,30 +18,6 @@ def cmd_info(args: argparse.Namespace) -> int:
     """Print versions of Python and the libraries; return the exit code."""
     for name, version in environment_versions().items():
         echo(f"{name:<17} {version}")
-    return ExitCode.OK
-
-
-def cmd_validate(args: argparse.Namespace) -> int:
-    """Check a config (its SMILES, base models and geometry files) without computing; return the exit code."""
-    from elimscan.batch.inputs import read_geometries
-    from elimscan.pipeline.names import job_id_of
-
-    config = with_engine(read_config(args.config), args)
-    if batch_only(config):
-        plan = plan_located(config, args.config)
-        check_models(config, args.config, read_geometries(config, Path(args.config).parent))
-        for job in plan.jobs:
-            if job.input_error is not None:
-                log.warning("job %s will fail: %s", job.job_id, job.input_error.error_message)
-        warn_sizes((job.job_id, job.substrate_smiles, job.base.smiles) for job in plan.jobs if job.input_error is None)
-        log.info("%s: valid batch config (%d jobs, %d of them fail on their input)", args.config, len(plan.jobs),
-                 plan.n_input_failures)
-        return ExitCode.OK
-    check_structures(config, args.config)
-    check_models(config, args.config, read_geometries(config, Path(args.config).parent))
-    warn_sizes((job_id_of(s.name, b.name), s.smiles, b.smiles) for s, b in config.jobs())
-    log.info("%s: valid (%d substrates, %d bases, %d jobs)", args.config, len(config.substrates),
-             len(config.bases), len(config.jobs()))
     return ExitCode.OK
 
 
@@ -81,7 +55,7 @@ def cmd_report(args: argparse.Namespace) -> int:
     return ExitCode.OK
 
 
-def cmd_validate_results(args: argparse.Namespace) -> int:
+def cmd_check_results(args: argparse.Namespace) -> int:
     """Check a results JSON file against the results schema; return the exit code (3 when it does not match)."""
     from elimscan.output.files import validate_result_file
 
@@ -91,5 +65,11 @@ def cmd_validate_results(args: argparse.Namespace) -> int:
     if problems:
         log.error("%s: %d problem(s)", args.file, len(problems))
         return ExitCode.CONFIG
-    log.info("%s: valid", args.file)
+    log.info("%s: matches the results schema", args.file)
     return ExitCode.OK
+
+
+def cmd_validate_results(args: argparse.Namespace) -> int:
+    """The old name of ``check-results``: print a one-line notice, then check; return the exit code."""
+    log.warning("note: 'elimscan validate-results' is now 'elimscan check-results' (the old name still works for now)")
+    return cmd_check_results(args)

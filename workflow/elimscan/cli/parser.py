@@ -9,7 +9,9 @@ import sys
 
 from elimscan import __version__
 from elimscan.cli.batch import cmd_batch
-from elimscan.cli.commands import cmd_info, cmd_report, cmd_status, cmd_summary, cmd_validate, cmd_validate_results
+from elimscan.cli.commands import (cmd_check_results, cmd_info, cmd_report, cmd_status, cmd_summary,
+                                   cmd_validate_results)
+from elimscan.cli.plan import cmd_plan, cmd_validate
 from elimscan.cli.logs import discard_stdout, echo_flush, setup_logging
 from elimscan.cli.run import cmd_run
 from elimscan.engines.threads import configure_threads
@@ -30,12 +32,19 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("info", parents=[common], help="print versions of Python, RDKit, ASE, numpy, the xTB backends, Sella, Dask "
                                                         "and the optional PySCF")
     p.set_defaults(func=cmd_info)
-    p = sub.add_parser("validate", parents=[common], help="check a config without computing")
-    p.add_argument("config")
-    p.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
-                   help="compute with a plug-in engine made by this factory instead of GFN2-xTB "
-                        "(overrides method.engine_factory; see DEVELOPERS.md)")
-    p.set_defaults(func=cmd_validate)
+    for name, func, text in (("plan", cmd_plan, "check a config without computing (every problem at once) and print "
+                                                 "what a run would do: leaving groups, beta-H classes and their "
+                                                 "alkenes, jobs and a rough time"),
+                             ("validate", cmd_validate, "old name of 'plan'")):
+        p = sub.add_parser(name, parents=[common], help=text)
+        p.add_argument("config")
+        p.add_argument("--costs", default=None, metavar="DIR",
+                       help="estimate the time from the finished jobs of this batch folder (its batch.json) instead "
+                            "of the one measured job")
+        p.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
+                       help="compute with a plug-in engine made by this factory instead of GFN2-xTB "
+                            "(overrides method.engine_factory; see DEVELOPERS.md)")
+        p.set_defaults(func=func)
     p = sub.add_parser("run", parents=[common], help="run a config into an output folder")
     p.add_argument("config")
     p.add_argument("--out", required=True, help="output folder (refused if it holds a finished run)")
@@ -75,9 +84,11 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("report", parents=[common], help="rebuild summary.csv, plots and report.html of a finished output folder")
     p.add_argument("out", help="output folder holding results.json")
     p.set_defaults(func=cmd_report)
-    p = sub.add_parser("validate-results", parents=[common], help="check a results JSON file against the results schema")
-    p.add_argument("file")
-    p.set_defaults(func=cmd_validate_results)
+    for name, func, text in (("check-results", cmd_check_results, "check a results JSON file against the results schema"),
+                             ("validate-results", cmd_validate_results, "old name of 'check-results'")):
+        p = sub.add_parser(name, parents=[common], help=text)
+        p.add_argument("file")
+        p.set_defaults(func=func)
     return parser
 
 

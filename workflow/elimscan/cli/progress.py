@@ -1,10 +1,13 @@
-"""Batch progress on stderr: a live status line on a terminal, else one plain line per finished job."""
+"""Progress on stderr: the batch's live status line on a terminal (else one plain line per finished job), and the
+run's one counter over all its steps with the time left from measured steps."""
 
 from __future__ import annotations
 
 import logging
 import shutil
 import sys
+import time
+from collections.abc import Callable
 
 from elimscan.output.text import duration_text
 
@@ -50,3 +53,52 @@ class BatchProgress:
     def close(self) -> None:
         """Remove the live line."""
         self._clear()
+
+
+class RunProgress:
+    """The run's one counter: '[k/n] step (elapsed, about T left)' over substrates, bases and jobs, to the log.
+
+    ``kinds`` names every step in order ('substrate', 'base', 'job'; pipeline.compute.run_steps). The time left is
+    the measured mean duration of each kind times the steps of that kind still to come, shown only once every kind
+    still to come has a finished step (a substrate's time says nothing about a job's paths).
+    """
+
+    def __init__(self, kinds: list[str], clock: Callable[[], float] = time.perf_counter):
+        self.kinds = list(kinds)
+        self.clock = clock
+        self.started = clock()
+        self.durations_s: dict[str, list[float]] = {}
+        self._current: tuple[int, float] | None = None
+
+    def _finish_current(self, now: float) -> None:
+        if self._current is not None:
+            step, began = self._current
+            self.durations_s.setdefault(self.kinds[step], []).append(now - began)
+            self._current = None
+
+    def eta_s(self, step: int) -> float | None:
+        """Return the time left (s) with step ``step`` (0-based) starting now, or None before it can be measured."""
+        left = 0.0
+        for kind in self.kinds[step:]:
+            measured = self.durations_s.get(kind)
+            if not measured:
+                return None
+            left += sum(measured) / len(measured)
+        return left
+
+    def __call__(self, done: int, total: int, message: str) -> None:
+        """Log one step's start ('[k/n] ...') or, with done == DETAIL (-1), a sub-step message."""
+        now = self.clock()
+        elapsed = duration_text(now - self.started)
+        if done < 0:
+            log.info("    %s (%s elapsed)", message, elapsed)
+            return
+        self._finish_current(now)
+        self._current = (done, now)
+        eta = self.eta_s(done) if done < len(self.kinds) else None
+        left = "" if eta is None else f", about {duration_text(eta)} left"
+        log.info("[%d/%d] %s (%s elapsed%s)", done + 1, total, message, elapsed, left)
+
+    def close(self) -> None:
+        """Count the last step as finished."""
+        self._finish_current(self.clock())

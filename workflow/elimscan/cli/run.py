@@ -18,8 +18,9 @@ from pathlib import Path
 from elimscan import __version__
 from elimscan.cli.folders import (LOG_FILE, RESULTS_FILE, check_output, create_output, remove_previous_files,
                                   write_atomic, write_each)
-from elimscan.cli.inputs import batch_only, check_models, check_structures, read_config, warn_sizes, with_engine
+from elimscan.cli.inputs import batch_only, check_inputs, read_config, warn_sizes, with_engine
 from elimscan.cli.logs import setup_logging
+from elimscan.cli.progress import RunProgress
 from elimscan.engines.threads import configure_threads
 from elimscan.errors import ConfigError, ExitCode, OutputError
 from elimscan.versions import environment_versions
@@ -35,13 +36,10 @@ def cmd_run(args: argparse.Namespace) -> int:
                           f"run it with: elimscan batch {args.config} --out DIR", key_path=batch_only(config)[0])
     if args.threads is None:  # before the backends load
         configure_threads(config.threads.per_process)
-    check_structures(config, args.config)  # input errors stop the run before any calculation
-    from elimscan.batch.inputs import read_geometries
+    geometries = check_inputs(config, args.config)  # every input error, at once, before any calculation
     from elimscan.batch.lock import FolderLock
     from elimscan.pipeline.names import job_id_of
 
-    geometries = read_geometries(config, Path(args.config).parent)
-    check_models(config, args.config, geometries)
     out = Path(args.out)
     check_output(out, args.overwrite)  # refusals that change nothing come first
     warn_sizes((job_id_of(s.name, b.name), s.smiles, b.smiles) for s, b in config.jobs())
@@ -58,8 +56,8 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
     """Compute the run and write its files (results.json first); return the exit code."""
     from elimscan.engines.factory import make_engine
     from elimscan.output.text import summary_table
+    from elimscan.pipeline.compute import run_steps
     from elimscan.pipeline.jobs import compute_run
-    from elimscan.pipeline.outcome import DETAIL
 
     engine = make_engine(config.method)
     log.info("elimscan %s: %s, %d job(s), method %s", __version__, config.name, len(config.jobs()), engine.label)
@@ -68,16 +66,9 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
                     "(seen with tblite 0.8.0), and a single run then ends without results.json; 'elimscan batch' "
                     "runs each job in its own process and keeps the others")
     started = time.perf_counter()
-
-    def progress(done: int, total: int, message: str) -> None:
-        elapsed = time.perf_counter() - started
-        if done == DETAIL:
-            log.info("    %s (%.1f s elapsed)", message, elapsed)
-            return
-        left = f", about {elapsed / done * (total - done):.0f} s left" if 0 < done < total else ""
-        log.info("[%d/%d] %s (%.1f s elapsed%s)", min(done + 1, total), total, message, elapsed, left)
-
+    progress = RunProgress(run_steps(config))  # one counter for the whole run
     result, files = compute_run(config, engine, progress, geometries, shlex.join(sys.argv))
+    progress.close()
     for record in result.molecules:
         if record.status != "ok" and record.error is not None:
             log.warning("%s '%s' failed: %s", record.role, record.name, record.error.error_message)

@@ -8,6 +8,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
   (``OptimizerConfig``), threads per process (``ThreadsConfig``)
 - ``conformers``: the conformer search (``ConformerConfig``) and the H-C-C-X dihedral scans (``ScanConfig``)
 - ``paths``: complexes and relaxed E2/SN2 paths (``PathConfig``), saddle refinement and verification (``SaddleConfig``)
+- ``basenames``: base abbreviations a chemist types (KOtBu, NaOEt, LDA, ...): the anion and its cation
+  (``named_base``, ``COUNTER_IONS``)
 - ``molecules``: substrates, bases with the built-in names (``BASE_LIBRARY``) and base models, pairs, the
   suffixes a substrates file may have
 - ``analysis``: the geometric rule's windows (``RuleConfig``), the energy of the product mix
@@ -16,10 +18,11 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
 - ``executor``: where a batch's jobs run and their time limits (``ExecutorConfig``, ``default_workers``)
 - ``run``: ``RunConfig``, the whole run, with the checks across its parts, and ``DEFAULT_SEED``
 - ``names``: names that become file names: ``safe_name``, the length bound ``MAX_NAME_BYTES``, ``clashing_names``
-  (one rule for run, validate and batch)
+  (one rule for run, plan and batch)
 - ``yamlreader``: the strict YAML reading (plain decimal numbers, true/false, no anchors or aliases, bounded
   size ``MAX_CONFIG_BYTES`` and depth ``MAX_CONFIG_DEPTH``)
-- ``loading``: YAML text -> ``RunConfig`` (``parse_config``), errors with key path, line and "did you mean";
+- ``loading``: YAML text -> ``RunConfig`` (``parse_config``; ``config_problems`` returns every problem at once), errors
+  with key path, line, "did you mean" and the quote hint for a name cut at a comma;
   ``key_line`` (the YAML line of a key path) and ``config_to_dict``
 
 Input bounds are named constants of their block: ``MIN_TEMPERATURE_K``/``MAX_TEMPERATURE_K`` (method),
@@ -35,7 +38,7 @@ from elimscan.config.conformers import MAX_CONFORMER_COUNT, ConformerConfig, Sca
 from elimscan.config.dft import DftConfig
 from elimscan.config.executor import DEFAULT_JOB_TIME_LIMIT_SECONDS, ExecutorConfig, default_workers
 from elimscan.config.frozen import Frozen
-from elimscan.config.loading import config_to_dict, key_line, parse_config
+from elimscan.config.loading import config_problems, config_to_dict, key_line, parse_config
 from elimscan.config.method import (MAX_ELECTRONIC_TEMPERATURE_K, MAX_TEMPERATURE_K, MIN_TEMPERATURE_K, MethodConfig,
                                     OptimizerConfig, SolventConfig, ThreadsConfig)
 from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, MAX_HEAVY_ATOMS, MAX_SMILES_CHARS,
@@ -54,6 +57,7 @@ __all__ = [
     "MAX_PATH_COUNT", "MAX_SMILES_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
     "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig",
     "SEED_LIMIT", "SERIES_MIN_MEMBERS", "SUBSTRATE_FILE_SUFFIXES", "SaddleConfig", "ScanConfig", "SeriesConfig",
-    "SeriesMemberConfig", "SolventConfig", "SubstrateConfig", "ThreadsConfig", "clashing_names", "config_to_dict",
+    "SeriesMemberConfig", "SolventConfig", "SubstrateConfig", "ThreadsConfig", "clashing_names", "config_problems",
+    "config_to_dict",
     "default_workers", "key_line", "parse_config", "safe_name",
 ]

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Any, Literal
 
 from pydantic import Field, field_validator, model_validator
 
 from elimscan.config.frozen import Frozen
 from elimscan.errors import SolventError
-from elimscan.solvents import check_solvent
+from elimscan.solvents import DIELECTRIC_SOLVENTS, canonical_solvent_name, check_solvent
 
 #: the temperature of Boltzmann weights and free energies lies in this range (K): solution chemistry, where the
 #: harmonic (quasi-RRHO) free energies and the conformer weights of the method mean something
@@ -16,6 +16,16 @@ MIN_TEMPERATURE_K = 150.0
 MAX_TEMPERATURE_K = 1000.0
 #: electronic (Fermi smearing) temperatures of the SCF at most this (K); xTB's default is 300 K
 MAX_ELECTRONIC_TEMPERATURE_K = 10000.0
+#: ``solvent:`` given as one of these words means no implicit solvent (model none, the gas phase)
+GAS_PHASE_WORDS = ("none", "gas", "gas phase", "vacuum")
+
+
+def dielectric_hint(model: str, name: str | None) -> str:
+    """Return how to ask for a solvent of the dielectric-only table when another model lacks it, else ''."""
+    if model == "dielectric" or not name or canonical_solvent_name(name) not in DIELECTRIC_SOLVENTS:
+        return ""
+    return (f"; {name} has no {model.upper()} parameters but a dielectric constant: "
+            f"solvent: {{model: dielectric, name: {name}}} (tblite only)")
 
 
 class SolventConfig(Frozen):
@@ -27,6 +37,16 @@ class SolventConfig(Frozen):
 
     model: Literal["alpb", "gbsa", "dielectric", "none"] = "alpb"
     name: str | None = "ethanol"
+
+    @model_validator(mode="before")
+    @classmethod
+    def _shorthand(cls, data: Any) -> Any:
+        """A plain name (``solvent: ethanol``) means the default model with that solvent; ``none``: gas phase."""
+        if isinstance(data, str):
+            if data.strip().lower() in GAS_PHASE_WORDS:
+                return {"model": "none", "name": None}
+            return {"name": data}
+        return data
 
     @model_validator(mode="after")
     def _name_needed(self) -> "SolventConfig":
@@ -68,7 +88,7 @@ class MethodConfig(Frozen):
         try:
             check_solvent(self.backend, self.hamiltonian, self.solvent.model, self.solvent.name)
         except SolventError as err:
-            raise ValueError(str(err)) from err
+            raise ValueError(str(err) + dielectric_hint(self.solvent.model, self.solvent.name)) from err
         return self
 
 

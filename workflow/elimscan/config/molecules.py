@@ -1,4 +1,5 @@
-"""The molecules of a run: substrates, bases (built-in names, base models) and the substrate x base pairs."""
+"""The molecules of a run: substrates, bases (built-in names, abbreviations, base models) and the substrate x base
+pairs."""
 
 from __future__ import annotations
 
@@ -6,6 +7,7 @@ from typing import Any, Literal
 
 from pydantic import Field, field_validator, model_validator
 
+from elimscan.config.basenames import COUNTER_IONS, abbreviation_list, named_base
 from elimscan.config.frozen import Frozen
 from elimscan.config.names import name_length_problem
 
@@ -72,12 +74,19 @@ class BaseModelConfig(Frozen):
     the proton transfer (basemodels.py).
     """
 
-    #: metal cation paired with an anionic base (None: no counter-ion)
+    #: metal cation paired with an anionic base (None: no counter-ion); basenames.COUNTER_IONS
     counter_ion: Literal["Li", "Na", "K"] | None = None
     #: explicit solvent molecules: hydrogen-bonded to the basic atom, then on the cation, else a second shell
     explicit: int = Field(0, ge=0, le=MAX_EXPLICIT_MOLECULES)
     #: SMILES of the explicit molecule; None: the base's conjugate acid (tert-butanol for tert-butoxide)
     explicit_smiles: str | None = Field(None, min_length=1)
+
+    @field_validator("counter_ion", mode="before")
+    @classmethod
+    def _supported_ion(cls, value: object) -> object:
+        if isinstance(value, str) and value not in COUNTER_IONS:
+            raise ValueError(f"counter-ion '{value}' is not one the ion-pair model has (it has {', '.join(COUNTER_IONS)})")
+        return value
 
 
 #: Built-in bases: a base given by one of these names needs no SMILES.
@@ -94,6 +103,34 @@ BASE_LIBRARY: dict[str, str] = {
 }
 
 
+def _named(data: dict[str, Any]) -> dict[str, Any]:
+    """Return a base entry without a SMILES completed from its name: a built-in name or an abbreviation.
+
+    An abbreviation that names a cation (KOtBu) sets the ion-pair model's counter_ion, unless the entry's model
+    gives one itself (``counter_ion: null`` keeps the bare anion); a cation the model lacks is refused.
+    """
+    name = data["name"]
+    smiles = BASE_LIBRARY.get(name.strip().lower())
+    if smiles is not None:
+        return {**data, "smiles": smiles}
+    named = named_base(name)
+    if named is None:
+        raise ValueError(f"base '{name}' needs a smiles (built-in names: {', '.join(BASE_LIBRARY)}; abbreviations: "
+                         f"{abbreviation_list()})")
+    model = data.get("model")
+    model = model.model_dump() if isinstance(model, BaseModelConfig) else model
+    if model is not None and not isinstance(model, dict):
+        return {**data, "smiles": named.smiles}  # the model's own error is reported
+    model = dict(model or {})
+    if "counter_ion" not in model:
+        if named.counter_ion not in COUNTER_IONS:
+            raise ValueError(f"base '{name}' ({named.full_name}) names the counter-ion {named.counter_ion}+, which "
+                             f"the ion-pair base model does not have (it has {', '.join(COUNTER_IONS)}); for the bare "
+                             f"anion write {{name: {name}, model: {{counter_ion: null}}}}")
+        model["counter_ion"] = named.counter_ion
+    return {**data, "smiles": named.smiles, "model": model}
+
+
 class BaseConfig(Frozen):
     """One base: a name, a SMILES (optional for the built-in names), optional bulky flag and model."""
 
@@ -103,11 +140,10 @@ class BaseConfig(Frozen):
     @model_validator(mode="before")
     @classmethod
     def _from_library(cls, data: Any) -> Any:
+        if isinstance(data, str):  # a plain name: '- KOtBu'
+            data = {"name": data}
         if isinstance(data, dict) and not data.get("smiles") and isinstance(data.get("name"), str):
-            smiles = BASE_LIBRARY.get(data["name"].strip().lower())
-            if smiles is None:
-                raise ValueError(f"base '{data['name']}' needs a smiles (built-in names: {', '.join(BASE_LIBRARY)})")
-            data = {**data, "smiles": smiles}
+            data = _named(data)
         return data
 
     charge: int | None = None

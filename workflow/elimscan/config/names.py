@@ -1,6 +1,6 @@
 """Names that become file and folder names in an output folder: their file-name-safe form, its length, clashes.
 
-One rule for ``run``, ``validate`` and ``batch``: two names whose safe forms coincide would share one folder of
+One rule for ``run``, ``plan`` and ``batch``: two names whose safe forms coincide would share one folder of
 files, so they are refused wherever names are read (``RunConfig``, the batch plan).
 """
 

@@ -180,6 +180,13 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
                              minimum)
 
 
+def run_steps(config: RunConfig) -> list[str]:
+    """Return the kind of every counted step of a run, in order: 'substrate', 'base', then 'job' (its paths)."""
+    jobs = config.jobs()
+    return (["substrate"] * len({s.name for s, _ in jobs}) + ["base"] * len({b.name for _, b in jobs})
+            + ["job"] * len(jobs))
+
+
 def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None,
                geometries: dict[str, tuple[str, str]] | None = None) -> RunOutcome:
     """Return the outcome of a run: each substrate analysed once, each base relaxed once.
@@ -190,7 +197,7 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
     outcome = RunOutcome(jobs=jobs)
     substrates = list({s.name: s for s, _ in jobs}.values())
     bases = list({b.name: b for _, b in jobs}.values())
-    total = len(substrates) + len(bases)
+    total = len(run_steps(config))  # one counter over the whole run: substrates, bases, then the jobs' paths
     for step, item in enumerate(substrates):
         if on_progress is not None:
             on_progress(step, total, f"substrate '{item.name}' ({item.smiles})")
@@ -218,7 +225,7 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
         if isinstance(analysis, ErrorInfo) or base.info is None or base.relaxed.atoms is None:
             continue
         if on_progress is not None:
-            on_progress(step, len(jobs), f"paths of {substrate_cfg.name} + {base_cfg.name}")
+            on_progress(len(substrates) + len(bases) + step, total, f"paths of {substrate_cfg.name} + {base_cfg.name}")
         outcome.paths[(substrate_cfg.name, base_cfg.name)] = compute_job_paths(analysis, base, config, engine, on_progress)
         if config.dft.enabled:
             outcome.dft[(substrate_cfg.name, base_cfg.name)] = job_dft(
