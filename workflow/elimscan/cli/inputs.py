@@ -152,6 +152,13 @@ def check_models(config, config_path: str, geometries: dict[str, tuple[str, str]
                              model.explicit_smiles, config.seed, item.name)
         except StructureError as err:
             raise located_error(StructureError, err, config_path, key, text) from err
+    from elimscan.chem.inputcheck import experiment_alkene_problem
+    for index, item in enumerate(config.substrates):
+        for base, observed in item.experiment.items():
+            problem = experiment_alkene_problem(item.smiles, observed, config.seed)
+            if problem is not None:
+                raise located_error(ConfigError, problem[1], config_path,
+                                    f"substrates.{index}.experiment.{base}.{problem[0]}", text)
     for index, item in enumerate(config.substrates):
         if item.name not in geometries:
             continue
