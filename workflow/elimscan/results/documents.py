@@ -15,6 +15,7 @@ from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Record
 
 RESULT_SCHEMA_NAME = "elimscan.result"
+#: 0.7.1 added one optional config key (substrates[].experiment: observations per base, shown and scored in the report).
 #: 0.7.0 added optional fields only: config keys method.engine_factory and paths.saddle.path_point_starts, and
 #: provenance.scipy_version, sella_version and pyscf_version (every library of the job key); run's documents now
 #: carry each job's solvent and key as batch's do.
@@ -24,7 +25,7 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
 #: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
 #: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
-RESULT_SCHEMA_VERSION = "0.7.0"
+RESULT_SCHEMA_VERSION = "0.7.1"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -112,7 +113,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
