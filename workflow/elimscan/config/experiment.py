@@ -70,8 +70,11 @@ class ExperimentConfig(Frozen):
             return self.major
         if self.e2_percent is not None and self.e2_percent < 50:
             return SUBSTITUTION_PRODUCT
+        # the largest share names the major alkene only when no unlisted alkene can beat it: above half, or the
+        # listed shares are the whole (100 % within rounding) with no tie at the top
         top = sorted(self.alkene_shares.values(), reverse=True)
-        if top and (len(top) == 1 or top[0] > top[1]):  # a tie at the top names no major
+        whole = sum(top) >= 100 - SHARE_SUM_SLACK_PERCENT
+        if top and (top[0] > 50 or (whole and (len(top) == 1 or top[0] > top[1]))):
             return max(self.alkene_shares, key=self.alkene_shares.get)
         return None
 
