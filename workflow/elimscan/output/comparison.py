@@ -132,9 +132,25 @@ def score_line(comparison: SubstrateComparison) -> str | None:
     return text + "."
 
 
+def _brief(rows: list[Row], comparison: SubstrateComparison) -> tuple[list[Row], list[str]]:
+    """Return the rows with long cells (scores' reasons, sources) shortened, and those texts as lines below."""
+    notes, kept = [], []
+    for row in rows:
+        if row.key == "source":
+            notes += [f"  source ({c.base}): {cell.text}" for c, cell in zip(comparison.columns, row.cells)
+                      if c.experiment is not None]
+            continue
+        if row.key == "score":
+            notes += [f"  why ({c.base}): {'; '.join(c.score.reasons)}" for c in comparison.columns
+                      if c.score is not None and c.score.reasons]
+            row = Row(row.key, row.label, tuple(Cell(cell.text.split(":")[0], cell.kind) for cell in row.cells))
+        kept.append(row)
+    return kept, notes
+
+
 def comparison_text(comparison: SubstrateComparison) -> list[str]:
-    """Return the terminal lines of one substrate's comparison (ASCII symbols, nothing cut)."""
-    rows = header_rows(comparison) + comparison_rows(comparison, unicode=False)
+    """Return the terminal lines of one substrate's comparison (ASCII symbols, nothing cut: long texts go below)."""
+    rows, notes = _brief(header_rows(comparison) + comparison_rows(comparison, unicode=False), comparison)
     label_width = max(len(r.label) for r in rows)
     widths = [max(len(r.cells[k].text) for r in rows) for k in range(len(comparison.columns))]
     lines = [f"compared: {comparison.substrate} ({len(comparison.columns)} jobs; shares are % of the alkenes, "
@@ -147,4 +163,4 @@ def comparison_text(comparison: SubstrateComparison) -> list[str]:
     score = score_line(comparison)
     if score:
         lines.append(f"  {score}")
-    return lines
+    return lines + notes
