@@ -1,8 +1,8 @@
 """The words of a job's headline, for the terminal summary and the report (plain text; the HTML escapes it).
 
-``analysis.headline.job_headline`` gives the numbers; here they become four sentences: the main channel (E2
-against SN2), the alkene mix with its ranges, the verdict in three states with why and the gap ΔΔE‡ or ΔΔG‡
-with the ratio it implies, and what decided the rule's major alkene. ``unicode=False`` writes dE, ddG and '-'
+``analysis.headline.job_headline`` gives the numbers; here they become sentences: the main channel (E2 against
+SN2), the alkene mix with its ranges, the verdict in three states with why, the gap ΔΔE‡ or ΔΔG‡ with the ratio
+it implies, what decided the rule's major alkene, and the paths left out for not reaching their products. ``unicode=False`` writes dE, ddG and '-'
 for the terminal (as the rest of the summary does); ``name`` turns a product SMILES into what is shown.
 """
 
@@ -20,8 +20,8 @@ RATIO_SHOWN_UP_TO = 1000.0
 
 
 def _symbols(unicode: bool) -> dict[str, str]:
-    return ({"dd_e": "\u0394\u0394E\u2021", "dd_g": "\u0394\u0394G\u2021", "to": "\u2013", "dash": "\u2014"} if unicode
-            else {"dd_e": "ddE", "dd_g": "ddG", "to": "-", "dash": "-"})
+    return ({"dd_e": "\u0394\u0394E\u2021", "dd_g": "\u0394\u0394G\u2021", "to": "\u2013"} if unicode
+            else {"dd_e": "ddE", "dd_g": "ddG", "to": "-"})
 
 
 def _percent(fraction: float) -> str:

@@ -178,7 +178,7 @@ def summary_table(result: RunResult) -> str:
         lines.extend(base_model_table(group))
     for comparison in run_comparisons(result):
         lines.append("")
-        lines.extend(comparison_text(comparison))
+        lines.extend(printable(line) for line in comparison_text(comparison))  # sources are user-given text
     s = result.summary
     lines.append(f"\n{s.n_jobs_ok}/{s.n_jobs} jobs ok, {s.n_jobs_failed} failed")
     lines.extend(trouble_lines(s.trouble))
