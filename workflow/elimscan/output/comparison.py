@@ -44,7 +44,7 @@ def header_rows(comparison: SubstrateComparison) -> list[Row]:
     """Return the heading rows: base, base model and solvent of each job."""
     cols = comparison.columns
     return [Row("base", "base", tuple(Cell(c.base) for c in cols)),
-            Row("model", "base model", tuple(Cell(c.base_model or "bare") for c in cols)),
+            Row("model", "base model", tuple(Cell(c.base_model or "-") for c in cols)),
             Row("solvent", "solvent", tuple(Cell(c.solvent) for c in cols))]
 
 
@@ -68,8 +68,10 @@ def comparison_rows(comparison: SubstrateComparison, unicode: bool = True) -> li
     gaps = []
     for c in cols:
         h = c.headline
-        if h.gap_kcal_mol is None:
-            gaps.append(Cell("-"))
+        if not h.ok:
+            gaps.append(Cell("job failed"))
+        elif h.gap_kcal_mol is None:
+            gaps.append(Cell("one alkene" if len(h.alkenes) == 1 else "-"))
         else:
             ratio = f", {ratio_text(h.implied_ratio)}" if h.implied_ratio is not None else ""
             gaps.append(Cell(f"{gap_symbol(h, unicode)} {h.gap_kcal_mol:.2f}{ratio}"))
@@ -77,7 +79,9 @@ def comparison_rows(comparison: SubstrateComparison, unicode: bool = True) -> li
     splits = []
     for c in cols:
         ch = c.headline.channel
-        if ch is None:
+        if not c.headline.ok:
+            splits.append(Cell("job failed"))
+        elif ch is None:
             splits.append(Cell("not computed"))
         elif ch.main is None:
             splits.append(Cell(f"not decided ({ch.why_none})"))
