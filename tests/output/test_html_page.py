@@ -79,16 +79,18 @@ def test_html_says_whether_barriers_were_computed():
                    "implicit solvent", "typically too low", "negative relative to the separated reactants",
                    "Read only relative values", "\u00b11 kcal/mol"):
         assert phrase in words, phrase
-    # the same run without paths: the rule's calls alone, said once per job in its verdict box and once in its foot
+    # the same run without paths: the rule's calls alone, said once per job in its headline and once in its foot
     stripped = strip_barriers(doc)
     blanks = {k: v for k, v in blank_plots(stripped).items() if not k.endswith("-paths")}  # a path plot would be drawn
     page = parse(render_report(RunResult.model_validate(stripped), blanks))
     words = " ".join(" ".join(page.text).split())
     assert BARRIERS_ABSENT in words and "T = 298.15 K" not in words
-    assert words.count(NO_BARRIERS_JOB) == 2 * len(stripped["jobs"])
+    assert words.count(NO_BARRIERS_JOB) == len(stripped["jobs"])
+    assert words.count("UNDECIDED No paths were computed, the rule's call stands alone") == len(stripped["jobs"])
     for section in page.sections:
         assert elements(section, "td", "barrier") == [] and elements(section, "td", "share") == []
-        assert [v["attrs"]["data-agreement"] for v in elements(section, "div", "verdict")] == ["no verdict"]
+        assert [(v["attrs"]["data-state"], v["attrs"]["data-why-undecided"])
+                for v in elements(section, "div", "verdict")] == [("undecided", "no paths computed")]
         assert section["svg"] == 3  # substrate, scans, products: no path plot drawn (and no trajectories given)
 
 
@@ -160,13 +162,18 @@ def test_report_renders_in_headless_chromium(tmp_path, built):
         sizes = driver.execute_script("return Array.from(document.querySelectorAll('section.job svg'), "
                                       "s => s.getBoundingClientRect().width);")
         assert len(sizes) == sum(4 + 2 * len(j["beta_hydrogens"]) for j in doc["jobs"]) and min(sizes) > 50
-        # the verdict box is laid out first in each section, with the JSON's word; unverified saddles carry their note
+        # the headline is laid out first in each section, in the JSON's state (a call within the method's uncertainty
+        # is undecided, its badge grey); unverified saddles carry their note
         boxes = driver.execute_script(
             "return Array.from(document.querySelectorAll('section.job'), s => { var b = s.querySelector('div.verdict');"
             " var r = b.getBoundingClientRect(); var t = s.querySelector('table.beta').getBoundingClientRect();"
-            " return [b.dataset.agreement, r.height > 20 && r.top < t.top]; });")
-        assert boxes == [[{True: "AGREE", False: "DISAGREE", None: "no verdict"}[j["verdict"]["agreement"]], True]
-                         for j in doc["jobs"]]
+            " var c = getComputedStyle(b.querySelector('.badge')).backgroundColor;"
+            " return [b.dataset.state, r.height > 20 && r.top < t.top, c]; });")
+        states = ["undecided" if j["verdict"]["within_method_uncertainty"] else "agree" if j["verdict"]["agreement"]
+                  else "disagree" for j in doc["jobs"]]
+        assert [b[:2] for b in boxes] == [[state, True] for state in states]
+        grey = {"rgb(107, 107, 107)"}
+        assert all((b[2] in grey) == (b[0] == "undecided") for b in boxes), boxes
         titles = driver.execute_script("return Array.from(document.querySelectorAll('td.saddle-unverified'), c => c.title);")
         assert titles == [a["saddle_note"] for j in doc["jobs"] for _, _, a in computed(j) if not a["saddle_verified"]]
         # nothing fetched but data: URIs
@@ -189,5 +196,19 @@ def test_report_renders_in_headless_chromium(tmp_path, built):
         assert pdf.startswith(b"%PDF") and len(re.findall(rb"/Type\s*/Page\b(?!s)", pdf)) >= 1 + len(doc["jobs"])
         errors = [e for e in driver.get_log("browser") if e.get("level") == "SEVERE"]
         assert errors == []
+        # a run of one substrate with two bases: the two stand side by side above the job sections, one column
+        # per base, each linking to its section, with the headline's state in the verdict row
+        other = tmp_path / "two-bases.html"
+        other.write_bytes(built["halobutane"]["report.html"])
+        driver.get(other.as_uri())
+        compared = driver.execute_script(
+            "var c = document.getElementById('compared'); var j = document.querySelector('section.job');"
+            " var t = c.querySelector('table.compare');"
+            " return [c.getBoundingClientRect().bottom < j.getBoundingClientRect().top,"
+            " Array.from(t.rows[0].cells, x => x.textContent).slice(1),"
+            " Array.from(t.querySelectorAll('a'), a => !!document.getElementById(a.hash.slice(1))),"
+            " Array.from(t.querySelectorAll('tr[data-row=verdict] td'), x => x.className)];")
+        two = raw("halobutane")["jobs"]
+        assert compared == [True, [j["base"] for j in two], [True, True], ["state-undecided", "state-undecided"]]
     finally:
         driver.quit()

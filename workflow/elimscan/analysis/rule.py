@@ -20,10 +20,14 @@ from rdkit import Chem
 from elimscan.config import RuleConfig
 from elimscan.geometry import classify_dihedral, kabsch_rmsd
 from elimscan.chem.alkenes import Alkene
+from elimscan.analysis.rulebasis import Candidate, criteria_reason, deciding_criteria, rank_key
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K, KCAL_MOL_PER_HARTREE
 
 #: substitution degrees in increasing order (carbon substituents on the two alkene carbons)
 DEGREES = ("unsubstituted", "mono", "di", "tri", "tetra")
+#: the method's uncertainty on a barrier (kcal/mol): best barriers of two products closer than this are a close
+#: call, and the share ranges move every barrier by this much (common practice for GFN2-xTB barrier differences)
+METHOD_UNCERTAINTY_KCAL_MOL = 1.0
 
 
 @dataclass(frozen=True)
@@ -182,14 +186,10 @@ def rule_verdict(classes: Sequence[ClassFacts], rule: RuleConfig, bulky_base: bo
                              f"global minimum: slow E2 through the cheapest anti geometry ({cheapest:.1f} kcal/mol)")
     major, major_reason = None, ""
     if anti_reach:
-        def rank(smiles: str) -> tuple:
-            degree = DEGREES.index(all_products[smiles][0])
-            penalty = min(f.anti.penalty_kcal_mol for f in anti_reach[smiles])
-            return ((-degree if shift else degree), is_trans(smiles), -penalty)
-
-        major = max(anti_reach, key=rank)
-        major_reason = (f"Hofmann: least substituted anti-reachable alkene ({shift_reason})" if shift
-                        else "Zaitsev: most substituted anti-reachable alkene (trans before cis)")
+        candidates = [Candidate(smiles, DEGREES.index(all_products[smiles][0]), is_trans(smiles),
+                                min(f.anti.penalty_kcal_mol for f in anti_reach[smiles])) for smiles in anti_reach]
+        major = max(candidates, key=lambda c: rank_key(c, shift)).smiles
+        major_reason = criteria_reason(deciding_criteria(major, candidates, len(all_products), shift), shift_reason)
         reasoning.append(f"major {major}: {major_reason}")
     else:
         reasoning.append("no beta hydrogen reaches an anti-periplanar geometry below the scan cap: the rule predicts no E2")
@@ -268,7 +268,8 @@ def product_fractions(paths: Sequence[PathBarrier], temperature_K: float,
     return {smiles: w / total for smiles, w in weights.items()}
 
 
-def fraction_ranges(paths: Sequence[PathBarrier], temperature_K: float, delta_kcal_mol: float = 1.0
+def fraction_ranges(paths: Sequence[PathBarrier], temperature_K: float,
+                    delta_kcal_mol: float = METHOD_UNCERTAINTY_KCAL_MOL
                     ) -> dict[str, tuple[float, float]]:
     """Return each product's (lowest, highest) fraction when every barrier may move by +-delta (kcal/mol)."""
     ranges = {}
@@ -281,7 +282,7 @@ def fraction_ranges(paths: Sequence[PathBarrier], temperature_K: float, delta_kc
 
 
 def compare_verdicts(rule_major: str | None, fractions: dict[str, float], paths: Sequence[PathBarrier],
-                     close_kcal_mol: float = 1.0) -> ComputedVerdict:
+                     close_kcal_mol: float = METHOD_UNCERTAINTY_KCAL_MOL) -> ComputedVerdict:
     """Return the computed major product beside the rule's, the agreement flag and a one-line reason.
 
     Different products whose best barriers lie within ``close_kcal_mol`` are a close call: within the

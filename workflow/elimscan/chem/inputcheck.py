@@ -18,6 +18,7 @@ from elimscan.chem.bases import find_basic_atom
 from elimscan.errors import StructureError
 from elimscan.chem.perception import check_substrate_topology, perceive_substrate
 from elimscan.chem.structures import check_charge, parse_smiles
+from elimscan.config.experiment import SUBSTITUTION_PRODUCT, ExperimentConfig
 from elimscan.config.molecules import CLOSED_SHELL_MULTIPLICITY, OVERNIGHT_HEAVY_ATOMS
 
 
@@ -150,3 +151,38 @@ def gas_phase_ion_problem(solvent_model: str, charges: dict[str, int]) -> str | 
     return (f"gas phase requested, but free ions appear: {', '.join(ions)}. A free ion in the gas phase binds "
             "anything it meets (complexation energies near -20 kcal/mol) and E2 saddles vanish; use an implicit "
             "solvent ({model: alpb, name: ...})")
+
+
+def alkene_key(smiles: str) -> str | None:
+    """Return an alkene's canonical SMILES with tetrahedral stereo removed and E/Z kept, or None when it does not parse."""
+    mol = Chem.MolFromSmiles(smiles)
+    if mol is None:
+        return None
+    for atom in mol.GetAtoms():
+        atom.SetChiralTag(Chem.ChiralType.CHI_UNSPECIFIED)
+    Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
+    return Chem.MolToSmiles(mol)
+
+
+def experiment_alkene_problem(substrate_smiles: str, experiment: ExperimentConfig, seed: int) -> tuple[str, str] | None:
+    """Return (key under the experiment, problem) for the first alkene SMILES of an observation that does not parse
+    or is no alkene the substrate can give (E and Z count apart), else None (also when the substrate itself cannot
+    be perceived: that error is its own, reported for its SMILES)."""
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            substrate = perceive_substrate(substrate_smiles, seed=seed)
+    except StructureError:
+        return None
+    possible = {alkene_key(p.smiles): p.smiles for c in substrate.beta_classes
+                for p in (c.anti_product, c.syn_product) if p.possible}
+    named = [("major", experiment.major)] if experiment.major not in (None, SUBSTITUTION_PRODUCT) else []
+    named += [(f"alkene_shares.{smiles}", smiles) for smiles in experiment.alkene_shares]
+    for key, smiles in named:
+        found = alkene_key(smiles)
+        if found is None:
+            return key, f"'{smiles}' is not a SMILES RDKit can read"
+        if found not in possible:
+            return key, (f"'{smiles}' is no alkene substrate '{substrate_smiles}' can give by E2 (possible: "
+                         f"{', '.join(sorted(possible.values()))}; write E and Z isomers apart)")
+    return None

@@ -272,6 +272,15 @@ def model_problems(config, config_path: str, text: str, geometries: dict[str, tu
                              model.explicit_smiles, config.seed, item.name)
         except StructureError as err:
             problems.append(located_error(StructureError, err, config_path, key, text))
+    from elimscan.chem.inputcheck import experiment_alkene_problem
+    for index, item in enumerate(config.substrates):
+        if f"substrates.{index}.smiles" in reported:
+            continue
+        for base, observed in item.experiment.items():
+            problem = experiment_alkene_problem(item.smiles, observed, config.seed)
+            if problem is not None:
+                problems.append(located_error(ConfigError, problem[1], config_path,
+                                              f"substrates.{index}.experiment.{base}.{problem[0]}", text))
     for index, item in enumerate(config.substrates):
         if item.name not in geometries or f"substrates.{index}.smiles" in reported:
             continue

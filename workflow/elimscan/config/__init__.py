@@ -10,6 +10,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
 - ``paths``: complexes and relaxed E2/SN2 paths (``PathConfig``), saddle refinement and verification (``SaddleConfig``)
 - ``basenames``: base abbreviations a chemist types (KOtBu, NaOEt, LDA, ...): the anion and its cation
   (``named_base``, ``COUNTER_IONS``)
+- ``experiment``: what experiment observed for a substrate x base (``ExperimentConfig``: shares or a major product,
+  with a source), the word ``SUBSTITUTION_PRODUCT`` and the bounds of an observation
 - ``molecules``: substrates, bases with the built-in names (``BASE_LIBRARY``) and base models, pairs, the
   suffixes a substrates file may have
 - ``analysis``: the geometric rule's windows (``RuleConfig``), the energy of the product mix
@@ -26,7 +28,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
   ``key_line`` (the YAML line of a key path) and ``config_to_dict``
 
 Input bounds are named constants of their block: ``MIN_TEMPERATURE_K``/``MAX_TEMPERATURE_K`` (method),
-``SEED_LIMIT`` (run), ``CLOSED_SHELL_MULTIPLICITY``, ``MAX_SMILES_CHARS``, ``MAX_HEAVY_ATOMS`` and the warning
+``SEED_LIMIT`` (run), ``SHARE_SUM_SLACK_PERCENT``, ``MAX_OBSERVED_ALKENES``, ``MIN_SOURCE_CHARS`` (experiment),
+``CLOSED_SHELL_MULTIPLICITY``, ``MAX_SMILES_CHARS``, ``MAX_HEAVY_ATOMS``, ``MAX_EXPLICIT_MOLECULES`` and the warning
 level ``OVERNIGHT_HEAVY_ATOMS`` (molecules), ``MAX_CONFORMER_COUNT`` (conformers), ``MAX_PATH_COUNT`` and
 ``MAX_GRADIENT_BUDGET_PER_ATOM`` (paths).
 """
@@ -37,12 +40,14 @@ from elimscan.config.analysis import SERIES_MIN_MEMBERS, AnalysisConfig, RuleCon
 from elimscan.config.conformers import MAX_CONFORMER_COUNT, ConformerConfig, ScanConfig
 from elimscan.config.dft import DftConfig
 from elimscan.config.executor import DEFAULT_JOB_TIME_LIMIT_SECONDS, ExecutorConfig, default_workers
+from elimscan.config.experiment import (MAX_OBSERVED_ALKENES, MIN_SOURCE_CHARS, SHARE_SUM_SLACK_PERCENT,
+                                        SUBSTITUTION_PRODUCT, ExperimentConfig)
 from elimscan.config.frozen import Frozen
 from elimscan.config.loading import config_problems, config_to_dict, key_line, parse_config
 from elimscan.config.method import (MAX_ELECTRONIC_TEMPERATURE_K, MAX_TEMPERATURE_K, MIN_TEMPERATURE_K, MethodConfig,
                                     OptimizerConfig, SolventConfig, ThreadsConfig)
-from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, MAX_HEAVY_ATOMS, MAX_SMILES_CHARS,
-                                       OVERNIGHT_HEAVY_ATOMS, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig,
+from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, MAX_EXPLICIT_MOLECULES,
+                                       MAX_HEAVY_ATOMS, MAX_SMILES_CHARS, OVERNIGHT_HEAVY_ATOMS, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig,
                                        PairConfig, SubstrateConfig)
 from elimscan.config.names import MAX_NAME_BYTES, clashing_names, safe_name
 from elimscan.config.paths import MAX_GRADIENT_BUDGET_PER_ATOM, MAX_PATH_COUNT, PathConfig, SaddleConfig
@@ -51,13 +56,13 @@ from elimscan.config.yamlreader import MAX_CONFIG_BYTES, MAX_CONFIG_DEPTH
 
 __all__ = [
     "AnalysisConfig", "BASE_LIBRARY", "BaseConfig", "BaseModelConfig", "CLOSED_SHELL_MULTIPLICITY", "ConformerConfig",
-    "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "Frozen", "MAX_CONFIG_BYTES",
-    "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K", "MAX_GRADIENT_BUDGET_PER_ATOM",
-    "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES",
-    "MAX_PATH_COUNT", "MAX_SMILES_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
-    "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig",
-    "SEED_LIMIT", "SERIES_MIN_MEMBERS", "SUBSTRATE_FILE_SUFFIXES", "SaddleConfig", "ScanConfig", "SeriesConfig",
-    "SeriesMemberConfig", "SolventConfig", "SubstrateConfig", "ThreadsConfig", "clashing_names", "config_problems",
-    "config_to_dict",
+    "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "ExperimentConfig", "Frozen",
+    "MAX_CONFIG_BYTES", "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K",
+    "MAX_EXPLICIT_MOLECULES", "MAX_GRADIENT_BUDGET_PER_ATOM", "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES", "MAX_OBSERVED_ALKENES", "MAX_PATH_COUNT",
+    "MAX_SMILES_CHARS", "MIN_SOURCE_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
+    "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig", "SEED_LIMIT",
+    "SERIES_MIN_MEMBERS", "SHARE_SUM_SLACK_PERCENT", "SUBSTITUTION_PRODUCT", "SUBSTRATE_FILE_SUFFIXES",
+    "SaddleConfig", "ScanConfig", "SeriesConfig", "SeriesMemberConfig", "SolventConfig", "SubstrateConfig",
+    "ThreadsConfig", "clashing_names", "config_problems", "config_to_dict",
     "default_workers", "key_line", "parse_config", "safe_name",
 ]

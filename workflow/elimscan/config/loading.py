@@ -64,13 +64,16 @@ def _key_line(root: yaml.Node | None, loc: tuple[Any, ...]) -> int | None:
 def _model_at(loc: tuple[Any, ...]) -> type[BaseModel] | None:
     """Return the config model class that holds the last key of an error location."""
     model: Any = RunConfig
+    keyed = False  # the previous key was a mapping field (dict[str, Model]): this part is one of its keys
     for part in loc[:-1]:
-        if isinstance(part, int):
+        if isinstance(part, int) or keyed:
+            keyed = False
             continue
         field = model.model_fields.get(part) if isinstance(model, type) and issubclass(model, BaseModel) else None
         if field is None:
             return None
         annotation = field.annotation
+        keyed = getattr(annotation, "__origin__", None) is dict
         candidates = [annotation, *getattr(annotation, "__args__", ())]
         nested = [c for c in candidates for c in (c, *getattr(c, "__args__", ())) if isinstance(c, type) and issubclass(c, BaseModel)]
         if not nested:

@@ -8,6 +8,7 @@ from typing import Any, Literal
 from pydantic import Field, field_validator, model_validator
 
 from elimscan.config.basenames import COUNTER_IONS, abbreviation_list, named_base
+from elimscan.config.experiment import ExperimentConfig
 from elimscan.config.frozen import Frozen
 from elimscan.config.names import name_length_problem
 
@@ -55,6 +56,10 @@ class SubstrateConfig(Frozen):
     #: optional SDF or XYZ file (path relative to the config file) with a 3D structure of this substrate;
     #: it joins the conformer ensemble. The SMILES still fixes connectivity, charge and stereochemistry.
     geometry: str | None = None
+
+    #: what experiment observed with each base (base name -> shares or a major product, with a source); shown
+    #: beside the computed values and scored in the report, never used by the calculation
+    experiment: dict[str, ExperimentConfig] = Field(default_factory=dict)
 
     _multiplicity = field_validator("multiplicity", mode="before")(closed_shell_multiplicity)
     _name_length = field_validator("name", mode="after")(file_name_length)

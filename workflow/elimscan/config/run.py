@@ -10,6 +10,7 @@ from elimscan.config.analysis import AnalysisConfig, RuleConfig, SeriesConfig
 from elimscan.config.conformers import ConformerConfig, ScanConfig
 from elimscan.config.dft import DftConfig
 from elimscan.config.executor import ExecutorConfig
+from elimscan.config.experiment import experiment_problem
 from elimscan.config.frozen import Frozen
 from elimscan.config.method import MethodConfig, OptimizerConfig, SolventConfig, ThreadsConfig
 from elimscan.config.molecules import SUBSTRATE_FILE_SUFFIXES, BaseConfig, PairConfig, SubstrateConfig
@@ -116,6 +117,14 @@ class RunConfig(Frozen):
                 raise ValueError(f"pair names unknown substrate '{pair.substrate}' (known: {', '.join(sorted(substrates))})")
             if pair.base not in bases:
                 raise ValueError(f"pair names unknown base '{pair.base}' (known: {', '.join(sorted(bases))})")
+        return self
+
+    @model_validator(mode="after")
+    def _experiments_known(self) -> "RunConfig":
+        pairs = {(p.substrate, p.base) for p in self.pairs} if self.pairs else None
+        problem = experiment_problem(self.substrates, {b.name for b in self.bases}, pairs)
+        if problem is not None:
+            raise problem
         return self
 
     @field_validator("series")

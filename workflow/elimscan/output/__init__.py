@@ -2,6 +2,10 @@
 
 Each module imports only those above it in this list:
 
+- ``headline``: the words of a job's headline (main channel, alkene mix, the verdict in three states, what decided
+  the rule), for the terminal and the report
+- ``comparison``: the rows and cells of a substrate's jobs side by side (bases, solvents, base models) with the
+  observations of the config and their scores
 - ``text``: terminal text of results; ``printable`` escapes control characters of user-given names
 - ``logsetup``: the command line's log handlers (names escaped on the terminal, a log file that survives a full disk)
 - ``tables``: ``summary.csv`` and ``series.csv``

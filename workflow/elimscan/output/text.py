@@ -5,6 +5,10 @@ from __future__ import annotations
 import unicodedata
 from collections.abc import Sequence
 
+from elimscan.analysis.comparison import SubstrateComparison, compare_substrates
+from elimscan.analysis.headline import job_headline
+from elimscan.output.comparison import comparison_text
+from elimscan.output.headline import headline_lines
 from elimscan.results.documents import RunResult, SeriesRecord
 from elimscan.results.records import JobRecord
 
@@ -51,6 +55,8 @@ def r_squared_text(r_squared: float | None) -> str:
 def job_table(job: JobRecord) -> list[str]:
     """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls."""
     lines = [f"job {job.job_id}: {job.status}"]
+    if job.status == "ok" and job.rule is not None:
+        lines.extend(headline_lines(job_headline(job)))
     if job.status != "ok":
         if job.error is not None:
             lines.append(f"    {job.error.error_type}: {job.error.error_message}")
@@ -73,8 +79,7 @@ def job_table(job: JobRecord) -> list[str]:
         spread = "" if p.fraction_range is None else f"{p.fraction_range[0]:.0%}-{p.fraction_range[1]:.0%}"
         lines.append(f"  {p.rule_call:<10}{p.smiles[:27]:<28}{p.substitution:<6}{fraction:>9}  {spread:<13} {p.reason}")
     if job.verdict is not None:
-        flag = {True: "AGREE", False: "DISAGREE", None: "n/a"}[job.verdict.agreement]
-        lines.append(f"  verdict: rule {job.verdict.rule_major} | computed {job.verdict.computed_major} | {flag}: {job.verdict.reason}")
+        lines.append(f"  barriers against the rule: {job.verdict.reason}")
     return lines
 
 
@@ -140,6 +145,18 @@ def base_model_table(group: Sequence[JobRecord]) -> list[str]:
     return lines
 
 
+def solvent_text(result: RunResult, job: JobRecord) -> str:
+    """Return a job's implicit solvent as shown: 'alpb ethanol', or 'gas phase'."""
+    solvent = job.solvent or result.config.method.solvent
+    return "gas phase" if solvent.model == "none" else f"{solvent.model} {solvent.name}"
+
+
+def run_comparisons(result: RunResult) -> tuple[SubstrateComparison, ...]:
+    """Return the comparison of each substrate of a run with more than one job, with the config's observations."""
+    experiments = {s.name: s.experiment for s in result.config.substrates if s.experiment}
+    return compare_substrates(result.jobs, experiments, lambda job: solvent_text(result, job))
+
+
 def summary_table(result: RunResult) -> str:
     """Return a plain-text summary of the run: molecules (energies in hartree), then each job's table."""
     p = result.provenance
@@ -159,6 +176,9 @@ def summary_table(result: RunResult) -> str:
     for group in base_model_groups(result.jobs):
         lines.append("")
         lines.extend(base_model_table(group))
+    for comparison in run_comparisons(result):
+        lines.append("")
+        lines.extend(printable(line) for line in comparison_text(comparison))  # sources are user-given text
     s = result.summary
     lines.append(f"\n{s.n_jobs_ok}/{s.n_jobs} jobs ok, {s.n_jobs_failed} failed")
     lines.extend(trouble_lines(s.trouble))

@@ -16,7 +16,8 @@ from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Recor
 
 RESULT_SCHEMA_NAME = "elimscan.result"
 #: 0.7.1 added optional fields only: the path records' reaches_products (a path shown not to reach its products)
-#: and budget_spent_in (a path stopped by its gradient budget), and the config key paths.gradient_budget_per_atom.
+#: and budget_spent_in (a path stopped by its gradient budget), and the config keys paths.gradient_budget_per_atom
+#: and substrates[].experiment (observations per base, shown and scored in the report).
 #: 0.7.0 added optional fields only: config keys method.engine_factory and paths.saddle.path_point_starts, and
 #: provenance.scipy_version, sella_version and pyscf_version (every library of the job key); run's documents now
 #: carry each job's solvent and key as batch's do.

@@ -10,8 +10,9 @@ Each module imports only those above it in this list (and ``plots``, ``tables``,
 - ``cells``: escaping, numbers as shown, table cells, inline SVG figures, section anchors
 - ``depictions``: RDKit pictures: the substrate (SVG) with its classes labelled, each alkene (PNG)
 - ``jobtables``: a job's tables: beta-H classes with barriers and notes, alkenes, isotope effects
-- ``boxes``: a job's verdict box and substitution (SN2) box
+- ``boxes``: a job's headline box (channel, alkene mix, verdict in three states) and substitution (SN2) box
 - ``jobsection``: one job's section, with the words of each kind of job plot
-- ``runsections``: the sections over all jobs: job index, substituent series, base models compared
+- ``runsections``: the sections over all jobs: job index, each substrate across bases, solvents and base models
+  (with observations and scores), substituent series, base models compared
 - ``page``: the whole page
 """

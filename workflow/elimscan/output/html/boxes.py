@@ -1,72 +1,44 @@
-"""The boxes of a job section: the verdict (rule against barriers) and substitution (SN2) beside elimination."""
+"""The boxes of a job section: the headline (channel, alkene mix, verdict in three states) and substitution (SN2)."""
 
 from __future__ import annotations
 
+from elimscan.analysis.headline import job_headline
+from elimscan.output.headline import STATE_WORDS, headline_sentences, verdict_parts
 from elimscan.output.html.cells import ABSENT, barrier_text, esc, percent_text
-from elimscan.output.html.words import ENERGY_WORDS, NO_BARRIERS_JOB
-from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL, signed
-from elimscan.output.plots.paths import has_barriers
+from elimscan.output.html.words import ENERGY_WORDS
+from elimscan.output.plots.figures import signed
 from elimscan.results.records import JobRecord, SubstitutionRecord
 
 
 def verdict_word(job: JobRecord) -> str:
-    """Return the verdict as shown: 'AGREE', 'DISAGREE' or 'no verdict' (no computed major, or no rule major)."""
+    """Return the verdict as shown: 'AGREE', 'DISAGREE' or 'UNDECIDED' (three states; see analysis.headline)."""
+    return STATE_WORDS[job_headline(job).state]
+
+
+def undecided_why(job: JobRecord) -> str:
+    """Return why a job's verdict is undecided (analysis.headline.UNDECIDED_WHY), or '' when it is decided."""
+    return job_headline(job).why_undecided or ""
+
+
+def headline_box(job: JobRecord) -> str:
+    """Return the headline of a job: main channel, alkene mix, the verdict in three states with why, the gap and
+    the ratio it implies, and what decided the rule (undecided is grey, never red or green)."""
+    h = job_headline(job)
+    sentences = headline_sentences(h)
+    word, qualifier, body = verdict_parts(h)
     v = job.verdict
-    if v is None or v.computed_major is None or v.agreement is None:
-        return "no verdict"
-    return "AGREE" if v.agreement else "DISAGREE"
-
-
-def within_uncertainty(job: JobRecord) -> bool:
-    """Return True when the job has a computed major alkene and its verdict is within method uncertainty."""
-    return job.verdict is not None and job.verdict.computed_major is not None and job.verdict.within_method_uncertainty
-
-
-def _product_share(job: JobRecord, smiles: str | None) -> str:
-    """Return ' (38.4 %, range 2.1–94.8 %)' for a product of the job, or '' when it has no computed share."""
-    product = next((p for p in job.products if p.smiles == smiles), None)
-    if product is None or product.fraction is None:
-        return ""
-    if product.fraction_range is None:
-        return f" ({percent_text(product.fraction)})"
-    low, high = product.fraction_range
-    return f" ({percent_text(product.fraction)}, range {100 * low:.1f}\u2013{100 * high:.1f} %)"
-
-
-def verdict_box(job: JobRecord) -> str:
-    """Return the verdict box of a job: the rule's and the computed major alkene, their agreement and why."""
-    v = job.verdict
-    word = verdict_word(job)
-    kind = {"AGREE": "agree", "DISAGREE": "disagree"}.get(word, "none")
-    rule_major = v.rule_major if v is not None else job.rule.rule_major if job.rule is not None else None
-    computed = v.computed_major if v is not None else None
-    uncertain = within_uncertainty(job)
-    if v is None or not has_barriers(job):
-        words, reason = "The geometric rule\u2019s call stands alone", NO_BARRIERS_JOB
-    elif computed is None:
-        words, reason = "No computed major alkene", v.reason
-    elif v.agreement is None:
-        words, reason = "The rule names no major alkene; the barriers pick one", v.reason
-    elif v.agreement:
-        words, reason = "The geometric rule and the computed barriers pick the same major alkene", v.reason
-    else:
-        words, reason = "The computed barriers favour a different major alkene than the geometric rule", v.reason
-    head = f'<span class="badge">{esc(word)}</span>'
-    if uncertain:
-        head += ' <span class="uncertain">within method uncertainty</span>'
-    facts = (f'<dt>rule\u2019s major alkene</dt><dd class="smiles rule-major">{esc(rule_major or "none")}</dd>'
-             f'<dt>computed major alkene</dt><dd class="computed-major"><span class="smiles">{esc(computed or "none")}</span>'
-             f"{esc(_product_share(job, computed))}</dd>")
-    parts = [f'<div class="verdict verdict-{kind}" data-rule-major="{esc(rule_major or "")}" '
-             f'data-computed-major="{esc(computed or "")}" data-agreement="{esc(word)}" '
-             f'data-within-uncertainty="{"yes" if uncertain else "no"}">',
-             f'<p class="verdict-head">{head} {esc(words)}.</p>',
-             f'<dl class="facts">{facts}</dl>',
-             f'<p class="verdict-reason"><strong>Why:</strong> {esc(reason)}.</p>']
-    if uncertain:
-        parts.append(f'<p class="uncertain-note"><strong>Within method uncertainty:</strong> the best barriers to different '
-                     f"alkenes lie within {BARRIER_SHIFT_KCAL_MOL:g} kcal/mol of each other, inside GFN2-xTB\u2019s error; "
-                     "the computation does not decide between them.</p>")
+    computed = h.computed_major or ""
+    parts = [f'<div class="verdict headline verdict-{esc(h.state)}" data-state="{esc(h.state)}" '
+             f'data-why-undecided="{esc(h.why_undecided or "")}" data-main-channel="{esc(h.channel.main or "") if h.channel else ""}" '
+             f'data-rule-major="{esc(h.rule_major or "")}" data-computed-major="{esc(computed)}">']
+    for key, text in sentences.items():
+        if key == "verdict":
+            lead = f"{qualifier[0].upper()}{qualifier[1:]}: {body}" if qualifier else f"{body[0].upper()}{body[1:]}"
+            parts.append(f'<p class="verdict-head"><span class="badge">{esc(word)}</span> {esc(lead)}.</p>')
+        else:
+            parts.append(f'<p class="headline-{esc(key.replace("_", "-"))}">{esc(text)}</p>')
+    if h.ok and v is not None and v.computed_major is not None:
+        parts.append(f'<p class="verdict-reason"><strong>Barriers against the rule:</strong> {esc(v.reason)}.</p>')
     return "".join(parts) + "</div>"
 
 

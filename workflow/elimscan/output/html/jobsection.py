@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping
 
-from elimscan.output.html.boxes import substitution_box, verdict_box
+from elimscan.output.html.boxes import headline_box, substitution_box
 from elimscan.output.html.cells import anchor, esc, figure_block, inline_svg
 from elimscan.output.html.depictions import substrate_svg
 from elimscan.output.html.jobtables import beta_table, isotope_table, product_table
@@ -130,7 +130,7 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
                       "(\u201c-\u201d: never reached below the cap; ")
                    + "blue: anti accessible, orange: syn only, red: blocked under the rule).</figcaption></figure>")
     body = [
-        verdict_box(job),
+        headline_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
         "<h3>Beta hydrogens</h3>", beta_table(job),
         '<p class="note">Cost: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '

@@ -6,7 +6,7 @@ from collections.abc import Mapping
 
 from elimscan.output.html.cells import esc
 from elimscan.output.html.jobsection import job_section
-from elimscan.output.html.runsections import base_model_section, index_table, series_section
+from elimscan.output.html.runsections import base_model_section, comparison_section, index_table, series_section
 from elimscan.output.html.style import CSP, SCRIPT, STYLE
 from elimscan.output.html.words import CAUTION, MEANING, barrier_points, run_method_line
 from elimscan.output.plots.figures import figure_svg
@@ -46,6 +46,7 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
                      "scan point status); the other classes and jobs went on.</p>")
     if len(result.jobs) > 1:
         parts.append(index_table(result))
+    parts.append(comparison_section(result))
     for job in result.jobs:
         own: dict[str, str] = {}
         if not all(plot_name(job.job_id, k) in assets for k in drawn_kinds(job)):

@@ -4,13 +4,14 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from elimscan.output.html.boxes import verdict_word, within_uncertainty
+from elimscan.output.html.boxes import undecided_why, verdict_word
 from elimscan.output.html.cells import ABSENT, anchor, barrier_text, esc, figure_block, percent_text
 from elimscan.output.html.words import SERIES_SENTENCE
 from elimscan.output.plots.figures import figure_svg, signed
 from elimscan.output.plots.series import SERIES_BARRIER_WORDS, rho_text, series_figure, series_plot_name
 from elimscan.output.tables import job_solvent
-from elimscan.output.text import base_model_groups, model_mix, r_squared_text
+from elimscan.output.comparison import comparison_rows, header_rows, score_line
+from elimscan.output.text import base_model_groups, model_mix, r_squared_text, run_comparisons
 from elimscan.results.documents import RunResult, SeriesRecord
 
 
@@ -29,7 +30,7 @@ def index_table(result: RunResult) -> str:
             f"<td>{esc(solvent.name if solvent.model != 'none' else 'gas phase')}</td>"
             f'<td class="status-{esc(job.status)}">{esc(job.status)}</td>'
             f'<td class="smiles">{esc(major)}</td><td class="smiles">{esc(computed)}</td>'
-            f"<td>{esc(word)}{' (within method uncertainty)' if within_uncertainty(job) else ''}</td>"
+            f'<td class="state-{esc(word.lower())}">{esc(word)}{esc(f" ({undecided_why(job)})" if undecided_why(job) else "")}</td>'
             f'<td class="num">{len(job.beta_hydrogens)}</td><td class="num">{blocked}</td></tr>')
     return ('<h2 id="jobs">Jobs</h2>\n<p class="note">Click a column heading to sort.</p>\n'
             '<table class="sortable" id="job-index"><thead><tr><th>job</th><th>substrate</th><th>base</th>'
@@ -96,3 +97,34 @@ def series_section(result: RunResult, assets: Mapping[str, str]) -> str:
     return ('<section class="series-section" id="series"><h2>Substituent series</h2>'
             + "".join(_series_block(s, assets) for s in result.series)
             + f'<p class="note">{esc(SERIES_SENTENCE)} * : relaxed-path maximum, saddle not verified.</p></section>')
+
+
+def comparison_section(result: RunResult) -> str:
+    """Return the report's comparison of each substrate across bases, solvents and base models (one table each,
+    a column per job, observations and scores where the config holds them), or '' when no substrate has one."""
+    blocks = []
+    anchors = {job.job_id: anchor(job) for job in result.jobs}
+    for comparison in run_comparisons(result):
+        heads = header_rows(comparison)
+        thead = ("<tr><th></th>" + "".join(f'<th><a href="#{esc(anchors[c.job_id])}">{esc(c.base)}</a></th>'
+                                          for c in comparison.columns) + "</tr>"
+                 + "".join(f'<tr><th class="row">{esc(row.label)}</th>'
+                           + "".join(f"<th>{esc(cell.text)}</th>" for cell in row.cells) + "</tr>" for row in heads[1:]))
+        body = "".join(
+            f'<tr data-row="{esc(row.key)}"><th class="row{" smiles" if row.key == "alkene" else ""}">{esc(row.label)}</th>'
+            + "".join(f'<td class="{esc(("state-" + cell.kind) if row.key == "verdict" else cell.kind)}">{esc(cell.text)}</td>'
+                      for cell in row.cells) + "</tr>"
+            for row in comparison_rows(comparison))
+        score = score_line(comparison)
+        blocks.append(f'<div class="comparison" data-substrate="{esc(comparison.substrate)}"><h3>{esc(comparison.substrate)}</h3>'
+                      f'<div class="wide"><table class="compare"><thead>{thead}</thead><tbody>{body}</tbody></table></div>'
+                      + (f'<p class="score-line"><strong>{esc(score[0].upper() + score[1:])}</strong></p>' if score else "")
+                      + "</div>")
+    if not blocks:
+        return ""
+    return ('<section id="compared"><h2>Each substrate across bases, solvents and base models</h2>'
+            '<p class="note">One column per job. Alkene rows: the computed share of the alkenes, in brackets the share '
+            "when every barrier moves by \u00b11 kcal/mol, and the observed share where the config gives one (exp.). "
+            "The gap: best barrier of the computed major alkene\u2019s closest rival minus its own, with the ratio it "
+            "implies at the job\u2019s temperature. A score counts undecided as not right; the rule is scored in its own "
+            "row.</p>" + "".join(blocks) + "</section>")

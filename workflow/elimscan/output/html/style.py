@@ -48,14 +48,20 @@ ol.path-notes { font-size: .82rem; color: var(--muted); margin-top: 0; }
 .verdict { border: 2px solid var(--rule); border-radius: 4px; padding: .55rem .9rem; margin: .2rem 0 1rem; }
 .verdict.verdict-agree { border-color: #1e6b3a; background: #eef7f1; }
 .verdict.verdict-disagree { border-color: #a3231b; background: #fbefee; }
-.verdict.verdict-none { border-color: #8c8c8c; background: var(--band); }
+.verdict.verdict-undecided { border-color: #8c8c8c; background: var(--band); }
 .verdict .badge { font-weight: bold; letter-spacing: .06em; padding: .05rem .5rem; border-radius: 3px; color: #fff; }
 .verdict-agree .badge { background: #1e6b3a; }
 .verdict-disagree .badge { background: #a3231b; }
-.verdict-none .badge { background: #6b6b6b; }
-.verdict .uncertain { font-weight: bold; color: #5b2c6f; border: 2px dashed #7b2d8e; padding: .05rem .5rem; margin-left: .5rem;
-                      border-radius: 3px; }
+.verdict-undecided .badge { background: #6b6b6b; }
 .verdict p { margin: .35rem 0; }
+.headline .headline-channel, .headline .headline-mix { font-size: 1.05rem; font-weight: bold; }
+.headline .headline-gap, .headline .headline-rule, .headline .headline-left-out, .headline .headline-channel-note,
+.headline .verdict-reason { font-size: .88rem; }
+td.state-agree { color: #1e6b3a; } td.state-disagree { color: #a3231b; } td.state-undecided { color: var(--muted); }
+table.compare td.score-right { color: #1e6b3a; font-weight: bold; }
+table.compare td.score-wrong { color: #a3231b; font-weight: bold; }
+table.compare td.score-undecided, table.compare td.score-none { color: var(--muted); }
+table.compare th.row { background: none; font-weight: normal; color: var(--muted); }
 .verdict dl.facts { margin: .4rem 0; }
 .sn2 { border: 2px solid #5d6d7e; border-radius: 4px; padding: .55rem .9rem; margin: .4rem 0 1rem; background: var(--band); }
 .sn2-sides { display: flex; flex-wrap: wrap; gap: 1rem; margin-top: .4rem; }

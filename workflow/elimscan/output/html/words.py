@@ -61,8 +61,8 @@ def barrier_meaning(temperatures_K: tuple[float, ...]) -> tuple[str, ...]:
         f"Computed shares (Curtin\u2013Hammett): every path weighs its number of equivalent hydrogens \u00d7 "
         f"exp(\u2212\u0394E\u2021/RT) at T = {temperature}, summed over the paths that give the same alkene. The range is "
         f"the share when every barrier may move by \u00b1{shift} kcal/mol in the least and in the most favourable "
-        f"direction. A verdict is \u201cwithin method uncertainty\u201d when the best barriers to different alkenes lie "
-        f"within {shift} kcal/mol of each other: GFN2-xTB cannot tell them apart.",
+        f"direction. A verdict is undecided (grey, counted as not right) when the best barriers to different alkenes "
+        f"lie within {shift} kcal/mol of each other: GFN2-xTB cannot tell them apart.",
     )
 
 
