@@ -4,7 +4,7 @@ A substrate may carry ``experiment:``, a mapping from base names to an ``Experim
 it beside the computed values and scores the job against it (right / wrong / undecided; undecided counts as
 not right). Only the shape is checked here (numbers, the source, a known base); the SMILES are checked
 against the substrate's possible alkenes before any calculation (``chem.inputcheck.experiment_alkene_problem``,
-called by ``elimscan validate``, ``run`` and ``batch``).
+called by ``elimscan plan``, ``run`` and ``batch``).
 """
 
 from __future__ import annotations
