@@ -90,8 +90,8 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
     else:
         barrier_words = NO_BARRIERS_JOB
     foot = (f'<div class="job-foot"><p><strong>Method:</strong> {esc(method_line(result, job_solvent(result, job)))}.</p>'
-            "<p><strong>What the numbers are:</strong> GFN2-xTB electronic energies in kcal/mol. Anti and syn costs are "
-            "conformational costs relative to this substrate's global minimum, not barriers; "
+            "<p><strong>What the numbers are:</strong> GFN2-xTB electronic energies in kcal/mol. Anti and syn penalties are "
+            "conformational penalties relative to this substrate's global minimum, not barriers; "
             f"{esc(barrier_words)}.</p>"
             f'<p class="caution-line"><strong>Caution:</strong> {esc(CAUTION)}</p></div>\n')
     if job.status != "ok" or job.leaving_group is None or job.base_info is None or job.rule is None:
@@ -103,7 +103,7 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
     depiction = substrate_svg(smiles, job)
     facts = [
         ("substrate SMILES", f'<span class="smiles">{esc(smiles)}</span>'),
-        ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index}, on C\u03b1 {lg.c_alpha_index}"
+        ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index + 1}, on C\u03b1 atom {lg.c_alpha_index + 1}"
          + (f", map number {lg.map_number}" if lg.map_number is not None else "")),
         ("base", f"{esc(job.base)}: {'bulky' if base.bulky else 'not bulky'} ({esc(base.bulky_reason)})"),
         ("conformers kept", str(len(job.conformers))),
@@ -126,17 +126,17 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         picture = (f'<figure class="substrate">{inline_svg(depiction, anchor(job) + "-substrate")}<figcaption>X: leaving group; '
                    + ("\u03b1/\u03b2: the carbons; each class's hydrogen carries its lowest relative barrier \u0394E\u2021 "
                       "(anti or syn) in kcal/mol (\u201c-\u201d: no computed path; " if barriers else
-                      "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti cost in kcal/mol "
+                      "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti penalty in kcal/mol "
                       "(\u201c-\u201d: never reached below the cap; ")
                    + "blue: anti accessible, orange: syn only, red: blocked under the rule).</figcaption></figure>")
     body = [
         verdict_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
         "<h3>Beta hydrogens</h3>", beta_table(job),
-        '<p class="note">Cost: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '
+        '<p class="note">Penalty: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '
         f"{result.config.rule.anti_min_deg:g}\u00b0) or syn-periplanar (|\u03c6| \u2264 {result.config.rule.syn_max_deg:g}\u00b0) "
         "to the leaving group, above the global minimum. Class C3-H10 is the hydrogen H10 on C\u03b2 atom 3 and its "
-        "equivalents; atom indices are 0-based as in results.json."
+        "equivalents; atoms are numbered from 1 as in the drawing (the *_index0 fields of results.json count from 0)."
         + (" \u0394E\u2021: electronic barrier in kcal/mol, rel. above the job's lowest, abs. above the substrate's global "
            "minimum + free base; \u03bd\u2021: the saddle's imaginary frequency; the numbered notes explain unverified "
            "saddles, failed paths and flagged paths. \u0394G\u2021: quasi-RRHO free-energy barrier in kcal/mol (1 M), "

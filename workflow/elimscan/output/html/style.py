@@ -23,7 +23,8 @@ table.sortable th[aria-sort="descending"]::after { content: " \\25BC"; }
 .status-ok { color: #1e6b3a; font-weight: bold; }
 .status-failed { color: #a3231b; font-weight: bold; }
 .call-major { font-weight: bold; color: #1e6b3a; }
-.call-forbidden { color: #a3231b; }
+.call-syn-only, .call-blocked, .call-forbidden { color: #a3231b; }
+.product-name { font-size: 0.85em; color: #444; }
 dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: .15rem 1rem; margin: 0; font-size: .9rem; }
 dl.facts dt { color: var(--muted); }
 dl.facts dd { margin: 0; }
