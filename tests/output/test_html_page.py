@@ -32,7 +32,8 @@ def test_html_has_a_section_per_job_and_a_row_per_beta_class(run, built):
         for src in section["img"]:
             assert src.startswith("data:image/png;base64,")
         n_newman = 2 * len(job["beta_hydrogens"])
-        assert section["svg"] == 1 + 3 + n_newman  # substrate, path plot, scan plot, product chart, projections
+        # substrate, path plot, energy profile, scan plot, product chart, projections (the fixtures' jobs all have paths)
+        assert section["svg"] == 1 + 4 + n_newman
     if len(doc["jobs"]) > 1:  # the index links to every section
         assert page.index_links == [f"#{s['id']}" for s in page.sections]
 
@@ -159,7 +160,7 @@ def test_report_renders_in_headless_chromium(tmp_path, built):
         assert all(done and width > 0 for done, width in images)
         sizes = driver.execute_script("return Array.from(document.querySelectorAll('section.job svg'), "
                                       "s => s.getBoundingClientRect().width);")
-        assert len(sizes) == sum(4 + 2 * len(j["beta_hydrogens"]) for j in doc["jobs"]) and min(sizes) > 50
+        assert len(sizes) == sum(5 + 2 * len(j["beta_hydrogens"]) for j in doc["jobs"]) and min(sizes) > 50
         # the verdict box is laid out first in each section, with the JSON's word; unverified saddles carry their note
         boxes = driver.execute_script(
             "return Array.from(document.querySelectorAll('section.job'), s => { var b = s.querySelector('div.verdict');"

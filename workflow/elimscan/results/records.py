@@ -187,6 +187,9 @@ class ApproachRecord(Record):
     path: tuple[PathPointRecord, ...] = ()
     path_file: str | None = Field(None, description="extended XYZ of the path, relative to the output folder")
     saddle_file: str | None = Field(None, description="extended XYZ: saddle and frames along its imaginary mode")
+    complex_file: str | None = Field(None, description="extended XYZ of the base-substrate complex the path starts from")
+    product_file: str | None = Field(None, description="extended XYZ of the product side: the last point of the relaxed "
+                                     "path (products only when reaches_products is not false)")
     error: ErrorInfo | None = None
     barrier_dft_kcal_mol: float | None = Field(
         None, description="DFT single-point energy of this path's top geometry relative to the lowest DFT saddle of the "
@@ -265,6 +268,11 @@ class SubstitutionRecord(Record):
     saddle_note: str | None = None
     path_file: str | None = None
     saddle_file: str | None = None
+    complex_file: str | None = Field(None, description="extended XYZ of the complex the SN2 path starts from")
+    product_file: str | None = Field(None, description="extended XYZ of the last point of the relaxed SN2 path")
+    complex_energy_kcal_mol: float | None = Field(None, description="the SN2 complex above the zero of the barriers")
+    path_end_energy_kcal_mol: float | None = Field(None, description="the last point of the relaxed SN2 path above the "
+                                                   "zero of the barriers (the product side when reaches_products)")
     error: ErrorInfo | None = None
     elimination_fraction: float | None = Field(None, description="share of all E2 paths against the SN2 path")
     substitution_fraction: float | None = None

@@ -8,6 +8,7 @@ from elimscan.output.html.boxes import substitution_box, verdict_box
 from elimscan.output.html.cells import anchor, esc, figure_block, inline_svg
 from elimscan.output.html.depictions import substrate_svg
 from elimscan.output.html.jobtables import beta_table, isotope_table, product_table
+from elimscan.output.html.structures import StructureLinks, saddle_views
 from elimscan.output.html.words import CAUTION, ENERGY_WORDS, NO_BARRIERS_JOB, method_line
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL
 from elimscan.output.plots.jobplots import NEWMAN_TARGETS_DEG, newman_plot_name, plot_name, shown_kinds
@@ -34,6 +35,12 @@ PLOT_WORDS: dict[str, Callable[[bool], tuple[str, str, str]]] = {
         "Energy along each relaxed path (colour: class; solid: anti, dashed: syn) above substrate + free base; "
         "diamonds at the path maximum: filled, verified saddle (at its energy); open, unverified "
         "(the path maximum).", "No path plot."),
+    "profile": lambda barriers: (
+        "Energy profile",
+        "Every path with a barrier, E2 (class colour) and SN2 (black), through its stages above substrate + free base: "
+        "the base\u2013substrate complex, the saddle (solid: verified; dashed: unverified, the relaxed-path maximum) and "
+        "the product side (the last relaxed path point, products still together). Electronic energies, kcal/mol.",
+        "No energy profile."),
     "character": lambda barriers: (
         "Saddle character",
         "Each verified E2 saddle (class and path) on the two cleavage axes, 1 \u2212 Pauling bond order "
@@ -74,8 +81,12 @@ def newman_block(job: JobRecord, assets: Mapping[str, str]) -> str:
     return text + '<div class="newman">' + "".join(parts) + "</div>"
 
 
-def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], own: Mapping[str, str]) -> str:
-    """Return one job's section: plots from ``assets``, else ``own`` (drawn by the page); a failed job says why."""
+def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], own: Mapping[str, str],
+                links: StructureLinks | None = None) -> str:
+    """Return one job's section: plots from ``assets``, else ``own`` (drawn by the page); a failed job says why.
+
+    With ``links`` the tables link the job's structure files and its saddles get 3D views.
+    """
     head = (f'<section class="job" id="{esc(anchor(job))}" data-job="{esc(job.job_id)}">\n'
             f"<h2>{esc(job.substrate)} with {esc(job.base)}</h2>\n"
             f'<p class="meta">job <code>{esc(job.job_id)}</code> \u00b7 status <span class="status-{esc(job.status)}">'
@@ -106,7 +117,9 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index + 1}, on C\u03b1 atom {lg.c_alpha_index + 1}"
          + (f", map number {lg.map_number}" if lg.map_number is not None else "")),
         ("base", f"{esc(job.base)}: {'bulky' if base.bulky else 'not bulky'} ({esc(base.bulky_reason)})"),
-        ("conformers kept", str(len(job.conformers))),
+        ("conformers kept", str(len(job.conformers)) + (
+            f' (<a class="structure-link" href="{esc(href)}">conformers.sdf</a>)'
+            if links is not None and (href := links.href(job.conformer_file)) else "")),
         ("rule\u2019s major alkene", f'<span class="smiles">{esc(rule.rule_major or "none")}</span>'),
         ("shift to the less substituted alkene", "yes" if rule.hofmann_shift else "no"),
         ("rule\u2019s energy window", f"{rule.energy_window_kcal_mol:g} kcal/mol"),
@@ -132,7 +145,7 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
     body = [
         verdict_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
-        "<h3>Beta hydrogens</h3>", beta_table(job),
+        "<h3>Beta hydrogens</h3>", beta_table(job, links),
         '<p class="note">Penalty: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '
         f"{result.config.rule.anti_min_deg:g}\u00b0) or syn-periplanar (|\u03c6| \u2264 {result.config.rule.syn_max_deg:g}\u00b0) "
         "to the leaving group, above the global minimum. Class C3-H10 is the hydrogen H10 on C\u03b2 atom 3 and its "
@@ -146,7 +159,8 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         "<h3>Alkenes: the rule\u2019s call" + (" and the computed shares</h3>" if barriers else "</h3>"),
         product_table(job),
     ]
-    body += plot_blocks(job, ("paths", "character"), assets, own)
+    body += plot_blocks(job, ("paths", "profile", "character"), assets, own)
+    body.append(saddle_views(job, links))
     if job.substitution is not None:
         body += ["<h3>Substitution (SN2) beside elimination</h3>", substitution_box(job, job.substitution)]
     body += plot_blocks(job, ("scan", "products"), assets, own)

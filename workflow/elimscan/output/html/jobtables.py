@@ -7,6 +7,7 @@ import base64
 from elimscan.chem.alkenenames import alkene_description
 from elimscan.output.html.cells import ABSENT, DASH, anchor, barrier_text, esc, num_cell, percent_text
 from elimscan.output.html.depictions import product_png
+from elimscan.output.html.structures import StructureLinks, files_cell
 from elimscan.output.html.words import KIE_SENTENCE
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL, signed
 from elimscan.output.plots.paths import has_barriers
@@ -99,11 +100,11 @@ def _path_note(beta: BetaHydrogenRecord, name: str, approach: ApproachRecord) ->
     return f"{beta.class_id} {name}: " + ". ".join(parts) + "." if parts else None
 
 
-def beta_table(job: JobRecord) -> str:
+def beta_table(job: JobRecord, links: StructureLinks | None = None) -> str:
     """Return the table of a job's beta-H classes: penalties (kcal/mol), rule status, barriers when computed, numbered notes."""
     barriers = has_barriers(job)
     rows, notes = [], []
-    for b in job.beta_hydrogens:
+    for position, b in enumerate(job.beta_hydrogens):
         where = DASH
         if b.anti.dihedral_deg is not None:
             where = f"{b.anti.dihedral_deg:.0f}\u00b0, {b.anti.geometry_source or ''}"
@@ -121,7 +122,7 @@ def beta_table(job: JobRecord) -> str:
                     mark = f'<sup><a href="#{esc(anchor(job))}-note-{len(notes)}" class="note-mark">{len(notes)}</a></sup>'
                 cells += _barrier_cells(approach, name, mark) + _free_cells(approach, name)
             cells += gives[name]
-        rows.append(cells + f"<td>{esc(where)}</td></tr>")
+        rows.append(cells + f"<td>{esc(where)}</td>{files_cell(job, position, links)}</tr>")
     unit = "<br>kcal/mol"
     if barriers:
         approach_heads = (f'<th class="num">\u0394E\u2021 rel.{unit}</th><th class="num">\u0394E\u2021 abs.{unit}</th>'
@@ -129,13 +130,15 @@ def beta_table(job: JobRecord) -> str:
                           f'<th class="num">\u0394G\u2021{unit}</th><th>saddle character</th><th>gives</th>')
         head = ('<tr><th rowspan="2">class</th><th rowspan="2">equivalent H atoms</th>'
                 '<th colspan="3" class="group">the rule: periplanar penalty</th><th colspan="6" class="group">anti elimination</th>'
-                '<th colspan="6" class="group">syn elimination</th><th rowspan="2">best anti geometry</th></tr>'
+                '<th colspan="6" class="group">syn elimination</th><th rowspan="2">best anti geometry</th>'
+                + ('<th rowspan="2">structure files</th>' if links is not None else "") + "</tr>"
                 f'<tr><th class="num">anti{unit}</th><th class="num">syn{unit}</th><th>status</th>'
                 f"{approach_heads}{approach_heads}</tr>")
     else:
         head = ('<tr><th>class</th><th>equivalent H atoms</th>'
                 f'<th class="num">anti penalty{unit}</th><th class="num">syn penalty{unit}</th>'
-                "<th>status under the rule</th><th>anti gives</th><th>syn gives</th><th>best anti geometry</th></tr>")
+                "<th>status under the rule</th><th>anti gives</th><th>syn gives</th><th>best anti geometry</th>"
+                + ("<th>structure files</th>" if links is not None else "") + "</tr>")
     table = ('<div class="wide"><table class="beta"><thead>' + head + "</thead>\n<tbody>\n" + "\n".join(rows)
              + "\n</tbody></table></div>")
     if notes:
