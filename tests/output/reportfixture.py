@@ -13,8 +13,11 @@ from __future__ import annotations
 import copy
 import json
 import re
+import shutil
 from html.parser import HTMLParser
 from pathlib import Path
+
+import pytest
 
 from elimscan.output.plots.jobplots import plot_name
 from elimscan.results.documents import RunResult
@@ -197,3 +200,24 @@ def strip_barriers(doc: dict) -> dict:
         job["verdict"] = {"rule_major": job["rule"]["rule_major"], "computed_major": None, "agreement": None,
                           "within_method_uncertainty": False, "reason": "no barrier could be computed"}
     return doc
+
+
+def browser(profile: Path):
+    """Return a headless Chromium WebDriver with a fresh profile folder, or skip the test saying what is missing."""
+    try:
+        from selenium import webdriver
+        from selenium.webdriver.chrome.service import Service
+    except ImportError:
+        pytest.skip("selenium is not installed (make browser-deps installs it with Chromium and chromedriver)")
+    chromium = next((shutil.which(n) for n in ("chromium", "chromium-browser") if shutil.which(n)), None)
+    driver_path = shutil.which("chromedriver")
+    if chromium is None or driver_path is None:
+        pytest.skip("Chromium or chromedriver not found on PATH (Debian: apt-get install chromium chromium-driver)")
+    options = webdriver.ChromeOptions()
+    options.binary_location = chromium
+    for flag in ("--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                 "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-dev-shm-usage",
+                 "--window-size=1200,900", f"--user-data-dir={profile}"):
+        options.add_argument(flag)
+    options.set_capability("goog:loggingPrefs", {"browser": "ALL"})
+    return webdriver.Chrome(service=Service(executable_path=driver_path), options=options)

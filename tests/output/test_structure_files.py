@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import json
 import re
+import shutil
+import time
 from pathlib import Path
 
 import ase.io
@@ -23,10 +25,11 @@ from elimscan.output.html.batchpages import job_page_name
 from elimscan.output.html.structures import StructureLinks, saddle_views
 from elimscan.output.plots.character import character_figure
 from elimscan.output.plots.profile import profile_figure, profile_lines
+from elimscan.pipeline.artifacts import xyz_bytes
 from elimscan.results.records import SaddleCharacterRecord
 from toyjobs import TOY_SETTINGS
 
-from reportfixture import PRIMARY, result
+from reportfixture import PRIMARY, browser, result
 
 CONFIG = TOY_SETTINGS.replace("substitution: false", "substitution: true") + """\
 name: structures
@@ -141,7 +144,9 @@ def test_a_saddle_view_carries_its_frames_and_links_its_file():
     html = saddle_views(job, StructureLinks("../", frozenset({rel}), {rel: frames}))
     assert html.count('<canvas class="mode-view"') == 1
     data = json.loads(re.search(r'<script type="application/json" class="mode-frames">(.*?)</script>', html).group(1))
-    assert data["symbols"] == ["C", "H"] and [f[1][0] for f in data["frames"]] == [1.1, 1.2, 1.3]
+    # the saddle frame is left out (the middle frame along the mode is the saddle again); x y z in 0.01 Å
+    assert data["symbols"] == ["C", "H"] and data["unit_A"] == 0.01
+    assert data["frames"] == [[0, 0, 0, 120, 0, 0], [0, 0, 0, 130, 0, 0]]
     assert f'href="../{rel}"' in html
     assert saddle_views(job, StructureLinks("", frozenset(), {})) == ""  # no frames, no SN2 file: nothing
 
@@ -165,3 +170,81 @@ def test_labels_of_close_saddles_on_the_character_map_do_not_overlap():
     for s, b in boxes:  # no other text of the figure lies over a saddle's label
         for name, box in labels:
             assert s == name or not box.overlaps(b) or s.startswith("saddle:"), (s, name)
+
+
+# --- in a browser: the index, a job page, a structure file, a saddle moving ----------------------------------------
+
+
+def _with_a_saddle_file(out: Path) -> str:
+    """Give the first E2 path of the toy batch a saddle file as a run writes one (the path's highest point, then
+    frames along the path's tangent there as a stand-in for the imaginary mode); return its relative path.
+
+    The toy batch refines no saddle (seconds instead of minutes); the view only needs frames, and these are real
+    geometries of the toy path.
+    """
+    data = json.loads((out / "results.json").read_text())
+    anti = data["jobs"][0]["beta_hydrogens"][0]["anti"]
+    images = ase.io.read(out / anti["path_file"], index=":")
+    top = max(range(1, len(images) - 1), key=lambda k: images[k].info["energy_hartree"])
+    tangent = images[top + 1].positions - images[top - 1].positions
+    tangent /= np.linalg.norm(tangent)
+    frames, infos = [images[top]], [{"frame": "saddle"}]
+    for amplitude in np.linspace(-0.3, 0.3, 13):
+        frame = images[top].copy()
+        frame.positions = frame.positions + amplitude * tangent
+        frames.append(frame)
+        infos.append({"frame": "mode", "mode_amplitude_A": float(amplitude)})
+    rel = anti["path_file"].replace("/path-", "/saddle-")
+    (out / rel).write_bytes(xyz_bytes(frames, infos, "toy"))
+    anti["saddle_file"] = rel
+    (out / "results.json").write_text(json.dumps(data))
+    return rel
+
+
+def test_index_job_page_structure_file_and_moving_saddle_in_headless_chromium(batch, tmp_path):
+    out = tmp_path / "out"
+    shutil.copytree(batch, out)
+    saddle = _with_a_saddle_file(out)
+    for name, content in build_report_files(out, single_page_max_jobs=0).items():
+        (out / name).parent.mkdir(parents=True, exist_ok=True)
+        (out / name).write_bytes(content)
+    res = read_result(out)
+    driver = browser(tmp_path / "profile")
+    try:
+        driver.get((out / "report.html").as_uri())
+        rows = "return Array.from(document.querySelectorAll('#job-index tbody tr'), r => [r.cells[0].textContent, r.hidden]);"
+        assert [name for name, _ in driver.execute_script(rows)] == [j.job_id for j in res.jobs]
+        box = driver.find_element("id", "job-filter")
+        box.send_keys("2-chloropropane")
+        assert [name for name, hidden in driver.execute_script(rows) if not hidden] == ["2-chloropropane__methoxide"]
+        box.clear()
+        driver.execute_script("document.getElementById('job-filter').dispatchEvent(new Event('input'));")
+        assert not any(hidden for _, hidden in driver.execute_script(rows))
+        # follow the first job's link to its page
+        driver.find_element("css selector", "a.job-link").click()
+        assert driver.current_url.endswith(job_page_name(res.jobs[0]))
+        images = driver.execute_script("return Array.from(document.images, i => [i.complete, i.naturalWidth]);")
+        assert images and all(done and width > 0 for done, width in images)  # the PNG plots beside the page load
+        # the 3D view draws and its frames change as it plays
+        canvas = "document.querySelector('canvas.mode-view')"
+        first = driver.execute_script(f"return {canvas}.dataset.frame;")
+        inked = driver.execute_script(
+            f"var c = {canvas}; var d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;"
+            " var n = 0; for (var i = 3; i < d.length; i += 4) if (d[i] > 0) n++; return n;")
+        assert inked > 500  # atoms and bonds drawn
+        seen = {first}
+        for _ in range(10):
+            time.sleep(0.1)
+            seen.add(driver.execute_script(f"return {canvas}.dataset.frame;"))
+        assert len(seen) >= 3, seen
+        # follow a structure link: the saddle file opens and reads as XYZ with the job's atoms
+        link = driver.execute_script(f"return Array.from(document.querySelectorAll('a.structure-link'), a => a.href)"
+                                     f".find(h => h.endsWith('{Path(saddle).name}'));")
+        assert link is not None
+        driver.get(link)
+        text = driver.execute_script("return document.body ? document.body.innerText : '';")
+        assert text.split("\n")[0].strip() == str(len(ase.io.read(out / saddle, index=0)))
+        errors = [e for e in driver.get_log("browser") if e.get("level") == "SEVERE"]
+        assert errors == []
+    finally:
+        driver.quit()

@@ -14,8 +14,8 @@ from dataclasses import dataclass, field
 from elimscan.output.html.cells import DASH, esc
 from elimscan.results.records import ApproachRecord, JobRecord, SubstitutionRecord
 
-#: decimals (Å) of the coordinates a viewer carries: enough for a drawing, small in the page
-VIEW_DECIMALS = 2
+#: the unit (Å) of the whole numbers a viewer's coordinates are written in: enough for a drawing, small in the page
+VIEW_UNIT_A = 0.01
 
 
 @dataclass(frozen=True)
@@ -59,11 +59,19 @@ def files_cell(job: JobRecord, index: int, links: StructureLinks | None) -> str:
     return f'<td class="files">{"<br>".join(parts) or DASH}</td>'
 
 
-def _view_data(frames: Sequence[tuple[Sequence[str], Sequence[Sequence[float]]]]) -> str:
-    """Return the JSON a viewer reads: the symbols once and each frame's coordinates (Å, rounded)."""
+def view_data(frames: Sequence[tuple[Sequence[str], Sequence[Sequence[float]]]]) -> dict:
+    """Return what a viewer reads: the symbols once, the unit (Å) and each frame's coordinates as whole numbers of
+    that unit, x y z of every atom in a row. A saddle file's first frame (the saddle) is left out when frames along
+    the mode follow: their middle one is the saddle again."""
     symbols = list(frames[0][0])
-    coordinates = [[[round(float(c), VIEW_DECIMALS) for c in xyz] for xyz in positions] for _, positions in frames]
-    return json.dumps({"symbols": symbols, "frames": coordinates}, separators=(",", ":")).replace("</", "<\\/")
+    shown = frames[1:] if len(frames) > 2 else frames
+    coordinates = [[round(float(c) / VIEW_UNIT_A) for xyz in positions for c in xyz] for _, positions in shown]
+    return {"symbols": symbols, "unit_A": VIEW_UNIT_A, "frames": coordinates}
+
+
+def _view_json(frames: Sequence[tuple[Sequence[str], Sequence[Sequence[float]]]]) -> str:
+    """Return :func:`view_data` as compact JSON safe inside a script element."""
+    return json.dumps(view_data(frames), separators=(",", ":")).replace("</", "<\\/")
 
 
 def saddle_views(job: JobRecord, links: StructureLinks | None) -> str:
@@ -87,7 +95,7 @@ def saddle_views(job: JobRecord, links: StructureLinks | None) -> str:
         blocks.append(
             f'<figure class="saddle-view"><canvas class="mode-view" width="300" height="240" data-frame="0" '
             f'aria-label="3D view of the saddle of {esc(label)}"></canvas>'
-            f'<script type="application/json" class="mode-frames">{_view_data(frames)}</script>'
+            f'<script type="application/json" class="mode-frames">{_view_json(frames)}</script>'
             f"<figcaption>{esc(label)}: saddle ({esc(state)}{esc(frequency)}){file_link}</figcaption></figure>")
     sn2 = approach_links(job.substitution, links) if job.substitution is not None else ""
     sn2_line = f'<p class="sn2-files">SN2 path files: {sn2}</p>' if sn2 else ""
@@ -108,11 +116,16 @@ VIEWER_SCRIPT = r"""
                 Br: "#a62929", I: "#940094", S: "#d4b000", P: "#ff8000", Li: "#8040d0", Na: "#8040d0", K: "#8040d0"};
   document.querySelectorAll("canvas.mode-view").forEach(function (canvas) {
     var data = JSON.parse(canvas.nextElementSibling.textContent);
-    var sym = data.symbols, frames = data.frames, n = sym.length;
+    var sym = data.symbols, n = sym.length, unit = data.unit_A;
+    var frames = data.frames.map(function (f) {
+      var pos = [];
+      for (var i = 0; i < n; i++) pos.push([f[3 * i] * unit, f[3 * i + 1] * unit, f[3 * i + 2] * unit]);
+      return pos;
+    });
     var ctx = canvas.getContext("2d"), yaw = 0.6, pitch = 0.3, playing = true, frame = 0, step = 1;
     var centre = [0, 0, 0];
     frames[0].forEach(function (p) { for (var k = 0; k < 3; k++) centre[k] += p[k] / n; });
-    var order = frames.length > 2 ? frames.map(function (_, i) { return i; }).slice(1) : [0];
+    var order = frames.map(function (_, i) { return i; });
     function bonds(pos) {
       var found = [];
       for (var i = 0; i < n; i++) for (var j = i + 1; j < n; j++) {

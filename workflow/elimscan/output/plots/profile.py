@@ -85,5 +85,5 @@ def profile_figure(job: JobRecord) -> Figure:
     else:
         ax.text(0.5, 0.5, "no path with a barrier", transform=ax.transAxes, ha="center", color=GREY)
     fig.text(0.09, 0.975, "GFN2-xTB electronic energies (not free energies); product side: the last point of the relaxed "
-             "path, products still beside the conjugate acid and X\u207b", fontsize=6.5, color=GREY, va="top")
+             "path, the products still together in one complex", fontsize=6.5, color=GREY, va="top")
     return fig
