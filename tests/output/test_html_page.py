@@ -8,8 +8,6 @@ from __future__ import annotations
 
 import base64
 import re
-import shutil
-from pathlib import Path
 
 import pytest
 
