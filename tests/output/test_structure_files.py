@@ -248,3 +248,13 @@ def test_index_job_page_structure_file_and_moving_saddle_in_headless_chromium(ba
         assert errors == []
     finally:
         driver.quit()
+
+
+def test_a_job_page_name_is_a_short_file_name_unique_to_its_job():
+    job = result(PRIMARY).jobs[0]
+    plain = job.model_copy(update={"job_id": "bromoethane__methoxide"})
+    assert job_page_name(plain) == "report/bromoethane__methoxide.html"
+    long_a, long_b = (job.model_copy(update={"job_id": "x" * 300 + tail}) for tail in ("__a", "__b"))
+    escaped = job.model_copy(update={"job_id": "\x1b[2J__methoxide"})
+    names = {job_page_name(j) for j in (long_a, long_b, escaped)}
+    assert len(names) == 3 and all(len(n) < 90 and "\x1b" not in n for n in names)

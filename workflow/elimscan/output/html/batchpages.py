@@ -7,6 +7,8 @@ the PNG files in ``plots/`` instead of inline SVG: that is what keeps it small. 
 
 from __future__ import annotations
 
+import hashlib
+
 from elimscan.chem.alkenenames import alkene_description
 from elimscan.config.names import safe_name
 from elimscan.output.html.boxes import verdict_word, within_uncertainty
@@ -22,6 +24,8 @@ from elimscan.results.records import JobRecord
 
 #: the folder of the job pages, relative to the output folder
 PAGES_FOLDER = "report"
+#: longest job page name (characters, without '.html') taken from a job id as it stands
+PAGE_NAME_MAX_CHARS = 80
 #: a job page may load the PNG plots beside it (local files only: still no network)
 JOB_PAGE_CSP = CSP.replace("img-src data:", "img-src data: 'self' file:")
 
@@ -49,15 +53,22 @@ FILTER_SCRIPT = r"""
 
 
 def job_page_name(job: JobRecord) -> str:
-    """Return the output-relative path of a job's page, e.g. 'report/2-bromobutane__ethoxide.html'."""
-    return f"{PAGES_FOLDER}/{safe_name(job.job_id)}.html"
+    """Return the output-relative path of a job's page, e.g. 'report/2-bromobutane__ethoxide.html'.
+
+    A job id that is no file name as it stands (too long, or characters a file name cannot hold) is shortened
+    and made unique by the start of its SHA-256: 'report/<first 60 characters>-<8 hex digits>.html'.
+    """
+    name = safe_name(job.job_id)
+    if name != job.job_id or len(name) > PAGE_NAME_MAX_CHARS:
+        name = f"{name[:60]}-{hashlib.sha256(job.job_id.encode()).hexdigest()[:8]}"
+    return f"{PAGES_FOLDER}/{name}.html"
 
 
 def image_assets(result: RunResult, job: JobRecord, plot_files: frozenset[str]) -> dict[str, str]:
     """Return {plot name: <img> tag} for the job's plots whose PNG is in ``plot_files`` (paths from the page)."""
     names = [plot_name(job.job_id, k) for k in drawn_kinds(job)]
     names += [newman_plot_name(job.job_id, b.class_id, g) for b in job.beta_hydrogens for g in NEWMAN_TARGETS_DEG]
-    return {n: f'<img class="plot" src="../{esc(n)}.png" alt="{esc(n.split("/")[-1])}" loading="lazy">'
+    return {n: f'<img class="plot" src="../{esc(n)}.png" alt="{esc(n.split("/")[-1])}">'
             for n in names if f"{n}.png" in plot_files}
 
 
