@@ -21,7 +21,7 @@ from matplotlib.text import Text
 
 from elimscan.cli import main
 from elimscan.output.files import build_report_files, read_result
-from elimscan.output.html.batchpages import job_page_name
+from elimscan.output.html.batchpages import job_page_name, render_index
 from elimscan.output.html.structures import StructureLinks, saddle_views
 from elimscan.output.plots.character import character_figure
 from elimscan.output.plots.profile import profile_figure, profile_lines
@@ -258,3 +258,13 @@ def test_a_job_page_name_is_a_short_file_name_unique_to_its_job():
     escaped = job.model_copy(update={"job_id": "\x1b[2J__methoxide"})
     names = {job_page_name(j) for j in (long_a, long_b, escaped)}
     assert len(names) == 3 and all(len(n) < 90 and "\x1b" not in n for n in names)
+
+
+def test_an_index_of_200_jobs_stays_small(batch):
+    # the 21 real jobs of a calibration batch gave a 25 KB index, and those records copied to 200 jobs 129 KB
+    # (one page with every job inline: 2.37 MB for the 21); the bound leaves room for longer names
+    res = read_result(batch)
+    jobs = tuple(j.model_copy(update={"job_id": f"{j.job_id}-{k:03d}"}) for k in range(100) for j in res.jobs)
+    index = render_index(res.model_copy(update={"jobs": jobs}))
+    assert index.count('<tr class="job-row"') == 200
+    assert len(index.encode()) < 250_000
