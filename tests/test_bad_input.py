@@ -122,12 +122,12 @@ CASES: dict[str, Case] = {
                                                    "'ClCCCBr'", "several leaving groups", "atom-map number",
                                                    error_type="structure_error"),
     "map_on_a_non_leaving_atom": validate(with_substrate("[CH3:1]CCl"), "substrate 'chloroethane'", "'[CH3:1]CCl'",
-                                          "atom map :1 is on C atom 0, which is not a leaving atom",
+                                          "atom map :1 is on C atom 1, which is not a leaving atom",
                                           error_type="structure_error"),
     # neopentyl bromide: C-alpha's only carbon neighbour is quaternary, no beta hydrogen (common practice:
     # any organic chemistry textbook, e.g. Clayden, Greeves & Warren, Organic Chemistry, 2nd ed. 2012, ch. 17)
     "no_beta_hydrogen_neopentyl": validate(with_substrate("CC(C)(C)CBr"), "substrate 'chloroethane'",
-                                           "'CC(C)(C)CBr'", "no beta hydrogen", "C atom 1 carries no hydrogen",
+                                           "'CC(C)(C)CBr'", "no beta hydrogen", "C atom 2 carries no hydrogen",
                                            error_type="structure_error"),
     # aryl halides do not undergo E2 at the aromatic carbon (common practice, same textbook)
     "no_beta_hydrogen_aryl_halide": validate(with_substrate("Clc1ccccc1"), "substrate 'chloroethane'", "'Clc1ccccc1'",

@@ -95,7 +95,7 @@ YAML_CASES = {
                          ": key 'bases.0.multiplicity', line 9: multiplicity 3: elimscan handles closed-shell"),
     "radical_odd_electrons": Yaml(substrate("C[CH]CCl"), "structure_error",
                                   ", key 'substrates.0.smiles', line 7: substrate 'chloroethane' 'C[CH]CCl' has 1 unpaired "
-                                  "electron(s) on C atom 1 (41 electrons, an odd count)"),
+                                  "electron(s) on C atom 2 (41 electrons, an odd count)"),
     "base_60_temperature": Yaml(setting("method: {temperature_K: 298:15}"), "config_error",
                                 ": key 'method.temperature_K', line 6: Input should be a valid number, unable to parse "
                                 "string as a number (got '298:15'): numbers are read as plain decimals (YAML 1.1 would "
@@ -118,7 +118,7 @@ YAML_CASES = {
                                          "read and '2-bromopropane, please use CCCCl' silently dropped"),
     "deuterium_labels": Yaml(substrate("[2H]C([2H])([2H])CBr"), "structure_error",
                              ", key 'substrates.0.smiles', line 7: substrate 'chloroethane' '[2H]C([2H])([2H])CBr': isotope "
-                             "labels (2H atom 0, 2H atom 2, 2H atom 3) are not read"),
+                             "labels (2H atom 1, 2H atom 3, 2H atom 4) are not read"),
     "bad_explicit_smiles": Yaml(GOOD.replace('smiles: "C[O-]"}', 'smiles: "C[O-]", model: {explicit: 1, '
                                                                  'explicit_smiles: "C(C"}}'), "structure_error",
                                 ", key 'bases.0.model.explicit_smiles', line 9: base 'methoxide' explicit_smiles: cannot "

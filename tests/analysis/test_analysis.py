@@ -56,12 +56,16 @@ def test_zaitsev_trans_before_cis_and_hofmann_shift():
     assert onium.major == fluoride.major == "C=CCC"
 
 
-def test_products_reachable_only_syn_or_blocked_are_forbidden():
+def test_products_reachable_only_syn_are_syn_only_and_neither_blocked():
     classes = [facts("ring-CH", "CC1=CCCCC1", "tri", None, 0.5), facts("ring-CH2", "CC1C=CCCC1", "di", 1.8, 4.0)]
     verdict = rule_verdict(classes, RULE, bulky_base=False, leaving_kind="halide", leaving_label="Cl")
     calls = {p.smiles: p.call for p in verdict.products}
-    assert calls == {"CC1C=CCCC1": "major", "CC1=CCCCC1": "forbidden"}
+    assert calls == {"CC1C=CCCC1": "major", "CC1=CCCCC1": "syn only"}
     assert any("never anti-periplanar" in line for line in verdict.reasoning)
+    beyond = RULE.energy_window_kcal_mol + 3.0  # neither anti nor syn within the window
+    classes = [facts("ring-CH", "CC1=CCCCC1", "tri", None, beyond), facts("ring-CH2", "CC1C=CCCC1", "di", 1.8, 4.0)]
+    calls = {p.smiles: p.call for p in rule_verdict(classes, RULE, False, "halide", "Cl").products}
+    assert calls == {"CC1C=CCCC1": "major", "CC1=CCCCC1": "blocked"}
 
 
 def test_only_costly_anti_geometries_give_a_slow_e2_through_the_cheapest():
@@ -73,7 +77,7 @@ def test_only_costly_anti_geometries_give_a_slow_e2_through_the_cheapest():
 
 def test_no_anti_geometry_at_all_gives_no_major():
     verdict = rule_verdict([facts("a", "C=C", "mono", None, 1.0)], RULE, False, "halide", "Cl")
-    assert verdict.major is None and verdict.products[0].call == "forbidden"
+    assert verdict.major is None and verdict.products[0].call == "syn only"
 
 
 def test_anti_bredt_products_never_count():

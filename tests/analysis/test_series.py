@@ -86,7 +86,7 @@ def test_fit_agrees_with_scipy_linregress():
     assert record.n_fitted == 4 and record.note is None
     for point, expected in zip(record.points, y):
         assert point.status == "ok" and point.log10_k_rel == pytest.approx(expected, abs=1e-3)
-        assert point.path == "C0-H3 anti" and point.barrier_source == "verified saddle"
+        assert point.path == "C1-H4 anti" and point.barrier_source == "verified saddle"  # the fixture class, numbered from 1
 
 
 def test_barriers_on_the_published_line_give_back_the_published_rho():
@@ -146,7 +146,7 @@ def test_lowest_barrier_takes_syn_paths_and_unverified_maxima_into_account():
     beta = job.beta_hydrogens[0]
     syn = beta.syn.model_copy(update={"path_status": "ok", "barrier_kcal_mol": 18.5, "barrier_source": "relaxed-path maximum"})
     job = job.model_copy(update={"beta_hydrogens": (beta.model_copy(update={"syn": syn}),)})
-    assert lowest_e2_barrier(job, "electronic") == (18.5, "C0-H3 syn", "relaxed-path maximum")
+    assert lowest_e2_barrier(job, "electronic") == (18.5, "C1-H4 syn", "relaxed-path maximum")
 
 
 def test_one_record_per_series_and_solvent():

@@ -364,8 +364,8 @@ def test_two_leaving_groups_without_map_is_an_error():
     with pytest.raises(StructureError) as err:
         perceive_substrate("ClCCC[C@H](C)Br")
     message = str(err.value)
-    assert "Cl (leaving Cl atom 0" in message
-    assert "Br (leaving Br atom 6" in message
+    assert "Cl (leaving Cl atom 1" in message
+    assert "Br (leaving Br atom 7" in message
 
 
 def test_atom_map_picks_the_leaving_group():
@@ -377,7 +377,7 @@ def test_atom_map_picks_the_leaving_group():
 
 
 def test_atom_map_on_a_carbon_is_an_error():
-    with pytest.raises(StructureError, match="C atom 2"):
+    with pytest.raises(StructureError, match="C atom 3"):
         perceive_substrate("ClC[CH2:3]C[C@H](C)Br")
 
 
@@ -403,20 +403,20 @@ def test_neopentyl_bromide_has_no_beta_hydrogen():
     # Neopentyl halides have no beta hydrogen (common practice).
     with pytest.raises(StructureError, match="no beta hydrogen") as err:
         perceive_substrate("CC(C)(C)CBr")
-    assert "C atom 1 carries no hydrogen" in str(err.value)
+    assert "C atom 2 carries no hydrogen" in str(err.value)
 
 
 def test_bromobenzene_c_alpha_is_not_sp3():
     # Aryl halides do not undergo E2 at the ring carbon (common practice).
     with pytest.raises(StructureError, match="not sp3") as err:
         perceive_substrate("Brc1ccccc1")
-    assert "Br atom 0" in str(err.value)
+    assert "Br atom 1" in str(err.value)
 
 
 def test_radical_is_rejected():
     with pytest.raises(StructureError, match="unpaired") as err:
         perceive_substrate("CC[CH]CBr")
-    assert "C atom 2" in str(err.value)
+    assert "C atom 3" in str(err.value)
 
 
 def test_element_beyond_radon_is_rejected():
@@ -436,8 +436,8 @@ def test_unspecified_stereo_that_changes_products_is_an_error():
     # different alkene isomers (stereospecific anti E2, common practice).
     with pytest.raises(StructureError, match="unspecified") as err:
         perceive_substrate("CC(Br)C(C)CC")
-    assert "C atom 1" in str(err.value)
-    assert "C atom 3" in str(err.value)
+    assert "C atom 2" in str(err.value)
+    assert "C atom 4" in str(err.value)
 
 
 def test_unspecified_double_bond_is_an_error():
@@ -447,7 +447,7 @@ def test_unspecified_double_bond_is_an_error():
 
 def test_unspecified_lone_stereocentre_only_warns():
     # Enantiomers react alike with an achiral base (common practice).
-    with pytest.warns(StereoWarning, match="C atom 1"):
+    with pytest.warns(StereoWarning, match="C atom 2"):
         sub = perceive_substrate("CC(Br)CC")
     assert len(sub.warnings) == 1
     assert [c.degeneracy for c in sub.beta_classes] == [3, 1, 1]

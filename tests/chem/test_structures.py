@@ -15,7 +15,7 @@ from elimscan.chem.structures import build_molecule, parse_smiles
         ("C1CC", "cannot parse SMILES"),
         ("[CH2]C(Cl)C", "unpaired electron"),
         ("[Og]", "outside GFN2-xTB's range"),
-        ("[U]", "element U (U atom 0) is outside"),
+        ("[U]", "element U (U atom 1) is outside"),
     ],
 )
 def test_bad_structures_are_named(smiles, words):

@@ -107,4 +107,4 @@ def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
     three = [s for s in calls if Chem.MolFromSmiles(s).HasSubstructMatch(Chem.MolFromSmarts("[CH3][CH1;R]C=C"))]
     one = [s for s in calls if Chem.MolFromSmiles(s).HasSubstructMatch(Chem.MolFromSmarts("[CH3]C(=C)"))]
     assert len(three) == 1 and calls[three[0]] == "major"
-    assert len(one) == 1 and calls[one[0]] == "forbidden"
+    assert len(one) == 1 and calls[one[0]] in ("syn only", "blocked")

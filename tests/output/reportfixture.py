@@ -12,8 +12,12 @@ from __future__ import annotations
 
 import copy
 import json
+import re
+import shutil
 from html.parser import HTMLParser
 from pathlib import Path
+
+import pytest
 
 from elimscan.output.plots.jobplots import plot_name
 from elimscan.results.documents import RunResult
@@ -26,9 +30,36 @@ ALL_RUNS = (*RUNS, PRIMARY)
 REFRESH = "results.json of the fixture no longer matches records.py: refresh it (tests/data/report-fixture/README.md)"
 
 
+#: result schema versions whose class labels count atoms from 0 (the labels of 0.7.1 and later count from 1)
+ZERO_BASED_LABELS = ("0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0")
+
+
+def _renumbered(value, labels: dict[str, str]):
+    """Return JSON data with every whole-word class label in ``labels`` replaced; keys ending in _file untouched."""
+    if isinstance(value, str):
+        return re.sub(r"\bC\d+-H\d+\b", lambda m: labels.get(m.group(0), m.group(0)), value)
+    if isinstance(value, list):
+        return [_renumbered(v, labels) for v in value]
+    if isinstance(value, dict):
+        return {k: v if k.endswith("_file") else _renumbered(v, labels) for k, v in value.items()}
+    return value
+
+
 def raw(run: str) -> dict:
-    """Return results.json of a fixture run as plain JSON (not through our models)."""
-    return json.loads((FIXTURES / run / "results.json").read_text(encoding="utf-8"))
+    """Return results.json of a fixture run as plain JSON (not through our models), class labels numbered from 1.
+
+    The fixtures were written with 0-based labels ('C0-H3'); the report shows the label of the same class from
+    its 0-based index fields + 1 ('C1-H4'), so this helper renumbers them on its own for the comparisons.
+    """
+    doc = json.loads((FIXTURES / run / "results.json").read_text(encoding="utf-8"))
+    if doc["schema_version"] in ZERO_BASED_LABELS:
+        jobs = []
+        for job in doc["jobs"]:
+            labels = {b["class_id"]: f"C{b['beta_carbon_index0'] + 1}-H{b['representative_index0'] + 1}"
+                      for b in job.get("beta_hydrogens") or ()}
+            jobs.append(_renumbered(job, labels))
+        doc["jobs"] = jobs
+    return doc
 
 
 def result(run: str) -> RunResult:
@@ -169,3 +200,24 @@ def strip_barriers(doc: dict) -> dict:
         job["verdict"] = {"rule_major": job["rule"]["rule_major"], "computed_major": None, "agreement": None,
                           "within_method_uncertainty": False, "reason": "no barrier could be computed"}
     return doc
+
+
+def browser(profile: Path):
+    """Return a headless Chromium WebDriver with a fresh profile folder, or skip the test saying what is missing."""
+    try:
+        from selenium import webdriver
+        from selenium.webdriver.chrome.service import Service
+    except ImportError:
+        pytest.skip("selenium is not installed (make browser-deps installs it with Chromium and chromedriver)")
+    chromium = next((shutil.which(n) for n in ("chromium", "chromium-browser") if shutil.which(n)), None)
+    driver_path = shutil.which("chromedriver")
+    if chromium is None or driver_path is None:
+        pytest.skip("Chromium or chromedriver not found on PATH (Debian: apt-get install chromium chromium-driver)")
+    options = webdriver.ChromeOptions()
+    options.binary_location = chromium
+    for flag in ("--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                 "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-dev-shm-usage",
+                 "--window-size=1200,900", f"--user-data-dir={profile}"):
+        options.add_argument(flag)
+    options.set_capability("goog:loggingPrefs", {"browser": "ALL"})
+    return webdriver.Chrome(service=Service(executable_path=driver_path), options=options)

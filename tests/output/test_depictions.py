@@ -34,3 +34,23 @@ def test_depiction_labels_each_class_with_its_lowest_relative_barrier(run):
         for beta in job["beta_hydrogens"]:
             cost = beta["anti_penalty_kcal_mol"]
             assert f"{beta['class_id']}: {'-' if cost is None else f'{cost:.2f}'}" in svg
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_depiction_numbers_every_heavy_atom_from_one(run):
+    # the numbers a chemist reads beside the atoms are the class labels' numbers: RDKit index + 1
+    doc, res = raw(run), result(run)
+    smiles = {m["name"]: m["smiles"] for m in doc["molecules"]}
+    for job, record in zip(doc["jobs"], res.jobs):
+        svg = substrate_svg(smiles[job["substrate"]], record)
+        notes = re.findall(r"<text[^>]*class='note'[^>]*>([^<]*)</text>", svg)
+        text = "".join(notes)
+        from rdkit import Chem
+        heavy = Chem.MolFromSmiles(smiles[job["substrate"]]).GetNumAtoms()
+        lg = job["leaving_group"]
+        assert f"X {lg['leaving_atom_index0'] + 1}" in text and f"\u03b1 {lg['c_alpha_index0'] + 1}" in text
+        for number in range(1, heavy + 1):
+            assert str(number) in text
+        for beta in job["beta_hydrogens"]:
+            assert beta["class_id"] == f"C{beta['beta_carbon_index0'] + 1}-H{beta['representative_index0'] + 1}"
+            assert f"\u03b2 {beta['beta_carbon_index0'] + 1}" in text

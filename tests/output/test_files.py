@@ -31,7 +31,7 @@ def test_report_files_are_the_csv_the_html_and_one_png_per_plot(run, built):
     for job in doc["jobs"]:
         expected |= {f"plots/{job['job_id']}-scan.png", f"plots/{job['job_id']}-products.png"}
         if computed(job):
-            expected.add(f"plots/{job['job_id']}-paths.png")
+            expected |= {f"plots/{job['job_id']}-paths.png", f"plots/{job['job_id']}-profile.png"}
         for b in job["beta_hydrogens"]:
             expected |= {f"plots/{job['job_id']}-newman-{b['class_id']}-{g}.png" for g in ("anti", "syn")}
     assert set(files) == expected
@@ -44,7 +44,7 @@ def test_html_without_trajectories_still_has_scan_plots_and_says_why_projections
     files = build_report_files(tmp_path)
     assert not any("newman" in name for name in files)
     page = parse(files["report.html"].decode("utf-8"))
-    assert all(s["svg"] == 4 for s in page.sections)  # substrate, paths, scans, products
+    assert all(s["svg"] == 5 for s in page.sections)  # substrate, paths, energy profile, scans, products
     assert "the scan trajectory was not available" in " ".join(page.text)
 
 

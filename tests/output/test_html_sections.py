@@ -228,7 +228,7 @@ def test_isotope_table_lists_every_isotope_effect_of_the_json(run, built):
     for section, job in zip(page.sections, doc["jobs"]):
         rows = [[e["text"] for e in section["elements"] if e["tag"] == "td" and e["row"] is r]
                 for r in elements(section, "tr", "kie-row")]
-        expected = [[b["class_id"], k["approach"], k["label"], ", ".join(map(str, k["deuterated_indices"])),
+        expected = [[b["class_id"], k["approach"], k["label"], ", ".join(str(i + 1) for i in k["deuterated_indices0"]),
                      f"{k['kh_kd']:.2f}", f"{k['kh_kd_wigner']:.2f}", f"{k['temperature_K']:g}"]
                     for b in job["beta_hydrogens"] for k in b.get("isotope_effects", ())]
         assert rows == expected

@@ -24,7 +24,7 @@ executor: {workers: 1}
 #: what may differ: when and how each document was made
 VOLATILE = {"created_utc", "command_line"}
 #: fields that name an output file: a batch keeps each job's files in a folder of its own
-FILE_FIELDS = {"conformer_file", "xyz_file", "path_file", "saddle_file"}
+FILE_FIELDS = {"conformer_file", "xyz_file", "path_file", "saddle_file", "complex_file", "product_file"}
 
 
 def _elimscan(*args: str) -> subprocess.CompletedProcess:

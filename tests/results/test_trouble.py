@@ -52,16 +52,16 @@ def classes(document: dict, job_id: str) -> dict:
 
 
 def test_an_scf_failure_on_one_path_is_recorded_there_and_the_rest_goes_on(tmp_path, capsys, monkeypatch):
-    code, err, document = run_batch(tmp_path, capsys, monkeypatch, ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti")
+    code, err, document = run_batch(tmp_path, capsys, monkeypatch, ELIMSCAN_TOY_FAIL_SCF="C4-H10 anti")
     assert code == ExitCode.OK, err  # the jobs themselves finished
     assert [j["status"] for j in document["jobs"]] == ["ok", "ok"]
     betas = classes(document, "2-bromobutane__methoxide")
-    failed = betas["C3-H9"]["anti"]
+    failed = betas["C4-H10"]["anti"]
     assert failed["path_status"] == "failed" and failed["error"]["error_type"] == "scf_not_converged"
     assert "2-bromobutane" in failed["error"]["error_message"] and failed["barrier_kcal_mol"] is None
-    assert {cid: b["anti"]["path_status"] for cid, b in betas.items() if cid != "C3-H9"} == {"C0-H5": "ok",
-                                                                                          "C3-H10": "ok"}
-    assert classes(document, "chloroethane__methoxide")["C0-H3"]["anti"]["path_status"] == "ok"
+    assert {cid: b["anti"]["path_status"] for cid, b in betas.items() if cid != "C4-H10"} == {"C1-H6": "ok",
+                                                                                          "C4-H11": "ok"}
+    assert classes(document, "chloroethane__methoxide")["C1-H4"]["anti"]["path_status"] == "ok"
     assert document["summary"]["trouble"] == {"path failed: scf_not_converged": 1}
     assert "numerical trouble recorded as data: path failed: scf_not_converged: 1" in err
     assert "Traceback" not in err
@@ -85,16 +85,16 @@ def test_one_failed_base_rotation_of_a_complex_is_skipped_and_flagged(tmp_path, 
     # orientations carry the path; only when every orientation fails does the path fail.
     text = CONFIG.replace("base_rotations: 1", "base_rotations: 3")
     code, err, document = run_batch(tmp_path, capsys, monkeypatch, text,
-                                    ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti complex rotation 120")
+                                    ELIMSCAN_TOY_FAIL_SCF="C4-H10 anti complex rotation 120")
     assert code == ExitCode.OK, err
-    anti = classes(document, "2-bromobutane__methoxide")["C3-H9"]["anti"]
+    anti = classes(document, "2-bromobutane__methoxide")["C4-H10"]["anti"]
     assert anti["path_status"] == "ok" and anti["barrier_kcal_mol"] is not None
     assert "base rotation 120 deg of the complex failed (scf_not_converged); the other rotations were used" in anti["flags"]
     assert document["summary"]["trouble"] == {"complex orientation failed": 1}
     (tmp_path / "all").mkdir()
     code, err, document = run_batch(tmp_path / "all", capsys, monkeypatch, text,
-                                    ELIMSCAN_TOY_FAIL_SCF="C3-H9 anti complex rotation")
-    anti = classes(document, "2-bromobutane__methoxide")["C3-H9"]["anti"]
+                                    ELIMSCAN_TOY_FAIL_SCF="C4-H10 anti complex rotation")
+    anti = classes(document, "2-bromobutane__methoxide")["C4-H10"]["anti"]
     assert anti["path_status"] == "failed" and anti["error"]["error_type"] == "scf_not_converged"
 
 

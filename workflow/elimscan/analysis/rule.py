@@ -4,8 +4,8 @@ Penalties: the lowest energy at which a beta hydrogen sits anti-periplanar (|H-C
 or syn-periplanar (<= syn_max_deg) to the leaving group, relative to the global minimum, over every
 conformer and scan point seen (kcal/mol). The rule: the major product is the most substituted alkene
 reachable through an anti-periplanar hydrogen within the energy window (trans over cis), shifted to the
-least substituted one for a bulky base or an onium/fluoride leaving group; products reachable only syn
-or not at all are forbidden under the rule.
+least substituted one for a bulky base or an onium/fluoride leaving group; a product reachable only
+through a syn-periplanar hydrogen is called "syn only", one reachable through neither "blocked".
 """
 
 from __future__ import annotations
@@ -66,7 +66,7 @@ class ClassFacts:
 
 @dataclass(frozen=True)
 class ProductCall:
-    """The rule's call on one alkene: 'major', 'minor' or 'forbidden', the classes giving it, and why."""
+    """The rule's call on one alkene: 'major', 'minor', 'syn only' or 'blocked', the classes giving it, and why."""
 
     smiles: str
     substitution: str
@@ -148,7 +148,7 @@ def class_reason(facts: ClassFacts, status: str) -> str:
     """Return a one-line explanation of a class's status under the rule."""
     def where(p: Periplanar) -> str:
         shapes = f", ring {'/'.join(p.ring_shapes)}" if p.ring_shapes else ""
-        return f"{p.penalty_kcal_mol:.1f} kcal/mol ({p.source}, {p.dihedral_deg:.0f} deg{shapes})"
+        return f"{p.penalty_kcal_mol:.1f} kcal/mol ({p.source}, {p.dihedral_deg:.0f}\u00b0{shapes})"
 
     if status == "anti accessible":
         return f"{facts.class_id}: anti-periplanar at {where(facts.anti)}"
@@ -194,16 +194,20 @@ def rule_verdict(classes: Sequence[ClassFacts], rule: RuleConfig, bulky_base: bo
     else:
         reasoning.append("no beta hydrogen reaches an anti-periplanar geometry below the scan cap: the rule predicts no E2")
 
+    syn_reach = {f.syn_product.smiles for f in classes if f.syn_product.possible and f.syn.penalty_kcal_mol is not None
+                 and f.syn.penalty_kcal_mol <= rule.energy_window_kcal_mol}
     calls = []
     for smiles, (degree, via) in all_products.items():
         if smiles == major:
             call, reason = "major", major_reason
         elif smiles in anti_reach:
             call, reason = "minor", "reachable through an anti-periplanar hydrogen"
+        elif smiles in syn_reach:
+            call, reason = "syn only", "no anti-periplanar hydrogen within the energy window gives it; a syn-periplanar one does"
         else:
-            call, reason = "forbidden", "no anti-periplanar hydrogen within the energy window gives it"
+            call, reason = "blocked", "no anti- or syn-periplanar hydrogen within the energy window gives it"
         calls.append(ProductCall(smiles, degree, call, tuple(sorted(set(via))), reason))
-    order = {"major": 0, "minor": 1, "forbidden": 2}
+    order = {"major": 0, "minor": 1, "syn only": 2, "blocked": 3}
     calls.sort(key=lambda c: (order[c.call], c.smiles))
     return RuleVerdict(tuple(calls), major, shift, tuple(reasoning))
 

@@ -30,7 +30,7 @@ JOB_COPY_FILE = "job.json"
 JOB_OWN_WRITE_ERRNOS = frozenset({errno.ENAMETOOLONG, errno.EILSEQ})
 
 #: output-relative record fields that name a job's files
-_FILE_FIELDS = frozenset({"conformer_file", "xyz_file", "path_file", "saddle_file"})
+_FILE_FIELDS = frozenset({"conformer_file", "xyz_file", "path_file", "saddle_file", "complex_file", "product_file"})
 
 
 def write_file_atomic(out: Path, rel: str, content: bytes,

@@ -9,7 +9,9 @@
 - ``alkenes``: the alkene of one H-Cbeta-Calpha-X dihedral, its substitution, conjugation and Bredt's rule
 - ``betahydrogens``: classes of symmetry-equivalent beta hydrogens (stereo-aware), their anti/syn products,
   Zaitsev/Hofmann ranks
-- ``atomgraph``: what one atom is and what it is bonded to (name, sp3 carbon, methyl, hydrogens)
+- ``atomgraph``: what one atom is and what it is bonded to (name, sp3 carbon, methyl, hydrogens); atom numbers and
+  class labels as people read them (from 1)
+- ``alkenenames``: an alkene in plain words from its SMILES (a known name, E/Z, the substitution pattern)
 - ``bases``: the basic atom of a base and whether the rule counts it as bulky
 - ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules); ``model_cluster``, the one
   builder for the calculation and the input check

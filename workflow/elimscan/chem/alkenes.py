@@ -173,7 +173,7 @@ def alkene_product(
         Chem.SanitizeMol(product)
     except Exception as err:  # RDKit raises several MolSanitizeException subclasses
         raise StructureError(
-            f"alkene from removing H atom {h_index} and {leaving.label} is not valid: {err}"
+            f"alkene from removing H atom {h_index + 1} and {leaving.label} is not valid: {err}"
         ) from err
     Chem.AssignStereochemistryFrom3D(product, confId=conf_id)
     smiles = Chem.MolToSmiles(Chem.RemoveHs(product))

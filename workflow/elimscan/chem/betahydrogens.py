@@ -14,7 +14,7 @@ from rdkit import Chem
 
 from elimscan.errors import StructureError
 from elimscan.chem.alkenes import DEGREE_NAMES, Alkene, alkene_product
-from elimscan.chem.atomgraph import atom_name, bonded_hydrogens, is_methyl, is_sp3_carbon
+from elimscan.chem.atomgraph import atom_name, atom_number, bonded_hydrogens, class_label, is_methyl, is_sp3_carbon
 from elimscan.chem.leavinggroups import LeavingGroup
 from elimscan.chem.stereo import LABEL_X, cleared_maps, isotopomer_key, ring_conformers
 
@@ -25,7 +25,7 @@ __all__ = ["BetaHydrogenClass", "find_beta_classes", "no_beta_error", "zaitsev_r
 class BetaHydrogenClass:
     """Symmetry-equivalent beta hydrogens and the alkenes their anti/syn eliminations give."""
 
-    class_id: str  # 'C<beta carbon>-H<representative H>'
+    class_id: str  # 'C<beta carbon>-H<representative H>', atoms numbered from 1 (a label)
     beta_carbon_index: int  # carbon of the representative hydrogen
     hydrogen_indices: tuple[int, ...]
     representative_index: int
@@ -50,7 +50,7 @@ def no_beta_error(mol: Chem.Mol, lg: LeavingGroup, smiles: str) -> StructureErro
     why = "; ".join(reasons) if reasons else "C-alpha has no carbon neighbour"
     return StructureError(
         f"SMILES {smiles!r}: no beta hydrogen for E2 from {lg.label} on C-alpha C atom "
-        f"{lg.c_alpha_index}: {why}"
+        f"{atom_number(lg.c_alpha_index)}: {why}"
     )
 
 
@@ -94,7 +94,7 @@ def find_beta_classes(
         syn = alkene_product(source, rep, cb, ca.GetIdx(), lg, 0.0)
         classes.append(
             BetaHydrogenClass(
-                class_id=f"C{cb}-H{rep}",
+                class_id=class_label(cb, rep),
                 beta_carbon_index=cb,
                 hydrogen_indices=tuple(sorted(members)),
                 representative_index=rep,

@@ -12,7 +12,7 @@ from types import MappingProxyType
 from rdkit import Chem
 
 from elimscan.errors import StructureError
-from elimscan.chem.atomgraph import atom_name, heavy_neighbors, is_methyl, is_sp3_carbon
+from elimscan.chem.atomgraph import atom_name, atom_number, heavy_neighbors, is_methyl, is_sp3_carbon
 from elimscan.chem.stereo import LABEL_C, LABEL_X, isotopomer_key
 
 __all__ = [
@@ -178,7 +178,7 @@ def find_leaving_groups(mol: Chem.Mol) -> list[LeavingGroup]:
 def describe_candidate(mol: Chem.Mol, lg: LeavingGroup) -> str:
     """Return a one-line description of a candidate for error messages."""
     x = mol.GetAtomWithIdx(lg.leaving_atom_index)
-    return f"{lg.label} (leaving {atom_name(x)}, C-alpha C atom {lg.c_alpha_index})"
+    return f"{lg.label} (leaving {atom_name(x)}, C-alpha C atom {atom_number(lg.c_alpha_index)})"
 
 
 def apply_maps(mol: Chem.Mol, candidates: list[LeavingGroup], smiles: str) -> list[LeavingGroup]:
@@ -243,7 +243,7 @@ def no_leaving_group_error(mol_h: Chem.Mol, smiles: str) -> StructureError:
         return StructureError(
             f"SMILES {smiles!r}: no beta hydrogen for E2: the leaving group {lg.label} "
             f"({atom_name(mol_h.GetAtomWithIdx(lg.leaving_atom_index))}) sits on C atom "
-            f"{lg.c_alpha_index}, which is {kind}, not sp3 (aryl/vinyl substrates do not "
+            f"{atom_number(lg.c_alpha_index)}, which is {kind}, not sp3 (aryl/vinyl substrates do not "
             f"undergo E2 at C-alpha)"
         )
     return StructureError(

@@ -53,7 +53,7 @@ def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True
     heavy = mol.GetNumHeavyAtoms()
     if heavy > MAX_HEAVY_ATOMS:
         raise StructureError(f"{what} '{smiles[:60]}...': {heavy} heavy atoms; at most {MAX_HEAVY_ATOMS} are computed")
-    labelled = [f"{a.GetIsotope()}{a.GetSymbol()} atom {a.GetIdx()}" for a in mol.GetAtoms() if a.GetIsotope()]
+    labelled = [f"{a.GetIsotope()}{a.GetSymbol()} atom {a.GetIdx() + 1}" for a in mol.GetAtoms() if a.GetIsotope()]
     if labelled:
         raise StructureError(f"{what} '{smiles}': isotope labels ({', '.join(labelled)}) are not read: every "
                              "structure is computed with natural masses, and k_H/k_D of each beta hydrogen is "
@@ -63,12 +63,12 @@ def parse_smiles(smiles: str, what: str = "molecule", add_hydrogens: bool = True
     for atom in mol.GetAtoms():
         if atom.GetAtomicNum() > MAX_ATOMIC_NUMBER_GFN2 or atom.GetAtomicNum() < 1:
             raise StructureError(
-                f"{what} '{smiles}': element {atom.GetSymbol()} ({atom.GetSymbol()} atom {atom.GetIdx()}) is outside "
+                f"{what} '{smiles}': element {atom.GetSymbol()} ({atom.GetSymbol()} atom {atom.GetIdx() + 1}) is outside "
                 "GFN2-xTB's range H-Rn"
             )
     radicals = Descriptors.NumRadicalElectrons(mol)
     if radicals:
-        atoms = [f"{a.GetSymbol()} atom {a.GetIdx()}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
+        atoms = [f"{a.GetSymbol()} atom {a.GetIdx() + 1}" for a in mol.GetAtoms() if a.GetNumRadicalElectrons()]
         electrons = sum(a.GetAtomicNum() for a in mol.GetAtoms()) - Chem.GetFormalCharge(mol)
         count = f"{electrons} electrons" + (", an odd count" if electrons % 2 else "")
         raise StructureError(

@@ -14,8 +14,8 @@ RESULTS_FILE = "results.json"
 LOG_FILE = "run.log"
 #: what a run writes besides results.json and run.log: report files, and files of these suffixes in these folders
 REPORT_FILES = ("summary.csv", "series.csv", "report.html")
-RUN_FOLDERS = ("jobs", "substrates", "structures", "plots")
-RUN_SUFFIXES = (".xyz", ".sdf", ".png")
+RUN_FOLDERS = ("jobs", "substrates", "structures", "plots", "report")
+RUN_SUFFIXES = (".xyz", ".sdf", ".png", ".html")
 
 
 def check_output(out: Path, overwrite: bool) -> None:

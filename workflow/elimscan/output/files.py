@@ -1,7 +1,10 @@
 """Report files of a finished output folder: reads results.json and the scan trajectories, returns the files.
 
 This module reads (never writes): :func:`build_report_files` returns {relative path: bytes} for
-``summary.csv``, ``report.html`` and ``plots/*.png``, and the CLI writes them. :func:`validate_result_file`
+``summary.csv``, ``report.html`` and ``plots/*.png``, and the CLI writes them. A run of at most
+:data:`SINGLE_PAGE_MAX_JOBS` jobs gets one self-contained ``report.html``; a larger one an index ``report.html``
+and one small page per job in ``report/`` (``html/batchpages``). Both link the structure files that exist and
+show each saddle's imaginary mode in 3D from its saddle file. :func:`validate_result_file`
 checks any result JSON against the JSON Schema exported by ``results/schema.py`` (the committed
 ``results-schema/`` files equal that export, which ``tests/results/test_schema.py`` enforces).
 """
@@ -18,7 +21,9 @@ from ase import Atoms
 from pydantic import ValidationError
 
 from elimscan.errors import OutputError
+from elimscan.output.html.batchpages import batch_pages
 from elimscan.output.html.page import render_report
+from elimscan.output.html.structures import StructureLinks
 from elimscan.output.plots.figures import figure_png, figure_svg
 from elimscan.output.plots.jobplots import job_figures
 from elimscan.output.plots.series import series_figures
@@ -30,6 +35,10 @@ RESULTS_FILE = "results.json"
 CSV_FILE = "summary.csv"
 SERIES_CSV_FILE = "series.csv"
 HTML_FILE = "report.html"
+#: runs with more jobs get an index page and one page per job instead of one page with every job
+SINGLE_PAGE_MAX_JOBS = 4
+#: a saddle file larger than this (bytes) gets no 3D view (a view is meant for a molecule, not a cluster run)
+VIEW_MAX_BYTES = 400_000
 
 
 def read_result(out_dir: str | Path) -> RunResult:
@@ -83,6 +92,44 @@ def read_scan_frames(out_dir: str | Path, result: RunResult) -> dict[str, list[A
     return frames
 
 
+def _inside(root: Path, rel: str | None) -> Path | None:
+    """Return the file ``rel`` inside ``root`` when it exists there (never outside it), else None."""
+    if not rel:
+        return None
+    path = (root / rel).resolve()
+    return path if path.is_relative_to(root) and path.is_file() else None
+
+
+def structure_files(out_dir: str | Path, result: RunResult) -> tuple[frozenset[str], dict[str, list]]:
+    """Return the structure files of the run that exist in ``out_dir`` (paths relative to it) and the frames
+    {saddle file: [(symbols, positions in Å), ...]} of every saddle file that reads cleanly."""
+    root = Path(out_dir).resolve()
+    named: list[str | None] = []
+    saddles: list[str] = []
+    for job in result.jobs:
+        named.append(job.conformer_file)
+        blocks = [a for b in job.beta_hydrogens for a in (b.anti, b.syn)]
+        blocks += [job.substitution] if job.substitution is not None else []
+        for block in blocks:
+            named += [block.path_file, block.saddle_file, getattr(block, "complex_file", None),
+                      getattr(block, "product_file", None)]
+            if block.saddle_file:
+                saddles.append(block.saddle_file)
+    present = frozenset(rel for rel in named if _inside(root, rel) is not None)
+    frames: dict[str, list] = {}
+    for rel in saddles:
+        path = _inside(root, rel)
+        if path is None or path.stat().st_size > VIEW_MAX_BYTES or rel in frames:
+            continue
+        try:
+            images = ase.io.read(path, index=":", format="extxyz")
+        except (OSError, ValueError, IndexError, KeyError):
+            continue
+        if images and all(len(a) == len(images[0]) for a in images):
+            frames[rel] = [(a.get_chemical_symbols(), a.positions.tolist()) for a in images]
+    return present, frames
+
+
 def _figures(result: RunResult, frames: Mapping[str, Sequence[Atoms]]) -> dict:
     """Return {plot name: matplotlib Figure} for every job of the run."""
     rule = result.config.rule
@@ -99,8 +146,9 @@ def load_assets(out_dir: str | Path) -> dict[str, str]:
     return {name: figure_svg(fig) for name, fig in _figures(result, read_scan_frames(out_dir, result)).items()}
 
 
-def build_report_files(out_dir: str | Path) -> dict[str, bytes]:
-    """Return {path relative to out_dir: content} for summary.csv (series.csv), report.html, plots/*.png from results.json."""
+def build_report_files(out_dir: str | Path, single_page_max_jobs: int = SINGLE_PAGE_MAX_JOBS) -> dict[str, bytes]:
+    """Return {path relative to out_dir: content} for summary.csv (series.csv), report.html (with report/*.html for
+    more than ``single_page_max_jobs`` jobs) and plots/*.png, from results.json and the structure files beside it."""
     result = read_result(out_dir)
     figures = _figures(result, read_scan_frames(out_dir, result))
     files: dict[str, bytes] = {}
@@ -111,7 +159,13 @@ def build_report_files(out_dir: str | Path) -> dict[str, bytes]:
     files[CSV_FILE] = summary_csv(result).encode("utf-8")
     if result.series:
         files[SERIES_CSV_FILE] = series_csv(result).encode("utf-8")
-    files[HTML_FILE] = render_report(result, assets).encode("utf-8")
+    present, frames = structure_files(out_dir, result)
+    if len(result.jobs) <= single_page_max_jobs:
+        files[HTML_FILE] = render_report(result, assets, StructureLinks("", present, frames)).encode("utf-8")
+    else:
+        plots = frozenset(name for name in files if name.startswith("plots/"))
+        for name, page in batch_pages(result, plots, StructureLinks("../", present, frames)).items():
+            files[name] = page.encode("utf-8")
     return dict(sorted(files.items()))
 
 

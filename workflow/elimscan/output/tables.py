@@ -14,8 +14,10 @@ Columns of ``summary.csv``, in this order (only columns that hold data in this v
                                       batch over several solvents, else the config's
 ``solvent``                           the job's solvent name (empty for ``none``)
 ``product_smiles``                    the alkene
+``product_description``               the alkene in plain words: its name when a common one is known, E/Z and the
+                                      substitution pattern (``chem/alkenenames.alkene_description``)
 ``substitution``                      its substitution (``mono``, ``di``, ``tri``, ``tetra``)
-``rule_call``                         the geometric rule's call: ``major``, ``minor`` or ``forbidden``
+``rule_call``                         the geometric rule's call: ``major``, ``minor``, ``syn only`` or ``blocked``
 ``via_classes``                       beta-H classes whose anti or syn elimination gives it, separated by ``;``
 ``anti_penalty_kcal_mol``             lowest anti penalty (kcal/mol, GFN2-xTB electronic, 2 decimals) of the classes
                                       whose *anti* elimination gives it; empty when none reaches anti below the cap
@@ -66,7 +68,7 @@ A config with substituent series also gets ``series.csv`` (:func:`series_csv`), 
 ====================================  =================================================================================
 
 Rows follow results.json: jobs in order, and within a job the products in the rule's order (major,
-minor, forbidden). A failed job has one row with empty product columns, so no job is silently missing.
+minor, syn only, blocked). A failed job has one row with empty product columns, so no job is silently missing.
 Numbers have fixed formatting and lines end in ``\\n``: the same results.json gives the same bytes.
 """
 
@@ -75,12 +77,13 @@ from __future__ import annotations
 import csv
 import io
 
+from elimscan.chem.alkenenames import alkene_description
 from elimscan.config import SolventConfig
 from elimscan.results.documents import RunResult
 from elimscan.results.records import ApproachRecord, BetaHydrogenRecord, JobRecord, ProductRecord, counts_as_barrier
 
 SUMMARY_COLUMNS = ("job_id", "job_status", "substrate", "substrate_smiles", "base", "base_bulky", "leaving_group",
-                   "solvent_model", "solvent", "product_smiles", "substitution", "rule_call", "via_classes",
+                   "solvent_model", "solvent", "product_smiles", "product_description", "substitution", "rule_call", "via_classes",
                    "anti_penalty_kcal_mol", "lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol",
                    "lowest_free_barrier_kcal_mol", "fraction", "fraction_low", "fraction_high", "elimination_fraction",
                    "computed_major", "agreement", "within_method_uncertainty",
@@ -180,7 +183,8 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
             computed_major = None
             if verdict is not None and verdict.computed_major is not None:
                 computed_major = product.smiles == verdict.computed_major
-            rows.append({**head, "product_smiles": product.smiles, "substitution": product.substitution,
+            rows.append({**head, "product_smiles": product.smiles,
+                         "product_description": alkene_description(product.smiles), "substitution": product.substitution,
                          "rule_call": product.rule_call, "via_classes": ";".join(product.via_classes),
                          "anti_penalty_kcal_mol": _kcal(product_anti_penalty_kcal_mol(job, product)),
                          "lowest_barrier_kcal_mol": _barrier(None if best is None else best.barrier_kcal_mol),

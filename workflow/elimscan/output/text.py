@@ -7,6 +7,7 @@ from collections.abc import Sequence
 
 from elimscan.analysis.comparison import SubstrateComparison, compare_substrates
 from elimscan.analysis.headline import job_headline
+from elimscan.chem.alkenenames import alkene_description
 from elimscan.output.comparison import comparison_text
 from elimscan.output.headline import headline_lines
 from elimscan.results.documents import RunResult, SeriesRecord
@@ -53,7 +54,10 @@ def r_squared_text(r_squared: float | None) -> str:
 
 
 def job_table(job: JobRecord) -> list[str]:
-    """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls."""
+    """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls.
+
+    Atoms are numbered from 1; SMILES are never cut: a long one pushes its row's columns right.
+    """
     lines = [f"job {job.job_id}: {job.status}"]
     if job.status == "ok" and job.rule is not None:
         lines.extend(headline_lines(job_headline(job)))
@@ -63,21 +67,23 @@ def job_table(job: JobRecord) -> list[str]:
         return lines
     lg = job.leaving_group
     base = job.base_info
-    lines.append(f"  leaving group {lg.label} (atom {lg.leaving_atom_index}, C-alpha {lg.c_alpha_index}); "
+    lines.append(f"  leaving group {lg.label} (atom {lg.leaving_atom_index + 1}, C-alpha atom {lg.c_alpha_index + 1}); "
                  f"base {'bulky' if base.bulky else 'not bulky'} ({base.bulky_reason}); {len(job.conformers)} conformers")
-    lines.append(f"  {'class':<12}{'deg':>4}  {'anti product':<24}{'anti pen':>9}{'syn pen':>9}"
-                 f"{'dE anti':>9}{'dE syn':>9}  rule status")
+    lines.append(f"  {'class':<12}{'degeneracy':>10}{'anti penalty':>13}{'syn penalty':>12}"
+                 f"{'dE anti':>9}{'dE syn':>9}  {'rule status':<16}anti product")
     for b in job.beta_hydrogens:
-        lines.append(f"  {b.class_id:<12}{b.degeneracy:>4}  {b.anti.product_smiles[:23]:<24}"
-                     f"{_kcal(b.anti_penalty_kcal_mol):>9}{_kcal(b.syn_penalty_kcal_mol):>9}"
-                     f"{_barrier(b.anti):>9}{_barrier(b.syn):>9}  {b.rule_status}")
-    lines.append("  pen: lowest anti-/syn-periplanar energy above the global minimum; dE: barrier above substrate + free base")
+        lines.append(f"  {b.class_id:<12}{b.degeneracy:>10}"
+                     f"{_kcal(b.anti_penalty_kcal_mol):>13}{_kcal(b.syn_penalty_kcal_mol):>12}"
+                     f"{_barrier(b.anti):>9}{_barrier(b.syn):>9}  {b.rule_status:<16}{b.anti.product_smiles}")
+    lines.append("  penalty: lowest anti-/syn-periplanar energy above the global minimum; dE: barrier above substrate + "
+                 "free base; degeneracy: equivalent hydrogens of the class")
     lines.append("  (kcal/mol, GFN2-xTB electronic energies; * = relaxed-path estimate, saddle not verified; read relative values)")
-    lines.append(f"  {'rule':<10}{'product':<28}{'subst':<6}{'computed':>9}  {'range':<13} why (rule)")
+    lines.append(f"  {'rule':<10}{'computed':>9}  {'range':<13} product (SMILES, name) / why (rule)")
     for p in job.products:
         fraction = "-" if p.fraction is None else f"{p.fraction:.0%}"
         spread = "" if p.fraction_range is None else f"{p.fraction_range[0]:.0%}-{p.fraction_range[1]:.0%}"
-        lines.append(f"  {p.rule_call:<10}{p.smiles[:27]:<28}{p.substitution:<6}{fraction:>9}  {spread:<13} {p.reason}")
+        lines.append(f"  {p.rule_call:<10}{fraction:>9}  {spread:<13} {p.smiles}  {alkene_description(p.smiles)}")
+        lines.append(f"  {'':<35}why: {p.reason}")
     if job.verdict is not None:
         lines.append(f"  barriers against the rule: {job.verdict.reason}")
     return lines

@@ -83,8 +83,28 @@ def base_file(name: str, relaxed, method_label: str) -> tuple[str, bytes] | None
             xyz_bytes([relaxed.atoms], [{"name": name, "energy_hartree": relaxed.record.energy_hartree}], method_label))
 
 
+def end_files(block, path, zero_hartree: float, class_id: str, approach: str, method_label: str) -> Files:
+    """Return the XYZ of a path's base-substrate complex and of its product side (the last path point), each one
+    frame with its energy (hartree, and kcal/mol above the job's zero) and what it is in the frame's info."""
+    files: Files = {}
+    ends = [(block.complex_file, path.complex.atoms, path.complex.energy_hartree, "base-substrate complex")]
+    if path.points:
+        reached = getattr(block, "reaches_products", None) is not False
+        ends.append((block.product_file, path.points[-1].atoms, path.points[-1].energy_hartree,
+                     "product side (last path point)" if reached else "last path point (products not reached)"))
+    for name, atoms, energy, what in ends:
+        if name is None or atoms is None:
+            continue
+        files[name] = xyz_bytes([atoms], [{"energy_hartree": energy, "what": what, "class_id": class_id,
+                                           "approach": approach,
+                                           "relative_energy_kcal_mol": (energy - zero_hartree) * KCAL_MOL_PER_HARTREE}],
+                                method_label)
+    return files
+
+
 def path_files(job, paths: dict, method_label: str, mode_amplitude_A: float = 0.3, mode_frames: int = 13) -> Files:
-    """Return each computed path (XYZ) and each saddle with frames along its imaginary mode."""
+    """Return each computed path (XYZ), its complex and product side (XYZ) and each saddle with frames along its
+    imaginary mode."""
     files: Files = {}
     zero = job.reference_energy_hartree
     blocks = [(record.class_id, approach, getattr(record, approach)) for record in job.beta_hydrogens
@@ -101,6 +121,8 @@ def path_files(job, paths: dict, method_label: str, mode_amplitude_A: float = 0.
               "relative_energy_kcal_mol": (p.energy_hartree - zero) * KCAL_MOL_PER_HARTREE,
               "class_id": class_id, "approach": approach, **p.distances} for p in path.points],
             method_label)
+        if hasattr(path, "complex"):
+            files.update(end_files(block, path, zero, class_id, approach, method_label))
         saddle = path.saddle
         if block.saddle_file is None or saddle.atoms is None:
             continue

@@ -66,7 +66,9 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
                                    c_beta_h_A=round(p.distances["c_beta_h_A"], 4), base_h_A=round(p.distances["base_h_A"], 4),
                                    c_alpha_x_A=round(p.distances["c_alpha_x_A"], 4)) for p in path.points),
         path_file=path_file_name(job_id, class_id, approach),
-        saddle_file=path_file_name(job_id, class_id, approach, "saddle") if path.saddle.atoms is not None else None)
+        saddle_file=path_file_name(job_id, class_id, approach, "saddle") if path.saddle.atoms is not None else None,
+        complex_file=path_file_name(job_id, class_id, approach, "complex"),
+        product_file=path_file_name(job_id, class_id, approach, "product") if path.points else None)
 
 
 def _scan_record(scan: DihedralScan, global_min: float, xyz_file: str) -> ScanRecord:
@@ -107,7 +109,7 @@ def _isotope_records(numbers: JobNumbers, class_id: str, temperature_K: float) -
                  for k in numbers.isotope_effects[class_id])
 
 
-def _substitution_record(numbers: JobNumbers, paths: JobPaths, job_id: str) -> SubstitutionRecord | None:
+def _substitution_record(numbers: JobNumbers, paths: JobPaths, job_id: str, zero: float) -> SubstitutionRecord | None:
     """Return the SN2 record of a job (None when substitution was not asked for)."""
     sn2 = numbers.substitution
     if sn2 is None:
@@ -126,6 +128,11 @@ def _substitution_record(numbers: JobNumbers, paths: JobPaths, job_id: str) -> S
         imaginary_frequency_cm1=None if path.saddle.imaginary_cm1 is None else round(path.saddle.imaginary_cm1, 1),
         saddle_note=path.saddle.reason, path_file=path_file_name(job_id, "substitution", "backside"),
         saddle_file=path_file_name(job_id, "substitution", "backside", "saddle") if path.saddle.atoms is not None else None,
+        complex_file=path_file_name(job_id, "substitution", "backside", "complex"),
+        product_file=path_file_name(job_id, "substitution", "backside", "product") if path.points else None,
+        complex_energy_kcal_mol=round((path.complex.energy_hartree - zero) * KCAL_MOL_PER_HARTREE, 3),
+        path_end_energy_kcal_mol=(round((path.points[-1].energy_hartree - zero) * KCAL_MOL_PER_HARTREE, 3)
+                                  if path.points else None),
         elimination_fraction=round(sn2.shares[0], 4) if sn2.shares else None,
         substitution_fraction=round(sn2.shares[1], 4) if sn2.shares else None)
 
@@ -191,7 +198,7 @@ def pack_job(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, analysis: Sub
                               agreement=computed.agreement, within_method_uncertainty=computed.within_method_uncertainty,
                               reason=computed.reason),
         energy_used="free" if numbers.use_free else "electronic",
-        substitution=_substitution_record(numbers, paths, name),
+        substitution=_substitution_record(numbers, paths, name, zero),
     )
 
 

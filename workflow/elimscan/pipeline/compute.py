@@ -129,7 +129,7 @@ def _class_scans(substrate: Substrate, beta_class: BetaHydrogenClass, ensemble: 
         plan = branch_plan(phi, in_ring, config.scan, targets)
         if on_progress is not None:
             on_progress(DETAIL, DETAIL, f"{name}: scanning H-C-C-X of {beta_class.class_id} from conformer {conformer_id} "
-                              f"({phi:.0f} deg, {sum(n for _, n in plan)} points)")
+                              f"({phi:.0f}\u00b0, {sum(n for _, n in plan)} points)")
         scans.append(scan_dihedral(conformer.atoms, quad, engine, charge, multiplicity, plan, config.scan,
                                    config.optimizer, rings, start_label=f"conformer {conformer_id}", name=name))
     return tuple(scans)

@@ -5,5 +5,6 @@
 - ``schema``: the JSON Schema files exported from the documents (``make schema``)
 - ``trouble``: counts of numerical trouble over job records, for ``summary.trouble``
 - ``failures``: one of our errors as the ``ErrorInfo`` a record carries
+- ``relabel``: class labels of results before schema 0.7.1 (atoms from 0) renumbered from 1 when read
 - ``flags``: the wording of path flags that drivers write and the trouble counts read
 """

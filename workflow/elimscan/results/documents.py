@@ -9,15 +9,20 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import Field
+from pydantic import Field, model_validator
 
 from elimscan.config import ExecutorConfig, RunConfig, SolventConfig
 from elimscan.results.records import ErrorInfo, JobRecord, MoleculeRecord, Record
+from elimscan.results.relabel import OLD_JOB_COPY_VERSIONS, OLD_RESULT_VERSIONS, class_map, relabel_job, relabel_text
 
 RESULT_SCHEMA_NAME = "elimscan.result"
-#: 0.7.1 added optional fields only: the path records' reaches_products (a path shown not to reach its products)
-#: and budget_spent_in (a path stopped by its gradient budget), and the config keys paths.gradient_budget_per_atom
-#: and substrates[].experiment (observations per base, shown and scored in the report).
+#: 0.7.1 added the path records' reaches_products (a path shown not to reach its products) and budget_spent_in (a
+#: path stopped by its gradient budget), the config keys paths.gradient_budget_per_atom and substrates[].experiment
+#: (observations per base, shown and scored in the report); it also renamed the 0-based atom indices of the job
+#: records (leaving_atom_index0, c_alpha_index0, beta_carbon_index0, hydrogen_indices0, representative_index0,
+#: deuterated_indices0, basic_atom_index0: older names are still read), numbers the atoms of class_id from 1,
+#: splits the rule call 'forbidden' into 'syn only' and 'blocked', and adds the structure files of each path
+#: (complex_file, product_file).
 #: 0.7.0 added optional fields only: config keys method.engine_factory and paths.saddle.path_point_starts, and
 #: provenance.scipy_version, sella_version and pyscf_version (every library of the job key); run's documents now
 #: carry each job's solvent and key as batch's do.
@@ -31,7 +36,8 @@ RESULT_SCHEMA_VERSION = "0.7.1"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
-JOB_COPY_SCHEMA_VERSION = "0.1.0"
+#: 0.1.1: the job record's renamed index fields and rule calls of result schema 0.7.1
+JOB_COPY_SCHEMA_VERSION = "0.1.1"
 
 
 class Provenance(Record):
@@ -124,6 +130,24 @@ class RunResult(Record):
     summary: RunSummary
     series: tuple[SeriesRecord, ...] = Field((), description="substituent series (Hammett fits) of the config")
 
+    @model_validator(mode="before")
+    @classmethod
+    def _numbered_from_one(cls, data: object) -> object:
+        """Return a document of schema 0.7.0 or older with its class labels numbered from 1 (``relabel``)."""
+        if not isinstance(data, dict) or data.get("schema_version") not in OLD_RESULT_VERSIONS:
+            return data
+        jobs = data.get("jobs")
+        maps = {j.get("job_id"): class_map(j) for j in jobs if isinstance(j, dict)} if isinstance(jobs, list) else {}
+        series = data.get("series")
+        if isinstance(series, list):
+            series = [{**s, "points": [{**pt, "path": relabel_text(pt["path"], maps.get(pt.get("job_id"), {}))}
+                                       if isinstance(pt, dict) and isinstance(pt.get("path"), str) else pt
+                                       for pt in s.get("points") or ()]} if isinstance(s, dict) else s for s in series]
+            data = {**data, "series": series}
+        if isinstance(jobs, list):
+            data = {**data, "jobs": [relabel_job(j) for j in jobs]}
+        return data
+
 
 class FileChecksum(Record):
     """One file a batch job wrote: its path, SHA-256 and size, as committed to the store."""
@@ -184,7 +208,7 @@ class FinishedJobCopy(Record):
     other files), from which a damaged store is rebuilt."""
 
     schema_name: Literal["elimscan.batch-job"] = JOB_COPY_SCHEMA_NAME
-    schema_version: Literal["0.1.0"] = JOB_COPY_SCHEMA_VERSION
+    schema_version: Literal["0.1.1", "0.1.0"] = JOB_COPY_SCHEMA_VERSION
     job_key: str = Field(description="SHA-256 of the job's inputs and every setting that changes its numbers")
     job_id: str
     substrate: str
@@ -200,3 +224,11 @@ class FinishedJobCopy(Record):
     wall_seconds: float | None = Field(None, description="wall time of the job (s)")
     worker: str | None = Field(None, description="the worker that computed it (local process or Dask worker)")
     files: tuple[FileChecksum, ...] = Field((), description="the job's other files, as committed to the store")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _numbered_from_one(cls, data: object) -> object:
+        """Return a job copy of schema 0.1.0 with its class labels numbered from 1 (``relabel``)."""
+        if isinstance(data, dict) and data.get("schema_version") in OLD_JOB_COPY_VERSIONS:
+            return {**data, "job": relabel_job(data.get("job"))}
+        return data

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import AliasChoices, BaseModel, ConfigDict, Field
 
 from elimscan.config import SolventConfig
 from elimscan.results.flags import no_barrier_reason
@@ -17,7 +17,18 @@ from elimscan.results.flags import no_barrier_reason
 class Record(BaseModel):
     """Base of every result model: immutable, unknown fields refused."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, validate_by_name=True, validate_by_alias=True,
+                              serialize_by_alias=True)
+
+
+def index0_field(name: str, what: str):
+    """Return the Field of a 0-based atom index (or tuple of them) written as ``<name>0`` in JSON.
+
+    Results of schema 0.7.0 and older wrote ``<name>``: both are read, ``<name>0`` is written. People read
+    atoms numbered from 1 (index + 1); the machine fields keep RDKit's and ASE's 0-based order and say so.
+    """
+    return Field(validation_alias=AliasChoices(f"{name}0", name), serialization_alias=f"{name}0",
+                 description=f"{what}: 0-based atom index (RDKit/ASE order); the number people read is index + 1")
 
 
 class ErrorInfo(Record):
@@ -55,8 +66,8 @@ class LeavingGroupRecord(Record):
 
     label: str
     kind: str
-    leaving_atom_index: int
-    c_alpha_index: int
+    leaving_atom_index: int = index0_field("leaving_atom_index", "X, the atom bonded to C-alpha")
+    c_alpha_index: int = index0_field("c_alpha_index", "C-alpha")
     map_number: int | None = Field(None, description="1-based SMILES atom-map label, when the user gave one")
 
 
@@ -110,7 +121,7 @@ class IsotopeEffectRecord(Record):
     """A primary kinetic isotope effect k_H/k_D of one beta-H class (harmonic Bigeleisen-Mayer)."""
 
     label: str = Field(description="which hydrogens carry deuterium")
-    deuterated_indices: tuple[int, ...]
+    deuterated_indices: tuple[int, ...] = index0_field("deuterated_indices", "the hydrogens carrying deuterium")
     approach: Literal["anti", "syn"]
     kh_kd: float
     kh_kd_wigner: float = Field(description="with Wigner's tunnelling correction")
@@ -182,6 +193,9 @@ class ApproachRecord(Record):
     path: tuple[PathPointRecord, ...] = ()
     path_file: str | None = Field(None, description="extended XYZ of the path, relative to the output folder")
     saddle_file: str | None = Field(None, description="extended XYZ: saddle and frames along its imaginary mode")
+    complex_file: str | None = Field(None, description="extended XYZ of the base-substrate complex the path starts from")
+    product_file: str | None = Field(None, description="extended XYZ of the product side: the last point of the relaxed "
+                                     "path (products only when reaches_products is not false)")
     error: ErrorInfo | None = None
     barrier_dft_kcal_mol: float | None = Field(
         None, description="DFT single-point energy of this path's top geometry relative to the lowest DFT saddle of the "
@@ -193,11 +207,12 @@ class ApproachRecord(Record):
 class BetaHydrogenRecord(Record):
     """One class of symmetry-equivalent beta hydrogens."""
 
-    class_id: str
-    beta_carbon_index: int
-    hydrogen_indices: tuple[int, ...]
-    representative_index: int
-    degeneracy: int
+    class_id: str = Field(description="label 'C<beta carbon>-H<representative H>', atoms numbered from 1 since schema "
+                          "0.7.1 (0-based before)")
+    beta_carbon_index: int = index0_field("beta_carbon_index", "C-beta")
+    hydrogen_indices: tuple[int, ...] = index0_field("hydrogen_indices", "the equivalent hydrogens of the class")
+    representative_index: int = index0_field("representative_index", "the hydrogen that names the class")
+    degeneracy: int = Field(description="number of equivalent hydrogens in the class")
     anti_penalty_kcal_mol: float | None
     syn_penalty_kcal_mol: float | None
     rule_status: Literal["anti accessible", "syn only", "blocked"]
@@ -212,7 +227,10 @@ class ProductRecord(Record):
 
     smiles: str
     substitution: str
-    rule_call: Literal["major", "minor", "forbidden"]
+    rule_call: Literal["major", "minor", "syn only", "blocked", "forbidden"] = Field(
+        description="the geometric rule's call: major, minor (another anti-reachable alkene), syn only (only a "
+                    "syn-periplanar hydrogen within the window gives it) or blocked (no periplanar hydrogen within the "
+                    "window gives it); 'forbidden' only in results before schema 0.7.1 (syn only or blocked)")
     via_classes: tuple[str, ...]
     reason: str
     fraction: float | None = Field(None, description="computed share (Curtin-Hammett, Boltzmann over path barriers)")
@@ -224,7 +242,7 @@ class ProductRecord(Record):
 class BaseRecord(Record):
     """The base as the rule sees it."""
 
-    basic_atom_index: int
+    basic_atom_index: int = index0_field("basic_atom_index", "the base's basic atom")
     bulky: bool
     bulky_reason: str
     smiles: str | None = Field(None, description="the base itself (without counter-ion or explicit molecules)")
@@ -261,6 +279,11 @@ class SubstitutionRecord(Record):
     saddle_note: str | None = None
     path_file: str | None = None
     saddle_file: str | None = None
+    complex_file: str | None = Field(None, description="extended XYZ of the complex the SN2 path starts from")
+    product_file: str | None = Field(None, description="extended XYZ of the last point of the relaxed SN2 path")
+    complex_energy_kcal_mol: float | None = Field(None, description="the SN2 complex above the zero of the barriers")
+    path_end_energy_kcal_mol: float | None = Field(None, description="the last point of the relaxed SN2 path above the "
+                                                   "zero of the barriers (the product side when reaches_products)")
     error: ErrorInfo | None = None
     elimination_fraction: float | None = Field(None, description="share of all E2 paths against the SN2 path")
     substitution_fraction: float | None = None

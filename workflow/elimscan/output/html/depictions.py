@@ -1,4 +1,4 @@
-"""RDKit depictions: the substrate as SVG with its classes labelled, each alkene as a small PNG."""
+"""RDKit depictions: the substrate as SVG with its atoms numbered from 1 and its classes labelled, each alkene as a small PNG."""
 
 from __future__ import annotations
 
@@ -43,9 +43,11 @@ def _depiction_mol(smiles: str, keep_h: set[int]) -> tuple[Chem.Mol, dict[int, i
 
 
 def substrate_svg(smiles: str, job: JobRecord, width: int = 420, height: int = 300) -> str:
-    """Return an SVG depiction of the substrate: X, Cα and Cβ marked, each class's hydrogen labelled in kcal/mol.
+    """Return an SVG depiction of the substrate: every heavy atom numbered from 1, X, Cα and Cβ marked, each class's
+    hydrogen labelled with its class and a value in kcal/mol.
 
-    The label is the class's lowest relative barrier when the job has barriers, else its anti cost.
+    The value is the class's lowest relative barrier when the job has barriers, else its anti penalty. The numbers
+    are those of the class labels and messages (RDKit's atom order with hydrogens, from 1).
     """
     reps = {b.representative_index: b for b in job.beta_hydrogens}
     built = _depiction_mol(smiles, set(reps))
@@ -57,13 +59,15 @@ def substrate_svg(smiles: str, job: JobRecord, width: int = 420, height: int = 3
     if not needed <= set(index):  # the SMILES does not match the record's atoms
         return ""
     colours: dict[int, tuple[float, float, float]] = {}
-    notes = {lg.leaving_atom_index: "X", lg.c_alpha_index: "^"}
+    notes = {record: str(record + 1) for record in index}  # every drawn atom carries its number
+    notes[lg.leaving_atom_index] = f"X {lg.leaving_atom_index + 1}"
+    notes[lg.c_alpha_index] = f"^ {lg.c_alpha_index + 1}"
     barriers = has_barriers(job)
     for b in job.beta_hydrogens:
-        notes.setdefault(b.beta_carbon_index, "`")
+        notes[b.beta_carbon_index] = f"` {b.beta_carbon_index + 1}"
         value = lowest_relative_barrier_kcal_mol(b) if barriers else b.anti_penalty_kcal_mol
-        cost = "-" if value is None else f"{value:.2f}"  # ASCII only (see above)
-        notes[b.representative_index] = f"{b.class_id}: {cost}"
+        shown = "-" if value is None else f"{value:.2f}"  # ASCII only (see above)
+        notes[b.representative_index] = f"{b.class_id}: {shown}"
         colours[index[b.representative_index]] = _DEPICT_STATUS.get(b.rule_status, (0.85, 0.85, 0.85))
     colours[index[lg.leaving_atom_index]] = _DEPICT_X
     for record_index, note in notes.items():

@@ -8,6 +8,7 @@ from elimscan.output.html.boxes import headline_box, substitution_box
 from elimscan.output.html.cells import anchor, esc, figure_block, inline_svg
 from elimscan.output.html.depictions import substrate_svg
 from elimscan.output.html.jobtables import beta_table, isotope_table, product_table
+from elimscan.output.html.structures import StructureLinks, saddle_views
 from elimscan.output.html.words import CAUTION, ENERGY_WORDS, NO_BARRIERS_JOB, method_line
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL
 from elimscan.output.plots.jobplots import NEWMAN_TARGETS_DEG, newman_plot_name, plot_name, shown_kinds
@@ -34,6 +35,12 @@ PLOT_WORDS: dict[str, Callable[[bool], tuple[str, str, str]]] = {
         "Energy along each relaxed path (colour: class; solid: anti, dashed: syn) above substrate + free base; "
         "diamonds at the path maximum: filled, verified saddle (at its energy); open, unverified "
         "(the path maximum).", "No path plot."),
+    "profile": lambda barriers: (
+        "Energy profile",
+        "Every path with a barrier, E2 (class colour) and SN2 (black), through its stages above substrate + free base: "
+        "the base\u2013substrate complex, the saddle (solid: verified; dashed: unverified, the relaxed-path maximum) and "
+        "the product side (the last relaxed path point, products still together). Electronic energies, kcal/mol.",
+        "No energy profile."),
     "character": lambda barriers: (
         "Saddle character",
         "Each verified E2 saddle (class and path) on the two cleavage axes, 1 \u2212 Pauling bond order "
@@ -74,8 +81,12 @@ def newman_block(job: JobRecord, assets: Mapping[str, str]) -> str:
     return text + '<div class="newman">' + "".join(parts) + "</div>"
 
 
-def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], own: Mapping[str, str]) -> str:
-    """Return one job's section: plots from ``assets``, else ``own`` (drawn by the page); a failed job says why."""
+def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], own: Mapping[str, str],
+                links: StructureLinks | None = None) -> str:
+    """Return one job's section: plots from ``assets``, else ``own`` (drawn by the page); a failed job says why.
+
+    With ``links`` the tables link the job's structure files and its saddles get 3D views.
+    """
     head = (f'<section class="job" id="{esc(anchor(job))}" data-job="{esc(job.job_id)}">\n'
             f"<h2>{esc(job.substrate)} with {esc(job.base)}</h2>\n"
             f'<p class="meta">job <code>{esc(job.job_id)}</code> \u00b7 status <span class="status-{esc(job.status)}">'
@@ -90,8 +101,8 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
     else:
         barrier_words = NO_BARRIERS_JOB
     foot = (f'<div class="job-foot"><p><strong>Method:</strong> {esc(method_line(result, job_solvent(result, job)))}.</p>'
-            "<p><strong>What the numbers are:</strong> GFN2-xTB electronic energies in kcal/mol. Anti and syn costs are "
-            "conformational costs relative to this substrate's global minimum, not barriers; "
+            "<p><strong>What the numbers are:</strong> GFN2-xTB electronic energies in kcal/mol. Anti and syn penalties are "
+            "conformational penalties relative to this substrate's global minimum, not barriers; "
             f"{esc(barrier_words)}.</p>"
             f'<p class="caution-line"><strong>Caution:</strong> {esc(CAUTION)}</p></div>\n')
     if job.status != "ok" or job.leaving_group is None or job.base_info is None or job.rule is None:
@@ -103,10 +114,12 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
     depiction = substrate_svg(smiles, job)
     facts = [
         ("substrate SMILES", f'<span class="smiles">{esc(smiles)}</span>'),
-        ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index}, on C\u03b1 {lg.c_alpha_index}"
+        ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index + 1}, on C\u03b1 atom {lg.c_alpha_index + 1}"
          + (f", map number {lg.map_number}" if lg.map_number is not None else "")),
         ("base", f"{esc(job.base)}: {'bulky' if base.bulky else 'not bulky'} ({esc(base.bulky_reason)})"),
-        ("conformers kept", str(len(job.conformers))),
+        ("conformers kept", str(len(job.conformers)) + (
+            f' (<a class="structure-link" href="{esc(href)}">conformers.sdf</a>)'
+            if links is not None and (href := links.href(job.conformer_file)) else "")),
         ("rule\u2019s major alkene", f'<span class="smiles">{esc(rule.rule_major or "none")}</span>'),
         ("shift to the less substituted alkene", "yes" if rule.hofmann_shift else "no"),
         ("rule\u2019s energy window", f"{rule.energy_window_kcal_mol:g} kcal/mol"),
@@ -126,17 +139,17 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         picture = (f'<figure class="substrate">{inline_svg(depiction, anchor(job) + "-substrate")}<figcaption>X: leaving group; '
                    + ("\u03b1/\u03b2: the carbons; each class's hydrogen carries its lowest relative barrier \u0394E\u2021 "
                       "(anti or syn) in kcal/mol (\u201c-\u201d: no computed path; " if barriers else
-                      "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti cost in kcal/mol "
+                      "\u03b1/\u03b2: the carbons; each class's hydrogen carries its anti penalty in kcal/mol "
                       "(\u201c-\u201d: never reached below the cap; ")
                    + "blue: anti accessible, orange: syn only, red: blocked under the rule).</figcaption></figure>")
     body = [
         headline_box(job),
         f'<div class="top">{picture}<div>{dl}</div></div>',
-        "<h3>Beta hydrogens</h3>", beta_table(job),
-        '<p class="note">Cost: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '
+        "<h3>Beta hydrogens</h3>", beta_table(job, links),
+        '<p class="note">Penalty: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '
         f"{result.config.rule.anti_min_deg:g}\u00b0) or syn-periplanar (|\u03c6| \u2264 {result.config.rule.syn_max_deg:g}\u00b0) "
         "to the leaving group, above the global minimum. Class C3-H10 is the hydrogen H10 on C\u03b2 atom 3 and its "
-        "equivalents; atom indices are 0-based as in results.json."
+        "equivalents; atoms are numbered from 1 as in the drawing (the *_index0 fields of results.json count from 0)."
         + (" \u0394E\u2021: electronic barrier in kcal/mol, rel. above the job's lowest, abs. above the substrate's global "
            "minimum + free base; \u03bd\u2021: the saddle's imaginary frequency; the numbered notes explain unverified "
            "saddles, failed paths and flagged paths. \u0394G\u2021: quasi-RRHO free-energy barrier in kcal/mol (1 M), "
@@ -146,7 +159,8 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         "<h3>Alkenes: the rule\u2019s call" + (" and the computed shares</h3>" if barriers else "</h3>"),
         product_table(job),
     ]
-    body += plot_blocks(job, ("paths", "character"), assets, own)
+    body += plot_blocks(job, ("paths", "profile", "character"), assets, own)
+    body.append(saddle_views(job, links))
     if job.substitution is not None:
         body += ["<h3>Substitution (SN2) beside elimination</h3>", substitution_box(job, job.substitution)]
     body += plot_blocks(job, ("scan", "products"), assets, own)

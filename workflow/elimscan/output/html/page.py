@@ -7,6 +7,7 @@ from collections.abc import Mapping
 from elimscan.output.html.cells import esc
 from elimscan.output.html.jobsection import job_section
 from elimscan.output.html.runsections import base_model_section, comparison_section, index_table, series_section
+from elimscan.output.html.structures import VIEWER_SCRIPT, StructureLinks
 from elimscan.output.html.style import CSP, SCRIPT, STYLE
 from elimscan.output.html.words import CAUTION, MEANING, barrier_points, run_method_line
 from elimscan.output.plots.figures import figure_svg
@@ -14,14 +15,23 @@ from elimscan.output.plots.jobplots import drawn_kinds, job_figures, plot_name
 from elimscan.results.documents import RunResult
 
 
-def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
+def own_plots(result: RunResult, job, assets: Mapping[str, str]) -> dict[str, str]:
+    """Return {plot name: SVG} of the job's plots missing from ``assets``, drawn from results.json alone."""
+    rule = result.config.rule
+    if all(plot_name(job.job_id, k) in assets for k in drawn_kinds(job)):
+        return {}
+    figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
+    return {k: figure_svg(f) for k, f in figures.items() if k not in assets}
+
+
+def render_report(result: RunResult, assets: Mapping[str, str], links: StructureLinks | None = None) -> str:
     """Return the whole report as one self-contained HTML document (UTF-8 text).
 
     ``assets`` maps plot names (``plots.jobplots.plot_name``) to SVG text; the plots of
     ``plots.jobplots.JOB_PLOT_KINDS`` missing from it are drawn here from results.json alone, Newman
-    projections (which need the scan trajectories) are left out.
+    projections (which need the scan trajectories) are left out. With ``links`` the tables link the structure
+    files and each saddle with frames gets a 3D view.
     """
-    rule = result.config.rule
     p = result.provenance
     parts = [
         "<!DOCTYPE html>",
@@ -48,15 +58,11 @@ def render_report(result: RunResult, assets: Mapping[str, str]) -> str:
         parts.append(index_table(result))
     parts.append(comparison_section(result))
     for job in result.jobs:
-        own: dict[str, str] = {}
-        if not all(plot_name(job.job_id, k) in assets for k in drawn_kinds(job)):
-            figures = job_figures(job, rule.anti_min_deg, rule.syn_max_deg, rule.energy_window_kcal_mol, {})
-            own = {k: figure_svg(f) for k, f in figures.items() if k not in assets}
-        parts.append(job_section(result, job, assets, own))
+        parts.append(job_section(result, job, assets, own_plots(result, job, assets), links))
     if result.series:
         parts.append(series_section(result, assets))
     parts.append(base_model_section(result))
     parts.append(f'<footer class="note"><p>Made by elimscan {esc(p.program_version)} from results.json '
                  f"(schema {esc(result.schema_name)} {esc(result.schema_version)}).</p></footer>")
-    parts.append(f"<script>{SCRIPT}</script></body></html>")
+    parts.append(f"<script>{SCRIPT}{VIEWER_SCRIPT if links is not None else ''}</script></body></html>")
     return "\n".join(parts) + "\n"

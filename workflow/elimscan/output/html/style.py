@@ -23,7 +23,13 @@ table.sortable th[aria-sort="descending"]::after { content: " \\25BC"; }
 .status-ok { color: #1e6b3a; font-weight: bold; }
 .status-failed { color: #a3231b; font-weight: bold; }
 .call-major { font-weight: bold; color: #1e6b3a; }
-.call-forbidden { color: #a3231b; }
+.call-syn-only, .call-blocked, .call-forbidden { color: #a3231b; }
+.product-name { font-size: 0.85em; color: #444; }
+.saddle-views { display: flex; flex-wrap: wrap; gap: .8rem; }
+figure.saddle-view { margin: 0; }
+canvas.mode-view { border: 1px solid var(--rule); background: #fbfbfb; cursor: grab; }
+td.files { font-size: .8rem; white-space: nowrap; }
+#job-filter { margin: .3rem .6rem .6rem 0; padding: .2rem .4rem; }
 dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: .15rem 1rem; margin: 0; font-size: .9rem; }
 dl.facts dt { color: var(--muted); }
 dl.facts dd { margin: 0; }

@@ -17,7 +17,7 @@ CAUTION = ("Computed predictions are not safety data. Strong bases (alkoxides, a
 MEANING = (
     "Unless marked \u0394G\u2021, all energies are GFN2-xTB electronic energies including the implicit-solvent term; "
     "they are not free energies.",
-    "An anti (syn) cost is the lowest energy, above the substrate's global minimum, of any conformer or scan point "
+    "An anti (syn) penalty is the lowest energy, above the substrate's global minimum, of any conformer or scan point "
     "with the H\u2013C\u03b2\u2013C\u03b1\u2013X dihedral in the anti (syn) window, in kcal/mol: the conformational price "
     "of putting that hydrogen where the rule needs it. It is not a barrier.",
     "\u201cnot reached\u201d means the geometry was never reached below the scan's energy cap.",

@@ -9,6 +9,7 @@ those above it in this list:
 - ``newman``: Newman projections down the Cβ→Cα bond, from a scan frame
 - ``scans``: the H-C-C-X dihedral scans of a job
 - ``paths``: the relaxed E2 paths with their saddles; whether a job has barriers
+- ``profile``: the energy profile (reactants, complex, saddle, product side) of the E2 and SN2 paths
 - ``character``: the saddle-character map
 - ``products``: the rule's call on each alkene beside the computed shares
 - ``series``: Hammett plots of substituent series

@@ -18,6 +18,7 @@ from elimscan.output.plots.character import character_figure, character_points
 from elimscan.output.plots.newman import newman_figure, newman_inputs, newman_view
 from elimscan.output.plots.paths import computed_paths, has_barriers, path_figure
 from elimscan.output.plots.products import product_figure, product_fraction_map
+from elimscan.output.plots.profile import profile_figure, profile_lines
 from elimscan.output.plots.scans import scan_figure
 from elimscan.results.records import JobRecord
 from elimscan.config.names import safe_name
@@ -51,6 +52,8 @@ JOB_PLOT_KINDS = (
     JobPlotKind("products", _always, _always,
                 lambda job, *_: product_figure(job.products, product_fraction_map(job.products))),
     JobPlotKind("paths", lambda job: bool(computed_paths(job)), has_barriers, lambda job, *_: path_figure(job)),
+    JobPlotKind("profile", lambda job: bool(profile_lines(job)), lambda job: bool(profile_lines(job)),
+                lambda job, *_: profile_figure(job)),
     JobPlotKind("character", lambda job: bool(character_points(job)),
                 lambda job: has_barriers(job) and bool(character_points(job)), lambda job, *_: character_figure(job)),
 )

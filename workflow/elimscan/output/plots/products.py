@@ -7,13 +7,18 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 from matplotlib.figure import Figure
 
+from elimscan.chem.alkenenames import alkene_description
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL, GREY
 from elimscan.results.records import ProductRecord
 
 # our own colours, one per rule call
-CALL_COLOURS = {"major": "#1e8449", "minor": "#5d8aa8", "forbidden": "#b03a2e"}
+CALL_COLOURS = {"major": "#1e8449", "minor": "#5d8aa8", "syn only": "#b9770e", "blocked": "#b03a2e",
+                "forbidden": "#b03a2e"}
 
-CALL_LEVELS = ("forbidden", "minor", "major")
+#: the calls from least to most favoured (a bar's length); 'forbidden' is how results before schema 0.7.1 said
+#: 'syn only or blocked'
+CALL_LEVELS = ("blocked", "syn only", "minor", "major")
+_LEVEL_OF = {**{c: n for n, c in enumerate(CALL_LEVELS)}, "forbidden": 0}
 
 
 def product_fraction_map(products: Sequence[ProductRecord]) -> dict[str, tuple[float, float, float]]:
@@ -34,21 +39,21 @@ def product_figure(products: Sequence[ProductRecord],
     bar and a range, the others read "not computed". Without it the chart has one panel.
     """
     n = max(len(products), 1)
-    fig = Figure(figsize=(4.6 + (2.4 if fractions else 0.0), 1.0 + 0.38 * n), layout="constrained")
+    fig = Figure(figsize=(4.6 + (2.4 if fractions else 0.0), 1.0 + 0.5 * n), layout="constrained")
     if fractions:
         ax, ax2 = fig.subplots(1, 2, sharey=True, gridspec_kw={"width_ratios": (1.0, 1.0)})
     else:
         ax, ax2 = fig.subplots(), None
     ys = np.arange(len(products))[::-1]
     for y, product in zip(ys, products):
-        level = CALL_LEVELS.index(product.rule_call)
+        level = _LEVEL_OF[product.rule_call]
         colour = CALL_COLOURS[product.rule_call]
         ax.barh(y, level, height=0.6, color=colour, edgecolor=colour)
         ax.text(level + 0.05, y, product.rule_call, va="center", ha="left", fontsize=8, color=colour,
                 fontweight="bold" if product.rule_call == "major" else "normal")
     ax.set_yticks(ys)
-    ax.set_yticklabels([f"{p.smiles}  ({p.substitution})" for p in products], fontsize=8)
-    ax.set_xlim(0, 2.9)
+    ax.set_yticklabels([f"{p.smiles}\n{alkene_description(p.smiles)}" for p in products], fontsize=7)
+    ax.set_xlim(0, len(CALL_LEVELS) - 0.1)
     ax.set_ylim(-0.6, len(products) - 0.4)
     ax.set_xticks(range(len(CALL_LEVELS)))
     ax.set_xticklabels(CALL_LEVELS, fontsize=8)
