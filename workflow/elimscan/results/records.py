@@ -14,6 +14,15 @@ from elimscan.config import SolventConfig
 from elimscan.results.flags import no_barrier_reason
 
 
+#: the schema's words for a path's two no-barrier fields (E2 and SN2 records alike; see counts_as_barrier)
+REACHES_PRODUCTS_WORDS = ("false: the path was shown not to reach its products (no verified saddle, and its freely "
+                          "relaxed end is not the product side); its top is then no barrier and decides no share; null: "
+                          "not computed, or stopped by its gradient budget before it was known")
+BUDGET_SPENT_IN_WORDS = ("the stage of the path (complex relaxations, driven path, saddle search, a fallback) in which "
+                         "its gradient budget (paths.gradient_budget_per_atom) ran out; the top is then an unfinished "
+                         "estimate, no barrier, and decides no share; null: the path finished")
+
+
 class Record(BaseModel):
     """Base of every result model: immutable, unknown fields refused."""
 
@@ -158,14 +167,8 @@ class ApproachRecord(Record):
                                            "substrate global minimum + free base, same solvent")
     relative_barrier_kcal_mol: float | None = Field(None, description="above the lowest barrier of the job")
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
-    reaches_products: bool | None = Field(None, description="false: the path was shown not to reach its products "
-                                          "(no verified saddle, and its freely relaxed end is not the product side); "
-                                          "its top is then no barrier and decides no share; null: not computed, or "
-                                          "stopped by its gradient budget before it was known")
-    budget_spent_in: str | None = Field(None, description="the stage of the path (complex relaxations, driven path, "
-                                        "saddle search, a fallback) in which its gradient budget "
-                                        "(paths.gradient_budget_per_atom) ran out; the top is then an unfinished "
-                                        "estimate, no barrier, and decides no share; null: the path finished")
+    reaches_products: bool | None = Field(None, description=REACHES_PRODUCTS_WORDS)
+    budget_spent_in: str | None = Field(None, description=BUDGET_SPENT_IN_WORDS)
     barrier_free_energy_kcal_mol: float | None = Field(None, description="dG (quasi-RRHO, 1 M, T of the run) of the "
                                                        "verified saddle above free substrate + free base")
     saddle_character: SaddleCharacterRecord | None = None
@@ -266,14 +269,8 @@ class SubstitutionRecord(Record):
     barrier_kcal_mol: float | None = Field(None, description="same zero and kind as the E2 barriers")
     barrier_free_energy_kcal_mol: float | None = None
     barrier_source: Literal["verified saddle", "relaxed-path maximum"] | None = None
-    reaches_products: bool | None = Field(None, description="false: the path was shown not to reach its products "
-                                          "(no verified saddle, and its freely relaxed end is not the product side); "
-                                          "its top is then no barrier and decides no share; null: not computed, or "
-                                          "stopped by its gradient budget before it was known")
-    budget_spent_in: str | None = Field(None, description="the stage of the path (complex relaxations, driven path, "
-                                        "saddle search, a fallback) in which its gradient budget "
-                                        "(paths.gradient_budget_per_atom) ran out; the top is then an unfinished "
-                                        "estimate, no barrier, and decides no share; null: the path finished")
+    reaches_products: bool | None = Field(None, description=REACHES_PRODUCTS_WORDS)
+    budget_spent_in: str | None = Field(None, description=BUDGET_SPENT_IN_WORDS)
     saddle_verified: bool = False
     imaginary_frequency_cm1: float | None = None
     saddle_note: str | None = None
