@@ -79,6 +79,17 @@ def test_substitution_as_the_main_channel_comes_first():
     assert blocked.channel.main is None and blocked.channel.why_none == "no products"
     assert headline_sentences(blocked)["channel"].startswith("E2 against SN2 not decided: its path did not reach")
     assert blocked.paths_left_out == 1
+    assert "AGAINST the textbook call" not in sentences["channel"]
+
+
+def test_a_main_channel_against_the_textbook_call_says_so():
+    """A primary bromide with a small alkoxide substitutes (about 1 % ethene, Hughes, Ingold and co-workers 1948,
+    from memory); a model that makes E2 the main channel (as the Na+ contact pair did at GFN2-xTB: 100 % E2)
+    is against that call, and the headline says so even when the alkene verdict agrees."""
+    h = hl.job_headline(bromoethane_job(e2=8.0, sn2=12.0))
+    channel = headline_sentences(h)["channel"]
+    assert h.channel.main == hl.E2 and h.state == hl.AGREE
+    assert channel.startswith("Main channel: elimination (E2)") and channel.endswith("AGAINST the textbook call.")
 
 
 def test_a_single_possible_alkene_says_so():

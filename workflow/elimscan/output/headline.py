@@ -66,9 +66,11 @@ def channel_sentence(h: hl.Headline, unicode: bool = True, name: Callable[[str],
     if c.close:
         return (f"E2 and SN2 lie within the method's uncertainty ({gap}, under {h.uncertainty_kcal_mol:g} kcal/mol): "
                 f"{split}, the main channel is not decided{product}{textbook}.")
+    called = {"substitution": hl.SN2, "elimination": hl.E2}.get(c.textbook_call)
+    against = "" if called in (None, c.main) else "; AGAINST the textbook call"
     if c.main == hl.SN2:
-        return f"Main channel: substitution (SN2), {split}, {gap}{product}{textbook}."
-    return f"Main channel: elimination (E2), {split}, {gap}{product}{textbook}."
+        return f"Main channel: substitution (SN2), {split}, {gap}{product}{textbook}{against}."
+    return f"Main channel: elimination (E2), {split}, {gap}{product}{textbook}{against}."
 
 
 def mix_sentence(h: hl.Headline, unicode: bool = True, name: Callable[[str], str] = _plain) -> str:
