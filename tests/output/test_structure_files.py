@@ -31,6 +31,9 @@ from toyjobs import TOY_SETTINGS
 
 from reportfixture import PRIMARY, browser, result
 
+#: screenshots and measurements of the browser tests land here (ignored by git, like every results/ folder)
+ARTEFACTS = Path(__file__).resolve().parents[2] / "results" / "test-artefacts"
+
 CONFIG = TOY_SETTINGS.replace("substitution: false", "substitution: true") + """\
 name: structures
 substrates:
@@ -246,6 +249,21 @@ def test_index_job_page_structure_file_and_moving_saddle_in_headless_chromium(ba
         assert text.split("\n")[0].strip() == str(len(ase.io.read(out / saddle, index=0)))
         errors = [e for e in driver.get_log("browser") if e.get("level") == "SEVERE"]
         assert errors == []
+        # a 200-job index (the toy records copied): all rows there, its load time measured and kept as an artefact
+        # beside screenshots of the index and a job page (a measurement, not a timed assertion: see make bench)
+        jobs = tuple(j.model_copy(update={"job_id": f"{j.job_id}-{k:03d}"}) for k in range(100) for j in res.jobs)
+        (out / "index-200.html").write_text(render_index(res.model_copy(update={"jobs": jobs})))
+        driver.get((out / "index-200.html").as_uri())
+        assert driver.execute_script("return document.querySelectorAll('#job-index tbody tr').length;") == 200
+        load_ms = driver.execute_script("var n = performance.getEntriesByType('navigation')[0];"
+                                        " return n.loadEventEnd - n.startTime;")
+        assert load_ms > 0
+        ARTEFACTS.mkdir(parents=True, exist_ok=True)
+        driver.save_screenshot(str(ARTEFACTS / "batch-index-200.png"))
+        (ARTEFACTS / "batch-index-200.json").write_text(json.dumps({"jobs": 200, "load_ms": round(load_ms, 1)}))
+        print(f"200-job index: loaded in {load_ms:.0f} ms (headless Chromium; {ARTEFACTS / 'batch-index-200.json'})")
+        driver.get((out / job_page_name(res.jobs[0])).as_uri())
+        driver.save_screenshot(str(ARTEFACTS / "job-page.png"))
     finally:
         driver.quit()
 
