@@ -169,34 +169,31 @@ def test_an_ion_paired_microsolvated_methoxide_eliminates_from_chloroethane_with
     assert barrier > 5.0, barrier  # a real barrier between complex and products, unlike the bare anion's
 
 
-def test_jobs_of_one_base_under_two_models_are_compared_in_the_summary_and_report():
-    """Toy engine, whole run: methoxide bare and as a Na+ ion pair on chloroethane -> one comparison group."""
+def test_jobs_of_one_base_under_two_models_stand_side_by_side_in_the_summary_and_report():
+    """Toy engine, whole run: methoxide bare and as a Na+ ion pair on chloroethane -> one comparison, a column each."""
     from toyjobs import ToyJobEngine
 
-    from elimscan.output.html.runsections import base_model_section
+    from elimscan.output.comparison import comparison_text
+    from elimscan.output.html.runsections import comparison_section
+    from elimscan.output.text import run_comparisons
     from elimscan.pipeline.compute import run_config
     from elimscan.pipeline.jobs import job_record
     from elimscan.results.documents import RunResult
-    from elimscan.output.text import base_model_groups, base_model_table
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=1, saddle={"refine": False})
     config = RunConfig(substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
                        bases=(BaseConfig(name="MeO bare", smiles="C[O-]"),
                               BaseConfig(name="MeO Na", smiles="C[O-]", model={"counter_ion": "Na"})), paths=paths)
     outcome = run_config(config, ToyJobEngine())
-    jobs = [job_record(*pair, outcome, config) for pair in outcome.jobs]
-    assert [j.base_info.model for j in jobs] == ["bare", "Na+ ion pair"]
-    groups = base_model_groups(jobs)
-    assert len(groups) == 1 and [j.base for j in groups[0]] == ["MeO bare", "MeO Na"]
-    lines = base_model_table(groups[0])
-    assert "chloroethane + C[O-]" in lines[0] and "Na+ ion pair" in lines[3]
-    shares = [p.fraction for p in jobs[1].products if p.fraction is not None]
-    assert f"{shares[0]:.0%}" in lines[3]
-    result = RunResult.model_construct(jobs=tuple(jobs))
-    html = base_model_section(result)
-    assert 'id="base-models"' in html and "Na+ ion pair" in html and "MeO bare" in html
-    # one model only: no comparison
-    assert base_model_groups(jobs[:1]) == [] and base_model_section(RunResult.model_construct(jobs=tuple(jobs[:1]))) == ""
+    result = RunResult.model_construct(jobs=tuple(job_record(*pair, outcome, config) for pair in outcome.jobs),
+                                       config=config)
+    assert [j.base_info.model for j in result.jobs] == ["bare", "Na+ ion pair"]
+    (comparison,) = run_comparisons(result)
+    assert [(c.base, c.base_model) for c in comparison.columns] == [("MeO bare", "bare"), ("MeO Na", "Na+ ion pair")]
+    html = comparison_section(result)
+    assert "Na+ ion pair" in html and "MeO bare" in html and "MeO Na" in html
+    text = "\n".join(comparison_text(comparison))
+    assert "Na+ ion pair" in text and "MeO Na" in text
 
 
 @pytest.mark.parametrize("explicit", [3, 4])

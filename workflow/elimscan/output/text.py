@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import unicodedata
-from collections.abc import Sequence
 
 from elimscan.analysis.comparison import SubstrateComparison, compare_substrates
 from elimscan.analysis.headline import job_headline
@@ -116,41 +115,6 @@ def series_table(series: SeriesRecord) -> list[str]:
     return lines
 
 
-def base_model_groups(jobs: Sequence[JobRecord]) -> list[list[JobRecord]]:
-    """Return groups of finished jobs with one substrate, one base (its own SMILES) and one solvent run
-    under two or more base models, each group in the order of the jobs."""
-    groups: dict[tuple, list[JobRecord]] = {}
-    for job in jobs:
-        if job.status != "ok" or job.base_info is None or job.base_info.smiles is None:
-            continue
-        solvent = None if job.solvent is None else (job.solvent.model, job.solvent.name)
-        groups.setdefault((job.substrate, job.base_info.smiles, solvent), []).append(job)
-    return [g for g in groups.values() if len({j.base_info.model for j in g}) > 1]
-
-
-def model_mix(group: Sequence[JobRecord]) -> tuple[list[str], list[tuple[JobRecord, dict[str, float | None]]]]:
-    """Return (alkene SMILES in first-seen order, [(job, {SMILES: computed share})]) for one base-model group."""
-    products: list[str] = []
-    rows = []
-    for job in group:
-        shares = {p.smiles: p.fraction for p in job.products}
-        products += [s for s in shares if s not in products]
-        rows.append((job, shares))
-    return products, rows
-
-
-def base_model_table(group: Sequence[JobRecord]) -> list[str]:
-    """Return the lines comparing the computed product mix of one substrate + base under each base model."""
-    products, rows = model_mix(group)
-    first = group[0]
-    lines = [f"base models compared: {first.substrate} + {first.base_info.smiles} (computed shares, GFN2-xTB)",
-             f"  {'job base':<22}{'model':<34}" + "".join(f"{s[:14]:>15}" for s in products)]
-    for job, shares in rows:
-        cells = "".join(f"{'-' if shares.get(s) is None else format(shares[s], '.0%'):>15}" for s in products)
-        lines.append(f"  {job.base[:21]:<22}{(job.base_info.model or 'bare')[:33]:<34}{cells}")
-    return lines
-
-
 def solvent_text(result: RunResult, job: JobRecord) -> str:
     """Return a job's implicit solvent as shown: 'alpb ethanol', or 'gas phase'."""
     solvent = job.solvent or result.config.method.solvent
@@ -179,9 +143,6 @@ def summary_table(result: RunResult) -> str:
     for series in result.series:
         lines.append("")
         lines.extend(series_table(series))
-    for group in base_model_groups(result.jobs):
-        lines.append("")
-        lines.extend(base_model_table(group))
     for comparison in run_comparisons(result):
         lines.append("")
         lines.extend(printable(line) for line in comparison_text(comparison))  # sources are user-given text

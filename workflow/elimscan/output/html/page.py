@@ -6,7 +6,7 @@ from collections.abc import Mapping
 
 from elimscan.output.html.cells import esc
 from elimscan.output.html.jobsection import job_section
-from elimscan.output.html.runsections import base_model_section, comparison_section, index_table, series_section
+from elimscan.output.html.runsections import comparison_section, index_table, series_section
 from elimscan.output.html.structures import VIEWER_SCRIPT, StructureLinks
 from elimscan.output.html.style import CSP, SCRIPT, STYLE
 from elimscan.output.html.words import CAUTION, MEANING, barrier_points, run_method_line
@@ -61,7 +61,6 @@ def render_report(result: RunResult, assets: Mapping[str, str], links: Structure
         parts.append(job_section(result, job, assets, own_plots(result, job, assets), links))
     if result.series:
         parts.append(series_section(result, assets))
-    parts.append(base_model_section(result))
     parts.append(f'<footer class="note"><p>Made by elimscan {esc(p.program_version)} from results.json '
                  f"(schema {esc(result.schema_name)} {esc(result.schema_version)}).</p></footer>")
     parts.append(f"<script>{SCRIPT}{VIEWER_SCRIPT if links is not None else ''}</script></body></html>")

@@ -5,13 +5,13 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 from elimscan.output.html.boxes import undecided_why, verdict_word
-from elimscan.output.html.cells import ABSENT, anchor, barrier_text, esc, figure_block, percent_text
+from elimscan.output.html.cells import ABSENT, anchor, barrier_text, esc, figure_block
 from elimscan.output.html.words import SERIES_SENTENCE
 from elimscan.output.plots.figures import figure_svg, signed
 from elimscan.output.plots.series import SERIES_BARRIER_WORDS, rho_text, series_figure, series_plot_name
 from elimscan.output.tables import job_solvent
 from elimscan.output.comparison import comparison_rows, header_rows, score_line
-from elimscan.output.text import base_model_groups, model_mix, r_squared_text, run_comparisons
+from elimscan.output.text import r_squared_text, run_comparisons
 from elimscan.results.documents import RunResult, SeriesRecord
 
 
@@ -70,26 +70,6 @@ def _series_block(series: SeriesRecord, assets: Mapping[str, str]) -> str:
             + figure_block(svg, key.replace("/", "-"), f"Hammett plot of {series.name}: log\u2081\u2080(k/k\u2080) against "
                            f"\u03c3 with the fitted line; right axis: the same points as {word} in kcal/mol.",
                            "No member has a barrier: no plot.") + "</div>")
-
-
-def base_model_section(result: RunResult) -> str:
-    """Return the report's comparison of base models (computed product shares per model), or '' when none."""
-    blocks = []
-    for group in base_model_groups(result.jobs):
-        products, rows = model_mix(group)
-        head = "".join(f'<th class="num smiles">{esc(s)}</th>' for s in products)
-        body = "".join(
-            f'<tr><td><a href="#{esc(anchor(job))}">{esc(job.base)}</a></td><td>{esc(job.base_info.model or "bare")}</td>'
-            + "".join(f'<td class="num">{esc(percent_text(shares.get(s)))}</td>' for s in products) + "</tr>"
-            for job, shares in rows)
-        blocks.append(f"<h3>{esc(group[0].substrate)} + {esc(group[0].base_info.smiles)}</h3>"
-                      f"<table><thead><tr><th>job base</th><th>model</th>{head}</tr></thead><tbody>{body}</tbody></table>")
-    if not blocks:
-        return ""
-    return ('<section id="base-models"><h2>Base models compared</h2>' + "".join(blocks)
-            + '<p class="note">Computed Curtin\u2013Hammett shares of each alkene for one substrate and one base under '
-            "each base model (bare anion, ion pair, explicit alcohol molecules). Barriers of different models are "
-            "not on one scale (each model has its own reference energy); compare the shares.</p></section>")
 
 
 def series_section(result: RunResult, assets: Mapping[str, str]) -> str:
