@@ -49,8 +49,11 @@ def test_every_csv_row_is_a_product_of_its_job_in_the_json(run):
         assert float(row["fraction_low"]) <= float(row["fraction"]) <= float(row["fraction_high"])
         verdict = job["verdict"]
         assert row["computed_major"] == ("yes" if row["product_smiles"] == verdict["computed_major"] else "no")
-        assert row["agreement"] == {True: "yes", False: "no", None: ""}[verdict["agreement"]]
-        assert row["within_method_uncertainty"] == ("yes" if verdict["within_method_uncertainty"] else "no")
+        # one verdict column in three states (undecided is never a win), read here from the raw JSON's two flags
+        expected = ("undecided" if verdict["within_method_uncertainty"] or verdict["agreement"] is None
+                    else "agree" if verdict["agreement"] else "disagree")
+        assert row["verdict"] == expected
+        assert (row["undecided_why"] != "") == (expected == "undecided")
         paths = [a for _, _, a in computed(job) if a["product_smiles"] == row["product_smiles"] and a["product_possible"]]
         best = min(paths, key=lambda a: a["barrier_kcal_mol"]) if paths else None
         assert row["lowest_barrier_kcal_mol"] == ("" if best is None else f"{best['barrier_kcal_mol']:.3f}")
@@ -63,8 +66,10 @@ def test_every_csv_row_is_a_product_of_its_job_in_the_json(run):
 def test_csv_leaves_the_new_columns_empty_without_barriers():
     rows = list(csv.DictReader(io.StringIO(summary_csv(RunResult.model_validate(strip_barriers(raw("ring")))))))
     new = ("lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol", "fraction", "fraction_low", "fraction_high",
-           "computed_major", "agreement", "within_method_uncertainty")
+           "computed_major")
     assert rows and all(row[c] == "" for row in rows for c in new)
+    # without barriers the verdict is undecided, and says why
+    assert all(row["verdict"] == "undecided" and row["undecided_why"] for row in rows)
 
 
 @pytest.mark.skipif("solvent" not in JobRecord.model_fields, reason="job records carry no solvent of their own")

@@ -39,10 +39,12 @@ Columns of ``summary.csv``, in this order (only columns that hold data in this v
                                       every row of the job (0-1, 4 decimals); empty when SN2 was not computed
 ``computed_major``                    ``yes`` for the computed major alkene, ``no`` for the others, empty when the
                                       job has no computed major alkene
-``agreement``                         the job's verdict, on every row of the job: ``yes`` when the rule's and the
-                                      computed major alkene are the same, ``no`` when not, empty without a verdict
-``within_method_uncertainty``         the job's verdict: ``yes`` when the best barriers to different alkenes lie
-                                      within 1 kcal/mol, ``no`` when not, empty without a computed major alkene
+``verdict``                           the job's verdict, on every row of the job, in three states: ``agree`` (the
+                                      rule's and the computed major alkene are the same), ``disagree``, or
+                                      ``undecided`` (never a win; see ``undecided_why``)
+``undecided_why``                     why the verdict is undecided (e.g. ``close call``: the best barriers to
+                                      different alkenes lie within 1 kcal/mol; ``no path reached its products``),
+                                      empty when it is decided
 ``rule_reason``                       the rule's reason for its call
 ``error``                             why the job failed (empty for an ok job)
 ====================================  =================================================================================
@@ -77,6 +79,7 @@ from __future__ import annotations
 import csv
 import io
 
+from elimscan.analysis.headline import job_headline
 from elimscan.chem.alkenenames import alkene_description
 from elimscan.config import SolventConfig
 from elimscan.results.documents import RunResult
@@ -86,7 +89,7 @@ SUMMARY_COLUMNS = ("job_id", "job_status", "substrate", "substrate_smiles", "bas
                    "solvent_model", "solvent", "product_smiles", "product_description", "substitution", "rule_call", "via_classes",
                    "anti_penalty_kcal_mol", "lowest_barrier_kcal_mol", "lowest_relative_barrier_kcal_mol",
                    "lowest_free_barrier_kcal_mol", "fraction", "fraction_low", "fraction_high", "elimination_fraction",
-                   "computed_major", "agreement", "within_method_uncertainty",
+                   "computed_major", "verdict", "undecided_why",
                    "rule_reason", "error")
 
 
@@ -176,7 +179,7 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
         if job.status != "ok" or not job.products:
             rows.append({**head, **empty, "error": error})
             continue
-        verdict = job.verdict
+        verdict, headline = job.verdict, job_headline(job)
         for product in job.products:
             best = product_lowest_barrier(job, product)
             low, high = product.fraction_range if product.fraction_range is not None else (None, None)
@@ -193,9 +196,7 @@ def summary_rows(result: RunResult) -> list[dict[str, str]]:
                          "fraction": _four(product.fraction), "fraction_low": _four(low), "fraction_high": _four(high),
                          "elimination_fraction": _four(job_elimination_fraction(job)),
                          "computed_major": _yes_no(computed_major),
-                         "agreement": _yes_no(None if verdict is None else verdict.agreement),
-                         "within_method_uncertainty": "" if verdict is None or verdict.computed_major is None
-                         else _yes_no(verdict.within_method_uncertainty),
+                         "verdict": headline.state, "undecided_why": headline.why_undecided or "",
                          "rule_reason": product.reason, "error": error})
     return rows
 
