@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 from elimscan.analysis.comparison import SubstrateComparison
 from elimscan.analysis.headline import SN2, UNDECIDED
+from elimscan.chem.alkenenames import alkene_description
 from elimscan.output.headline import STATE_WORDS, gap_symbol, ratio_text
 
 #: the scores as shown (undecided counts as not right, in its own word)
@@ -64,7 +65,7 @@ def comparison_rows(comparison: SubstrateComparison, unicode: bool = True) -> li
             if smiles in c.observed_percent:
                 text += f"; exp. {c.observed_percent[smiles]:g} %"
             cells.append(Cell(text))
-        rows.append(Row("alkene", smiles, tuple(cells)))
+        rows.append(Row("alkene", f"{smiles} ({alkene_description(smiles)})", tuple(cells)))
     gaps = []
     for c in cols:
         h = c.headline
