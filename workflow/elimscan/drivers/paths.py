@@ -277,6 +277,12 @@ def _no_complex(name: str, spent: BudgetSpent) -> GradientBudgetError:
                                "(raise paths.gradient_budget_per_atom)")
 
 
+def _complex_point(complex_: ComplexResult, reactive) -> PathPoint:
+    """Return the relaxed complex as the first point of a driven path (coordinate in Å, energy in hartree)."""
+    return PathPoint(reactive.coordinate().value(complex_.atoms.positions), complex_.energy_hartree, complex_.atoms,
+                     True, reactive.distances(complex_.atoms.positions))
+
+
 def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, approach: str, engine, charge: int,
                  multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig, other_hydrogens: tuple[int, ...],
                  name: str = "path", orientation_rank: int = 0, on_stage: Callable[[str], None] | None = None
@@ -298,8 +304,7 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
                                  optimizer, name=f"{name} complex", rank=orientation_rank)
     except BudgetSpent as spent:
         raise _no_complex(name, spent) from spent
-    points = [PathPoint(reactive.coordinate().value(complex_.atoms.positions), complex_.energy_hartree, complex_.atoms,
-                        True, reactive.distances(complex_.atoms.positions))]
+    points = [_complex_point(complex_, reactive)]
     before_saddle = None
     try:
         budget.enter(STAGE_PATH)
@@ -357,8 +362,7 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
     except BudgetSpent as spent:
         raise _no_complex(name, spent) from spent
     complex_ = ComplexResult(best[0], best[1], best[2], tuple(energies), spent_complex)
-    points = [PathPoint(reactive.coordinate().value(complex_.atoms.positions), complex_.energy_hartree, complex_.atoms,
-                        True, reactive.distances(complex_.atoms.positions))]
+    points = [_complex_point(complex_, reactive)]
     before_saddle = None
     try:
         budget.enter(STAGE_PATH)
