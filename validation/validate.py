@@ -119,15 +119,36 @@ def _chosen(subset: str, calibration: list, test: list) -> list:
     return [c for c in (*calibration, *test) if subset == "all" or c.id in FAST_SUBSET]
 
 
+
+
+#: the frozen base model: the commit that added this file is the freeze commit
+FREEZE_FILE = HERE / "model-freeze.yaml"
+
+
+def _git(*words: str) -> subprocess.CompletedProcess:
+    """Return the finished git command run in this checkout (never raises on a git error)."""
+    return subprocess.run(["git", "-C", str(HERE), *words], capture_output=True, text=True)
+
+
+def _freeze(run_commits: list[str]) -> dict:
+    """Return the RunInfo fields of the model freeze: model, freeze commit, flagged cases, runs older than it."""
+    if not FREEZE_FILE.is_file():
+        return {}
+    data = yaml.safe_load(FREEZE_FILE.read_text())
+    added = _git("log", "--diff-filter=A", "--format=%h", "--", str(FREEZE_FILE)).stdout.split()
+    commit = added[-1] if added else "not committed"
+    older = tuple(c for c in run_commits if not added or
+                  _git("merge-base", "--is-ancestor", added[-1], c.removesuffix("-dirty")).returncode != 0)
+    return {"frozen_model": str(data["base_model"]), "freeze_commit": commit,
+            "seen_before_freeze": tuple(data.get("seen_before_freeze") or ()), "computed_before_freeze": older}
+
+
 def _commit() -> str:
     """Return the short commit of the checkout ('-dirty' with uncommitted changes to tracked files)."""
-    def git(*words: str) -> subprocess.CompletedProcess:
-        return subprocess.run(["git", "-C", str(HERE), *words], capture_output=True, text=True)
-
-    head = git("rev-parse", "--short", "HEAD")
+    head = _git("rev-parse", "--short", "HEAD")
     if head.returncode:
         return "unknown"
-    return head.stdout.strip() + ("-dirty" if git("diff", "--quiet", "HEAD").returncode else "")
+    return head.stdout.strip() + ("-dirty" if _git("diff", "--quiet", "HEAD").returncode else "")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -188,7 +209,7 @@ def main(argv: list[str] | None = None) -> int:
                        args.subset, f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)"),
                    base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
-                   n_jobs=n_jobs, n_jobs_finished=n_finished)
+                   n_jobs=n_jobs, n_jobs_finished=n_finished, **_freeze([r["commit"] for r in runs]))
     page = validation_markdown(info, scores, calibration, levels)
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model), page)

@@ -6,6 +6,8 @@ BOOKKEEPING FIXTURES, NOT CHEMISTRY: the job records come from ``record`` in tes
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from elimscan.analysis.benchmark_scoring import score_case
 from elimscan.output.benchmark_tables import RunInfo, headline_line, series_rows, validation_markdown
 
@@ -56,3 +58,15 @@ def test_a_series_shows_the_terminal_share_per_member():
     # terminal share of the wrong case's mix: C=C(C)CC from 3 x exp(0) against exp(-2/RT)
     share = float(rows[2].split("|")[4].strip().rstrip(" %"))
     assert 90 < share < 100
+
+
+def test_the_page_says_which_model_was_frozen_and_when():
+    frozen = replace(INFO, base_model="alcohol-3", frozen_model="alcohol-3", freeze_commit="607da3f",
+                     seen_before_freeze=("bookkeeping",))
+    page = validation_markdown(frozen, scores(), [], ["dE"])
+    assert "- model freeze: `alcohol-3` frozen at commit `607da3f`" in page and "this page: **the frozen model**" in page
+    assert "| bookkeeping (outcome seen before the freeze) |" in page
+    other = replace(frozen, base_model="bare", computed_before_freeze=("1234abc",))
+    line = next(x for x in validation_markdown(other, scores(), [], ["dE"]).splitlines() if x.startswith("- model freeze"))
+    assert "**not the frozen model** (`bare`" in line and "1 computing invocation(s) ran code older than the freeze" in line
+    assert "**no model frozen yet**" in validation_markdown(INFO, scores(), [], ["dE"])

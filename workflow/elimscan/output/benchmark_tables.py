@@ -41,6 +41,13 @@ class RunInfo:
     #: the benchmark candidate every base was modelled with (analysis/benchmark_models.py) and what it is
     base_model: str = "bare"
     base_model_words: str = "the free alkoxide in the continuum"
+    #: the frozen model (validation/model-freeze.yaml) and the commit that froze it; None: nothing frozen yet
+    frozen_model: str | None = None
+    freeze_commit: str | None = None
+    #: test cases whose outcome under the candidates was seen before the freeze (flagged in their rows)
+    seen_before_freeze: tuple[str, ...] = ()
+    #: commits of invocations that computed in this work folder but do not descend from the freeze commit
+    computed_before_freeze: tuple[str, ...] = ()
 
 
 def _code(smiles: str | None) -> str:
@@ -173,6 +180,21 @@ def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
     return rows
 
 
+def freeze_line(info: RunInfo) -> str:
+    """Return the page's line on the model freeze: which model, which commit, and whether this page uses it."""
+    if info.frozen_model is None or info.freeze_commit is None:
+        return "- model freeze: **no model frozen yet** (validation/model-freeze.yaml is missing): nothing here may be read as a test of a chosen model"
+    which = ("**the frozen model**" if info.base_model == info.frozen_model
+             else f"**not the frozen model** (`{info.base_model}` is a candidate reported beside it)")
+    line = (f"- model freeze: `{info.frozen_model}` frozen at commit `{info.freeze_commit}` "
+            f"(validation/model-freeze.yaml: chosen on basicity and calibration physics, before the test set ran "
+            f"under it); this page: {which}")
+    if info.computed_before_freeze:
+        line += (f"; **{len(info.computed_before_freeze)} computing invocation(s) ran code older than the freeze** "
+                 f"(commits {', '.join(sorted(set(info.computed_before_freeze)))})")
+    return line
+
+
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
                         levels: Sequence[str]) -> str:
     """Return the whole VALIDATION.md text of one benchmark run."""
@@ -183,6 +205,7 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              "page.", "",
              f"- run: {info.date_utc}, commit `{info.commit}`, {info.method}",
              f"- base model: `{info.base_model}` ({info.base_model_words}), for every base of every case",
+             freeze_line(info),
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
@@ -211,7 +234,8 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
               "| case | experiment — source | rule | " + " | ".join(LEVEL_WORDS[lv] for lv in levels)
               + " | seed spread (points) | job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
     for score in scores:
-        lines.append(f"| {score.case.id} | {_experiment(score)} | {_rule_cell(score)} | "
+        seen = " (outcome seen before the freeze)" if score.case.id in info.seen_before_freeze else ""
+        lines.append(f"| {score.case.id}{seen} | {_experiment(score)} | {_rule_cell(score)} | "
                      + " | ".join(_level_cell(score, lv) for lv in levels)
                      + f" | {_spread_cell(score, levels)} | {_duration(score.wall_seconds)} |")
     if any(s.case.series for s in scores):
