@@ -121,7 +121,7 @@ def _chosen(subset: str, calibration: list, test: list) -> list:
 
 
 
-#: the frozen base model: the commit that added this file is the freeze commit
+#: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
 FREEZE_FILE = HERE / "model-freeze.yaml"
 
 
@@ -135,10 +135,10 @@ def _freeze(run_commits: list[str]) -> dict:
     if not FREEZE_FILE.is_file():
         return {}
     data = yaml.safe_load(FREEZE_FILE.read_text())
-    added = _git("log", "--diff-filter=A", "--format=%h", "--", str(FREEZE_FILE)).stdout.split()
-    commit = added[-1] if added else "not committed"
-    older = tuple(c for c in run_commits if not added or
-                  _git("merge-base", "--is-ancestor", added[-1], c.removesuffix("-dirty")).returncode != 0)
+    last = _git("log", "-1", "--format=%h", "-G", "^base_model:", "--", str(FREEZE_FILE)).stdout.strip()
+    commit = last or "not committed"
+    older = tuple(c for c in run_commits if not last or
+                  _git("merge-base", "--is-ancestor", last, c.removesuffix("-dirty")).returncode != 0)
     return {"frozen_model": str(data["base_model"]), "freeze_commit": commit,
             "seen_before_freeze": tuple(data.get("seen_before_freeze") or ()), "computed_before_freeze": older}
 
