@@ -180,6 +180,18 @@ def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
     return rows
 
 
+def _remaining(info: RunInfo) -> str:
+    """Return the clause estimating the unfinished jobs' time from the finished jobs' mean ('' when none is left)."""
+    left = info.n_jobs - info.n_jobs_finished
+    if left <= 0:
+        return ""
+    if info.n_jobs_finished == 0 or info.job_seconds <= 0:
+        return f"; {left} job(s) left, no finished job to estimate their time from"
+    mean = info.job_seconds / info.n_jobs_finished
+    return (f"; the {left} job(s) left would take about {_duration(left * mean)} of job time at the finished jobs' "
+            f"mean of {_duration(mean)} (a rough estimate: jobs differ in size)")
+
+
 def freeze_line(info: RunInfo) -> str:
     """Return the page's line on the model freeze: which model, which commit, and whether this page uses it."""
     if info.frozen_model is None or info.freeze_commit is None:
@@ -210,7 +222,7 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
              f"in this work folder (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
-             f"{_duration(info.job_seconds)} summed over jobs",
+             f"{_duration(info.job_seconds)} summed over jobs" + _remaining(info),
              f"- command: `{info.command}`", "",
              "How to read it. Levels: dE, GFN2-xTB electronic barriers; dG, quasi-RRHO free barriers of verified saddles "
              "(1 M; paths without one are left out of that level's mix); DFT//GFN2, DFT single points on the GFN2-xTB "
