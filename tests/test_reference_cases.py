@@ -9,6 +9,7 @@ Then the jobs: every case x seed is served by exactly one job of a batch config 
 from __future__ import annotations
 
 import importlib.util
+import sys
 import warnings
 from collections import Counter
 from pathlib import Path
@@ -139,8 +140,12 @@ def test_every_case_and_seed_is_served_by_one_job_of_a_loadable_batch_config(cas
 def validate():
     spec = importlib.util.spec_from_file_location("validate", ROOT / "validation" / "validate.py")
     module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
+    sys.modules["validate"] = module  # its dataclasses look their module up by name
+    try:
+        spec.loader.exec_module(module)
+        yield module
+    finally:
+        sys.modules.pop("validate", None)
 
 
 def test_the_fast_subset_is_a_few_small_cases_with_one_seed(cases, validate):

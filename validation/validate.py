@@ -24,6 +24,7 @@ import subprocess
 import sys
 import tempfile
 import time
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import yaml
@@ -33,6 +34,7 @@ from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
 from elimscan.analysis.benchmark_jobs import BatchGroup, batch_groups, benchmark_jobs, seeds_for
 from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, DEFAULT_BASE_MODEL
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
+from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
 from elimscan.batch.documents import INDEX_FILE
 from elimscan.batch.plan import plan_batch
@@ -106,6 +108,66 @@ def _read_group(group: BatchGroup, work: Path) -> tuple[dict[tuple[str, str], tu
     return {names[key]: (json.loads(row.job_json), row.wall_seconds) for key, row in rows.items()}, provenance
 
 
+@dataclass
+class Collected:
+    """The finished jobs of one model's batches: records and wall times (s) by case slot and seed, and counts."""
+
+    records: dict[str, dict[int, dict]] = field(default_factory=dict)
+    seconds: dict[str, dict[int, float | None]] = field(default_factory=dict)
+    provenance: dict | None = None
+    n_jobs: int = 0
+    n_finished: int = 0
+    job_seconds: float = 0.0
+
+    def jobs(self) -> list[dict]:
+        """Return every finished job record (a job serving several slots appears once per slot)."""
+        return [job for by_seed in self.records.values() for job in by_seed.values()]
+
+
+def _collect(groups: list[BatchGroup], work: Path) -> Collected:
+    """Return the finished jobs of the groups' batches in the work folder (nothing computed)."""
+    found = Collected()
+    for group in groups:
+        in_group, provenance = _read_group(group, work)
+        found.provenance = found.provenance or provenance
+        found.n_jobs += len(group.serves)
+        for pair, served in group.serves.items():
+            if pair not in in_group:
+                continue
+            job, wall = in_group[pair]
+            found.n_finished += 1
+            found.job_seconds += wall or 0.0
+            for slot, seed in served:
+                found.records.setdefault(slot, {})[seed] = job
+                found.seconds.setdefault(slot, {})[seed] = wall
+    return found
+
+
+def _score(chosen: list, found: Collected, seed_count: int | None, levels: list[str]) -> tuple[list, list]:
+    """Return the test cases' scores and the calibration cases' errors from the collected jobs."""
+    scores = [score_case(case, found.records.get(case.id, {}), seeds_for(case, seed_count), levels,
+                         sum(s or 0.0 for s in found.seconds.get(case.id, {}).values()) or None)
+              for case in chosen if isinstance(case, OutcomeCase)]
+    calibration = [score_calibration(case, found.records, seeds_for(case, seed_count))
+                   for case in chosen if not isinstance(case, OutcomeCase)]
+    return scores, calibration
+
+
+def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespace, work: Path) -> list[ModelSummary]:
+    """Return one summary per candidate base model and level, for every model with a finished job in the work folder."""
+    summaries = []
+    for model in BASE_MODEL_CANDIDATES:
+        groups = batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine, base_model=model)
+        found = _collect(groups, work)
+        if not found.n_finished:
+            continue
+        levels = computed_levels(found.jobs()) or ["dE"]
+        scores, calibration = _score(chosen, found, seed_count, levels)
+        summaries += [summarise_model(model, level, scores, calibration, found.n_jobs, found.n_finished)
+                      for level in levels]
+    return summaries
+
+
 def page_path(subset: str, base_model: str) -> Path:
     """Return the page a subset and base model write (the default model's pages carry no model name)."""
     suffix = "" if base_model == DEFAULT_BASE_MODEL else f"-{base_model}"
@@ -177,28 +239,12 @@ def main(argv: list[str] | None = None) -> int:
         log_file = work / RUN_LOG
         runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
         runs = [r for r in runs if r.get("base_model", DEFAULT_BASE_MODEL) == args.base_model]
-        records: dict[str, dict[int, dict]] = {}
-        seconds: dict[str, dict[int, float | None]] = {}
-        provenance, n_jobs, n_finished, job_seconds = None, 0, 0, 0.0
-        for group in groups:
-            found, group_provenance = _read_group(group, work)
-            provenance = provenance or group_provenance
-            n_jobs += len(group.serves)
-            for pair, served in group.serves.items():
-                if pair not in found:
-                    continue
-                job, wall = found[pair]
-                n_finished += 1
-                job_seconds += wall or 0.0
-                for slot, seed in served:
-                    records.setdefault(slot, {})[seed] = job
-                    seconds.setdefault(slot, {})[seed] = wall
+        found = _collect(groups, work)
+        levels = computed_levels(found.jobs()) or ["dE"]
+        scores, calibration = _score(chosen, found, seed_count, levels)
+        models = _compare_models(chosen, seed_count, args, work)
     tests = [c for c in chosen if isinstance(c, OutcomeCase)]
-    levels = computed_levels([job for by_seed in records.values() for job in by_seed.values()]) or ["dE"]
-    scores = [score_case(case, records.get(case.id, {}), seeds_for(case, seed_count), levels,
-                         sum(s or 0.0 for s in seconds.get(case.id, {}).values()) or None) for case in tests]
-    calibration = [score_calibration(case, records, seeds_for(case, seed_count))
-                   for case in chosen if not isinstance(case, OutcomeCase)]
+    provenance, n_jobs, n_finished, job_seconds = found.provenance, found.n_jobs, found.n_finished, found.job_seconds
     method = (f"{provenance['method_label']} ({provenance['backend']} {provenance['backend_version']}, elimscan "
               f"{provenance['program_version']})") if provenance else "no finished batch"
     all_seeds = sorted({s for case in chosen for s in seeds_for(case, seed_count)})
@@ -210,7 +256,7 @@ def main(argv: list[str] | None = None) -> int:
                    base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
                    n_jobs=n_jobs, n_jobs_finished=n_finished, **_freeze([r["commit"] for r in runs]))
-    page = validation_markdown(info, scores, calibration, levels)
+    page = validation_markdown(info, scores, calibration, levels, models)
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model), page)
         print(f"wrote {page_path(args.subset, args.base_model)}", file=sys.stderr)

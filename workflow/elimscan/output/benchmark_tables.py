@@ -14,6 +14,7 @@ from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, isomer_key
+from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, LevelScore,
                                                  headline, is_terminal)
 
@@ -207,8 +208,24 @@ def freeze_line(info: RunInfo) -> str:
     return line
 
 
+def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[str]:
+    """Return Markdown rows comparing base models: counts per level, rate errors (kcal/mol), seed spread."""
+    rows = ["| base model | level | computed right | rule right | undecided (not right) | not computed | "
+            "rate ΔG‡ error: mean (mean of abs), kcal/mol | largest seed spread (points) | jobs finished |",
+            "|---|---|---|---|---|---|---|---|---|"]
+    for m in summaries:
+        c = m.counts
+        name = f"`{m.model}`" + (" (frozen)" if m.model == frozen else "")
+        error = (f"{m.rate_mean_error_kcal_mol:+.1f} ({m.rate_mean_abs_error_kcal_mol:.1f}) over {m.n_rates}"
+                 if m.rate_mean_error_kcal_mol is not None and m.rate_mean_abs_error_kcal_mol is not None else "-")
+        rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {c.right}/{c.n} | {c.rule_right}/{c.rule_n} | "
+                    f"{c.undecided}/{c.n} | {c.not_computed}/{c.n} | {error} | {_number(m.largest_spread_points, 0)} | "
+                    f"{m.n_jobs_finished} of {m.n_jobs} |")
+    return rows
+
+
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
-                        levels: Sequence[str]) -> str:
+                        levels: Sequence[str], models: Sequence[ModelSummary] = ()) -> str:
     """Return the whole VALIDATION.md text of one benchmark run."""
     unfinished = info.n_jobs - info.n_jobs_finished
     lines = ["# elimscan reference benchmark", "",
@@ -253,6 +270,13 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
     if any(s.case.series for s in scores):
         lines += ["", "## Series: terminal-alkene share of the alkenes", "",
                   "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
+    if models:
+        lines += ["", "## Base models compared", "",
+                  "Every candidate base model with finished jobs in this work folder, scored on the same cases and "
+                  "seeds as this page (a model's unfinished jobs count as not computed). The model was frozen on "
+                  "basicity and calibration physics before the test set was scored (see the model freeze above); "
+                  "the other rows are reported beside it, never used to choose it.", "",
+                  *model_rows(models, info.frozen_model)]
     if calibration:
         lines += ["", "## Calibration set (errors only, never scored right or wrong)", "",
                   "Rate: ΔG‡ from the measured k2 by Eyring's equation (1 M, CODATA 2018) against the Boltzmann sum "
