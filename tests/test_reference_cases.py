@@ -178,7 +178,7 @@ def test_a_paths_override_is_checked_like_a_config():
 
 @pytest.mark.parametrize("name", ["alcohol-2", "alcohol-4", "Na-pair", "Na-pair-alcohol-2"])
 def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(cases, validate, name):
-    """Each candidate of issue 18 runs the calibration set with its model on every base, apart from the default's."""
+    """Each candidate of issue 18 runs the calibration set with its model on every base, apart from the bare anion's."""
     from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, base_model_block
 
     chosen = validate._chosen("calibration", list(cases.calibration), list(cases.test))
@@ -192,7 +192,11 @@ def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(ca
         for base in config.bases:
             assert base.model.model_dump(exclude_defaults=True) == base_model_block(name)
     assert validate.page_path("calibration", name).name == f"CALIBRATION-{name}.md"
-    assert validate.page_path("all", "bare").name == "VALIDATION.md"
+    frozen = yaml.safe_load((ROOT / "validation" / "model-freeze.yaml").read_text())["base_model"]
+    assert validate.frozen_model() == frozen and validate._parse([]).base_model == frozen
+    assert validate.page_path("all", frozen).name == "VALIDATION.md"  # the frozen model's page has no suffix
+    if name != frozen:
+        assert validate.page_path("all", name).name == f"VALIDATION-{name}.md"
     assert validate._parse(["--base-model", name]).base_model == name and name in BASE_MODEL_CANDIDATES
     with pytest.raises(ValueError, match="unknown base model 'alcohol-9'"):
         base_model_block("alcohol-9")

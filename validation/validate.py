@@ -10,8 +10,8 @@ unfinished jobs are computed; change a case and only its jobs run again.
 Options: ``--work DIR`` (keep the batches; default a temporary folder), ``--no-compute`` (score what DIR
 holds, also while another invocation still runs), ``--no-write`` (print the page only), ``--subset fast``
 (a few small cases, one seed, writes VALIDATION-fast.md), ``--subset calibration`` (the calibration set only,
-writes CALIBRATION.md), ``--base-model NAME`` (a candidate of ``elimscan.analysis.benchmark_models``; pages of
-a model other than the default carry its name, e.g. VALIDATION-alcohol-2.md), ``--seeds N`` (the first N seeds
+writes CALIBRATION.md), ``--base-model NAME`` (a candidate of ``elimscan.analysis.benchmark_models``; default the frozen
+model of validation/model-freeze.yaml; pages of another model carry its name, e.g. VALIDATION-bare.md), ``--seeds N`` (the first N seeds
 of each case), ``--workers N`` (local worker processes of each batch).
 """
 
@@ -32,7 +32,7 @@ import yaml
 from elimscan.analysis.benchmark_calibration import score_calibration
 from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
 from elimscan.analysis.benchmark_jobs import BatchGroup, batch_groups, benchmark_jobs, seeds_for
-from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, DEFAULT_BASE_MODEL
+from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, UNNAMED_BASE_MODEL
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
@@ -50,6 +50,8 @@ FAST_SUBSET = ("bromoethane-ethoxide", "2-bromopropane-ethoxide", "2-bromo-2-met
 PAGES = {"all": "VALIDATION", "fast": "VALIDATION-fast", "calibration": "CALIBRATION"}
 #: one JSON line per invocation that computed in a work folder (its wall time, commit, subset and seeds)
 RUN_LOG = "validate-runs.jsonl"
+#: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
+FREEZE_FILE = HERE / "model-freeze.yaml"
 
 
 def _parse(argv: list[str] | None) -> argparse.Namespace:
@@ -62,7 +64,7 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
     parser.add_argument("--subset", choices=tuple(PAGES), default="all",
                         help="fast: %d small cases, one seed, page VALIDATION-fast.md; calibration: the calibration "
                         "set only, page CALIBRATION.md" % len(FAST_SUBSET))
-    parser.add_argument("--base-model", choices=tuple(BASE_MODEL_CANDIDATES), default=DEFAULT_BASE_MODEL,
+    parser.add_argument("--base-model", choices=tuple(BASE_MODEL_CANDIDATES), default=frozen_model(),
                         help="model every base with this candidate (default: %(default)s, the free anion)")
     parser.add_argument("--seeds", type=int, default=None, metavar="N",
                         help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
@@ -170,7 +172,7 @@ def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespa
 
 def page_path(subset: str, base_model: str) -> Path:
     """Return the page a subset and base model write (the default model's pages carry no model name)."""
-    suffix = "" if base_model == DEFAULT_BASE_MODEL else f"-{base_model}"
+    suffix = "" if base_model == frozen_model() else f"-{base_model}"
     return HERE / f"{PAGES[subset]}{suffix}.md"
 
 
@@ -183,8 +185,11 @@ def _chosen(subset: str, calibration: list, test: list) -> list:
 
 
 
-#: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
-FREEZE_FILE = HERE / "model-freeze.yaml"
+def frozen_model() -> str:
+    """Return the frozen base model of validation/model-freeze.yaml (the bare anion while nothing is frozen)."""
+    if not FREEZE_FILE.is_file():
+        return UNNAMED_BASE_MODEL
+    return str(yaml.safe_load(FREEZE_FILE.read_text())["base_model"])
 
 
 def _git(*words: str) -> subprocess.CompletedProcess:
@@ -238,7 +243,7 @@ def main(argv: list[str] | None = None) -> int:
                     log.write(json.dumps(entry) + "\n")
         log_file = work / RUN_LOG
         runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
-        runs = [r for r in runs if r.get("base_model", DEFAULT_BASE_MODEL) == args.base_model]
+        runs = [r for r in runs if r.get("base_model", UNNAMED_BASE_MODEL) == args.base_model]
         found = _collect(groups, work)
         levels = computed_levels(found.jobs()) or ["dE"]
         scores, calibration = _score(chosen, found, seed_count, levels)

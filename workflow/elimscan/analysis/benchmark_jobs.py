@@ -18,7 +18,7 @@ from rdkit import Chem
 
 from elimscan.config import BASE_LIBRARY, SolventConfig
 from elimscan.analysis.benchmark_cases import CalibrationCase, Molecule, OutcomeCase, case_slots
-from elimscan.analysis.benchmark_models import DEFAULT_BASE_MODEL, base_model_block, model_prefix
+from elimscan.analysis.benchmark_models import UNNAMED_BASE_MODEL, base_model_block, model_prefix
 
 
 @dataclass(frozen=True)
@@ -91,7 +91,7 @@ class BatchGroup:
 
 
 def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
-                 engine_factory: str | None = None, base_model: str = DEFAULT_BASE_MODEL) -> list[BatchGroup]:
+                 engine_factory: str | None = None, base_model: str = UNNAMED_BASE_MODEL) -> list[BatchGroup]:
     """Return the batch configs of the jobs, one per group, with each job's pair shared by equal jobs.
 
     ``engine_factory`` ('module:function') puts a plug-in engine into every config (tests); None: GFN2-xTB.

@@ -10,8 +10,9 @@ from __future__ import annotations
 
 from typing import Any
 
-#: the model every job uses unless told otherwise (elimscan's default base model)
-DEFAULT_BASE_MODEL = "bare"
+#: the model of the benchmark's first batch folders and run-log lines, which carry no model name (the bare anion);
+#: the model the benchmark runs by default is the frozen one (validation/model-freeze.yaml, read by validate.py)
+UNNAMED_BASE_MODEL = "bare"
 
 #: name -> (``model:`` block of each benchmark base, or None, and what it represents)
 BASE_MODEL_CANDIDATES: dict[str, tuple[dict[str, Any] | None, str]] = {
@@ -35,6 +36,6 @@ def base_model_block(name: str) -> dict[str, Any] | None:
 
 
 def model_prefix(name: str) -> str:
-    """Return the prefix of a candidate's batch folders ('' for the default model, so old folders are reused)."""
+    """Return the prefix of a candidate's batch folders ('' for the bare anion, so its old folders are reused)."""
     base_model_block(name)
-    return "" if name == DEFAULT_BASE_MODEL else f"{name}--"
+    return "" if name == UNNAMED_BASE_MODEL else f"{name}--"
