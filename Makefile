@@ -79,8 +79,10 @@ kernel-sweep: $(VENV)/.installed
 
 # The reference benchmark (validation/cases.yaml) against experiment; not part of make test. Resumable: the
 # batches stay in REFERENCE_DIR, and running the target again computes only the unfinished jobs.
-#   reference-cases       every case, three seeds; writes validation/VALIDATION.md (days on two cores)
+#   reference-cases       every case, three seeds, the frozen base model; writes validation/VALIDATION.md (days on
+#                         two cores; the page estimates what is left)
 #   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast.md (a quick look)
+# Another base model: add --base-model NAME to the command (pages VALIDATION-NAME.md, VALIDATION-fast-NAME.md).
 REFERENCE_DIR ?= results/reference-cases
 REFERENCE_WORKERS ?= 2
 reference-cases: $(VENV)/.installed
@@ -90,11 +92,12 @@ reference-cases-fast: $(VENV)/.installed
 	$(VPY) validation/validate.py --subset fast --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
 
 # Choosing the base model (issue 18), never on the test cases: the calibration set under one candidate
-# (BASE_MODEL=alcohol-2 etc., see workflow/elimscan/analysis/benchmark_models.py; writes CALIBRATION-<model>.md),
+# (BASE_MODEL=alcohol-2 etc., see workflow/elimscan/analysis/benchmark_models.py; writes CALIBRATION-<model>.md;
+# without BASE_MODEL the frozen model of validation/model-freeze.yaml, writes CALIBRATION.md),
 # and the relative alkoxide basicity under every candidate (writes validation/BASICITY.md; minutes).
-BASE_MODEL ?= bare
+BASE_MODEL ?=
 calibration: $(VENV)/.installed
-	$(VPY) validation/validate.py --subset calibration --base-model $(BASE_MODEL) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
+	$(VPY) validation/validate.py --subset calibration $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
 
 basicity: $(VENV)/.installed
 	$(VPY) validation/basicity.py
