@@ -82,20 +82,20 @@ kernel-sweep: $(VENV)/.installed
 #   reference-cases       every case, three seeds, the frozen base model; writes validation/VALIDATION.md (days on
 #                         two cores; the page estimates what is left)
 #   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast.md (a quick look)
-# Another base model: add --base-model NAME to the command (pages VALIDATION-NAME.md, VALIDATION-fast-NAME.md).
+# Another base model: BASE_MODEL=NAME (pages VALIDATION-NAME.md, VALIDATION-fast-NAME.md).
 REFERENCE_DIR ?= results/reference-cases
 REFERENCE_WORKERS ?= 2
+BASE_MODEL ?=
 reference-cases: $(VENV)/.installed
-	$(VPY) validation/validate.py --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
+	$(VPY) validation/validate.py $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
 
 reference-cases-fast: $(VENV)/.installed
-	$(VPY) validation/validate.py --subset fast --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
+	$(VPY) validation/validate.py --subset fast $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
 
 # Choosing the base model (issue 18), never on the test cases: the calibration set under one candidate
 # (BASE_MODEL=alcohol-2 etc., see workflow/elimscan/analysis/benchmark_models.py; writes CALIBRATION-<model>.md;
 # without BASE_MODEL the frozen model of validation/model-freeze.yaml, writes CALIBRATION.md),
 # and the relative alkoxide basicity under every candidate (writes validation/BASICITY.md; minutes).
-BASE_MODEL ?=
 calibration: $(VENV)/.installed
 	$(VPY) validation/validate.py --subset calibration $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
 
