@@ -224,3 +224,51 @@ def test_molecules_beyond_the_free_lone_pairs_form_a_second_shell_without_a_cati
         assert len(donated) == 1
     distances = np.linalg.norm(positions[:, None] - positions[None], axis=2) + 10 * np.eye(len(positions))
     assert distances.min() > 0.9
+
+
+def _free_lone_pair_side(cluster) -> np.ndarray:
+    """Return the unit vector from the basic atom away from the mean of its hydrogen-bonded hydrogens."""
+    positions, o = cluster.atoms.positions, cluster.basic_atom_index
+    bonded = [h for h in range(cluster.n_base_atoms, len(positions)) if cluster.atoms.numbers[h] == 1
+              and np.linalg.norm(positions[h] - positions[o]) == pytest.approx(HYDROGEN_BOND_A, abs=1e-6)]
+    away = positions[o] - positions[bonded].mean(axis=0)
+    return away / np.linalg.norm(away)
+
+
+def test_arrangements_leave_a_different_lone_pair_free_and_move_the_second_shell():
+    """Arrangements 0-2 free each of the alkoxide oxygen's three lone pairs in turn; 3 moves the second shell.
+
+    Geometry only (the lone pairs are tetrahedral about the C-O bond, common practice): the free side of the
+    oxygen turns by the angle between two lone pairs' projections, 120 degrees about the C-O axis.
+    """
+    info = describe_base("CC[O-]")
+    built = build_molecule("CC[O-]", 11)
+    acid = conjugate_acid_smiles("CC[O-]", info.basic_atom_index)
+    molecules = [build_molecule(acid, 11 + k).atoms for k in range(3)]
+    clusters = [build_cluster(built.atoms, info.basic_atom_index, "CC[O-]", -1, None, molecules, acid, "test base", a)
+                for a in range(4)]
+    sides = [_free_lone_pair_side(c) for c in clusters[:3]]
+    o = info.basic_atom_index
+    carbon = next(j for j in range(len(built.atoms)) if built.atoms.numbers[j] == 6
+                  and np.linalg.norm(built.atoms.positions[j] - built.atoms.positions[o]) < 1.6)
+    axis = built.atoms.positions[o] - built.atoms.positions[carbon]
+    axis /= np.linalg.norm(axis)
+    flat = [s - (s @ axis) * axis for s in sides]
+    for a, b in ((0, 1), (1, 2), (0, 2)):
+        cosine = flat[a] @ flat[b] / (np.linalg.norm(flat[a]) * np.linalg.norm(flat[b]))
+        assert np.degrees(np.arccos(np.clip(cosine, -1, 1))) == pytest.approx(120.0, abs=1.0)
+    # arrangement 3 frees the same lone pair as 0 but hangs the second-shell alcohol on the other first-shell one
+    assert _free_lone_pair_side(clusters[3]) @ sides[0] == pytest.approx(1.0, abs=1e-6)
+    assert not np.allclose(clusters[3].atoms.positions[-9:], clusters[0].atoms.positions[-9:], atol=0.1)
+    assert all(_hill(c.atoms) == _hill(clusters[0].atoms) for c in clusters)
+
+
+def test_several_arrangements_are_relaxed_and_the_lowest_is_kept_on_the_toy_engine():
+    one, _ = _toy_run({"explicit": 3})
+    three, record = _toy_run({"explicit": 3, "arrangements": 3})
+    single, best = one.bases["methoxide"].relaxed.record, three.bases["methoxide"].relaxed.record
+    assert best.status == "ok" and best.arrangements == 3 and single.arrangements == 1
+    assert best.energy_hartree <= single.energy_hartree + 1e-9  # arrangement 0 is one of the three
+    assert best.n_gradients > single.n_gradients  # every arrangement's relaxation counted
+    assert best.arrangement_spread_kcal_mol is not None and best.arrangement_spread_kcal_mol >= 0.0
+    assert single.arrangement_spread_kcal_mol is None and record.status == "ok"

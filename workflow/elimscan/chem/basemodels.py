@@ -155,18 +155,19 @@ def _place_molecule(molecule: Atoms, anchor: int, h: int, donor: int, site: np.n
 
 
 def _second_shell(cluster: Atoms, first: int, first_sizes: Sequence[int], molecules: Sequence[Atoms],
-                  what: str) -> Atoms:
+                  what: str, host_offset: int = 0) -> Atoms:
     """Return ``cluster`` with each molecule hydrogen-bonded to a lone pair of a first-shell donor atom (Å).
 
     The first-shell molecules start at atom ``first`` (right after the base) with ``first_sizes`` atoms each;
-    the k-th added molecule binds the (k mod n)-th of them, on the lone pair of its donor atom that leaves the
-    most room (a second molecule on the same donor takes the next one).
+    the k-th added molecule binds the ((k + host_offset) mod n)-th of them, on the lone pair of its donor atom
+    that leaves the most room (a second molecule on the same donor takes the next one).
     """
     starts = [first + sum(first_sizes[:j]) for j in range(len(first_sizes))]
     used: dict[int, int] = {}
     for k, molecule in enumerate(molecules):
-        start = starts[k % len(starts)]
-        _, donor = donor_hydrogen(cluster[start:start + first_sizes[k % len(starts)]], what)
+        host = (k + host_offset) % len(starts)
+        start = starts[host]
+        _, donor = donor_hydrogen(cluster[start:start + first_sizes[host]], what)
         donor += start
         centre = cluster.positions[donor]
 
@@ -187,11 +188,14 @@ def _second_shell(cluster: Atoms, first: int, first_sizes: Sequence[int], molecu
 
 
 def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, counter_ion: str | None,
-                  explicit: Sequence[Atoms] = (), explicit_smiles: str | None = None, name: str = "base") -> BaseCluster:
+                  explicit: Sequence[Atoms] = (), explicit_smiles: str | None = None, name: str = "base",
+                  arrangement: int = 0) -> BaseCluster:
     """Return the base model: the base, then the cation (if any), then the explicit molecules (Å).
 
-    Raises StructureError naming the base when the ligands would leave no lone pair free, or when a
-    counter-ion is asked for a base that is not an anion.
+    ``arrangement`` picks one of the distinct hydrogen-bond arrangements: it turns the order of the basic
+    atom's lone pairs (so another one stays free: arrangement mod the number of lone pairs) and, beyond that,
+    which first-shell molecule each second-shell one binds. Raises StructureError naming the base when the
+    ligands would leave no lone pair free, or when a counter-ion is asked for a base that is not an anion.
     """
     if counter_ion is None and not explicit:
         return BaseCluster(base.copy(), base_smiles, base_charge, basic, len(base), "bare")
@@ -203,6 +207,8 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
             raise StructureError(f"base '{name}' ({base_smiles}) is not an anion (charge {base_charge:+d}): "
                                  "a counter-ion pairs only with an anionic base")
     slots = lone_pair_directions(base, basic)
+    turn = arrangement % len(slots) if slots else 0
+    slots = slots[turn:] + slots[:turn]
     at_base = len(slots) - 1 - (1 if counter_ion else 0)  # explicit molecules the basic atom can take
     if at_base < 0 or (counter_ion is None and explicit and at_base == 0):
         ligands = (1 if counter_ion else 0) + len(explicit)
@@ -228,7 +234,8 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
     on_cation = explicit[at_base:] if counter_ion is not None else ()
     second_shell = explicit[at_base:] if counter_ion is None else ()
     if second_shell:
-        cluster = _second_shell(cluster, len(base), [len(m) for m in explicit[:at_base]], second_shell, what)
+        cluster = _second_shell(cluster, len(base), [len(m) for m in explicit[:at_base]], second_shell, what,
+                                arrangement // max(len(slots), 1))
         smiles += [explicit_smiles or "?"] * len(second_shell)
     if on_cation:
         metal = cluster.positions[len(base)]
@@ -254,7 +261,7 @@ def build_cluster(base: Atoms, basic: int, base_smiles: str, base_charge: int, c
 
 
 def model_cluster(smiles: str, charge: int | None, multiplicity: int, counter_ion: str | None, explicit: int,
-                  explicit_smiles: str | None, seed: int, name: str) -> BaseCluster:
+                  explicit_smiles: str | None, seed: int, name: str, arrangement: int = 0) -> BaseCluster:
     """Return the base model of a base config (Å): the embedded base with its cation and explicit molecules.
 
     The one builder for the calculation (``pipeline.compute.relax_base``) and the input check
@@ -269,4 +276,5 @@ def model_cluster(smiles: str, charge: int | None, multiplicity: int, counter_io
     molecule_smiles = explicit_smiles or conjugate_acid_smiles(smiles, basic)
     molecules = [build_molecule(molecule_smiles, (seed + k) % SEED_LIMIT, None, 1, f"{what} explicit molecule").atoms
                  for k in range(explicit)]
-    return build_cluster(built.atoms, basic, smiles, built.formal_charge, counter_ion, molecules, molecule_smiles, name)
+    return build_cluster(built.atoms, basic, smiles, built.formal_charge, counter_ion, molecules, molecule_smiles, name,
+                         arrangement)

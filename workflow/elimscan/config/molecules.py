@@ -26,6 +26,8 @@ OVERNIGHT_HEAVY_ATOMS = 60
 #: explicit solvent molecules of a base model at most: two on an alkoxide oxygen (one lone pair stays free),
 #: the rest on the cation or in a second shell; issue 18 asks for n = 0 ... 4 as calibration candidates
 MAX_EXPLICIT_MOLECULES = 4
+#: starting hydrogen-bond arrangements of a base model at most (each is relaxed; the lowest is kept)
+MAX_CLUSTER_ARRANGEMENTS = 6
 
 
 def closed_shell_multiplicity(value: object) -> object:
@@ -85,6 +87,9 @@ class BaseModelConfig(Frozen):
     explicit: int = Field(0, ge=0, le=MAX_EXPLICIT_MOLECULES)
     #: SMILES of the explicit molecule; None: the base's conjugate acid (tert-butanol for tert-butoxide)
     explicit_smiles: str | None = Field(None, min_length=1)
+    #: distinct starting arrangements of the cluster (which lone pair stays free, which first-shell molecule
+    #: holds each second-shell one), each relaxed; the lowest relaxed one is the base (1: the first only)
+    arrangements: int = Field(1, ge=1, le=MAX_CLUSTER_ARRANGEMENTS)
 
     @field_validator("counter_ion", mode="before")
     @classmethod

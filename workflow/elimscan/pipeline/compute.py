@@ -18,10 +18,11 @@ from rdkit import Chem
 
 from elimscan.analysis.rule import GeometrySample, best_periplanar, boltzmann_combined, periplanar_starts, rule_status
 from elimscan.chem.bases import BaseInfo, describe_base
-from elimscan.chem.basemodels import model_cluster
+from elimscan.chem.basemodels import BaseCluster, model_cluster
 from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
+from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.chem.betahydrogens import BetaHydrogenClass
 from elimscan.chem.perception import Substrate, perceive_substrate
@@ -33,7 +34,7 @@ from elimscan.pipeline.outcome import (DETAIL, SUBSTITUTION_KEY, BaseAnalysis, C
                                        RelaxedMolecule, RunOutcome, SubstrateAnalysis)
 from elimscan.results.failures import error_info
 from elimscan.results.records import ErrorInfo, MoleculeRecord
-from elimscan.drivers.relax import relax
+from elimscan.drivers.relax import RelaxResult, relax
 from elimscan.drivers.scans import DihedralScan, branch_plan, scan_dihedral
 from elimscan.chem.structures import atoms_from_geometry, build_molecule, check_charge, formula
 
@@ -69,7 +70,8 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
 
     For a bare base this is ``relax_molecule``; otherwise the cluster of basemodels.py is built on the
     embedded base and relaxed as one molecule (charge: base + cation), whose energy is the base's share of
-    the common zero. The record's SMILES is the dot-separated cluster.
+    the common zero; with ``model.arrangements`` > 1 each starting arrangement is relaxed and the lowest
+    converged one kept. The record's SMILES is the dot-separated cluster.
     """
     model = item.model
     if model.counter_ion is None and not model.explicit:
@@ -78,24 +80,33 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
         return relaxed, (describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None)
     what = f"base '{item.name}'"
     start = time.perf_counter()
+    tried: list[tuple[BaseCluster, RelaxResult]] = []
     try:
         info = describe_base(item.smiles, item.bulky)
-        cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
-                                model.explicit_smiles, config.seed, item.name)
-        calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
-        result = relax(cluster.atoms, calc, (), config.optimizer)
+        for arrangement in range(model.arrangements):
+            cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
+                                    model.explicit_smiles, config.seed, item.name, arrangement)
+            calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
+            tried.append((cluster, relax(cluster.atoms, calc, (), config.optimizer)))
     except ElimscanError as err:
         record = MoleculeRecord(name=item.name, role="base", smiles=item.smiles, status="failed", error=error_info(err))
         return RelaxedMolecule(record, None), None
+    converged = [pair for pair in tried if pair[1].converged] or tried
+    cluster, result = min(converged, key=lambda pair: pair[1].energy_hartree)
+    energies = [r.energy_hartree for _, r in converged]
     record = MoleculeRecord(
         name=item.name, role="base", smiles=cluster.smiles, status="ok", charge=cluster.charge,
         multiplicity=item.multiplicity, n_atoms=len(result.atoms), formula=result.atoms.get_chemical_formula(mode="hill"),
-        energy_hartree=result.energy_hartree, converged=result.converged, n_gradients=result.n_gradients,
-        relax_seconds=round(time.perf_counter() - start, 3), model=cluster.label)
+        energy_hartree=result.energy_hartree, converged=result.converged,
+        n_gradients=sum(r.n_gradients for _, r in tried), relax_seconds=round(time.perf_counter() - start, 3),
+        model=cluster.label, arrangements=len(tried),
+        arrangement_spread_kcal_mol=round((max(energies) - min(energies)) * KCAL_MOL_PER_HARTREE, 3)
+        if len(energies) > 1 else None)
     if not result.converged:
         record = record.model_copy(update={"status": "failed", "error": ErrorInfo(
             error_type="optimization_failed",
-            error_message=f"{what} ({cluster.label}): relaxation did not converge in {config.optimizer.max_steps} steps")})
+            error_message=f"{what} ({cluster.label}): relaxation did not converge in {config.optimizer.max_steps} steps"
+                          + (f" in any of its {len(tried)} arrangements" if len(tried) > 1 else ""))})
         return RelaxedMolecule(record, result.atoms), None
     return RelaxedMolecule(record, result.atoms), BaseInfo(cluster.smiles, info.basic_atom_index, cluster.charge,
                                                             info.bulky, info.bulky_reason)
