@@ -101,3 +101,24 @@ def test_the_provenance_of_a_run_document_carries_every_library_of_the_job_key(t
     batch = _provenance(plan_batch(parse_config(path.read_text(), str(path)), path), "elimscan batch dft.yaml")
     assert batch.pyscf_version == numeric_versions("tblite", dft=True)["pyscf"]
     assert (batch.scipy_version, batch.sella_version) == (key["scipy"], key["sella"])
+
+
+def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
+    """Finished batch jobs are found again by their key: a setting added since they ran, at the value that does
+    what the code did before it existed (pipeline/document.KEY_NEUTRAL), leaves the key alone.
+
+    The pinned key was computed by commit 607da3f (the code of the frozen-model benchmark batches). A change
+    that does change a job's numbers (a default, a library version) must change keys: then update this value
+    and say why in the commit.
+    """
+    from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline.document import job_key
+
+    config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                       bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),))
+    key = job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0], SolventConfig(model="alpb", name="ethanol"),
+                  {"elimscan": "test"})
+    assert key == "f89e676d9db5f08ad4d9856a8eb3f7106dde1816dd16b5bcad0a69fb65e9a447"
+    more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
+    assert job_key(config, {"name": "s", "smiles": "CCCl"}, more, SolventConfig(model="alpb", name="ethanol"),
+                   {"elimscan": "test"}) != key  # three arrangements can change the numbers

@@ -22,6 +22,21 @@ from elimscan.versions import BACKEND_DISTRIBUTIONS, installed_version
 
 #: settings that change no number: left out of the job key
 KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents", "series"}
+#: settings added after jobs were keyed, at the value that does what the code did before they existed: left out
+#: of the key at that value, so finished jobs keep their keys (dotted path in the key document -> that value)
+KEY_NEUTRAL: dict[str, object] = {"base.model.arrangements": 1}
+
+
+def _without_neutral(document: dict) -> dict:
+    """Return the key document without the KEY_NEUTRAL settings that sit at their neutral value."""
+    for dotted, neutral in KEY_NEUTRAL.items():
+        *parents, leaf = dotted.split(".")
+        node = document
+        for part in parents:
+            node = node.get(part) if isinstance(node, dict) else None
+        if isinstance(node, dict) and leaf in node and node[leaf] == neutral:
+            del node[leaf]
+    return document
 
 
 def utc_now() -> str:
@@ -63,8 +78,8 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
         versions = {**versions, "pyscf": installed_version("pyscf")}
     else:  # tier off: keys stay those of configs without a dft block
         settings.pop("dft", None)
-    document = {"key_format": 1, "settings": settings, "substrate": substrate,
-                "base": base.model_dump(mode="json"), "versions": versions}
+    document = _without_neutral({"key_format": 1, "settings": settings, "substrate": substrate,
+                                 "base": base.model_dump(mode="json"), "versions": versions})
     return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
 
