@@ -5,7 +5,7 @@ put the alkoxides in their solution order (tert-butoxide the strongest base, met
 measured pKa values of the alcohols say. For each candidate of ``elimscan.analysis.benchmark_models`` and each
 seed, the base models and the free alcohols are relaxed with GFN2-xTB in the implicit solvent (electronic
 energies; thermal terms left out), and pKa(ROH) - pKa(MeOH) comes from the balanced proton exchange of
-``elimscan.analysis.basicity``. The lowest energy over the seeds (starting arrangements) counts; the spread
+``elimscan.analysis.basicity``. The lowest energy over the seeds (and, with --arrangements, the hydrogen-bond arrangements) counts; the spread
 over seeds is printed beside it. Writes validation/BASICITY.md (never edited by hand).
 
 Options: ``--models a,b`` (default: all candidates), ``--seeds N`` (default 3), ``--no-write``.
@@ -25,7 +25,7 @@ from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, base_model
 from elimscan.atomicio import write_text_atomic
 from elimscan.chem.basemodels import conjugate_acid_smiles
 from elimscan.chem.bases import describe_base
-from elimscan.config import BaseConfig, MethodConfig, OptimizerConfig, RunConfig, SubstrateConfig
+from elimscan.config import MAX_CLUSTER_ARRANGEMENTS, BaseConfig, MethodConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.engines.factory import make_engine
 from elimscan.pipeline.compute import relax_base, relax_molecule
 
@@ -43,13 +43,17 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
     parser = argparse.ArgumentParser(description="relative alkoxide basicity under each base model")
     parser.add_argument("--models", default=",".join(BASE_MODEL_CANDIDATES),
                         help="comma-separated candidates (default: all)")
-    parser.add_argument("--seeds", type=int, default=3, help="starting arrangements per model (default 3)")
+    parser.add_argument("--seeds", type=int, default=3, help="seeds per model: conformers of the base and its molecules (default 3)")
+    parser.add_argument("--arrangements", type=int, default=1,
+                        help="hydrogen-bond arrangements relaxed per cluster, the lowest kept (model.arrangements; default 1)")
     parser.add_argument("--no-write", action="store_true", help="print the table, do not write BASICITY.md")
     args = parser.parse_args(argv)
     for name in args.models.split(","):
         base_model_block(name)
     if args.seeds < 1:
         parser.error("--seeds must be at least 1")
+    if not 1 <= args.arrangements <= MAX_CLUSTER_ARRANGEMENTS:
+        parser.error(f"--arrangements must be 1 to {MAX_CLUSTER_ARRANGEMENTS}")
     return args
 
 
@@ -80,7 +84,8 @@ def main(argv: list[str] | None = None) -> int:
         for name, smiles in ALKOXIDES.items():
             energies = []
             for seed in range(1, args.seeds + 1):
-                item = BaseConfig(name=name, smiles=smiles, model=block or {})
+                model = {**block, "arrangements": args.arrangements} if block else {}
+                item = BaseConfig(name=name, smiles=smiles, model=model)
                 config = RunConfig(seed=seed, method=method, bases=(item,),
                                    substrates=(SubstrateConfig(name="unused", smiles="CCBr"),))
                 relaxed, _ = relax_base(item, engine, config)
@@ -104,7 +109,7 @@ def main(argv: list[str] | None = None) -> int:
         "# Relative alkoxide basicity under each base model", "",
         "Written by `validation/basicity.py`; never edited by hand. GFN2-xTB/ALPB(ethanol) electronic energies of "
         "relaxed base models and alcohols (thermal terms left out), lowest over "
-        f"{args.seeds} starting arrangement(s), {TEMPERATURE_K} K; pKa(ROH) − pKa(methanol) from the balanced "
+        f"{args.seeds} seed(s) × {args.arrangements} hydrogen-bond arrangement(s) of each cluster, {TEMPERATURE_K} K; pKa(ROH) − pKa(methanol) from the balanced "
         "proton exchange (explicit molecules of each base's own alcohol change sides with it).", "",
         f"- run: {_dt.datetime.now(_dt.timezone.utc).strftime('%Y-%m-%d %H:%M UTC')}, commit `{commit}`, "
         f"{time.perf_counter() - started:.0f} s", "",
