@@ -5,10 +5,12 @@ put the alkoxides in their solution order (tert-butoxide the strongest base, met
 measured pKa values of the alcohols say. For each candidate of ``elimscan.analysis.benchmark_models`` and each
 seed, the base models and the free alcohols are relaxed with GFN2-xTB in the implicit solvent (electronic
 energies; thermal terms left out), and pKa(ROH) - pKa(MeOH) comes from the balanced proton exchange of
-``elimscan.analysis.basicity``. The lowest energy over the seeds (and, with --arrangements, the hydrogen-bond arrangements) counts; the spread
-over seeds is printed beside it. Writes validation/BASICITY.md (never edited by hand).
+``elimscan.analysis.basicity``. The lowest energy over the seeds (and over the hydrogen-bond arrangements of
+each cluster, ``--arrangements``) counts; the spread over seeds is printed beside it. Writes
+validation/BASICITY.md (never edited by hand).
 
-Options: ``--models a,b`` (default: all candidates), ``--seeds N`` (default 3), ``--no-write``.
+Options: ``--models a,b`` (default: all candidates), ``--seeds N`` (default 3), ``--arrangements N`` (default 1),
+``--no-write``.
 """
 
 from __future__ import annotations
