@@ -260,7 +260,8 @@ def main(argv: list[str] | None = None) -> int:
                        args.subset, f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)"),
                    base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
-                   n_jobs=n_jobs, n_jobs_finished=n_finished, **_freeze([r["commit"] for r in runs]))
+                   n_jobs=n_jobs, n_jobs_finished=n_finished, compute_commits=tuple(r["commit"] for r in runs),
+                   **_freeze([r["commit"] for r in runs]))
     page = validation_markdown(info, scores, calibration, levels, models)
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model), page)

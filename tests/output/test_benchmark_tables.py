@@ -43,6 +43,8 @@ def test_the_page_names_the_run_and_gives_every_part():
     assert "2026-12-03 12:00 UTC, commit `abc1234`" in page and "wall time: 2 h 30 min over the 2 invocation(s) that computed in this work folder (this one: 1 h 30 min)" in page
     assert "5 of 6 jobs finished (**1 not finished" in page
     # 7200 s over 5 finished jobs: 24 min each, so the one left is estimated at 24 min
+    assert "(code: commit `607da3f`, `abc1234`)" in validation_markdown(
+        replace(INFO, compute_commits=("abc1234", "607da3f", "abc1234")), scores(), [], ["dE"])
     assert "the 1 job(s) left would take about 24 min of job time at the finished jobs' mean of 24 min" in page
     assert "- **GFN2-xTB dE**: computed right 1/3, rule right 2/3, undecided 1/3" in page
     assert "| GFN2-xTB dE | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column

@@ -49,6 +49,8 @@ class RunInfo:
     seen_before_freeze: tuple[str, ...] = ()
     #: commits of invocations that computed in this work folder but do not descend from the freeze commit
     computed_before_freeze: tuple[str, ...] = ()
+    #: commits of every invocation that computed in this work folder for this model (the code behind the numbers)
+    compute_commits: tuple[str, ...] = ()
 
 
 def _code(smiles: str | None) -> str:
@@ -238,7 +240,9 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
-             f"in this work folder (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
+             f"in this work folder" + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
+                                      if info.compute_commits else "")
+             + f" (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
              f"{_duration(info.job_seconds)} summed over jobs" + _remaining(info),
              f"- command: `{info.command}`", "",
              "How to read it. Levels: dE, GFN2-xTB electronic barriers; dG, quasi-RRHO free barriers of verified saddles "
