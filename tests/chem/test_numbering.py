@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import pytest
+
 import json
 
 from elimscan.chem.atomgraph import atom_number, class_label
@@ -45,8 +47,9 @@ def test_old_results_are_read_with_labels_numbered_from_one():
     assert new["beta_hydrogens"][0]["scans"][0]["xyz_file"] == "substrates/x/scan-C0-H5-0.xyz"  # a path stays
 
 
-def test_a_current_document_is_not_relabelled():
-    assert RunResult.model_fields["schema_version"].default == "0.7.1"
-    data = {"schema_version": "0.7.1", "jobs": [{"job_id": "a", "beta_hydrogens": [
+@pytest.mark.parametrize("version", ["0.7.1", RunResult.model_fields["schema_version"].default])
+def test_a_current_document_is_not_relabelled(version):
+    """Schema 0.7.1 numbered atoms from 1; it and every later version are read as written."""
+    data = {"schema_version": version, "jobs": [{"job_id": "a", "beta_hydrogens": [
         {"class_id": "C2-H7", "beta_carbon_index0": 1, "representative_index0": 6}]}]}
     assert RunResult._numbered_from_one(data) is data

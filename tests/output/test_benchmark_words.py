@@ -1,0 +1,35 @@
+"""The README's and the report's paragraph on what the benchmark resolves quote the committed benchmark page.
+
+Issue 17 asks that both state, from the benchmark's table, what the tool resolves: if the page is written again
+with other counts, this test fails until the README (validation paragraph) and output/html/words.BENCHMARK_SAYS
+are brought in line. The page is validation/VALIDATION-fast.md, written only by validation/validate.py.
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from elimscan.output.html.words import BENCHMARK_SAYS
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def _headline(page: str, level: str) -> tuple[str, str, str]:
+    """Return (computed right, rule right, undecided) of one level's headline line, e.g. ('3/5', '5/5', '1/5')."""
+    line = next(x for x in page.splitlines() if x.startswith(f"- **GFN2-xTB {level}"))
+    found = re.search(r"computed right (\d+/\d+), rule right (\d+/\d+), undecided (\d+/\d+)", line)
+    assert found, line
+    return found.groups()
+
+
+def test_readme_and_report_quote_the_fast_benchmark_page():
+    page = (ROOT / "validation" / "VALIDATION-fast.md").read_text()
+    de, dg = _headline(page, "dE"), _headline(page, "dG")
+    assert de[1] == dg[1]  # the rule is scored once, on the same cases
+    quoted = f"computed right {de[0]} (\u0394E\u2021) and {dg[0]} (\u0394G\u2021), the textbook rule {de[1]}"
+    readme = " ".join((ROOT / "README.md").read_text().split())
+    assert quoted.lower() in readme.lower(), "README's benchmark paragraph does not quote VALIDATION-fast.md"
+    assert quoted in BENCHMARK_SAYS, "words.BENCHMARK_SAYS does not quote VALIDATION-fast.md"
+    model = re.search(r"- base model: `([^`]+)`", page).group(1)
+    assert model == "alcohol-3" and "three ethanol molecules" in BENCHMARK_SAYS and "three ethanol molecules" in readme
