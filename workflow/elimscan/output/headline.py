@@ -120,7 +120,8 @@ def verdict_parts(h: hl.Headline, name: Callable[[str], str] = _plain) -> tuple[
     lean = f"; the barriers lean to {name(h.computed_major)}" if h.computed_major else ""
     why = {
         hl.CLOSE_CALL: (f"the best barriers to {name(h.computed_major)} and {name(h.runner_up or '')} lie within "
-                        f"{h.uncertainty_kcal_mol:g} kcal/mol of each other, inside the method's uncertainty; the "
+                        f"{h.uncertainty_kcal_mol:g} kcal/mol of each other, inside the method's uncertainty (the "
+                        f"reference benchmark finds GFN2-xTB unable to decide such close open-chain choices); the "
                         f"rule picks {rule}"),
         hl.NONE_REACHED: f"no computed path reached its products, so no barrier decides; the rule picks {rule}",
         hl.ALL_FAILED: f"every computed path failed; the rule picks {rule}",
