@@ -100,7 +100,8 @@ class PathConfig(Frozen):
     substitution_distance_A: float = Field(3.0, gt=1.5)
     #: gradients one path (complex, driven path, saddle search, checks and fallbacks) may spend, per atom of the
     #: complex; a path that would spend more is stopped and reported as an unfinished estimate that is no barrier
-    #: (null: no limit). The default 200 is 3.5 x the benchmark job's median path (1,311 gradients at 23 atoms)
-    #: and 3.6 x the demo's: ordinary paths and their first fallbacks fit, a runaway stops
+    #: (null: no limit). The default 200 was 3.5 x the benchmark job's median path (1,311 gradients at 23 atoms)
+    #: and 3.6 x the demo's before the loose first pass (median 808 since, so 5.7 x): ordinary paths and their
+    #: first fallbacks fit, a runaway stops
     gradient_budget_per_atom: float | None = Field(200.0, gt=0, le=MAX_GRADIENT_BUDGET_PER_ATOM)
     saddle: SaddleConfig = SaddleConfig()
