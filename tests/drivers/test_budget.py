@@ -45,7 +45,9 @@ def _per_atom(limit: int, n_atoms: int = 13) -> float:
 
 
 def test_a_path_that_would_exceed_its_budget_stops_at_it_and_names_the_driven_path(toy_path):
-    free = PathConfig(points=6, base_rotations=2, saddle={"refine": False}, gradient_budget_per_atom=None)
+    # every point relaxed tightly at once (no loose first pass): the stopped path's points are then the free path's
+    free = PathConfig(points=6, base_rotations=2, saddle={"refine": False}, gradient_budget_per_atom=None,
+                      loose_fmax_eV_per_A=None)
     full, spent_full = toy_path(free)
     assert full.stopped_stage is None and len(full.points) == 7
     complex_cost = full.complex.n_gradients

@@ -97,6 +97,64 @@ def test_drive_path_steps_the_combined_coordinate(embed):
         assert p.distances["base_h_A"] == pytest.approx(distance(p.atoms.positions, reactive.base, reactive.h))
 
 
+def _toy_path(embed, **settings):
+    """Return the points of a four-point toy path driven with these paths settings; a spring on base...H (rest 2 Å)
+    makes every spring along the coordinate pay, so the energy climbs steeply (about 2, 8, 17, 30 kcal/mol)."""
+    substrate = embed("CCCl")
+    toy_atoms = place_base(substrate, 3, 0, embed("C[O-]"), 1, 2.0, 0.0)
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=len(substrate) + 1)
+    toy = SpringTorsionEngine(toy_atoms, extra_springs=((reactive.h, reactive.base, 2.0),))
+    start = ComplexResult(toy_atoms, toy.single_point(toy_atoms).energy_hartree, 0.0, (0.0,), 0)
+    return drive_path(start, reactive, toy, 0, 1, PathConfig(step_A=0.15, points=4, **settings), BFGS)[0]
+
+
+def test_a_loose_first_pass_ends_with_the_top_as_tight_as_a_tight_path(embed):
+    # The toy's springs have one constrained minimum per target, so a point relaxed to the same force lies at the
+    # same energy whatever its start. The toy path climbs to its last point: that top is tightened and matches the
+    # tight path; the next point lies 13 kcal/mol lower, below the tightened top, so it stays loose (above its tight
+    # energy) although inside the window.
+    tight = _toy_path(embed, loose_fmax_eV_per_A=None)
+    two_pass = _toy_path(embed, loose_fmax_eV_per_A=0.2, top_window_kcal_mol=15.0)
+    assert two_pass[4].energy_hartree == pytest.approx(tight[4].energy_hartree, abs=2e-6)
+    for k in (1, 2, 3):
+        assert two_pass[k].energy_hartree > tight[k].energy_hartree + 2e-5
+    assert [p.coordinate_A for p in two_pass] == pytest.approx([p.coordinate_A for p in tight])
+
+
+def test_past_the_top_the_path_strides_and_still_ends_at_its_last_target(embed, monkeypatch):
+    # The relaxation is scripted: a point's energy is a function of its target alone (a hump 10 kcal/mol high at
+    # q0 + 3 steps), so the test reads which targets were driven and which were tightened.
+    import elimscan.drivers.paths as paths_module
+    from elimscan.drivers.relax import HeldDistanceSum, RelaxResult
+
+    substrate = embed("CCCl")
+    atoms = place_base(substrate, 3, 0, embed("C[O-]"), 1, 2.0, 0.0)
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=len(substrate) + 1)
+    q0 = reactive.coordinate().value(atoms.positions)
+    calls = []
+
+    def scripted(start, calc, held, settings, start_hessian=None):
+        target = next(h.target_A for h in held if isinstance(h, HeldDistanceSum))
+        step = round((target - q0) / 0.1)
+        calls.append((step, settings.fmax_eV_per_A))
+        energy_kcal_mol = 10.0 - 2.0 * abs(step - 3) ** 1.5 - (drop_kcal_mol if settings.fmax_eV_per_A < 0.05 else 0)
+        return RelaxResult(start.copy(), energy_kcal_mol / KCAL_MOL_PER_HARTREE, 5, 4, True, 0.0)
+
+    monkeypatch.setattr(paths_module, "relax", scripted)
+    start = ComplexResult(atoms, 0.0, 0.0, (0.0,), 0)
+    settings = PathConfig(step_A=0.1, points=10, loose_fmax_eV_per_A=0.05, top_window_kcal_mol=2.5, after_top_stride=3)
+    # loose energies 10 - 2|k-3|^1.5: 4.3, 8.0, 10, 8.0, 4.3, -0.4, ...; step 5 is the first more than 2.5 below the top
+    for drop_kcal_mol, tightened in ((3.0, [2, 3, 4]), (1.0, [3])):  # the top falls below its neighbours, or not
+        calls.clear()
+        points, spent = drive_path(start, reactive, SpringTorsionEngine(atoms), 0, 1, settings, BFGS)
+        driven = [k for k, fmax in calls if fmax == 0.05]
+        assert driven == [1, 2, 3, 4, 5, 8, 10]
+        assert sorted(k for k, fmax in calls if fmax == BFGS.fmax_eV_per_A) == tightened
+        assert [round((p.coordinate_A - q0) / 0.1) for p in points] == [0] + driven
+        assert spent == 5 * len(calls)
+        assert points[3].energy_hartree * KCAL_MOL_PER_HARTREE == pytest.approx(10.0 - drop_kcal_mol)
+
+
 def _point(energy, c_alpha_x, base_h, converged=True):
     """Return a path point whose H0-C1-C2-X3 dihedral is 180 degrees and base (atom 4) is far away."""
     atoms = Atoms("H5", positions=[(0, 1, 0), (0, 0, 0), (1.5, 0, 0), (1.5, -1, 0), (-3, 3, 0)])

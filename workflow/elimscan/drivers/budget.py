@@ -4,7 +4,9 @@
 and its checks, fallbacks); ``metered(engine)`` gives the stages an engine whose calculators check the budget
 before each energy+gradient, so every stage (Hessians and a CI-NEB included) stops at the limit, not after it.
 With a ``report`` callback the budget also tells, at each stage and every ``REPORT_INTERVAL_S`` within one,
-the gradients and seconds of the stage and of the path so far, so a slow path shows while it runs.
+the gradients and seconds of the stage and of the path so far, so a slow path shows while it runs; without a
+limit it only reports, which is how the stages outside the paths (a substrate's conformer search, dihedral scans
+and Hessian, a base's relaxation and Hessian) show theirs (``scope`` names the whole: path, substrate, base).
 The stop is ``BudgetSpent``, an ``Exception`` outside elimscan's error tree on purpose: no handler for known
 failures catches it, only ``paths.compute_path``, which reports the path as unfinished. No file I/O.
 """
@@ -44,8 +46,9 @@ class GradientBudget:
     """Gradients one path may spend (``limit``; None: no limit), counted on the engine's ``stats.misses``."""
 
     def __init__(self, engine, limit: int | None, report: Callable[[str], None] | None = None,
-                 interval_s: float = REPORT_INTERVAL_S, clock: Callable[[], float] = time.monotonic):
-        self.engine, self.limit = engine, limit
+                 interval_s: float = REPORT_INTERVAL_S, clock: Callable[[], float] = time.monotonic,
+                 scope: str = "path"):
+        self.engine, self.limit, self.scope = engine, limit, scope
         self.stage = "start"
         self._start = engine.stats.misses
         self.by_stage: dict[str, int] = {}
@@ -66,9 +69,9 @@ class GradientBudget:
         self._tell(opening=True)
 
     def _path_text(self, now: float) -> str:
-        """Return the path's gradients (of its limit) and seconds so far, in words."""
+        """Return the gradients (of the limit) and seconds of the whole scope (the path) so far, in words."""
         limit = "" if self.limit is None else f" of {self.limit}"
-        return f"path {self.spent}{limit} gradients, {now - self._opened:.0f} s"
+        return f"{self.scope} {self.spent}{limit} gradients, {now - self._opened:.0f} s"
 
     def _tell(self, opening: bool = False) -> None:
         """Report the current stage's gradients and seconds and the path's (nothing without a report callback)."""

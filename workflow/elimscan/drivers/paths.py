@@ -19,6 +19,7 @@ from ase import Atoms
 from elimscan.config import OptimizerConfig, PathConfig
 from elimscan.errors import GradientBudgetError
 from elimscan.geometry import dihedral_deg, distance
+from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, NOT_TO_PRODUCTS, OTHER_HYDROGEN, SN2_LIKE,
                                     UNFINISHED_ABOVE, UNFINISHED_MAXIMUM, budget_spent_flag, no_barrier_reason)
 from elimscan.drivers.budget import (STAGE_BASE_H, STAGE_COMPLEX, STAGE_END, STAGE_NEB, STAGE_PATH, STAGE_SADDLE,
@@ -89,28 +90,82 @@ class PathResult:
 def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int, multiplicity: int,
                settings: PathConfig, optimizer: OptimizerConfig, hold_dihedral_deg: float | None = None,
                name: str = "path", on_point: Callable[[PathPoint], None] | None = None) -> tuple[list[PathPoint], int]:
-    """Return the relaxed path (points with the driven coordinate in Å) and the gradients it took."""
+    """Return the relaxed path (points with the driven coordinate in Å) and the gradients it took.
+
+    With ``settings.loose_fmax_eV_per_A`` every point is first relaxed to that force, then the points within
+    ``settings.top_window_kcal_mol`` of the highest are relaxed on to ``optimizer.fmax_eV_per_A`` (``tighten_top``);
+    past the top the path may go on several steps at a time (``settings.after_top_stride``).
+    ``on_point`` hears each point of the first pass as it is made.
+    """
     coordinate = reactive.coordinate()
     q0 = coordinate.value(complex_.atoms.positions)
-    points = [PathPoint(q0, complex_.energy_hartree, complex_.atoms, True, reactive.distances(complex_.atoms.positions))]
+    points = [_complex_point(complex_, reactive)]
     calc = engine.calculator(charge, multiplicity, name=name)
-    bfgs = optimizer.model_copy(update={"name": BFGS})
+    tight = optimizer.model_copy(update={"name": BFGS})
+    loose = settings.loose_fmax_eV_per_A
+    first = tight if loose is None else tight.model_copy(update={"fmax_eV_per_A": max(loose, tight.fmax_eV_per_A)})
     # every point starts from ASE's fresh Hessian: handing the previous point's Hessian on took 62 % fewer
     # gradients but let the base settle in another orientation at the top of one demo path (0.43 kcal/mol higher)
-    current, spent = complex_.atoms, 0
-    for k in range(1, settings.points + 1):
+    spent, k, hessians = 0, 0, [None]
+    while k < settings.points:
+        k = min(k + _stride(points, settings), settings.points)
         target = q0 + k * settings.step_A
-        held = [HeldDistanceSum(coordinate.terms, target)]
-        if hold_dihedral_deg is not None:
-            held.append(HeldDihedral(reactive.quad(), hold_dihedral_deg))
-        result = relax(current, calc, held, bfgs)
+        result = relax(points[-1].atoms, calc, _path_held(coordinate, target, reactive, hold_dihedral_deg), first)
         spent += result.n_gradients
         point = PathPoint(target, result.energy_hartree, result.atoms, result.converged, reactive.distances(result.atoms.positions))
         points.append(point)
+        hessians.append(result.hessian_eV_A2)
         if on_point is not None:
             on_point(point)
-        current = result.atoms
+    if first is not tight:
+        spent += tighten_top(points, reactive, calc, settings.top_window_kcal_mol, tight, hold_dihedral_deg, hessians)
     return points, spent
+
+
+def _stride(points: Sequence[PathPoint], settings: PathConfig) -> int:
+    """Return the steps to the next driven point: ``settings.after_top_stride`` once the last point lies more than
+    ``settings.top_window_kcal_mol`` below the highest so far, else 1."""
+    if settings.after_top_stride == 1 or len(points) < 2:
+        return 1
+    below_kcal_mol = (max(p.energy_hartree for p in points) - points[-1].energy_hartree) * KCAL_MOL_PER_HARTREE
+    return settings.after_top_stride if below_kcal_mol > settings.top_window_kcal_mol else 1
+
+
+def _path_held(coordinate: HeldDistanceSum, target_A: float, reactive: Reactive, hold_dihedral_deg: float | None
+               ) -> list[HeldDistanceSum | HeldDihedral]:
+    """Return the held coordinates of one driven point: the combination at ``target_A`` (Å), and the dihedral if held."""
+    held: list[HeldDistanceSum | HeldDihedral] = [HeldDistanceSum(coordinate.terms, target_A)]
+    if hold_dihedral_deg is not None:
+        held.append(HeldDihedral(reactive.quad(), hold_dihedral_deg))
+    return held
+
+
+def tighten_top(points: list[PathPoint], reactive: Reactive, calc, window_kcal_mol: float, tight: OptimizerConfig,
+                hold_dihedral_deg: float | None = None, hessians: Sequence[np.ndarray | None] | None = None) -> int:
+    """Relax driven points on to ``tight`` (in place, each from its own geometry and, when given, the BFGS Hessian its
+    looser relaxation ended with), highest first among those within ``window_kcal_mol`` of the path top, until the
+    next lies below the highest tightened one; return the gradients it took.
+
+    Relaxing on only lowers a point, so a loose point below a tightened one cannot be the top: the path top and its
+    energy come out as if every point had been relaxed tightly, without relaxing them all.
+    """
+    top = points[path_top_index(points)].energy_hartree
+    coordinate, spent, highest = reactive.coordinate(), 0, None
+    order = sorted(range(1, len(points)), key=lambda k: points[k].energy_hartree, reverse=True)
+    for k in order:
+        if (top - points[k].energy_hartree) * KCAL_MOL_PER_HARTREE > window_kcal_mol:
+            break
+        if highest is not None and points[k].energy_hartree < highest:
+            break
+        target = points[k].coordinate_A
+        result = relax(points[k].atoms, calc, _path_held(coordinate, target, reactive, hold_dihedral_deg), tight,
+                       start_hessian=None if hessians is None else hessians[k])
+        spent += result.n_gradients
+        points[k] = PathPoint(target, result.energy_hartree, result.atoms, result.converged,
+                              reactive.distances(result.atoms.positions))
+        if result.converged:
+            highest = result.energy_hartree if highest is None else max(highest, result.energy_hartree)
+    return spent
 
 
 def path_top_index(points: Sequence[PathPoint]) -> int:

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import logging
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 from ase import Atoms
@@ -70,6 +70,9 @@ class RelaxResult:
     n_steps: int
     converged: bool
     max_constraint_error: float
+    #: the BFGS Hessian model at the end (eV/Å^2, 3N x 3N; None for Sella or when no step was taken), for
+    #: ``relax(..., start_hessian=...)`` to go on from where this relaxation stopped
+    hessian_eV_A2: np.ndarray | None = field(default=None, repr=False, compare=False)
 
 
 def constraint_error(positions: np.ndarray, held: Held, target: float) -> float:
@@ -170,6 +173,7 @@ def relax(
     settings: OptimizerConfig = OptimizerConfig(),
     on_step: Callable[[int, float], None] | None = None,
     raise_on_step_limit: bool = False,
+    start_hessian: np.ndarray | None = None,
 ) -> RelaxResult:
     """Return the relaxed copy of ``atoms`` (energy in hartree) with the ``held`` coordinates fixed.
 
@@ -177,6 +181,8 @@ def relax(
     A held dihedral more than ``settings.rigid_rotation_above_deg`` from its target is first set by rotating the
     fragment on one side of an acyclic bond; other differences are projected onto the targets at the
     start (keep such moves small, e.g. one scan step). ``on_step(step, energy_hartree)`` reports progress.
+    ``start_hessian`` (eV/Å^2, BFGS only) replaces BFGS's fresh model Hessian: pass the ``hessian_eV_A2`` of a
+    looser relaxation of the same point to go on from where it stopped.
     """
     work = atoms.copy()
     work.set_constraint()
@@ -191,9 +197,11 @@ def relax(
     try:
         with _Counter(calculator) as counter:
             if optimizer == "bfgs":
-                steps, converged = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+                steps, converged, hessian = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step,
+                                                      start_hessian)
             else:
                 steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+                hessian = None
             energy = work.get_potential_energy() / EV_PER_HARTREE
     except EngineError:
         raise
@@ -206,21 +214,26 @@ def relax(
         raise OptimizationError(f"{optimizer} optimisation did not converge in {max_steps} steps (fmax {fmax_eV_per_A} eV/Å)")
     result_atoms = work.copy()
     result_atoms.calc = None
-    return RelaxResult(result_atoms, float(energy), counter.calls, steps, bool(converged), float(error))
+    return RelaxResult(result_atoms, float(energy), counter.calls, steps, bool(converged), float(error), hessian)
 
 
 def _run_bfgs(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
-              on_step: Callable[[int, float], None] | None) -> tuple[int, bool]:
-    """Run ASE BFGS with FixInternals; return (steps, converged)."""
+              on_step: Callable[[int, float], None] | None, start_hessian: np.ndarray | None = None
+              ) -> tuple[int, bool, np.ndarray | None]:
+    """Run ASE BFGS with FixInternals from ``start_hessian`` if given; return (steps, converged, final Hessian
+    model in eV/Å^2 or None when no step was taken)."""
     if held:
         work.set_constraint(_fix_internals(held, targets))
         work.set_positions(work.get_positions())  # projects onto the targets
     opt = BFGS(work, logfile=None)
+    if start_hessian is not None:
+        opt.H0 = np.array(start_hessian, dtype=float)  # read by BFGS's first step, when its model is made
     if on_step is not None:
         opt.attach(lambda: on_step(opt.nsteps, work.get_potential_energy() / EV_PER_HARTREE))
     converged = opt.run(fmax=fmax, steps=max_steps)
     work.set_constraint()
-    return opt.nsteps, bool(converged)
+    hessian = None if opt.state is None else np.array(opt.H)
+    return opt.nsteps, bool(converged), hessian
 
 
 def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,

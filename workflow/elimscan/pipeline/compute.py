@@ -26,6 +26,7 @@ from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.chem.betahydrogens import BetaHydrogenClass
 from elimscan.chem.perception import Substrate, perceive_substrate
+from elimscan.drivers.budget import GradientBudget
 from elimscan.drivers.freeenergy import minimum_hessian
 from elimscan.drivers.complexes import Reactive, SubstitutionReactive
 from elimscan.drivers.paths import PathResult, compute_path, compute_substitution_path
@@ -120,8 +121,9 @@ def _bond_in_ring(mol: Chem.Mol, a: int, b: int) -> bool:
 
 def _class_scans(substrate: Substrate, beta_class: BetaHydrogenClass, ensemble: ConformerEnsemble, engine,
                  charge: int, multiplicity: int, config: RunConfig, rings, name: str,
-                 on_progress: ProgressCallback | None) -> tuple[DihedralScan, ...]:
-    """Return the scans of one class: a full turn from the lowest conformer, or local ring scans."""
+                 meter: GradientBudget | None) -> tuple[DihedralScan, ...]:
+    """Return the scans of one class: a full turn from the lowest conformer, or local ring scans (each a stage of
+    ``meter``, which reports it)."""
     lg = substrate.leaving_group
     quad = (beta_class.representative_index, beta_class.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index)
     in_ring = _bond_in_ring(substrate.mol, beta_class.beta_carbon_index, lg.c_alpha_index)
@@ -138,9 +140,9 @@ def _class_scans(substrate: Substrate, beta_class: BetaHydrogenClass, ensemble: 
         conformer = ensemble.conformers[conformer_id]
         phi = dihedral_deg(conformer.atoms.positions, *quad)
         plan = branch_plan(phi, in_ring, config.scan, targets)
-        if on_progress is not None:
-            on_progress(DETAIL, DETAIL, f"{name}: scanning H-C-C-X of {beta_class.class_id} from conformer {conformer_id} "
-                              f"({phi:.0f}\u00b0, {sum(n for _, n in plan)} points)")
+        if meter is not None:
+            meter.enter(f"scanning H-C-C-X of {beta_class.class_id} from conformer {conformer_id} at {phi:.0f}\u00b0, "
+                        f"{sum(n for _, n in plan)} points")
         scans.append(scan_dihedral(conformer.atoms, quad, engine, charge, multiplicity, plan, config.scan,
                                    config.optimizer, rings, start_label=f"conformer {conformer_id}", name=name))
     return tuple(scans)
@@ -157,8 +159,9 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
     substrate = perceive_substrate(item.smiles, seed=config.seed)
     charge = check_charge(item.smiles, substrate.formal_charge, item.charge, name)
     extra = [(atoms_from_geometry(substrate.mol, geometry[0], geometry[1], name), "user")] if geometry else []
-    if on_progress is not None:
-        on_progress(DETAIL, DETAIL, f"{name}: conformer search ({len(substrate.beta_classes)} beta-H classes)")
+    meter, engine = _stage_meter(engine, on_progress, name, "substrate")
+    if meter is not None:
+        meter.enter(f"conformer search, {len(substrate.beta_classes)} beta-H classes")
     ensemble = build_ensemble(substrate.mol, engine, charge, item.multiplicity, config.seed, config.conformers,
                               config.optimizer, extra=extra, name=name)
     rings = saturated_six_rings(substrate.mol)
@@ -167,7 +170,7 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
     for beta_class in substrate.beta_classes:
         quad = (beta_class.representative_index, beta_class.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index)
         scans = _class_scans(substrate, beta_class, ensemble, engine, charge, item.multiplicity, config, rings, name,
-                             on_progress)
+                             meter)
         samples = [GeometrySample(dihedral_deg(c.atoms.positions, *quad), c.energy_hartree, f"conformer {c.conformer_id}",
                                   c.ring_shapes, c.atoms) for c in ensemble.conformers]
         samples += [GeometrySample(p.dihedral_deg, p.energy_hartree, f"scan from {scan.start_label}", p.ring_shapes, p.atoms)
@@ -185,6 +188,8 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
         classes.append(ClassAnalysis(beta_class, scans, anti, syn, rule_status(anti, syn, config.rule),
                                      starts["anti"], starts["syn"]))
     lowest = ensemble.lowest
+    if meter is not None:
+        meter.enter("Hessian of the lowest conformer")
     minimum = minimum_hessian(lowest.atoms, lowest.energy_hartree, engine, charge, item.multiplicity,
                               config.paths.saddle.hessian_step_A, name=name)
     return SubstrateAnalysis(item.name, substrate, charge, item.multiplicity, ensemble, tuple(classes), global_min,
@@ -220,11 +225,16 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
     for step, item in enumerate(bases, start=len(substrates)):
         if on_progress is not None:
             on_progress(step, total, f"base '{item.name}' ({item.smiles})")
-        relaxed, info = relax_base(item, engine, config)
+        meter, metered = _stage_meter(engine, on_progress, f"base '{item.name}'", "base")
+        if meter is not None:
+            meter.enter("relaxation")
+        relaxed, info = relax_base(item, metered, config)
         minimum = None
         if relaxed.record.status == "ok":  # a failed base (not relaxed, or not converged) gets no Hessian
+            if meter is not None:
+                meter.enter("Hessian")
             try:
-                minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, engine, relaxed.record.charge,
+                minimum = minimum_hessian(relaxed.atoms, relaxed.record.energy_hartree, metered, relaxed.record.charge,
                                           relaxed.record.multiplicity, config.paths.saddle.hessian_step_A,
                                           name=f"base '{item.name}'")
             except ElimscanError as err:  # as for a substrate: the molecule fails, its jobs say why
@@ -242,6 +252,18 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
             outcome.dft[(substrate_cfg.name, base_cfg.name)] = job_dft(
                 analysis, base, outcome.paths[(substrate_cfg.name, base_cfg.name)], config, on_progress)
     return outcome
+
+
+def _stage_meter(engine, on_progress: ProgressCallback | None, name: str, scope: str
+                 ) -> tuple[GradientBudget | None, object]:
+    """Return (meter, engine) for the stages of one substrate or base: a budget without a limit whose ``enter``
+    reports a stage and whose engine reports it again every ``REPORT_INTERVAL_S`` with its gradients and seconds,
+    as a path's stages do; (None, ``engine``) without a progress callback."""
+    report = _stage_reporter(on_progress, name)
+    if report is None:
+        return None, engine
+    meter = GradientBudget(engine, None, report, scope=scope)
+    return meter, meter.metered(engine)
 
 
 def _stage_reporter(on_progress: ProgressCallback | None, name: str) -> Callable[[str], None] | None:
