@@ -65,7 +65,7 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         help="fast: %d small cases, one seed, page VALIDATION-fast.md; calibration: the calibration "
                         "set only, page CALIBRATION.md" % len(FAST_SUBSET))
     parser.add_argument("--base-model", choices=tuple(BASE_MODEL_CANDIDATES), default=frozen_model(),
-                        help="model every base with this candidate (default: %(default)s, the free anion)")
+                        help="model every base with this candidate (default: %(default)s, the frozen model)")
     parser.add_argument("--seeds", type=int, default=None, metavar="N",
                         help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
     parser.add_argument("--workers", type=int, default=None, help="local worker processes of each batch "
@@ -155,23 +155,30 @@ def _score(chosen: list, found: Collected, seed_count: int | None, levels: list[
     return scores, calibration
 
 
-def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespace, work: Path) -> list[ModelSummary]:
-    """Return one summary per candidate base model and level, for every model with a finished job in the work folder."""
+def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespace, work: Path,
+                    page: tuple[Collected, list[str], list, list]) -> list[ModelSummary]:
+    """Return one summary per candidate base model and level, for every model with a finished job in the work folder
+    (``page``: the page's own model already collected and scored, not read again)."""
     summaries = []
     for model in BASE_MODEL_CANDIDATES:
-        groups = batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine, base_model=model)
-        found = _collect(groups, work)
+        if model == args.base_model:
+            found, levels, scores, calibration = page
+        else:
+            groups = batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine, base_model=model)
+            found = _collect(groups, work)
+            if not found.n_finished:
+                continue
+            levels = computed_levels(found.jobs()) or ["dE"]
+            scores, calibration = _score(chosen, found, seed_count, levels)
         if not found.n_finished:
             continue
-        levels = computed_levels(found.jobs()) or ["dE"]
-        scores, calibration = _score(chosen, found, seed_count, levels)
         summaries += [summarise_model(model, level, scores, calibration, found.n_jobs, found.n_finished)
                       for level in levels]
     return summaries
 
 
 def page_path(subset: str, base_model: str) -> Path:
-    """Return the page a subset and base model write (the default model's pages carry no model name)."""
+    """Return the page a subset and base model write (the frozen model's pages carry no model name)."""
     suffix = "" if base_model == frozen_model() else f"-{base_model}"
     return HERE / f"{PAGES[subset]}{suffix}.md"
 
@@ -183,13 +190,14 @@ def _chosen(subset: str, calibration: list, test: list) -> list:
     return [c for c in (*calibration, *test) if subset == "all" or c.id in FAST_SUBSET]
 
 
+def _freeze_file() -> dict:
+    """Return validation/model-freeze.yaml as read ({} while nothing is frozen)."""
+    return yaml.safe_load(FREEZE_FILE.read_text()) if FREEZE_FILE.is_file() else {}
 
 
 def frozen_model() -> str:
     """Return the frozen base model of validation/model-freeze.yaml (the bare anion while nothing is frozen)."""
-    if not FREEZE_FILE.is_file():
-        return UNNAMED_BASE_MODEL
-    return str(yaml.safe_load(FREEZE_FILE.read_text())["base_model"])
+    return str(_freeze_file().get("base_model", UNNAMED_BASE_MODEL))
 
 
 def _git(*words: str) -> subprocess.CompletedProcess:
@@ -199,9 +207,9 @@ def _git(*words: str) -> subprocess.CompletedProcess:
 
 def _freeze(run_commits: list[str]) -> dict:
     """Return the RunInfo fields of the model freeze: model, freeze commit, flagged cases, runs older than it."""
-    if not FREEZE_FILE.is_file():
+    data = _freeze_file()
+    if not data:
         return {}
-    data = yaml.safe_load(FREEZE_FILE.read_text())
     last = _git("log", "-1", "--format=%h", "-G", "^base_model:", "--", str(FREEZE_FILE)).stdout.strip()
     commit = last or "not committed"
     older = tuple(c for c in run_commits if not last or
@@ -247,7 +255,7 @@ def main(argv: list[str] | None = None) -> int:
         found = _collect(groups, work)
         levels = computed_levels(found.jobs()) or ["dE"]
         scores, calibration = _score(chosen, found, seed_count, levels)
-        models = _compare_models(chosen, seed_count, args, work)
+        models = _compare_models(chosen, seed_count, args, work, (found, levels, scores, calibration))
     tests = [c for c in chosen if isinstance(c, OutcomeCase)]
     provenance, n_jobs, n_finished, job_seconds = found.provenance, found.n_jobs, found.n_finished, found.job_seconds
     method = (f"{provenance['method_label']} ({provenance['backend']} {provenance['backend_version']}, elimscan "
