@@ -3,19 +3,22 @@
 Issue 18 asks for the bare anion, the ion pair, the anion with n explicit molecules of its own alcohol
 (n = 0 ... 4) and both together, each reported on the benchmark; the choice among them is made on the
 calibration set (rate constants, alkoxide basicity order, convergence in n), never on the test set. Pure: a
-candidate is the ``model:`` block of a base config (None for the bare anion).
+candidate is the ``model:`` block of a base config.
 """
 
 from __future__ import annotations
 
 from typing import Any
 
-#: the model every job uses unless told otherwise (elimscan's default base model)
+#: the candidate a benchmark run uses unless told otherwise (``--base-model``); its batch folders carry no prefix.
+#: Not elimscan's own default (``elimscan run`` resolves that per base and solvent, chem/basemodels.py)
 DEFAULT_BASE_MODEL = "bare"
 
-#: name -> (``model:`` block of each benchmark base, or None, and what it represents)
+#: name -> (``model:`` block of each benchmark base, or None, and what it represents). "bare" is written out
+#: (``explicit: 0``): left out, an alkoxide in an alcohol would get elimscan's per-solvent default. Its job keys are
+#: those of the bare anion before that default existed (pipeline/document.keyed_base), so old folders are reused
 BASE_MODEL_CANDIDATES: dict[str, tuple[dict[str, Any] | None, str]] = {
-    "bare": (None, "the free alkoxide in the continuum"),
+    "bare": ({"explicit": 0}, "the free alkoxide in the continuum"),
     "alcohol-1": ({"explicit": 1}, "one alcohol molecule hydrogen-bonded to the alkoxide oxygen"),
     "alcohol-2": ({"explicit": 2}, "two alcohol molecules hydrogen-bonded (one lone pair left free)"),
     "alcohol-3": ({"explicit": 3}, "two hydrogen-bonded alcohols and one in the second shell"),
@@ -27,7 +30,7 @@ BASE_MODEL_CANDIDATES: dict[str, tuple[dict[str, Any] | None, str]] = {
 
 
 def base_model_block(name: str) -> dict[str, Any] | None:
-    """Return the ``model:`` block of a named candidate (None: the bare anion); ValueError names the choices."""
+    """Return the ``model:`` block of a named candidate; ValueError names the choices."""
     if name not in BASE_MODEL_CANDIDATES:
         raise ValueError(f"unknown base model '{name}': choose one of {', '.join(BASE_MODEL_CANDIDATES)}")
     block = BASE_MODEL_CANDIDATES[name][0]

@@ -32,6 +32,9 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
 #: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
 #: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
+#: Within 0.7.1 (optional additions, documents stay valid both ways): molecules[].model_reason and
+#: jobs[].base_info.model_reason (why a base got its model), and config bases[].model.explicit may be null (the
+#: per-solvent default).
 RESULT_SCHEMA_VERSION = "0.7.1"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"

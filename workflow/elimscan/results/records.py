@@ -65,6 +65,8 @@ class MoleculeRecord(Record):
     xyz_file: str | None = Field(None, description="relaxed geometry, extended XYZ, path relative to the output folder")
     model: str | None = Field(None, description="base model: null or 'bare', else the counter-ion and explicit "
                               "molecules around the basic atom (smiles is then the dot-separated cluster)")
+    model_reason: str | None = Field(None, description="why the base got this model: as configured, or the default "
+                                     "of the base and solvent (e.g. 'default for an alkoxide in a protic solvent')")
     error: ErrorInfo | None = None
     solvent: SolventConfig | None = Field(None, description="implicit solvent of this record (batches); null: the "
                                           "config's method.solvent")
@@ -250,6 +252,8 @@ class BaseRecord(Record):
     bulky_reason: str
     smiles: str | None = Field(None, description="the base itself (without counter-ion or explicit molecules)")
     model: str | None = Field(None, description="base model: 'bare', or the counter-ion and explicit molecules")
+    model_reason: str | None = Field(None, description="why the base got this model: as configured, or the default "
+                                     "of the base and solvent (e.g. 'default for an alkoxide in a protic solvent')")
 
 
 class RuleRecord(Record):
