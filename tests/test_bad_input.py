@@ -289,9 +289,10 @@ def test_a_bad_csv_row_fails_only_its_own_job(tmp_path, capsys, monkeypatch):
     code = main(["plan", str(tmp_path / "batch.yaml")])
     out = capsys.readouterr().out
     assert code == ExitCode.OK, out
-    assert ("broken__methoxide: broken + methoxide (bare base), ALPB(ethanol); will fail: more.csv line 3: substrate "
+    model = "3 explicit conjugate-acid molecule(s); default for an alkoxide in a protic solvent (ethanol)"
+    assert (f"broken__methoxide: broken + methoxide ({model}), ALPB(ethanol); will fail: more.csv line 3: substrate "
             "'broken': cannot parse SMILES 'CC(Cl'") in out
-    assert "neopentyl__methoxide: neopentyl + methoxide (bare base), ALPB(ethanol); will fail: more.csv line 4" in out
+    assert f"neopentyl__methoxide: neopentyl + methoxide ({model}), ALPB(ethanol); will fail: more.csv line 4" in out
     assert "4 job(s)" in out and "for 2 job(s)" in out  # two of the four fail on their input: no time for them
     code, err = cli(capsys, ["batch", str(tmp_path / "batch.yaml"), "--out", str(tmp_path / "out"),
                              "--engine", "toyjobs:toy_engine"])

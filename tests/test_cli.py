@@ -23,7 +23,7 @@ paths: {approaches: [anti]}
 substrates:
   - {name: chloroethane, smiles: "CCCl"}
 bases:
-  - {name: methoxide, smiles: "C[O-]"}
+  - {name: methoxide, smiles: "C[O-]", model: bare}  # measured bare: pinned against the per-solvent default
 """
 
 

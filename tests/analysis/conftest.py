@@ -27,7 +27,7 @@ def ethoxide_e2_jobs() -> dict:
         substrates=(SubstrateConfig(name="ethyl bromide", smiles="CCBr"),
                     SubstrateConfig(name="ethyl chloride", smiles="CCCl"),
                     SubstrateConfig(name="2-phenylethyl bromide", smiles="BrCCc1ccccc1")),
-        bases=(BaseConfig(name="ethoxide"),))
+        bases=(BaseConfig(name="ethoxide", model="bare"),))
     engine = XtbEngine(EngineSettings.from_method(config.method))
     outcome = run_config(config, engine)
     return {substrate.name: job_record(substrate, base, outcome, config) for substrate, base in outcome.jobs}

@@ -262,7 +262,7 @@ substrates:
   - {name: H, smiles: "ClCCc1ccccc1"}
 substrates_file: more.csv
 bases:
-  - {name: methoxide}
+  - {name: methoxide, model: bare}
 series:
   - name: para-X 2-arylethyl chlorides
     base: methoxide

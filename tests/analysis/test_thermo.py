@@ -225,7 +225,7 @@ def arylethyl_series():
     config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="ethanol")),
                        paths=PathConfig(approaches=("anti",), substitution=False, saddle=SaddleConfig(refine=False)),
                        substrates=tuple(SubstrateConfig(name=s, smiles=s) for s in sigma_p),
-                       bases=(BaseConfig(name="ethoxide"),), series=(series,))
+                       bases=(BaseConfig(name="ethoxide", model="bare"),), series=(series,))
     engine = XtbEngine(EngineSettings.from_method(config.method))
     outcome = run_config(config, engine)
     jobs = [job_record(s, b, outcome, config) for s, b in outcome.jobs]

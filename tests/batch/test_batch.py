@@ -49,7 +49,7 @@ substrates:
   - {name: chloroethane, smiles: "CCCl"}
 substrates_file: more.csv
 bases:
-  - {name: methoxide}
+  - {name: methoxide, model: bare}
 solvents: [{model: alpb, name: ethanol}, {model: alpb, name: water}]
 """
 SMALL_CSV = "name,smiles\n2-chloropropane,CC(C)Cl\n1-chloropropane,CCCCl\n"
@@ -403,7 +403,7 @@ def test_a_hung_job_is_killed_at_its_time_limit_and_a_dead_worker_is_replaced(tm
     text = TINY_SETTINGS + textwrap.dedent("""\
         name: scripted
         substrates: [{name: chloroethane, smiles: "CCCl"}]
-        bases: [{name: methoxide}]
+        bases: [{name: methoxide, model: bare}]
         solvents: [{model: alpb, name: water}, {model: alpb, name: ethanol}, {model: alpb, name: methanol}]
         executor: {workers: 1, time_limit_seconds: 3}
         """)
@@ -518,7 +518,7 @@ def test_failures_are_isolated_recorded_and_exit_5(tmp_path):
         substrates: [{name: chloroethane, smiles: "CCCl"}]
         substrates_file: more.csv
         bases:
-          - {name: methoxide}
+          - {name: methoxide, model: bare}
           - {name: triacontanolate, smiles: "CCCCCCCCCCCCCCCCCCCCCCCCCCCCCC[O-]"}
         pairs:
           - {substrate: chloroethane, base: methoxide}

@@ -117,7 +117,9 @@ def _toy_run(model: dict):
 
 
 @pytest.mark.parametrize("model,cluster_smiles", [
-    ({}, "C[O-]"),
+    ("bare", "C[O-]"),
+    ({"explicit": 0}, "C[O-]"),
+    ({}, "C[O-].CO.CO.CO"),  # the default of an alkoxide in the default solvent (ALPB ethanol): three methanols
     ({"counter_ion": "Na"}, "C[O-].[Na+]"),
     ({"explicit": 2}, "C[O-].CO.CO"),
     ({"counter_ion": "K", "explicit": 1}, "C[O-].[K+].CO"),
@@ -182,7 +184,7 @@ def test_jobs_of_one_base_under_two_models_stand_side_by_side_in_the_summary_and
 
     paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=1, saddle={"refine": False})
     config = RunConfig(substrates=(SubstrateConfig(name="chloroethane", smiles="CCCl"),),
-                       bases=(BaseConfig(name="MeO bare", smiles="C[O-]"),
+                       bases=(BaseConfig(name="MeO bare", smiles="C[O-]", model="bare"),
                               BaseConfig(name="MeO Na", smiles="C[O-]", model={"counter_ion": "Na"})), paths=paths)
     outcome = run_config(config, ToyJobEngine())
     result = RunResult.model_construct(jobs=tuple(job_record(*pair, outcome, config) for pair in outcome.jobs),

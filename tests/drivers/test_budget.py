@@ -102,7 +102,7 @@ def test_a_stopped_path_is_reported_but_decides_no_product_share():
         paths = PathConfig(approaches=("anti",), substitution=False, points=4, base_rotations=1,
                            saddle={"refine": False}, gradient_budget_per_atom=per_atom)
         config = RunConfig(substrates=(SubstrateConfig(name="2-bromobutane", smiles="C[C@H](Br)CC"),),
-                           bases=(BaseConfig(name="methoxide"),), paths=paths, optimizer=BFGS,
+                           bases=(BaseConfig(name="methoxide", model="bare"),), paths=paths, optimizer=BFGS,
                            conformers={"base_embeddings": 2, "per_rotatable_bond": 1, "max_relaxations": 2},
                            scan={"step_deg": 60})
         outcome = run_config(config, ToyJobEngine(), None if heard is None else (lambda *m: heard.append(m)))

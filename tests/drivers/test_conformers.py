@@ -89,7 +89,7 @@ def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
 
     smiles = "C[C@@H]1CCCC[C@H]1Cl"
     config = RunConfig(substrates=(SubstrateConfig(name="t2m", smiles=smiles),),
-                       bases=(BaseConfig(name="ethoxide", smiles="CC[O-]"),))
+                       bases=(BaseConfig(name="ethoxide", smiles="CC[O-]", model="bare"),))
     engine = XtbEngine(EngineSettings())
     analysis = analyze_substrate(config.substrates[0], config, engine)
     by_carbon = {}

@@ -276,7 +276,7 @@ def methanol_run():
 
     config = RunConfig(method=MethodConfig(solvent=SolventConfig(model="alpb", name="methanol")),
                        substrates=(SubstrateConfig(name="s", smiles="C[C@H](Cl)CC"),),
-                       bases=(BaseConfig(name="methoxide", smiles="C[O-]"),))
+                       bases=(BaseConfig(name="methoxide", smiles="C[O-]", model="bare"),))
     return config, XtbEngine(EngineSettings.from_method(config.method))
 
 
@@ -362,7 +362,7 @@ method: {solvent: {model: alpb, name: ethanol}}
 substrates:
   - {name: t2m, smiles: "C[C@@H]1CCCC[C@H]1Cl"}
 bases:
-  - {name: ethoxide}
+  - {name: ethoxide, model: bare}
 """)
     job = run_job(config, tmp_path / "out")
     major = Chem.MolFromSmiles(job["verdict"]["computed_major"])
@@ -392,7 +392,7 @@ paths: {approaches: [anti]}
 substrates:
   - {name: bromoethane, smiles: "CCBr"}
 bases:
-  - {name: methoxide}
+  - {name: methoxide, model: bare}
 """)
     job = run_job(config, tmp_path / "out")
     sn2 = job["substitution"]
@@ -437,7 +437,7 @@ paths: {approaches: [anti]}
 substrates:
   - {name: tert-butyl-bromide, smiles: "CC(C)(C)Br"}
 bases:
-  - {name: methoxide}
+  - {name: methoxide, model: bare}
 """)
     job = run_job(config, tmp_path / "out")
     sn2 = job["substitution"]

@@ -236,7 +236,7 @@ dft: {enabled: true, absolute_barriers: true}
 substrates:
   - {name: chloroethane, smiles: "CCCl"}
 bases:
-  - {name: hydroxide}
+  - {name: hydroxide, model: bare}
 """)
     start = time.perf_counter()
     done = subprocess.run([sys.executable, "-m", "elimscan", "run", str(config), "--out", str(tmp_path / "out")],

@@ -271,7 +271,7 @@ def test_dielectric_continuum_matches_alpb_methanol_for_a_relative_e2_barrier():
     for model in ("alpb", "dielectric"):
         method = MethodConfig(solvent=SolventConfig(model=model, name="methanol"))
         config = RunConfig(method=method, substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
-                           bases=(BaseConfig(name="methoxide"),),
+                           bases=(BaseConfig(name="methoxide", model="bare"),),  # measured bare
                            paths=PathConfig(substitution=False, base_rotations=1, points=10, step_A=0.3,
                                             saddle={"refine": False}))
         paths = run_config(config, XtbEngine(EngineSettings.from_method(method))).paths[("s", "methoxide")]

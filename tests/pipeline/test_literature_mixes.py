@@ -54,7 +54,7 @@ def ethoxide_jobs() -> dict:
                        substrates=(SubstrateConfig(name="2-bromobutane", smiles="C[C@H](Br)CC"),
                                    SubstrateConfig(name="cis-2-methylcyclohexyl chloride",
                                                    smiles="C[C@@H]1CCCC[C@@H]1Cl")),
-                       bases=(BaseConfig(name="ethoxide"),))
+                       bases=(BaseConfig(name="ethoxide", model="bare"),))
     outcome = run_config(config, XtbEngine(EngineSettings.from_method(config.method)))
     jobs = {substrate.name: job_record(substrate, base, outcome, config) for substrate, base in outcome.jobs}
     for job in jobs.values():

@@ -70,6 +70,14 @@ SOLVENT_ALIASES: dict[str, str] = {
     "sec-butanol": "2-butanol",
 }
 
+#: Protic solvents of the tables: water and the alcohols (canonical names). An alkoxide or hydroxide in one of them
+#: gets the default base model (config.molecules.DEFAULT_EXPLICIT_MOLECULES explicit molecules of its conjugate
+#: acid), the only medium that model was calibrated in. Phenol is left out (an acid that would protonate an
+#: alkoxide, not a medium for one); "woctanol" is water-saturated 1-octanol.
+PROTIC_SOLVENTS: frozenset[str] = frozenset(
+    "water methanol ethanol 1-propanol 2-propanol 1-butanol 2-butanol tert-butanol octanol woctanol".split()
+)
+
 _ALPB_25 = frozenset(
     "acetone acetonitrile aniline benzaldehyde benzene ch2cl2 chcl3 cs2 dioxane dmf dmso ether "
     "ethylacetate furane hexadecane hexane methanol nitromethane octanol woctanol phenol toluene "
@@ -121,6 +129,11 @@ def check_solvent(backend: str, hamiltonian: str, model: str, name: str | None) 
             f"({hamiltonian}); it supports: {', '.join(sorted(supported))}"
         )
     return canonical
+
+
+def is_protic(model: str, name: str | None) -> bool:
+    """Return True when an implicit solvent (model, name) is water or an alcohol; the gas phase is not."""
+    return model != "none" and name is not None and canonical_solvent_name(name) in PROTIC_SOLVENTS
 
 
 def dielectric_constant(name: str) -> float:

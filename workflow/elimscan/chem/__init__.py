@@ -13,7 +13,8 @@
   class labels as people read them (from 1)
 - ``alkenenames``: an alkene in plain words from its SMILES (a known name, E/Z, the substitution pattern)
 - ``bases``: the basic atom of a base and whether the rule counts it as bulky
-- ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules); ``model_cluster``, the one
+- ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules); ``resolve_base_model``, the one
+  rule for which model a base gets in a solvent (the config's, else the default); ``model_cluster``, the one
   builder for the calculation and the input check
 - ``substitution``: the SN2 product with Walden inversion
 - ``inputcheck``: every molecule of a config checked before any calculation (base models and geometry files too),

@@ -1,5 +1,9 @@
 """Base models (RDKit and numpy only, no I/O): the bare base, an ion pair, explicit solvent molecules.
 
+Which model a base gets is decided in one place, ``resolve_base_model``: what the config's ``model:`` says,
+else the default of the base and solvent (an alkoxide or hydroxide in water or an alcohol gets
+DEFAULT_EXPLICIT_MOLECULES molecules of its conjugate acid; everything else stays bare).
+
 A model is a cluster built around the base: the base's own atoms first (so the basic atom keeps its
 index), then the metal cation, then each explicit molecule. The cation and the hydrogen-bond donors sit
 on the lone-pair directions of the basic atom (tetrahedral about its bonds); one lone pair always stays
@@ -24,8 +28,11 @@ from ase import Atoms
 from ase.data import covalent_radii
 from rdkit import Chem
 
+from elimscan.config.basenames import COUNTER_IONS
+from elimscan.config.molecules import DEFAULT_EXPLICIT_MOLECULES, DEFAULT_MODEL_CONTINUA, BaseConfig
 from elimscan.config.run import SEED_LIMIT
 from elimscan.errors import StructureError
+from elimscan.solvents import canonical_solvent_name, is_protic
 
 #: metal-oxygen contact distances of alkali alkoxides and hydroxides (Å), starting values; common practice
 CATION_DISTANCE_A: dict[str, float] = {"Li": 1.95, "Na": 2.30, "K": 2.65}
@@ -278,3 +285,96 @@ def model_cluster(smiles: str, charge: int | None, multiplicity: int, counter_io
                  for k in range(explicit)]
     return build_cluster(built.atoms, basic, smiles, built.formal_charge, counter_ion, molecules, molecule_smiles, name,
                          arrangement)
+
+
+#: why a base got the explicit-solvent default (record and plan wording)
+DEFAULT_REASON = "default for {kind} in a protic solvent ({solvent})"
+
+
+@dataclass(frozen=True)
+class ResolvedModel:
+    """The base model a job computes: counter-ion, explicit molecules (a count), their SMILES and why this model."""
+
+    counter_ion: str | None
+    explicit: int
+    explicit_smiles: str | None
+    reason: str
+
+    @property
+    def bare(self) -> bool:
+        """Return True for the free base (no counter-ion, no explicit molecules)."""
+        return self.counter_ion is None and self.explicit == 0
+
+    def words(self) -> str:
+        """Return the model in words: 'bare base', 'ion pair with K+', '3 explicit CCO molecule(s)' (plan lines)."""
+        parts = ([f"ion pair with {self.counter_ion}+"] if self.counter_ion else []) + \
+            ([f"{self.explicit} explicit {self.explicit_smiles or 'conjugate-acid'} molecule(s)"] if self.explicit else [])
+        return ", ".join(parts) or "bare base"
+
+
+def oxide_anion_kind(smiles: str) -> str | None:
+    """Return 'an alkoxide' or 'hydroxide' when the base's basic atom is an O(-) on an sp3 carbon or on H, else None.
+
+    Only these anions (charge -1 in all) get the explicit-solvent default: the model was calibrated on alkoxides
+    in their alcohols; a carboxylate, phenoxide, amide or neutral base stays bare unless its config says otherwise.
+    """
+    from elimscan.chem.bases import find_basic_atom
+
+    mol = Chem.MolFromSmiles(smiles)
+    if mol is None or Chem.GetFormalCharge(mol) != -1:
+        return None
+    try:
+        atom = mol.GetAtomWithIdx(find_basic_atom(mol, smiles))
+    except StructureError:
+        return None
+    if atom.GetAtomicNum() != 8 or atom.GetFormalCharge() != -1:
+        return None
+    heavy = [n for n in atom.GetNeighbors() if n.GetAtomicNum() > 1]
+    if not heavy:
+        return "hydroxide" if atom.GetTotalNumHs() == 1 else None
+    carbon = heavy[0]
+    if len(heavy) == 1 and carbon.GetAtomicNum() == 6 and not carbon.GetIsAromatic() and \
+            carbon.GetHybridization() == Chem.HybridizationType.SP3:
+        return "an alkoxide"
+    return None
+
+
+def _cation_note(base: BaseConfig, counter_ion: str | None) -> str:
+    """Return '; the K+ of KOtBu is not modelled (...)' for an abbreviation whose cation is left out, else ''."""
+    cation = base.named_cation
+    if cation is None or counter_ion is not None:
+        return ""
+    how = (f"model: {{counter_ion: {cation}}} for the contact ion pair" if cation in COUNTER_IONS
+           else f"the ion-pair model has no {cation}+")
+    return f"; the {cation}+ of {base.name} is not modelled ({how})"
+
+
+def resolve_base_model(base: BaseConfig, solvent_model: str, solvent_name: str | None) -> ResolvedModel:
+    """Return the model a base is computed with in a solvent: the config's ``model:``, else the default.
+
+    The default (``explicit`` not given): DEFAULT_EXPLICIT_MOLECULES molecules of the base's conjugate acid for an
+    alkoxide or hydroxide (``oxide_anion_kind``) in a protic solvent (``solvents.PROTIC_SOLVENTS``) of a continuum
+    in DEFAULT_MODEL_CONTINUA; 0 for any other base, for the gas phase, aprotic solvents and the dielectric-only
+    continuum, and beside a counter-ion the config asks for (the default was calibrated on the free anion). The one rule for the calculation, the input checks and the plan.
+    """
+    model = base.model
+    note = _cation_note(base, model.counter_ion)
+    if model.explicit is not None:
+        what = "bare base" if model.counter_ion is None and model.explicit == 0 else "model"
+        return ResolvedModel(model.counter_ion, model.explicit, model.explicit_smiles, f"{what} as configured{note}")
+    if model.counter_ion is not None:
+        return ResolvedModel(model.counter_ion, 0, model.explicit_smiles,
+                             "ion pair as configured (no explicit molecules: the default is for the free anion)")
+    kind = oxide_anion_kind(base.smiles)
+    if kind is None:
+        return ResolvedModel(None, 0, model.explicit_smiles,
+                             f"default: bare (explicit molecules are the default only for an alkoxide or hydroxide){note}")
+    if not is_protic(solvent_model, solvent_name):
+        where = "the gas phase" if solvent_model == "none" else f"an aprotic solvent ({solvent_name})"
+        return ResolvedModel(None, 0, model.explicit_smiles, f"default: bare for {kind} in {where}{note}")
+    if solvent_model not in DEFAULT_MODEL_CONTINUA:
+        return ResolvedModel(None, 0, model.explicit_smiles,
+                             f"default: bare for {kind} in the {solvent_model}-only continuum ({solvent_name}): "
+                             f"explicit molecules cost about 100 times more there{note}")
+    reason = DEFAULT_REASON.format(kind=kind, solvent=canonical_solvent_name(solvent_name or ""))
+    return ResolvedModel(None, DEFAULT_EXPLICIT_MOLECULES, model.explicit_smiles, reason + note)

@@ -181,6 +181,7 @@ def check_structures(config, config_path: str) -> None:
 
 def structure_problems(config, config_path: str, text: str, jobs: bool = True) -> list:
     """Return the located problems of every substrate and base of a config (``jobs``: pairs and gas phase too)."""
+    from elimscan.chem.basemodels import resolve_base_model
     from elimscan.chem.inputcheck import (check_base, check_pair, check_substrate, gas_phase_ion_problem,
                                           modelled_charge)
     from elimscan.errors import StructureError
@@ -210,7 +211,9 @@ def structure_problems(config, config_path: str, text: str, jobs: bool = True) -
         except StructureError as err:
             problems.append(located_error(StructureError, err, config_path, f"bases.{index}.smiles", text))
             continue
-        charges[f"base '{item.name}'"] = modelled_charge(charge, item.model.counter_ion)
+        solvent = config.method.solvent
+        charges[f"base '{item.name}'"] = modelled_charge(
+            charge, resolve_base_model(item, solvent.model, solvent.name).counter_ion)
     problem = gas_phase_ion_problem(config.method.solvent.model, charges) if jobs else None
     if problem is not None:
         problems.append(located_error(ConfigError, problem, config_path, "method.solvent.model", text))
@@ -254,22 +257,27 @@ def model_problems(config, config_path: str, text: str, geometries: dict[str, tu
     Both would otherwise fail only after the substrate or base is computed: the base model is built as the
     calculation builds it, and each geometry file is matched to its substrate's SMILES.
     """
+    from elimscan.chem.basemodels import resolve_base_model
     from elimscan.chem.inputcheck import check_base_model, check_explicit_smiles, check_geometry
     from elimscan.errors import StructureError
 
     problems = []
     reported = reported or set()
+    solvents = config.solvents or (config.method.solvent,)
     for index, item in enumerate(config.bases):
         if f"bases.{index}.smiles" in reported:
             continue
-        model = item.model
         key = f"bases.{index}.model.explicit_smiles"
         try:
-            if model.explicit_smiles is not None:
-                check_explicit_smiles(model.explicit_smiles, item.name)
+            if item.model.explicit_smiles is not None:
+                check_explicit_smiles(item.model.explicit_smiles, item.name)
             key = f"bases.{index}.model"
-            check_base_model(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
-                             model.explicit_smiles, config.seed, item.name)
+            # the model as each solvent resolves it (the default differs between protic and aprotic solvents)
+            models = dict.fromkeys((m.counter_ion, m.explicit, m.explicit_smiles)
+                                   for m in (resolve_base_model(item, s.model, s.name) for s in solvents))
+            for counter_ion, explicit, explicit_smiles in models:
+                check_base_model(item.smiles, item.charge, item.multiplicity, counter_ion, explicit, explicit_smiles,
+                                 config.seed, item.name)
         except StructureError as err:
             problems.append(located_error(StructureError, err, config_path, key, text))
     from elimscan.chem.inputcheck import experiment_alkene_problem

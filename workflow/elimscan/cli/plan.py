@@ -92,13 +92,15 @@ def measured_from_folder(folder: Path) -> list[MeasuredJob]:
 
 @dataclass(frozen=True)
 class PlanJob:
-    """One job of the plan: its id, substrate, base, solvent label and why it will fail on its input (or None)."""
+    """One job of the plan: its id, substrate, base, solvent label, the base's model in that solvent (a
+    ``basemodels.ResolvedModel``) and why it will fail on its input (or None)."""
 
     job_id: str
     substrate_name: str
     substrate_smiles: str
     base: object
     solvent: str
+    model: object
     input_error: str | None = None
 
 
@@ -109,13 +111,17 @@ def _solvent_label(solvent) -> str:
     return medium_label(solvent.model, solvent.name)
 
 
-def _base_label(base) -> str:
-    """Return how a base is modelled, in words: 'bare anion', 'ion pair with K+', '+ 2 explicit molecules'."""
-    model = base.model
-    words = f"ion pair with {model.counter_ion}+" if model.counter_ion else "bare base"
-    if model.explicit:
-        words += f", {model.explicit} explicit {model.explicit_smiles or 'conjugate-acid'} molecule(s)"
-    return words
+def _base_label(job: PlanJob) -> str:
+    """Return how a job's base is modelled and why: 'bare base; default: bare ...', '3 explicit ... molecule(s); default
+    for an alkoxide in a protic solvent (ethanol)'."""
+    return f"{job.model.words()}; {job.model.reason}"
+
+
+def _model(base, solvent) -> object:
+    """Return the model a base gets in a solvent config (``basemodels.resolve_base_model``)."""
+    from elimscan.chem.basemodels import resolve_base_model
+
+    return resolve_base_model(base, solvent.model, solvent.name)
 
 
 def substrate_lines(name: str, smiles: str, seed: int) -> tuple[list[str], int]:
@@ -159,21 +165,22 @@ def _plan_jobs(config, config_path: str) -> list[PlanJob]:
         plan, _ = check_batch_inputs(config, config_path)
         warn_sizes((job.job_id, job.substrate_smiles, job.base.smiles) for job in plan.jobs if job.input_error is None)
         return [PlanJob(job.job_id, job.substrate_name, job.substrate_smiles, job.base, _solvent_label(job.solvent),
+                        _model(job.base, job.solvent),
                         None if job.input_error is None else job.input_error.error_message) for job in plan.jobs]
     check_inputs(config, config_path)
     warn_sizes((job_id_of(s.name, b.name), s.smiles, b.smiles) for s, b in config.jobs())
     solvent = _solvent_label(config.method.solvent)
-    return [PlanJob(job_id_of(s.name, b.name), s.name, s.smiles, b, solvent) for s, b in config.jobs()]
+    return [PlanJob(job_id_of(s.name, b.name), s.name, s.smiles, b, solvent, _model(b, config.method.solvent))
+            for s, b in config.jobs()]
 
 
-def _heavy_atoms(substrate_smiles: str, base) -> int:
+def _heavy_atoms(substrate_smiles: str, base, model) -> int:
     """Return the heavy atoms of a job as modelled: substrate, base, its cation and its explicit molecules."""
     from rdkit import Chem
 
     def count(smiles: str) -> int:
         return Chem.MolFromSmiles(smiles).GetNumHeavyAtoms()
 
-    model = base.model
     return (count(substrate_smiles) + count(base.smiles) + (model.counter_ion is not None)
             + model.explicit * count(model.explicit_smiles or base.smiles))
 
@@ -181,7 +188,7 @@ def _heavy_atoms(substrate_smiles: str, base) -> int:
 def job_estimate(config, job: PlanJob, n_classes: int, unit_s: float) -> tuple[int, int, float]:
     """Return a job's (paths, heavy atoms as modelled, estimated wall time in s on one core)."""
     n_paths = len(config.paths.approaches) * n_classes + int(config.paths.substitution)
-    heavy = _heavy_atoms(job.substrate_smiles, job.base)
+    heavy = _heavy_atoms(job.substrate_smiles, job.base, job.model)
     return n_paths, heavy, job_seconds(unit_s, n_paths, heavy)
 
 
@@ -199,7 +206,7 @@ def plan_lines(config, config_path: str, jobs: list[PlanJob], measured: list[Mea
     total_s, n_estimated = 0.0, 0
     anchor = statistics.median(seconds_per_path(m) for m in measured or [MEASURED_JOB])  # s per path, 8 heavy atoms
     for job in jobs:
-        line = f"  {job.job_id}: {job.substrate_name} + {job.base.name} ({_base_label(job.base)}), {job.solvent}"
+        line = f"  {job.job_id}: {job.substrate_name} + {job.base.name} ({_base_label(job)}), {job.solvent}"
         if job.input_error is not None:
             line += f"; will fail: {job.input_error}"
         elif classes.get(job.substrate_name):

@@ -12,7 +12,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
   (``named_base``, ``COUNTER_IONS``)
 - ``experiment``: what experiment observed for a substrate x base (``ExperimentConfig``: shares or a major product,
   with a source), the word ``SUBSTITUTION_PRODUCT`` and the bounds of an observation
-- ``molecules``: substrates, bases with the built-in names (``BASE_LIBRARY``) and base models, pairs, the
+- ``molecules``: substrates, bases with the built-in names (``BASE_LIBRARY``) and base models (the default:
+  ``DEFAULT_EXPLICIT_MOLECULES`` in ``DEFAULT_MODEL_CONTINUA``, resolved by chem/basemodels.py), pairs, the
   suffixes a substrates file may have
 - ``analysis``: the geometric rule's windows (``RuleConfig``), the energy of the product mix
   (``AnalysisConfig``), substituent series (``SeriesConfig``)
@@ -46,8 +47,8 @@ from elimscan.config.frozen import Frozen
 from elimscan.config.loading import config_problems, config_to_dict, key_line, parse_config
 from elimscan.config.method import (MAX_ELECTRONIC_TEMPERATURE_K, MAX_TEMPERATURE_K, MIN_TEMPERATURE_K, MethodConfig,
                                     OptimizerConfig, SolventConfig, ThreadsConfig)
-from elimscan.config.molecules import (BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, MAX_CLUSTER_ARRANGEMENTS,
-                                       MAX_EXPLICIT_MOLECULES,
+from elimscan.config.molecules import (BARE_MODEL_WORD, BASE_LIBRARY, CLOSED_SHELL_MULTIPLICITY, DEFAULT_EXPLICIT_MOLECULES,
+                                       DEFAULT_MODEL_CONTINUA, MAX_CLUSTER_ARRANGEMENTS, MAX_EXPLICIT_MOLECULES,
                                        MAX_HEAVY_ATOMS, MAX_SMILES_CHARS, OVERNIGHT_HEAVY_ATOMS, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig,
                                        PairConfig, SubstrateConfig)
 from elimscan.config.names import MAX_NAME_BYTES, clashing_names, safe_name
@@ -56,8 +57,9 @@ from elimscan.config.run import DEFAULT_SEED, SEED_LIMIT, RunConfig
 from elimscan.config.yamlreader import MAX_CONFIG_BYTES, MAX_CONFIG_DEPTH
 
 __all__ = [
-    "AnalysisConfig", "BASE_LIBRARY", "BaseConfig", "BaseModelConfig", "CLOSED_SHELL_MULTIPLICITY", "ConformerConfig",
-    "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "ExperimentConfig", "Frozen",
+    "AnalysisConfig", "BARE_MODEL_WORD", "BASE_LIBRARY", "BaseConfig", "BaseModelConfig", "CLOSED_SHELL_MULTIPLICITY",
+    "ConformerConfig", "DEFAULT_EXPLICIT_MOLECULES", "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_MODEL_CONTINUA",
+    "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "ExperimentConfig", "Frozen",
     "MAX_CONFIG_BYTES", "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K",
     "MAX_CLUSTER_ARRANGEMENTS", "MAX_EXPLICIT_MOLECULES", "MAX_GRADIENT_BUDGET_PER_ATOM", "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES", "MAX_OBSERVED_ALKENES", "MAX_PATH_COUNT",
     "MAX_SMILES_CHARS", "MIN_SOURCE_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",

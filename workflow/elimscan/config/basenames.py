@@ -1,9 +1,10 @@
 """Base names a chemist types (KOtBu, NaOEt, LDA, KHMDS, ...) -> the anion's SMILES and the counter-ion the name names.
 
-The identities are common practice (the abbreviations of any organic chemistry textbook and reagent catalogue);
-the counter-ion a name carries becomes the ion-pair base model (``BaseModelConfig.counter_ion``) unless the config
-says otherwise. A name whose cation the ion-pair model does not have (caesium, tetrabutylammonium) is refused by
-``BaseConfig`` with the cation named, never computed as something else.
+The identities are common practice (the abbreviations of any organic chemistry textbook and reagent catalogue).
+A name gives the anion only: its model is the default of the base and solvent (chem/basemodels.resolve_base_model),
+and the cation the name carries is named in the plan and the job record, not modelled. The contact ion pair is
+asked for in the config (``model: {counter_ion: K}``, one of COUNTER_IONS): the project rejected it as a default
+because it gives the gas-phase order of alkoxide basicity (docs/validation.md, validation/BASICITY.md).
 """
 
 from __future__ import annotations
@@ -51,7 +52,7 @@ NAMED_BASES: dict[tuple[str, ...], NamedBase] = {
     ("LiHMDS", "LHMDS"): NamedBase(_HMDS, "Li", "lithium hexamethyldisilazide"),
     ("NaHMDS",): NamedBase(_HMDS, "Na", "sodium hexamethyldisilazide"),
     ("KHMDS",): NamedBase(_HMDS, "K", "potassium hexamethyldisilazide"),
-    # cations the ion-pair model does not have: refused by name unless the config asks for the bare anion
+    # cations the ion-pair model does not have: the anion is computed, the cation named (as for every abbreviation)
     ("CsOH",): NamedBase(_HO, "Cs", "caesium hydroxide"),
     ("TBAOH", "Bu4NOH", "nBu4NOH"): NamedBase(_HO, "NBu4", "tetrabutylammonium hydroxide"),
 }
@@ -66,5 +67,5 @@ def named_base(name: str) -> NamedBase | None:
 
 
 def abbreviation_list() -> str:
-    """Return the first spelling of every abbreviation the ion-pair model can compute, comma-separated (messages)."""
-    return ", ".join(spellings[0] for spellings, base in NAMED_BASES.items() if base.counter_ion in COUNTER_IONS)
+    """Return the first spelling of every abbreviation, comma-separated (messages)."""
+    return ", ".join(spellings[0] for spellings in NAMED_BASES)

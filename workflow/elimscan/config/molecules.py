@@ -28,6 +28,19 @@ OVERNIGHT_HEAVY_ATOMS = 60
 MAX_EXPLICIT_MOLECULES = 4
 #: starting hydrogen-bond arrangements of a base model at most (each is relaxed; the lowest is kept)
 MAX_CLUSTER_ARRANGEMENTS = 6
+#: explicit molecules of its own conjugate acid an alkoxide or hydroxide gets by default in a protic solvent (water,
+#: an alcohol; solvents.PROTIC_SOLVENTS) when its ``model:`` gives no ``explicit``: the benchmark's frozen base
+#: model (validation/model-freeze.yaml, ``alcohol-3``: two alcohols hydrogen-bonded to the oxygen, one in the second
+#: shell), chosen on the solution basicity order and gap (validation/BASICITY.md). Every other base, and any base in
+#: an aprotic solvent or the gas phase, stays bare; the rule is chem/basemodels.resolve_base_model
+DEFAULT_EXPLICIT_MOLECULES = 3
+#: the implicit-solvent models in which that default applies: the parametrised continua it was calibrated with
+#: (ALPB) and their generalized-Born sibling. In the dielectric-only continuum (ddX-CPCM, tert-butanol and the other
+#: alcohols without ALPB parameters) an explicit-solvent cluster costs about 100 times more per step
+#: (docs/configuration.md, "dielectric"), so a base stays bare there unless its model says otherwise
+DEFAULT_MODEL_CONTINUA: tuple[str, ...] = ("alpb", "gbsa")
+#: ``model:`` written as this word means the free (bare) base: no counter-ion, no explicit molecules
+BARE_MODEL_WORD = "bare"
 
 
 def closed_shell_multiplicity(value: object) -> object:
@@ -75,21 +88,34 @@ class SubstrateConfig(Frozen):
 
 
 class BaseModelConfig(Frozen):
-    """How the base is modelled: bare (default), ion-paired with a metal cation, with explicit molecules, or both.
+    """How the base is modelled: bare, ion-paired with a metal cation, with explicit molecules, or both.
 
     The cation and the explicit molecules sit on the basic atom's lone pairs; one lone pair stays free for
-    the proton transfer (basemodels.py).
+    the proton transfer (basemodels.py). ``explicit`` left out (None) is resolved per base and solvent by
+    chem/basemodels.resolve_base_model: DEFAULT_EXPLICIT_MOLECULES for an alkoxide or hydroxide in a protic
+    solvent, else 0. ``model: bare`` (the same as ``{explicit: 0}``) keeps the free anion.
     """
 
     #: metal cation paired with an anionic base (None: no counter-ion); basenames.COUNTER_IONS
     counter_ion: Literal["Li", "Na", "K"] | None = None
-    #: explicit solvent molecules: hydrogen-bonded to the basic atom, then on the cation, else a second shell
-    explicit: int = Field(0, ge=0, le=MAX_EXPLICIT_MOLECULES)
+    #: explicit solvent molecules: hydrogen-bonded to the basic atom, then on the cation, else a second shell;
+    #: None: the default of the base and solvent (DEFAULT_EXPLICIT_MOLECULES or 0, see above)
+    explicit: int | None = Field(None, ge=0, le=MAX_EXPLICIT_MOLECULES)
     #: SMILES of the explicit molecule; None: the base's conjugate acid (tert-butanol for tert-butoxide)
     explicit_smiles: str | None = Field(None, min_length=1)
     #: distinct starting arrangements of the cluster (which lone pair stays free, which first-shell molecule
     #: holds each second-shell one), each relaxed; the lowest relaxed one is the base (1: the first only)
     arrangements: int = Field(1, ge=1, le=MAX_CLUSTER_ARRANGEMENTS)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _bare_word(cls, data: Any) -> Any:
+        if isinstance(data, str):
+            if data.strip().lower() == BARE_MODEL_WORD:
+                return {"explicit": 0}
+            raise ValueError(f"model '{data}': write '{BARE_MODEL_WORD}' (the free base) or a mapping such as "
+                             "{explicit: 3} or {counter_ion: K}")
+        return data
 
     @field_validator("counter_ion", mode="before")
     @classmethod
@@ -116,8 +142,9 @@ BASE_LIBRARY: dict[str, str] = {
 def _named(data: dict[str, Any]) -> dict[str, Any]:
     """Return a base entry without a SMILES completed from its name: a built-in name or an abbreviation.
 
-    An abbreviation that names a cation (KOtBu) sets the ion-pair model's counter_ion, unless the entry's model
-    gives one itself (``counter_ion: null`` keeps the bare anion); a cation the model lacks is refused.
+    An abbreviation that names a cation (KOtBu) gives the anion only: its model is the entry's own, else the
+    default of the base and solvent (the cation is named in the plan and the record, not modelled); the ion
+    pair is asked for with ``model: {counter_ion: K}``.
     """
     name = data["name"]
     smiles = BASE_LIBRARY.get(name.strip().lower())
@@ -127,18 +154,7 @@ def _named(data: dict[str, Any]) -> dict[str, Any]:
     if named is None:
         raise ValueError(f"base '{name}' needs a smiles (built-in names: {', '.join(BASE_LIBRARY)}; abbreviations: "
                          f"{abbreviation_list()})")
-    model = data.get("model")
-    model = model.model_dump() if isinstance(model, BaseModelConfig) else model
-    if model is not None and not isinstance(model, dict):
-        return {**data, "smiles": named.smiles}  # the model's own error is reported
-    model = dict(model or {})
-    if "counter_ion" not in model:
-        if named.counter_ion not in COUNTER_IONS:
-            raise ValueError(f"base '{name}' ({named.full_name}) names the counter-ion {named.counter_ion}+, which "
-                             f"the ion-pair base model does not have (it has {', '.join(COUNTER_IONS)}); for the bare "
-                             f"anion write {{name: {name}, model: {{counter_ion: null}}}}")
-        model["counter_ion"] = named.counter_ion
-    return {**data, "smiles": named.smiles, "model": model}
+    return {**data, "smiles": named.smiles}
 
 
 class BaseConfig(Frozen):
@@ -165,6 +181,12 @@ class BaseConfig(Frozen):
 
     _multiplicity = field_validator("multiplicity", mode="before")(closed_shell_multiplicity)
     _name_length = field_validator("name", mode="after")(file_name_length)
+
+    @property
+    def named_cation(self) -> str | None:
+        """Return the cation the base's name names (KOtBu: 'K') when its SMILES is that anion's, else None."""
+        named = named_base(self.name)
+        return named.counter_ion if named is not None and named.smiles == self.smiles else None
 
 
 class PairConfig(Frozen):

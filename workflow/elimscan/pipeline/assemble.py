@@ -179,7 +179,7 @@ def pack_job(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, analysis: Sub
                                          c_alpha_index=lg.c_alpha_index, map_number=lg.map_number),
         base_info=BaseRecord(basic_atom_index=base.info.basic_atom_index, bulky=base.info.bulky,
                              bulky_reason=base.info.bulky_reason, smiles=base_cfg.smiles,
-                             model=base.relaxed.record.model or "bare"),
+                             model=base.relaxed.record.model or "bare", model_reason=base.relaxed.record.model_reason),
         global_minimum_hartree=analysis.global_minimum_hartree,
         conformers=tuple(ConformerRecord(conformer_id=c.conformer_id, energy_hartree=c.energy_hartree,
                                          relative_energy_kcal_mol=round((c.energy_hartree - lowest) * KCAL_MOL_PER_HARTREE, 3),

@@ -18,7 +18,7 @@ from rdkit import Chem
 
 from elimscan.analysis.rule import GeometrySample, best_periplanar, boltzmann_combined, periplanar_starts, rule_status
 from elimscan.chem.bases import BaseInfo, describe_base
-from elimscan.chem.basemodels import BaseCluster, model_cluster
+from elimscan.chem.basemodels import BaseCluster, model_cluster, resolve_base_model
 from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
@@ -69,28 +69,33 @@ def relax_molecule(name: str, role: str, smiles: str, charge: int | None, multip
 def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMolecule, BaseInfo | None]:
     """Return the relaxed base model (bare, ion pair and/or explicit molecules) and how the rule sees the base.
 
-    For a bare base this is ``relax_molecule``; otherwise the cluster of basemodels.py is built on the
-    embedded base and relaxed as one molecule (charge: base + cation), whose energy is the base's share of
-    the common zero; with ``model.arrangements`` > 1 each starting arrangement is relaxed and the lowest
-    converged one kept. The record's SMILES is the dot-separated cluster.
+    The model is ``resolve_base_model``'s for the base in ``config.method.solvent`` (the job's solvent). For a
+    bare base this is ``relax_molecule``; otherwise the cluster of basemodels.py is built on the embedded base
+    and relaxed as one molecule (charge: base + cation), whose energy is the base's share of the common zero;
+    with ``model.arrangements`` > 1 each starting arrangement is relaxed and the lowest converged one kept.
+    The record's SMILES is the dot-separated cluster; its ``model`` and ``model_reason`` say which model and why.
     """
-    model = item.model
-    if model.counter_ion is None and not model.explicit:
+    solvent = config.method.solvent
+    model = resolve_base_model(item, solvent.model, solvent.name)
+    if model.bare:
         relaxed = relax_molecule(item.name, "base", item.smiles, item.charge, item.multiplicity, engine,
                                  config.optimizer, config.seed)
+        relaxed = RelaxedMolecule(relaxed.record.model_copy(update={"model": "bare", "model_reason": model.reason}),
+                                  relaxed.atoms)
         return relaxed, (describe_base(item.smiles, item.bulky) if relaxed.record.status == "ok" else None)
     what = f"base '{item.name}'"
     start = time.perf_counter()
     tried: list[tuple[BaseCluster, RelaxResult]] = []
     try:
         info = describe_base(item.smiles, item.bulky)
-        for arrangement in range(model.arrangements):
+        for arrangement in range(item.model.arrangements):
             cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
                                     model.explicit_smiles, config.seed, item.name, arrangement)
             calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
             tried.append((cluster, relax(cluster.atoms, calc, (), config.optimizer)))
     except ElimscanError as err:
-        record = MoleculeRecord(name=item.name, role="base", smiles=item.smiles, status="failed", error=error_info(err))
+        record = MoleculeRecord(name=item.name, role="base", smiles=item.smiles, status="failed", error=error_info(err),
+                                model_reason=model.reason)
         return RelaxedMolecule(record, None), None
     converged = [pair for pair in tried if pair[1].converged] or tried
     cluster, result = min(converged, key=lambda pair: pair[1].energy_hartree)
@@ -100,7 +105,7 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
         multiplicity=item.multiplicity, n_atoms=len(result.atoms), formula=result.atoms.get_chemical_formula(mode="hill"),
         energy_hartree=result.energy_hartree, converged=result.converged,
         n_gradients=sum(r.n_gradients for _, r in tried), relax_seconds=round(time.perf_counter() - start, 3),
-        model=cluster.label, arrangements=len(tried),
+        model=cluster.label, model_reason=model.reason, arrangements=len(tried),
         arrangement_spread_kcal_mol=round((max(energies) - min(energies)) * KCAL_MOL_PER_HARTREE, 3)
         if len(energies) > 1 else None)
     if not result.converged:

@@ -13,6 +13,7 @@ import platform
 from collections.abc import Iterable, Sequence
 
 from elimscan import __version__
+from elimscan.chem.basemodels import resolve_base_model
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 from elimscan.results.documents import Provenance, RunResult, RunSummary, Seeds
 from elimscan.results.records import JobRecord, MoleculeRecord
@@ -66,11 +67,22 @@ def substrate_inputs(substrate: SubstrateConfig, geometry_text: str | None) -> d
     return job_inputs(substrate.name, substrate.smiles, substrate.charge, substrate.multiplicity, geometry_text)
 
 
+def keyed_base(base: BaseConfig, solvent: SolventConfig) -> dict:
+    """Return the base's part of a job key: its config with the model it gets in this solvent (count resolved)."""
+    resolved = resolve_base_model(base, solvent.model, solvent.name)
+    dumped = base.model_dump(mode="json")
+    dumped["model"] = {**dumped["model"], "counter_ion": resolved.counter_ion, "explicit": resolved.explicit}
+    return dumped
+
+
 def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: SolventConfig,
             versions: dict[str, str]) -> str:
     """Return the SHA-256 hex key of one job: its inputs and every setting and library version that changes its numbers.
 
-    Left out: the config's name, threads, executor, and the other substrates, bases and solvents.
+    Left out: the config's name, threads, executor, and the other substrates, bases and solvents. The base enters
+    with its model as computed (``resolve_base_model`` in this solvent): a base whose model resolves to the bare
+    anion keys as before the per-solvent default existed, so finished bare jobs of a resumed batch are reused, and
+    a job whose default changed (an alkoxide in an alcohol) is computed again.
     """
     settings = config.model_dump(mode="json", exclude=KEY_EXCLUDED)
     settings["method"]["solvent"] = {"model": solvent.model, "name": solvent.name}
@@ -79,7 +91,7 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
     else:  # tier off: keys stay those of configs without a dft block
         settings.pop("dft", None)
     document = _without_neutral({"key_format": 1, "settings": settings, "substrate": substrate,
-                                 "base": base.model_dump(mode="json"), "versions": versions})
+                                 "base": keyed_base(base, solvent), "versions": versions})
     return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
 

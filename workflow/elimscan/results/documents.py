@@ -32,7 +32,11 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: 0.5.0 added optional fields only (free energies, isotope effects, saddle character, the SN2 block,
 #: energy_used). 0.4.0 added optional fields only (the job's solvent and key, the molecule's solvent; config keys
 #: substrates_file and executor): documents of 0.3.0 stay valid and are still read.
-RESULT_SCHEMA_VERSION = "0.7.2"
+#: 0.7.3 (optional additions, documents stay valid both ways): molecules[].arrangements and
+#: arrangement_spread_kcal_mol (the base cluster's hydrogen-bond arrangements), molecules[].model_reason and
+#: jobs[].base_info.model_reason (why a base got its model); config bases[].model.arrangements, and
+#: bases[].model.explicit may be null (the per-solvent default).
+RESULT_SCHEMA_VERSION = "0.7.3"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -121,7 +125,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds

@@ -69,6 +69,8 @@ class MoleculeRecord(Record):
                                      "(the lowest relaxed one is this record)")
     arrangement_spread_kcal_mol: float | None = Field(None, description="base models: highest minus lowest relaxed "
                                                       "energy over the arrangements (kcal/mol); null for one")
+    model_reason: str | None = Field(None, description="why the base got this model: as configured, or the default "
+                                     "of the base and solvent (e.g. 'default for an alkoxide in a protic solvent')")
     error: ErrorInfo | None = None
     solvent: SolventConfig | None = Field(None, description="implicit solvent of this record (batches); null: the "
                                           "config's method.solvent")
@@ -254,6 +256,8 @@ class BaseRecord(Record):
     bulky_reason: str
     smiles: str | None = Field(None, description="the base itself (without counter-ion or explicit molecules)")
     model: str | None = Field(None, description="base model: 'bare', or the counter-ion and explicit molecules")
+    model_reason: str | None = Field(None, description="why the base got this model: as configured, or the default "
+                                     "of the base and solvent (e.g. 'default for an alkoxide in a protic solvent')")
 
 
 class RuleRecord(Record):
