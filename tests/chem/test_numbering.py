@@ -46,7 +46,8 @@ def test_old_results_are_read_with_labels_numbered_from_one():
 
 
 def test_a_current_document_is_not_relabelled():
-    assert RunResult.model_fields["schema_version"].default == "0.7.1"
-    data = {"schema_version": "0.7.1", "jobs": [{"job_id": "a", "beta_hydrogens": [
-        {"class_id": "C2-H7", "beta_carbon_index0": 1, "representative_index0": 6}]}]}
-    assert RunResult._numbered_from_one(data) is data
+    assert RunResult.model_fields["schema_version"].default == "0.8.0"
+    for version in ("0.8.0", "0.7.1"):  # 0.7.1 numbered from 1 already; 0.8.0 only added the DFT saddle fields
+        data = {"schema_version": version, "jobs": [{"job_id": "a", "beta_hydrogens": [
+            {"class_id": "C2-H7", "beta_carbon_index0": 1, "representative_index0": 6}]}]}
+        assert RunResult._numbered_from_one(data) is data
