@@ -199,3 +199,35 @@ def test_whole_toy_job_records_the_dft_saddles(monkeypatch):
     assert blocks and all(a.dft.saddle.status == "verified" and a.barrier_dft_kcal_mol is not None for a in blocks)
     assert all(a.dft.saddle.n_gradients == 7 and a.dft.status == "ok" for a in blocks)
     assert sum(p.fraction_dft or 0.0 for p in record.products) == pytest.approx(1.0, abs=1e-3)
+
+
+def test_absolute_barriers_measure_from_reactants_relaxed_at_dft(monkeypatch):
+    """With absolute_barriers the free substrate and base are relaxed at DFT (scripted here) and are the zero."""
+    import elimscan.pipeline.dftsaddles as rung
+    from elimscan.drivers.relax import RelaxResult
+    from elimscan.pipeline.dftsaddles import reoptimise_job
+
+    _script(monkeypatch, {"C1 anti": (-20.000, True)}, {})
+    relaxed = {"substrate": -12.0, "base": -8.01}
+
+    def scripted_relax(atoms, calculator, held, settings):
+        assert settings.fmax_eV_per_A == DftConfig().reoptimise_fmax_eV_per_A
+        return RelaxResult(atoms, relaxed[calculator], 5, 5, True, 0.0)
+
+    class Engine(_ScriptedEngine):
+        def calculator(self, charge=0, multiplicity=1, name="structure"):
+            return name.split()[-1]  # 'substrate' or 'base': the scripted relaxation reads it
+
+    monkeypatch.setattr(rung, "DftEngine", Engine)
+    monkeypatch.setattr(rung, "relax", scripted_relax)
+    config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCBr"),), bases=(BaseConfig(name="ethoxide"),),
+                       dft=DftConfig(enabled=True, saddles="reoptimise", absolute_barriers=True))
+    reactants = (("substrate", Atoms("H"), 0, 1), ("base", Atoms("H"), -1, 1))
+    result = reoptimise_job("s + e", [_cand(("C1", "anti"), "P", -10.0)], {("C1", "anti"): _Distances()}, -1, 1, {},
+                            config, reactants)
+    assert result.zero_kind == "DFT-relaxed free substrate + free base"
+    # (-20.000 - (-20.010)) hartree in kcal/mol from CODATA via scipy, independently of elimscan's units
+    from scipy.constants import N_A, calorie, physical_constants
+
+    kcal = physical_constants["Hartree energy"][0] * N_A / (1000.0 * calorie)
+    assert result.barriers_kcal_mol[("C1", "anti")] == pytest.approx(0.010 * kcal, abs=2e-3)
