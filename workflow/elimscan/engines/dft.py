@@ -237,7 +237,7 @@ def substitution_share(candidates: Sequence[SaddleCandidate], barriers: dict[tup
     return product_fractions(paths, temperature_K)["sn2"]
 
 
-def _import_pyscf():
+def import_pyscf():
     """Return PySCF's gto, dft and lib modules (imported on first use); raise DftUnavailableError."""
     try:
         from pyscf import dft, gto, lib
@@ -249,7 +249,7 @@ def _import_pyscf():
 
 def build_scf(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
     """Return an unconverged PySCF mean-field object for one geometry (Å) at ``level`` (RKS/UKS, DF, PCM as asked)."""
-    gto, dft, _ = _import_pyscf()
+    gto, dft, _ = import_pyscf()
     mol = gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
                 unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0)
     mf = (dft.RKS(mol) if multiplicity == 1 else dft.UKS(mol))
@@ -292,7 +292,7 @@ def converge_scf(mf, level: DftLevel, name: str, dm0=None):
 def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int = 1,
                  name: str = "structure") -> DftPoint:
     """Return the DFT energy (hartree) of one geometry at ``level``; raise DftError naming the structure on failure."""
-    _, _, lib = _import_pyscf()
+    _, _, lib = import_pyscf()
     lib.num_threads(threads)
     start = time.perf_counter()
     try:

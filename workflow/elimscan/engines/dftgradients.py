@@ -15,7 +15,7 @@ from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.engines.contract import CacheStats, SinglePoint, geometry_changes, geometry_snapshot
-from elimscan.engines.dft import DftLevel, DftPoint, _import_pyscf, build_scf, converge_scf
+from elimscan.engines.dft import DftLevel, DftPoint, import_pyscf, build_scf, converge_scf
 from elimscan.errors import DftError
 from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
 
@@ -34,7 +34,7 @@ class DftEngine:
 
     def _prepare(self) -> None:
         """Set PySCF's thread count for this engine."""
-        _, _, lib = _import_pyscf()
+        _, _, lib = import_pyscf()
         lib.num_threads(self.threads)
 
     def energy_gradient(self, atoms: Atoms, charge: int, multiplicity: int, name: str = "structure",
