@@ -123,3 +123,26 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
     assert job_key(config, {"name": "s", "smiles": "CCCl"}, more, SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != key  # three arrangements can change the numbers
+
+
+def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
+    """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
+    points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162 (PySCF's version
+    pinned to 'test' here so the value does not follow the installed library). Re-optimising keys differently."""
+    import elimscan.pipeline.document as document
+    from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+
+    monkeypatch.setattr(document, "installed_version", lambda name: "test")
+
+    def key(dft: dict) -> str:
+        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), dft=dft)
+        return document.job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                                SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
+
+    single = key({"enabled": True})
+    assert single == "bc6a9dbfd3ec5bce3ae7599f203a0fe4b98a130be44a3b9ca0b29a82d84efe42"
+    assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
+    reoptimise = key({"enabled": True, "saddles": "reoptimise"})
+    assert reoptimise != single
+    assert key({"enabled": True, "saddles": "reoptimise", "reoptimise_max_steps": 7}) != reoptimise

@@ -32,6 +32,24 @@ class DftConfig(Frozen):
     #: also compute the free substrate and free base, so that barrier_dft_kcal_mol is absolute; otherwise it
     #: is relative to the lowest DFT saddle of the job (all that the product mix needs)
     absolute_barriers: bool = False
+    #: what the tier does with the chosen saddles: 'single-point' = DFT single points at the GFN2-xTB geometries;
+    #: 'reoptimise' = re-optimise the lowest verified GFN2-xTB saddle of each product (and of SN2) at DFT with
+    #: Sella from its GFN2-xTB Hessian, verify it (analytic DFT Hessian, both-way check) and take the product mix
+    #: from the verified DFT saddles (hours per job: an overnight option)
+    saddles: Literal["single-point", "reoptimise"] = "single-point"
+    #: reoptimise: verified GFN2-xTB saddles re-optimised per product (the lowest by GFN2-xTB energy)
+    reoptimise_per_product: int = Field(1, ge=1)
+    #: reoptimise: Sella convergence, largest force (eV/Å); 0.02 eV/Å ~ 4e-4 hartree/bohr, near the usual
+    #: quantum-chemistry default for a largest force (common practice) and above the noise of a level-3 DFT grid
+    reoptimise_fmax_eV_per_A: float = Field(0.02, gt=0)
+    #: reoptimise: Sella steps at most (each one DFT gradient)
+    reoptimise_max_steps: int = Field(100, ge=1)
+    #: reoptimise: verification Hessian: PySCF's analytic one, or central finite differences of DFT gradients
+    #: (6N+1 gradients)
+    reoptimise_hessian: Literal["analytic", "finite-difference"] = "analytic"
+    #: reoptimise: the both-way check looks at the key distances every this many relaxation steps (fewer DFT
+    #: gradients than the GFN2-xTB check's 20; the criteria are those of paths.saddle)
+    reoptimise_side_chunk_steps: int = Field(5, ge=1)
     #: PySCF integration grid level (0 coarse ... 9 fine)
     grid_level: int = Field(3, ge=0, le=9)
     #: SCF cycles at most and convergence of the energy (hartree)

@@ -9,6 +9,7 @@ passed in; no file I/O.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -118,10 +119,20 @@ def neb_climbing_image(reactant: Atoms, product: Atoms, engine, charge: int, mul
         f"; climbing image {top} of {len(images) - 1}"
 
 
+#: a Hessian provider: (atoms) -> (Hessian in eV/Å^2, gradients it cost)
+HessianFunction = Callable[[Atoms], tuple[np.ndarray, int]]
+
+
 def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, multiplicity: int,
                       settings: PathConfig, optimizer: OptimizerConfig, name: str = "saddle",
-                      method: str = "sella") -> SaddleResult:
-    """Return a Sella-refined saddle from ``guess`` with its verification (Hessian and both-way relaxation)."""
+                      method: str = "sella", start_hessian_eV_A2: np.ndarray | None = None,
+                      hessian: HessianFunction | None = None, side_chunk_steps: int = 20) -> SaddleResult:
+    """Return a Sella-refined saddle from ``guess`` with its verification (Hessian and both-way relaxation).
+
+    ``start_hessian_eV_A2`` (a Hessian of the guess, e.g. from a cheaper method) replaces the finite-difference
+    start; ``hessian`` replaces the central finite-difference Hessian of the verification (an analytic one);
+    ``side_chunk_steps`` is how often the both-way relaxations look at the key distances.
+    """
     from sella import Sella  # loads jax: imported only when a saddle is refined
 
     s = settings.saddle
@@ -129,7 +140,9 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
     work.calc = engine.calculator(charge, multiplicity, name=name)
     try:
         hessian_function = None
-        if s.exact_initial_hessian:  # a finite-difference start (one-sided): far more robust on flat saddles (SN2)
+        if start_hessian_eV_A2 is not None:  # handed out again if Sella rebuilds its coordinates
+            hessian_function = lambda a: start_hessian_eV_A2  # noqa: E731
+        elif s.exact_initial_hessian:  # a finite-difference start (one-sided): far more robust on flat saddles (SN2)
             hessian_function = lambda a: forward_difference_hessian(  # noqa: E731
                 a, engine.calculator(charge, multiplicity, name=f"{name} start hessian"), s.hessian_step_A)[0]
         opt = Sella(work, order=1, internal=True, logfile=None, hessian_function=hessian_function)
@@ -146,9 +159,13 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
     if not converged:
         return SaddleResult(atoms, energy, False, method, None, (), f"Sella did not converge in {s.max_steps} steps",
                             error_type="saddle_not_converged")
-    hessian, n_grad = finite_difference_hessian(atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"),
-                                                s.hessian_step_A)
-    vib: Vibrations = harmonic_analysis(hessian, atoms, n_gradients=n_grad)
+    try:
+        hessian_matrix, n_grad = (hessian(atoms) if hessian is not None else finite_difference_hessian(
+            atoms, engine.calculator(charge, multiplicity, name=f"{name} hessian"), s.hessian_step_A))
+    except ElimscanError as err:
+        return SaddleResult(atoms, energy, False, method, None, (), f"saddle Hessian failed: {err.error_type}",
+                            error_type="saddle_search_failed")
+    vib: Vibrations = harmonic_analysis(hessian_matrix, atoms, n_gradients=n_grad)
     imaginary = sorted(vib.imaginary(0.0), reverse=True)
     main = imaginary[0] if imaginary else None
     others = tuple(round(float(v), 1) for v in imaginary[1:] if v > s.other_imaginary_max_cm1)
@@ -162,10 +179,10 @@ def refine_and_verify(guess: Atoms, reactive: Reactive, engine, charge: int, mul
                             error_type="saddle_wrong_modes")
     mode = vib.modes[0]
     sides = [_relax_to_side(atoms.copy(), sign * s.displacement_A * mode, reactive, engine, charge, multiplicity,
-                            s, optimizer, name) for sign in (+1, -1)]
+                            s, optimizer, name, chunk_steps=side_chunk_steps) for sign in (+1, -1)]
     if sorted(sides) != ["product", "reactant"]:
         return SaddleResult(atoms, energy, False, method, float(main), others,
                             f"relaxing both ways along the mode gave {sides[0]} and {sides[1]}, not reactant and product",
                             error_type="saddle_not_connected")
     return SaddleResult(atoms, energy, True, method, float(main), others,
-                        "one imaginary mode; connects the reactant complex with the products", mode, hessian)
+                        "one imaginary mode; connects the reactant complex with the products", mode, hessian_matrix)

@@ -4,5 +4,6 @@
 - ``factory``: which engine a job gets: GFN2-xTB, or a plug-in named 'module:function'
 - ``xtb``: GFN2-xTB settings, single points with a coordinate cache and SCF retry, the ASE calculator
 - ``dft``: optional PySCF single points on saddles, with the pure helpers of the DFT tier beside them
+- ``dftgradients``: DFT energies, gradients and analytic Hessians behind the engine contract (saddle re-optimisation)
 - ``threads``: OpenMP/BLAS thread variables, set before a backend loads
 """

@@ -14,6 +14,7 @@ import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
+import numpy as np
 from ase import Atoms
 
 from elimscan.analysis.rule import PathBarrier, product_fractions
@@ -84,7 +85,7 @@ class DftLevel:
                    else f"IEF-PCM({self.solvent_name or 'user'}, eps {self.dielectric_constant:.2f})")
         fit = " (RI)" if self.density_fit else ""
         return (f"{_FUNCTIONAL_LABELS[self.functional]}{_DISPERSION_LABELS[self.dispersion]}/"
-                f"{_BASIS_LABELS[self.basis]}{fit}, {solvent}")
+                f"{_BASIS_LABELS.get(self.basis, self.basis)}{fit}, {solvent}")
 
 
 @dataclass(frozen=True)
@@ -110,6 +111,28 @@ class SaddleCandidate:
     atoms: Atoms = field(compare=False, repr=False)
     #: "e2" (an alkene's path) or "sn2" (the backside substitution path, its own product)
     kind: str = "e2"
+    #: the GFN2-xTB verification Hessian of a verified saddle (eV/Å^2); None for a relaxed-path maximum
+    hessian_eV_A2: np.ndarray | None = field(default=None, compare=False, repr=False)
+
+
+@dataclass(frozen=True)
+class DftSaddle:
+    """A saddle re-optimised at DFT: energy (hartree), verification, key distances (Å), gradients and seconds."""
+
+    energy_hartree: float | None
+    verified: bool
+    reason: str
+    error_type: str | None
+    imaginary_cm1: float | None
+    other_imaginary_cm1: tuple[float, ...]
+    n_gradients: int
+    seconds: float
+    hessian_seconds: float
+    #: largest atom displacement from the GFN2-xTB saddle (Å, same frame)
+    largest_shift_A: float | None
+    #: key distances of the GFN2-xTB and of the DFT saddle (name -> Å)
+    gfn2_distances_A: dict[str, float] = field(default_factory=dict)
+    dft_distances_A: dict[str, float] = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
@@ -130,6 +153,10 @@ class DftJobResult:
     substitution_fraction: float | None = None
     seconds: float = 0.0
     error: ErrorInfo | None = None
+    #: 'single-point' or 'reoptimise' (dft.saddles); with 'reoptimise' the barriers and shares come from ``saddles``
+    saddles_mode: str = "single-point"
+    #: saddles re-optimised at DFT by path key (or why the re-optimisation failed)
+    saddles: dict[tuple[str, str], DftSaddle | ErrorInfo] = field(default_factory=dict)
 
 
 def missing_pyscf(dispersion: str) -> str | None:
@@ -210,7 +237,7 @@ def substitution_share(candidates: Sequence[SaddleCandidate], barriers: dict[tup
     return product_fractions(paths, temperature_K)["sn2"]
 
 
-def _import_pyscf():
+def import_pyscf():
     """Return PySCF's gto, dft and lib modules (imported on first use); raise DftUnavailableError."""
     try:
         from pyscf import dft, gto, lib
@@ -220,30 +247,32 @@ def _import_pyscf():
     return gto, dft, lib
 
 
-def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int = 1,
-                 name: str = "structure") -> DftPoint:
-    """Return the DFT energy (hartree) of one geometry at ``level``; raise DftError naming the structure on failure."""
-    gto, dft, lib = _import_pyscf()
-    lib.num_threads(threads)
-    start = time.perf_counter()
+def build_scf(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
+    """Return an unconverged PySCF mean-field object for one geometry (Å) at ``level`` (RKS/UKS, DF, PCM as asked)."""
+    gto, dft, _ = import_pyscf()
+    mol = gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
+                unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0)
+    mf = (dft.RKS(mol) if multiplicity == 1 else dft.UKS(mol))
+    mf.xc = level.functional
+    if level.dispersion != "none":
+        mf.disp = level.dispersion
+    mf.grids.level = level.grid_level
+    mf.max_cycle = level.max_scf_cycles
+    mf.conv_tol = level.scf_tolerance_hartree
+    mf.chkfile = None
+    if level.density_fit:
+        mf = mf.density_fit()
+    if level.dielectric_constant is not None:
+        mf = mf.PCM()
+        mf.with_solvent.method = "IEF-PCM"
+        mf.with_solvent.eps = level.dielectric_constant
+    return mf
+
+
+def converge_scf(mf, level: DftLevel, name: str, dm0=None):
+    """Return (converged mean-field object, energy in hartree, retried); one second-order retry; raise DftError."""
     try:
-        mol = gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
-                    unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0)
-        mf = (dft.RKS(mol) if multiplicity == 1 else dft.UKS(mol))
-        mf.xc = level.functional
-        if level.dispersion != "none":
-            mf.disp = level.dispersion
-        mf.grids.level = level.grid_level
-        mf.max_cycle = level.max_scf_cycles
-        mf.conv_tol = level.scf_tolerance_hartree
-        mf.chkfile = None
-        if level.density_fit:
-            mf = mf.density_fit()
-        if level.dielectric_constant is not None:
-            mf = mf.PCM()
-            mf.with_solvent.method = "IEF-PCM"
-            mf.with_solvent.eps = level.dielectric_constant
-        energy = mf.kernel()
+        energy = mf.kernel(dm0=dm0)
         retried = False
         if not mf.converged:  # one retry: second-order SCF from the last density
             retried = True
@@ -251,17 +280,44 @@ def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
             energy = newton.kernel(mf.make_rdm1())
             mf = newton
     except (RuntimeError, ValueError, KeyError, ArithmeticError, MemoryError, AssertionError) as err:
-        raise DftError(f"{name}: PySCF single point failed ({type(err).__name__}: {err})") from err
+        raise DftError(f"{name}: PySCF SCF failed ({type(err).__name__}: {err})") from err
     except ImportError as err:  # a dispersion library that does not load
         raise DftUnavailableError(f"{name}: {err}; install it with {INSTALL_HINT}") from err
     if not mf.converged:
         raise DftError(f"{name}: DFT SCF did not converge in {level.max_scf_cycles} cycles, nor after a "
                        "second-order retry")
+    return mf, float(energy), retried
+
+
+def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int = 1,
+                 name: str = "structure") -> DftPoint:
+    """Return the DFT energy (hartree) of one geometry at ``level``; raise DftError naming the structure on failure."""
+    _, _, lib = import_pyscf()
+    lib.num_threads(threads)
+    start = time.perf_counter()
+    try:
+        mf = build_scf(atoms, charge, multiplicity, level)
+    except (RuntimeError, ValueError, KeyError) as err:
+        raise DftError(f"{name}: PySCF single point failed ({type(err).__name__}: {err})") from err
+    mf, energy, retried = converge_scf(mf, level, name)
     summary = getattr(mf, "scf_summary", {})
-    return DftPoint(energy_hartree=float(energy), dispersion_hartree=float(summary.get("dispersion", 0.0)),
+    return DftPoint(energy_hartree=energy, dispersion_hartree=float(summary.get("dispersion", 0.0)),
                     solvation_hartree=float(summary.get("e_solvent", 0.0)),
                     scf_cycles=int(getattr(mf, "cycles", -1)),
                     seconds=round(time.perf_counter() - start, 2), retried=retried)
+
+
+def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent: SolventConfig) -> DftLevel | DftJobResult:
+    """Return the DFT level of a job, or the tier's result when it is refused (input) or skipped (no PySCF)."""
+    try:  # a refusal is a problem of the input: reported even where PySCF is missing
+        level = dft_level(config, solvent)
+        check_free_ions(job, charges, level)
+    except DftRefusedError as err:
+        return DftJobResult(status="refused", message=str(err), error=error_info(err), saddles_mode=config.saddles)
+    missing = missing_pyscf(config.dispersion)
+    if missing is not None:
+        return DftJobResult(status="skipped", message=missing, saddles_mode=config.saddles)
+    return level
 
 
 def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, multiplicity: int,
@@ -275,14 +331,9 @@ def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, mul
     Never raises our errors: a skip, a refusal or a failure is the result's status.
     """
     start = time.perf_counter()
-    try:  # a refusal is a problem of the input: reported even where PySCF is missing
-        level = dft_level(config, solvent)
-        check_free_ions(job, charges, level)
-    except DftRefusedError as err:
-        return DftJobResult(status="refused", message=str(err), error=error_info(err))
-    missing = missing_pyscf(config.dispersion)
-    if missing is not None:
-        return DftJobResult(status="skipped", message=missing)
+    level = prepare_level(job, charges, config, solvent)
+    if isinstance(level, DftJobResult):
+        return level
     label, version = level.label(), installed_version("pyscf")
     chosen = select_saddles(candidates, config.saddles_per_product)
     if not chosen:

@@ -14,12 +14,13 @@ from elimscan.chem.structures import formula
 from elimscan.config import BaseConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.paths import PathResult
 from elimscan.drivers.scans import DihedralScan
-from elimscan.engines.dft import DftJobResult, DftPoint
+from elimscan.engines.dft import DftJobResult, DftPoint, DftSaddle
 from elimscan.pipeline.energetics import JobNumbers
 from elimscan.pipeline.names import conformer_file_name, job_id_of, path_file_name, scan_file_name
 from elimscan.pipeline.outcome import SUBSTITUTION_KEY, BaseAnalysis, JobPaths, SubstrateAnalysis
 from elimscan.results.records import (ApproachRecord, BaseRecord, BetaHydrogenRecord, ConformerRecord, DftJobRecord,
-                                      DftPointRecord, ErrorInfo, IsotopeEffectRecord, JobRecord, LeavingGroupRecord,
+                                      DftPointRecord, DftSaddleRecord, ErrorInfo, IsotopeEffectRecord, JobRecord,
+                                      LeavingGroupRecord,
                                       MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
                                       SaddleCharacterRecord, ScanPointRecord, ScanRecord, SubstitutionRecord,
                                       VerdictRecord)
@@ -202,12 +203,31 @@ def pack_job(substrate_cfg: SubstrateConfig, base_cfg: BaseConfig, analysis: Sub
     )
 
 
-def _dft_point_record(point: DftPoint | ErrorInfo, approach: ApproachRecord | SubstitutionRecord) -> DftPointRecord:
-    """Return the record of one DFT single point (or its failure) on the path of ``approach`` (E2 or SN2)."""
-    if isinstance(point, ErrorInfo):
-        return DftPointRecord(status="failed", geometry=approach.barrier_source, error=point)
+def _dft_saddle_record(saddle: DftSaddle | ErrorInfo | None) -> DftSaddleRecord | None:
+    """Return the record of a saddle re-optimised at DFT (or of its failure), None when none was."""
+    if saddle is None:
+        return None
+    if isinstance(saddle, ErrorInfo):
+        return DftSaddleRecord(status="failed", reason=saddle.error_message, error_type=saddle.error_type, error=saddle)
+    return DftSaddleRecord(status="verified" if saddle.verified else "not verified", energy_hartree=saddle.energy_hartree,
+                           reason=saddle.reason, error_type=saddle.error_type, imaginary_cm1=saddle.imaginary_cm1,
+                           other_imaginary_cm1=saddle.other_imaginary_cm1, n_gradients=saddle.n_gradients,
+                           seconds=saddle.seconds, hessian_seconds=saddle.hessian_seconds,
+                           largest_shift_A=saddle.largest_shift_A, gfn2_distances_A=saddle.gfn2_distances_A,
+                           dft_distances_A=saddle.dft_distances_A)
+
+
+def _dft_point_record(point: DftPoint | ErrorInfo | None, approach: ApproachRecord | SubstitutionRecord,
+                      saddle: DftSaddle | ErrorInfo | None = None) -> DftPointRecord:
+    """Return the record of one DFT single point (or its failure) on the path of ``approach`` (E2 or SN2), with its
+    DFT re-optimised saddle if any."""
+    saddle_record = _dft_saddle_record(saddle)
+    if point is None or isinstance(point, ErrorInfo):
+        error = point if isinstance(point, ErrorInfo) else (saddle if isinstance(saddle, ErrorInfo) else None)
+        return DftPointRecord(status="failed", geometry=approach.barrier_source, error=error, saddle=saddle_record)
     return DftPointRecord(status="ok", energy_hartree=point.energy_hartree, dispersion_hartree=point.dispersion_hartree,
-                          geometry=approach.barrier_source, seconds=point.seconds, scf_cycles=point.scf_cycles)
+                          geometry=approach.barrier_source, seconds=point.seconds, scf_cycles=point.scf_cycles,
+                          saddle=saddle_record)
 
 
 def with_dft(record: JobRecord, result: DftJobResult | None, config: RunConfig) -> JobRecord:
@@ -216,28 +236,31 @@ def with_dft(record: JobRecord, result: DftJobResult | None, config: RunConfig) 
         return record
 
     def approach(a: ApproachRecord, key: tuple[str, str]) -> ApproachRecord:
-        point = result.points.get(key)
-        if point is None:
+        point, saddle = result.points.get(key), result.saddles.get(key)
+        if point is None and saddle is None:
             return a
         return a.model_copy(update={"barrier_dft_kcal_mol": result.barriers_kcal_mol.get(key),
-                                    "dft": _dft_point_record(point, a)})
+                                    "dft": _dft_point_record(point, a, saddle)})
     betas = tuple(b.model_copy(update={"anti": approach(b.anti, (b.class_id, "anti")),
                                        "syn": approach(b.syn, (b.class_id, "syn"))}) for b in record.beta_hydrogens)
     products = tuple(p.model_copy(update={"fraction_dft": round(result.fractions[p.smiles], 4)
                                           if p.smiles in result.fractions else None}) for p in record.products)
     substitution = record.substitution
-    sn2_point = result.points.get(SUBSTITUTION_KEY)
-    if substitution is not None and sn2_point is not None:
+    sn2_point, sn2_saddle = result.points.get(SUBSTITUTION_KEY), result.saddles.get(SUBSTITUTION_KEY)
+    if substitution is not None and (sn2_point is not None or sn2_saddle is not None):
         share = result.substitution_fraction
         substitution = substitution.model_copy(update={
             "barrier_dft_kcal_mol": result.barriers_kcal_mol.get(SUBSTITUTION_KEY),
-            "dft": _dft_point_record(sn2_point, substitution),
+            "dft": _dft_point_record(sn2_point, substitution, sn2_saddle),
             "substitution_fraction_dft": None if share is None else round(share, 4)})
     block = DftJobRecord(status=result.status, message=result.message, level=result.level,
                          program_version=result.program_version, saddles_per_product=config.dft.saddles_per_product,
                          n_single_points=len(result.points), zero_kind=result.zero_kind,
                          reference_energy_hartree=result.reference_energy_hartree,
                          computed_major=max(result.fractions, key=result.fractions.get) if result.fractions else None,
-                         seconds=result.seconds, error=result.error)
+                         seconds=result.seconds, error=result.error, saddles=result.saddles_mode,
+                         n_saddles_reoptimised=len(result.saddles),
+                         n_saddles_verified=sum(1 for v in result.saddles.values() if isinstance(v, DftSaddle) and v.verified),
+                         n_gradients=sum(v.n_gradients for v in result.saddles.values() if isinstance(v, DftSaddle)))
     return record.model_copy(update={"beta_hydrogens": betas, "products": products, "substitution": substitution,
                                      "dft": block})

@@ -28,9 +28,8 @@ from elimscan.chem.betahydrogens import BetaHydrogenClass
 from elimscan.chem.perception import Substrate, perceive_substrate
 from elimscan.drivers.budget import GradientBudget
 from elimscan.drivers.freeenergy import minimum_hessian
-from elimscan.drivers.complexes import Reactive, SubstitutionReactive
 from elimscan.drivers.paths import PathResult, compute_path, compute_substitution_path
-from elimscan.pipeline.dfttier import job_dft
+from elimscan.pipeline.dfttier import job_dft, path_reactive
 from elimscan.pipeline.outcome import (DETAIL, SUBSTITUTION_KEY, BaseAnalysis, ClassAnalysis, JobPaths, ProgressCallback,
                                        RelaxedMolecule, RunOutcome, SubstrateAnalysis)
 from elimscan.results.failures import error_info
@@ -281,16 +280,13 @@ def _stage_reporter(on_progress: ProgressCallback | None, name: str) -> Callable
 def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: RunConfig, engine,
                       on_progress: ProgressCallback | None = None) -> JobPaths:
     """Return every (class, approach) path of one substrate with one base; failures are recorded, not raised."""
-    lg = analysis.substrate.leaving_group
-    n = len(analysis.ensemble.lowest.atoms)
     charge = analysis.charge + base.info.formal_charge
     multiplicity = analysis.multiplicity + base.relaxed.record.multiplicity - 1
     all_h = tuple(i for c in analysis.classes for i in c.beta_class.hydrogen_indices)
     paths: JobPaths = {}
     for c in analysis.classes:
         b = c.beta_class
-        reactive = Reactive(b.representative_index, b.beta_carbon_index, lg.c_alpha_index, lg.leaving_atom_index,
-                            n + base.info.basic_atom_index)
+        reactive = path_reactive(analysis, base, (b.class_id, "anti"))
         for approach, best, starts in (("anti", c.anti, c.anti_starts), ("syn", c.syn, c.syn_starts)):
             if approach not in config.paths.approaches or best.atoms is None:
                 continue
@@ -321,7 +317,7 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
     if config.paths.substitution:
         if on_progress is not None:
             on_progress(DETAIL, DETAIL, f"{analysis.name}: backside substitution (SN2) path")
-        reactive = SubstitutionReactive(n + base.info.basic_atom_index, lg.c_alpha_index, lg.leaving_atom_index)
+        reactive = path_reactive(analysis, base, SUBSTITUTION_KEY)
         try:
             name = f"{analysis.name} substitution"
             paths[SUBSTITUTION_KEY] = compute_substitution_path(

@@ -36,12 +36,15 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: arrangement_spread_kcal_mol (the base cluster's hydrogen-bond arrangements), molecules[].model_reason and
 #: jobs[].base_info.model_reason (why a base got its model); config bases[].model.arrangements, and
 #: bases[].model.explicit may be null (the per-solvent default).
-RESULT_SCHEMA_VERSION = "0.7.3"
+#: 0.8.0 added optional fields only: the DFT saddle rung (config dft.saddles and dft.reoptimise_*; per path
+#: dft.saddle; jobs[].dft.saddles, n_saddles_reoptimised, n_saddles_verified, n_gradients).
+RESULT_SCHEMA_VERSION = "0.8.0"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
-#: 0.1.1: the job record's renamed index fields and rule calls of result schema 0.7.1
-JOB_COPY_SCHEMA_VERSION = "0.1.1"
+#: 0.1.1: the job record's renamed index fields and rule calls of result schema 0.7.1; 0.2.0: the optional DFT
+#: saddle fields of result schema 0.8.0 (additions only)
+JOB_COPY_SCHEMA_VERSION = "0.2.0"
 
 
 class Provenance(Record):
@@ -125,7 +128,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
@@ -212,7 +215,7 @@ class FinishedJobCopy(Record):
     other files), from which a damaged store is rebuilt."""
 
     schema_name: Literal["elimscan.batch-job"] = JOB_COPY_SCHEMA_NAME
-    schema_version: Literal["0.1.1", "0.1.0"] = JOB_COPY_SCHEMA_VERSION
+    schema_version: Literal["0.2.0", "0.1.1", "0.1.0"] = JOB_COPY_SCHEMA_VERSION
     job_key: str = Field(description="SHA-256 of the job's inputs and every setting that changes its numbers")
     job_id: str
     substrate: str

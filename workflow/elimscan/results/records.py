@@ -143,6 +143,26 @@ class IsotopeEffectRecord(Record):
     temperature_K: float
 
 
+class DftSaddleRecord(Record):
+    """A path's saddle re-optimised at DFT (dft.saddles: reoptimise) and its verification, or why it failed."""
+
+    status: Literal["verified", "not verified", "failed"] = Field(
+        description="verified: one imaginary mode at DFT and the both-way check reached reactant and product; "
+        "not verified: re-optimised but the check failed (left out of the DFT product mix); failed: an error")
+    energy_hartree: float | None = Field(None, description="DFT total energy of the re-optimised saddle")
+    reason: str | None = Field(None, description="the verification's verdict in words")
+    error_type: str | None = Field(None, description="why it is not verified, machine-readable")
+    imaginary_cm1: float | None = Field(None, description="the DFT reaction mode (cm^-1, as a positive number)")
+    other_imaginary_cm1: tuple[float, ...] = ()
+    n_gradients: int | None = Field(None, description="DFT gradients of the search and the both-way check")
+    seconds: float | None = Field(None, description="wall time of search, Hessian and check (s)")
+    hessian_seconds: float | None = Field(None, description="wall time of the analytic DFT Hessian (s)")
+    largest_shift_A: float | None = Field(None, description="largest atom displacement from the GFN2-xTB saddle")
+    gfn2_distances_A: dict[str, float] = Field(default_factory=dict, description="key distances at the GFN2-xTB saddle")
+    dft_distances_A: dict[str, float] = Field(default_factory=dict, description="key distances at the DFT saddle")
+    error: ErrorInfo | None = None
+
+
 class DftPointRecord(Record):
     """One DFT single point on a path top (PySCF, level in the job's dft block), or why it failed."""
 
@@ -154,6 +174,8 @@ class DftPointRecord(Record):
     seconds: float | None = Field(None, description="wall time of the single point (s)")
     scf_cycles: int | None = None
     error: ErrorInfo | None = None
+    saddle: DftSaddleRecord | None = Field(None, description="the saddle re-optimised at DFT (dft.saddles: "
+                                           "reoptimise); the single point above is then its first gradient's energy")
 
 
 class ApproachRecord(Record):
@@ -328,6 +350,12 @@ class DftJobRecord(Record):
     computed_major: str | None = Field(None, description="product with the largest DFT share")
     seconds: float | None = Field(None, description="wall time of the tier for this job (s)")
     error: ErrorInfo | None = None
+    saddles: Literal["single-point", "reoptimise"] = Field(
+        "single-point", description="single-point: barriers from DFT single points at GFN2-xTB geometries; "
+        "reoptimise: from the saddles re-optimised and verified at DFT")
+    n_saddles_reoptimised: int = Field(0, description="saddles re-optimised at DFT (reoptimise)")
+    n_saddles_verified: int = Field(0, description="of those, verified at DFT: only these enter the DFT product mix")
+    n_gradients: int = Field(0, description="DFT gradients of the tier for this job (reoptimise)")
 
 
 class JobRecord(Record):
