@@ -200,3 +200,26 @@ def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(ca
     assert validate._parse(["--base-model", name]).base_model == name and name in BASE_MODEL_CANDIDATES
     with pytest.raises(ValueError, match="unknown base model 'alcohol-9'"):
         base_model_block("alcohol-9")
+
+
+def test_a_page_written_into_the_checkout_does_not_mark_the_code_dirty(validate, tmp_path, monkeypatch):
+    """validate.py writes its pages into validation/; the next invocation must still name the clean commit."""
+    import subprocess
+
+    def git(*words):
+        subprocess.run(["git", "-C", str(tmp_path), "-c", "user.email=t@t", "-c", "user.name=t", *words],
+                       check=True, capture_output=True)
+
+    (tmp_path / "validation").mkdir()
+    (tmp_path / "validation" / "VALIDATION.md").write_text("old page\n")
+    (tmp_path / "workflow.py").write_text("x = 1\n")
+    git("init", "-q")
+    git("add", "-A")
+    git("commit", "-qm", "start")
+    monkeypatch.setattr(validate, "HERE", tmp_path / "validation")
+    clean = validate._commit()
+    assert clean != "unknown" and not clean.endswith("-dirty")
+    (tmp_path / "validation" / "VALIDATION.md").write_text("new page\n")
+    assert validate._commit() == clean
+    (tmp_path / "workflow.py").write_text("x = 2\n")
+    assert validate._commit() == clean + "-dirty"

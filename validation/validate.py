@@ -218,12 +218,18 @@ def _freeze(run_commits: list[str]) -> dict:
             "seen_before_freeze": tuple(data.get("seen_before_freeze") or ()), "computed_before_freeze": older}
 
 
+#: files this script (and basicity.py) writes into the checkout: changes to them do not make the code '-dirty'
+WRITTEN_PAGES = ":(top,exclude,glob)validation/*.md"
+
+
 def _commit() -> str:
-    """Return the short commit of the checkout ('-dirty' with uncommitted changes to tracked files)."""
+    """Return the short commit of the checkout ('-dirty' with uncommitted changes to tracked files other than the
+    pages the benchmark writes, so a page written by one invocation does not mark the next one's code as changed)."""
     head = _git("rev-parse", "--short", "HEAD")
     if head.returncode:
         return "unknown"
-    return head.stdout.strip() + ("-dirty" if _git("diff", "--quiet", "HEAD").returncode else "")
+    changed = _git("diff", "--quiet", "HEAD", "--", ":/", WRITTEN_PAGES).returncode
+    return head.stdout.strip() + ("-dirty" if changed else "")
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -203,13 +203,23 @@ def test_the_channel_barrier_is_the_boltzmann_sum_over_its_paths():
 
 def test_the_isotope_effect_is_read_from_the_class_on_the_named_carbon():
     job = record([("C2-H11", "anti", "C=Cc1ccccc1", 20.0, 2), ("C9-H1", "anti", "X", 25.0, 1)])
+    job["beta_hydrogens"][0]["beta_carbon_index0"] = 2  # the job copies' field names since result schema 0.7.1
+    job["beta_hydrogens"][0]["isotope_effects"] = [
+        {"label": "D at the transferring hydrogen", "deuterated_indices0": [11], "kh_kd": 3.0, "kh_kd_wigner": 3.5},
+        {"label": "D at every hydrogen of the beta carbon (CD2)", "deuterated_indices0": [11, 12], "kh_kd": 4.4,
+         "kh_kd_wigner": 5.0}]
+    assert isotope_effect(job, (2,)) == (4.4, 5.0)
+    assert isotope_effect(job, (7,)) is None
+
+
+def test_the_isotope_effect_is_read_from_records_written_before_the_index_rename():
+    job = record([("C2-H11", "anti", "C=Cc1ccccc1", 20.0, 2)])
     job["beta_hydrogens"][0]["beta_carbon_index"] = 2
     job["beta_hydrogens"][0]["isotope_effects"] = [
         {"label": "D at the transferring hydrogen", "deuterated_indices": [11], "kh_kd": 3.0, "kh_kd_wigner": 3.5},
         {"label": "D at every hydrogen of the beta carbon (CD2)", "deuterated_indices": [11, 12], "kh_kd": 4.4,
          "kh_kd_wigner": 5.0}]
     assert isotope_effect(job, (2,)) == (4.4, 5.0)
-    assert isotope_effect(job, (7,)) is None
 
 
 def test_rho_is_fitted_to_the_members_channel_barriers():

@@ -59,15 +59,21 @@ def channel_barrier_kcal_mol(job: Mapping, channel: str, level: str, temperature
 
 
 def isotope_effect(job: Mapping, beta_carbon_indices: Sequence[int]) -> tuple[float, float] | None:
-    """Return (k_H/k_D harmonic, with Wigner's correction) of the class on the named beta carbon(s), or None."""
+    """Return (k_H/k_D harmonic, with Wigner's correction) of the class on the named beta carbon(s), or None.
+
+    ``beta_carbon_indices`` are 0-based atom indices (RDKit's, as the case file's SMARTS matches them); job records
+    name them ``beta_carbon_index0`` (``beta_carbon_index`` in documents before result schema 0.7.1).
+    """
     if job.get("status") != "ok":
         return None
     found = []
     for beta in job.get("beta_hydrogens") or ():
         effects = beta.get("isotope_effects") or ()
-        if beta["beta_carbon_index"] not in beta_carbon_indices or not effects:
+        carbon = beta.get("beta_carbon_index0", beta.get("beta_carbon_index"))  # 0-based; the older name before 0.7.1
+        if carbon not in beta_carbon_indices or not effects:
             continue
-        whole = [e for e in effects if len(e["deuterated_indices"]) > 1] or list(effects)
+        whole = [e for e in effects if len(e.get("deuterated_indices0", e.get("deuterated_indices")) or ()) > 1] \
+            or list(effects)
         barriers = [beta[a]["barrier_kcal_mol"] for a in ("anti", "syn") if beta[a].get("barrier_kcal_mol") is not None]
         found.append((min(barriers, default=math.inf), whole[0]))
     if not found:
