@@ -74,3 +74,10 @@ def test_the_page_says_which_model_was_frozen_and_when():
     line = next(x for x in validation_markdown(other, scores(), [], ["dE"]).splitlines() if x.startswith("- model freeze"))
     assert "**not the frozen model** (`bare`" in line and "1 computing invocation(s) ran code older than the freeze" in line
     assert "**no model frozen yet**" in validation_markdown(INFO, scores(), [], ["dE"])
+
+
+def test_a_calibration_only_page_scores_no_product_outcome():
+    page = validation_markdown(INFO, [], [], ["dE", "dG"])
+    assert "No product outcome is scored on this page" in page
+    assert "0/0" not in page and "## Test cases" not in page and "## Per category" not in page
+    assert "## Test cases" in validation_markdown(INFO, scores(), [], ["dE"])

@@ -220,10 +220,33 @@ def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[st
         name = f"`{m.model}`" + (" (frozen)" if m.model == frozen else "")
         error = (f"{m.rate_mean_error_kcal_mol:+.1f} ({m.rate_mean_abs_error_kcal_mol:.1f}) over {m.n_rates}"
                  if m.rate_mean_error_kcal_mol is not None and m.rate_mean_abs_error_kcal_mol is not None else "-")
-        rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {c.right}/{c.n} | {c.rule_right}/{c.rule_n} | "
-                    f"{c.undecided}/{c.n} | {c.not_computed}/{c.n} | {error} | {_number(m.largest_spread_points, 0)} | "
+        counts = (f"{c.right}/{c.n} | {c.rule_right}/{c.rule_n} | {c.undecided}/{c.n} | {c.not_computed}/{c.n}"
+                  if c.n else "- | - | - | -")  # no test case on the page: nothing was scored
+        rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {counts} | {error} | {_number(m.largest_spread_points, 0)} | "
                     f"{m.n_jobs_finished} of {m.n_jobs} |")
     return rows
+
+
+def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[str]) -> list[str]:
+    """Return the page's lines on the test cases: headline, per category, per case and the series."""
+    lines = ["## Headline", ""]
+    for level in levels:
+        lines.append(f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level)}")
+    lines += ["", *count_rows(scores, levels, None)]
+    lines += ["", "## Per category", "", "A case counts once in each of its categories.", "",
+              *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
+    lines += ["", "## Test cases", "",
+              "| case | experiment — source | rule | " + " | ".join(LEVEL_WORDS[lv] for lv in levels)
+              + " | seed spread (points) | job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
+    for score in scores:
+        seen = " (outcome seen before the freeze)" if score.case.id in info.seen_before_freeze else ""
+        lines.append(f"| {score.case.id}{seen} | {_experiment(score)} | {_rule_cell(score)} | "
+                     + " | ".join(_level_cell(score, lv) for lv in levels)
+                     + f" | {_spread_cell(score, levels)} | {_duration(score.wall_seconds)} |")
+    if any(s.case.series for s in scores):
+        lines += ["", "## Series: terminal-alkene share of the alkenes", "",
+                  "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
+    return lines
 
 
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
@@ -257,25 +280,12 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              "mean over seeds, its spread the largest max − min of a share (points). The rule (anti-periplanar "
              "hydrogen, Zaitsev or Hofmann, textbook E2/SN2 call) is scored on the same cases, on its major product "
              "and its anti path; a case without a published major is not scored for it.", ""]
-    lines += ["## Headline", ""]
-    for level in levels:
-        lines.append(f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level)}")
-    lines += ["", *count_rows(scores, levels, None)]
-    lines += ["", "## Per category", "", "A case counts once in each of its categories.", "",
-              *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
-    lines += ["", "## Test cases", "",
-              "| case | experiment — source | rule | " + " | ".join(LEVEL_WORDS[lv] for lv in levels)
-              + " | seed spread (points) | job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
-    for score in scores:
-        seen = " (outcome seen before the freeze)" if score.case.id in info.seen_before_freeze else ""
-        lines.append(f"| {score.case.id}{seen} | {_experiment(score)} | {_rule_cell(score)} | "
-                     + " | ".join(_level_cell(score, lv) for lv in levels)
-                     + f" | {_spread_cell(score, levels)} | {_duration(score.wall_seconds)} |")
-    if any(s.case.series for s in scores):
-        lines += ["", "## Series: terminal-alkene share of the alkenes", "",
-                  "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
-    if models:
-        lines += ["", "## Base models compared", "",
+    if scores:
+        lines += _test_sections(info, scores, levels)
+    else:
+        lines += ["## Headline", "", "No product outcome is scored on this page: it holds calibration cases only "
+                  "(rate constants, isotope effects, Hammett rho), whose errors are listed below."]
+    if models:        lines += ["", "## Base models compared", "",
                   "Every candidate base model with finished jobs in this work folder, scored on the same cases and "
                   "seeds as this page (a model's unfinished jobs count as not computed). The model was frozen on "
                   "basicity and calibration physics before the test set was scored (see the model freeze above); "
