@@ -119,8 +119,7 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
         ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index + 1}, on C\u03b1 atom {lg.c_alpha_index + 1}"
          + (f", map number {lg.map_number}" if lg.map_number is not None else "")),
         ("base", f"{esc(job.base)}: {'bulky' if base.bulky else 'not bulky'} ({esc(base.bulky_reason)})"),
-        ("base model", f'<span class="base-model">{esc(model.model)}</span>'
-         + (f"; {esc(model.arrangements)}" if model.arrangements else "")),
+        ("base model", esc(model.model + (f"; {model.arrangements}" if model.arrangements else ""))),
         ("why this base model", esc(model.reason)),
         ("conformers kept", str(len(job.conformers)) + (
             f' (<a class="structure-link" href="{esc(href)}">conformers.sdf</a>)'
