@@ -53,8 +53,7 @@ class LabelParts:
 
 
 def label_parts(label: str | None) -> LabelParts | None:
-    """Return the parts of a model label written by ``basemodels.build_cluster``, or None for None or a label
-    this version cannot read."""
+    """Return the parts of a model label (as ``basemodels.build_cluster`` writes it), else None (None, unknown)."""
     if label is None:
         return None
     if label.strip() == BARE_LABEL:
@@ -84,8 +83,10 @@ def molecule_name(smiles: str) -> str | None:
 
 
 def is_default_cluster(label: str | None, reason: str | None) -> bool:
-    """Return True when a recorded model is the explicit-solvent default (``basemodels.DEFAULT_REASON``), not
-    a model the config asked for and not the default's bare case."""
+    """Return True when a recorded model (label, reason) is the explicit-solvent default, not one configured or bare.
+
+    The reason is the one ``basemodels.resolve_base_model`` wrote (``DEFAULT_REASON``); the label holds molecules.
+    """
     from elimscan.chem.basemodels import DEFAULT_REASON
 
     parts = label_parts(label)

@@ -28,13 +28,11 @@ DEFAULT_MODEL_SENTENCE = (
 
 @dataclass(frozen=True)
 class BaseModelWords:
-    """A job's base model as people read it: the model, why, its arrangements ('' for one) and whether it is the
-    explicit-solvent default."""
+    """A job's base model as people read it: the model, why it was chosen, and its arrangements ('' for one)."""
 
     model: str
     reason: str
     arrangements: str
-    default: bool
 
 
 def _count(n: int, smiles: str) -> str:
@@ -45,9 +43,11 @@ def _count(n: int, smiles: str) -> str:
 
 
 def model_words(label: str | None, where: bool = True) -> str | None:
-    """Return a model label in words without the base's name ('bare', 'K+ ion pair', '3 ethanol molecules (2
-    hydrogen-bonded to the basic atom, 1 in the second shell)'; ``where=False`` leaves the brackets out); the label
-    as written when this version cannot read it; None for None."""
+    """Return a model label in words without the base's name, the label as written if unreadable, None for None.
+
+    E.g. 'bare', 'K+ ion pair', '3 ethanol molecules (2 hydrogen-bonded to the basic atom, 1 in the second
+    shell)'; ``where=False`` leaves out the brackets that say where the molecules sit.
+    """
     if label is None:
         return None
     parts = label_parts(label)
@@ -64,8 +64,11 @@ def model_words(label: str | None, where: bool = True) -> str | None:
 
 
 def named_model_words(base: str, label: str | None) -> str:
-    """Return a base's model in words with its name: 'bare ethoxide', 'ethoxide with 3 ethanol molecules (...)',
-    'KOtBu as a K+ ion pair with 3 tert-butanol molecules (...)', or that the model was not recorded."""
+    """Return a base's model in words with its name, or that the model was not recorded.
+
+    E.g. 'bare ethoxide', 'ethoxide with 3 ethanol molecules (...)', 'KOtBu as a K+ ion pair with 3 tert-butanol
+    molecules (...)'.
+    """
     words = model_words(label)
     if words is None:
         return f"{base}, {MODEL_NOT_RECORDED}"
@@ -103,10 +106,13 @@ def base_model_words(result: RunResult, job: JobRecord) -> BaseModelWords:
     info = job.base_info
     label = (info.model if info is not None else None) or (record.model if record is not None else None)
     reason = (info.model_reason if info is not None else None) or (record.model_reason if record is not None else None)
-    return BaseModelWords(named_model_words(job.base, label), reason or REASON_NOT_RECORDED, arrangement_words(record),
-                          is_default_cluster(label, reason))
+    return BaseModelWords(named_model_words(job.base, label), reason or REASON_NOT_RECORDED, arrangement_words(record))
 
 
 def any_default_model(result: RunResult) -> bool:
-    """Return True when a finished (ok) job of the run was computed with the explicit-solvent default base model."""
-    return any(base_model_words(result, job).default for job in result.jobs if job.status == "ok")
+    """Return True when a finished (ok) job of the run was computed with the explicit-solvent default base model.
+
+    Read from each job's base_info alone (one pass over the jobs: every page of a large run asks).
+    """
+    return any(is_default_cluster(job.base_info.model, job.base_info.model_reason) for job in result.jobs
+               if job.status == "ok" and job.base_info is not None)
