@@ -16,6 +16,8 @@
 - ``basemodels``: a base as a cluster (ion pair, explicit hydrogen-bonded molecules); ``resolve_base_model``, the one
   rule for which model a base gets in a solvent (the config's, else the default); ``model_cluster``, the one
   builder for the calculation and the input check
+- ``modellabels``: a recorded model label read back into its parts (cation, explicit molecules and where they sit),
+  the usual names of those molecules, and whether a record holds the explicit-solvent default
 - ``substitution``: the SN2 product with Walden inversion
 - ``inputcheck``: every molecule of a config checked before any calculation (base models and geometry files too),
   and the overnight size warning

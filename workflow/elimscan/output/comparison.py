@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from elimscan.analysis.comparison import SubstrateComparison
 from elimscan.analysis.headline import SN2, UNDECIDED
 from elimscan.chem.alkenenames import alkene_description
+from elimscan.output.basemodelwords import model_words
 from elimscan.output.headline import STATE_WORDS, gap_symbol, ratio_text
 
 #: the scores as shown (undecided counts as not right, in its own word)
@@ -45,7 +46,7 @@ def header_rows(comparison: SubstrateComparison) -> list[Row]:
     """Return the heading rows: base, base model and solvent of each job."""
     cols = comparison.columns
     return [Row("base", "base", tuple(Cell(c.base) for c in cols)),
-            Row("model", "base model", tuple(Cell(c.base_model or "-") for c in cols)),
+            Row("model", "base model", tuple(Cell(model_words(c.base_model, where=False) or "-") for c in cols)),
             Row("solvent", "solvent", tuple(Cell(c.solvent) for c in cols))]
 
 

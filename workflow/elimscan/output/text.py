@@ -7,6 +7,7 @@ import unicodedata
 from elimscan.analysis.comparison import SubstrateComparison, compare_substrates
 from elimscan.analysis.headline import job_headline
 from elimscan.chem.alkenenames import alkene_description
+from elimscan.output.basemodelwords import DEFAULT_MODEL_SENTENCE, BaseModelWords, any_default_model, base_model_words
 from elimscan.output.comparison import comparison_text
 from elimscan.output.headline import headline_lines
 from elimscan.results.documents import RunResult, SeriesRecord
@@ -52,10 +53,17 @@ def r_squared_text(r_squared: float | None) -> str:
     return "undefined (all barriers equal)" if r_squared is None else f"{r_squared:.3f}"
 
 
-def job_table(job: JobRecord) -> list[str]:
+def base_model_lines(model: BaseModelWords) -> list[str]:
+    """Return the lines naming a job's base model, its arrangements (spread in kcal/mol) and why it was chosen."""
+    return [f"  base model: {printable(model.model)}" + (f"; {model.arrangements}" if model.arrangements else ""),
+            f"    why: {printable(model.reason)}"]
+
+
+def job_table(job: JobRecord, model: BaseModelWords | None = None) -> list[str]:
     """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls.
 
-    Atoms are numbered from 1; SMILES are never cut: a long one pushes its row's columns right.
+    Atoms are numbered from 1; SMILES are never cut: a long one pushes its row's columns right. With ``model``
+    the base model follows the leaving group and the base.
     """
     lines = [f"job {job.job_id}: {job.status}"]
     if job.status == "ok" and job.rule is not None:
@@ -68,6 +76,8 @@ def job_table(job: JobRecord) -> list[str]:
     base = job.base_info
     lines.append(f"  leaving group {lg.label} (atom {lg.leaving_atom_index + 1}, C-alpha atom {lg.c_alpha_index + 1}); "
                  f"base {'bulky' if base.bulky else 'not bulky'} ({base.bulky_reason}); {len(job.conformers)} conformers")
+    if model is not None:
+        lines.extend(base_model_lines(model))
     lines.append(f"  {'class':<12}{'degeneracy':>10}{'anti penalty':>13}{'syn penalty':>12}"
                  f"{'dE anti':>9}{'dE syn':>9}  {'rule status':<16}anti product")
     for b in job.beta_hydrogens:
@@ -139,13 +149,15 @@ def summary_table(result: RunResult) -> str:
         lines.append(f"{m.role:<10}{m.name[:21]:<22}{(m.formula or '-'):<12}{m.status:<8}{energy:>16}")
     for job in result.jobs:
         lines.append("")
-        lines.extend(job_table(job))
+        lines.extend(job_table(job, base_model_words(result, job)))
     for series in result.series:
         lines.append("")
         lines.extend(series_table(series))
     for comparison in run_comparisons(result):
         lines.append("")
         lines.extend(printable(line) for line in comparison_text(comparison))  # sources are user-given text
+    if any_default_model(result):
+        lines += ["", DEFAULT_MODEL_SENTENCE]
     s = result.summary
     lines.append(f"\n{s.n_jobs_ok}/{s.n_jobs} jobs ok, {s.n_jobs_failed} failed")
     lines.extend(trouble_lines(s.trouble))

@@ -3,9 +3,10 @@
 Everything is inline in the single page of a small run: plots as SVG, the substrate depiction as SVG, product depictions as base64 PNG, a
 few lines of CSS (with print rules) and of JavaScript (sortable index table). A Content-Security-Policy
 forbids any network load. Every string from the user or from results.json is escaped with ``html.escape``.
-Each module imports only those above it in this list (and ``plots``, ``tables``, ``text``):
+Each module imports only those above it in this list (and ``plots``, ``tables``, ``text``, ``basemodelwords``):
 
-- ``words``: the fixed prose (caution, "Reading the numbers") and the method lines
+- ``words``: the fixed prose (caution, "Reading the numbers", with the sentence on the default base model where a job
+  used it) and the method lines
 - ``style``: the CSS, the sorting script and the Content-Security-Policy
 - ``cells``: escaping, numbers as shown, table cells, inline SVG figures, section anchors
 - ``depictions``: RDKit pictures: the substrate (SVG) with its classes labelled, each alkene (PNG)

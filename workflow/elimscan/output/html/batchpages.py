@@ -16,7 +16,7 @@ from elimscan.output.html.cells import barrier_text, esc, percent_text
 from elimscan.output.html.jobsection import job_section
 from elimscan.output.html.structures import VIEWER_SCRIPT, StructureLinks
 from elimscan.output.html.style import CSP, SCRIPT, STYLE
-from elimscan.output.html.words import CAUTION, MEANING, barrier_points, run_method_line
+from elimscan.output.html.words import CAUTION, reading_points, run_method_line
 from elimscan.output.plots.jobplots import NEWMAN_TARGETS_DEG, drawn_kinds, newman_plot_name, plot_name
 from elimscan.output.tables import job_solvent
 from elimscan.results.documents import RunResult
@@ -93,7 +93,7 @@ def render_job_page(result: RunResult, job: JobRecord, plot_files: frozenset[str
         f'<aside class="caution" id="caution"><strong>Caution.</strong> {esc(CAUTION)}</aside>',
         job_section(result, job, image_assets(result, job, plot_files), {}, links),
         '<details><summary>Reading the numbers</summary><ul class="meaning">'
-        + "".join(f"<li>{esc(m)}</li>" for m in (*MEANING, *barrier_points(result))) + "</ul></details>",
+        + "".join(f"<li>{esc(m)}</li>" for m in reading_points(result)) + "</ul></details>",
         f"<script>{SCRIPT}{VIEWER_SCRIPT}</script></body></html>",
     ]
     return "\n".join(parts) + "\n"
@@ -151,7 +151,7 @@ def render_index(result: RunResult) -> str:
         '<th class="num">H classes</th></tr></thead>\n<tbody>\n'
         + "\n".join(_index_row(result, j) for j in result.jobs) + "\n</tbody></table>",
         '<h2 id="meaning">Reading the numbers</h2><ul class="meaning">'
-        + "".join(f"<li>{esc(m)}</li>" for m in (*MEANING, *barrier_points(result))) + "</ul>",
+        + "".join(f"<li>{esc(m)}</li>" for m in reading_points(result)) + "</ul>",
         f'<footer class="note"><p>Made by elimscan {esc(p.program_version)} from results.json '
         f"(schema {esc(result.schema_name)} {esc(result.schema_version)}).</p></footer>",
         f"<script>{SCRIPT}{FILTER_SCRIPT}</script></body></html>",

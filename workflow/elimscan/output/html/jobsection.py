@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping
 
+from elimscan.output.basemodelwords import base_model_words
 from elimscan.output.html.boxes import headline_box, substitution_box
 from elimscan.output.html.cells import anchor, esc, figure_block, inline_svg
 from elimscan.output.html.depictions import substrate_svg
@@ -111,12 +112,15 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
     smiles = next((m.smiles for m in result.molecules if m.role == "substrate" and m.name == job.substrate), None)
     smiles = smiles or next((s.smiles for s in result.config.substrates if s.name == job.substrate), "")
     lg, base, rule = job.leaving_group, job.base_info, job.rule
+    model = base_model_words(result, job)
     depiction = substrate_svg(smiles, job)
     facts = [
         ("substrate SMILES", f'<span class="smiles">{esc(smiles)}</span>'),
         ("leaving group", f"{esc(lg.label)} ({esc(lg.kind)}), atom {lg.leaving_atom_index + 1}, on C\u03b1 atom {lg.c_alpha_index + 1}"
          + (f", map number {lg.map_number}" if lg.map_number is not None else "")),
         ("base", f"{esc(job.base)}: {'bulky' if base.bulky else 'not bulky'} ({esc(base.bulky_reason)})"),
+        ("base model", esc(model.model + (f"; {model.arrangements}" if model.arrangements else ""))),
+        ("why this base model", esc(model.reason)),
         ("conformers kept", str(len(job.conformers)) + (
             f' (<a class="structure-link" href="{esc(href)}">conformers.sdf</a>)'
             if links is not None and (href := links.href(job.conformer_file)) else "")),

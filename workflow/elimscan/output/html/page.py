@@ -9,7 +9,7 @@ from elimscan.output.html.jobsection import job_section
 from elimscan.output.html.runsections import comparison_section, index_table, series_section
 from elimscan.output.html.structures import VIEWER_SCRIPT, StructureLinks
 from elimscan.output.html.style import CSP, SCRIPT, STYLE
-from elimscan.output.html.words import CAUTION, MEANING, barrier_points, run_method_line
+from elimscan.output.html.words import CAUTION, reading_points, run_method_line
 from elimscan.output.plots.figures import figure_svg
 from elimscan.output.plots.jobplots import drawn_kinds, job_figures, plot_name
 from elimscan.results.documents import RunResult
@@ -47,7 +47,7 @@ def render_report(result: RunResult, assets: Mapping[str, str], links: Structure
         f'<p class="meta">Command: <code>{esc(p.command_line)}</code></p></header>',
         f'<aside class="caution" id="caution"><strong>Caution.</strong> {esc(CAUTION)}</aside>',
         '<h2 id="meaning">Reading the numbers</h2><ul class="meaning">'
-        + "".join(f"<li>{esc(m)}</li>" for m in (*MEANING, *barrier_points(result))) + "</ul>",
+        + "".join(f"<li>{esc(m)}</li>" for m in reading_points(result)) + "</ul>",
     ]
     if result.summary.trouble:
         parts.append('<h2 id="trouble">Numerical trouble recorded as data</h2><ul class="meaning">'

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from elimscan.config import SolventConfig
+from elimscan.output.basemodelwords import DEFAULT_MODEL_SENTENCE, any_default_model
 from elimscan.output.plots.figures import BARRIER_SHIFT_KCAL_MOL
 from elimscan.output.plots.paths import has_barriers
 from elimscan.output.tables import job_solvent
@@ -96,6 +97,16 @@ def run_method_line(result: RunResult) -> str:
     if len(solvents) <= 1:
         return method_line(result, next(iter(solvents), None))
     return method_line(result) + "; the jobs ran in several solvents: each job's method line names its own"
+
+
+def base_model_points(result: RunResult) -> tuple[str, ...]:
+    """Return the point of "Reading the numbers" on the explicit-solvent default base model, when a job used it."""
+    return (DEFAULT_MODEL_SENTENCE,) if any_default_model(result) else ()
+
+
+def reading_points(result: RunResult) -> tuple[str, ...]:
+    """Return every point of "Reading the numbers": the fixed ones, the barriers' and the base model's."""
+    return (*MEANING, *barrier_points(result), *base_model_points(result))
 
 
 def barrier_points(result: RunResult) -> tuple[str, ...]:
