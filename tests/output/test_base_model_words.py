@@ -16,13 +16,12 @@ from pathlib import Path
 
 import pytest
 
-from elimscan.cli import main
 from elimscan.config.molecules import DEFAULT_EXPLICIT_MOLECULES
 from elimscan.output.basemodelwords import DEFAULT_MODEL_SENTENCE, MODEL_NOT_RECORDED, REASON_NOT_RECORDED
 from elimscan.output.html.page import render_report
 from elimscan.output.text import summary_table
 from elimscan.results.documents import RunResult
-from toyjobs import TOY_SETTINGS
+from toyjobs import TOY_SETTINGS, toy_output
 
 from reportfixture import blank_plots, raw, words_of
 
@@ -41,12 +40,7 @@ DEFAULT_JOB, BARE_JOB = "chloroethane__NaOEt", "chloroethane__ethoxide"
 @pytest.fixture(scope="module")
 def run(tmp_path_factory) -> Path:
     """Return the output folder of the two-job toy run (results.json, report.html)."""
-    folder = tmp_path_factory.mktemp("model-words")
-    (folder / "run.yaml").write_text(CONFIG)
-    code = main(["run", str(folder / "run.yaml"), "--out", str(folder / "out"), "--engine", "toyjobs:toy_engine",
-                 "-q"])
-    assert code == 0
-    return folder / "out"
+    return toy_output("run", CONFIG, tmp_path_factory.mktemp("model-words"))
 
 
 def _doc(out: Path) -> dict:

@@ -19,7 +19,6 @@ import pytest
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.text import Text
 
-from elimscan.cli import main
 from elimscan.output.files import build_report_files, read_result
 from elimscan.output.html.batchpages import job_page_name, render_index
 from elimscan.output.html.structures import StructureLinks, saddle_views
@@ -27,7 +26,7 @@ from elimscan.output.plots.character import character_figure
 from elimscan.output.plots.profile import profile_figure, profile_lines
 from elimscan.pipeline.artifacts import xyz_bytes
 from elimscan.results.records import SaddleCharacterRecord
-from toyjobs import TOY_SETTINGS
+from toyjobs import TOY_SETTINGS, toy_output
 
 from reportfixture import PRIMARY, browser, result
 
@@ -51,12 +50,7 @@ JOB_PAGE_MAX_BYTES = 60_000
 @pytest.fixture(scope="module")
 def batch(tmp_path_factory) -> Path:
     """Return the output folder of a two-job toy batch with E2 and SN2 paths."""
-    folder = tmp_path_factory.mktemp("structures")
-    (folder / "batch.yaml").write_text(CONFIG)
-    code = main(["batch", str(folder / "batch.yaml"), "--out", str(folder / "out"), "--engine", "toyjobs:toy_engine",
-                 "-q"])
-    assert code == 0
-    return folder / "out"
+    return toy_output("batch", CONFIG, tmp_path_factory.mktemp("structures"))
 
 
 def _blocks(job):

@@ -242,3 +242,17 @@ class _HotPointEngine(ToyJobEngine):
 def hot_point_engine(method) -> ToyJobEngine:
     """Engine factory of the retry-temperature tests: ELIMSCAN_TOY_HOT_ON=word (see ``_HotPointEngine``)."""
     return _HotPointEngine(os.environ.get("ELIMSCAN_TOY_HOT_ON") or None)
+
+
+def toy_output(command: str, config_text: str, folder):
+    """Return the output folder (``folder``/out) of ``elimscan run`` or ``batch`` on config_text with the toy engine."""
+    from pathlib import Path
+
+    from elimscan.cli import main
+
+    folder = Path(folder)
+    (folder / f"{command}.yaml").write_text(config_text)
+    code = main([command, str(folder / f"{command}.yaml"), "--out", str(folder / "out"), "--engine",
+                 "toyjobs:toy_engine", "-q"])
+    assert code == 0, f"toy {command} exited {code}"
+    return folder / "out"
