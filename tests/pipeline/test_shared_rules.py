@@ -146,3 +146,19 @@ def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(mo
     reoptimise = key({"enabled": True, "saddles": "reoptimise"})
     assert reoptimise != single
     assert key({"enabled": True, "saddles": "reoptimise", "reoptimise_max_steps": 7}) != reoptimise
+
+
+def test_carrying_the_bfgs_hessian_along_the_path_keys_apart_only_when_on():
+    """paths.carry_hessian at false does what the driven path did before it existed (KEY_NEUTRAL), so a job keys as
+    in the pinned test above; on, the path's numbers move, so its key must too."""
+    from elimscan.config import BaseConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline.document import job_key
+
+    def key(**paths) -> str:
+        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), paths=PathConfig(**paths))
+        return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                       SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
+
+    assert key(carry_hessian=False) == key()
+    assert key(carry_hessian=True) != key()

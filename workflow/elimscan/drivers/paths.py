@@ -94,7 +94,8 @@ def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int,
 
     With ``settings.loose_fmax_eV_per_A`` every point is first relaxed to that force, then the points within
     ``settings.top_window_kcal_mol`` of the highest are relaxed on to ``optimizer.fmax_eV_per_A`` (``tighten_top``);
-    past the top the path may go on several steps at a time (``settings.after_top_stride``).
+    past the top the path may go on several steps at a time (``settings.after_top_stride``). With
+    ``settings.carry_hessian`` each point of the first pass starts from the BFGS Hessian the one before it ended with.
     ``on_point`` hears each point of the first pass as it is made.
     """
     coordinate = reactive.coordinate()
@@ -104,13 +105,15 @@ def drive_path(complex_: ComplexResult, reactive: Reactive, engine, charge: int,
     tight = optimizer.model_copy(update={"name": BFGS})
     loose = settings.loose_fmax_eV_per_A
     first = tight if loose is None else tight.model_copy(update={"fmax_eV_per_A": max(loose, tight.fmax_eV_per_A)})
-    # every point starts from ASE's fresh Hessian: handing the previous point's Hessian on took 62 % fewer
-    # gradients but let the base settle in another orientation at the top of one demo path (0.43 kcal/mol higher)
+    # by default every point starts from ASE's fresh Hessian: on an all-tight path, handing the previous point's
+    # Hessian on took 62 % fewer gradients but let the base settle in another orientation at the top of one demo
+    # path (0.43 kcal/mol higher); settings.carry_hessian hands it on in the first pass
     spent, k, hessians = 0, 0, [None]
     while k < settings.points:
         k = min(k + _stride(points, settings), settings.points)
         target = q0 + k * settings.step_A
-        result = relax(points[-1].atoms, calc, _path_held(coordinate, target, reactive, hold_dihedral_deg), first)
+        result = relax(points[-1].atoms, calc, _path_held(coordinate, target, reactive, hold_dihedral_deg), first,
+                       start_hessian=hessians[-1] if settings.carry_hessian else None)
         spent += result.n_gradients
         point = PathPoint(target, result.energy_hartree, result.atoms, result.converged, reactive.distances(result.atoms.positions))
         points.append(point)
