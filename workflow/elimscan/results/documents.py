@@ -37,7 +37,8 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: jobs[].base_info.model_reason (why a base got its model); config bases[].model.arrangements, and
 #: bases[].model.explicit may be null (the per-solvent default).
 #: 0.8.0 added optional fields only: the DFT saddle rung (config dft.saddles and dft.reoptimise_*; per path
-#: dft.saddle; jobs[].dft.saddles, n_saddles_reoptimised, n_saddles_verified, n_gradients).
+#: dft.saddle; jobs[].dft.saddles, n_saddles_reoptimised, n_saddles_verified, n_gradients) and the config key
+#: paths.carry_hessian.
 RESULT_SCHEMA_VERSION = "0.8.0"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
