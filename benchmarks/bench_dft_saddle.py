@@ -7,12 +7,17 @@ Reads an elimscan job folder (``saddle-<path>.xyz``, ``base-*.xyz``, ``conformer
 2. relaxations of the free substrate and base (the DFT zero);
 3. the saddle re-optimised with Sella from the GFN2-xTB Hessian, its analytic Hessian and the both-way check
    (``drivers.saddles.refine_and_verify``), with gradients and seconds as it goes.
+``--gradient-only`` stops after one DFT energy + gradient of the GFN2-xTB saddle and prints its seconds and SCF
+cycles (the unit cost of the rung; run it under ``/usr/bin/time -v`` for the peak memory). ``--basis`` swaps the
+basis of the level for a cost comparison only: it bypasses DftConfig, so it also takes def2-svp, which the config
+refuses for anionic bases.
 Prints one line per event (flushed), so a log shows partial numbers if the run is stopped.
 """
 
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import glob
 import os
 import time
@@ -61,6 +66,9 @@ def main() -> None:
     parser.add_argument("--skip-reactant-relax", action="store_true")
     parser.add_argument("--reactant-energies", type=float, nargs=2, metavar=("SUBSTRATE", "BASE"),
                         help="DFT single points of the GFN2-xTB substrate and base from an earlier run (hartree)")
+    parser.add_argument("--gradient-only", action="store_true",
+                        help="one DFT energy + gradient of the GFN2-xTB saddle, then stop")
+    parser.add_argument("--basis", help="basis for a cost comparison only (bypasses DftConfig; e.g. def2-svp)")
     args = parser.parse_args()
     saddle_gfn2 = ase.io.read(os.path.join(args.folder, f"saddle-{args.path}.xyz"), index=0)
     base = ase.io.read(glob.glob(os.path.join(args.folder, "base-*.xyz"))[0], index=0)
@@ -68,6 +76,8 @@ def main() -> None:
     r = Reactive(*map(int, args.reactive.split(",")))
     solvent = SolventConfig(model="alpb", name=args.solvent)
     level = dft_level(DftConfig(enabled=True), solvent)
+    if args.basis:
+        level = dataclasses.replace(level, basis=args.basis.strip().lower())
     dft = DftEngine(level, threads=1)
     config0 = DftConfig(enabled=True, saddles="reoptimise")
     say(f"level {dft.label}; complex {saddle_gfn2.get_chemical_formula()} ({len(saddle_gfn2)} atoms)")
@@ -79,6 +89,14 @@ def main() -> None:
         say(f"single point {what}: {e:.6f} hartree, {time.perf_counter() - start:.1f} s (energy + gradient)")
         return e
 
+    if args.gradient_only:
+        start, cpu = time.perf_counter(), time.process_time()
+        point = dft.single_point(saddle_gfn2, args.charge, 1, name="GFN2-xTB saddle")
+        _, trace = dft.trace[-1]
+        say(f"one gradient of the GFN2-xTB saddle: E {point.energy_hartree:.6f} hartree, {trace.scf_cycles} SCF "
+            f"cycles (retried {trace.retried}), {time.perf_counter() - start:.1f} s wall, "
+            f"{time.process_time() - cpu:.1f} s CPU, largest force {np.abs(point.forces_eV_per_A).max():.3f} eV/A")
+        return
     if args.reactant_energies:
         e_sub, e_base = args.reactant_energies
         say(f"single points of the GFN2-xTB substrate and base given: {e_sub:.6f}, {e_base:.6f} hartree")
