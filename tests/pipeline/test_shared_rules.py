@@ -110,7 +110,8 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     A change that does change a job's numbers (a default, a library version) must change keys: then update this
     value and say why in the commit. History: f89e676d… from commit 607da3f (the frozen-model benchmark's first
     batches); 847460fe… since the loose-first driven path became the default (merge of branch pathcost: barriers
-    within 0.06 kcal/mol on bench_paths, but numbers move, so keys must).
+    within 0.06 kcal/mol on bench_paths, but numbers move, so keys must); 5ddf9964... since key format 2 (geminal
+    hydrogens keep their perceived labels: products of open-chain CH2 hydrogens were E/Z-swapped in some conformers).
     """
     from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.pipeline.document import job_key
@@ -119,7 +120,7 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
                        bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),))
     key = job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0], SolventConfig(model="alpb", name="ethanol"),
                   {"elimscan": "test"})
-    assert key == "847460fe54664786dc186247e13dbeef24bdfa313d6d5c3118b9a633ab231130"
+    assert key == "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
     more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
     assert job_key(config, {"name": "s", "smiles": "CCCl"}, more, SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != key  # three arrangements can change the numbers
@@ -127,8 +128,9 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
 
 def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
     """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
-    points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162 (PySCF's version
-    pinned to 'test' here so the value does not follow the installed library). Re-optimising keys differently."""
+    points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
+    format 2 (PySCF's version pinned to 'test' here so the value does not follow the installed library).
+    Re-optimising keys differently."""
     import elimscan.pipeline.document as document
     from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 
@@ -141,7 +143,7 @@ def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(mo
                                 SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
 
     single = key({"enabled": True})
-    assert single == "bc6a9dbfd3ec5bce3ae7599f203a0fe4b98a130be44a3b9ca0b29a82d84efe42"
+    assert single == "afbc3fb93a9f97b25e1486c0ee556e52e2a96b56384f6559800c083cb4fa15a8"
     assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
     reoptimise = key({"enabled": True, "saddles": "reoptimise"})
     assert reoptimise != single

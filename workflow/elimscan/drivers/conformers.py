@@ -18,6 +18,7 @@ from elimscan.config import ConformerConfig, OptimizerConfig
 from elimscan.errors import ElimscanError, StructureError
 from elimscan.geometry import kabsch_rmsd, ring_torsions_deg, six_ring_shape
 from elimscan.drivers.relax import relax
+from elimscan.chem.geminal import anchor_neighbours, geminal_pairs, match_geminal_labels
 from elimscan.chem.structures import mol_to_atoms
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
@@ -171,10 +172,13 @@ def build_ensemble(
     extra: Sequence[tuple[Atoms, str]] = (),
     name: str = "substrate",
     on_progress: Callable[[int, int, str], None] | None = None,
+    c_alpha: int | None = None,
 ) -> ConformerEnsemble:
     """Return the GFN2-xTB conformer ensemble of ``mol`` (explicit H) with ``engine`` passed in.
 
-    ``extra`` adds user geometries (same atom order) with a source label. Energies in hartree.
+    ``extra`` adds user geometries (same atom order) with a source label. Energies in hartree. When ``mol`` has a
+    conformer (the perceived structure), every candidate's geminal hydrogens are given that conformer's labels,
+    as seen from ``c_alpha`` (``perceived_labels``): the products perception named for each hydrogen stay its own.
     """
     work, sources = embed_conformers(mol, seed, settings)
     rings = saturated_six_rings(mol)
@@ -182,6 +186,8 @@ def build_ensemble(
     ordinary = [s for s in sources if not s[1].startswith("chair")]
     chosen = chairs + ordinary[: max(settings.max_relaxations - len(chairs), 1)]
     candidates = [(mol_to_atoms(work, cid), source) for cid, source in chosen] + list(extra)
+    if mol.GetNumConformers():
+        candidates = [(perceived_labels(atoms, mol, c_alpha), source) for atoms, source in candidates]
     relaxed: list[tuple[Atoms, float, str]] = []
     failures: list[str] = []
     first_error: ElimscanError | None = None
@@ -199,6 +205,16 @@ def build_ensemble(
     if not relaxed:  # keep the kind of the failure (e.g. scf_not_converged) for the record
         raise type(first_error)(f"{name}: none of {len(candidates)} conformers could be relaxed; first failure: {first_error}") from first_error
     return ConformerEnsemble(_deduplicate(relaxed, rings, HeavyAtomMatcher(mol), settings), tuple(failures))
+
+
+def perceived_labels(atoms: Atoms, mol: Chem.Mol, c_alpha: int | None = None) -> Atoms:
+    """Return a copy of ``atoms`` whose geminal hydrogens carry the labels of ``mol``'s first conformer (Å), as
+    seen from C-alpha when its index is given (``geminal.match_geminal_labels``)."""
+    fixed = atoms.copy()
+    neighbours = anchor_neighbours(mol, c_alpha) if c_alpha is not None else None
+    fixed.positions, _ = match_geminal_labels(atoms.positions, mol.GetConformer().GetPositions(), geminal_pairs(mol),
+                                              None if neighbours is None else (c_alpha, neighbours))
+    return fixed
 
 
 def _deduplicate(relaxed: list[tuple[Atoms, float, str]], rings: Sequence[tuple[int, ...]], matcher: HeavyAtomMatcher,

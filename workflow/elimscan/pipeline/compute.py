@@ -167,7 +167,7 @@ def analyze_substrate(item: SubstrateConfig, config: RunConfig, engine,
     if meter is not None:
         meter.enter(f"conformer search, {len(substrate.beta_classes)} beta-H classes")
     ensemble = build_ensemble(substrate.mol, engine, charge, item.multiplicity, config.seed, config.conformers,
-                              config.optimizer, extra=extra, name=name)
+                              config.optimizer, extra=extra, name=name, c_alpha=substrate.leaving_group.c_alpha_index)
     rings = saturated_six_rings(substrate.mol)
     lg = substrate.leaving_group
     per_class = []

@@ -30,6 +30,12 @@ KEY_NEUTRAL: dict[str, object] = {"base.model.arrangements": 1, "settings.paths.
 DFT_SINGLE_POINTS = "single-point"
 
 
+#: raised when finished jobs must not be reused although no setting changed: 2 since conformers keep the perceived
+#: labels of geminal hydrogens (chem/geminal.py): before, a CH2's two hydrogens could trade places in a fresh
+#: embedding, and a path was computed for one hydrogen under the other's product (E for Z)
+KEY_FORMAT = 2
+
+
 def _without_neutral(document: dict) -> dict:
     """Return the key document without the KEY_NEUTRAL settings that sit at their neutral value."""
     for dotted, neutral in KEY_NEUTRAL.items():
@@ -95,7 +101,7 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
                                if name != "saddles" and not name.startswith("reoptimise_")}
     else:  # tier off: keys stay those of configs without a dft block
         settings.pop("dft", None)
-    document = _without_neutral({"key_format": 1, "settings": settings, "substrate": substrate,
+    document = _without_neutral({"key_format": KEY_FORMAT, "settings": settings, "substrate": substrate,
                                  "base": keyed_base(base, solvent), "versions": versions})
     return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
