@@ -152,6 +152,27 @@ def alkene_product(
         rdMolTransforms.SetDihedralDeg(conf, h_index, c_beta, c_alpha, x, float(dihedral_deg))
         achieved = rdMolTransforms.GetDihedralDeg(conf, h_index, c_beta, c_alpha, x)
         geometry_note = ""
+    return _read_alkene(work, h_index, c_beta, c_alpha, leaving, achieved, geometry_note)
+
+
+def alkene_at_geometry(mol: Chem.Mol, positions, h_index: int, c_beta: int, c_alpha: int,
+                       leaving: LeavingGroup) -> Alkene:
+    """Return the alkene formed when H and X leave, E/Z and R/S read from ``positions`` (Å, the substrate's atoms
+    first, in ``mol``'s order; e.g. a path's end or saddle) without moving an atom."""
+    work = Chem.Mol(mol, False, mol.GetConformers()[0].GetId()) if mol.GetNumConformers() else Chem.Mol(mol)
+    if not work.GetNumConformers():
+        work.AddConformer(Chem.Conformer(work.GetNumAtoms()), assignId=True)
+    conf = work.GetConformer()
+    for index in range(work.GetNumAtoms()):
+        conf.SetAtomPosition(index, [float(v) for v in positions[index]])
+    achieved = rdMolTransforms.GetDihedralDeg(conf, h_index, c_beta, c_alpha, leaving.leaving_atom_index)
+    return _read_alkene(work, h_index, c_beta, c_alpha, leaving, achieved, "")
+
+
+def _read_alkene(work: Chem.Mol, h_index: int, c_beta: int, c_alpha: int, leaving: LeavingGroup, achieved: float,
+                 geometry_note: str) -> Alkene:
+    """Return the alkene of ``work``'s conformer once H and X leave (E/Z and R/S from that geometry)."""
+    x = leaving.leaving_atom_index
     conf_id = work.GetConformer().GetId()
     for atom in work.GetAtoms():
         atom.SetAtomMapNum(0)

@@ -21,7 +21,8 @@ from elimscan.errors import GradientBudgetError
 from elimscan.geometry import dihedral_deg, distance
 from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, NOT_TO_PRODUCTS, OTHER_HYDROGEN, SN2_LIKE,
-                                    UNFINISHED_ABOVE, UNFINISHED_MAXIMUM, budget_spent_flag, no_barrier_reason)
+                                    UNFINISHED_ABOVE, UNFINISHED_MAXIMUM, WRONG_ISOMER, budget_spent_flag,
+                                    no_barrier_reason)
 from elimscan.drivers.budget import (STAGE_BASE_H, STAGE_COMPLEX, STAGE_END, STAGE_NEB, STAGE_PATH, STAGE_SADDLE,
                                      BudgetSpent, GradientBudget, path_budget)
 from elimscan.drivers.complexes import ComplexResult, Reactive, SubstitutionReactive, build_complex, place_backside
@@ -67,9 +68,9 @@ class PathResult:
 
     @property
     def reaches_products(self) -> bool | None:
-        """Return False when the path was shown not to reach its products, None when its gradient budget stopped
-        it before that was known, else True."""
-        if NOT_TO_PRODUCTS in self.flags:
+        """Return False when the path was shown not to reach its products (or to form another isomer than the
+        one it was computed for), None when its gradient budget stopped it before that was known, else True."""
+        if NOT_TO_PRODUCTS in self.flags or any(flag.startswith(WRONG_ISOMER) for flag in self.flags):
             return False
         return None if self.stopped_stage is not None else True
 

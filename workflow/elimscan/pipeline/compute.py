@@ -30,6 +30,7 @@ from elimscan.drivers.budget import GradientBudget
 from elimscan.drivers.freeenergy import minimum_hessian
 from elimscan.drivers.paths import PathResult, compute_path, compute_substitution_path
 from elimscan.pipeline.dfttier import job_dft, path_reactive
+from elimscan.pipeline.productcheck import checked_isomer
 from elimscan.pipeline.outcome import (DETAIL, SUBSTITUTION_KEY, BaseAnalysis, ClassAnalysis, JobPaths, ProgressCallback,
                                        RelaxedMolecule, RunOutcome, SubstrateAnalysis)
 from elimscan.results.failures import error_info
@@ -305,11 +306,12 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
                     name = (f"{analysis.name} {b.class_id} {approach}" + (f" start {k}" if k else "")
                             + (f" orientation {rank}" if rank else ""))
                     try:
-                        tried.append(compute_path(
+                        tried.append(checked_isomer(compute_path(
                             start.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, approach, engine,
                             charge, multiplicity, config.paths, config.optimizer,
                             tuple(i for i in all_h if i != b.representative_index),
-                            name=name, orientation_rank=rank, on_stage=_stage_reporter(on_progress, name)))
+                            name=name, orientation_rank=rank, on_stage=_stage_reporter(on_progress, name)),
+                            analysis.substrate, b, product.smiles))
                     except ElimscanError as err:
                         failure = failure or error_info(err)
             paths[(b.class_id, approach)] = (lowest_of_starts(tried, config.paths.combine, config.method.temperature_K)

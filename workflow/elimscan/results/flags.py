@@ -13,6 +13,17 @@ UNFINISHED_MAXIMUM = ("the path maximum is an unfinished relaxation (optimizer.m
 #: barrier of this channel and is left out of every product share and of the E2 : SN2 split
 NOT_TO_PRODUCTS = ("the path does not reach its products (its freely relaxed end is not the product side): its top "
                    "is not a barrier and is left out of every share")
+#: start of the flag of a path whose own geometry forms another alkene isomer than the one it was computed for (the
+#: isomers and WRONG_ISOMER_TAIL follow, ``wrong_isomer_flag``): such a path does not reach its products
+WRONG_ISOMER = "the path forms"
+WRONG_ISOMER_TAIL = "its top is not a barrier of that product and is left out of every share"
+
+
+def wrong_isomer_flag(formed: str, named: str) -> str:
+    """Return the flag of a path whose geometry forms ``formed`` (SMILES) where ``named`` was expected."""
+    return f"{WRONG_ISOMER} {formed}, not the {named} it was computed for: {WRONG_ISOMER_TAIL}"
+
+
 #: start of the flag of a path stopped by its gradient budget (paths.gradient_budget_per_atom); the stage that
 #: ran long, the gradients of each stage and BUDGET_STOPPED follow (``budget_spent_flag``)
 BUDGET_SPENT = "gradient budget spent"
