@@ -204,7 +204,8 @@ def test_a_single_point_under_a_sufficient_limit_runs_and_gives_pyscf_s_own_ener
     from pyscf import dft, gto
 
     level = _level(2000.0, eps=78.36)
-    assert build_scf(WATER, 0, 1, level).mol.max_memory == 800
+    mf = build_scf(WATER, 0, 1, level)
+    assert mf.mol.max_memory == mf.max_memory == mf.with_df.max_memory == mf.with_solvent.max_memory == 800
     point = single_point(WATER, 0, 1, level, name="water")
     mol = gto.M(atom=[(s, tuple(p)) for s, p in zip(WATER.get_chemical_symbols(), WATER.positions)], basis="sto-3g",
                 unit="Angstrom", verbose=0)

@@ -15,8 +15,8 @@ auxiliary functions of def2-universal-jkfit, peaked at 8.7 GB with PySCF's memor
   ``POINTS_PER_ATOM`` = 100 covers the 72-100 points per atom counted on the 16-, 19- and 43-atom complexes;
 * ``factor``: 1.0 for a gradient (the formula gives 9.0 GB at the calibration point, 4 % above the 8.7 GB
   measured), 0.9 for a single point (1.9 GB for the 19-atom 2-chlorobutane + methoxide complex at def2-SVPD,
-  measured 1.8 GB), 4.0 for an analytic Hessian (only a lower bound is measured: above 3.4 GB for a 16-atom saddle,
-  2.4 times its gradient estimate, when it was stopped).
+  measured 1.8 GB), 4.0 for an analytic Hessian (only a lower bound is measured: above 3.4 GB for a 16-atom saddle
+  at def2-SVPD when it was stopped, 2.4 times the size term of its gradient; the 4.0 is a guess above that bound).
 
 PySCF treats its ``max_memory`` as a target for the arrays it blocks, not as a cap (8.7 GB against 4000 MB), so the
 engine hands it ``pyscf_target_MB``: a share of the limit, never above the 4000 MB the formula was calibrated at.
