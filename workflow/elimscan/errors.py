@@ -153,6 +153,12 @@ class DftError(EngineError):
     error_type = "dft_failed"
 
 
+class DftMemoryError(DftError):
+    """Fires before a DFT calculation starts: its peak-memory estimate exceeds the limit (dft.memory_limit_MB)."""
+
+    error_type = "dft_memory_limit"
+
+
 # --- output phase -------------------------------------------------------------------------
 
 

@@ -55,6 +55,11 @@ class DftConfig(Frozen):
     #: SCF cycles at most and convergence of the energy (hartree)
     max_scf_cycles: int = Field(100, ge=1)
     scf_tolerance_hartree: float = Field(1e-9, gt=0)
+    #: peak memory one DFT calculation may take (MB, 1e6 bytes); a calculation whose estimate (engines/dftmemory.py)
+    #: is larger is not started and is recorded as failed (dft_memory_limit); PySCF gets 40 % of it as its target.
+    #: None = 80 % of the memory available when the job's DFT starts, divided among the local worker processes.
+    #: Changes no number, so it is left out of the job key (pipeline/document.py)
+    memory_limit_MB: float | None = Field(None, gt=0)
 
     @field_validator("basis", mode="before")
     @classmethod

@@ -5,5 +5,6 @@
 - ``xtb``: GFN2-xTB settings, single points with a coordinate cache and SCF retry, the ASE calculator
 - ``dft``: optional PySCF single points on saddles, with the pure helpers of the DFT tier beside them
 - ``dftgradients``: DFT energies, gradients and analytic Hessians behind the engine contract (saddle re-optimisation)
+- ``dftmemory``: peak-memory estimate of a PySCF calculation, the memory limit and the refusal over it
 - ``threads``: OpenMP/BLAS thread variables, set before a backend loads
 """

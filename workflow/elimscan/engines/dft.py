@@ -19,6 +19,7 @@ from ase import Atoms
 
 from elimscan.analysis.rule import PathBarrier, product_fractions
 from elimscan.config import DftConfig, SolventConfig
+from elimscan.engines.dftmemory import check_memory, memory_limit_MB, pyscf_target_MB
 from elimscan.errors import DftError, DftRefusedError, DftUnavailableError, ElimscanError
 from elimscan.results.failures import error_info
 from elimscan.results.records import ErrorInfo
@@ -78,6 +79,8 @@ class DftLevel:
     grid_level: int
     max_scf_cycles: int
     scf_tolerance_hartree: float
+    #: peak memory a calculation may take (MB; None = no guard): changes no number, only whether one is started
+    memory_limit_MB: float | None = field(default=None, compare=False)
 
     def label(self) -> str:
         """Return a one-line label such as 'B3LYP-D3(BJ)/def2-SVPD (RI), IEF-PCM(methanol, eps 32.61)'."""
@@ -187,13 +190,15 @@ def dielectric_constant(solvent: SolventConfig, override: float | None) -> float
                           "give dft.dielectric_constant")
 
 
-def dft_level(config: DftConfig, solvent: SolventConfig) -> DftLevel:
-    """Return the DFT level of a job in ``solvent``: the config's choices and the solvent's ε (None = gas)."""
+def dft_level(config: DftConfig, solvent: SolventConfig, parallel_jobs: int = 1) -> DftLevel:
+    """Return the DFT level of a job in ``solvent``: the config's choices, the solvent's ε (None = gas) and the memory
+    limit in MB (``dft.memory_limit_MB``, else a share of the available memory divided among ``parallel_jobs``)."""
     eps = None if config.solvation == "none" else dielectric_constant(solvent, config.dielectric_constant)
     name = None if eps is None or config.dielectric_constant is not None or solvent.name is None \
         else canonical_solvent_name(solvent.name)
     return DftLevel(config.functional, config.dispersion, config.basis, config.density_fit, eps, name,
-                    config.grid_level, config.max_scf_cycles, config.scf_tolerance_hartree)
+                    config.grid_level, config.max_scf_cycles, config.scf_tolerance_hartree,
+                    memory_limit_MB(config.memory_limit_MB, parallel_jobs))
 
 
 def check_free_ions(job: str, charges: dict[str, int], level: DftLevel) -> None:
@@ -247,11 +252,34 @@ def import_pyscf():
     return gto, dft, lib
 
 
+def build_molecule(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
+    """Return the PySCF molecule of one geometry (Å) in ``level``'s basis, with PySCF's memory target (MB) set."""
+    gto, _, _ = import_pyscf()
+    return gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
+                 unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0,
+                 max_memory=pyscf_target_MB(level.memory_limit_MB))
+
+
+def guard_memory(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, task: str, name: str) -> float:
+    """Return the peak-memory estimate (GB) of one calculation ('single point', 'gradient', 'hessian') at ``level``;
+    raise DftMemoryError naming ``name`` when it exceeds the level's limit, DftError when the basis cannot be built."""
+    try:
+        mol = build_molecule(atoms, charge, multiplicity, level)
+        n_aux = None
+        if level.density_fit:
+            from pyscf import df
+
+            n_aux = int(df.make_auxmol(mol, df.make_auxbasis(mol)).nao)
+    except (RuntimeError, ValueError, KeyError) as err:
+        raise DftError(f"{name}: PySCF setup failed ({type(err).__name__}: {err})") from err
+    return check_memory(name, _BASIS_LABELS.get(level.basis, level.basis), int(mol.nao), n_aux, len(atoms), task,
+                        level.dielectric_constant is not None, level.memory_limit_MB)
+
+
 def build_scf(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
     """Return an unconverged PySCF mean-field object for one geometry (Å) at ``level`` (RKS/UKS, DF, PCM as asked)."""
-    gto, dft, _ = import_pyscf()
-    mol = gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
-                unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0)
+    _, dft, _ = import_pyscf()
+    mol = build_molecule(atoms, charge, multiplicity, level)
     mf = (dft.RKS(mol) if multiplicity == 1 else dft.UKS(mol))
     mf.xc = level.functional
     if level.dispersion != "none":
@@ -294,6 +322,7 @@ def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
     """Return the DFT energy (hartree) of one geometry at ``level``; raise DftError naming the structure on failure."""
     _, _, lib = import_pyscf()
     lib.num_threads(threads)
+    guard_memory(atoms, charge, multiplicity, level, "single point", name)
     start = time.perf_counter()
     try:
         mf = build_scf(atoms, charge, multiplicity, level)
@@ -307,10 +336,11 @@ def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
                     seconds=round(time.perf_counter() - start, 2), retried=retried)
 
 
-def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent: SolventConfig) -> DftLevel | DftJobResult:
+def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent: SolventConfig,
+                  parallel_jobs: int = 1) -> DftLevel | DftJobResult:
     """Return the DFT level of a job, or the tier's result when it is refused (input) or skipped (no PySCF)."""
     try:  # a refusal is a problem of the input: reported even where PySCF is missing
-        level = dft_level(config, solvent)
+        level = dft_level(config, solvent, parallel_jobs)
         check_free_ions(job, charges, level)
     except DftRefusedError as err:
         return DftJobResult(status="refused", message=str(err), error=error_info(err), saddles_mode=config.saddles)
@@ -323,15 +353,15 @@ def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent:
 def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, multiplicity: int,
                charges: dict[str, int], config: DftConfig, solvent: SolventConfig, temperature_K: float,
                reactants: Sequence[tuple[str, Atoms, int, int]] = (), threads: int = 1,
-               report: Report | None = None) -> DftJobResult:
+               report: Report | None = None, parallel_jobs: int = 1) -> DftJobResult:
     """Return the DFT tier of one job: single points on the chosen saddles, barriers (kcal/mol) and product shares.
 
     ``charges`` names the substrate's and base's charges (for the gas-phase refusal); ``reactants`` are
-    (what, atoms, charge, multiplicity) of the free substrate and base, used when absolute barriers are asked for.
-    Never raises our errors: a skip, a refusal or a failure is the result's status.
+    (what, atoms, charge, multiplicity) of the free substrate and base, used when absolute barriers are asked for;
+    ``parallel_jobs`` shares the default memory limit among the jobs that may run at once. Never raises our errors: a skip, a refusal or a failure is the result's status.
     """
     start = time.perf_counter()
-    level = prepare_level(job, charges, config, solvent)
+    level = prepare_level(job, charges, config, solvent, parallel_jobs)
     if isinstance(level, DftJobResult):
         return level
     label, version = level.label(), installed_version("pyscf")

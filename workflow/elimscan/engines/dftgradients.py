@@ -3,7 +3,9 @@
 ``DftEngine`` hands the drivers ASE calculators at one DFT level (``engines.dft.DftLevel``), so a saddle found at
 GFN2-xTB can be refined and verified at DFT with the same driver code. Each calculator starts the SCF of a
 new geometry from the density of the previous one. ``hessian`` is PySCF's analytic Hessian (density fitting,
-IEF-PCM and D3/D4 included in PySCF 2.14). PySCF failures are translated into ``errors.DftError``, chained.
+IEF-PCM and D3/D4 included in PySCF 2.14). PySCF failures are translated into ``errors.DftError``, chained. Before a
+geometry series or a Hessian starts, its peak-memory estimate is checked against the level's limit
+(``engines.dftmemory``): over it, ``errors.DftMemoryError`` and nothing is computed.
 """
 
 from __future__ import annotations
@@ -15,7 +17,7 @@ from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.engines.contract import CacheStats, SinglePoint, geometry_changes, geometry_snapshot
-from elimscan.engines.dft import DftLevel, DftPoint, import_pyscf, build_scf, converge_scf
+from elimscan.engines.dft import DftLevel, DftPoint, build_scf, converge_scf, guard_memory, import_pyscf
 from elimscan.errors import DftError
 from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
 
@@ -31,16 +33,27 @@ class DftEngine:
         self.hessians, self.hessian_seconds = 0, 0.0
         #: every computed gradient's DFT point, in order, with the name of its series
         self.trace: list[tuple[str, DftPoint]] = []
+        #: geometry series (name, atom count, charge, multiplicity) whose gradients passed the memory guard
+        self._guarded: set[tuple[str, int, int, int]] = set()
 
     def _prepare(self) -> None:
         """Set PySCF's thread count for this engine."""
         _, _, lib = import_pyscf()
         lib.num_threads(self.threads)
 
+    def check_memory(self, atoms: Atoms, charge: int, multiplicity: int, task: str, name: str = "structure") -> float:
+        """Return the peak-memory estimate (GB) of a 'gradient' or 'hessian' of ``atoms``; raise DftMemoryError over
+        the level's limit (call it before a long series, so that nothing is started that cannot end)."""
+        return guard_memory(atoms, charge, multiplicity, self.level, task, name)
+
     def energy_gradient(self, atoms: Atoms, charge: int, multiplicity: int, name: str = "structure",
                         dm0=None) -> tuple[SinglePoint, object]:
         """Return the single point (hartree, hartree/bohr) of one geometry and its density matrix (for the next SCF)."""
         self._prepare()
+        series = (name, len(atoms), charge, multiplicity)
+        if series not in self._guarded:  # the same atoms and basis all along a series: checked once
+            self.check_memory(atoms, charge, multiplicity, "gradient", name)
+            self._guarded.add(series)
         start = time.perf_counter()
         try:
             mf = build_scf(atoms, charge, multiplicity, self.level)
@@ -75,6 +88,7 @@ class DftEngine:
     def hessian(self, atoms: Atoms, charge: int, multiplicity: int, name: str = "structure") -> tuple[np.ndarray, int]:
         """Return PySCF's analytic Hessian (3N, 3N) in eV/Å^2 and the gradients it cost (0: none are counted)."""
         self._prepare()
+        self.check_memory(atoms, charge, multiplicity, "hessian", name)
         start = time.perf_counter()
         try:
             mf = build_scf(atoms, charge, multiplicity, self.level)

@@ -51,6 +51,9 @@ def reoptimise_saddle(cand: SaddleCandidate, reactive, engine: DftEngine, charge
     d = config.dft
     settings = config.paths.model_copy(update={"saddle": config.paths.saddle.model_copy(update={
         "fmax_eV_per_A": d.reoptimise_fmax_eV_per_A, "max_steps": d.reoptimise_max_steps})})
+    engine.check_memory(cand.atoms, charge, multiplicity, "gradient", name)  # before hours of work, not during
+    if d.reoptimise_hessian == "analytic":
+        engine.check_memory(cand.atoms, charge, multiplicity, "hessian", name)
     budget = GradientBudget(engine, None, report)
     metered = budget.metered(engine)
     before, hessian_before, trace_before = engine.stats.misses, engine.hessian_seconds, len(engine.trace)
@@ -105,7 +108,7 @@ def _relaxed_reactants(job: str, reactants: Sequence[tuple[str, Atoms, int, int]
 
 def reoptimise_job(job: str, candidates: Sequence[SaddleCandidate], reactives: dict, charge: int, multiplicity: int,
                    charges: dict[str, int], config: RunConfig, reactants: Sequence[tuple[str, Atoms, int, int]] = (),
-                   report: Callable[[str], None] | None = None) -> DftJobResult:
+                   report: Callable[[str], None] | None = None, parallel_jobs: int = 1) -> DftJobResult:
     """Return the DFT saddle rung of one job: re-optimised, verified saddles, barriers (kcal/mol) and product shares.
 
     ``reactives`` maps a path key to its key atoms (``drivers.complexes.Reactive`` or ``SubstitutionReactive``).
@@ -113,7 +116,7 @@ def reoptimise_job(job: str, candidates: Sequence[SaddleCandidate], reactives: d
     """
     start = time.perf_counter()
     d = config.dft
-    level = prepare_level(job, charges, d, config.method.solvent)
+    level = prepare_level(job, charges, d, config.method.solvent, parallel_jobs)
     if isinstance(level, DftJobResult):
         return level
     label, version = level.label(), installed_version("pyscf")

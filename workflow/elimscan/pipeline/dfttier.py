@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from ase import Atoms
 
-from elimscan.config import RunConfig
+from elimscan.config import RunConfig, default_workers
 from elimscan.drivers.complexes import Reactive, SubstitutionReactive
 from elimscan.drivers.paths import PathResult
 from elimscan.engines.dft import DftJobResult, SaddleCandidate, refine_job
@@ -58,8 +58,17 @@ def job_dft(analysis: SubstrateAnalysis, base: BaseAnalysis, paths: JobPaths, co
     job = f"{analysis.name} + {base.relaxed.record.name}"
     charge, multiplicity = analysis.charge + base_charge, analysis.multiplicity + base_mult - 1
     charges = {f"substrate '{analysis.name}'": analysis.charge, f"base '{base.relaxed.record.name}'": base_charge}
+    parallel = parallel_jobs(config)
     if config.dft.saddles == "reoptimise":
         reactives = {c.key: path_reactive(analysis, base, c.key) for c in candidates}
-        return reoptimise_job(job, candidates, reactives, charge, multiplicity, charges, config, reactants, report)
+        return reoptimise_job(job, candidates, reactives, charge, multiplicity, charges, config, reactants, report,
+                              parallel)
     return refine_job(job, candidates, charge, multiplicity, charges, config.dft, config.method.solvent,
-                      config.method.temperature_K, reactants, config.threads.per_process, report)
+                      config.method.temperature_K, reactants, config.threads.per_process, report, parallel)
+
+
+def parallel_jobs(config: RunConfig) -> int:
+    """Return how many jobs may compute at once on this machine as the config tells (local workers; else 1): the
+    default DFT memory limit is shared among them, the same in ``run`` and ``batch`` so a job fits alike in both."""
+    executor = config.executor
+    return (executor.workers or default_workers()) if executor.kind == "local" else 1

@@ -26,6 +26,8 @@ KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", 
 #: settings added after jobs were keyed, at the value that does what the code did before they existed: left out
 #: of the key at that value, so finished jobs keep their keys (dotted path in the key document -> that value)
 KEY_NEUTRAL: dict[str, object] = {"base.model.arrangements": 1, "settings.paths.carry_hessian": False}
+#: DFT settings that change no number at any value (how much memory a calculation may take): left out of the key
+KEY_EXCLUDED_DFT = {"memory_limit_MB"}
 #: the DFT tier's mode whose jobs key without ``dft.saddles`` and ``dft.reoptimise_*`` (they change nothing there)
 DFT_SINGLE_POINTS = "single-point"
 
@@ -96,6 +98,7 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
     settings["method"]["solvent"] = {"model": solvent.model, "name": solvent.name}
     if config.dft.enabled:  # the optional DFT tier: its settings and PySCF's version change the job's numbers
         versions = {**versions, "pyscf": installed_version("pyscf")}
+        settings["dft"] = {name: value for name, value in settings["dft"].items() if name not in KEY_EXCLUDED_DFT}
         if settings["dft"].get("saddles") == DFT_SINGLE_POINTS:  # single points: keys as before the saddle rung
             settings["dft"] = {name: value for name, value in settings["dft"].items()
                                if name != "saddles" and not name.startswith("reoptimise_")}
