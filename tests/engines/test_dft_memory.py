@@ -113,22 +113,7 @@ def test_the_setting_must_be_positive():
     assert parse_config(text % "null").dft.memory_limit_MB is None
 
 
-def test_the_setting_changes_no_job_key(monkeypatch):
-    """Two configs that differ only in dft.memory_limit_MB give the same job key (it changes no number)."""
-    import elimscan.pipeline.document as document
-
-    monkeypatch.setattr(document, "installed_version", lambda name: "test")
-
-    def key(dft: dict) -> str:
-        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
-                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), dft=dft)
-        return document.job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
-                                SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
-
-    plain = key({"enabled": True})
-    assert key({"enabled": True, "memory_limit_MB": 2000}) == plain
-    assert key({"enabled": True, "memory_limit_MB": 64000}) == plain
-    assert key({"enabled": True, "basis": "def2-tzvp", "memory_limit_MB": 2000}) != plain  # a number-changing one
+# that the setting changes no job key: tests/pipeline/test_shared_rules.py, beside the other key checks
 
 
 def test_the_tier_shares_the_default_limit_among_the_local_workers():

@@ -126,11 +126,9 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
                    {"elimscan": "test"}) != key  # three arrangements can change the numbers
 
 
-def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
-    """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
-    points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
-    format 2 (PySCF's version pinned to 'test' here so the value does not follow the installed library).
-    Re-optimising keys differently."""
+def _dft_key(monkeypatch):
+    """Return a function: the job key of chloroethane + ethoxide (three ethanols) with a ``dft`` block, PySCF's
+    version pinned to 'test' so the value does not follow the installed library."""
     import elimscan.pipeline.document as document
     from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 
@@ -142,6 +140,15 @@ def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(mo
         return document.job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
                                 SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
 
+    return key
+
+
+def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
+    """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
+    points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
+    format 2 (PySCF's version pinned to 'test' here so the value does not follow the installed library).
+    Re-optimising keys differently."""
+    key = _dft_key(monkeypatch)
     single = key({"enabled": True})
     assert single == "afbc3fb93a9f97b25e1486c0ee556e52e2a96b56384f6559800c083cb4fa15a8"
     assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
@@ -164,3 +171,12 @@ def test_carrying_the_bfgs_hessian_along_the_path_keys_apart_only_when_on():
 
     assert key(carry_hessian=False) == key()
     assert key(carry_hessian=True) != key()
+
+
+def test_the_dft_memory_limit_changes_no_job_key(monkeypatch):
+    """Two configs that differ only in dft.memory_limit_MB give the same job key (it changes no number)."""
+    key = _dft_key(monkeypatch)
+    plain = key({"enabled": True})
+    assert key({"enabled": True, "memory_limit_MB": 2000}) == plain
+    assert key({"enabled": True, "memory_limit_MB": 64000}) == plain
+    assert key({"enabled": True, "basis": "def2-tzvp", "memory_limit_MB": 2000}) != plain  # a number-changing one
