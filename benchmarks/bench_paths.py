@@ -66,12 +66,22 @@ class TimedEngine(XtbEngine):
 
     call_seconds: list[float] = field(default_factory=list)
     by_stage: Counter = field(default_factory=Counter)
+    #: seconds inside the library, and wall seconds since the gradient before (the Python work that led to this
+    #: gradient: optimiser steps, constraints, copies), per stage
+    library_s_by_stage: Counter = field(default_factory=Counter)
+    wall_s_by_stage: Counter = field(default_factory=Counter)
+    last_end_s: float | None = None
 
     def _run(self, numbers, positions_A, charge, multiplicity, name, holder):
         started = time.perf_counter()
         point = super()._run(numbers, positions_A, charge, multiplicity, name, holder)
-        self.call_seconds.append(time.perf_counter() - started)
-        self.by_stage[stage_of(name)] += 1
+        ended = time.perf_counter()
+        stage = stage_of(name)
+        self.call_seconds.append(ended - started)
+        self.by_stage[stage] += 1
+        self.library_s_by_stage[stage] += ended - started
+        self.wall_s_by_stage[stage] += ended - (started if self.last_end_s is None else self.last_end_s)
+        self.last_end_s = ended
         return point
 
 
@@ -112,9 +122,12 @@ def main(argv: list[str] | None = None) -> int:
     print(f"paths computed / verified / stopped by the budget: {len(paths)} / {len(verified)} / {len(stopped)}"
           f"   (failed: {len(job) - len(paths)})")
     print(f"wall time {wall:.1f} s, {engine.stats.misses} gradients (quote the ratios below, not these)")
-    print("\ngradients by stage (whole job)")
+    print("\ngradients by stage (whole job); wall time charged to a stage: from the gradient before to the end of its own")
+    print(f"  {'stage':<34}{'gradients':>9}  {'share':>6}  {'wall s':>8}  {'share':>6}  {'in library':>10}")
     for stage, count in engine.by_stage.most_common():
-        print(f"  {stage:<34}{count:>7}  {count / engine.stats.misses:6.1%}")
+        seconds = engine.wall_s_by_stage[stage]
+        print(f"  {stage:<34}{count:>9}  {count / engine.stats.misses:6.1%}  {seconds:8.1f}  {seconds / wall:6.1%}"
+              f"  {engine.library_s_by_stage[stage] / max(seconds, 1e-9):10.0%}")
     per_path = [p.n_gradients for p in paths.values()]
     median_e2 = statistics.median(p.n_gradients for p in e2) if e2 else float("nan")
     per_saddle = statistics.median(p.saddle_gradients for p in verified) if verified else float("nan")

@@ -164,3 +164,21 @@ def test_carrying_the_bfgs_hessian_along_the_path_keys_apart_only_when_on():
 
     assert key(carry_hessian=False) == key()
     assert key(carry_hessian=True) != key()
+
+
+def test_screening_the_base_rotations_keys_apart_only_when_on():
+    """paths.complex_screen_fmax_eV_per_A at null relaxes every rotation fully, as complexes were built before it
+    existed (KEY_NEUTRAL), so a job keeps the pinned key above; on, the complex may move, so the key must too."""
+    from elimscan.config import BaseConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline.document import job_key
+
+    def key(**paths) -> str:
+        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), paths=PathConfig(**paths))
+        return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                       SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
+
+    assert key(complex_screen_fmax_eV_per_A=None) == key() == \
+        "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
+    assert key(complex_screen_fmax_eV_per_A=0.05) != key()
+    assert key(complex_screen_fmax_eV_per_A=0.05) != key(complex_screen_fmax_eV_per_A=0.1)
