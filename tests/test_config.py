@@ -131,3 +131,7 @@ def test_the_complex_screen_is_off_by_default_and_bounded():
         with pytest.raises(ConfigError) as info:
             parse_config(GOOD + f"paths: {{complex_screen_fmax_eV_per_A: {bad}}}\n", source="run.yaml")
         assert info.value.key_path == "paths.complex_screen_fmax_eV_per_A" and info.value.line == 7
+    assert parse_config(GOOD).paths.complex_screen_window_kcal_mol == 0.0
+    with pytest.raises(ConfigError) as info:
+        parse_config(GOOD + "paths: {complex_screen_window_kcal_mol: -0.1}\n", source="run.yaml")
+    assert info.value.key_path == "paths.complex_screen_window_kcal_mol"

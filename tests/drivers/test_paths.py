@@ -628,3 +628,11 @@ def test_a_screened_complex_is_the_lowest_rotation_relaxed_on_alone(embed, monke
     second = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
                                      PathConfig(complex_screen_fmax_eV_per_A=0.05), tight, rank=1)
     assert second.energy_hartree == pytest.approx(sorted(full.energies_hartree)[1], abs=2e-6)
+    # a window of 0.5 kcal/mol (0.022 eV) holds only the lowest well; 1 kcal/mol (0.043 eV) holds all three
+    for window, relaxed_on in ((0.5, 1), (1.0, 3)):
+        forces.clear()
+        wide = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
+                                       PathConfig(complex_screen_fmax_eV_per_A=0.05,
+                                                  complex_screen_window_kcal_mol=window), tight)
+        assert forces == [0.05] * 3 + [0.002] * relaxed_on
+        assert wide.energy_hartree == pytest.approx(lowest, abs=1e-6)

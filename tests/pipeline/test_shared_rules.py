@@ -182,3 +182,6 @@ def test_screening_the_base_rotations_keys_apart_only_when_on():
         "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
     assert key(complex_screen_fmax_eV_per_A=0.05) != key()
     assert key(complex_screen_fmax_eV_per_A=0.05) != key(complex_screen_fmax_eV_per_A=0.1)
+    assert key(complex_screen_window_kcal_mol=0.0) == key()
+    assert key(complex_screen_fmax_eV_per_A=0.05, complex_screen_window_kcal_mol=0.5) != \
+        key(complex_screen_fmax_eV_per_A=0.05)

@@ -72,6 +72,10 @@ class PathConfig(Frozen):
     #: orientation path asks for) on with method.optimizer to its force limit (null: every rotation fully with
     #: method.optimizer)
     complex_screen_fmax_eV_per_A: float | None = Field(None, gt=0, le=MAX_COMPLEX_SCREEN_FMAX_eV_per_A)
+    #: ... and also relax on every other rotation whose screened energy lies within this of the lowest screened one
+    #: (kcal/mol), keeping the lowest after relaxing on (0: only the chosen rotation); rotations often lie within
+    #: 0.2 kcal/mol of each other, so a loose ranking picks among near-equals
+    complex_screen_window_kcal_mol: float = Field(0.0, ge=0)
     #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
     step_A: float = Field(0.15, gt=0)
     #: ... for this many points after the complex

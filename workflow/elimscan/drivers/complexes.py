@@ -16,6 +16,7 @@ from elimscan.config import OptimizerConfig, PathConfig
 from elimscan.errors import ElimscanError
 from elimscan.geometry import distance
 from elimscan.results.flags import FAILED_ROTATION
+from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 
 
@@ -205,9 +206,14 @@ def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive,
     if not found:
         raise first_error
     ranked = sorted(found, key=lambda f: f[0])
-    chosen = min(rank, len(ranked) - 1)
-    total = sum(spent)
-    for _, rotation, screened in ranked[chosen:] + ranked[:chosen][::-1]:
+    window_hartree = settings.complex_screen_window_kcal_mol / KCAL_MOL_PER_HARTREE
+    within = max(min(rank, len(ranked) - 1) + 1, sum(1 for f in ranked if f[0] - ranked[0][0] <= window_hartree))
+    total, finished = sum(spent), []
+    # the rotations within the window (at least rank + 1 of them) are relaxed on; when all of those fail, the
+    # next-ranked ones are tried one at a time
+    for index, (_, rotation, screened) in enumerate(ranked):
+        if index >= within and finished:
+            break
         calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
         try:
             result = relax(screened, calc, _complex_held(reactive, settings, dihedral_target_deg), optimizer)
@@ -217,6 +223,8 @@ def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive,
                           "rotations were used")
             continue
         total += result.n_gradients
-        return ComplexResult(result.atoms, result.energy_hartree, rotation, tuple(f[0] for f in found), total,
-                             tuple(failed))
-    raise first_error
+        finished.append((result.energy_hartree, rotation, result.atoms))
+    if not finished:
+        raise first_error
+    energy, rotation, atoms = sorted(finished, key=lambda f: f[0])[min(rank, len(finished) - 1)]
+    return ComplexResult(atoms, energy, rotation, tuple(f[0] for f in found), total, tuple(failed))

@@ -41,8 +41,8 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: paths.carry_hessian.
 #: 0.8.1 added one optional config key: dft.memory_limit_MB (the DFT tier's memory guard; a refused calculation's
 #: error_type is dft_memory_limit, a string as every error_type).
-#: 0.8.2 added one optional config key: paths.complex_screen_fmax_eV_per_A (base rotations screened loosely with BFGS,
-#: only the chosen one relaxed on).
+#: 0.8.2 added two optional config keys: paths.complex_screen_fmax_eV_per_A and complex_screen_window_kcal_mol (base
+#: rotations screened loosely with BFGS, only the chosen ones relaxed on).
 RESULT_SCHEMA_VERSION = "0.8.2"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
