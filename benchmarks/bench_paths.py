@@ -37,9 +37,11 @@ GOAL_GRADIENT_TIMES = 45.0 / (REFERENCE_MS_PER_GRADIENT / 1e3)
 #: barriers of this job (dE, kcal/mol above the substrate's global minimum + free base; class id and approach)
 #: measured at main 1bb65b8, before the speed work was merged: one run of the same job (10,420 gradients, all seven
 #: saddles verified), same machine, 2026-12-03; labelled with atoms numbered from 1 as class ids are now (measured
-#: as C0-H5, C3-H9, C3-H10 when labels counted from 0)
-BEFORE_BARRIERS_KCAL_MOL = {"C1-H6 anti": -3.334, "C1-H6 syn": 5.707, "C4-H10 anti": -3.302, "C4-H10 syn": 5.676,
-                            "C4-H11 anti": -3.994, "C4-H11 syn": 6.459, "substitution backside": -0.333}
+#: as C0-H5, C3-H9, C3-H10 when labels counted from 0). Since b46f90d conformers keep the perceived labels of
+#: geminal hydrogens, and the CH2's two hydrogens of that run carry each other's labels now (the same four saddles
+#: within 0.01 kcal/mol under the swapped names, bench_paths at c03b749): the values stay, the labels follow
+BEFORE_BARRIERS_KCAL_MOL = {"C1-H6 anti": -3.334, "C1-H6 syn": 5.707, "C4-H11 anti": -3.302, "C4-H11 syn": 5.676,
+                            "C4-H10 anti": -3.994, "C4-H10 syn": 6.459, "substitution backside": -0.333}
 #: the job those barriers belong to: this substrate with ethoxide as the bare anion (the default base model of an
 #: alkoxide in ethanol became three explicit ethanols later, at 860c162: a different, larger job)
 BENCH_SUBSTRATE = "2-bromobutane=C[C@H](Br)CC"
@@ -66,12 +68,22 @@ class TimedEngine(XtbEngine):
 
     call_seconds: list[float] = field(default_factory=list)
     by_stage: Counter = field(default_factory=Counter)
+    #: seconds inside the library, and wall seconds since the gradient before (the Python work that led to this
+    #: gradient: optimiser steps, constraints, copies), per stage
+    library_s_by_stage: Counter = field(default_factory=Counter)
+    wall_s_by_stage: Counter = field(default_factory=Counter)
+    last_end_s: float | None = None
 
     def _run(self, numbers, positions_A, charge, multiplicity, name, holder):
         started = time.perf_counter()
         point = super()._run(numbers, positions_A, charge, multiplicity, name, holder)
-        self.call_seconds.append(time.perf_counter() - started)
-        self.by_stage[stage_of(name)] += 1
+        ended = time.perf_counter()
+        stage = stage_of(name)
+        self.call_seconds.append(ended - started)
+        self.by_stage[stage] += 1
+        self.library_s_by_stage[stage] += ended - started
+        self.wall_s_by_stage[stage] += ended - (started if self.last_end_s is None else self.last_end_s)
+        self.last_end_s = ended
         return point
 
 
@@ -112,9 +124,12 @@ def main(argv: list[str] | None = None) -> int:
     print(f"paths computed / verified / stopped by the budget: {len(paths)} / {len(verified)} / {len(stopped)}"
           f"   (failed: {len(job) - len(paths)})")
     print(f"wall time {wall:.1f} s, {engine.stats.misses} gradients (quote the ratios below, not these)")
-    print("\ngradients by stage (whole job)")
+    print("\ngradients by stage (whole job); wall time charged to a stage: from the gradient before to the end of its own")
+    print(f"  {'stage':<34}{'gradients':>9}  {'share':>6}  {'wall s':>8}  {'share':>6}  {'in library':>10}")
     for stage, count in engine.by_stage.most_common():
-        print(f"  {stage:<34}{count:>7}  {count / engine.stats.misses:6.1%}")
+        seconds = engine.wall_s_by_stage[stage]
+        print(f"  {stage:<34}{count:>9}  {count / engine.stats.misses:6.1%}  {seconds:8.1f}  {seconds / wall:6.1%}"
+              f"  {engine.library_s_by_stage[stage] / max(seconds, 1e-9):10.0%}")
     per_path = [p.n_gradients for p in paths.values()]
     median_e2 = statistics.median(p.n_gradients for p in e2) if e2 else float("nan")
     per_saddle = statistics.median(p.saddle_gradients for p in verified) if verified else float("nan")
@@ -155,14 +170,16 @@ def main(argv: list[str] | None = None) -> int:
     else:
         print(row("largest barrier change against before (kcal/mol)", "-",
                   f"paths differ: {sorted(set(barriers) ^ set(BEFORE_BARRIERS_KCAL_MOL))}", False))
-    print("\nper path: gradients (complex / driven path / saddle and checks), saddle, barrier (change, kcal/mol)")
+    print("\nper path: gradients (complex / driven path / saddle and checks), saddle, barrier (change, kcal/mol); "
+          "complex: rotation kept (deg), energy (kcal/mol, same zero)")
     for (cid, approach), p in paths.items():
         drive = p.n_gradients - p.complex.n_gradients - p.saddle_gradients
         key = f"{cid} {approach}"
         change = f" ({changes[key]:+.3f})" if key in changes else ""
         print(f"  {cid:<14}{approach:<10}{p.n_gradients:>6}  ({p.complex.n_gradients} / {drive} / {p.saddle_gradients})"
               f"  {'verified' if p.saddle.verified else 'not verified'}, {barriers[key]:.3f}{change}"
-              + (f", stopped in the {p.stopped_stage}" if p.stopped_stage else ""))
+              + (f", stopped in the {p.stopped_stage}" if p.stopped_stage else "")
+              + f"; complex {p.complex.rotation_deg:.0f}, {(p.complex.energy_hartree - zero) * KCAL_MOL_PER_HARTREE:.3f}")
     return 0
 
 

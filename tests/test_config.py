@@ -120,3 +120,18 @@ def test_the_gradient_budget_is_bounded_and_null_means_no_limit():
         with pytest.raises(ConfigError) as info:
             parse_config(GOOD + f"paths: {{gradient_budget_per_atom: {bad}}}\n", source="run.yaml")
         assert info.value.key_path == "paths.gradient_budget_per_atom" and info.value.line == 7
+
+
+def test_the_complex_screen_is_off_by_default_and_bounded():
+    from elimscan.config import MAX_COMPLEX_SCREEN_FMAX_eV_per_A
+
+    assert parse_config(GOOD).paths.complex_screen_fmax_eV_per_A is None
+    assert parse_config(GOOD + "paths: {complex_screen_fmax_eV_per_A: 0.05}\n").paths.complex_screen_fmax_eV_per_A == 0.05
+    for bad in (0, -0.05, MAX_COMPLEX_SCREEN_FMAX_eV_per_A * 2, '"loose"'):
+        with pytest.raises(ConfigError) as info:
+            parse_config(GOOD + f"paths: {{complex_screen_fmax_eV_per_A: {bad}}}\n", source="run.yaml")
+        assert info.value.key_path == "paths.complex_screen_fmax_eV_per_A" and info.value.line == 7
+    assert parse_config(GOOD).paths.complex_screen_window_kcal_mol == 0.0
+    with pytest.raises(ConfigError) as info:
+        parse_config(GOOD + "paths: {complex_screen_window_kcal_mol: -0.1}\n", source="run.yaml")
+    assert info.value.key_path == "paths.complex_screen_window_kcal_mol"

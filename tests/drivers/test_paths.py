@@ -21,7 +21,7 @@ from elimscan.drivers.complexes import ComplexResult, Reactive, place_base
 from elimscan.drivers.paths import PathPoint, drive_path, path_flags
 from elimscan.drivers.relax import relax
 from toyengine import SpringTorsionEngine
-from elimscan.units import KCAL_MOL_PER_HARTREE
+from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 BFGS = OptimizerConfig(name="bfgs")
 
@@ -571,3 +571,68 @@ def test_a_path_driven_with_the_hessian_carried_reaches_the_same_saddle_for_fewe
     (fresh_saddle, fresh_driven), (carried_saddle, carried_driven) = found[False], found[True]
     assert abs(carried_saddle - fresh_saddle) * KCAL_MOL_PER_HARTREE < 0.3
     assert carried_driven < 0.6 * fresh_driven
+
+
+class _ThreeWellEngine(SpringTorsionEngine):
+    """The toy plus a * cos(3 phi) + b * cos(phi) (eV) on one dihedral ``quad``: three wells at 60, 180 and 300
+    degrees, the one at 180 lower by 1.5 b than the other two (closed form)."""
+
+    quad: tuple[int, int, int, int] = (0, 0, 0, 0)
+    a_eV: float = 0.05
+    b_eV: float = 0.02
+
+    def energy_forces(self, positions: np.ndarray) -> tuple[float, np.ndarray]:
+        """Return energy (eV) and forces (eV/Å): the toy's plus the three-well term."""
+        from elimscan.geometry import dihedral_deg, dihedral_gradient_rad
+
+        energy, forces = super().energy_forces(positions)
+        phi = np.radians(dihedral_deg(positions, *self.quad))
+        energy += self.a_eV * np.cos(3.0 * phi) + self.b_eV * np.cos(phi)
+        slope = -3.0 * self.a_eV * np.sin(3.0 * phi) - self.b_eV * np.sin(phi)
+        return energy, forces - slope * dihedral_gradient_rad(positions, *self.quad)
+
+
+def test_a_screened_complex_is_the_lowest_rotation_relaxed_on_alone(embed, monkeypatch):
+    # Ethoxide on chloroethane's C0-H3: the three base rotations (start dihedrals Cα-Cβ-O-C about -146, -26 and 94
+    # degrees) fall into the three wells of a term on that dihedral; the lowest complex sits at 180 degrees, 0.03 eV
+    # (1.5 b) below the other two. Screened loosely with BFGS, the rotations rank the same, and the chosen one, relaxed
+    # on, is the complex every rotation relaxed fully finds lowest; only that one is relaxed on.
+    import elimscan.drivers.complexes as complexes
+    from elimscan.geometry import dihedral_deg
+
+    substrate, base = embed("CCCl"), embed("CC[O-]")
+    n = len(substrate)
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=n + 2)
+    engine = _ThreeWellEngine(place_base(substrate, 3, 0, base, 2, 2.0, 0.0))
+    engine.quad = (1, 0, n + 2, n + 1)
+    held_deg = dihedral_deg(substrate.positions, 3, 0, 1, 2)
+    tight = OptimizerConfig(name="bfgs", fmax_eV_per_A=0.002)
+    full = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1, PathConfig(), tight)
+    real_relax, forces = complexes.relax, []
+
+    def recording(start, calc, held, settings):
+        forces.append(settings.fmax_eV_per_A)
+        return real_relax(start, calc, held, settings)
+
+    monkeypatch.setattr(complexes, "relax", recording)
+    screened = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
+                                       PathConfig(complex_screen_fmax_eV_per_A=0.05), tight)
+    assert forces == [0.05, 0.05, 0.05, 0.002]
+    lowest = min(full.energies_hartree)
+    assert screened.energy_hartree == pytest.approx(lowest, abs=1e-6)
+    assert abs(abs(dihedral_deg(screened.atoms.positions, *engine.quad)) - 180.0) < 1.0
+    assert screened.rotation_deg == full.rotation_deg
+    # the other wells lie 1.5 b = 0.03 eV higher, in the screened energies as in the full ones
+    others = sorted(screened.energies_hartree)[1:]
+    assert (np.array(others) - min(screened.energies_hartree)) * EV_PER_HARTREE == pytest.approx([0.03, 0.03], abs=0.003)
+    second = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
+                                     PathConfig(complex_screen_fmax_eV_per_A=0.05), tight, rank=1)
+    assert second.energy_hartree == pytest.approx(sorted(full.energies_hartree)[1], abs=2e-6)
+    # a window of 0.5 kcal/mol (0.022 eV) holds only the lowest well; 1 kcal/mol (0.043 eV) holds all three
+    for window, relaxed_on in ((0.5, 1), (1.0, 3)):
+        forces.clear()
+        wide = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
+                                       PathConfig(complex_screen_fmax_eV_per_A=0.05,
+                                                  complex_screen_window_kcal_mol=window), tight)
+        assert forces == [0.05] * 3 + [0.002] * relaxed_on
+        assert wide.energy_hartree == pytest.approx(lowest, abs=1e-6)

@@ -180,3 +180,24 @@ def test_the_dft_memory_limit_changes_no_job_key(monkeypatch):
     assert key({"enabled": True, "memory_limit_MB": 2000}) == plain
     assert key({"enabled": True, "memory_limit_MB": 64000}) == plain
     assert key({"enabled": True, "basis": "def2-tzvp", "memory_limit_MB": 2000}) != plain  # a number-changing one
+
+
+def test_screening_the_base_rotations_keys_apart_only_when_on():
+    """paths.complex_screen_fmax_eV_per_A at null relaxes every rotation fully, as complexes were built before it
+    existed (KEY_NEUTRAL), so a job keeps the pinned key above; on, the complex may move, so the key must too."""
+    from elimscan.config import BaseConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline.document import job_key
+
+    def key(**paths) -> str:
+        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), paths=PathConfig(**paths))
+        return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                       SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
+
+    assert key(complex_screen_fmax_eV_per_A=None) == key() == \
+        "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
+    assert key(complex_screen_fmax_eV_per_A=0.05) != key()
+    assert key(complex_screen_fmax_eV_per_A=0.05) != key(complex_screen_fmax_eV_per_A=0.1)
+    assert key(complex_screen_window_kcal_mol=0.0) == key()
+    assert key(complex_screen_fmax_eV_per_A=0.05, complex_screen_window_kcal_mol=0.5) != \
+        key(complex_screen_fmax_eV_per_A=0.05)

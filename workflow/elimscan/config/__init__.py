@@ -31,8 +31,8 @@ also importable from ``elimscan.config`` itself (``from elimscan.config import R
 Input bounds are named constants of their block: ``MIN_TEMPERATURE_K``/``MAX_TEMPERATURE_K`` (method),
 ``SEED_LIMIT`` (run), ``SHARE_SUM_SLACK_PERCENT``, ``MAX_OBSERVED_ALKENES``, ``MIN_SOURCE_CHARS`` (experiment),
 ``CLOSED_SHELL_MULTIPLICITY``, ``MAX_SMILES_CHARS``, ``MAX_HEAVY_ATOMS``, ``MAX_EXPLICIT_MOLECULES``, ``MAX_CLUSTER_ARRANGEMENTS`` and the warning
-level ``OVERNIGHT_HEAVY_ATOMS`` (molecules), ``MAX_CONFORMER_COUNT`` (conformers), ``MAX_PATH_COUNT`` and
-``MAX_GRADIENT_BUDGET_PER_ATOM`` (paths).
+level ``OVERNIGHT_HEAVY_ATOMS`` (molecules), ``MAX_CONFORMER_COUNT`` (conformers), ``MAX_PATH_COUNT``,
+``MAX_GRADIENT_BUDGET_PER_ATOM`` and ``MAX_COMPLEX_SCREEN_FMAX_eV_per_A`` (paths).
 """
 
 from __future__ import annotations
@@ -52,7 +52,8 @@ from elimscan.config.molecules import (BARE_MODEL_WORD, BASE_LIBRARY, CLOSED_SHE
                                        MAX_HEAVY_ATOMS, MAX_SMILES_CHARS, OVERNIGHT_HEAVY_ATOMS, SUBSTRATE_FILE_SUFFIXES, BaseConfig, BaseModelConfig,
                                        PairConfig, SubstrateConfig)
 from elimscan.config.names import MAX_NAME_BYTES, clashing_names, safe_name
-from elimscan.config.paths import MAX_GRADIENT_BUDGET_PER_ATOM, MAX_PATH_COUNT, PathConfig, SaddleConfig
+from elimscan.config.paths import (MAX_COMPLEX_SCREEN_FMAX_eV_per_A, MAX_GRADIENT_BUDGET_PER_ATOM, MAX_PATH_COUNT,
+                                   PathConfig, SaddleConfig)
 from elimscan.config.run import DEFAULT_SEED, SEED_LIMIT, RunConfig
 from elimscan.config.yamlreader import MAX_CONFIG_BYTES, MAX_CONFIG_DEPTH
 
@@ -61,7 +62,7 @@ __all__ = [
     "ConformerConfig", "DEFAULT_EXPLICIT_MOLECULES", "DEFAULT_JOB_TIME_LIMIT_SECONDS", "DEFAULT_MODEL_CONTINUA",
     "DEFAULT_SEED", "DftConfig", "ExecutorConfig", "ExperimentConfig", "Frozen",
     "MAX_CONFIG_BYTES", "MAX_CONFIG_DEPTH", "MAX_CONFORMER_COUNT", "MAX_ELECTRONIC_TEMPERATURE_K",
-    "MAX_CLUSTER_ARRANGEMENTS", "MAX_EXPLICIT_MOLECULES", "MAX_GRADIENT_BUDGET_PER_ATOM", "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES", "MAX_OBSERVED_ALKENES", "MAX_PATH_COUNT",
+    "MAX_CLUSTER_ARRANGEMENTS", "MAX_COMPLEX_SCREEN_FMAX_eV_per_A", "MAX_EXPLICIT_MOLECULES", "MAX_GRADIENT_BUDGET_PER_ATOM", "MAX_HEAVY_ATOMS", "MAX_NAME_BYTES", "MAX_OBSERVED_ALKENES", "MAX_PATH_COUNT",
     "MAX_SMILES_CHARS", "MIN_SOURCE_CHARS", "MAX_TEMPERATURE_K", "MIN_TEMPERATURE_K", "MethodConfig",
     "OVERNIGHT_HEAVY_ATOMS", "OptimizerConfig", "PairConfig", "PathConfig", "RuleConfig", "RunConfig", "SEED_LIMIT",
     "SERIES_MIN_MEMBERS", "SHARE_SUM_SLACK_PERCENT", "SUBSTITUTION_PRODUCT", "SUBSTRATE_FILE_SUFFIXES",

@@ -16,6 +16,7 @@ from elimscan.config import OptimizerConfig, PathConfig
 from elimscan.errors import ElimscanError
 from elimscan.geometry import distance
 from elimscan.results.flags import FAILED_ROTATION
+from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 
 
@@ -149,33 +150,81 @@ def place_backside(substrate: Atoms, c_alpha: int, x: int, base: Atoms, basic: i
                         rotation_deg)
 
 
+def _relax_rotations(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
+                     engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
+                     name: str) -> tuple[list[tuple[float, float, Atoms]], list[int], list[str], ElimscanError | None]:
+    """Return every rotation relaxed with ``optimizer`` (energy in hartree, rotation in degrees, atoms), the
+    gradients of each, the notes of failed rotations and the first failure (None when none failed)."""
+    found, spent, failed = [], [], []
+    first_error: ElimscanError | None = None
+    for k in range(settings.base_rotations):
+        rotation = 360.0 * k / settings.base_rotations
+        start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
+        calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
+        try:
+            result = relax(start, calc, _complex_held(reactive, settings, dihedral_target_deg), optimizer)
+        except ElimscanError as err:
+            first_error = first_error or err
+            failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
+                          "rotations were used")
+            continue
+        spent.append(result.n_gradients)
+        found.append((result.energy_hartree, rotation, result.atoms))
+    return found, spent, failed, first_error
+
+
+def _complex_held(reactive: Reactive, settings: PathConfig, dihedral_target_deg: float) -> list:
+    """Return the coordinates held in a complex: H...B at complex_distance_A (Å) and H-Cβ-Cα-X at the target (deg)."""
+    return [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
+            HeldDihedral(reactive.quad(), dihedral_target_deg)]
+
+
 def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive, dihedral_target_deg: float,
                   engine, charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
                   name: str = "complex", rank: int = 0) -> ComplexResult:
     """Return the complex of ``rank`` (0: the lowest) over ``settings.base_rotations`` rotations, H...B and dihedral held.
 
     A rotation whose relaxation fails (SCF, a non-finite backend result, the optimiser) is skipped and noted
-    while another rotation succeeds; when all fail, the first failure is raised.
+    while another rotation succeeds; when all fail, the first failure is raised. With
+    ``settings.complex_screen_fmax_eV_per_A`` every rotation is first relaxed with BFGS to that force only, ranked
+    on those energies (``energies_hartree`` are then the screened ones), and only the chosen rotation is relaxed on
+    with ``optimizer`` (the next-ranked one when that fails).
     """
-    found, energies, spent, failed = [], [], 0, []
-    first_error: ElimscanError | None = None
-    for k in range(settings.base_rotations):
-        rotation = 360.0 * k / settings.base_rotations
-        start = place_base(substrate, reactive.h, reactive.c_beta, base, basic, settings.complex_distance_A, rotation)
+    screen = settings.complex_screen_fmax_eV_per_A
+    if screen is None:
+        found, spent, failed, first_error = _relax_rotations(substrate, base, basic, reactive, dihedral_target_deg,
+                                                             engine, charge, multiplicity, settings, optimizer, name)
+        if not found:
+            raise first_error
+        energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(rank, len(found) - 1)]
+        return ComplexResult(atoms, energy, rotation, tuple(f[0] for f in found), sum(spent), tuple(failed))
+    loose = OptimizerConfig(name="bfgs", fmax_eV_per_A=screen, max_steps=optimizer.max_steps,
+                            rigid_rotation_above_deg=optimizer.rigid_rotation_above_deg)
+    found, spent, failed, first_error = _relax_rotations(substrate, base, basic, reactive, dihedral_target_deg,
+                                                         engine, charge, multiplicity, settings, loose,
+                                                         f"{name} screen")
+    if not found:
+        raise first_error
+    ranked = sorted(found, key=lambda f: f[0])
+    window_hartree = settings.complex_screen_window_kcal_mol / KCAL_MOL_PER_HARTREE
+    within = max(min(rank, len(ranked) - 1) + 1, sum(1 for f in ranked if f[0] - ranked[0][0] <= window_hartree))
+    total, finished = sum(spent), []
+    # the rotations within the window (at least rank + 1 of them) are relaxed on; when all of those fail, the
+    # next-ranked ones are tried one at a time
+    for index, (_, rotation, screened) in enumerate(ranked):
+        if index >= within and finished:
+            break
         calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
-        held = [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
-                HeldDihedral(reactive.quad(), dihedral_target_deg)]
         try:
-            result = relax(start, calc, held, optimizer)
+            result = relax(screened, calc, _complex_held(reactive, settings, dihedral_target_deg), optimizer)
         except ElimscanError as err:
             first_error = first_error or err
             failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
                           "rotations were used")
             continue
-        spent += result.n_gradients
-        energies.append(result.energy_hartree)
-        found.append((result.energy_hartree, rotation, result.atoms))
-    if not found:
+        total += result.n_gradients
+        finished.append((result.energy_hartree, rotation, result.atoms))
+    if not finished:
         raise first_error
-    energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(rank, len(found) - 1)]
-    return ComplexResult(atoms, energy, rotation, tuple(energies), spent, tuple(failed))
+    energy, rotation, atoms = sorted(finished, key=lambda f: f[0])[min(rank, len(finished) - 1)]
+    return ComplexResult(atoms, energy, rotation, tuple(f[0] for f in found), total, tuple(failed))
