@@ -27,7 +27,7 @@ MEANING = (
 #: paragraph (tests/output/test_benchmark_words.py checks both against that page's headline)
 BENCHMARK_SAYS = (
     "What the reference benchmark says of this level (validation/VALIDATION-fast.md: fast subset, 5 test cases, "
-    "three seeds, 2026-12-03, ethoxide with three ethanol molecules): computed right 3/5 (ΔE‡) and 2/5 "
+    "three seeds, 2026-12-04, ethoxide with three ethanol molecules): computed right 3/5 (ΔE‡) and 2/5 "
     "(ΔG‡), the textbook rule 5/5. GFN2-xTB resolves what conformation decides (a ring where only one "
     "hydrogen can reach anti) but not choices that rest on barrier differences of about 1 kcal/mol: open-chain regio- "
     "and E/Z selectivity came out undecided, three starting geometries putting three different alkenes on top, and the "
