@@ -135,3 +135,22 @@ def test_the_ensemble_carries_the_perceived_labels(smiles):
             cid = substrate.mol.GetConformer().GetId()
             pairs = list(_products_in(substrate.mol, cid, substrate, conformer.atoms))
             assert pairs and all(found == named for _, _, found, named in pairs), (seed, conformer.conformer_id, pairs)
+
+
+def test_a_users_structure_with_swapped_hydrogens_gets_the_perceived_labels():
+    # a user's SDF/XYZ (same atom order) may number a CH2's hydrogens the other way round: it joins the ensemble
+    # with the perceived labels, so its hydrogens give the products perception named
+    substrate, _, _ = _embedded("CCC(C)Br", 1)
+    reference = mol_to_atoms(substrate.mol, substrate.mol.GetConformer().GetId())
+    user = reference.copy()
+    for pair in geminal_pairs(substrate.mol):
+        user.positions[[pair.first_h, pair.second_h]] = user.positions[[pair.second_h, pair.first_h]]
+    settings = ConformerConfig(base_embeddings=1, per_rotatable_bond=0, per_ring=0, max_embeddings=1,
+                               max_relaxations=1)
+    ensemble = build_ensemble(substrate.mol, SpringTorsionEngine(reference), 0, 1, 1, settings,
+                              extra=[(user, "user")], c_alpha=substrate.leaving_group.c_alpha_index)
+    mine = [c for c in ensemble.conformers if "user" in c.source]
+    assert mine
+    cid = substrate.mol.GetConformer().GetId()
+    for conformer in mine:
+        assert all(found == named for _, _, found, named in _products_in(substrate.mol, cid, substrate, conformer.atoms))
