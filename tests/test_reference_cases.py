@@ -176,10 +176,10 @@ def test_a_paths_override_is_checked_like_a_config():
         parse_cases(text)
 
 
-@pytest.mark.parametrize("name", ["alcohol-2", "alcohol-4", "Na-pair", "Na-pair-alcohol-2"])
+@pytest.mark.parametrize("name", ["alcohol-2", "alcohol-4", "Na-pair", "Na-pair-alcohol-2", "alcohol-3-sampled"])
 def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(cases, validate, name):
     """Each candidate of issue 18 runs the calibration set with its model on every base, apart from the bare anion's."""
-    from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, base_model_block
+    from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, SAMPLING_PATHS, base_model_block
 
     chosen = validate._chosen("calibration", list(cases.calibration), list(cases.test))
     assert chosen and all(c in cases.calibration for c in chosen)
@@ -191,6 +191,8 @@ def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(ca
         config = parse_config(yaml.safe_dump(group.config), group.name)
         for base in config.bases:
             assert base.model.model_dump(exclude_defaults=True) == base_model_block(name)
+        for key, value in SAMPLING_PATHS.get(name, {}).items():  # the sampling reaches every job's paths
+            assert getattr(config.paths, key) == value
     assert validate.page_path("calibration", name).name == f"CALIBRATION-{name}.md"
     frozen = yaml.safe_load((ROOT / "validation" / "model-freeze.yaml").read_text())["base_model"]
     assert validate.frozen_model() == frozen and validate._parse([]).base_model == frozen
@@ -200,6 +202,29 @@ def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(ca
     assert validate._parse(["--base-model", name]).base_model == name and name in BASE_MODEL_CANDIDATES
     with pytest.raises(ValueError, match="unknown base model 'alcohol-9'"):
         base_model_block("alcohol-9")
+
+
+def test_sampling_keeps_a_case_s_own_paths_settings(cases):
+    """A sampled candidate adds its path sampling over a case's own ``paths:`` block (anti-only or syn settings stay)."""
+    from elimscan.analysis.benchmark_models import SAMPLING_PATHS
+
+    own = {"substitution": False, "approaches": ["anti"]}  # a case may turn paths off (cases.yaml's paths field)
+    for case in (cases.test[0].model_copy(update={"paths": own}), cases.test[0].model_copy(update={"paths": None})):
+        [group] = batch_groups(benchmark_jobs([case], 1), base_model="alcohol-3-sampled")
+        assert group.config["paths"] == {**(case.paths or {}), **SAMPLING_PATHS["alcohol-3-sampled"]}
+        parse_config(yaml.safe_dump(group.config), group.name)  # a valid batch config
+        [plain] = batch_groups(benchmark_jobs([case], 1), base_model="alcohol-3")
+        assert plain.config.get("paths") == case.paths
+
+
+def test_a_probe_of_named_cases_runs_only_those_and_writes_no_page(cases, validate):
+    """``--cases`` picks cases of the subset by id, never writes the subset's page, and names an id it lacks."""
+    args = validate._parse(["--subset", "calibration", "--cases", "ethyl-bromide-ethoxide-sn2-rate"])
+    assert args.no_write and args.cases == ("ethyl-bromide-ethoxide-sn2-rate",)
+    chosen = validate._chosen("calibration", list(cases.calibration), list(cases.test), args.cases)
+    assert [c.id for c in chosen] == ["ethyl-bromide-ethoxide-sn2-rate"]
+    with pytest.raises(ValueError, match="2-bromobutane-ethoxide not in the calibration subset"):
+        validate._chosen("calibration", list(cases.calibration), list(cases.test), ("2-bromobutane-ethoxide",))
 
 
 def test_a_page_written_into_the_checkout_does_not_mark_the_code_dirty(validate, tmp_path, monkeypatch):

@@ -23,7 +23,7 @@ import time
 from pathlib import Path
 
 from elimscan.analysis.basicity import exchange_energy_kcal_mol, relative_pka
-from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, base_model_block
+from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, SAMPLING_PATHS, base_model_block
 from elimscan.atomicio import write_text_atomic
 from elimscan.chem.basemodels import conjugate_acid_smiles
 from elimscan.chem.bases import describe_base
@@ -43,8 +43,9 @@ MEASURED = {"ethoxide": {"water": 15.9 - 15.5, "DMSO": 29.8 - 29.0},
 def _parse(argv: list[str] | None) -> argparse.Namespace:
     """Return the parsed command line."""
     parser = argparse.ArgumentParser(description="relative alkoxide basicity under each base model")
-    parser.add_argument("--models", default=",".join(BASE_MODEL_CANDIDATES),
-                        help="comma-separated candidates (default: all)")
+    parser.add_argument("--models", default=",".join(m for m in BASE_MODEL_CANDIDATES if m not in SAMPLING_PATHS),
+                        help="comma-separated candidates (default: all but the sampled ones, whose base is "
+                        "alcohol-3's; --arrangements samples the cluster here)")
     parser.add_argument("--seeds", type=int, default=3, help="seeds per model: conformers of the base and its molecules (default 3)")
     parser.add_argument("--arrangements", type=int, default=1,
                         help="hydrogen-bond arrangements relaxed per cluster, the lowest kept (model.arrangements; default 1)")

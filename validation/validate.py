@@ -12,7 +12,8 @@ holds, also while another invocation still runs), ``--no-write`` (print the page
 (a few small cases, one seed, writes VALIDATION-fast.md), ``--subset calibration`` (the calibration set only,
 writes CALIBRATION.md), ``--base-model NAME`` (a candidate of ``elimscan.analysis.benchmark_models``; default the frozen
 model of validation/model-freeze.yaml; pages of another model carry its name, e.g. VALIDATION-bare.md), ``--seeds N`` (the first N seeds
-of each case), ``--workers N`` (local worker processes of each batch).
+of each case), ``--workers N`` (local worker processes of each batch), ``--cases ID,ID`` (a probe of a few cases of
+the subset: the page is printed, not written).
 """
 
 from __future__ import annotations
@@ -70,6 +71,8 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
     parser.add_argument("--workers", type=int, default=None, help="local worker processes of each batch "
                         "(default: the batch config's executor.workers, else the core count)")
+    parser.add_argument("--cases", default=None, metavar="ID,ID",
+                        help="only these cases of the subset (a probe: the page is printed, never written)")
     parser.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
                         help="compute with a plug-in engine instead of GFN2-xTB (for tests; part of each job's key)")
     args = parser.parse_args(argv)
@@ -77,6 +80,9 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
         parser.error("--no-compute needs --work (the folder that holds the finished batches)")
     if args.seeds is not None and args.seeds < 1:
         parser.error("--seeds must be at least 1")
+    if args.cases is not None:
+        args.cases = tuple(c.strip() for c in args.cases.split(",") if c.strip())
+        args.no_write = True  # a page of a few cases must not replace the subset's page
     return args
 
 
@@ -183,11 +189,17 @@ def page_path(subset: str, base_model: str) -> Path:
     return HERE / f"{PAGES[subset]}{suffix}.md"
 
 
-def _chosen(subset: str, calibration: list, test: list) -> list:
-    """Return the cases a subset runs: all, the fast few, or the calibration set."""
-    if subset == "calibration":
-        return list(calibration)
-    return [c for c in (*calibration, *test) if subset == "all" or c.id in FAST_SUBSET]
+def _chosen(subset: str, calibration: list, test: list, only: tuple[str, ...] | None = None) -> list:
+    """Return the cases a subset runs: all, the fast few, or the calibration set (only the ids ``only`` when given;
+    ValueError names an id the subset does not hold)."""
+    chosen = list(calibration) if subset == "calibration" else \
+        [c for c in (*calibration, *test) if subset == "all" or c.id in FAST_SUBSET]
+    if only is None:
+        return chosen
+    unknown = sorted(set(only) - {c.id for c in chosen})
+    if unknown:
+        raise ValueError(f"--cases: {', '.join(unknown)} not in the {subset} subset (ids of validation/cases.yaml)")
+    return [c for c in chosen if c.id in only]
 
 
 def _freeze_file() -> dict:
@@ -238,7 +250,11 @@ def main(argv: list[str] | None = None) -> int:
     started_utc = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     args = _parse(argv)
     cases = parse_cases((HERE / "cases.yaml").read_text())
-    chosen = _chosen(args.subset, list(cases.calibration), list(cases.test))
+    try:
+        chosen = _chosen(args.subset, list(cases.calibration), list(cases.test), args.cases)
+    except ValueError as err:
+        print(f"error: {err}", file=sys.stderr)
+        return 2
     seed_count = args.seeds if args.seeds is not None else (1 if args.subset == "fast" else None)
     groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine,
                                  base_model=args.base_model),

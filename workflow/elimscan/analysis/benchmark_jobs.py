@@ -18,7 +18,7 @@ from rdkit import Chem
 
 from elimscan.config import BASE_LIBRARY, SolventConfig
 from elimscan.analysis.benchmark_cases import CalibrationCase, Molecule, OutcomeCase, case_slots
-from elimscan.analysis.benchmark_models import UNNAMED_BASE_MODEL, base_model_block, model_prefix
+from elimscan.analysis.benchmark_models import UNNAMED_BASE_MODEL, base_model_block, model_prefix, paths_block
 
 
 @dataclass(frozen=True)
@@ -96,7 +96,8 @@ def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
 
     ``engine_factory`` ('module:function') puts a plug-in engine into every config (tests); None: GFN2-xTB.
     ``base_model`` names a candidate of ``benchmark_models``: every base of every job gets its ``model:``
-    block, and the groups' folder names its prefix (none for the default model).
+    block (and its sampling's ``paths:`` settings over each case's own), and the groups' folder names its prefix
+    (none for the bare anion).
     """
     model, prefix = base_model_block(base_model), model_prefix(base_model)
     groups: dict[str, list[BenchmarkJob]] = {}
@@ -129,8 +130,9 @@ def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
             "method": {"solvent": first.solvent.model_dump(), "temperature_K": first.temperature_K},
             "substrates": list(substrates.values()), "bases": list(bases.values()),
             "pairs": [{"substrate": s, "base": b} for s, b in serves]}
-        if first.paths:
-            config["paths"] = first.paths
+        paths = paths_block(base_model, first.paths)
+        if paths:
+            config["paths"] = paths
         if engine_factory is not None:
             config["method"]["engine_factory"] = engine_factory
         found.append(BatchGroup(name, config, serves))

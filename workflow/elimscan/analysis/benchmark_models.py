@@ -1,4 +1,5 @@
-"""The base models the benchmark can be run with: one named candidate per physical picture of the base.
+"""The base models the benchmark can be run with: one named candidate per physical picture of the base (and, for
+the sampled candidates, per way of sampling it).
 
 Issue 18 asks for the bare anion, the ion pair, the anion with n explicit molecules of its own alcohol
 (n = 0 ... 4) and both together, each reported on the benchmark; the choice among them is made on the
@@ -27,6 +28,18 @@ BASE_MODEL_CANDIDATES: dict[str, tuple[dict[str, Any] | None, str]] = {
     "Na-pair": ({"counter_ion": "Na"}, "the contact ion pair with Na+"),
     "Na-pair-alcohol-2": ({"counter_ion": "Na", "explicit": 2},
                           "the Na+ contact ion pair, one alcohol on the oxygen and one on Na+"),
+    "alcohol-3-rotations": ({"explicit": 3}, "alcohol-3, with whole paths driven from all three base rotations of "
+                            "each complex and Boltzmann-combined"),
+    "alcohol-3-sampled": ({"explicit": 3, "arrangements": 3},
+                          "alcohol-3, the lowest of three hydrogen-bond arrangements of the cluster, with whole paths "
+                          "driven from all three base rotations of each complex and Boltzmann-combined"),
+}
+
+#: name -> ``paths:`` settings a candidate adds to every case's own (issue 18 item 2: sampling of the solvated base
+#: and its complexes; a candidate not named here drives one path per class from the lowest complex)
+SAMPLING_PATHS: dict[str, dict[str, Any]] = {
+    "alcohol-3-rotations": {"orientation_paths": 3, "combine": "boltzmann"},
+    "alcohol-3-sampled": {"orientation_paths": 3, "combine": "boltzmann"},
 }
 
 
@@ -36,6 +49,14 @@ def base_model_block(name: str) -> dict[str, Any] | None:
         raise ValueError(f"unknown base model '{name}': choose one of {', '.join(BASE_MODEL_CANDIDATES)}")
     block = BASE_MODEL_CANDIDATES[name][0]
     return dict(block) if block is not None else None
+
+
+def paths_block(name: str, case_paths: dict[str, Any] | None) -> dict[str, Any] | None:
+    """Return a case's ``paths:`` block under a named candidate: the case's own, with the candidate's sampling over it."""
+    base_model_block(name)
+    if name not in SAMPLING_PATHS:
+        return case_paths
+    return {**(case_paths or {}), **SAMPLING_PATHS[name]}
 
 
 def model_prefix(name: str) -> str:
