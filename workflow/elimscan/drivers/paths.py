@@ -57,6 +57,9 @@ class PathResult:
     start_tops_hartree: tuple[float, ...] = ()
     #: Boltzmann-combined top of those starts (hartree), when paths.combine is 'boltzmann'
     combined_top_hartree: float | None = None
+    #: the verified saddles (with their Hessians) of the starts counted in that combination, so that the free
+    #: barrier is combined over the same starts (pipeline/energetics); empty when paths.combine is 'lowest'
+    start_saddles: tuple[SaddleResult, ...] = ()
     #: the stage during which the path's gradient budget ran out (None: the path finished); a stopped path is
     #: an unfinished estimate and no barrier
     stopped_stage: str | None = None

@@ -338,11 +338,14 @@ def lowest_of_starts(tried: list[PathResult], combine: str = "lowest", temperatu
     ``PathResult.counts_as_barrier``) are left out while any start is a barrier.
 
     With ``combine='boltzmann'`` the returned path also carries the Boltzmann-combined top of the distinct
-    tops (analysis.boltzmann_combined), which then stands for the approach's barrier.
+    tops (analysis.boltzmann_combined), which then stands for the approach's barrier, and the verified saddles of
+    those starts, whose free energies are combined the same way (pipeline/energetics).
     """
     counted = [p for p in tried if p.counts_as_barrier] or tried  # a start that is no barrier decides nothing
     best = min(counted, key=lambda p: (not p.saddle.verified, p.top_hartree))
     tops = tuple(p.top_hartree for p in counted)
     combined = boltzmann_combined(tops, temperature_K) if combine == "boltzmann" and len(tops) > 1 else None
-    return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined,
+    saddles = () if combined is None else tuple(p.saddle for p in counted
+                                                 if p.saddle.verified and p.saddle.hessian_eV_A2 is not None)
+    return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined, start_saddles=saddles,
                                n_gradients=sum(p.n_gradients for p in tried))

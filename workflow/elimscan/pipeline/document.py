@@ -38,6 +38,9 @@ DFT_SINGLE_POINTS = "single-point"
 #: labels of geminal hydrogens (chem/geminal.py): before, a CH2's two hydrogens could trade places in a fresh
 #: embedding, and a path was computed for one hydrogen under the other's product (E for Z)
 KEY_FORMAT = 2
+#: raised for the jobs with ``paths.combine: boltzmann`` only: 2 since their free barrier is Boltzmann-combined over
+#: the verified saddles of every start, as the electronic one always was (before, it was the lowest start's alone)
+BOLTZMANN_KEY_FORMAT = 2
 
 
 def _without_neutral(document: dict) -> dict:
@@ -108,6 +111,8 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
         settings.pop("dft", None)
     document = _without_neutral({"key_format": KEY_FORMAT, "settings": settings, "substrate": substrate,
                                  "base": keyed_base(base, solvent), "versions": versions})
+    if config.paths.combine == "boltzmann":
+        document["boltzmann_key_format"] = BOLTZMANN_KEY_FORMAT
     return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
 

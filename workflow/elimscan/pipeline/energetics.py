@@ -12,8 +12,8 @@ from collections import Counter
 from dataclasses import dataclass
 
 from elimscan.analysis.character import SaddleCharacter, saddle_character
-from elimscan.analysis.rule import (ClassFacts, ComputedVerdict, PathBarrier, RuleVerdict, compare_verdicts,
-                                    fraction_ranges, product_fractions, rule_verdict)
+from elimscan.analysis.rule import (ClassFacts, ComputedVerdict, PathBarrier, RuleVerdict, boltzmann_combined,
+                                    compare_verdicts, fraction_ranges, product_fractions, rule_verdict)
 from elimscan.analysis.thermo import IsotopeEffect
 from elimscan.chem.betahydrogens import BetaHydrogenClass
 from elimscan.chem.substitution import substitution_product
@@ -101,16 +101,28 @@ def _free_zero(analysis: SubstrateAnalysis, base: BaseAnalysis, temperature_K: f
 
 def _saddle_free_energy(path: PathResult, g_zero: float | None, base: BaseAnalysis, analysis: SubstrateAnalysis,
                         temperature_K: float) -> float | None:
-    """Return dG of a verified saddle above free substrate + free base (kcal/mol), else None."""
+    """Return dG of a verified saddle above free substrate + free base (kcal/mol), else None.
+
+    A path whose starts were Boltzmann-combined (``paths.combine: boltzmann``) gets the free energies of all its
+    starts' verified saddles combined the same way (distinct saddles as parallel channels), so that the free
+    barrier is sampled like the electronic one; its own saddle must be verified, as for a single path.
+    """
     saddle = path.saddle
     if g_zero is None or not saddle.verified or saddle.hessian_eV_A2 is None:
         return None
     multiplicity = analysis.multiplicity + (base.relaxed.record.multiplicity or 1) - 1
-    try:
-        g = saddle_thermo(saddle.atoms, saddle.energy_hartree, saddle.hessian_eV_A2, temperature_K, multiplicity)
-    except ValueError:
+    free = []
+    for each in path.start_saddles or (saddle,):
+        try:
+            free.append(saddle_thermo(each.atoms, each.energy_hartree, each.hessian_eV_A2, temperature_K,
+                                      multiplicity).free_energy_hartree)
+        except ValueError:
+            if each is saddle:
+                return None
+    if not free:
         return None
-    return round((g.free_energy_hartree - g_zero) * KCAL_MOL_PER_HARTREE, 3)
+    g = boltzmann_combined(free, temperature_K) if len(free) > 1 else free[0]
+    return round((g - g_zero) * KCAL_MOL_PER_HARTREE, 3)
 
 
 def _character(analysis: SubstrateAnalysis, b: BetaHydrogenClass, path) -> SaddleCharacter | None:

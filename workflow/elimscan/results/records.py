@@ -217,8 +217,10 @@ class ApproachRecord(Record):
                                                 "null when one start")
     barrier_combination: Literal["lowest", "boltzmann"] | None = Field(
         None, description="how several starts make barrier_kcal_mol: the lowest top, or a Boltzmann sum of the "
-        "distinct tops (then the saddle fields, barrier_source and barrier_free_energy_kcal_mol describe the "
-        "lowest start only, and the distinct tops may mix verified saddles with path maxima of other starts)")
+        "distinct tops (then the saddle fields and barrier_source describe the lowest start only, the distinct "
+        "tops may mix verified saddles with path maxima of other starts, and barrier_free_energy_kcal_mol is the "
+        "Boltzmann sum over the free energies of the starts' verified saddles; before schema 0.8.3 it was the "
+        "lowest start's alone)")
     flags: tuple[str, ...] = ()
     n_gradients: int | None = None
     path: tuple[PathPointRecord, ...] = ()
