@@ -78,7 +78,9 @@ kernel-sweep: $(VENV)/.installed
 	$(VPY) benchmarks/kernel_sweep.py --work $(SWEEP_DIR) --demo
 
 # The reference benchmark (validation/cases.yaml) against experiment; not part of make test. Resumable: the
-# batches stay in REFERENCE_DIR, and running the target again computes only the unfinished jobs.
+# batches stay in REFERENCE_DIR, and running the target again computes only the unfinished jobs; every job that
+# finishes ok is also archived by its key in validation/records (commit it), so a later checkout on another
+# machine scores it and never computes it again.
 #   reference-cases       every case, three seeds, the frozen base model; writes validation/VALIDATION.md (days on
 #                         two cores; the page estimates what is left)
 #   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast.md (a quick look)

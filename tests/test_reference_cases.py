@@ -227,6 +227,26 @@ def test_a_probe_of_named_cases_runs_only_those_and_writes_no_page(cases, valida
         validate._chosen("calibration", list(cases.calibration), list(cases.test), ("2-bromobutane-ethoxide",))
 
 
+def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(validate, tmp_path, capsys):
+    """The benchmark outlives its machine: a second run in an empty work folder reads the archived job, computes
+    nothing (no batch folder is made) and scores the case as the first run did (toy engine, one job)."""
+    records = tmp_path / "records"
+    args = ["--subset", "fast", "--cases", "2-bromobutane-ethoxide", "--seeds", "1", "--base-model", "bare",
+            "--engine", "toyjobs:toy_engine", "--records", str(records)]
+    assert validate.main([*args, "--work", str(tmp_path / "first")]) == 0
+    first = capsys.readouterr()
+    assert len(list(records.glob("*.json.gz"))) == 1 and "1 finished job(s) archived" in first.err
+    assert validate.main([*args, "--work", str(tmp_path / "second")]) == 0
+    second = capsys.readouterr()
+    assert "all 1 job(s) archived" in second.err
+    assert not any(p.is_dir() for p in (tmp_path / "second").iterdir())  # no batch ran
+    row = [line for line in first.out.splitlines() if line.startswith("| 2-bromobutane-ethoxide")]
+    assert row and row == [line for line in second.out.splitlines() if line.startswith("| 2-bromobutane-ethoxide")]
+    assert "- archived jobs: 1 of the finished jobs" in second.out and "archived jobs" not in first.out
+    assert validate._parse(["--no-records"]).records is None  # --no-records: neither read nor written
+    assert validate._parse([]).records == ROOT / "validation" / "records"
+
+
 def test_a_page_written_into_the_checkout_does_not_mark_the_code_dirty(validate, tmp_path, monkeypatch):
     """validate.py writes its pages into validation/; the next invocation must still name the clean commit."""
     import subprocess

@@ -37,6 +37,7 @@ from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, UNNAMED_BA
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
+from elimscan.batch.archive import ArchivedJob, archive_jobs, archived_keys, read_archived
 from elimscan.batch.documents import INDEX_FILE
 from elimscan.batch.plan import plan_batch
 from elimscan.batch.store import STORE_FILE, JobStore
@@ -53,6 +54,9 @@ PAGES = {"all": "VALIDATION", "fast": "VALIDATION-fast", "calibration": "CALIBRA
 RUN_LOG = "validate-runs.jsonl"
 #: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
 FREEZE_FILE = HERE / "model-freeze.yaml"
+#: finished jobs kept by key beside the code (elimscan.batch.archive): a machine that does not outlive a night
+#: still adds to the benchmark, and a job archived here is never computed again
+RECORDS = HERE / "records"
 
 
 def _parse(argv: list[str] | None) -> argparse.Namespace:
@@ -71,6 +75,10 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
     parser.add_argument("--workers", type=int, default=None, help="local worker processes of each batch "
                         "(default: the batch config's executor.workers, else the core count)")
+    parser.add_argument("--records", type=Path, default=RECORDS,
+                        help="archive of finished jobs by key, read and added to (default: validation/records)")
+    parser.add_argument("--no-records", action="store_true",
+                        help="neither read nor add to the archive: compute everything in --work")
     parser.add_argument("--cases", default=None, metavar="ID,ID",
                         help="only these cases of the subset (a probe: the page is printed, never written)")
     parser.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
@@ -80,40 +88,81 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
         parser.error("--no-compute needs --work (the folder that holds the finished batches)")
     if args.seeds is not None and args.seeds < 1:
         parser.error("--seeds must be at least 1")
+    if args.no_records:
+        args.records = None
     if args.cases is not None:
         args.cases = tuple(c.strip() for c in args.cases.split(",") if c.strip())
         args.no_write = True  # a page of a few cases must not replace the subset's page
     return args
 
 
-def _run_group(group: BatchGroup, work: Path, workers: int | None) -> None:
-    """Run (or resume) one group's batch through the elimscan command; report a batch that could not run."""
+def _group_keys(group: BatchGroup, work: Path) -> dict[str, tuple[str, str]]:
+    """Return the job keys of a group's pairs: key -> (substrate, base) as named in its config."""
+    config_file = work / f"{group.name}.yaml"
+    plan = plan_batch(parse_config(yaml.safe_dump(group.config, sort_keys=False), str(config_file)), config_file)
+    return {job.key: (job.substrate_name, job.base.name) for job in plan.jobs}
+
+
+def _run_group(group: BatchGroup, work: Path, workers: int | None, records: Path | None, commit: str) -> None:
+    """Run (or resume) one group's batch through the elimscan command, leaving out the pairs whose jobs are archived
+    in ``records``, then archive its finished jobs; report a batch that could not run."""
+    keys = _group_keys(group, work)
+    archived = {keys[k] for k in archived_keys(records) & set(keys)} if records is not None else set()
+    todo = [pair for pair in group.config["pairs"] if (pair["substrate"], pair["base"]) not in archived]
+    if not todo:
+        print(f"batch {group.name}: all {len(group.serves)} job(s) archived in {records}", file=sys.stderr, flush=True)
+        return
     config = work / f"{group.name}.yaml"
-    text = yaml.safe_dump(group.config, sort_keys=False)
+    text = yaml.safe_dump({**group.config, "pairs": todo}, sort_keys=False)
     if not config.exists() or config.read_text() != text:
         config.write_text(text)
     command = [sys.executable, "-m", "elimscan", "batch", str(config), "--out", str(work / group.name), "-q"]
     if workers is not None:
         command += ["--workers", str(workers)]
-    print(f"batch {group.name}: {len(group.serves)} job(s)", file=sys.stderr, flush=True)
+    print(f"batch {group.name}: {len(todo)} job(s)" + (f" ({len(archived)} archived)" if archived else ""),
+          file=sys.stderr, flush=True)
     done = subprocess.run(command, stderr=subprocess.PIPE, text=True)
     if done.returncode not in (0, 5):  # 5: finished with failed jobs (their records say why)
         tail = done.stderr.strip().splitlines()[-3:]
         print(f"batch {group.name} stopped with exit code {done.returncode}: {' / '.join(tail)}", file=sys.stderr)
+    if records is not None:
+        _archive_group(group, work, records, commit, keys)
 
 
-def _read_group(group: BatchGroup, work: Path) -> tuple[dict[tuple[str, str], tuple[dict, float | None]], dict | None]:
-    """Return the finished job records of one group by (substrate, base) with their wall time (s), and its provenance."""
-    config_file, out = work / f"{group.name}.yaml", work / group.name
+def _stored(group: BatchGroup, work: Path, keys: dict[str, tuple[str, str]]) -> tuple[dict, dict | None]:
+    """Return the finished store rows of a group's batch by key, and its provenance ({} and None without a store)."""
+    out = work / group.name
     if not (out / STORE_FILE).is_file():
         return {}, None
-    plan = plan_batch(parse_config(yaml.safe_dump(group.config, sort_keys=False), str(config_file)), config_file)
-    names = {job.key: (job.substrate_name, job.base.name) for job in plan.jobs}
     with JobStore(out / STORE_FILE, read_only=True) as store:
-        rows = store.finished(list(names), with_records=True)
+        rows = store.finished(list(keys), with_records=True)
     index = out / INDEX_FILE
-    provenance = json.loads(index.read_text())["provenance"] if index.is_file() else None
-    return {names[key]: (json.loads(row.job_json), row.wall_seconds) for key, row in rows.items()}, provenance
+    return rows, (json.loads(index.read_text())["provenance"] if index.is_file() else None)
+
+
+def _archive_group(group: BatchGroup, work: Path, records: Path, commit: str, keys: dict[str, tuple[str, str]]) -> None:
+    """Archive the group's jobs that finished ok in its batch (a failed job is tried again by the next run)."""
+    rows, provenance = _stored(group, work, keys)
+    written = archive_jobs(records, {key: ArchivedJob(json.loads(row.job_json), row.wall_seconds, provenance, commit)
+                                     for key, row in rows.items() if row.status == "ok"})
+    if written:
+        print(f"batch {group.name}: {written} finished job(s) archived in {records}", file=sys.stderr, flush=True)
+
+
+def _read_group(group: BatchGroup, work: Path, records: Path | None = None
+                ) -> tuple[dict[tuple[str, str], tuple[dict, float | None]], dict | None, dict[tuple[str, str], str]]:
+    """Return the finished job records of one group by (substrate, base) with their wall time (s), its provenance,
+    and which of them came from the archive with the commit that computed each (the work folder's batch first)."""
+    keys = _group_keys(group, work)
+    rows, provenance = _stored(group, work, keys)
+    found = {keys[key]: (json.loads(row.job_json), row.wall_seconds) for key, row in rows.items()}
+    archived: dict[tuple[str, str], str] = {}
+    if records is not None:
+        for key, job in read_archived(records, set(keys) - set(rows)).items():
+            found[keys[key]] = (job.job, job.wall_seconds)
+            provenance = provenance or job.provenance
+            archived[keys[key]] = job.commit
+    return found, provenance, archived
 
 
 @dataclass
@@ -123,6 +172,9 @@ class Collected:
     records: dict[str, dict[int, dict]] = field(default_factory=dict)
     seconds: dict[str, dict[int, float | None]] = field(default_factory=dict)
     provenance: dict | None = None
+    #: commits that computed the jobs read from the archive, and how many jobs were read from it
+    archived_commits: set[str] = field(default_factory=set)
+    n_archived: int = 0
     n_jobs: int = 0
     n_finished: int = 0
     job_seconds: float = 0.0
@@ -132,11 +184,11 @@ class Collected:
         return [job for by_seed in self.records.values() for job in by_seed.values()]
 
 
-def _collect(groups: list[BatchGroup], work: Path) -> Collected:
-    """Return the finished jobs of the groups' batches in the work folder (nothing computed)."""
+def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) -> Collected:
+    """Return the finished jobs of the groups' batches in the work folder and the archive (nothing computed)."""
     found = Collected()
     for group in groups:
-        in_group, provenance = _read_group(group, work)
+        in_group, provenance, archived = _read_group(group, work, records)
         found.provenance = found.provenance or provenance
         found.n_jobs += len(group.serves)
         for pair, served in group.serves.items():
@@ -144,6 +196,9 @@ def _collect(groups: list[BatchGroup], work: Path) -> Collected:
                 continue
             job, wall = in_group[pair]
             found.n_finished += 1
+            if pair in archived:
+                found.n_archived += 1
+                found.archived_commits.add(archived[pair])
             found.job_seconds += wall or 0.0
             for slot, seed in served:
                 found.records.setdefault(slot, {})[seed] = job
@@ -171,7 +226,7 @@ def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespa
             found, levels, scores, calibration = page
         else:
             groups = batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine, base_model=model)
-            found = _collect(groups, work)
+            found = _collect(groups, work, args.records)
             if not found.n_finished:
                 continue
             levels = computed_levels(found.jobs()) or ["dE"]
@@ -265,7 +320,7 @@ def main(argv: list[str] | None = None) -> int:
         if not args.no_compute:
             try:
                 for group in groups:
-                    _run_group(group, work, args.workers)
+                    _run_group(group, work, args.workers, args.records, commit)
             finally:  # an interrupted invocation counts its wall time too
                 entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
                          "commit": commit, "subset": args.subset, "seeds": seed_count, "base_model": args.base_model}
@@ -274,7 +329,7 @@ def main(argv: list[str] | None = None) -> int:
         log_file = work / RUN_LOG
         runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
         runs = [r for r in runs if r.get("base_model", UNNAMED_BASE_MODEL) == args.base_model]
-        found = _collect(groups, work)
+        found = _collect(groups, work, args.records)
         levels = computed_levels(found.jobs()) or ["dE"]
         scores, calibration = _score(chosen, found, seed_count, levels)
         models = _compare_models(chosen, seed_count, args, work, (found, levels, scores, calibration))
@@ -291,7 +346,10 @@ def main(argv: list[str] | None = None) -> int:
                    base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
                    n_jobs=n_jobs, n_jobs_finished=n_finished, compute_commits=tuple(r["commit"] for r in runs),
-                   **_freeze([r["commit"] for r in runs]))
+                   n_archived=found.n_archived, archived_commits=tuple(sorted(found.archived_commits)),
+                   records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
+                   args.records.is_relative_to(HERE.parent) else str(args.records),
+                   **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))
     page = validation_markdown(info, scores, calibration, levels, models)
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model), page)

@@ -51,6 +51,11 @@ class RunInfo:
     computed_before_freeze: tuple[str, ...] = ()
     #: commits of every invocation that computed in this work folder for this model (the code behind the numbers)
     compute_commits: tuple[str, ...] = ()
+    #: finished jobs read from the archive of job records (elimscan.batch.archive) rather than the work folder, the
+    #: commits that computed them, and the archive's folder
+    n_archived: int = 0
+    archived_commits: tuple[str, ...] = ()
+    records: str | None = None
 
 
 def _code(smiles: str | None) -> str:
@@ -267,6 +272,9 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
                                       if info.compute_commits else "")
              + f" (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
              f"{_duration(info.job_seconds)} summed over jobs" + _remaining(info),
+             *([f"- archived jobs: {info.n_archived} of the finished jobs were read from `{info.records}` (computed "
+                f"by commit {', '.join(f'`{c}`' for c in info.archived_commits)} on earlier machines; a job's key holds "
+                "every input and setting that changes its numbers)"] if info.n_archived else []),
              f"- command: `{info.command}`", "",
              "How to read it. Levels: dE, GFN2-xTB electronic barriers; dG, quasi-RRHO free barriers of verified saddles "
              "(1 M; paths without one are left out of that level's mix); DFT//GFN2, DFT single points on the GFN2-xTB "
