@@ -519,6 +519,45 @@ def test_path_starts_each_give_a_path_and_the_record_reports_their_spread():
         assert h.anti.barrier_kcal_mol <= h.anti.relaxed_path_estimate_kcal_mol + 1e-9
 
 
+def test_the_substitution_path_is_sampled_over_the_nucleophile_rotations_like_an_e2_approach(monkeypatch):
+    """Toy engine: with orientation_paths 2 the SN2 path is driven from the two lowest of three complexes (from
+    different rotations) and combined like an E2 approach's starts; with orientation_paths 1 it is the single path
+    from the lowest complex, as before. On the toy surface the second rotation's path does not reach the ether:
+    it is left out, and the barrier is the first path's (a path that does not reach its products is no barrier)."""
+    from toyjobs import ToyJobEngine
+
+    from elimscan.pipeline import compute
+    from elimscan.pipeline.outcome import SUBSTITUTION_KEY
+
+    given: list[list] = []
+
+    def spy(tried, *args, **kwargs):
+        given.append(list(tried))
+        return lowest_of_starts(tried, *args, **kwargs)
+
+    lowest_of_starts = compute.lowest_of_starts
+    monkeypatch.setattr(compute, "lowest_of_starts", spy)
+
+    def sn2(orientations: int):
+        given.clear()
+        paths = PathConfig(approaches=("anti",), substitution=True, points=3, base_rotations=3,
+                           orientation_paths=orientations, combine="boltzmann", saddle={"refine": False})
+        config = RunConfig(substrates=(SubstrateConfig(name="bromoethane", smiles="CCBr"),),
+                           bases=(BaseConfig(name="methoxide", model="bare"),), paths=paths)
+        (job_paths,) = compute.run_config(config, ToyJobEngine()).paths.values()
+        (tried,) = [t for t in given if t[0].approach == "substitution"]
+        return job_paths[SUBSTITUTION_KEY], tried
+
+    one, tried_one = sn2(1)
+    two, tried_two = sn2(2)
+    assert len(tried_one) == 1 and len(tried_two) == 2
+    assert len({p.complex.rotation_deg for p in tried_two}) == 2  # two different complexes
+    assert tried_two[0].top_hartree == pytest.approx(one.top_hartree, abs=1e-9)  # rank 0: the path of before
+    counted = [p for p in tried_two if p.counts_as_barrier]
+    assert two.top_hartree <= min(p.top_hartree for p in counted) + 1e-12
+    assert two.n_gradients == sum(p.n_gradients for p in tried_two)
+
+
 def test_an_unfinished_point_above_a_finished_interior_top_is_not_the_path_top():
     # Seen on one linear-algebra kernel (OpenBLAS SkylakeX): the last constrained relaxation of an ion-pair path
     # strayed and stopped unfinished 24 kcal/mol above its finished neighbour; taking it as the top hid the

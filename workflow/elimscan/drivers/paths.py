@@ -400,15 +400,17 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
 
 def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,
                               charge: int, multiplicity: int, settings: PathConfig, optimizer: OptimizerConfig,
-                              name: str = "substitution", on_stage: Callable[[str], None] | None = None
-                              ) -> PathResult:
+                              name: str = "substitution", on_stage: Callable[[str], None] | None = None,
+                              orientation_rank: int = 0) -> PathResult:
     """Return the complex, relaxed path and verified saddle of backside substitution at C-alpha (SN2).
 
+    The path starts from the complex of ``orientation_rank`` (0: the lowest) among ``settings.base_rotations``
+    rotations of the nucleophile about the Nu...C-alpha axis, as an E2 path does (``paths.orientation_paths``).
     The gradient budget and ``on_stage`` work as in ``compute_path``.
     """
     misses0 = engine.stats.misses
     budget, metered = _open_budget(engine, settings, start, base, on_stage)
-    best, energies, spent_complex = None, [], 0
+    found, energies, spent_complex = [], [], 0
     budget.enter(STAGE_COMPLEX)
     try:
         for k in range(settings.base_rotations):
@@ -419,11 +421,11 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
             result = relax(placed, metered.calculator(charge, multiplicity, name=f"{name} complex"), held, optimizer)
             spent_complex += result.n_gradients
             energies.append(result.energy_hartree)
-            if best is None or result.energy_hartree < best[1]:
-                best = (result.atoms, result.energy_hartree, rotation)
+            found.append((result.energy_hartree, rotation, result.atoms))
     except BudgetSpent as spent:
         raise _no_complex(name, spent) from spent
-    complex_ = ComplexResult(best[0], best[1], best[2], tuple(energies), spent_complex)
+    energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(orientation_rank, len(found) - 1)]
+    complex_ = ComplexResult(atoms, energy, rotation, tuple(energies), spent_complex)
     points = [_complex_point(complex_, reactive)]
     before_saddle = None
     try:

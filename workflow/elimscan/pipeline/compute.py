@@ -320,14 +320,19 @@ def compute_job_paths(analysis: SubstrateAnalysis, base: BaseAnalysis, config: R
         if on_progress is not None:
             on_progress(DETAIL, DETAIL, f"{analysis.name}: backside substitution (SN2) path")
         reactive = path_reactive(analysis, base, SUBSTITUTION_KEY)
-        try:
-            name = f"{analysis.name} substitution"
-            paths[SUBSTITUTION_KEY] = compute_substitution_path(
-                analysis.ensemble.lowest.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, engine,
-                charge, multiplicity, config.paths, config.optimizer, name=name,
-                on_stage=_stage_reporter(on_progress, name))
-        except ElimscanError as err:
-            paths[SUBSTITUTION_KEY] = error_info(err)
+        tried, failure = [], None
+        # the nucleophile's rotations are sampled as an E2 approach's are (paths.orientation_paths, paths.combine)
+        for rank in range(min(config.paths.orientation_paths, config.paths.base_rotations)):
+            name = f"{analysis.name} substitution" + (f" orientation {rank}" if rank else "")
+            try:
+                tried.append(compute_substitution_path(
+                    analysis.ensemble.lowest.atoms, base.relaxed.atoms, base.info.basic_atom_index, reactive, engine,
+                    charge, multiplicity, config.paths, config.optimizer, name=name,
+                    on_stage=_stage_reporter(on_progress, name), orientation_rank=rank))
+            except ElimscanError as err:
+                failure = failure or error_info(err)
+        paths[SUBSTITUTION_KEY] = (lowest_of_starts(tried, config.paths.combine, config.method.temperature_K)
+                                   if tried else failure)
     return paths
 
 

@@ -38,9 +38,11 @@ DFT_SINGLE_POINTS = "single-point"
 #: labels of geminal hydrogens (chem/geminal.py): before, a CH2's two hydrogens could trade places in a fresh
 #: embedding, and a path was computed for one hydrogen under the other's product (E for Z)
 KEY_FORMAT = 2
-#: raised for the jobs with ``paths.combine: boltzmann`` only: 2 since their free barrier is Boltzmann-combined over
-#: the verified saddles of every start, as the electronic one always was (before, it was the lowest start's alone)
-BOLTZMANN_KEY_FORMAT = 2
+#: raised for the jobs that sample starts (``paths.combine: boltzmann`` or ``paths.orientation_paths`` > 1) only: 2
+#: since the free barrier is Boltzmann-combined over the verified saddles of every start, as the electronic one
+#: always was (before, it was the lowest start's alone); 3 since the SN2 path is sampled over the nucleophile's
+#: rotations as an E2 approach is (before, SN2 drove one path from the lowest complex whatever the sampling)
+SAMPLING_KEY_FORMAT = 3
 
 
 def _without_neutral(document: dict) -> dict:
@@ -111,8 +113,8 @@ def job_key(config: RunConfig, substrate: dict, base: BaseConfig, solvent: Solve
         settings.pop("dft", None)
     document = _without_neutral({"key_format": KEY_FORMAT, "settings": settings, "substrate": substrate,
                                  "base": keyed_base(base, solvent), "versions": versions})
-    if config.paths.combine == "boltzmann":
-        document["boltzmann_key_format"] = BOLTZMANN_KEY_FORMAT
+    if config.paths.combine == "boltzmann" or config.paths.orientation_paths > 1:
+        document["sampling_key_format"] = SAMPLING_KEY_FORMAT
     return hashlib.sha256(json.dumps(document, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
 
