@@ -78,6 +78,11 @@ class PathConfig(Frozen):
     #: (kcal/mol), keeping the lowest after relaxing on (0: only the chosen rotation); rotations often lie within
     #: 0.2 kcal/mol of each other, so a loose ranking picks among near-equals
     complex_screen_window_kcal_mol: float = Field(0.0, ge=0)
+    #: optimiser of the complex relaxations (every base rotation of an E2 complex, the relax-on after a screen, and
+    #: the SN2 complex), with method.optimizer's force limit, step limit and rigid rotation: null = method.optimizer;
+    #: 'bfgs' = ASE BFGS with FixInternals in Cartesians (cheaper per step than Sella in internal coordinates);
+    #: 'sella' = Sella in internal coordinates. MEASURED: see docs/method.md (Complexes)
+    complex_optimizer: Literal["bfgs", "sella"] | None = None
     #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
     step_A: float = Field(0.15, gt=0)
     #: ... for this many points after the complex

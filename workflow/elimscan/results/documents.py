@@ -43,7 +43,9 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: error_type is dft_memory_limit, a string as every error_type).
 #: 0.8.2 added two optional config keys: paths.complex_screen_fmax_eV_per_A and complex_screen_window_kcal_mol (base
 #: rotations screened loosely with BFGS, only the chosen ones relaxed on).
-RESULT_SCHEMA_VERSION = "0.8.2"
+#: 0.8.3 added one optional config key: paths.complex_optimizer (the optimiser of the complex relaxations; null:
+#: method.optimizer).
+RESULT_SCHEMA_VERSION = "0.8.3"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -133,7 +135,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
