@@ -140,7 +140,8 @@ def test_the_complex_screen_is_off_by_default_and_bounded():
 def test_the_complex_optimizer_is_unset_by_default_and_named():
     assert parse_config(GOOD).paths.complex_optimizer is None
     assert parse_config(GOOD + "paths: {complex_optimizer: bfgs}\n").paths.complex_optimizer == "bfgs"
-    assert parse_config(GOOD + "paths: {complex_optimizer: sella}\n").paths.complex_optimizer == "sella"
+    for name in ("sella", "sella-cartesian"):
+        assert parse_config(GOOD + f"paths: {{complex_optimizer: {name}}}\n").paths.complex_optimizer == name
     for bad in ("fire", "BFGS", 1):
         with pytest.raises(ConfigError) as info:
             parse_config(GOOD + f"paths: {{complex_optimizer: {bad}}}\n", source="run.yaml")

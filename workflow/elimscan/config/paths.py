@@ -81,8 +81,8 @@ class PathConfig(Frozen):
     #: optimiser of the complex relaxations (every base rotation of an E2 complex, the relax-on after a screen, and
     #: the SN2 complex), with method.optimizer's force limit, step limit and rigid rotation: null = method.optimizer;
     #: 'bfgs' = ASE BFGS with FixInternals in Cartesians (cheaper per step than Sella in internal coordinates);
-    #: 'sella' = Sella in internal coordinates. MEASURED: see docs/method.md (Complexes)
-    complex_optimizer: Literal["bfgs", "sella"] | None = None
+    #: 'sella' = Sella in internal coordinates; 'sella-cartesian' = Sella in Cartesians. MEASURED: see docs/method.md
+    complex_optimizer: Literal["bfgs", "sella", "sella-cartesian"] | None = None
     #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
     step_A: float = Field(0.15, gt=0)
     #: ... for this many points after the complex

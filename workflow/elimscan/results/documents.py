@@ -44,7 +44,7 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: 0.8.2 added two optional config keys: paths.complex_screen_fmax_eV_per_A and complex_screen_window_kcal_mol (base
 #: rotations screened loosely with BFGS, only the chosen ones relaxed on).
 #: 0.8.3 added one optional config key: paths.complex_optimizer (the optimiser of the complex relaxations; null:
-#: method.optimizer).
+#: method.optimizer), and one value of method.optimizer.name: sella-cartesian (Sella in Cartesians).
 RESULT_SCHEMA_VERSION = "0.8.3"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
