@@ -135,3 +135,14 @@ def test_the_complex_screen_is_off_by_default_and_bounded():
     with pytest.raises(ConfigError) as info:
         parse_config(GOOD + "paths: {complex_screen_window_kcal_mol: -0.1}\n", source="run.yaml")
     assert info.value.key_path == "paths.complex_screen_window_kcal_mol"
+
+
+def test_the_complex_optimizer_is_unset_by_default_and_named():
+    assert parse_config(GOOD).paths.complex_optimizer is None
+    assert parse_config(GOOD + "paths: {complex_optimizer: bfgs}\n").paths.complex_optimizer == "bfgs"
+    for name in ("sella", "sella-cartesian"):
+        assert parse_config(GOOD + f"paths: {{complex_optimizer: {name}}}\n").paths.complex_optimizer == name
+    for bad in ("fire", "BFGS", 1):
+        with pytest.raises(ConfigError) as info:
+            parse_config(GOOD + f"paths: {{complex_optimizer: {bad}}}\n", source="run.yaml")
+        assert info.value.key_path == "paths.complex_optimizer" and info.value.line == 7

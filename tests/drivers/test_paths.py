@@ -675,3 +675,69 @@ def test_a_screened_complex_is_the_lowest_rotation_relaxed_on_alone(embed, monke
                                                   complex_screen_window_kcal_mol=window), tight)
         assert forces == [0.05] * 3 + [0.002] * relaxed_on
         assert wide.energy_hartree == pytest.approx(lowest, abs=1e-6)
+
+
+class _StopRelax(Exception):
+    """Raised by a recording relax to stop a build once the optimiser it was handed is known."""
+
+
+def test_the_complex_optimizer_setting_reaches_every_complex_relaxation(embed, monkeypatch):
+    # The same three-well toy as above: with method.optimizer Sella and paths.complex_optimizer 'bfgs', every
+    # rotation of the E2 complex is relaxed with BFGS at method.optimizer's force limit, and the complex kept is the
+    # lowest well that BFGS finds with every rotation (closed form: the 180-degree well); with the screen on, the
+    # relax-on is BFGS too; at null the complexes get method.optimizer (Sella), as before the setting; the SN2 complex
+    # follows the setting as well.
+    import elimscan.drivers.complexes as complexes
+    import elimscan.drivers.paths as paths
+    from elimscan.drivers.complexes import SubstitutionReactive
+    from elimscan.geometry import dihedral_deg
+
+    substrate, base = embed("CCCl"), embed("CC[O-]")
+    n = len(substrate)
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=n + 2)
+    engine = _ThreeWellEngine(place_base(substrate, 3, 0, base, 2, 2.0, 0.0))
+    engine.quad = (1, 0, n + 2, n + 1)
+    held_deg = dihedral_deg(substrate.positions, 3, 0, 1, 2)
+    tight_bfgs = OptimizerConfig(name="bfgs", fmax_eV_per_A=0.002)
+    tight_sella = OptimizerConfig(name="sella", fmax_eV_per_A=0.002, max_steps=321)
+    full = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1, PathConfig(), tight_bfgs)
+    real_relax, seen = complexes.relax, []
+
+    def recording(start, calc, held, settings):
+        seen.append((settings.name, settings.fmax_eV_per_A, settings.max_steps))
+        if settings.name == "sella":
+            raise _StopRelax  # Sella is not run here: only which optimiser was asked for is checked
+        return real_relax(start, calc, held, settings)
+
+    monkeypatch.setattr(complexes, "relax", recording)
+    chosen = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
+                                     PathConfig(complex_optimizer="bfgs"), tight_sella)
+    assert seen == [("bfgs", 0.002, 321)] * 3
+    assert chosen.energy_hartree == pytest.approx(min(full.energies_hartree), abs=1e-6)
+    assert abs(abs(dihedral_deg(chosen.atoms.positions, *engine.quad)) - 180.0) < 1.0
+    seen.clear()
+    complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1,
+                            PathConfig(complex_optimizer="bfgs", complex_screen_fmax_eV_per_A=0.05), tight_sella)
+    assert seen == [("bfgs", 0.05, 321)] * 3 + [("bfgs", 0.002, 321)]
+    for unset in (PathConfig(), PathConfig(complex_optimizer=None)):
+        seen.clear()
+        with pytest.raises(_StopRelax):
+            complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1, unset, tight_sella)
+        assert seen == [("sella", 0.002, 321)]
+    # a setting equal to method.optimizer's name hands over method.optimizer unchanged
+    assert complexes.complex_optimizer(PathConfig(complex_optimizer="sella"), tight_sella) is tight_sella
+    assert complexes.complex_optimizer(PathConfig(complex_optimizer="sella"), tight_bfgs).name == "sella"
+
+    handed = []
+
+    def stop_at_the_complex(start, calc, held, settings):
+        handed.append(settings.name)
+        raise _StopRelax
+
+    monkeypatch.setattr(paths, "relax", stop_at_the_complex)
+    sn2 = SubstitutionReactive(nu=n + 2, c_alpha=1, x=2)
+    for setting, expected in ((None, "sella"), ("bfgs", "bfgs")):
+        with pytest.raises(_StopRelax):
+            paths.compute_substitution_path(substrate, base, 2, sn2, engine, -1, 1,
+                                            PathConfig(complex_optimizer=setting), tight_sella)
+        assert handed[-1] == expected

@@ -66,10 +66,11 @@ def test_a_reused_calculator_is_restored_after_each_relaxation(ethane):
     assert toy.stats.misses - before == second.n_gradients
 
 
-def test_sella_refuses_a_distance_combination(ethane):
+@pytest.mark.parametrize("optimizer", ["sella", "sella-cartesian"])
+def test_sella_refuses_a_distance_combination(ethane, optimizer):
     toy = SpringTorsionEngine(ethane)
     with pytest.raises(OptimizationError, match="linear combination"):
-        relax(ethane, toy.calculator(), [HeldDistanceSum(((0, 2, 1.0), (0, 1, -1.0)))], OptimizerConfig(name="sella"))
+        relax(ethane, toy.calculator(), [HeldDistanceSum(((0, 2, 1.0), (0, 1, -1.0)))], OptimizerConfig(name=optimizer))
 
 
 def test_step_limit_is_reported(ethane):
@@ -84,7 +85,7 @@ def test_step_limit_is_reported(ethane):
 
 
 @pytest.mark.xtb
-@pytest.mark.parametrize("optimizer", ["bfgs", "sella"])
+@pytest.mark.parametrize("optimizer", ["bfgs", "sella", "sella-cartesian"])
 def test_gfn2_relaxation_holds_dihedral_and_distance(embed, gfn2_gas, optimizer):
     # The tolerances: dihedral held to 0.01 deg, distance to 1e-4 Å, with GFN2-xTB forces.
     atoms = embed("CC(Cl)CC")  # 2-chlorobutane; H on C3 is atom 9 or later

@@ -201,3 +201,22 @@ def test_screening_the_base_rotations_keys_apart_only_when_on():
     assert key(complex_screen_window_kcal_mol=0.0) == key()
     assert key(complex_screen_fmax_eV_per_A=0.05, complex_screen_window_kcal_mol=0.5) != \
         key(complex_screen_fmax_eV_per_A=0.05)
+
+
+def test_the_complex_optimizer_keys_apart_only_when_set():
+    """paths.complex_optimizer at null relaxes the complexes with method.optimizer, as before it existed
+    (KEY_NEUTRAL), so a job keeps the key pinned above; set, the complexes may move, so the key must too."""
+    from elimscan.config import BaseConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline.document import job_key
+
+    def key(**paths) -> str:
+        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), paths=PathConfig(**paths))
+        return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                       SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
+
+    assert key(complex_optimizer=None) == key() == \
+        "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
+    assert key(complex_optimizer="bfgs") != key()
+    assert key(complex_optimizer="sella") != key(complex_optimizer="bfgs")
+    assert key(complex_optimizer="bfgs", complex_screen_fmax_eV_per_A=0.05) != key(complex_optimizer="bfgs")

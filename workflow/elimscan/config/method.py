@@ -97,8 +97,9 @@ class OptimizerConfig(Frozen):
 
     #: 'sella' = Sella in internal coordinates (default: fewer gradients and less time per constrained
     #: point in benchmarks/bench_engine.py); 'bfgs' = ASE BFGS with FixInternals (the only one that
-    #: can hold a linear combination of distances)
-    name: Literal["bfgs", "sella"] = "sella"
+    #: can hold a linear combination of distances); 'sella-cartesian' = Sella in Cartesian coordinates with the
+    #: same constraints (no internal-coordinate back-transformation per step)
+    name: Literal["bfgs", "sella", "sella-cartesian"] = "sella"
     #: convergence: largest force component (eV/Å)
     fmax_eV_per_A: float = Field(0.01, gt=0)
     max_steps: int = Field(500, ge=1)

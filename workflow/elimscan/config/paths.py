@@ -78,6 +78,15 @@ class PathConfig(Frozen):
     #: (kcal/mol), keeping the lowest after relaxing on (0: only the chosen rotation); rotations often lie within
     #: 0.2 kcal/mol of each other, so a loose ranking picks among near-equals
     complex_screen_window_kcal_mol: float = Field(0.0, ge=0)
+    #: optimiser of the complex relaxations (every base rotation of an E2 complex, the relax-on after a screen, and
+    #: the SN2 complex), with method.optimizer's force limit, step limit and rigid rotation: null = method.optimizer;
+    #: 'bfgs' = ASE BFGS with FixInternals in Cartesians; 'sella' = Sella in internal coordinates; 'sella-cartesian'
+    #: = Sella in Cartesians. bench_paths (one run each, against null): the complexes' steps run 76-90 % inside the
+    #: library (17-31 % with Sella in internals) but take 2.2-3.2 x the gradients, so their cost in gradient times
+    #: moved -25 to +2 % and the job's -7 to +6 %; bare anion: syn barriers +0.50/-0.30 (bfgs) and +0.31/-0.20
+    #: (sella-cartesian) kcal/mol; three-ethanol cluster: verified saddles 6 -> 7 (a path that never rose now
+    #: rises) and the SN2 barrier +1.37 kcal/mol (sella-cartesian), hence null (docs/method.md, Complexes)
+    complex_optimizer: Literal["bfgs", "sella", "sella-cartesian"] | None = None
     #: combined coordinate d(Cb-H) - d(B-H) + d(Ca-X) is driven up in steps of this (Å) ...
     step_A: float = Field(0.15, gt=0)
     #: ... for this many points after the complex

@@ -173,6 +173,14 @@ def _relax_rotations(substrate: Atoms, base: Atoms, basic: int, reactive: Reacti
     return found, spent, failed, first_error
 
 
+def complex_optimizer(settings: PathConfig, optimizer: OptimizerConfig) -> OptimizerConfig:
+    """Return the optimiser settings of the complex relaxations: ``optimizer`` under ``settings.complex_optimizer``'s
+    name when that is set (force limit in eV/Å, step limit and rigid rotation kept), else ``optimizer`` itself."""
+    if settings.complex_optimizer is None or settings.complex_optimizer == optimizer.name:
+        return optimizer
+    return optimizer.model_copy(update={"name": settings.complex_optimizer})
+
+
 def _complex_held(reactive: Reactive, settings: PathConfig, dihedral_target_deg: float) -> list:
     """Return the coordinates held in a complex: H...B at complex_distance_A (Å) and H-Cβ-Cα-X at the target (deg)."""
     return [HeldDistance((reactive.h, reactive.base), settings.complex_distance_A),
@@ -188,8 +196,10 @@ def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive,
     while another rotation succeeds; when all fail, the first failure is raised. With
     ``settings.complex_screen_fmax_eV_per_A`` every rotation is first relaxed with BFGS to that force only, ranked
     on those energies (``energies_hartree`` are then the screened ones), and only the chosen rotation is relaxed on
-    with ``optimizer`` (the next-ranked one when that fails).
+    with ``optimizer`` (the next-ranked one when that fails). ``settings.complex_optimizer``, when set, replaces
+    ``optimizer``'s name (``complex_optimizer``).
     """
+    optimizer = complex_optimizer(settings, optimizer)
     screen = settings.complex_screen_fmax_eV_per_A
     if screen is None:
         found, spent, failed, first_error = _relax_rotations(substrate, base, basic, reactive, dihedral_target_deg,

@@ -25,7 +25,8 @@ from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, NOT_TO_PRODUCTS
                                     no_barrier_reason)
 from elimscan.drivers.budget import (STAGE_BASE_H, STAGE_COMPLEX, STAGE_END, STAGE_NEB, STAGE_PATH, STAGE_SADDLE,
                                      BudgetSpent, GradientBudget, path_budget)
-from elimscan.drivers.complexes import ComplexResult, Reactive, SubstitutionReactive, build_complex, place_backside
+from elimscan.drivers.complexes import (ComplexResult, Reactive, SubstitutionReactive, build_complex, complex_optimizer,
+                                         place_backside)
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 from elimscan.drivers.saddles import BFGS, SaddleResult, base_h_scan_maximum, neb_climbing_image, refine_and_verify
 
@@ -411,6 +412,7 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
     misses0 = engine.stats.misses
     budget, metered = _open_budget(engine, settings, start, base, on_stage)
     found, energies, spent_complex = [], [], 0
+    complex_settings = complex_optimizer(settings, optimizer)
     budget.enter(STAGE_COMPLEX)
     try:
         for k in range(settings.base_rotations):
@@ -418,7 +420,8 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
             placed = place_backside(start, reactive.c_alpha, reactive.x, base, basic, settings.substitution_distance_A,
                                     rotation)
             held = [HeldDistance((reactive.nu, reactive.c_alpha), settings.substitution_distance_A)]
-            result = relax(placed, metered.calculator(charge, multiplicity, name=f"{name} complex"), held, optimizer)
+            result = relax(placed, metered.calculator(charge, multiplicity, name=f"{name} complex"), held,
+                           complex_settings)
             spent_complex += result.n_gradients
             energies.append(result.energy_hartree)
             found.append((result.energy_hartree, rotation, result.atoms))

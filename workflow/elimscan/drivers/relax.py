@@ -1,11 +1,11 @@
-"""Geometry relaxation with held internal coordinates, behind one call for two optimisers.
+"""Geometry relaxation with held internal coordinates, behind one call for three optimisers.
 
 Part of the engine layer but backend-agnostic: it drives any ASE calculator (GFN2-xTB from
 ``engine.py`` or the toy model). Held coordinates: dihedrals, distances and linear combinations
 of distances. ``bfgs`` uses ASE BFGS with ``FixInternals`` (all three kinds; its force projection made
-cheaper in ``constraints``); ``sella`` uses Sella in internal coordinates with its own constraints, which
-hold dihedrals and distances but no linear combination of distances (Sella 2.6 has no such constraint
-type), so a combination is refused there.
+cheaper in ``constraints``); ``sella`` uses Sella in internal coordinates (``sella-cartesian``: in Cartesians)
+with its own constraints, which hold dihedrals and distances but no linear combination of distances (Sella 2.6
+has no such constraint type), so a combination is refused there.
 """
 
 from __future__ import annotations
@@ -192,15 +192,16 @@ def relax(
         if isinstance(item, HeldDihedral) and constraint_error(work.positions, item, target) > settings.rigid_rotation_above_deg:
             rotate_to_dihedral(work, item.atoms, target)  # rings cannot rotate rigidly: left to the projection
     optimizer, fmax_eV_per_A, max_steps = settings.name, settings.fmax_eV_per_A, settings.max_steps
-    if optimizer not in ("bfgs", "sella"):
-        raise ValueError(f"unknown optimizer '{optimizer}' (choose bfgs or sella)")
+    if optimizer not in ("bfgs", "sella", "sella-cartesian"):
+        raise ValueError(f"unknown optimizer '{optimizer}' (choose bfgs, sella or sella-cartesian)")
     try:
         with _Counter(calculator) as counter:
             if optimizer == "bfgs":
                 steps, converged, hessian = _run_bfgs(work, held, targets, fmax_eV_per_A, max_steps, on_step,
                                                       start_hessian)
             else:
-                steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step)
+                steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step,
+                                              internal=optimizer == "sella")
                 hessian = None
             energy = work.get_potential_energy() / EV_PER_HARTREE
     except EngineError:
@@ -237,8 +238,9 @@ def _run_bfgs(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax:
 
 
 def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
-               on_step: Callable[[int, float], None] | None) -> tuple[int, bool]:
-    """Run Sella (minimisation, internal coordinates) with its own constraints; return (steps, converged)."""
+               on_step: Callable[[int, float], None] | None, internal: bool = True) -> tuple[int, bool]:
+    """Run Sella (minimisation, in internal coordinates or Cartesians) with its own constraints; return (steps,
+    converged)."""
     from sella import Constraints, Sella  # imported here: Sella loads jax, which is slow to start
 
     constraints = Constraints(work)
@@ -249,7 +251,7 @@ def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax
             constraints.fix_bond(item.atoms, target=target)
         else:
             raise OptimizationError("Sella cannot hold a linear combination of distances: use optimizer 'bfgs'")
-    opt = Sella(work, order=0, internal=True, constraints=constraints, logfile=None)
+    opt = Sella(work, order=0, internal=internal, constraints=constraints, logfile=None)
     if on_step is not None:
         opt.attach(lambda: on_step(opt.nsteps, work.get_potential_energy() / EV_PER_HARTREE))
     converged = opt.run(fmax=fmax, steps=max_steps)

@@ -43,9 +43,11 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: error_type is dft_memory_limit, a string as every error_type).
 #: 0.8.2 added two optional config keys: paths.complex_screen_fmax_eV_per_A and complex_screen_window_kcal_mol (base
 #: rotations screened loosely with BFGS, only the chosen ones relaxed on).
-#: 0.8.3 changed no field, only what one holds: under barrier_combination boltzmann, barrier_free_energy_kcal_mol is
-#: the Boltzmann sum over the starts' verified saddles (before: the lowest start's saddle alone); with
-#: paths.orientation_paths > 1 the substitution block's barriers come from that many sampled SN2 paths.
+#: 0.8.3 added one optional config key: paths.complex_optimizer (the optimiser of the complex relaxations; null:
+#: method.optimizer) and one value of method.optimizer.name: sella-cartesian (Sella in Cartesians); and it changed
+#: what two fields hold: under barrier_combination boltzmann, barrier_free_energy_kcal_mol is the Boltzmann sum over
+#: the starts' verified saddles (before: the lowest start's saddle alone); with paths.orientation_paths > 1 the
+#: substitution block's barriers come from that many sampled SN2 paths.
 RESULT_SCHEMA_VERSION = "0.8.3"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
