@@ -631,6 +631,18 @@ class _ThreeWellEngine(SpringTorsionEngine):
         return energy, forces - slope * dihedral_gradient_rad(positions, *self.quad)
 
 
+def _three_well_complex(embed):
+    """Return chloroethane, ethoxide, the reactive atoms of C0-H3, the three-well engine and the held dihedral (deg)."""
+    from elimscan.geometry import dihedral_deg
+
+    substrate, base = embed("CCCl"), embed("CC[O-]")
+    n = len(substrate)
+    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=n + 2)
+    engine = _ThreeWellEngine(place_base(substrate, 3, 0, base, 2, 2.0, 0.0))
+    engine.quad = (1, 0, n + 2, n + 1)
+    return substrate, base, reactive, engine, dihedral_deg(substrate.positions, 3, 0, 1, 2)
+
+
 def test_a_screened_complex_is_the_lowest_rotation_relaxed_on_alone(embed, monkeypatch):
     # Ethoxide on chloroethane's C0-H3: the three base rotations (start dihedrals Cα-Cβ-O-C about -146, -26 and 94
     # degrees) fall into the three wells of a term on that dihedral; the lowest complex sits at 180 degrees, 0.03 eV
@@ -639,12 +651,7 @@ def test_a_screened_complex_is_the_lowest_rotation_relaxed_on_alone(embed, monke
     import elimscan.drivers.complexes as complexes
     from elimscan.geometry import dihedral_deg
 
-    substrate, base = embed("CCCl"), embed("CC[O-]")
-    n = len(substrate)
-    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=n + 2)
-    engine = _ThreeWellEngine(place_base(substrate, 3, 0, base, 2, 2.0, 0.0))
-    engine.quad = (1, 0, n + 2, n + 1)
-    held_deg = dihedral_deg(substrate.positions, 3, 0, 1, 2)
+    substrate, base, reactive, engine, held_deg = _three_well_complex(embed)
     tight = OptimizerConfig(name="bfgs", fmax_eV_per_A=0.002)
     full = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1, PathConfig(), tight)
     real_relax, forces = complexes.relax, []
@@ -692,12 +699,7 @@ def test_the_complex_optimizer_setting_reaches_every_complex_relaxation(embed, m
     from elimscan.drivers.complexes import SubstitutionReactive
     from elimscan.geometry import dihedral_deg
 
-    substrate, base = embed("CCCl"), embed("CC[O-]")
-    n = len(substrate)
-    reactive = Reactive(h=3, c_beta=0, c_alpha=1, x=2, base=n + 2)
-    engine = _ThreeWellEngine(place_base(substrate, 3, 0, base, 2, 2.0, 0.0))
-    engine.quad = (1, 0, n + 2, n + 1)
-    held_deg = dihedral_deg(substrate.positions, 3, 0, 1, 2)
+    substrate, base, reactive, engine, held_deg = _three_well_complex(embed)
     tight_bfgs = OptimizerConfig(name="bfgs", fmax_eV_per_A=0.002)
     tight_sella = OptimizerConfig(name="sella", fmax_eV_per_A=0.002, max_steps=321)
     full = complexes.build_complex(substrate, base, 2, reactive, held_deg, engine, -1, 1, PathConfig(), tight_bfgs)
@@ -735,7 +737,7 @@ def test_the_complex_optimizer_setting_reaches_every_complex_relaxation(embed, m
         raise _StopRelax
 
     monkeypatch.setattr(paths, "relax", stop_at_the_complex)
-    sn2 = SubstitutionReactive(nu=n + 2, c_alpha=1, x=2)
+    sn2 = SubstitutionReactive(nu=len(substrate) + 2, c_alpha=1, x=2)
     for setting, expected in ((None, "sella"), ("bfgs", "bfgs")):
         with pytest.raises(_StopRelax):
             paths.compute_substitution_path(substrate, base, 2, sn2, engine, -1, 1,
