@@ -16,7 +16,7 @@ from rdkit.Chem.rdMolDescriptors import CalcMolFormula
 from elimscan.chem.basemodels import (CATION_DISTANCE_A, HYDROGEN_BOND_A, build_cluster, conjugate_acid_smiles,
                                  lone_pair_directions)
 from elimscan.chem.bases import describe_base
-from elimscan.config import BaseConfig, BaseModelConfig, PathConfig, RunConfig, SubstrateConfig
+from elimscan.config import DEFAULT_SEED, BaseConfig, BaseModelConfig, PathConfig, RunConfig, SubstrateConfig
 from elimscan.errors import StructureError
 from elimscan.chem.structures import build_molecule
 
@@ -263,6 +263,32 @@ def test_arrangements_leave_a_different_lone_pair_free_and_move_the_second_shell
     assert _free_lone_pair_side(clusters[3]) @ sides[0] == pytest.approx(1.0, abs=1e-6)
     assert not np.allclose(clusters[3].atoms.positions[-9:], clusters[0].atoms.positions[-9:], atol=0.1)
     assert all(_hill(c.atoms) == _hill(clusters[0].atoms) for c in clusters)
+
+
+def test_several_embeddings_are_relaxed_in_every_arrangement_from_seeds_no_other_job_uses(monkeypatch):
+    """Two embeddings x two arrangements: four clusters built, from the job's seed and one 7919 above it (never
+    the next benchmark seed), and the lowest relaxed one kept."""
+    from elimscan.pipeline import compute
+
+    built = []
+    real = compute.model_cluster
+
+    def recording(*args):
+        built.append((args[6], args[8]))  # (seed, arrangement)
+        return real(*args)
+
+    monkeypatch.setattr(compute, "model_cluster", recording)
+    one, _ = _toy_run({"explicit": 3, "arrangements": 2})
+    first = list(built)
+    built.clear()
+    four, record = _toy_run({"explicit": 3, "arrangements": 2, "embeddings": 2})
+    seed = DEFAULT_SEED
+    assert first == [(seed, 0), (seed, 1)]
+    assert built == [(seed, 0), (seed, 1), (seed + 7919, 0), (seed + 7919, 1)]
+    single, best = one.bases["methoxide"].relaxed.record, four.bases["methoxide"].relaxed.record
+    assert best.status == "ok" and best.arrangements == 4 and single.arrangements == 2
+    assert best.energy_hartree <= single.energy_hartree + 1e-9  # the first embedding's clusters are among the four
+    assert best.n_gradients > single.n_gradients and record.status == "ok"
 
 
 def test_several_arrangements_are_relaxed_and_the_lowest_is_kept_on_the_toy_engine():

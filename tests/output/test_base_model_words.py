@@ -75,7 +75,7 @@ def test_a_job_with_the_default_model_names_its_molecules_arrangements_and_reaso
     spread = f"{base['arrangement_spread_kcal_mol']:.2f} kcal/mol"
     model = (f"NaOEt with {DEFAULT_EXPLICIT_MOLECULES} ethanol molecules (2 hydrogen-bonded to the basic atom, "
              "1 in the second shell)")
-    arrangements = f"the lowest of 2 relaxed starting arrangements, which spread {spread} (highest minus lowest)"
+    arrangements = f"the lowest of 2 relaxed starting clusters, which spread {spread} (highest minus lowest)"
 
     text = summary_table(RunResult.model_validate(doc))
     lines = _job_block(text, DEFAULT_JOB)

@@ -124,6 +124,9 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
     assert job_key(config, {"name": "s", "smiles": "CCCl"}, more, SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != key  # three arrangements can change the numbers
+    embedded = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"embeddings": 2})})
+    assert job_key(config, {"name": "s", "smiles": "CCCl"}, embedded, SolventConfig(model="alpb", name="ethanol"),
+                   {"elimscan": "test"}) != key  # so can two embeddings (one, the default, keeps the key above)
 
 
 def _dft_key(monkeypatch):

@@ -33,6 +33,8 @@ BASE_MODEL_CANDIDATES: dict[str, tuple[dict[str, Any] | None, str]] = {
     "alcohol-3-sampled": ({"explicit": 3, "arrangements": 3},
                           "alcohol-3, the lowest of three hydrogen-bond arrangements of the cluster, with whole paths "
                           "driven from all three base rotations of each complex and Boltzmann-combined"),
+    "alcohol-3-embedded": ({"explicit": 3, "embeddings": 5},
+                           "alcohol-3, the lowest of five independent embeddings of the base and its three ethanols"),
 }
 
 #: name -> ``paths:`` settings a candidate adds to every case's own (issue 18 item 2: sampling of the solvated base

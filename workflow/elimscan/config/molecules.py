@@ -28,6 +28,8 @@ OVERNIGHT_HEAVY_ATOMS = 60
 MAX_EXPLICIT_MOLECULES = 4
 #: starting hydrogen-bond arrangements of a base model at most (each is relaxed; the lowest is kept)
 MAX_CLUSTER_ARRANGEMENTS = 6
+#: independent embeddings of a base model's molecules at most (each relaxed in every arrangement; the lowest is kept)
+MAX_CLUSTER_EMBEDDINGS = 8
 #: explicit molecules of its own conjugate acid an alkoxide or hydroxide gets by default in a protic solvent (water,
 #: an alcohol; solvents.PROTIC_SOLVENTS) when its ``model:`` gives no ``explicit``: the benchmark's frozen base
 #: model (validation/model-freeze.yaml, ``alcohol-3``: two alcohols hydrogen-bonded to the oxygen, one in the second
@@ -106,6 +108,11 @@ class BaseModelConfig(Frozen):
     #: distinct starting arrangements of the cluster (which lone pair stays free, which first-shell molecule
     #: holds each second-shell one), each relaxed; the lowest relaxed one is the base (1: the first only)
     arrangements: int = Field(1, ge=1, le=MAX_CLUSTER_ARRANGEMENTS)
+    #: independent embeddings of the cluster's molecules (conformers of the base and of each explicit molecule, from
+    #: the job's seed and the next ones), each built in every arrangement and relaxed; the lowest is the base (1:
+    #: the job seed's only). Three seeds of 2-bromopropane + ethoxide with three ethanols found free clusters 0.83
+    #: kcal/mol apart, which shifts every barrier of a seed by as much (validation/model-freeze.yaml)
+    embeddings: int = Field(1, ge=1, le=MAX_CLUSTER_EMBEDDINGS)
 
     @model_validator(mode="before")
     @classmethod

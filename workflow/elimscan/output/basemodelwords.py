@@ -98,7 +98,7 @@ def arrangement_words(record: MoleculeRecord | None) -> str:
     if record is None or record.arrangements is None or record.arrangements < 2:
         return ""
     spread = record.arrangement_spread_kcal_mol
-    return (f"the lowest of {record.arrangements} relaxed starting arrangements"
+    return (f"the lowest of {record.arrangements} relaxed starting clusters"
             + ("" if spread is None else f", which spread {spread:.2f} kcal/mol (highest minus lowest)"))
 
 

@@ -19,7 +19,7 @@ from rdkit import Chem
 from elimscan.analysis.rule import GeometrySample, best_periplanar, boltzmann_combined, periplanar_starts, rule_status
 from elimscan.chem.bases import BaseInfo, describe_base
 from elimscan.chem.basemodels import BaseCluster, model_cluster, resolve_base_model
-from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
+from elimscan.config import SEED_LIMIT, BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
 from elimscan.errors import ElimscanError
 from elimscan.units import KCAL_MOL_PER_HARTREE
@@ -66,13 +66,24 @@ def relax_molecule(name: str, role: str, smiles: str, charge: int | None, multip
     return RelaxedMolecule(record, result.atoms)
 
 
+#: the seeds of a base model's further embeddings step by this prime from the job's seed, so that they never meet the
+#: next seeds of a benchmark (1, 2, 3 ...) nor the seed + k of the k-th explicit molecule: seeds stay independent
+EMBEDDING_SEED_STRIDE = 7919
+
+
+def embedding_seed(seed: int, embedding: int) -> int:
+    """Return the seed of a base model's ``embedding``-th embedding (0: the job's seed)."""
+    return (seed + EMBEDDING_SEED_STRIDE * embedding) % SEED_LIMIT
+
+
 def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMolecule, BaseInfo | None]:
     """Return the relaxed base model (bare, ion pair and/or explicit molecules) and how the rule sees the base.
 
     The model is ``resolve_base_model``'s for the base in ``config.method.solvent`` (the job's solvent). For a
     bare base this is ``relax_molecule``; otherwise the cluster of basemodels.py is built on the embedded base
     and relaxed as one molecule (charge: base + cation), whose energy is the base's share of the common zero;
-    with ``model.arrangements`` > 1 each starting arrangement is relaxed and the lowest converged one kept.
+    with ``model.arrangements`` > 1 each starting arrangement, and with ``model.embeddings`` > 1 each embedding of
+    the molecules in each arrangement, is relaxed and the lowest converged one kept.
     The record's SMILES is the dot-separated cluster; its ``model`` and ``model_reason`` say which model and why.
     """
     solvent = config.method.solvent
@@ -88,11 +99,13 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
     tried: list[tuple[BaseCluster, RelaxResult]] = []
     try:
         info = describe_base(item.smiles, item.bulky)
-        for arrangement in range(item.model.arrangements):
-            cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
-                                    model.explicit_smiles, config.seed, item.name, arrangement)
-            calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
-            tried.append((cluster, relax(cluster.atoms, calc, (), config.optimizer)))
+        for embedding in range(item.model.embeddings):
+            seed = embedding_seed(config.seed, embedding)
+            for arrangement in range(item.model.arrangements):
+                cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,
+                                        model.explicit_smiles, seed, item.name, arrangement)
+                calc = engine.calculator(cluster.charge, item.multiplicity, name=what)
+                tried.append((cluster, relax(cluster.atoms, calc, (), config.optimizer)))
     except ElimscanError as err:
         record = MoleculeRecord(name=item.name, role="base", smiles=item.smiles, status="failed", error=error_info(err),
                                 model_reason=model.reason)

@@ -25,7 +25,7 @@ from elimscan.versions import BACKEND_DISTRIBUTIONS, installed_version
 KEY_EXCLUDED = {"name", "threads", "executor", "substrates", "substrates_file", "bases", "pairs", "solvents", "series"}
 #: settings added after jobs were keyed, at the value that does what the code did before they existed: left out
 #: of the key at that value, so finished jobs keep their keys (dotted path in the key document -> that value)
-KEY_NEUTRAL: dict[str, object] = {"base.model.arrangements": 1, "settings.paths.carry_hessian": False,
+KEY_NEUTRAL: dict[str, object] = {"base.model.arrangements": 1, "base.model.embeddings": 1, "settings.paths.carry_hessian": False,
                                   "settings.paths.complex_screen_fmax_eV_per_A": None,
                                   "settings.paths.complex_screen_window_kcal_mol": 0.0,
                                   "settings.paths.complex_optimizer": None}

@@ -47,7 +47,9 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: method.optimizer) and one value of method.optimizer.name: sella-cartesian (Sella in Cartesians); and it changed
 #: what two fields hold: under barrier_combination boltzmann, barrier_free_energy_kcal_mol is the Boltzmann sum over
 #: the starts' verified saddles (before: the lowest start's saddle alone); with paths.orientation_paths > 1 the
-#: substitution block's barriers come from that many sampled SN2 paths.
+#: substitution block's barriers come from that many sampled SN2 paths; and one optional config key
+#: bases[].model.embeddings (a base model's molecules embedded that many times; molecule records' arrangements
+#: count every relaxed start).
 RESULT_SCHEMA_VERSION = "0.8.3"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"

@@ -65,8 +65,8 @@ class MoleculeRecord(Record):
     xyz_file: str | None = Field(None, description="relaxed geometry, extended XYZ, path relative to the output folder")
     model: str | None = Field(None, description="base model: null or 'bare', else the counter-ion and explicit "
                               "molecules around the basic atom (smiles is then the dot-separated cluster)")
-    arrangements: int | None = Field(None, description="base models: starting hydrogen-bond arrangements relaxed "
-                                     "(the lowest relaxed one is this record)")
+    arrangements: int | None = Field(None, description="base models: starting clusters relaxed, hydrogen-bond "
+                                     "arrangements x embeddings of the molecules (the lowest relaxed one is this record)")
     arrangement_spread_kcal_mol: float | None = Field(None, description="base models: highest minus lowest relaxed "
                                                       "energy over the arrangements (kcal/mol); null for one")
     model_reason: str | None = Field(None, description="why the base got this model: as configured, or the default "
