@@ -558,6 +558,33 @@ def test_the_substitution_path_is_sampled_over_the_nucleophile_rotations_like_an
     assert two.n_gradients == sum(p.n_gradients for p in tried_two)
 
 
+def test_one_failed_rotation_of_the_substitution_complex_is_skipped_as_for_an_e2_complex():
+    # Seen on the benchmark (bromoethane + ethoxide with three ethanols, seed 3): Sella stopped one rotation of the
+    # SN2 complex ("Geometry update ODE is taking too long to converge") and the whole SN2 path was lost, while an
+    # E2 complex skips a failed rotation. Now the other rotations carry the path; only when all fail does it fail.
+    from toyjobs import ToyJobEngine
+
+    from elimscan.errors import ScfConvergenceError
+    from elimscan.pipeline.compute import run_config
+    from elimscan.pipeline.outcome import SUBSTITUTION_KEY
+    from elimscan.results.records import ErrorInfo
+
+    def sn2(fail_on: str):
+        paths = PathConfig(approaches=("anti",), substitution=True, points=3, base_rotations=3, saddle={"refine": False})
+        config = RunConfig(substrates=(SubstrateConfig(name="bromoethane", smiles="CCBr"),),
+                           bases=(BaseConfig(name="methoxide", model="bare"),), paths=paths)
+        (job_paths,) = run_config(config, ToyJobEngine(fail_scf_on=fail_on)).paths.values()
+        return job_paths[SUBSTITUTION_KEY]
+
+    one_failed = sn2("substitution complex rotation 120")
+    assert not isinstance(one_failed, ErrorInfo) and one_failed.top_hartree is not None
+    assert len(one_failed.complex.energies_hartree) == 2 and one_failed.complex.rotation_deg != 120.0
+    assert one_failed.complex.failed_rotations == ("base rotation 120 deg of the complex failed (scf_not_converged); "
+                                                   "the other rotations were used",)
+    all_failed = sn2("substitution complex rotation")
+    assert isinstance(all_failed, ErrorInfo) and all_failed.error_type == ScfConvergenceError("x").error_type
+
+
 def test_an_unfinished_point_above_a_finished_interior_top_is_not_the_path_top():
     # Seen on one linear-algebra kernel (OpenBLAS SkylakeX): the last constrained relaxation of an ion-pair path
     # strayed and stopped unfinished 24 kcal/mol above its finished neighbour; taking it as the top hid the

@@ -17,10 +17,10 @@ import numpy as np
 from ase import Atoms
 
 from elimscan.config import OptimizerConfig, PathConfig
-from elimscan.errors import GradientBudgetError
+from elimscan.errors import ElimscanError, GradientBudgetError
 from elimscan.geometry import dihedral_deg, distance
 from elimscan.units import KCAL_MOL_PER_HARTREE
-from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, NOT_TO_PRODUCTS, OTHER_HYDROGEN, SN2_LIKE,
+from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, FAILED_ROTATION, NOT_TO_PRODUCTS, OTHER_HYDROGEN, SN2_LIKE,
                                     UNFINISHED_ABOVE, UNFINISHED_MAXIMUM, WRONG_ISOMER, budget_spent_flag,
                                     no_barrier_reason)
 from elimscan.drivers.budget import (STAGE_BASE_H, STAGE_COMPLEX, STAGE_END, STAGE_NEB, STAGE_PATH, STAGE_SADDLE,
@@ -411,7 +411,7 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
     """
     misses0 = engine.stats.misses
     budget, metered = _open_budget(engine, settings, start, base, on_stage)
-    found, energies, spent_complex = [], [], 0
+    found, energies, spent_complex, failed, first_error = [], [], 0, [], None
     complex_settings = complex_optimizer(settings, optimizer)
     budget.enter(STAGE_COMPLEX)
     try:
@@ -420,15 +420,24 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
             placed = place_backside(start, reactive.c_alpha, reactive.x, base, basic, settings.substitution_distance_A,
                                     rotation)
             held = [HeldDistance((reactive.nu, reactive.c_alpha), settings.substitution_distance_A)]
-            result = relax(placed, metered.calculator(charge, multiplicity, name=f"{name} complex"), held,
-                           complex_settings)
+            try:
+                result = relax(placed, metered.calculator(charge, multiplicity,
+                                                          name=f"{name} complex rotation {rotation:.0f}"),
+                               held, complex_settings)
+            except ElimscanError as err:  # as for an E2 complex: a failed rotation is skipped while another succeeds
+                first_error = first_error or err
+                failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the "
+                              "other rotations were used")
+                continue
             spent_complex += result.n_gradients
             energies.append(result.energy_hartree)
             found.append((result.energy_hartree, rotation, result.atoms))
     except BudgetSpent as spent:
         raise _no_complex(name, spent) from spent
+    if not found:
+        raise first_error
     energy, rotation, atoms = sorted(found, key=lambda f: f[0])[min(orientation_rank, len(found) - 1)]
-    complex_ = ComplexResult(atoms, energy, rotation, tuple(energies), spent_complex)
+    complex_ = ComplexResult(atoms, energy, rotation, tuple(energies), spent_complex, tuple(failed))
     points = [_complex_point(complex_, reactive)]
     before_saddle = None
     try:
