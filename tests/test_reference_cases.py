@@ -227,9 +227,15 @@ def test_a_probe_of_named_cases_runs_only_those_and_writes_no_page(cases, valida
         validate._chosen("calibration", list(cases.calibration), list(cases.test), ("2-bromobutane-ethoxide",))
 
 
-def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(validate, tmp_path, capsys):
+def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(validate, tmp_path, capsys,
+                                                                                 monkeypatch):
     """The benchmark outlives its machine: a second run in an empty work folder reads the archived job, computes
     nothing (no batch folder is made) and scores the case as the first run did (toy engine, one job)."""
+    import os
+
+    # the batch runs as `python -m elimscan batch` and must find the toy engine (tests/support) and elimscan
+    monkeypatch.setenv("PYTHONPATH", os.pathsep.join([str(ROOT / "tests" / "support"), str(ROOT / "workflow"),
+                                                      os.environ.get("PYTHONPATH", "")]))
     records = tmp_path / "records"
     args = ["--subset", "fast", "--cases", "2-bromobutane-ethoxide", "--seeds", "1", "--base-model", "bare",
             "--engine", "toyjobs:toy_engine", "--records", str(records)]
