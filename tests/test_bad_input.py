@@ -289,7 +289,8 @@ def test_a_bad_csv_row_fails_only_its_own_job(tmp_path, capsys, monkeypatch):
     code = main(["plan", str(tmp_path / "batch.yaml")])
     out = capsys.readouterr().out
     assert code == ExitCode.OK, out
-    model = "3 explicit conjugate-acid molecule(s); default for an alkoxide in a protic solvent (ethanol)"
+    model = ("3 explicit conjugate-acid molecule(s), lowest of 5 embeddings; default for an alkoxide in a protic solvent "
+             "(ethanol)")
     assert (f"broken__methoxide: broken + methoxide ({model}), ALPB(ethanol); will fail: more.csv line 3: substrate "
             "'broken': cannot parse SMILES 'CC(Cl'") in out
     assert f"neopentyl__methoxide: neopentyl + methoxide ({model}), ALPB(ethanol); will fail: more.csv line 4" in out

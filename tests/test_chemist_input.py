@@ -243,9 +243,9 @@ def test_the_plan_goes_to_stdout_with_atoms_numbered_from_one_also_when_quiet(tm
     assert methyl.strip().endswith("3 H (H12, H13, H14)")
     assert out.count("    C2-H") == 2 and "C=CCC (monosubstituted" in out
     # the abbreviation's K+ is named, the anion gets the default of an alkoxide in ethanol (three tert-butanols)
-    assert ("2-bromobutane__KOtBu: 2-bromobutane + KOtBu (3 explicit conjugate-acid molecule(s); default for an "
-            "alkoxide in a protic solvent (ethanol); the K+ of KOtBu is not modelled (model: {counter_ion: K} for the "
-            "contact ion pair)), ALPB(ethanol); 7 paths, 25 heavy atoms") in out
+    assert ("2-bromobutane__KOtBu: 2-bromobutane + KOtBu (3 explicit conjugate-acid molecule(s), lowest of 5 "
+            "embeddings; default for an alkoxide in a protic solvent (ethanol); the K+ of KOtBu is not modelled (model: "
+            "{counter_ion: K} for the contact ion pair)), ALPB(ethanol); 7 paths, 25 heavy atoms") in out
     assert "within a factor of 2 either way" in out
 
 

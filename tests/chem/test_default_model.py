@@ -1,7 +1,7 @@
 """The default base model, resolved per base and solvent (chem/basemodels.resolve_base_model), without an engine.
 
-The rule (validation/model-freeze.yaml, the frozen benchmark model ``alcohol-3``): an alkoxide or hydroxide in
-water or an alcohol gets three molecules of its own conjugate acid; every other base, and any base in an aprotic
+The rule (validation/model-freeze.yaml, the frozen benchmark model ``alcohol-3-embedded``): an alkoxide or hydroxide
+in water or an alcohol gets three molecules of its own conjugate acid, embedded five times; every other base, and any base in an aprotic
 solvent or the gas phase, stays bare; what the config writes wins. Which anions are alkoxides, which solvents are
 protic and which reagents the abbreviations name are common practice (any organic chemistry textbook).
 """
@@ -12,7 +12,7 @@ import pytest
 
 from elimscan.chem.basemodels import DEFAULT_REASON, oxide_anion_kind, resolve_base_model
 from elimscan.config import BaseConfig, BaseModelConfig, RunConfig, SolventConfig, SubstrateConfig, parse_config
-from elimscan.config.molecules import DEFAULT_EXPLICIT_MOLECULES
+from elimscan.config.molecules import DEFAULT_CLUSTER_EMBEDDINGS, DEFAULT_EXPLICIT_MOLECULES
 from elimscan.errors import ConfigError
 from elimscan.solvents import DIELECTRIC_SOLVENTS, PROTIC_SOLVENTS, SUPPORTED_SOLVENTS, is_protic
 
@@ -23,10 +23,22 @@ def _model(base: dict | str, solvent: str | None = "ethanol", model: str = "alpb
 
 
 def test_the_default_is_the_frozen_benchmark_model():
-    # validation/model-freeze.yaml: base_model alcohol-3, i.e. {explicit: 3}
+    # validation/model-freeze.yaml: base_model alcohol-3-embedded, i.e. {explicit: 3, embeddings: 5}
+    from pathlib import Path
+
     from elimscan.analysis.benchmark_models import base_model_block
 
-    assert base_model_block("alcohol-3") == {"explicit": DEFAULT_EXPLICIT_MOLECULES} == {"explicit": 3}
+    freeze = Path(__file__).resolve().parents[2] / "validation" / "model-freeze.yaml"
+    line = next(row for row in freeze.read_text().splitlines() if row.startswith("base_model:"))
+    frozen = base_model_block(line.split(":", 1)[1].strip())
+    assert frozen == {"explicit": DEFAULT_EXPLICIT_MOLECULES, "embeddings": DEFAULT_CLUSTER_EMBEDDINGS} \
+        == {"explicit": 3, "embeddings": 5}
+    model = _model("ethoxide")
+    assert (model.explicit, model.embeddings) == (3, 5)
+    # a model written out embeds once unless it says otherwise (the benchmark's alcohol-3 keeps its jobs)
+    assert _model({"name": "ethoxide", "model": {"explicit": 3}}).embeddings == 1
+    assert _model({"name": "ethoxide", "model": {"embeddings": 2}}).embeddings == 2
+    assert _model({"name": "ethoxide", "model": "bare"}).embeddings == 1
 
 
 @pytest.mark.parametrize("base, solvent", [
@@ -152,7 +164,9 @@ def test_a_job_whose_default_changed_gets_a_new_key_and_is_computed_again():
     default = _key(BaseConfig(name="methoxide"), "ethanol")
     assert default != KEY_BEFORE_ETHANOL
     # the key holds the model as computed: writing the default out changes nothing
-    assert default == _key(BaseConfig(name="methoxide", model={"explicit": 3}), "ethanol")
+    assert default == _key(BaseConfig(name="methoxide", model={"explicit": 3, "embeddings": 5}), "ethanol")
+    # the default before alcohol-3-embedded was frozen (one embedding) is another job
+    assert default != _key(BaseConfig(name="methoxide", model={"explicit": 3}), "ethanol")
 
 
 # --- the record and the plan say which model and why ----------------------------------------------------------------
@@ -189,8 +203,8 @@ def test_the_plan_names_each_jobs_model_per_solvent(tmp_path, capsys):
                                          "solvents: [{model: alpb, name: ethanol}, {model: alpb, name: thf}]\n")
     assert main(["plan", str(tmp_path / "batch.yaml")]) == 0
     out = capsys.readouterr().out
-    assert ("s__KOtBu__alpb-ethanol: s + KOtBu (3 explicit conjugate-acid molecule(s); default for an alkoxide in a "
-            "protic solvent (ethanol); the K+ of KOtBu") in out
+    assert ("s__KOtBu__alpb-ethanol: s + KOtBu (3 explicit conjugate-acid molecule(s), lowest of 5 embeddings; default "
+            "for an alkoxide in a protic solvent (ethanol); the K+ of KOtBu") in out
     assert "s__KOtBu__alpb-thf: s + KOtBu (bare base; default: bare for an alkoxide in an aprotic solvent (thf)" in out
     assert "s__amide__alpb-ethanol: s + amide (bare base; default: bare (" in out
     # heavy atoms as modelled: 1-bromopropane 4 + tert-butoxide 5 (+ 3 x 5 tert-butanol in ethanol)

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from elimscan.config.molecules import DEFAULT_EXPLICIT_MOLECULES
+from elimscan.config.molecules import DEFAULT_CLUSTER_EMBEDDINGS, DEFAULT_EXPLICIT_MOLECULES
 from elimscan.output.basemodelwords import DEFAULT_MODEL_SENTENCE, MODEL_NOT_RECORDED, REASON_NOT_RECORDED
 from elimscan.output.html.page import render_report
 from elimscan.output.text import summary_table
@@ -68,14 +68,15 @@ def test_a_job_with_the_default_model_names_its_molecules_arrangements_and_reaso
     doc = _doc(run)
     base = _base_molecule(doc, "NaOEt")
     # what the run computed, read from its own record: the ethoxide anion with three ethanols (its conjugate acid),
-    # relaxed from two starting arrangements, with the reason resolve_base_model gave
+    # relaxed from two starting arrangements of each of the default's embeddings, with the reason resolve_base_model gave
+    starts = 2 * DEFAULT_CLUSTER_EMBEDDINGS
     assert base["smiles"].split(".") == ["CC[O-]"] + ["CCO"] * DEFAULT_EXPLICIT_MOLECULES
-    assert base["arrangements"] == 2 and base["arrangement_spread_kcal_mol"] is not None
+    assert base["arrangements"] == starts == 10 and base["arrangement_spread_kcal_mol"] is not None
     assert base["model_reason"].startswith("default for an alkoxide in a protic solvent (ethanol)")
     spread = f"{base['arrangement_spread_kcal_mol']:.2f} kcal/mol"
     model = (f"NaOEt with {DEFAULT_EXPLICIT_MOLECULES} ethanol molecules (2 hydrogen-bonded to the basic atom, "
              "1 in the second shell)")
-    arrangements = f"the lowest of 2 relaxed starting clusters, which spread {spread} (highest minus lowest)"
+    arrangements = f"the lowest of {starts} relaxed starting clusters, which spread {spread} (highest minus lowest)"
 
     text = summary_table(RunResult.model_validate(doc))
     lines = _job_block(text, DEFAULT_JOB)

@@ -29,7 +29,8 @@ from ase.data import covalent_radii
 from rdkit import Chem
 
 from elimscan.config.basenames import COUNTER_IONS
-from elimscan.config.molecules import DEFAULT_EXPLICIT_MOLECULES, DEFAULT_MODEL_CONTINUA, BaseConfig
+from elimscan.config.molecules import (DEFAULT_CLUSTER_EMBEDDINGS, DEFAULT_EXPLICIT_MOLECULES, DEFAULT_MODEL_CONTINUA,
+                                       BaseConfig)
 from elimscan.config.run import SEED_LIMIT
 from elimscan.errors import StructureError
 from elimscan.solvents import canonical_solvent_name, is_protic
@@ -299,6 +300,8 @@ class ResolvedModel:
     explicit: int
     explicit_smiles: str | None
     reason: str
+    #: independent embeddings of the cluster's molecules, each relaxed, the lowest kept (1 for a bare base)
+    embeddings: int = 1
 
     @property
     def bare(self) -> bool:
@@ -306,9 +309,11 @@ class ResolvedModel:
         return self.counter_ion is None and self.explicit == 0
 
     def words(self) -> str:
-        """Return the model in words: 'bare base', 'ion pair with K+', '3 explicit CCO molecule(s)' (plan lines)."""
+        """Return the model in words (plan lines): 'bare base', '3 explicit CCO molecule(s), lowest of 5 embeddings'."""
         parts = ([f"ion pair with {self.counter_ion}+"] if self.counter_ion else []) + \
             ([f"{self.explicit} explicit {self.explicit_smiles or 'conjugate-acid'} molecule(s)"] if self.explicit else [])
+        if parts and self.embeddings > 1:
+            parts.append(f"lowest of {self.embeddings} embeddings")
         return ", ".join(parts) or "bare base"
 
 
@@ -352,19 +357,22 @@ def _cation_note(base: BaseConfig, counter_ion: str | None) -> str:
 def resolve_base_model(base: BaseConfig, solvent_model: str, solvent_name: str | None) -> ResolvedModel:
     """Return the model a base is computed with in a solvent: the config's ``model:``, else the default.
 
-    The default (``explicit`` not given): DEFAULT_EXPLICIT_MOLECULES molecules of the base's conjugate acid for an
+    The default (``explicit`` not given): DEFAULT_EXPLICIT_MOLECULES molecules of the base's conjugate acid, embedded
+    DEFAULT_CLUSTER_EMBEDDINGS times unless ``embeddings`` is given (1 for a model written out), for an
     alkoxide or hydroxide (``oxide_anion_kind``) in a protic solvent (``solvents.PROTIC_SOLVENTS``) of a continuum
     in DEFAULT_MODEL_CONTINUA; 0 for any other base, for the gas phase, aprotic solvents and the dielectric-only
     continuum, and beside a counter-ion the config asks for (the default was calibrated on the free anion). The one rule for the calculation, the input checks and the plan.
     """
     model = base.model
     note = _cation_note(base, model.counter_ion)
+    given = model.embeddings or 1
     if model.explicit is not None:
-        what = "bare base" if model.counter_ion is None and model.explicit == 0 else "model"
-        return ResolvedModel(model.counter_ion, model.explicit, model.explicit_smiles, f"{what} as configured{note}")
+        bare = model.counter_ion is None and model.explicit == 0
+        return ResolvedModel(model.counter_ion, model.explicit, model.explicit_smiles,
+                             f"{'bare base' if bare else 'model'} as configured{note}", 1 if bare else given)
     if model.counter_ion is not None:
         return ResolvedModel(model.counter_ion, 0, model.explicit_smiles,
-                             "ion pair as configured (no explicit molecules: the default is for the free anion)")
+                             "ion pair as configured (no explicit molecules: the default is for the free anion)", given)
     kind = oxide_anion_kind(base.smiles)
     if kind is None:
         return ResolvedModel(None, 0, model.explicit_smiles,
@@ -377,4 +385,5 @@ def resolve_base_model(base: BaseConfig, solvent_model: str, solvent_name: str |
                              f"default: bare for {kind} in the {solvent_model}-only continuum ({solvent_name}): "
                              f"explicit molecules cost about 100 times more there{note}")
     reason = DEFAULT_REASON.format(kind=kind, solvent=canonical_solvent_name(solvent_name or ""))
-    return ResolvedModel(None, DEFAULT_EXPLICIT_MOLECULES, model.explicit_smiles, reason + note)
+    return ResolvedModel(None, DEFAULT_EXPLICIT_MOLECULES, model.explicit_smiles, reason + note,
+                         model.embeddings or DEFAULT_CLUSTER_EMBEDDINGS)

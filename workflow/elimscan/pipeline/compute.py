@@ -82,8 +82,9 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
     The model is ``resolve_base_model``'s for the base in ``config.method.solvent`` (the job's solvent). For a
     bare base this is ``relax_molecule``; otherwise the cluster of basemodels.py is built on the embedded base
     and relaxed as one molecule (charge: base + cation), whose energy is the base's share of the common zero;
-    with ``model.arrangements`` > 1 each starting arrangement, and with ``model.embeddings`` > 1 each embedding of
-    the molecules in each arrangement, is relaxed and the lowest converged one kept.
+    with ``model.arrangements`` > 1 each starting arrangement, and with more than one embedding (the resolved model's:
+    the config's ``model.embeddings``, else DEFAULT_CLUSTER_EMBEDDINGS for the default cluster) each embedding of the
+    molecules in each arrangement, is relaxed and the lowest converged one kept.
     The record's SMILES is the dot-separated cluster; its ``model`` and ``model_reason`` say which model and why.
     """
     solvent = config.method.solvent
@@ -99,7 +100,7 @@ def relax_base(item: BaseConfig, engine, config: RunConfig) -> tuple[RelaxedMole
     tried: list[tuple[BaseCluster, RelaxResult]] = []
     try:
         info = describe_base(item.smiles, item.bulky)
-        for embedding in range(item.model.embeddings):
+        for embedding in range(model.embeddings):
             seed = embedding_seed(config.seed, embedding)
             for arrangement in range(item.model.arrangements):
                 cluster = model_cluster(item.smiles, item.charge, item.multiplicity, model.counter_ion, model.explicit,

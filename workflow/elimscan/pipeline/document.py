@@ -86,10 +86,11 @@ def substrate_inputs(substrate: SubstrateConfig, geometry_text: str | None) -> d
 
 
 def keyed_base(base: BaseConfig, solvent: SolventConfig) -> dict:
-    """Return the base's part of a job key: its config with the model it gets in this solvent (count resolved)."""
+    """Return the base's part of a job key: its config with the model it gets in this solvent (counts resolved)."""
     resolved = resolve_base_model(base, solvent.model, solvent.name)
     dumped = base.model_dump(mode="json")
-    dumped["model"] = {**dumped["model"], "counter_ion": resolved.counter_ion, "explicit": resolved.explicit}
+    dumped["model"] = {**dumped["model"], "counter_ion": resolved.counter_ion, "explicit": resolved.explicit,
+                       "embeddings": resolved.embeddings}
     return dumped
 
 

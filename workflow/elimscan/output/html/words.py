@@ -23,10 +23,10 @@ MEANING = (
     "of putting that hydrogen where the rule needs it. It is not a barrier.",
     "\u201cnot reached\u201d means the geometry was never reached below the scan's energy cap.",
 )
-#: what the reference benchmark says of GFN2-xTB, written from validation/VALIDATION-fast.md like the README's
+#: what the reference benchmark says of GFN2-xTB, written from validation/VALIDATION-fast-alcohol-3.md like the README's
 #: paragraph (tests/output/test_benchmark_words.py checks both against that page's headline)
 BENCHMARK_SAYS = (
-    "What the reference benchmark says of this level (validation/VALIDATION-fast.md: fast subset, 5 test cases, "
+    "What the reference benchmark says of this level (validation/VALIDATION-fast-alcohol-3.md: fast subset, 5 test cases, "
     "three seeds, 2026-12-04, ethoxide with three ethanol molecules): computed right 3/5 (ΔE‡) and 2/5 "
     "(ΔG‡), the textbook rule 5/5. GFN2-xTB resolves what conformation decides (a ring where only one "
     "hydrogen can reach anti) but not choices that rest on barrier differences of about 1 kcal/mol: open-chain regio- "
