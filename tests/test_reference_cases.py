@@ -230,7 +230,10 @@ def test_a_probe_of_named_cases_runs_only_those_and_writes_no_page(cases, valida
 def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(validate, tmp_path, capsys,
                                                                                  monkeypatch):
     """The benchmark outlives its machine: a second run in an empty work folder reads the archived job, computes
-    nothing (no batch folder is made) and scores the case as the first run did (toy engine, one job)."""
+    nothing (no batch folder is made) and scores the case as the first run did (toy engine, one job); a session
+    that must end mid-run archives what finished with --archive-only."""
+    import gzip
+    import json
     import os
 
     # the batch runs as `python -m elimscan batch` and must find the toy engine (tests/support) and elimscan
@@ -242,6 +245,16 @@ def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(
     assert validate.main([*args, "--work", str(tmp_path / "first")]) == 0
     first = capsys.readouterr()
     assert len(list(records.glob("*.json.gz"))) == 1 and "1 finished job(s) archived" in first.err
+    # --archive-only: what a work folder's batches finished is archived under the commit that computed it
+    for archived in records.glob("*.json.gz"):
+        archived.unlink()
+    assert validate.main([*args, "--work", str(tmp_path / "first"), "--archive-only"]) == 0
+    assert "1 finished job(s) archived" in capsys.readouterr().err
+    [kept] = records.glob("*.json.gz")
+    computed_by = json.loads((tmp_path / "first" / validate.RUN_LOG).read_text().splitlines()[-1])["commit"]
+    assert json.loads(gzip.decompress(kept.read_bytes()))["commit"] == computed_by
+    assert validate.main([*args, "--work", str(tmp_path / "empty"), "--archive-only"]) == 2
+    assert "holds no batch of these cases under base model bare" in capsys.readouterr().err
     assert validate.main([*args, "--work", str(tmp_path / "second")]) == 0
     second = capsys.readouterr()
     assert "all 1 job(s) archived" in second.err

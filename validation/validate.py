@@ -13,7 +13,8 @@ holds, also while another invocation still runs), ``--no-write`` (print the page
 writes CALIBRATION.md), ``--base-model NAME`` (a candidate of ``elimscan.analysis.benchmark_models``; default the frozen
 model of validation/model-freeze.yaml; pages of another model carry its name, e.g. VALIDATION-bare.md), ``--seeds N`` (the first N seeds
 of each case), ``--workers N`` (local worker processes of each batch), ``--cases ID,ID`` (a probe of a few cases of
-the subset: the page is printed, not written).
+the subset: the page is printed, not written), ``--records DIR`` / ``--no-records`` (the archive of finished jobs,
+default validation/records), ``--archive-only`` (archive what DIR's batches finished, also while a run goes on).
 """
 
 from __future__ import annotations
@@ -21,6 +22,7 @@ from __future__ import annotations
 import argparse
 import datetime as _dt
 import json
+import os
 import subprocess
 import sys
 import tempfile
@@ -52,6 +54,9 @@ FAST_SUBSET = ("bromoethane-ethoxide", "2-bromopropane-ethoxide", "2-bromo-2-met
 PAGES = {"all": "VALIDATION", "fast": "VALIDATION-fast", "calibration": "CALIBRATION"}
 #: one JSON line per invocation that computed in a work folder (its wall time, commit, subset and seeds)
 RUN_LOG = "validate-runs.jsonl"
+#: the invocation computing in a work folder now (its commit and base model), removed when it ends: --archive-only
+#: run beside it archives its finished jobs under its commit
+RUNNING_FILE = "validate-running.json"
 #: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
 FREEZE_FILE = HERE / "model-freeze.yaml"
 #: finished jobs kept by key beside the code (elimscan.batch.archive): a machine that does not outlive a night
@@ -79,13 +84,19 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         help="archive of finished jobs by key, read and added to (default: validation/records)")
     parser.add_argument("--no-records", action="store_true",
                         help="neither read nor add to the archive: compute everything in --work")
+    parser.add_argument("--archive-only", action="store_true",
+                        help="compute and write nothing: add the jobs that finished ok in --work's batches to the "
+                        "archive (for a session that must end while a batch is still running)")
     parser.add_argument("--cases", default=None, metavar="ID,ID",
                         help="only these cases of the subset (a probe: the page is printed, never written)")
     parser.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
                         help="compute with a plug-in engine instead of GFN2-xTB (for tests; part of each job's key)")
     args = parser.parse_args(argv)
-    if args.no_compute and args.work is None:
-        parser.error("--no-compute needs --work (the folder that holds the finished batches)")
+    if (args.no_compute or args.archive_only) and args.work is None:
+        parser.error(f"{'--archive-only' if args.archive_only else '--no-compute'} needs --work (the folder that "
+                     "holds the finished batches)")
+    if args.archive_only and args.no_records:
+        parser.error("--archive-only adds to the archive: it cannot go with --no-records")
     if args.seeds is not None and args.seeds < 1:
         parser.error("--seeds must be at least 1")
     if args.no_records:
@@ -147,6 +158,25 @@ def _archive_group(group: BatchGroup, work: Path, records: Path, commit: str, ke
                                      for key, row in rows.items() if row.status == "ok"})
     if written:
         print(f"batch {group.name}: {written} finished job(s) archived in {records}", file=sys.stderr, flush=True)
+
+
+def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_model: str) -> int:
+    """Archive the jobs that finished ok in a work folder's batches, under the commit of the invocation computing
+    there now, else of the last one that computed there with this base model (its run log); return the exit code (2
+    when the folder holds no batch)."""
+    log_file, running = work / RUN_LOG, work / RUNNING_FILE
+    runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
+    if running.is_file():
+        runs.append(json.loads(running.read_text()))
+    commits = [r["commit"] for r in runs if r.get("base_model", UNNAMED_BASE_MODEL) == base_model]
+    present = [g for g in groups if (work / g.name / STORE_FILE).is_file()]
+    if not present:
+        print(f"error: {work} holds no batch of these cases under base model {base_model}", file=sys.stderr)
+        return 2
+    for group in present:
+        _archive_group(group, work, records, commits[-1] if commits else "unknown", _group_keys(group, work))
+    print(f"{len(archived_keys(records))} job(s) in {records}", file=sys.stderr)
+    return 0
 
 
 def _read_group(group: BatchGroup, work: Path, records: Path | None = None
@@ -314,14 +344,19 @@ def main(argv: list[str] | None = None) -> int:
     groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine,
                                  base_model=args.base_model),
                     key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
+    if args.archive_only:
+        return _archive_work(groups, args.work, args.records, args.base_model)
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
         if not args.no_compute:
+            running = work / RUNNING_FILE
+            running.write_text(json.dumps({"commit": commit, "base_model": args.base_model, "pid": os.getpid()}))
             try:
                 for group in groups:
                     _run_group(group, work, args.workers, args.records, commit)
             finally:  # an interrupted invocation counts its wall time too
+                running.unlink(missing_ok=True)
                 entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
                          "commit": commit, "subset": args.subset, "seeds": seed_count, "base_model": args.base_model}
                 with open(work / RUN_LOG, "a") as log:
