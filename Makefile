@@ -70,6 +70,7 @@ bench: $(VENV)/.installed
 	$(VPY) benchmarks/bench_substitution.py
 	$(VPY) benchmarks/bench_batch.py
 	$(VPY) benchmarks/bench_dft.py
+	$(VPY) benchmarks/bench_dft.py --functional wb97x-3c
 
 # GFN2-xTB checks whose verdict flips with the OpenBLAS kernel or a 0.001 Å nudge of the starting geometries, and
 # the demo under two kernels (about an hour on two cores; not part of make test). Resumable in SWEEP_DIR.

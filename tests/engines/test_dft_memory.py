@@ -22,6 +22,12 @@ WATER = Atoms("OH2", positions=[(0.0, 0.0, 0.117), (0.0, 0.757, -0.469), (0.0, -
 #: complex (246 functions) at 1.8 GB; the analytic Hessian of a 16-atom saddle (224 functions) passed 3.4 GB.
 #: The auxiliary counts (def2-universal-jkfit) are PySCF's, checked in test_sizes_of_the_calibration_complexes.
 GRADIENT_43_ATOMS_GB, SINGLE_POINT_19_ATOMS_GB, HESSIAN_16_ATOMS_AT_LEAST_GB = 8.7, 1.8, 3.4
+#: wB97X-3c single points with IEF-PCM(ethanol) at the GFN2-xTB saddles of bromoethane + bare ethoxide (SN2, 16 atoms,
+#: 128 vDZP functions, 823 auxiliary) and 2-bromopropane + bare ethoxide (E2 anti, 19 atoms, 151 and 934): peak
+#: resident memory of the process 0.84 and 1.08 GB (getrusage, measured 2026-12-04; docs/method.md)
+SINGLE_POINT_VDZP_16_ATOMS_GB, SINGLE_POINT_VDZP_19_ATOMS_GB = 0.84, 1.08
+#: def2-universal-jkfit over def2-SVP on the 43-atom calibration saddle: 1828 / 368 (counted below)
+NO_RI_DEF2_SVP_RATIO = 1828 / 368
 
 
 def _level(limit_MB: float | None, basis: str = "sto-3g", eps: float | None = None) -> DftLevel:
@@ -50,8 +56,19 @@ def test_the_estimate_covers_the_measurements_of_this_project():
     assert GRADIENT_43_ATOMS_GB <= gradient <= 1.25 * GRADIENT_43_ATOMS_GB
     assert peak_memory_estimate_GB(246, 796, 19, "single point", True) >= SINGLE_POINT_19_ATOMS_GB
     assert peak_memory_estimate_GB(224, 823, 16, "hessian", True) >= HESSIAN_16_ATOMS_AT_LEAST_GB
+    assert peak_memory_estimate_GB(128, 823, 16, "single point", True) >= SINGLE_POINT_VDZP_16_ATOMS_GB
+    assert peak_memory_estimate_GB(151, 934, 19, "single point", True) >= SINGLE_POINT_VDZP_19_ATOMS_GB
     # def2-SVPD on the 43-atom saddle (557 functions) passed 5.8 GB before it was stopped
     assert peak_memory_estimate_GB(557, 1828, 43, "gradient", True) > 5.8
+
+
+@pytest.mark.xfail(strict=True, reason="measured 2.12 GB peak (getrusage, 2026-12-04) against an estimate of 2.02 GB: "
+                                     "B3LYP-D3(BJ)/def2-SVPD single point with IEF-PCM on the 19-atom 2-bromopropane + "
+                                     "bare ethoxide E2 saddle (260 functions, 934 auxiliary), run as the fifth "
+                                     "calculation of one process, so earlier allocations may be part of the peak")
+def test_the_estimate_covers_a_def2_svpd_single_point_on_the_19_atom_e2_saddle():
+    """Measured in this project beside the wB97X-3c points (docs/method.md, 'DFT single points'): 2.12 GB peak."""
+    assert peak_memory_estimate_GB(260, 934, 19, "single point", True) >= 2.12
 
 
 def test_sizes_of_the_calibration_complexes():
@@ -70,6 +87,31 @@ def test_sizes_of_the_calibration_complexes():
     assert counts(alcohol_3, "def2-svpd", -1)[0] == 557
     assert counts(["C"] * 5 + ["H"] * 12 + ["O", "Cl"], "def2-svpd", -1) == (246, 796)  # 2-chlorobutane + methoxide
     assert counts(["C"] * 4 + ["H"] * 10 + ["O", "Br"], "def2-svpd", -1) == (224, 823)  # bromoethane + ethoxide
+
+
+@pytest.mark.dft
+def test_vdzp_sizes_and_its_no_ri_stand_in():
+    """vDZP (wB97X-3c) on the calibration complexes: far fewer basis functions than def2-SVPD, the same fitting set
+    (def2-universal-jkfit), counted by PySCF from basis-set-exchange's data; the no-RI stand-in per basis function is
+    not below the real ratio, and the guard names the basis."""
+    pytest.importorskip("basis_set_exchange")
+    from pyscf import df
+
+    from elimscan.engines.dft import build_molecule, guard_memory
+    from elimscan.engines.dftmemory import no_ri_aux_per_basis
+
+    level = DftLevel("wb97x-3c", "d4", "vdzp", True, None, None, 1, 50, 1e-8, 4000.0)
+    for symbols, expected in ((["C"] * 4 + ["H"] * 10 + ["O", "Br"], (128, 823)),  # bromoethane + ethoxide
+                              (["C"] * 5 + ["H"] * 12 + ["O", "Br"], (151, 934))):  # 2-bromopropane + ethoxide
+        atoms = Atoms(symbols, positions=[(4.0 * k, 0.0, 0.0) for k in range(len(symbols))])
+        mol = build_molecule(atoms, -1, 1, level)
+        n_aux = df.make_auxmol(mol, "def2-universal-jkfit").nao
+        assert (mol.nao, n_aux) == expected
+        assert no_ri_aux_per_basis("vdzp") >= n_aux / mol.nao > NO_RI_DEF2_SVP_RATIO
+        assert guard_memory(atoms, -1, 1, level, "single point", "x") == pytest.approx(
+            peak_memory_estimate_GB(mol.nao, n_aux, len(atoms), "single point", False))
+    with pytest.raises(DftMemoryError, match="vDZP, 151 basis functions, 934 auxiliary"):
+        guard_memory(atoms, -1, 1, DftLevel(**{**level.__dict__, "memory_limit_MB": 10.0}), "single point", "x")
 
 
 # --- the limit -----------------------------------------------------------------------------------------------------

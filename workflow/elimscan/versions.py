@@ -16,7 +16,7 @@ BACKEND_DISTRIBUTIONS = {"tblite": "tblite", "xtb": "xtb"}
 #: libraries whose version can change a job's numbers (beside the backend): they enter the batch job key
 NUMERIC_LIBRARIES = ("rdkit", "ase", "numpy", "scipy", "sella")
 #: the optional DFT tier's libraries (extra 'dft')
-DFT_LIBRARIES = ("pyscf", "pyscf-dispersion")
+DFT_LIBRARIES = ("pyscf", "pyscf-dispersion", "basis-set-exchange")
 #: further libraries named by ``elimscan info``
 OTHER_LIBRARIES = ("pydantic", "dask", "distributed")
 
@@ -34,13 +34,15 @@ def backend_version(backend: str) -> str:
     return installed_version(BACKEND_DISTRIBUTIONS.get(backend, backend))
 
 
-def numeric_versions(backend: str, dft: bool = False) -> dict[str, str]:
+def numeric_versions(backend: str, dft: bool = False, basis_data: bool = False) -> dict[str, str]:
     """Return {distribution: version} of elimscan, the backend and every library that can change a job's numbers
-    (PySCF too when the DFT tier is on)."""
+    (PySCF too when the DFT tier is on; basis-set-exchange too when ``basis_data``: the tier's basis comes from it)."""
     versions = {"elimscan": __version__, BACKEND_DISTRIBUTIONS.get(backend, backend): backend_version(backend)}
     versions.update({dist: installed_version(dist) for dist in NUMERIC_LIBRARIES})
     if dft:
         versions["pyscf"] = installed_version("pyscf")
+    if dft and basis_data:
+        versions["basis-set-exchange"] = installed_version("basis-set-exchange")
     return versions
 
 

@@ -12,6 +12,7 @@ from pathlib import Path
 from pydantic import ValidationError
 
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+from elimscan.config.dft import BSE_BASIS_KEYS
 from elimscan.errors import ConfigError, StructureError
 from elimscan.versions import numeric_versions
 from elimscan.results.records import ErrorInfo
@@ -119,7 +120,8 @@ def plan_batch(config: RunConfig, config_path: str | Path) -> BatchPlan:
     from elimscan.pipeline.names import job_id_of, safe_name
 
     folder = Path(config_path).parent
-    versions = numeric_versions(config.method.backend, dft=config.dft.enabled)
+    versions = numeric_versions(config.method.backend, dft=config.dft.enabled,
+                                basis_data=config.dft.basis in BSE_BASIS_KEYS)
     rows: list[SubstrateRow] = []
     file_sha = None
     inputs_read: list[tuple[str, Path]] = [("config file", Path(config_path))]

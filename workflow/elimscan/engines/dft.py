@@ -19,6 +19,8 @@ from ase import Atoms
 
 from elimscan.analysis.rule import PathBarrier, product_fractions
 from elimscan.config import DftConfig, SolventConfig
+from elimscan.engines.dftbasis import (COMPOSITE_SETUP, auxiliary_basis, missing_basis_data, pyscf_basis,
+                                       pyscf_functional)
 from elimscan.engines.dftmemory import check_memory, memory_limit_MB, pyscf_target_MB
 from elimscan.errors import DftError, DftRefusedError, DftUnavailableError, ElimscanError
 from elimscan.results.failures import error_info
@@ -55,10 +57,10 @@ DIELECTRIC_CONSTANTS: dict[str, float] = {
     "toluene": 2.3741,
 }
 
-#: how our names are written in labels
-_FUNCTIONAL_LABELS = {"b3lyp": "B3LYP", "pbe0": "PBE0"}
+#: how our names are written in labels (ASCII 'w' for omega: labels go into logs, CSV and file names)
+_FUNCTIONAL_LABELS = {"b3lyp": "B3LYP", "pbe0": "PBE0", "wb97x-3c": "wB97X-3c"}
 _DISPERSION_LABELS = {"d3bj": "-D3(BJ)", "d4": "-D4", "none": ""}
-_BASIS_LABELS = {"def2-svpd": "def2-SVPD", "def2-tzvp": "def2-TZVP", "def2-tzvpd": "def2-TZVPD"}
+_BASIS_LABELS = {"def2-svpd": "def2-SVPD", "def2-tzvp": "def2-TZVP", "def2-tzvpd": "def2-TZVPD", "vdzp": "vDZP"}
 #: what to install when PySCF is missing
 INSTALL_HINT = "pip install 'elimscan[dft]' (PySCF and pyscf-dispersion)"
 
@@ -83,10 +85,13 @@ class DftLevel:
     memory_limit_MB: float | None = field(default=None, compare=False)
 
     def label(self) -> str:
-        """Return a one-line label such as 'B3LYP-D3(BJ)/def2-SVPD (RI), IEF-PCM(methanol, eps 32.61)'."""
+        """Return a one-line label such as 'B3LYP-D3(BJ)/def2-SVPD (RI), IEF-PCM(methanol, eps 32.61)' or, for a
+        composite level whose name holds its dispersion and basis, 'wB97X-3c (RI), IEF-PCM(ethanol, eps 24.85)'."""
         solvent = ("gas phase" if self.dielectric_constant is None
                    else f"IEF-PCM({self.solvent_name or 'user'}, eps {self.dielectric_constant:.2f})")
         fit = " (RI)" if self.density_fit else ""
+        if self.functional in COMPOSITE_SETUP:
+            return f"{_FUNCTIONAL_LABELS[self.functional]}{fit}, {solvent}"
         return (f"{_FUNCTIONAL_LABELS[self.functional]}{_DISPERSION_LABELS[self.dispersion]}/"
                 f"{_BASIS_LABELS.get(self.basis, self.basis)}{fit}, {solvent}")
 
@@ -253,11 +258,15 @@ def import_pyscf():
 
 
 def build_molecule(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
-    """Return the PySCF molecule of one geometry (Å) in ``level``'s basis, with PySCF's memory target (MB) set."""
+    """Return the PySCF molecule of one geometry (Å) in ``level``'s basis (with its ECPs where the basis has them,
+    engines/dftbasis.py), with PySCF's memory target (MB) set."""
     gto, _, _ = import_pyscf()
-    return gto.M(atom=[(s, tuple(p)) for s, p in zip(atoms.get_chemical_symbols(), atoms.positions)],
-                 unit="Angstrom", basis=level.basis, charge=charge, spin=multiplicity - 1, verbose=0,
-                 max_memory=pyscf_target_MB(level.memory_limit_MB))
+    symbols = atoms.get_chemical_symbols()
+    basis, ecp = pyscf_basis(level.basis, symbols)
+    extra = {} if ecp is None else {"ecp": ecp}
+    return gto.M(atom=[(s, tuple(p)) for s, p in zip(symbols, atoms.positions)],
+                 unit="Angstrom", basis=basis, charge=charge, spin=multiplicity - 1, verbose=0,
+                 max_memory=pyscf_target_MB(level.memory_limit_MB), **extra)
 
 
 def guard_memory(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, task: str, name: str) -> float:
@@ -269,11 +278,11 @@ def guard_memory(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
         if level.density_fit:
             from pyscf import df
 
-            n_aux = int(df.make_auxmol(mol, df.make_auxbasis(mol)).nao)
+            n_aux = int(df.make_auxmol(mol, auxiliary_basis(level.basis) or df.make_auxbasis(mol)).nao)
     except (RuntimeError, ValueError, KeyError) as err:
         raise DftError(f"{name}: PySCF setup failed ({type(err).__name__}: {err})") from err
     return check_memory(name, _BASIS_LABELS.get(level.basis, level.basis), int(mol.nao), n_aux, len(atoms), task,
-                        level.dielectric_constant is not None, level.memory_limit_MB)
+                        level.dielectric_constant is not None, level.memory_limit_MB, basis_key=level.basis)
 
 
 def build_scf(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
@@ -281,15 +290,18 @@ def build_scf(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel):
     _, dft, _ = import_pyscf()
     mol = build_molecule(atoms, charge, multiplicity, level)
     mf = (dft.RKS(mol) if multiplicity == 1 else dft.UKS(mol))
-    mf.xc = level.functional
-    if level.dispersion != "none":
-        mf.disp = level.dispersion
+    xc, nlc, disp = pyscf_functional(level.functional, level.dispersion)
+    mf.xc = xc
+    if nlc is not None:  # a composite that drops its functional's VV10 part (wB97X-3c: wB97X-V without VV10)
+        mf.nlc = nlc
+    if disp is not None:
+        mf.disp = disp
     mf.grids.level = level.grid_level
     mf.max_cycle = level.max_scf_cycles
     mf.conv_tol = level.scf_tolerance_hartree
     mf.chkfile = None
     if level.density_fit:
-        mf = mf.density_fit()
+        mf = mf.density_fit(auxbasis=auxiliary_basis(level.basis))
     if level.dielectric_constant is not None:
         mf = mf.PCM()
         mf.with_solvent.method = "IEF-PCM"
@@ -344,7 +356,8 @@ def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent:
         check_free_ions(job, charges, level)
     except DftRefusedError as err:
         return DftJobResult(status="refused", message=str(err), error=error_info(err), saddles_mode=config.saddles)
-    missing = missing_pyscf(config.dispersion)
+    # a basis from basis-set-exchange (vDZP) needs that package too
+    missing = missing_pyscf(config.dispersion) or missing_basis_data(config.basis)
     if missing is not None:
         return DftJobResult(status="skipped", message=missing, saddles_mode=config.saddles)
     return level

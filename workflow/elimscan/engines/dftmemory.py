@@ -17,6 +17,8 @@ auxiliary functions of def2-universal-jkfit, peaked at 8.7 GB with PySCF's memor
   measured), 0.9 for a single point (1.9 GB for the 19-atom 2-chlorobutane + methoxide complex at def2-SVPD,
   measured 1.8 GB), 4.0 for an analytic Hessian (only a lower bound is measured: above 3.4 GB for a 16-atom saddle
   at def2-SVPD when it was stopped, 2.4 times the size term of its gradient; the 4.0 is a guess above that bound).
+  The wB97X-3c level (vDZP basis, same fitting set) was measured below the formula too: 0.84 and 1.08 GB peak for
+  single points on 16- and 19-atom saddles with IEF-PCM, estimated 1.3 and 1.7 GB.
 
 PySCF treats its ``max_memory`` as a target for the arrays it blocks, not as a cap (8.7 GB against 4000 MB), so the
 engine hands it ``pyscf_target_MB``: a share of the limit, never above the 4000 MB the formula was calibrated at.
@@ -40,6 +42,11 @@ PCM_WORDS_PER_POINT2 = 45
 #: without RI the auxiliary count is replaced by this many per basis function (def2-universal-jkfit over def2-SVP:
 #: 1828 / 368 = 5.0 on the calibration saddle; 3.7 over def2-SVPD)
 NO_RI_AUX_PER_BASIS = 5
+#: ... except for a basis with far fewer functions per atom than def2-SVP, where the stand-in is taken from the same
+#: fitting set over that basis: vDZP (valence-only, ECP cores; wB97X-3c) is fitted with def2-universal-jkfit too
+#: (engines/dftbasis.py), counted at 823 / 128 = 6.4 on the 16-atom bromoethane + ethoxide SN2 saddle and
+#: 934 / 151 = 6.2 on the 19-atom 2-bromopropane + ethoxide E2 saddle; the larger, rounded up
+NO_RI_AUX_PER_BASIS_BY_BASIS = {"vdzp": 6.5}
 #: the estimate's multiple per kind of calculation (see the module docstring)
 TASK_FACTORS = {"single point": 0.9, "gradient": 1.0, "hessian": 4.0}
 #: share of the available memory a DFT calculation may take by default (dft.memory_limit_MB: null), before the
@@ -54,9 +61,11 @@ PYSCF_TARGET_SHARE = 0.4
 _WORD_BYTES = 8
 
 
-def peak_memory_estimate_GB(n_basis: int, n_aux: int | None, n_atoms: int, task: str, pcm: bool) -> float:
-    """Return the estimated peak memory (GB, 1e9 bytes) of one PySCF calculation (n_aux None = no RI)."""
-    aux = NO_RI_AUX_PER_BASIS * n_basis if n_aux is None else n_aux
+def peak_memory_estimate_GB(n_basis: int, n_aux: int | None, n_atoms: int, task: str, pcm: bool,
+                            no_ri_aux_per_basis: float = NO_RI_AUX_PER_BASIS) -> float:
+    """Return the estimated peak memory (GB, 1e9 bytes) of one PySCF calculation (n_aux None = no RI: then
+    ``no_ri_aux_per_basis`` auxiliary functions per basis function stand in)."""
+    aux = no_ri_aux_per_basis * n_basis if n_aux is None else n_aux
     words = float(aux) * n_basis ** 2
     if pcm:
         words += PCM_WORDS_PER_POINT2 * float(POINTS_PER_ATOM * n_atoms) ** 2
@@ -104,10 +113,17 @@ def pyscf_target_MB(limit_MB: float | None) -> int:
     return max(1, int(min(PYSCF_DEFAULT_TARGET_MB, PYSCF_TARGET_SHARE * limit_MB)))
 
 
+def no_ri_aux_per_basis(basis: str) -> float:
+    """Return the auxiliary functions per basis function that stand in without RI for our basis key (a ratio)."""
+    return NO_RI_AUX_PER_BASIS_BY_BASIS.get(basis, NO_RI_AUX_PER_BASIS)
+
+
 def check_memory(name: str, basis: str, n_basis: int, n_aux: int | None, n_atoms: int, task: str, pcm: bool,
-                 limit_MB: float | None, setting: str = "dft.memory_limit_MB") -> float:
-    """Return the peak-memory estimate (GB) of a calculation; raise DftMemoryError naming it when over the limit."""
-    estimate_GB = peak_memory_estimate_GB(n_basis, n_aux, n_atoms, task, pcm)
+                 limit_MB: float | None, setting: str = "dft.memory_limit_MB", basis_key: str | None = None) -> float:
+    """Return the peak-memory estimate (GB) of a calculation; raise DftMemoryError naming it when over the limit
+    (``basis`` is the label in the message, ``basis_key`` our key, which sets the no-RI stand-in)."""
+    estimate_GB = peak_memory_estimate_GB(n_basis, n_aux, n_atoms, task, pcm,
+                                          no_ri_aux_per_basis(basis_key or basis.lower()))
     if limit_MB is not None and estimate_GB * 1000.0 > limit_MB:
         aux = f", {n_aux} auxiliary" if n_aux is not None else ""
         raise DftMemoryError(

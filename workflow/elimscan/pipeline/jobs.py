@@ -10,6 +10,7 @@ from dataclasses import dataclass
 
 from elimscan.pipeline import artifacts
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+from elimscan.config.dft import BSE_BASIS_KEYS
 from elimscan.pipeline.assemble import failed_job_record, pack_job, substrate_molecule_record, with_dft
 from elimscan.pipeline.compute import run_config
 from elimscan.pipeline.document import canonical_solvent, job_key, provenance, run_document, substrate_inputs
@@ -113,7 +114,8 @@ def compute_run(config: RunConfig, engine, on_progress: ProgressCallback | None 
     files: dict[str, bytes] = {}
     for job in done:
         files.update(job.files)
-    versions = numeric_versions(config.method.backend, dft=config.dft.enabled)
+    versions = numeric_versions(config.method.backend, dft=config.dft.enabled,
+                                basis_data=config.dft.basis in BSE_BASIS_KEYS)
     solvent = canonical_solvent(config.method.solvent, config)
     keyed = [job.job.model_copy(update={"job_key": job_key(
         config, substrate_inputs(substrate, (geometries or {}).get(substrate.name, (None,))[0]), base, solvent,
