@@ -33,8 +33,8 @@ MAX_CLUSTER_EMBEDDINGS = 8
 #: explicit molecules of its own conjugate acid an alkoxide or hydroxide gets by default in a protic solvent (water,
 #: an alcohol; solvents.PROTIC_SOLVENTS) when its ``model:`` gives no ``explicit``: the benchmark's frozen base
 #: model (validation/model-freeze.yaml, ``alcohol-3-embedded``: two alcohols hydrogen-bonded to the oxygen, one in the
-#: second shell), chosen on the solution basicity order and gap (validation/BASICITY.md). Every other base, and any base in
-#: an aprotic solvent or the gas phase, stays bare; the rule is chem/basemodels.resolve_base_model
+#: second shell), chosen on the solution basicity order and gap (validation/BASICITY.md). Every other base, and any
+#: base in an aprotic solvent or the gas phase, stays bare; the rule is chem/basemodels.resolve_base_model
 DEFAULT_EXPLICIT_MOLECULES = 3
 #: independent embeddings of that default cluster (``model.embeddings`` left out; the lowest relaxed one is kept):
 #: the frozen benchmark model ``alcohol-3-embedded`` (validation/model-freeze.yaml), chosen because its free barriers
