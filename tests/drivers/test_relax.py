@@ -177,3 +177,37 @@ def test_a_non_finite_engine_result_is_retried_then_an_engine_error(ethane, monk
     assert engine.stats.retries == 1  # once more at the higher electronic temperature, as for an SCF failure
     with pytest.raises(EngineError):  # and a relaxation on it stops with our error, not a scipy one
         relax(ethane, engine.calculator(name="ethane"), (), OptimizerConfig(name="sella"))
+
+
+def test_sella_goes_on_in_cartesians_after_too_many_rebuilds_of_its_internals(ethane, monkeypatch):
+    # Seen 2026-12-04 (validation/VALIDATION-fast.md run): a three-ethanol SN2 complex made Sella 2.6 rebuild its
+    # internal coordinates at almost every step, each rebuild compiling them anew (about 15 s a step). Here every
+    # step is declared bad: with internal_rebuild_limit 2, the third rebuild hands the relaxation to Sella's
+    # Cartesian mode, which must still hold the dihedral and reach the closed-form energy (9 V3 above staggered,
+    # as in the first test of this file).
+    from sella import Sella
+    from sella.internal import Internals
+
+    rebuilt = []
+    rebuild = Sella._rebuild_after_bad_internals
+
+    def counted_rebuild(self):
+        rebuilt.append(self.nsteps)
+        return rebuild(self)
+
+    def always_bad(self):
+        return {"bonds": [], "angles": ["forced"]}
+
+    toy = SpringTorsionEngine(ethane, torsion_barrier_eV=0.005)
+    staggered = relax(ethane, toy.calculator(), (), TIGHT)
+    near = relax(staggered.atoms, toy.calculator(), [HeldDihedral(HCCH, 20.0)], TIGHT).atoms
+    monkeypatch.setattr(Internals, "check_for_bad_internals", always_bad)
+    monkeypatch.setattr(Sella, "_rebuild_after_bad_internals", counted_rebuild)
+    limited = OptimizerConfig(name="sella", fmax_eV_per_A=1e-4, internal_rebuild_limit=2, max_steps=300)
+    steps = []
+    result = relax(near, toy.calculator(), [HeldDihedral(HCCH, 0.0)], limited, on_step=lambda k, e: steps.append(k))
+    assert len(rebuilt) == 3  # the third rebuild is the one past the limit: no internal step after it
+    assert result.converged and abs(dihedral_deg(result.atoms.positions, *HCCH)) < 0.01
+    barrier_eV = (result.energy_hartree - staggered.energy_hartree) * EV_PER_HARTREE
+    assert barrier_eV == pytest.approx(9 * 0.005, rel=0.02)
+    assert steps == sorted(steps) and result.n_steps == steps[-1], (steps, result.n_steps)  # one count, both modes

@@ -106,6 +106,12 @@ class OptimizerConfig(Frozen):
     #: a held dihedral further than this from its target is first set by rotating one side of the bond
     #: (acyclic bonds only); smaller differences are projected by the constraint (degrees)
     rigid_rotation_above_deg: float = Field(5.0, gt=0)
+    #: Sella in internal coordinates rebuilds its coordinates whenever they turn ill-defined, and each rebuild
+    #: compiles its coordinate functions anew (jax), seconds a time: after this many rebuilds in one relaxation the
+    #: relaxation goes on in Sella's Cartesian mode from where it is, with the same constraints and the steps left
+    #: (None: never). Seen 2026-12-04: the SN2 complex of trans-2-methylcyclohexyl chloride + ethoxide with three
+    #: ethanols rebuilt at almost every step, about 15 s a step, 311 gradients in 37 min and 5 GB of memory
+    internal_rebuild_limit: int | None = Field(None, ge=0)
 
 
 class ThreadsConfig(Frozen):

@@ -201,7 +201,8 @@ def relax(
                                                       start_hessian)
             else:
                 steps, converged = _run_sella(work, held, targets, fmax_eV_per_A, max_steps, on_step,
-                                              internal=optimizer == "sella")
+                                              internal=optimizer == "sella",
+                                              rebuild_limit=settings.internal_rebuild_limit)
                 hessian = None
             energy = work.get_potential_energy() / EV_PER_HARTREE
     except EngineError:
@@ -237,11 +238,9 @@ def _run_bfgs(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax:
     return opt.nsteps, bool(converged), hessian
 
 
-def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
-               on_step: Callable[[int, float], None] | None, internal: bool = True) -> tuple[int, bool]:
-    """Run Sella (minimisation, in internal coordinates or Cartesians) with its own constraints; return (steps,
-    converged)."""
-    from sella import Constraints, Sella  # imported here: Sella loads jax, which is slow to start
+def _sella_constraints(work: Atoms, held: Sequence[Held], targets: Sequence[float]):
+    """Return Sella's constraints holding ``held`` at ``targets`` (dihedrals in degrees, distances in Å)."""
+    from sella import Constraints  # imported here: Sella loads jax, which is slow to start
 
     constraints = Constraints(work)
     for item, target in zip(held, targets):
@@ -251,8 +250,58 @@ def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax
             constraints.fix_bond(item.atoms, target=target)
         else:
             raise OptimizationError("Sella cannot hold a linear combination of distances: use optimizer 'bfgs'")
-    opt = Sella(work, order=0, internal=internal, constraints=constraints, logfile=None)
+    return constraints
+
+
+def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax: float, max_steps: int,
+               on_step: Callable[[int, float], None] | None, internal: bool = True,
+               rebuild_limit: int | None = None) -> tuple[int, bool]:
+    """Run Sella (minimisation, in internal coordinates or Cartesians) with its own constraints; return (steps,
+    converged).
+
+    In internal coordinates with ``rebuild_limit``: once Sella has rebuilt its coordinates more than that many
+    times, the relaxation goes on in Sella's Cartesian mode from the current geometry for the steps left.
+    """
+    from sella import Sella
+
+    opt = Sella(work, order=0, internal=internal, constraints=_sella_constraints(work, held, targets), logfile=None)
     if on_step is not None:
         opt.attach(lambda: on_step(opt.nsteps, work.get_potential_energy() / EV_PER_HARTREE))
-    converged = opt.run(fmax=fmax, steps=max_steps)
-    return opt.nsteps, bool(converged)
+    if not internal or rebuild_limit is None:
+        converged = opt.run(fmax=fmax, steps=max_steps)
+        return opt.nsteps, bool(converged)
+    rebuilds = _count_rebuilds(opt)
+    converged = False
+    for converged in opt.irun(fmax=fmax, steps=max_steps):
+        if rebuilds.count > rebuild_limit:
+            break
+    if converged or rebuilds.count <= rebuild_limit or opt.nsteps >= max_steps:
+        return opt.nsteps, bool(converged)
+    done = opt.nsteps
+    more, converged = _run_sella(work, held, targets, fmax, max_steps - done, _on_step_after(on_step, done),
+                                 internal=False)
+    return done + more, converged
+
+
+@dataclass
+class _Rebuilds:
+    """How many times a Sella optimiser rebuilt its internal coordinates."""
+
+    count: int = 0
+
+
+def _count_rebuilds(opt) -> _Rebuilds:
+    """Return a counter of ``opt``'s internal-coordinate rebuilds (wraps Sella 2.6's ``_rebuild_after_bad_internals``)."""
+    rebuilds, original = _Rebuilds(), opt._rebuild_after_bad_internals
+
+    def counted():
+        rebuilds.count += 1
+        return original()
+
+    opt._rebuild_after_bad_internals = counted
+    return rebuilds
+
+
+def _on_step_after(on_step: Callable[[int, float], None] | None, offset: int) -> Callable[[int, float], None] | None:
+    """Return ``on_step`` with its step numbers shifted by ``offset`` (None stays None)."""
+    return None if on_step is None else (lambda step, energy_hartree: on_step(offset + step, energy_hartree))

@@ -54,7 +54,9 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: per-solvent default cluster, one otherwise); documents of 0.8.3 stay valid.
 #: 0.8.5 added values only: config dft.functional 'wb97x-3c' (the wB97X-3c composite) and dft.basis 'vdzp' (its
 #: basis, allowed with it alone); documents of 0.8.4 stay valid.
-RESULT_SCHEMA_VERSION = "0.8.5"
+#: 0.8.6 added one optional config key: optimizer.internal_rebuild_limit (Sella's internal coordinates handed to its
+#: Cartesian mode after that many rebuilds in one relaxation; null: never, as before).
+RESULT_SCHEMA_VERSION = "0.8.6"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -144,7 +146,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
