@@ -109,8 +109,12 @@ class OptimizerConfig(Frozen):
     #: Sella in internal coordinates rebuilds its coordinates whenever they turn ill-defined, and each rebuild
     #: compiles its coordinate functions anew (jax), seconds a time: after this many rebuilds in one relaxation the
     #: relaxation goes on in Sella's Cartesian mode from where it is, with the same constraints and the steps left
-    #: (None: never). Seen 2026-12-04: the SN2 complex of trans-2-methylcyclohexyl chloride + ethoxide with three
-    #: ethanols rebuilt at almost every step, about 15 s a step, 311 gradients in 37 min and 5 GB of memory
+    #: (None: never). Seen 2026-12-04 (benchmark seed 1, frozen model): the SN2 complex of trans-2-methylcyclohexyl
+    #: chloride + ethoxide with five-embedded three ethanols rebuilt at almost every step, about 15 s a step, 45 min
+    #: for its relaxations, 5 GB of memory, 77 min for the job (seed 3's job: 16 min). The same job with limit 5
+    #: (anti paths and SN2): complexes 2.3 min, 8.5 min in all, 2.0 GB, and the same SN2 and anti barriers to 0.001
+    #: kcal/mol (dE 27.883 and 15.041, dG 38.148 and 25.519). Null until a default is checked on the fast subset:
+    #: any other value rekeys every job
     internal_rebuild_limit: int | None = Field(None, ge=0)
 
 
