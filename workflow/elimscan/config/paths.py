@@ -110,9 +110,10 @@ class PathConfig(Frozen):
     #: 2026-12-04 (one run each, busy machine): bare 808 -> 638 per E2 path, 7/7 verified, barriers within 0.061;
     #: three-ethanol cluster, three anti paths: 1,242 -> 1,068, 3/3 verified, within 0.024. Tightening the top from a
     #: fresh Hessian instead did not keep the top in place (it moves in the loose pass: 668); a looser first pass
-    #: (0.05 eV/Å: 890) and two steps at a time while climbing (838; 744 with the carried Hessian) cost more. Off
-    #: until a default change is worth rekeying the benchmark's jobs (it still misses issue 19's 600)
-    carry_hessian: bool = False
+    #: (0.05 eV/Å: 890) and two steps at a time while climbing (838; 744 with the carried Hessian) cost more. On by
+    #: default since 2026-12-04 (one rekey with optimizer.internal_rebuild_limit, checked on the benchmark's fast
+    #: subset: validation/VALIDATION-fast.md); false reproduces the paths, and the job keys, from before
+    carry_hessian: bool = True
     #: syn paths hold H-C-C-X at this dihedral (degrees)
     syn_dihedral_deg: float = Field(0.0, ge=-30, le=30)
     #: also compute backside substitution (SN2) at C-alpha for every job
