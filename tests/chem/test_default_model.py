@@ -142,8 +142,8 @@ def test_the_reason_names_the_rule_in_one_wording():
 #: versions {"elimscan": "test"}, the default settings. First computed at commit c92e145 (before the per-solvent
 #: default; 87f831af..., 7c608560..., 2c77eb06...); recomputed for key format 2 (geminal hydrogens keep their
 #: labels: every finished job is computed again), with which the per-solvent default changes nothing for them. The
-#: speed defaults of 2026-12-04 (paths.carry_hessian true, optimizer.internal_rebuild_limit 5) rekey every job, so
-#: these keys are taken with both written out at their values from before (they key as if not written)
+#: default optimizer.internal_rebuild_limit 5 of 2026-12-04 rekeys every job, so these keys are taken with it written
+#: out at its value from before, null (which keys as if not written)
 KEY_BEFORE_ETHANOL = "3ed8c6305827be3fdc4be9d8a9ac3caabe81177eaf86f7178c2fdf58fb9a987f"
 KEY_BEFORE_DMSO = "657618156489c9d7c9ced6f08d977c7105e05de129a5571244ec7f540a26d49f"
 KEY_BEFORE_K_PAIR = "57c3e5370901998e245b5cbd4b9777f498b864ceaf60d047bf549273d75b9566"
@@ -153,7 +153,7 @@ def _key(base: BaseConfig, solvent: str) -> str:
     from elimscan.pipeline.document import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),), bases=(base,),
-                       paths=PathConfig(carry_hessian=False), optimizer=OptimizerConfig(internal_rebuild_limit=None))
+                       optimizer=OptimizerConfig(internal_rebuild_limit=None))
     return job_key(config, {"name": "s", "smiles": "CCCl"}, base, SolventConfig(model="alpb", name=solvent),
                    {"elimscan": "test"})
 

@@ -112,10 +112,10 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     batches); 847460fe… since the loose-first driven path became the default (merge of branch pathcost: barriers
     within 0.06 kcal/mol on bench_paths, but numbers move, so keys must); 5ddf9964... since key format 2 (geminal
     hydrogens keep their perceived labels: products of open-chain CH2 hydrogens were E/Z-swapped in some conformers);
-    ec539047... since paths.carry_hessian true and optimizer.internal_rebuild_limit 5 became the defaults (both
-    written out at their old values, false and null, the job keys as before: 5ddf9964...).
+    2af800a4... since optimizer.internal_rebuild_limit 5 became the default (written out at its old value, null,
+    the job keys as before: 5ddf9964...).
     """
-    from elimscan.config import BaseConfig, OptimizerConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.pipeline.document import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
@@ -123,8 +123,7 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     key = job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0], SolventConfig(model="alpb", name="ethanol"),
                   {"elimscan": "test"})
     assert key == DEFAULT_KEY
-    before = config.model_copy(update={"paths": PathConfig(carry_hessian=False),
-                                       "optimizer": OptimizerConfig(internal_rebuild_limit=None)})
+    before = config.model_copy(update={"optimizer": OptimizerConfig(internal_rebuild_limit=None)})
     assert job_key(before, {"name": "s", "smiles": "CCCl"}, before.bases[0], SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) == BEFORE_SPEED_DEFAULTS_KEY
     more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
@@ -136,8 +135,8 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
 
 
 #: the pinned job key of chloroethane + ethoxide (three ethanols, ALPB ethanol) under today's defaults ...
-DEFAULT_KEY = "ec539047295fcee083ebb9ea04577d2593513168bed269bcce00d974f65c471b"
-#: ... and with paths.carry_hessian false and optimizer.internal_rebuild_limit null, the defaults before 2026-12-04
+DEFAULT_KEY = "2af800a400b302653050f711fc0d5e1c60c3929c07bc534f07544a76fd2c4d28"
+#: ... and with optimizer.internal_rebuild_limit null, its default before 2026-12-04
 BEFORE_SPEED_DEFAULTS_KEY = "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
 
 
@@ -161,11 +160,11 @@ def _dft_key(monkeypatch):
 def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
     """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
     points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
-    format 2, 63b129ce… since the speed defaults of 2026-12-04 (PySCF's version pinned to 'test' here so the value
+    format 2, ed0a2b9b… since optimizer.internal_rebuild_limit 5 became the default (2026-12-04) (PySCF's version pinned to 'test' here so the value
     does not follow the installed library). Re-optimising keys differently."""
     key = _dft_key(monkeypatch)
     single = key({"enabled": True})
-    assert single == "63b129ced934913a16c8db6941ecc31adee9273bf0e332919f3b2d072b8163ae"
+    assert single == "ed0a2b9bf5068a1aede0624fdbc2b404162044d3e1c5ba6b4630791be6317977"
     assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
     reoptimise = key({"enabled": True, "saddles": "reoptimise"})
     assert reoptimise != single
@@ -173,8 +172,8 @@ def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(mo
 
 
 def test_carrying_the_bfgs_hessian_along_the_path_keys_apart_only_when_on():
-    """paths.carry_hessian is on by default; at false it does what the driven path did before it existed
-    (KEY_NEUTRAL), which moves the path's numbers, so the key must move too."""
+    """paths.carry_hessian at false does what the driven path did before it existed (KEY_NEUTRAL), so a job keys as
+    in the pinned test above; on, the path's numbers move, so its key must too."""
     from elimscan.config import BaseConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.pipeline.document import job_key
 
@@ -184,8 +183,8 @@ def test_carrying_the_bfgs_hessian_along_the_path_keys_apart_only_when_on():
         return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
                        SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
 
-    assert key(carry_hessian=True) == key()
-    assert key(carry_hessian=False) != key()
+    assert key(carry_hessian=False) == key()
+    assert key(carry_hessian=True) != key()
 
 
 def test_the_dft_memory_limit_changes_no_job_key(monkeypatch):

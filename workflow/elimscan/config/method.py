@@ -113,9 +113,9 @@ class OptimizerConfig(Frozen):
     #: chloride + ethoxide with five-embedded three ethanols rebuilt at almost every step, about 15 s a step, 45 min
     #: for its relaxations, 5 GB of memory, 77 min for the job (seed 3's job: 16 min). The same job with limit 5
     #: (anti paths and SN2): complexes 2.3 min, 8.5 min in all, 2.0 GB, and the same SN2 and anti barriers to 0.001
-    #: kcal/mol (dE 27.883 and 15.041, dG 38.148 and 25.519). 5 by default since 2026-12-04 (one rekey with
-    #: paths.carry_hessian, checked on the benchmark's fast subset); null reproduces the relaxations, and the job
-    #: keys, from before
+    #: kcal/mol (dE 27.883 and 15.041, dG 38.148 and 25.519). 5 by default since 2026-12-04 (checked on the
+    #: benchmark's fast subset: validation/VALIDATION-fast.md); null reproduces the relaxations, and the job keys,
+    #: from before
     internal_rebuild_limit: int | None = Field(5, ge=0)
 
 

@@ -56,8 +56,7 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: basis, allowed with it alone); documents of 0.8.4 stay valid.
 #: 0.8.6 added one optional config key: optimizer.internal_rebuild_limit (Sella's internal coordinates handed to its
 #: Cartesian mode after that many rebuilds in one relaxation; null: never, as before).
-#: 0.8.7 changed two defaults only: optimizer.internal_rebuild_limit 5 (was null) and paths.carry_hessian true (was
-#: false); documents of 0.8.6 stay valid.
+#: 0.8.7 changed one default only: optimizer.internal_rebuild_limit 5 (was null); documents of 0.8.6 stay valid.
 RESULT_SCHEMA_VERSION = "0.8.7"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
