@@ -291,7 +291,8 @@ class _Rebuilds:
 
 
 def _count_rebuilds(opt) -> _Rebuilds:
-    """Return a counter of ``opt``'s internal-coordinate rebuilds (wraps Sella 2.6's ``_rebuild_after_bad_internals``)."""
+    """Return a counter of ``opt``'s internal-coordinate rebuilds (wraps Sella 2.6's
+    ``_rebuild_after_bad_internals``)."""
     rebuilds, original = _Rebuilds(), opt._rebuild_after_bad_internals
 
     def counted():
