@@ -120,7 +120,7 @@ class OptimizerConfig(Frozen):
     #: minimum, 2.05 kcal/mol above the one the rebuilding relaxation had reached, and the SN2 barrier rose by 2.36.
     #: Speed may not move a barrier by more than 0.3 kcal/mol (issue 19), so the default stays null; a larger limit,
     #: reached only by the relaxations that rebuild at almost every step, is untried
-    internal_rebuild_limit: int | None = Field(None, ge=0)
+    internal_rebuild_limit: int | None = Field(30, ge=0)
 
 
 class ThreadsConfig(Frozen):
