@@ -111,22 +111,33 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     value and say why in the commit. History: f89e676d… from commit 607da3f (the frozen-model benchmark's first
     batches); 847460fe… since the loose-first driven path became the default (merge of branch pathcost: barriers
     within 0.06 kcal/mol on bench_paths, but numbers move, so keys must); 5ddf9964... since key format 2 (geminal
-    hydrogens keep their perceived labels: products of open-chain CH2 hydrogens were E/Z-swapped in some conformers).
+    hydrogens keep their perceived labels: products of open-chain CH2 hydrogens were E/Z-swapped in some conformers);
+    5b4604d5... since optimizer.internal_rebuild_limit 30 became the default (written out at its old value, null,
+    the job keys as before: 5ddf9964...).
     """
-    from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.pipeline.document import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
                        bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),))
     key = job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0], SolventConfig(model="alpb", name="ethanol"),
                   {"elimscan": "test"})
-    assert key == "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
+    assert key == DEFAULT_KEY
+    before = config.model_copy(update={"optimizer": OptimizerConfig(internal_rebuild_limit=None)})
+    assert job_key(before, {"name": "s", "smiles": "CCCl"}, before.bases[0], SolventConfig(model="alpb", name="ethanol"),
+                   {"elimscan": "test"}) == BEFORE_REBUILD_LIMIT_KEY
     more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
     assert job_key(config, {"name": "s", "smiles": "CCCl"}, more, SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != key  # three arrangements can change the numbers
     embedded = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"embeddings": 2})})
     assert job_key(config, {"name": "s", "smiles": "CCCl"}, embedded, SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != key  # so can two embeddings (one, the default, keeps the key above)
+
+
+#: the pinned job key of chloroethane + ethoxide (three ethanols, ALPB ethanol) under today's defaults ...
+DEFAULT_KEY = "5b4604d53bcf2d3f65d6890b51bc7f4fc3560a24c51730a83644a3fc10e4c90b"
+#: ... and with optimizer.internal_rebuild_limit null, the default before 2026-12-04
+BEFORE_REBUILD_LIMIT_KEY = "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
 
 
 def _dft_key(monkeypatch):
@@ -149,11 +160,11 @@ def _dft_key(monkeypatch):
 def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
     """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
     points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
-    format 2 (PySCF's version pinned to 'test' here so the value does not follow the installed library).
+    format 2, 49631899… since optimizer.internal_rebuild_limit 30 became the default (PySCF's version pinned to 'test' here so the value does not follow the installed library).
     Re-optimising keys differently."""
     key = _dft_key(monkeypatch)
     single = key({"enabled": True})
-    assert single == "afbc3fb93a9f97b25e1486c0ee556e52e2a96b56384f6559800c083cb4fa15a8"
+    assert single == "4963189972bcf44e03e0e4cea96fe98f8ef21572b8c483567f08aa3b86640c1f"
     assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
     reoptimise = key({"enabled": True, "saddles": "reoptimise"})
     assert reoptimise != single
@@ -197,8 +208,7 @@ def test_screening_the_base_rotations_keys_apart_only_when_on():
         return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
                        SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
 
-    assert key(complex_screen_fmax_eV_per_A=None) == key() == \
-        "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
+    assert key(complex_screen_fmax_eV_per_A=None) == key() == DEFAULT_KEY
     assert key(complex_screen_fmax_eV_per_A=0.05) != key()
     assert key(complex_screen_fmax_eV_per_A=0.05) != key(complex_screen_fmax_eV_per_A=0.1)
     assert key(complex_screen_window_kcal_mol=0.0) == key()
@@ -218,8 +228,7 @@ def test_the_complex_optimizer_keys_apart_only_when_set():
         return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
                        SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
 
-    assert key(complex_optimizer=None) == key() == \
-        "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
+    assert key(complex_optimizer=None) == key() == DEFAULT_KEY
     assert key(complex_optimizer="bfgs") != key()
     assert key(complex_optimizer="sella") != key(complex_optimizer="bfgs")
     assert key(complex_optimizer="bfgs", complex_screen_fmax_eV_per_A=0.05) != key(complex_optimizer="bfgs")

@@ -109,17 +109,15 @@ class OptimizerConfig(Frozen):
     #: Sella in internal coordinates rebuilds its coordinates whenever they turn ill-defined, and each rebuild
     #: compiles its coordinate functions anew (jax), seconds a time: after this many rebuilds in one relaxation the
     #: relaxation goes on in Sella's Cartesian mode from where it is, with the same constraints and the steps left
-    #: (None: never). Seen 2026-12-04 (benchmark seed 1, frozen model): the SN2 complex of trans-2-methylcyclohexyl
-    #: chloride + ethoxide with five-embedded three ethanols rebuilt at almost every step, about 15 s a step, 45 min
-    #: for its relaxations, 5 GB of memory, 77 min for the job (seed 3's job: 16 min). The same job with limit 5
-    #: (anti paths and SN2): complexes 2.3 min, 8.5 min in all, 2.0 GB, and the same SN2 and anti barriers to 0.001
-    #: kcal/mol (dE 27.883 and 15.041, dG 38.148 and 25.519). Tried as the default (5) on the benchmark's fast
-    #: subset (15 jobs, 2026-12-04, records of commit 13ed420): summed job time 11,563 -> 5,886 s over the 14 jobs
-    #: compared (that ring job 77 -> 20 min) and every complex and barrier the same to 0.001 kcal/mol but one:
-    #: where the limit was reached in seed 2's SN2 complex of the same ring, Sella's Cartesian mode stopped in another
-    #: minimum, 2.05 kcal/mol above the one the rebuilding relaxation had reached, and the SN2 barrier rose by 2.36.
-    #: Speed may not move a barrier by more than 0.3 kcal/mol (issue 19), so the default stays null; a larger limit,
-    #: reached only by the relaxations that rebuild at almost every step, is untried
+    #: (None: never, the default before 2026-12-04). Seen 2026-12-04 (benchmark seed 1, frozen model): the SN2 complex
+    #: of trans-2-methylcyclohexyl chloride + ethoxide with five-embedded three ethanols rebuilt at almost every step,
+    #: about 15 s a step, 77 min for the job (seed 3's: 16 min). Limit 5, tried on the benchmark's fast subset (15
+    #: jobs, records of commit 13ed420), halved the summed job time with every barrier the same to 0.001 kcal/mol but
+    #: one: seed 2's SN2 complex of the same ring reached it, Sella's Cartesian mode stopped in another minimum 2.05
+    #: kcal/mol higher and the SN2 barrier rose by 2.36 (issue 19 allows 0.3). Relaxations that converge rebuild up to
+    #: 26 times on that subset (counted at limit 30, records of commit 00b11df); the pathological one passed 30 at step
+    #: 162. Limit 30 on the same 15 jobs: every barrier, verified count and gradient count as without a limit (to
+    #: 0.001 kcal/mol), the ring job of seed 1 77 -> 23 min; so 30 is the default
     internal_rebuild_limit: int | None = Field(30, ge=0)
 
 

@@ -275,11 +275,6 @@ def _run_sella(work: Atoms, held: Sequence[Held], targets: Sequence[float], fmax
     for converged in opt.irun(fmax=fmax, steps=max_steps):
         if rebuilds.count > rebuild_limit:
             break
-    import os, time  # trial instrumentation only
-    if os.environ.get("ELIMSCAN_REBUILD_LOG"):
-        with open(os.environ["ELIMSCAN_REBUILD_LOG"], "a") as fh:
-            fh.write(f"{time.strftime('%H:%M:%S')} pid {os.getpid()} atoms {len(work)} held {len(held)} "
-                     f"steps {opt.nsteps} rebuilds {rebuilds.count} limit {rebuild_limit} converged {converged}\n")
     if converged or rebuilds.count <= rebuild_limit or opt.nsteps >= max_steps:
         return opt.nsteps, bool(converged)
     done = opt.nsteps

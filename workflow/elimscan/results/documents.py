@@ -56,7 +56,11 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: basis, allowed with it alone); documents of 0.8.4 stay valid.
 #: 0.8.6 added one optional config key: optimizer.internal_rebuild_limit (Sella's internal coordinates handed to its
 #: Cartesian mode after that many rebuilds in one relaxation; null: never, as before).
-RESULT_SCHEMA_VERSION = "0.8.6"
+#: 0.8.7 (commit 1906f10, reverted by a3e411d) changed two defaults for a trial (optimizer.internal_rebuild_limit 5,
+#: paths.carry_hessian true); its documents stay readable.
+#: 0.8.8 changed one default only: optimizer.internal_rebuild_limit 30 (was null); documents of 0.8.6 and 0.8.7 stay
+#: valid.
+RESULT_SCHEMA_VERSION = "0.8.8"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -146,7 +150,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.8.8", "0.8.7", "0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
