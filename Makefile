@@ -99,8 +99,11 @@ reference-cases-fast: $(VENV)/.installed
 # (BASE_MODEL=alcohol-2 etc., see workflow/elimscan/analysis/benchmark_models.py; writes CALIBRATION-<model>.md;
 # without BASE_MODEL the frozen model of validation/model-freeze.yaml, writes CALIBRATION.md),
 # and the relative alkoxide basicity under every candidate (writes validation/BASICITY.md; minutes).
+# Choosing the DFT level (registered in validation/model-freeze.yaml): DFT=b3lyp or DFT=wb97x-3c adds absolute DFT
+# single points to every calibration job (writes CALIBRATION-dft-<level>.md; hours a job with the frozen model's
+# clusters, and 10+ GB a calculation at def2-SVPD: run it with REFERENCE_WORKERS=1).
 calibration: $(VENV)/.installed
-	$(VPY) validation/validate.py --subset calibration $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
+	$(VPY) validation/validate.py --subset calibration $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) $(if $(DFT),--dft $(DFT)) --work $(REFERENCE_DIR) --workers $(REFERENCE_WORKERS)
 
 basicity: $(VENV)/.installed
 	$(VPY) validation/basicity.py

@@ -204,6 +204,35 @@ def test_a_base_model_candidate_models_every_base_and_runs_in_its_own_folders(ca
         base_model_block("alcohol-9")
 
 
+@pytest.mark.parametrize("functional", ["b3lyp", "wb97x-3c"])
+def test_a_dft_calibration_run_turns_the_tier_on_in_batches_and_a_page_of_its_own(cases, validate, functional):
+    """``--dft`` (the DFT level's decision registered in validation/model-freeze.yaml) runs every job with absolute
+    DFT single points on the lowest saddle of each product, in folders apart from the GFN2-xTB-only batches (other
+    job keys), and writes a page named for the level; GFN2-xTB-only runs are left as they were."""
+    from elimscan.pipeline.document import job_key
+
+    chosen = validate._chosen("calibration", list(cases.calibration), list(cases.test))
+    frozen = validate.frozen_model()
+    plain = batch_groups(benchmark_jobs(chosen, 1), base_model=frozen)
+    dft = batch_groups(benchmark_jobs(chosen, 1), base_model=frozen, dft_functional=functional)
+    assert [g.name + f"-dft-{functional}" for g in plain] == [g.name for g in dft]
+    assert all("dft" not in g.config for g in plain)
+    for group, before in zip(dft, plain):
+        config = parse_config(yaml.safe_dump(group.config), group.name)
+        assert config.dft.enabled and config.dft.absolute_barriers and config.dft.saddles_per_product == 1
+        assert config.dft.functional == functional and config.dft.saddles == "single-point"
+        old = parse_config(yaml.safe_dump(before.config), before.name)
+        first = lambda c: (c, {"name": c.substrates[0].name, "smiles": c.substrates[0].smiles}, c.bases[0],
+                           c.method.solvent, {"elimscan": "test"})
+        assert job_key(*first(config)) != job_key(*first(old))  # the DFT jobs are other jobs
+    args = validate._parse(["--subset", "calibration", "--dft", functional])
+    assert args.dft == functional and validate._parse([]).dft is None
+    assert validate.page_path("calibration", frozen, args.dft).name == f"CALIBRATION-dft-{functional}.md"
+    assert validate.page_path("calibration", frozen).name == "CALIBRATION.md"
+    with pytest.raises(SystemExit):
+        validate._parse(["--dft", "pbe"])  # not a registered candidate
+
+
 def test_sampling_keeps_a_case_s_own_paths_settings(cases):
     """A sampled candidate adds its path sampling over a case's own ``paths:`` block (anti-only or syn settings stay)."""
     from elimscan.analysis.benchmark_models import SAMPLING_PATHS

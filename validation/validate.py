@@ -34,7 +34,8 @@ import yaml
 
 from elimscan.analysis.benchmark_calibration import score_calibration
 from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
-from elimscan.analysis.benchmark_jobs import BatchGroup, batch_groups, benchmark_jobs, seeds_for
+from elimscan.analysis.benchmark_jobs import (DFT_CALIBRATION_FUNCTIONALS, BatchGroup, batch_groups, benchmark_jobs,
+                                              seeds_for)
 from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, UNNAMED_BASE_MODEL
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
@@ -89,6 +90,10 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         "archive (for a session that must end while a batch is still running)")
     parser.add_argument("--cases", default=None, metavar="ID,ID",
                         help="only these cases of the subset (a probe: the page is printed, never written)")
+    parser.add_argument("--dft", default=None, choices=DFT_CALIBRATION_FUNCTIONALS, metavar="FUNCTIONAL",
+                        help="also compute DFT single points with this level (%(choices)s) on the lowest GFN2-xTB "
+                        "saddle of each product and on the free substrate and base (absolute barriers), in batches "
+                        "and a page of their own; meant for the calibration set (overnight on two cores)")
     parser.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
                         help="compute with a plug-in engine instead of GFN2-xTB (for tests; part of each job's key)")
     args = parser.parse_args(argv)
@@ -160,7 +165,8 @@ def _archive_group(group: BatchGroup, work: Path, records: Path, commit: str, ke
         print(f"batch {group.name}: {written} finished job(s) archived in {records}", file=sys.stderr, flush=True)
 
 
-def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_model: str) -> int:
+def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_model: str,
+                  dft_functional: str | None = None) -> int:
     """Archive the jobs that finished ok in a work folder's batches, under the commit of the invocation computing
     there now, else of the last one that computed there with this base model (its run log); return the exit code (2
     when the folder holds no batch)."""
@@ -168,7 +174,8 @@ def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_mode
     runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
     if running.is_file():
         runs.append(json.loads(running.read_text()))
-    commits = [r["commit"] for r in runs if r.get("base_model", UNNAMED_BASE_MODEL) == base_model]
+    commits = [r["commit"] for r in runs
+               if r.get("base_model", UNNAMED_BASE_MODEL) == base_model and r.get("dft") == dft_functional]
     present = [g for g in groups if (work / g.name / STORE_FILE).is_file()]
     if not present:
         print(f"error: {work} holds no batch of these cases under base model {base_model}", file=sys.stderr)
@@ -255,7 +262,8 @@ def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespa
         if model == args.base_model:
             found, levels, scores, calibration = page
         else:
-            groups = batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine, base_model=model)
+            groups = batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine, base_model=model,
+                                  dft_functional=args.dft)
             found = _collect(groups, work, args.records)
             if not found.n_finished:
                 continue
@@ -268,9 +276,11 @@ def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespa
     return summaries
 
 
-def page_path(subset: str, base_model: str) -> Path:
-    """Return the page a subset and base model write (the frozen model's pages carry no model name)."""
+def page_path(subset: str, base_model: str, dft_functional: str | None = None) -> Path:
+    """Return the page a subset, base model and DFT level write (the frozen model's pages carry no model name; a
+    DFT level's pages carry its name)."""
     suffix = "" if base_model == frozen_model() else f"-{base_model}"
+    suffix += "" if dft_functional is None else f"-dft-{dft_functional}"
     return HERE / f"{PAGES[subset]}{suffix}.md"
 
 
@@ -342,28 +352,31 @@ def main(argv: list[str] | None = None) -> int:
         return 2
     seed_count = args.seeds if args.seeds is not None else (1 if args.subset == "fast" else None)
     groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine,
-                                 base_model=args.base_model),
+                                 base_model=args.base_model, dft_functional=args.dft),
                     key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
     if args.archive_only:
-        return _archive_work(groups, args.work, args.records, args.base_model)
+        return _archive_work(groups, args.work, args.records, args.base_model, args.dft)
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
         if not args.no_compute:
             running = work / RUNNING_FILE
-            running.write_text(json.dumps({"commit": commit, "base_model": args.base_model, "pid": os.getpid()}))
+            running.write_text(json.dumps({"commit": commit, "base_model": args.base_model, "dft": args.dft,
+                                           "pid": os.getpid()}))
             try:
                 for group in groups:
                     _run_group(group, work, args.workers, args.records, commit)
             finally:  # an interrupted invocation counts its wall time too
                 running.unlink(missing_ok=True)
                 entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
-                         "commit": commit, "subset": args.subset, "seeds": seed_count, "base_model": args.base_model}
+                         "commit": commit, "subset": args.subset, "seeds": seed_count, "base_model": args.base_model,
+                         "dft": args.dft}
                 with open(work / RUN_LOG, "a") as log:
                     log.write(json.dumps(entry) + "\n")
         log_file = work / RUN_LOG
         runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
-        runs = [r for r in runs if r.get("base_model", UNNAMED_BASE_MODEL) == args.base_model]
+        runs = [r for r in runs
+                if r.get("base_model", UNNAMED_BASE_MODEL) == args.base_model and r.get("dft") == args.dft]
         found = _collect(groups, work, args.records)
         levels = computed_levels(found.jobs()) or ["dE"]
         scores, calibration = _score(chosen, found, seed_count, levels)
@@ -387,8 +400,8 @@ def main(argv: list[str] | None = None) -> int:
                    **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))
     page = validation_markdown(info, scores, calibration, levels, models)
     if not args.no_write:
-        write_text_atomic(page_path(args.subset, args.base_model), page)
-        print(f"wrote {page_path(args.subset, args.base_model)}", file=sys.stderr)
+        write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
+        print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)
     print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
     print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))
     return 0

@@ -237,3 +237,65 @@ def test_rho_is_fitted_to_the_members_channel_barriers():
     de = next(e for e in score.estimates if e.label == "rho dE")
     assert de.mean == pytest.approx(2.0, abs=1e-4) and de.error == pytest.approx(-0.1, abs=1e-4)
     assert next(e for e in score.estimates if e.label == "rho dG").mean is None  # no dG in these records
+
+
+def _with_dft(job: dict, zero_kind: str, dft: dict[str, float], free: dict[str, float]) -> dict:
+    """Return a bookkeeping record with DFT barriers and GFN2-xTB free barriers by class ('SN2' for substitution)."""
+    job["dft"] = {"status": "ok", "zero_kind": zero_kind}
+    for beta in job["beta_hydrogens"]:
+        if beta["class_id"] in dft:
+            beta["anti"].update(barrier_dft_kcal_mol=dft[beta["class_id"]],
+                                barrier_free_energy_kcal_mol=free.get(beta["class_id"]))
+    if "SN2" in dft:
+        job["substitution"].update(barrier_dft_kcal_mol=dft["SN2"], barrier_free_energy_kcal_mol=free.get("SN2"))
+    return job
+
+
+def test_the_dft_free_barrier_is_the_dft_barrier_plus_the_gfn2_thermal_term():
+    # bookkeeping: GFN2-xTB dE 20 (E2) and 22 (SN2); dG 30 and 33; DFT dE 25 and 24, above the DFT free reactants
+    job = _with_dft(record([("a", "anti", "C=C", 20.0, 1)], sn2=22.0), "DFT free substrate + free base",
+                    {"a": 25.0, "SN2": 24.0}, {"a": 30.0, "SN2": 33.0})
+    assert channel_barrier_kcal_mol(job, "E2", "DFT//GFN2", 298.15) == pytest.approx(25.0)
+    assert channel_barrier_kcal_mol(job, "E2", "dG(DFT//GFN2)", 298.15) == pytest.approx(25.0 + 30.0 - 20.0)
+    assert channel_barrier_kcal_mol(job, "SN2", "dG(DFT//GFN2)", 298.15) == pytest.approx(24.0 + 33.0 - 22.0)
+    # the record itself is left as it was
+    assert "barrier_dft_free_kcal_mol" not in job["beta_hydrogens"][0]["anti"]
+
+
+def test_dft_barriers_above_the_lowest_dft_saddle_are_no_rate():
+    job = _with_dft(record([("a", "anti", "C=C", 20.0, 1)], sn2=22.0), "lowest DFT saddle of the job",
+                    {"a": 0.0, "SN2": 1.0}, {"a": 30.0, "SN2": 33.0})
+    assert channel_barrier_kcal_mol(job, "E2", "DFT//GFN2", 298.15) is None
+    assert channel_barrier_kcal_mol(job, "SN2", "dG(DFT//GFN2)", 298.15) is None
+    # and a path without a GFN2-xTB free barrier has no DFT free barrier either
+    job = _with_dft(record([("a", "anti", "C=C", 20.0, 1)], sn2=22.0), "DFT free substrate + free base",
+                    {"a": 25.0, "SN2": 24.0}, {"SN2": 33.0})
+    assert channel_barrier_kcal_mol(job, "E2", "dG(DFT//GFN2)", 298.15) is None
+    assert channel_barrier_kcal_mol(job, "E2", "DFT//GFN2", 298.15) == pytest.approx(25.0)
+
+
+def test_a_rate_gets_dft_estimates_only_where_its_jobs_have_absolute_dft_barriers():
+    from elimscan.analysis.benchmark_cases import RateCase
+    from elimscan.analysis.benchmark_summary import rate_errors_kcal_mol
+
+    rate = RateCase(id="rate", kind="rate", substrate=Molecule(name="s", smiles="CCBr"), base=Molecule(name="ethoxide"),
+                    solvent=SolventConfig(), temperature_K=298.15, seeds=(1,), channel="SN2", k2_M_s=1.0e-3,
+                    source="bookkeeping fixture", from_memory=False)
+    plain = record([("a", "anti", "C=C", 20.0, 1)], sn2=22.0)
+    labels = [e.label for e in score_calibration(rate, {"rate": {1: plain}}, (1,)).estimates]
+    assert labels == ["SN2 dG", "SN2 dE"]
+    dft = _with_dft(record([("a", "anti", "C=C", 20.0, 1)], sn2=22.0), "DFT free substrate + free base",
+                    {"a": 25.0, "SN2": 24.0}, {"a": 30.0, "SN2": 33.0})
+    score = score_calibration(rate, {"rate": {1: dft}}, (1,))
+    assert [e.label for e in score.estimates] == ["SN2 dG", "SN2 dE", "SN2 DFT//GFN2", "SN2 dG(DFT//GFN2)"]
+    measured = eyring_free_barrier_kcal_mol(1.0e-3, 298.15)
+    assert score.estimates[3].error == pytest.approx(35.0 - measured)
+    # the page's per-level rate errors keep the levels apart: the DFT free barrier is in none of dG, dE, DFT//GFN2
+    assert rate_errors_kcal_mol([score], "DFT//GFN2") == [pytest.approx(24.0 - measured)]
+    assert rate_errors_kcal_mol([score], "dE") == [pytest.approx(22.0 - measured)]
+    assert rate_errors_kcal_mol([score], "dG") == [pytest.approx(33.0 - measured)]
+    from elimscan.output.benchmark_tables import _dft_rate_words, calibration_rows
+
+    assert any("| SN2 dG(DFT//GFN2) | 35.00 |" in row for row in calibration_rows([score]))
+    assert "quasi-RRHO term" in _dft_rate_words([score])  # the page says what the DFT rows are
+    assert _dft_rate_words([score_calibration(rate, {"rate": {1: plain}}, (1,))]) == ""  # and only when there are any

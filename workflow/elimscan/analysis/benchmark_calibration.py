@@ -21,7 +21,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_cases import CalibrationCase, HammettCase, IsotopeCase, RateCase, member_slot
-from elimscan.analysis.benchmark_scoring import e2_paths, sn2_path
+from elimscan.analysis.benchmark_scoring import DERIVED_LEVELS, e2_paths, sn2_path
 from elimscan.analysis.rule import hammett_fit
 from elimscan.units import (AVOGADRO_PER_MOL_2018, BOLTZMANN_J_PER_K_2018, BOLTZMANN_KCAL_MOL_PER_K, J_PER_KCAL,
                             PLANCK_J_S_2018)
@@ -30,6 +30,15 @@ from elimscan.units import (AVOGADRO_PER_MOL_2018, BOLTZMANN_J_PER_K_2018, BOLTZ
 STANDARD_CONCENTRATION_M = 1.0
 #: levels at which the calibration compares barriers (DFT//GFN2 barriers are relative unless asked otherwise)
 CALIBRATION_LEVELS = ("dG", "dE")
+#: the DFT levels of a rate, where a job's DFT barriers are absolute (dft.absolute_barriers: above the DFT free
+#: substrate + free base): the DFT electronic barrier, and the DFT free barrier, that barrier plus the GFN2-xTB
+#: quasi-RRHO term of the same saddle (its free minus its electronic barrier; common practice for DFT single points
+#: on xTB geometries). The free one is what validation/model-freeze.yaml chooses the DFT level on.
+DFT_LEVEL, DFT_FREE_LEVEL = "DFT//GFN2", "dG(DFT//GFN2)"
+#: the field each path of a job copy gets for DFT_FREE_LEVEL (kcal/mol)
+DFT_FREE_FIELD = DERIVED_LEVELS[DFT_FREE_LEVEL]
+#: words in a job's dft.zero_kind that say its DFT barriers are absolute
+ABSOLUTE_DFT_ZERO = "free substrate + free base"
 
 
 def eyring_free_barrier_kcal_mol(k2_per_M_per_s: float, temperature_K: float) -> float:
@@ -43,10 +52,42 @@ def eyring_free_barrier_kcal_mol(k2_per_M_per_s: float, temperature_K: float) ->
     return gas_constant_kcal_mol_K * temperature_K * math.log(frequency_per_s / (k2_per_M_per_s * STANDARD_CONCENTRATION_M))
 
 
+def has_absolute_dft(job: Mapping) -> bool:
+    """Return True when a job's DFT barriers lie above its DFT free substrate + free base (absolute)."""
+    return ABSOLUTE_DFT_ZERO in ((job.get("dft") or {}).get("zero_kind") or "")
+
+
+def with_dft_free_barriers(job: Mapping) -> dict | None:
+    """Return a copy of a job record whose paths carry their DFT free barrier (kcal/mol) as ``DFT_FREE_FIELD``:
+    the absolute DFT electronic barrier plus the path's GFN2-xTB free minus electronic barrier; None when the job's
+    DFT barriers are not absolute. A path without all three numbers gets none."""
+    if not has_absolute_dft(job):
+        return None
+
+    def free(block: Mapping) -> dict:
+        parts = (block.get("barrier_dft_kcal_mol"), block.get("barrier_free_energy_kcal_mol"),
+                 block.get("barrier_kcal_mol"))
+        value = None if any(v is None for v in parts) else parts[0] + parts[1] - parts[2]
+        return {**block, DFT_FREE_FIELD: value}
+
+    copy = dict(job)
+    copy["beta_hydrogens"] = [{**beta, **{a: free(beta[a]) for a in ("anti", "syn") if beta.get(a) is not None}}
+                              for beta in job.get("beta_hydrogens") or ()]
+    if job.get("substitution"):
+        copy["substitution"] = free(job["substitution"])
+    return copy
+
+
 def channel_barrier_kcal_mol(job: Mapping, channel: str, level: str, temperature_K: float) -> float | None:
-    """Return the effective barrier of a job's E2 or SN2 channel at a level (kcal/mol), or None without one."""
+    """Return the effective barrier of a job's E2 or SN2 channel at a level (kcal/mol), or None without one.
+
+    At the DFT levels (``DFT_LEVEL``, ``DFT_FREE_LEVEL``) only jobs whose DFT barriers are absolute count."""
     if job.get("status") != "ok":
         return None
+    if level in (DFT_LEVEL, DFT_FREE_LEVEL):
+        job = with_dft_free_barriers(job)
+        if job is None:
+            return None
     if channel == "SN2":
         path = sn2_path(job, level)
         return None if path is None else path.barrier_kcal_mol
@@ -122,9 +163,11 @@ def score_calibration(case: CalibrationCase, jobs: Mapping[str, Mapping[int, Map
     if isinstance(case, RateCase):
         measured = eyring_free_barrier_kcal_mol(case.k2_per_M_per_s, temperature)
         mine = jobs.get(case.id, {})
+        levels = CALIBRATION_LEVELS + ((DFT_LEVEL, DFT_FREE_LEVEL) if any(has_absolute_dft(j) for j in mine.values())
+                                       else ())
         estimates = tuple(_estimate(f"{case.channel} {level}",
                                     [channel_barrier_kcal_mol(mine[s], case.channel, level, temperature) if s in mine
-                                     else None for s in seeds], measured) for level in CALIBRATION_LEVELS)
+                                     else None for s in seeds], measured) for level in levels)
         return CalibrationScore(case, f"ΔG‡ {case.channel} from k2 = {case.k2_per_M_per_s:.3g} /(M s) (Eyring, 1 M)",
                                 "kcal/mol", measured, estimates, "kcal/mol")
     if isinstance(case, IsotopeCase):

@@ -90,19 +90,32 @@ class BatchGroup:
     serves: dict[tuple[str, str], list[tuple[str, int]]]
 
 
+#: the DFT levels registered as candidates for the calibration set (validation/model-freeze.yaml): dft.functional keys
+DFT_CALIBRATION_FUNCTIONALS = ("b3lyp", "wb97x-3c")
+
+
+def dft_block(functional: str) -> dict[str, Any]:
+    """Return the ``dft:`` block of the benchmark's DFT calibration runs: single points with ``functional`` on the
+    lowest GFN2-xTB saddle of each product, with the free substrate and base (absolute barriers)."""
+    return {"enabled": True, "functional": functional, "saddles_per_product": 1, "absolute_barriers": True}
+
+
 def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
-                 engine_factory: str | None = None, base_model: str = UNNAMED_BASE_MODEL) -> list[BatchGroup]:
+                 engine_factory: str | None = None, base_model: str = UNNAMED_BASE_MODEL,
+                 dft_functional: str | None = None) -> list[BatchGroup]:
     """Return the batch configs of the jobs, one per group, with each job's pair shared by equal jobs.
 
     ``engine_factory`` ('module:function') puts a plug-in engine into every config (tests); None: GFN2-xTB.
     ``base_model`` names a candidate of ``benchmark_models``: every base of every job gets its ``model:``
     block (and its sampling's ``paths:`` settings over each case's own), and the groups' folder names its prefix
-    (none for the bare anion).
+    (none for the bare anion). ``dft_functional`` turns the DFT tier on in every config (``dft_block``) and
+    names it in the groups' folder names (None: GFN2-xTB only).
     """
     model, prefix = base_model_block(base_model), model_prefix(base_model)
+    suffix = "" if dft_functional is None else f"-dft-{dft_functional}"
     groups: dict[str, list[BenchmarkJob]] = {}
     for job in jobs:
-        groups.setdefault(prefix + job.group, []).append(job)
+        groups.setdefault(prefix + job.group + suffix, []).append(job)
     found = []
     for name, members in groups.items():
         first = members[0]
@@ -135,5 +148,7 @@ def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
             config["paths"] = paths
         if engine_factory is not None:
             config["method"]["engine_factory"] = engine_factory
+        if dft_functional is not None:
+            config["dft"] = dft_block(dft_functional)
         found.append(BatchGroup(name, config, serves))
     return found

@@ -40,12 +40,20 @@ from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 #: level name -> barrier field of the path records (kcal/mol)
 LEVELS: dict[str, str] = {"dE": "barrier_kcal_mol", "dG": "barrier_free_energy_kcal_mol",
                           "DFT//GFN2": "barrier_dft_kcal_mol"}
+#: levels derived from a job record's fields, scored only where a job copy carries them (the calibration's DFT free
+#: barrier, benchmark_calibration.with_dft_free_barriers): level name -> field of the path records (kcal/mol)
+DERIVED_LEVELS: dict[str, str] = {"dG(DFT//GFN2)": "barrier_dft_free_kcal_mol"}
 #: a published share is met when the computed one lies within this many percentage points (issue 17)
 SHARE_TOLERANCE_POINTS = 20.0
 RIGHT, WRONG, UNDECIDED, NOT_COMPUTED, NOT_SCORED = "right", "wrong", "undecided", "not computed", "not scored"
 #: the approach the geometric rule assumes for its major product
 RULE_APPROACH = "anti"
 _TERMINAL = Chem.MolFromSmarts("[CH2]=C")
+
+
+def level_field(level: str) -> str:
+    """Return the path-record field (kcal/mol) that holds a level's barriers (KeyError for an unknown level)."""
+    return LEVELS[level] if level in LEVELS else DERIVED_LEVELS[level]
 
 
 def path_left_out(block: Mapping) -> str | None:
@@ -66,7 +74,7 @@ def path_left_out(block: Mapping) -> str | None:
 
 def e2_paths(job: Mapping, level: str) -> tuple[list[PathBarrier], list[str]]:
     """Return the E2 paths with a barrier at ``level`` (kcal/mol; products as isomer keys) and the paths left out."""
-    field = LEVELS[level]
+    field = level_field(level)
     paths, left_out = [], []
     for beta in job.get("beta_hydrogens") or ():
         for approach in ("anti", "syn"):
@@ -85,9 +93,10 @@ def e2_paths(job: Mapping, level: str) -> tuple[list[PathBarrier], list[str]]:
 def sn2_path(job: Mapping, level: str) -> PathBarrier | None:
     """Return the SN2 path with a barrier at ``level`` (kcal/mol) as product 'substitution', or None."""
     block = job.get("substitution")
-    if not block or block.get("path_status") != "ok" or block.get(LEVELS[level]) is None or path_left_out(block):
+    field = level_field(level)
+    if not block or block.get("path_status") != "ok" or block.get(field) is None or path_left_out(block):
         return None
-    return PathBarrier("substitution", "backside", SUBSTITUTION, block[LEVELS[level]], 1)
+    return PathBarrier("substitution", "backside", SUBSTITUTION, block[field], 1)
 
 
 @dataclass(frozen=True)

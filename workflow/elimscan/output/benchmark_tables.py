@@ -188,6 +188,15 @@ def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
     return rows
 
 
+def _dft_rate_words(calibration: Sequence[CalibrationScore]) -> str:
+    """Return the sentence on the DFT rate levels when an estimate is at one, else ''."""
+    if not any("DFT//GFN2" in e.label for score in calibration for e in score.estimates):
+        return ""
+    return (" DFT//GFN2 (rates whose jobs hold absolute DFT barriers, above the DFT free substrate + free base): the "
+            "DFT single point's electronic barrier; dG(DFT//GFN2): that barrier plus the GFN2-xTB quasi-RRHO term "
+            "of the same saddle (its free minus its electronic barrier).")
+
+
 def _remaining(info: RunInfo) -> str:
     """Return the clause estimating the unfinished jobs' time from the finished jobs' mean ('' when none is left)."""
     left = info.n_jobs - info.n_jobs_finished
@@ -304,5 +313,6 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
                   "Rate: ΔG‡ from the measured k2 by Eyring's equation (1 M, CODATA 2018) against the Boltzmann sum "
                   "over the channel's paths (dE: an electronic barrier set against a free one). Isotope effect: "
                   "k_H/k_D of the class on the named carbon (error in % of the measured value). Hammett: rho fitted "
-                  "to the members' E2 channel barriers.", "", *calibration_rows(calibration)]
+                  "to the members' E2 channel barriers." + _dft_rate_words(calibration), "",
+                  *calibration_rows(calibration)]
     return "\n".join(lines) + "\n"
