@@ -165,6 +165,12 @@ def _archive_group(group: BatchGroup, work: Path, records: Path, commit: str, ke
         print(f"batch {group.name}: {written} finished job(s) archived in {records}", file=sys.stderr, flush=True)
 
 
+def _runs_of(runs: list[dict], base_model: str, dft_functional: str | None) -> list[dict]:
+    """Return the run-log entries of one base model and DFT level (entries written before either was logged count
+    as the bare anion's, and as GFN2-xTB only)."""
+    return [r for r in runs if r.get("base_model", UNNAMED_BASE_MODEL) == base_model and r.get("dft") == dft_functional]
+
+
 def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_model: str,
                   dft_functional: str | None = None) -> int:
     """Archive the jobs that finished ok in a work folder's batches, under the commit of the invocation computing
@@ -174,8 +180,7 @@ def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_mode
     runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
     if running.is_file():
         runs.append(json.loads(running.read_text()))
-    commits = [r["commit"] for r in runs
-               if r.get("base_model", UNNAMED_BASE_MODEL) == base_model and r.get("dft") == dft_functional]
+    commits = [r["commit"] for r in _runs_of(runs, base_model, dft_functional)]
     present = [g for g in groups if (work / g.name / STORE_FILE).is_file()]
     if not present:
         print(f"error: {work} holds no batch of these cases under base model {base_model}", file=sys.stderr)
@@ -375,8 +380,7 @@ def main(argv: list[str] | None = None) -> int:
                     log.write(json.dumps(entry) + "\n")
         log_file = work / RUN_LOG
         runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
-        runs = [r for r in runs
-                if r.get("base_model", UNNAMED_BASE_MODEL) == args.base_model and r.get("dft") == args.dft]
+        runs = _runs_of(runs, args.base_model, args.dft)
         found = _collect(groups, work, args.records)
         levels = computed_levels(found.jobs()) or ["dE"]
         scores, calibration = _score(chosen, found, seed_count, levels)

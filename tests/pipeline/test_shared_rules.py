@@ -160,8 +160,8 @@ def _dft_key(monkeypatch):
 def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
     """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
     points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
-    format 2, 49631899… since optimizer.internal_rebuild_limit 30 became the default (PySCF's version pinned to 'test' here so the value does not follow the installed library).
-    Re-optimising keys differently."""
+    format 2, 49631899… since optimizer.internal_rebuild_limit 30 became the default (PySCF's version pinned to
+    'test' here so the value does not follow the installed library). Re-optimising keys differently."""
     key = _dft_key(monkeypatch)
     single = key({"enabled": True})
     assert single == "4963189972bcf44e03e0e4cea96fe98f8ef21572b8c483567f08aa3b86640c1f"

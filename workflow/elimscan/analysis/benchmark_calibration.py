@@ -84,10 +84,10 @@ def channel_barrier_kcal_mol(job: Mapping, channel: str, level: str, temperature
     At the DFT levels (``DFT_LEVEL``, ``DFT_FREE_LEVEL``) only jobs whose DFT barriers are absolute count."""
     if job.get("status") != "ok":
         return None
-    if level in (DFT_LEVEL, DFT_FREE_LEVEL):
+    if level in (DFT_LEVEL, DFT_FREE_LEVEL) and not has_absolute_dft(job):
+        return None
+    if level == DFT_FREE_LEVEL:  # only this level reads the derived field: copy the record for it alone
         job = with_dft_free_barriers(job)
-        if job is None:
-            return None
     if channel == "SN2":
         path = sn2_path(job, level)
         return None if path is None else path.barrier_kcal_mol

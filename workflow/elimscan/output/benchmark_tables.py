@@ -12,7 +12,7 @@ from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from elimscan.analysis.benchmark_calibration import CalibrationScore
+from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, isomer_key
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, LevelScore,
@@ -190,7 +190,7 @@ def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
 
 def _dft_rate_words(calibration: Sequence[CalibrationScore]) -> str:
     """Return the sentence on the DFT rate levels when an estimate is at one, else ''."""
-    if not any("DFT//GFN2" in e.label for score in calibration for e in score.estimates):
+    if not any(DFT_LEVEL in e.label for score in calibration for e in score.estimates):
         return ""
     return (" DFT//GFN2 (rates whose jobs hold absolute DFT barriers, above the DFT free substrate + free base): the "
             "DFT single point's electronic barrier; dG(DFT//GFN2): that barrier plus the GFN2-xTB quasi-RRHO term "
