@@ -9,7 +9,9 @@ message starts with the role and name (``substrate 'x'``) and contains the SMILE
 
 from __future__ import annotations
 
+import copy
 import warnings
+from functools import lru_cache
 
 from rdkit import Chem
 
@@ -76,6 +78,17 @@ def check_substrate(smiles: str, charge: int | None, multiplicity: int, what: st
     substrates file): what needs 3D (stereo that matters) then fails the job when it runs.
     """
     total = molecule_charge(smiles, charge, multiplicity, what)
+    err = _perception_error(smiles, seed, full)
+    if err is not None:
+        err = copy.copy(err)  # the cached one stays as it was
+        raise _named(err, what, smiles) from err
+    return total
+
+
+@lru_cache(maxsize=1024)
+def _perception_error(smiles: str, seed: int, full: bool) -> StructureError | None:
+    """Return why a substrate cannot be perceived (None when it can); kept per SMILES and seed, as planning a
+    benchmark's batches perceives each substrate once per group (the perception is pure and seeded)."""
     try:
         with warnings.catch_warnings():  # advisories (an arbitrary enantiomer) are recorded by the run itself
             warnings.simplefilter("ignore")
@@ -84,8 +97,8 @@ def check_substrate(smiles: str, charge: int | None, multiplicity: int, what: st
             else:
                 check_substrate_topology(smiles)
     except StructureError as err:
-        raise _named(err, what, smiles) from err
-    return total
+        return err
+    return None
 
 
 def check_base(smiles: str, charge: int | None, multiplicity: int, what: str) -> int:
