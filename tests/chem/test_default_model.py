@@ -11,8 +11,8 @@ from __future__ import annotations
 import pytest
 
 from elimscan.chem.basemodels import DEFAULT_REASON, oxide_anion_kind, resolve_base_model
-from elimscan.config import (BaseConfig, BaseModelConfig, OptimizerConfig, RunConfig, SolventConfig, SubstrateConfig,
-                             parse_config)
+from elimscan.config import (BaseConfig, BaseModelConfig, OptimizerConfig, PathConfig, RunConfig, SolventConfig,
+                             SubstrateConfig, parse_config)
 from elimscan.config.molecules import DEFAULT_CLUSTER_EMBEDDINGS, DEFAULT_EXPLICIT_MOLECULES
 from elimscan.errors import ConfigError
 from elimscan.solvents import DIELECTRIC_SOLVENTS, PROTIC_SOLVENTS, SUPPORTED_SOLVENTS, is_protic
@@ -143,7 +143,8 @@ def test_the_reason_names_the_rule_in_one_wording():
 #: default; 87f831af..., 7c608560..., 2c77eb06...); recomputed for key format 2 (geminal hydrogens keep their
 #: labels: every finished job is computed again), with which the per-solvent default changes nothing for them. The
 #: default optimizer.internal_rebuild_limit 30 (2026-12-04; null before) rekeys every job, so these keys are taken
-#: with it written out at null (a job keys as if it were not written)
+#: with it written out at null (a job keys as if it were not written); the same for the placement clearance and the
+#: complex bond check (2026-12-04, on by default; written out at null and false)
 KEY_BEFORE_ETHANOL = "3ed8c6305827be3fdc4be9d8a9ac3caabe81177eaf86f7178c2fdf58fb9a987f"
 KEY_BEFORE_DMSO = "657618156489c9d7c9ced6f08d977c7105e05de129a5571244ec7f540a26d49f"
 KEY_BEFORE_K_PAIR = "57c3e5370901998e245b5cbd4b9777f498b864ceaf60d047bf549273d75b9566"
@@ -153,7 +154,8 @@ def _key(base: BaseConfig, solvent: str) -> str:
     from elimscan.pipeline.document import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),), bases=(base,),
-                       optimizer=OptimizerConfig(internal_rebuild_limit=None))
+                       optimizer=OptimizerConfig(internal_rebuild_limit=None),
+                       paths=PathConfig(complex_clearance_vdw_fraction=None, complex_bond_check=False))
     return job_key(config, {"name": "s", "smiles": "CCCl"}, base, SolventConfig(model="alpb", name=solvent),
                    {"elimscan": "test"})
 

@@ -113,9 +113,11 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     within 0.06 kcal/mol on bench_paths, but numbers move, so keys must); 5ddf9964... since key format 2 (geminal
     hydrogens keep their perceived labels: products of open-chain CH2 hydrogens were E/Z-swapped in some conformers);
     5b4604d5... since optimizer.internal_rebuild_limit 30 became the default (written out at its old value, null,
-    the job keys as before: 5ddf9964...).
+    the job keys as before: 5ddf9964...); 0b258165... since the placed base keeps clear of the substrate and a
+    complex that changed the substrate's bonds is dropped (paths.complex_clearance_vdw_fraction 0.7 and
+    paths.complex_bond_check true; written out at null and false, the job keys as before: 5b4604d5...).
     """
-    from elimscan.config import BaseConfig, OptimizerConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.config import BaseConfig, OptimizerConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.pipeline.document import job_key
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
@@ -125,7 +127,14 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     assert key == DEFAULT_KEY
     before = config.model_copy(update={"optimizer": OptimizerConfig(internal_rebuild_limit=None)})
     assert job_key(before, {"name": "s", "smiles": "CCCl"}, before.bases[0], SolventConfig(model="alpb", name="ethanol"),
+                   {"elimscan": "test"}) != BEFORE_REBUILD_LIMIT_KEY  # the placement came after
+    before = before.model_copy(update={"paths": PathConfig(complex_clearance_vdw_fraction=None,
+                                                           complex_bond_check=False)})
+    assert job_key(before, {"name": "s", "smiles": "CCCl"}, before.bases[0], SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) == BEFORE_REBUILD_LIMIT_KEY
+    placed_as_before = config.model_copy(update={"paths": before.paths})
+    assert job_key(placed_as_before, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                   SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"}) == BEFORE_CLEARANCE_KEY
     more = config.bases[0].model_copy(update={"model": config.bases[0].model.model_copy(update={"arrangements": 3})})
     assert job_key(config, {"name": "s", "smiles": "CCCl"}, more, SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != key  # three arrangements can change the numbers
@@ -135,8 +144,10 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
 
 
 #: the pinned job key of chloroethane + ethoxide (three ethanols, ALPB ethanol) under today's defaults ...
-DEFAULT_KEY = "5b4604d53bcf2d3f65d6890b51bc7f4fc3560a24c51730a83644a3fc10e4c90b"
-#: ... and with optimizer.internal_rebuild_limit null, the default before 2026-12-04
+DEFAULT_KEY = "0b258165b1d386a75b5a48242fc30bff551c76082864483f7ff39485ced31235"
+#: ... with the base placed and its complex kept as before 2026-12-04 (clearance null, bond check false) ...
+BEFORE_CLEARANCE_KEY = "5b4604d53bcf2d3f65d6890b51bc7f4fc3560a24c51730a83644a3fc10e4c90b"
+#: ... and with optimizer.internal_rebuild_limit null as well, the default before that
 BEFORE_REBUILD_LIMIT_KEY = "5ddf9964f05d092304331a0334f56dc9631464fa8b80a54c586e3c8eed25daaa"
 
 
@@ -160,11 +171,12 @@ def _dft_key(monkeypatch):
 def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(monkeypatch):
     """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
     points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
-    format 2, 49631899… since optimizer.internal_rebuild_limit 30 became the default (PySCF's version pinned to
-    'test' here so the value does not follow the installed library). Re-optimising keys differently."""
+    format 2, 49631899… since optimizer.internal_rebuild_limit 30 became the default, 683548eb… since the placed
+    base keeps clear of the substrate and complexes keep its bonds (PySCF's version pinned to 'test' here so the
+    value does not follow the installed library). Re-optimising keys differently."""
     key = _dft_key(monkeypatch)
     single = key({"enabled": True})
-    assert single == "4963189972bcf44e03e0e4cea96fe98f8ef21572b8c483567f08aa3b86640c1f"
+    assert single == "683548eb7cd3c6a088941471fae099b527f76f09ddda49298a8e44dcece76b62"
     assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
     reoptimise = key({"enabled": True, "saddles": "reoptimise"})
     assert reoptimise != single
@@ -214,6 +226,24 @@ def test_screening_the_base_rotations_keys_apart_only_when_on():
     assert key(complex_screen_window_kcal_mol=0.0) == key()
     assert key(complex_screen_fmax_eV_per_A=0.05, complex_screen_window_kcal_mol=0.5) != \
         key(complex_screen_fmax_eV_per_A=0.05)
+
+
+def test_the_placement_clearance_and_the_bond_check_key_apart_only_when_on():
+    """paths.complex_clearance_vdw_fraction at null and paths.complex_bond_check at false build complexes as before
+    they existed (KEY_NEUTRAL); on (the defaults), the complexes may move, so each keys apart."""
+    from elimscan.config import BaseConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
+    from elimscan.pipeline.document import job_key
+
+    def key(**paths) -> str:
+        config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),),
+                           bases=(BaseConfig(name="ethoxide", model={"explicit": 3}),), paths=PathConfig(**paths))
+        return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
+                       SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
+
+    before = key(complex_clearance_vdw_fraction=None, complex_bond_check=False)
+    assert before == BEFORE_CLEARANCE_KEY and key() == DEFAULT_KEY
+    assert len({before, key(complex_clearance_vdw_fraction=None), key(complex_bond_check=False), key(),
+                key(complex_clearance_vdw_fraction=0.6)}) == 5
 
 
 def test_the_complex_optimizer_keys_apart_only_when_set():

@@ -123,6 +123,13 @@ class OptimizationError(EngineError):
     error_type = "optimization_failed"
 
 
+class ComplexBondsError(OptimizationError):
+    """Fires when relaxing a base-substrate complex changed the substrate's bonds or bonded it to the base (atoms of
+    the base placed too close at the start, or a reaction during the relaxation): not a reactant complex."""
+
+    error_type = "complex_bonds_changed"
+
+
 class GradientBudgetError(OptimizationError):
     """Fires when a path spends its gradient budget (paths.gradient_budget_per_atom) before its complex is relaxed."""
 

@@ -110,3 +110,20 @@ def substituent_orientation(positions: np.ndarray, ring: tuple[int, ...], ring_a
     bond = np.asarray(positions[substituent], dtype=float) - np.asarray(positions[ring_atom], dtype=float)
     cos = abs(float(np.dot(bond / np.linalg.norm(bond), ring_normal(positions, ring))))
     return "axial" if cos >= axial_min_cos else "equatorial"
+
+
+def covalent_bonds(positions: np.ndarray, radii_A: np.ndarray, scale: float = 1.2) -> set[tuple[int, int]]:
+    """Return the atom pairs (i < j, 0-based) closer than ``scale`` x the sum of their covalent radii (Å)."""
+    points = np.asarray(positions, dtype=float)
+    radii = np.asarray(radii_A, dtype=float)
+    gaps = np.linalg.norm(points[:, None, :] - points[None, :, :], axis=-1)
+    near = np.argwhere(np.triu(gaps < scale * (radii[:, None] + radii[None, :]), k=1))
+    return {(int(i), int(j)) for i, j in near}
+
+
+def contact_ratios(a_positions: np.ndarray, a_radii_A: np.ndarray, b_positions: np.ndarray,
+                   b_radii_A: np.ndarray) -> np.ndarray:
+    """Return every distance between a set-a and a set-b atom over the sum of their radii (unitless; rows a, columns b)."""
+    gaps = np.linalg.norm(np.asarray(a_positions, dtype=float)[:, None, :]
+                          - np.asarray(b_positions, dtype=float)[None, :, :], axis=-1)
+    return gaps / (np.asarray(a_radii_A, dtype=float)[:, None] + np.asarray(b_radii_A, dtype=float)[None, :])

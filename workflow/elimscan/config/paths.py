@@ -67,6 +67,16 @@ class PathConfig(Frozen):
     complex_distance_A: float = Field(2.0, gt=0.8)
     #: rotations of the base about that axis tried for each complex
     base_rotations: int = Field(3, ge=1, le=MAX_PATH_COUNT)
+    #: a placed base must keep every atom at least this fraction of the sum of van der Waals radii from every
+    #: substrate atom (its basic atom's contact with the H or C-alpha it is placed at left out); where the base's
+    #: own orientation does not, the base is turned about its basic atom by the smallest turn that does (the
+    #: largest clearance when none does). Null: the base as placed, clashes and all (before 2026-12-04, when a
+    #: three-ethanol cluster could land on the substrate and its relaxation traded or broke bonds). 0.7 is common
+    #: practice for a steric clash, not fitted
+    complex_clearance_vdw_fraction: float | None = Field(0.7, gt=0, le=1.5)
+    #: a complex whose relaxation changed the substrate's covalent bonds or bonded it to the base (covalent radii x
+    #: 1.2, metals left out) is not a reactant complex: that rotation is dropped as failed (complex_bonds_changed)
+    complex_bond_check: bool = True
     #: relax every base rotation of a complex first with BFGS (the same held coordinates) only to this largest force
     #: (eV/Å), rank the rotations on those energies, and relax only the chosen one (the lowest, or the rank an
     #: orientation path asks for) on with method.optimizer to its force limit (null: every rotation fully with

@@ -26,7 +26,7 @@ from elimscan.results.flags import (E1CB_LIKE, END_NOT_PRODUCTS, FAILED_ROTATION
 from elimscan.drivers.budget import (STAGE_BASE_H, STAGE_COMPLEX, STAGE_END, STAGE_NEB, STAGE_PATH, STAGE_SADDLE,
                                      BudgetSpent, GradientBudget, path_budget)
 from elimscan.drivers.complexes import (ComplexResult, Reactive, SubstitutionReactive, build_complex, complex_optimizer,
-                                         place_backside)
+                                         place_backside, require_bonds_kept)
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 from elimscan.drivers.saddles import BFGS, SaddleResult, base_h_scan_maximum, neb_climbing_image, refine_and_verify
 
@@ -418,12 +418,13 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
         for k in range(settings.base_rotations):
             rotation = 360.0 * k / settings.base_rotations
             placed = place_backside(start, reactive.c_alpha, reactive.x, base, basic, settings.substitution_distance_A,
-                                    rotation)
+                                    rotation, settings.complex_clearance_vdw_fraction)
             held = [HeldDistance((reactive.nu, reactive.c_alpha), settings.substitution_distance_A)]
             try:
                 result = relax(placed, metered.calculator(charge, multiplicity,
                                                           name=f"{name} complex rotation {rotation:.0f}"),
                                held, complex_settings)
+                require_bonds_kept(start, result.atoms, settings, f"{name} complex rotation {rotation:.0f}")
             except ElimscanError as err:  # as for an E2 complex: a failed rotation is skipped while another succeeds
                 first_error = first_error or err
                 failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the "

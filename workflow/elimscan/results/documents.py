@@ -60,7 +60,10 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: paths.carry_hessian true); its documents stay readable.
 #: 0.8.8 changed one default only: optimizer.internal_rebuild_limit 30 (was null); documents of 0.8.6 and 0.8.7 stay
 #: valid.
-RESULT_SCHEMA_VERSION = "0.8.8"
+#: 0.8.9 added two config keys with defaults that change results: paths.complex_clearance_vdw_fraction (0.7; null
+#: places the base as before) and paths.complex_bond_check (true); a new error type complex_bonds_changed. Documents
+#: of 0.8.8 stay valid.
+RESULT_SCHEMA_VERSION = "0.8.9"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -150,7 +153,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.8.8", "0.8.7", "0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.8.9", "0.8.8", "0.8.7", "0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds
