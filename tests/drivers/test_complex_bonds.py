@@ -16,7 +16,7 @@ from ase.io import read
 from elimscan.config import PathConfig
 from elimscan.drivers.complexes import _vdw_radii_A, bonds_changed, place_backside, place_base, require_bonds_kept
 from elimscan.errors import ComplexBondsError
-from elimscan.geometry import contact_ratios, covalent_bonds, distance
+from elimscan.geometry import covalent_bonds, distance
 
 DATA = Path(__file__).resolve().parent.parent / "data" / "complex-bonds"
 SUBSTRATE = read(DATA / "substrate-2-bromopentane.xyz")
@@ -25,6 +25,14 @@ BASIC = 2  # the cluster's ethoxide oxygen (no hydrogen of its own)
 C_ALPHA, BROMINE = 3, 5
 #: (beta carbon, hydrogen) of the substrate's beta hydrogens, 0-based
 BETA_HYDROGENS = ((2, 11), (2, 12), (4, 14), (4, 15), (4, 16))
+
+
+def contact_ratios(a_positions, a_radii, b_positions, b_radii) -> np.ndarray:
+    """Return every a-b distance over the sum of the two atoms' radii (written here apart from the code's own)."""
+    rows = []
+    for p, r in zip(a_positions, a_radii):
+        rows.append([np.sqrt(((p - q) ** 2).sum()) / (r + s) for q, s in zip(b_positions, b_radii)])
+    return np.array(rows)
 
 
 def _clearance(complex_atoms, head: int) -> float:

@@ -120,10 +120,3 @@ def covalent_bonds(positions: np.ndarray, radii_A: np.ndarray, scale: float = 1.
     near = np.argwhere(np.triu(gaps < scale * (radii[:, None] + radii[None, :]), k=1))
     return {(int(i), int(j)) for i, j in near}
 
-
-def contact_ratios(a_positions: np.ndarray, a_radii_A: np.ndarray, b_positions: np.ndarray,
-                   b_radii_A: np.ndarray) -> np.ndarray:
-    """Return every distance between a set-a and a set-b atom over the sum of their radii (unitless; rows a, columns b)."""
-    gaps = np.linalg.norm(np.asarray(a_positions, dtype=float)[:, None, :]
-                          - np.asarray(b_positions, dtype=float)[None, :, :], axis=-1)
-    return gaps / (np.asarray(a_radii_A, dtype=float)[:, None] + np.asarray(b_radii_A, dtype=float)[None, :])

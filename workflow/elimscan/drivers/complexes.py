@@ -12,7 +12,6 @@ from functools import lru_cache
 
 import numpy as np
 from ase import Atoms
-
 from ase.data import chemical_symbols, covalent_radii, vdw_radii
 
 from elimscan.config import OptimizerConfig, PathConfig
