@@ -142,3 +142,35 @@ def test_a_metal_ions_contacts_are_not_read_as_bonds():
 
     complex_atoms = SUBSTRATE + Atoms("Na", positions=[SUBSTRATE.positions[BROMINE] + [0.0, 0.0, 2.9]])
     assert bonds_changed(SUBSTRATE, complex_atoms) is None
+
+
+class _NoEngine:
+    """Stands in for an engine: the relaxation is replaced in the test, so no calculator is ever used."""
+
+    def calculator(self, charge, multiplicity, name=""):
+        return None
+
+
+def test_build_complex_drops_the_rotation_whose_complex_lost_its_bromine_although_it_is_lowest(monkeypatch):
+    """The wiring: of three rotations the broken complex has the lowest energy (as in the benchmark job, 14.6
+    kcal/mol below the others' order); with the check it is dropped and named, without it, it is kept."""
+    import elimscan.drivers.complexes as complexes
+    from elimscan.config import OptimizerConfig
+    from elimscan.drivers.relax import RelaxResult
+
+    broken, intact = read(DATA / "complex-bromide-lost.xyz"), read(DATA / "complex-intact.xyz")
+    outcomes = iter([(broken, -65.845), (intact, -65.818), (intact, -65.817)] * 2)
+
+    def fake_relax(start, calc, held, settings):
+        atoms, energy = next(outcomes)
+        return RelaxResult(atoms.copy(), energy, 10, 5, True, 0.0)
+
+    monkeypatch.setattr(complexes, "relax", fake_relax)
+    reactive = complexes.Reactive(h=12, c_beta=2, c_alpha=C_ALPHA, x=BROMINE, base=len(SUBSTRATE) + BASIC)
+    args = (SUBSTRATE, CLUSTER, BASIC, reactive, 180.0, _NoEngine(), -1, 1)
+    kept = complexes.build_complex(*args, PathConfig(), OptimizerConfig(), "C3-H13 anti")
+    assert kept.energy_hartree == pytest.approx(-65.818) and kept.rotation_deg == pytest.approx(120.0)
+    assert kept.failed_rotations == ("base rotation 0 deg of the complex failed (complex_bonds_changed); the other "
+                                     "rotations were used",)
+    unchecked = complexes.build_complex(*args, PathConfig(complex_bond_check=False), OptimizerConfig(), "C3-H13 anti")
+    assert unchecked.energy_hartree == pytest.approx(-65.845) and unchecked.failed_rotations == ()
