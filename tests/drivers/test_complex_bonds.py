@@ -14,7 +14,8 @@ import pytest
 from ase.io import read
 
 from elimscan.config import PathConfig
-from elimscan.drivers.complexes import _vdw_radii_A, bonds_changed, place_backside, place_base, require_bonds_kept
+from elimscan.drivers.complexes import place_backside, place_base, require_bonds_kept
+from elimscan.drivers.contacts import vdw_radii_A, bonds_changed
 from elimscan.errors import ComplexBondsError
 from elimscan.geometry import covalent_bonds, distance
 
@@ -38,8 +39,8 @@ def contact_ratios(a_positions, a_radii, b_positions, b_radii) -> np.ndarray:
 def _clearance(complex_atoms, head: int) -> float:
     """Return the smallest substrate-base distance over the summed van der Waals radii (basic atom-head left out)."""
     n = len(SUBSTRATE)
-    ratios = contact_ratios(complex_atoms.positions[:n], _vdw_radii_A(SUBSTRATE.numbers),
-                            complex_atoms.positions[n:], _vdw_radii_A(CLUSTER.numbers))
+    ratios = contact_ratios(complex_atoms.positions[:n], vdw_radii_A(SUBSTRATE.numbers),
+                            complex_atoms.positions[n:], vdw_radii_A(CLUSTER.numbers))
     ratios[head, BASIC] = np.inf
     return float(ratios.min())
 
@@ -88,8 +89,8 @@ def test_a_bare_anion_placed_clear_of_the_substrate_is_left_where_it_was(embed):
         for rotation in (0.0, 120.0, 240.0):
             plain = place_base(SUBSTRATE, h, c_beta, ethoxide, basic, 2.0, rotation)
             n = len(SUBSTRATE)
-            ratios = contact_ratios(plain.positions[:n], _vdw_radii_A(SUBSTRATE.numbers), plain.positions[n:],
-                                    _vdw_radii_A(ethoxide.numbers))
+            ratios = contact_ratios(plain.positions[:n], vdw_radii_A(SUBSTRATE.numbers), plain.positions[n:],
+                                    vdw_radii_A(ethoxide.numbers))
             ratios[h, basic] = np.inf
             assert ratios.min() >= 0.7
             placed = place_base(SUBSTRATE, h, c_beta, ethoxide, basic, 2.0, rotation, clearance=0.7)

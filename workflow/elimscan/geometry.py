@@ -120,3 +120,9 @@ def covalent_bonds(positions: np.ndarray, radii_A: np.ndarray, scale: float = 1.
     near = np.argwhere(np.triu(gaps < scale * (radii[:, None] + radii[None, :]), k=1))
     return {(int(i), int(j)) for i, j in near}
 
+
+def rotation_matrix(axis: np.ndarray, angle_rad: float) -> np.ndarray:
+    """Return the 3 x 3 matrix of a right-handed rotation by ``angle_rad`` (radians) about ``axis`` (any length)."""
+    axis = np.asarray(axis, dtype=float) / np.linalg.norm(axis)
+    k = np.array([[0, -axis[2], axis[1]], [axis[2], 0, -axis[0]], [-axis[1], axis[0], 0]])
+    return np.eye(3) + np.sin(angle_rad) * k + (1 - np.cos(angle_rad)) * k @ k

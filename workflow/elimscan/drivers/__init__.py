@@ -6,6 +6,7 @@
 - ``scans``: H-C-C-X dihedral scans
 - ``hessian``: finite-difference Hessians and harmonic frequencies
 - ``freeenergy``: Hessians of free reactants, free barriers and isotope effects
+- ``contacts``: a placed base turned clear of the substrate, and the covalent bonds a relaxed complex must keep
 - ``complexes``: the reactive atoms, base placement (E2 and backside SN2) and the lowest complex over base rotations
 - ``saddles``: Sella refinement of a saddle guess and its verification; the base-H scan and CI-NEB guesses
 - ``budget``: a path's gradient budget: a metered engine that stops a path before its next gradient past the
