@@ -112,6 +112,14 @@ def substituent_orientation(positions: np.ndarray, ring: tuple[int, ...], ring_a
     return "axial" if cos >= axial_min_cos else "equatorial"
 
 
+def covalent_neighbours(positions: np.ndarray, radii_A: np.ndarray, index: int, scale: float = 1.2) -> list[int]:
+    """Return the atoms (0-based) closer to atom ``index`` than ``scale`` x the sum of their covalent radii (Å)."""
+    points = np.asarray(positions, dtype=float)
+    radii = np.asarray(radii_A, dtype=float)
+    gaps = np.linalg.norm(points - points[index], axis=1)
+    return [j for j in range(len(points)) if j != index and gaps[j] < scale * (radii[index] + radii[j])]
+
+
 def covalent_bonds(positions: np.ndarray, radii_A: np.ndarray, scale: float = 1.2) -> set[tuple[int, int]]:
     """Return the atom pairs (i < j, 0-based) closer than ``scale`` x the sum of their covalent radii (Å)."""
     points = np.asarray(positions, dtype=float)

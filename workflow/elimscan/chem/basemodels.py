@@ -33,6 +33,7 @@ from elimscan.config.molecules import (DEFAULT_CLUSTER_EMBEDDINGS, DEFAULT_EXPLI
                                        BaseConfig)
 from elimscan.config.run import SEED_LIMIT
 from elimscan.errors import StructureError
+from elimscan.geometry import covalent_neighbours
 from elimscan.solvents import canonical_solvent_name, is_protic
 
 #: metal-oxygen contact distances of alkali alkoxides and hydroxides (Å), starting values; common practice
@@ -74,9 +75,7 @@ def conjugate_acid_smiles(smiles: str, basic: int) -> str:
 
 def _bonded(atoms: Atoms, i: int, scale: float = 1.2) -> list[int]:
     """Return the atoms bonded to atom i by covalent radii."""
-    r = covalent_radii[atoms.numbers]
-    d = np.linalg.norm(atoms.positions - atoms.positions[i], axis=1)
-    return [j for j in range(len(atoms)) if j != i and d[j] < scale * (r[i] + r[j])]
+    return covalent_neighbours(atoms.positions, covalent_radii[atoms.numbers], i, scale)
 
 
 def _perpendicular(u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

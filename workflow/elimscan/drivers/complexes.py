@@ -116,7 +116,7 @@ def require_bonds_kept(substrate: Atoms, complex_atoms: Atoms, settings: PathCon
 
 
 def _place_along(substrate: Atoms, tail: np.ndarray, head: np.ndarray, base: Atoms, basic: int, distance_A: float,
-                 rotation_deg: float, head_index: int | None = None, clearance: float | None = None) -> Atoms:
+                 rotation_deg: float, head_index: int, clearance: float | None = None) -> Atoms:
     """Return substrate + base with the basic atom on the tail->head line, ``distance_A`` beyond head.
 
     The base's own bonds point away from the substrate; ``rotation_deg`` turns it about that line. With a
@@ -135,7 +135,7 @@ def _place_along(substrate: Atoms, tail: np.ndarray, head: np.ndarray, base: Ato
     moved = moved @ rotation_matrix(axis, np.radians(rotation_deg)).T
     placed = base.copy()
     placed.positions = moved + head + distance_A * axis
-    if clearance is not None and head_index is not None and len(base) > 1:
+    if clearance is not None and len(base) > 1:
         placed.positions = clear_turn(substrate, placed.positions, placed.numbers, basic, head_index, clearance)
     return substrate + placed
 

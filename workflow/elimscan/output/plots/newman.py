@@ -11,7 +11,7 @@ from ase import Atoms
 from ase.data import covalent_radii
 from matplotlib.figure import Figure
 
-from elimscan.geometry import dihedral_deg, wrap_degrees
+from elimscan.geometry import covalent_neighbours, dihedral_deg, wrap_degrees
 from elimscan.output.plots.figures import GREY, signed
 from elimscan.results.records import BetaHydrogenRecord, JobRecord
 
@@ -47,16 +47,7 @@ class NewmanView:
 
 def bonded_neighbours(atoms: Atoms, index: int) -> list[int]:
     """Return the indices of atoms bonded to ``index``, judged from distances and covalent radii (Å)."""
-    positions = atoms.get_positions()
-    numbers = atoms.get_atomic_numbers()
-    found = []
-    for j in range(len(atoms)):
-        if j == index:
-            continue
-        limit = BOND_FACTOR * (covalent_radii[numbers[index]] + covalent_radii[numbers[j]])
-        if np.linalg.norm(positions[j] - positions[index]) < limit:
-            found.append(j)
-    return found
+    return covalent_neighbours(atoms.get_positions(), covalent_radii[atoms.get_atomic_numbers()], index, BOND_FACTOR)
 
 
 def newman_view(atoms: Atoms, h_index: int, beta_index: int, alpha_index: int, leaving_index: int) -> NewmanView:
