@@ -81,3 +81,14 @@ def test_a_calibration_only_page_scores_no_product_outcome():
     assert "No product outcome is scored on this page" in page
     assert "0/0" not in page and "## Test cases" not in page and "## Per category" not in page
     assert "## Test cases" in validation_markdown(INFO, scores(), [], ["dE"])
+
+
+def test_a_partial_page_says_where_the_rule_has_no_call_yet():
+    # the rule's call is read from a finished job: a case without one is neither right nor wrong for the rule
+    waiting = score_case(case(major="C/C=C/C", seeds=(1, 2, 3)), {}, (1, 2, 3), ["dE"])
+    found = scores() + [waiting]
+    assert headline_line(found, "dE") == ("computed right 1/4, rule right 2/4, undecided 1/4, "
+                                          "not computed 1/4 (rule 1/4)")
+    page = validation_markdown(INFO, found, [], ["dE"])
+    assert "| GFN2-xTB dE | 1/4 | 2/4 | 1/4 | 1/4 (rule 1/4) |" in page
+    assert headline_line(scores(), "dE") == "computed right 1/3, rule right 2/3, undecided 1/3"  # nothing waiting

@@ -278,6 +278,8 @@ class Headline:
     not_computed: int
     rule_right: int
     rule_n: int
+    #: of rule_n, the cases whose rule call is not yet read (no finished job: the rule's call comes from the job)
+    rule_not_computed: int = 0
 
 
 def headline(scores: Sequence[CaseScore], level: str, category: str | None = None) -> Headline:
@@ -287,7 +289,8 @@ def headline(scores: Sequence[CaseScore], level: str, category: str | None = Non
     return Headline(n=len(chosen), right=outcomes.count(RIGHT), undecided=outcomes.count(UNDECIDED),
                     not_computed=outcomes.count(NOT_COMPUTED),
                     rule_right=sum(s.rule_outcome == RIGHT for s in chosen),
-                    rule_n=sum(s.rule_outcome != NOT_SCORED for s in chosen))
+                    rule_n=sum(s.rule_outcome != NOT_SCORED for s in chosen),
+                    rule_not_computed=sum(s.rule_outcome == NOT_COMPUTED for s in chosen))
 
 
 def computed_levels(jobs: Sequence[Mapping]) -> list[str]:

@@ -15,8 +15,8 @@ from dataclasses import dataclass
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, isomer_key
 from elimscan.analysis.benchmark_summary import ModelSummary
-from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, LevelScore,
-                                                 headline, is_terminal)
+from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
+                                                 LevelScore, headline, is_terminal)
 
 #: how a level is named in the page
 LEVEL_WORDS = {"dE": "GFN2-xTB dE", "dG": "GFN2-xTB dG (quasi-RRHO, 1 M)", "DFT//GFN2": "DFT//GFN2"}
@@ -72,10 +72,15 @@ def _duration(seconds: float | None) -> str:
 
 
 def headline_line(scores: Sequence[CaseScore], level: str, category: str | None = None) -> str:
-    """Return 'computed right X/N, rule right Y/M, undecided Z/N' (and not computed) for one level."""
+    """Return 'computed right X/N, rule right Y/M, undecided Z/N' (and not computed, the rule's too) for one level."""
     h = headline(scores, level, category)
     text = f"computed right {h.right}/{h.n}, rule right {h.rule_right}/{h.rule_n}, undecided {h.undecided}/{h.n}"
-    return text + (f", not computed {h.not_computed}/{h.n}" if h.not_computed else "")
+    return text + (f", not computed {_not_computed(h)}" if h.not_computed or h.rule_not_computed else "")
+
+
+def _not_computed(h: Headline) -> str:
+    """Return 'K/N' cases not computed, with ' (rule K/M)' when the rule also lacks calls (it reads them from jobs)."""
+    return f"{h.not_computed}/{h.n}" + (f" (rule {h.rule_not_computed}/{h.rule_n})" if h.rule_not_computed else "")
 
 
 def count_rows(scores: Sequence[CaseScore], levels: Sequence[str], categories: Sequence[str] | None) -> list[str]:
@@ -88,7 +93,7 @@ def count_rows(scores: Sequence[CaseScore], levels: Sequence[str], categories: S
             h = headline(scores, level, category)
             lead = f"| {category} | {LEVEL_WORDS[level]} |" if category is not None else f"| {LEVEL_WORDS[level]} |"
             rows.append(f"{lead} {h.right}/{h.n} | {h.rule_right}/{h.rule_n} | {h.undecided}/{h.n} | "
-                        f"{h.not_computed}/{h.n} |")
+                        f"{_not_computed(h)} |")
     return rows
 
 
@@ -234,7 +239,7 @@ def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[st
         name = f"`{m.model}`" + (" (frozen)" if m.model == frozen else "")
         error = (f"{m.rate_mean_error_kcal_mol:+.1f} ({m.rate_mean_abs_error_kcal_mol:.1f}) over {m.n_rates}"
                  if m.rate_mean_error_kcal_mol is not None and m.rate_mean_abs_error_kcal_mol is not None else "-")
-        counts = (f"{c.right}/{c.n} | {c.rule_right}/{c.rule_n} | {c.undecided}/{c.n} | {c.not_computed}/{c.n}"
+        counts = (f"{c.right}/{c.n} | {c.rule_right}/{c.rule_n} | {c.undecided}/{c.n} | {_not_computed(c)}"
                   if c.n else "- | - | - | -")  # no test case on the page: nothing was scored
         rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {counts} | {error} | {_number(m.largest_spread_points, 0)} | "
                     f"{m.n_jobs_finished} of {m.n_jobs} |")
