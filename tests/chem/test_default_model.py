@@ -155,7 +155,8 @@ def _key(base: BaseConfig, solvent: str) -> str:
 
     config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCCl"),), bases=(base,),
                        optimizer=OptimizerConfig(internal_rebuild_limit=None),
-                       paths=PathConfig(complex_clearance_vdw_fraction=None, complex_bond_check=False))
+                       paths=PathConfig(complex_clearance_vdw_fraction=None, complex_bond_check=False,
+                                        complex_base_bond_check=False))
     return job_key(config, {"name": "s", "smiles": "CCCl"}, base, SolventConfig(model="alpb", name=solvent),
                    {"elimscan": "test"})
 

@@ -160,7 +160,7 @@ def test_build_complex_drops_the_rotation_whose_complex_lost_its_bromine_althoug
     from elimscan.drivers.relax import RelaxResult
 
     broken, intact = read(DATA / "complex-bromide-lost.xyz"), read(DATA / "complex-intact.xyz")
-    outcomes = iter([(broken, -65.845), (intact, -65.818), (intact, -65.817)] * 2)
+    outcomes = iter([(broken, -65.845), (intact, -65.818), (intact, -65.817)] * 3)
 
     def fake_relax(start, calc, held, settings):
         atoms, energy = next(outcomes)
@@ -173,5 +173,9 @@ def test_build_complex_drops_the_rotation_whose_complex_lost_its_bromine_althoug
     assert kept.energy_hartree == pytest.approx(-65.818) and kept.rotation_deg == pytest.approx(120.0)
     assert kept.failed_rotations == ("base rotation 0 deg of the complex failed (complex_bonds_changed); the other "
                                      "rotations were used",)
-    unchecked = complexes.build_complex(*args, PathConfig(complex_bond_check=False), OptimizerConfig(), "C3-H13 anti")
+    unchecked = complexes.build_complex(*args, PathConfig(complex_bond_check=False, complex_base_bond_check=False),
+                                        OptimizerConfig(), "C3-H13 anti")
     assert unchecked.energy_hartree == pytest.approx(-65.845) and unchecked.failed_rotations == ()
+    # the cluster lost the hydrogens it took from the substrate's side: the base's own check drops it too
+    base_only = complexes.build_complex(*args, PathConfig(complex_bond_check=False), OptimizerConfig(), "C3-H13 anti")
+    assert base_only.energy_hartree == pytest.approx(-65.818) and len(base_only.failed_rotations) == 1

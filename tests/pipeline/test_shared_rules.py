@@ -115,7 +115,9 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     5b4604d5... since optimizer.internal_rebuild_limit 30 became the default (written out at its old value, null,
     the job keys as before: 5ddf9964...); 0b258165... since the placed base keeps clear of the substrate and a
     complex that changed the substrate's bonds is dropped (paths.complex_clearance_vdw_fraction 0.7 and
-    paths.complex_bond_check true; written out at null and false, the job keys as before: 5b4604d5...).
+    paths.complex_bond_check true; written out at null and false, the job keys as before: 5b4604d5...); 324470da...
+    since a complex whose base cluster changed its own bonds is dropped too (paths.complex_base_bond_check true;
+    written out at false, the job keys as before: 0b258165...).
     """
     from elimscan.config import BaseConfig, OptimizerConfig, PathConfig, RunConfig, SolventConfig, SubstrateConfig
     from elimscan.pipeline.document import job_key
@@ -129,7 +131,7 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
     assert job_key(before, {"name": "s", "smiles": "CCCl"}, before.bases[0], SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) != BEFORE_REBUILD_LIMIT_KEY  # the placement came after
     before = before.model_copy(update={"paths": PathConfig(complex_clearance_vdw_fraction=None,
-                                                           complex_bond_check=False)})
+                                                           complex_bond_check=False, complex_base_bond_check=False)})
     assert job_key(before, {"name": "s", "smiles": "CCCl"}, before.bases[0], SolventConfig(model="alpb", name="ethanol"),
                    {"elimscan": "test"}) == BEFORE_REBUILD_LIMIT_KEY
     placed_as_before = config.model_copy(update={"paths": before.paths})
@@ -144,7 +146,9 @@ def test_a_setting_added_later_keeps_the_keys_of_finished_jobs():
 
 
 #: the pinned job key of chloroethane + ethoxide (three ethanols, ALPB ethanol) under today's defaults ...
-DEFAULT_KEY = "0b258165b1d386a75b5a48242fc30bff551c76082864483f7ff39485ced31235"
+DEFAULT_KEY = "324470da5ef4fde45b8a30193482f8126212527a288c0a1b3c3fad21fc76d920"
+#: ... with only the substrate's bonds checked in a complex, as before 2026-12-05 ...
+BEFORE_BASE_CHECK_KEY = "0b258165b1d386a75b5a48242fc30bff551c76082864483f7ff39485ced31235"
 #: ... with the base placed and its complex kept as before 2026-12-04 (clearance null, bond check false) ...
 BEFORE_CLEARANCE_KEY = "5b4604d53bcf2d3f65d6890b51bc7f4fc3560a24c51730a83644a3fc10e4c90b"
 #: ... and with optimizer.internal_rebuild_limit null as well, the default before that
@@ -172,11 +176,12 @@ def test_a_dft_single_point_job_keeps_its_key_after_the_saddle_rung_was_added(mo
     """The DFT saddle rung's settings (dft.saddles, dft.reoptimise_*) change nothing while the tier does single
     points, so those jobs key as before the rung existed: bc6a9dbf… computed by commit 860c162, afbc3fb9… since key
     format 2, 49631899… since optimizer.internal_rebuild_limit 30 became the default, 683548eb… since the placed
-    base keeps clear of the substrate and complexes keep its bonds (PySCF's version pinned to 'test' here so the
-    value does not follow the installed library). Re-optimising keys differently."""
+    base keeps clear of the substrate and complexes keep its bonds, 91b47beb… since they keep the base's own bonds
+    too (PySCF's version pinned to 'test' here so the value does not follow the installed library). Re-optimising
+    keys differently."""
     key = _dft_key(monkeypatch)
     single = key({"enabled": True})
-    assert single == "683548eb7cd3c6a088941471fae099b527f76f09ddda49298a8e44dcece76b62"
+    assert single == "91b47beb0719733d7a1f4f7d3c8e0da1909ab81ab66a4a4ad1ee2eb4dcd11305"
     assert key({"enabled": True, "reoptimise_max_steps": 7}) == single  # unused by single points
     reoptimise = key({"enabled": True, "saddles": "reoptimise"})
     assert reoptimise != single
@@ -240,10 +245,11 @@ def test_the_placement_clearance_and_the_bond_check_key_apart_only_when_on():
         return job_key(config, {"name": "s", "smiles": "CCCl"}, config.bases[0],
                        SolventConfig(model="alpb", name="ethanol"), {"elimscan": "test"})
 
-    before = key(complex_clearance_vdw_fraction=None, complex_bond_check=False)
+    before = key(complex_clearance_vdw_fraction=None, complex_bond_check=False, complex_base_bond_check=False)
     assert before == BEFORE_CLEARANCE_KEY and key() == DEFAULT_KEY
+    assert key(complex_base_bond_check=False) == BEFORE_BASE_CHECK_KEY
     assert len({before, key(complex_clearance_vdw_fraction=None), key(complex_bond_check=False), key(),
-                key(complex_clearance_vdw_fraction=0.6)}) == 5
+                key(complex_clearance_vdw_fraction=0.6), key(complex_base_bond_check=False)}) == 6
 
 
 def test_the_complex_optimizer_keys_apart_only_when_set():

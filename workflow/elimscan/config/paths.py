@@ -77,6 +77,12 @@ class PathConfig(Frozen):
     #: a complex whose relaxation changed the substrate's covalent bonds or bonded it to the base (covalent radii x
     #: 1.2, metals left out) is not a reactant complex: that rotation is dropped as failed (complex_bonds_changed)
     complex_bond_check: bool = True
+    #: ... and one whose relaxation changed the base's own covalent bonds (a hydrogen handed between the base's O, N
+    #: or S atoms aside: the same cluster): also dropped as failed (complex_bonds_changed). Seen 2026-12-05 on the
+    #: three-ethanol cluster: 2 of 43 saved complexes (syn paths of 2-pentyldimethylsulfonium and 4-chlorophenethyl
+    #: bromide) held two ethanols joined and a lone hydrogen, 21-23 kcal/mol below the other complexes of their job.
+    #: false: as before 2026-12-05
+    complex_base_bond_check: bool = True
     #: relax every base rotation of a complex first with BFGS (the same held coordinates) only to this largest force
     #: (eV/Å), rank the rotations on those energies, and relax only the chosen one (the lowest, or the rank an
     #: orientation path asks for) on with method.optimizer to its force limit (null: every rotation fully with

@@ -17,7 +17,7 @@ from elimscan.errors import ComplexBondsError, ElimscanError
 from elimscan.geometry import distance, rotation_matrix
 from elimscan.results.flags import FAILED_ROTATION
 from elimscan.units import KCAL_MOL_PER_HARTREE
-from elimscan.drivers.contacts import bonds_changed, clear_turn
+from elimscan.drivers.contacts import base_bonds_changed, bonds_changed, clear_turn
 from elimscan.drivers.relax import HeldDihedral, HeldDistance, HeldDistanceSum, relax
 
 
@@ -106,11 +106,13 @@ def _align(vector: np.ndarray, target: np.ndarray) -> np.ndarray:
     return rotation_matrix(cross, np.arccos(np.clip(dot, -1.0, 1.0)))
 
 
-def require_bonds_kept(substrate: Atoms, complex_atoms: Atoms, settings: PathConfig, name: str) -> None:
-    """Raise ComplexBondsError naming the complex when its relaxation changed the substrate's bonds (when checked)."""
-    if not settings.complex_bond_check:
-        return
-    changed = bonds_changed(substrate, complex_atoms)
+def require_bonds_kept(substrate: Atoms, complex_atoms: Atoms, settings: PathConfig, name: str,
+                       base: Atoms | None = None) -> None:
+    """Raise ComplexBondsError naming the complex when its relaxation changed the substrate's bonds, or (given the
+    free ``base``) the base's own bonds, proton moves inside the base aside (each when its setting checks it)."""
+    changed = bonds_changed(substrate, complex_atoms) if settings.complex_bond_check else None
+    if changed is None and base is not None and settings.complex_base_bond_check:
+        changed = base_bonds_changed(base, complex_atoms)
     if changed is not None:
         raise ComplexBondsError(f"{name}: the relaxed complex {changed}: not a reactant complex")
 
@@ -172,7 +174,7 @@ def _relax_rotations(substrate: Atoms, base: Atoms, basic: int, reactive: Reacti
         calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
         try:
             result = relax(start, calc, _complex_held(reactive, settings, dihedral_target_deg), optimizer)
-            require_bonds_kept(substrate, result.atoms, settings, f"{name} rotation {rotation:.0f}")
+            require_bonds_kept(substrate, result.atoms, settings, f"{name} rotation {rotation:.0f}", base)
         except ElimscanError as err:
             first_error = first_error or err
             failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "
@@ -237,7 +239,7 @@ def build_complex(substrate: Atoms, base: Atoms, basic: int, reactive: Reactive,
         calc = engine.calculator(charge, multiplicity, name=f"{name} rotation {rotation:.0f}")
         try:
             result = relax(screened, calc, _complex_held(reactive, settings, dihedral_target_deg), optimizer)
-            require_bonds_kept(substrate, result.atoms, settings, f"{name} rotation {rotation:.0f}")
+            require_bonds_kept(substrate, result.atoms, settings, f"{name} rotation {rotation:.0f}", base)
         except ElimscanError as err:
             first_error = first_error or err
             failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the other "

@@ -20,6 +20,9 @@ from elimscan.geometry import covalent_bonds, rotation_matrix
 BOND_SCALE = 1.2
 #: alkali and alkaline-earth metals: their contacts are ionic, never bonds the complex check should read
 _IONIC = frozenset({3, 4, 11, 12, 19, 20, 37, 38, 55, 56})
+#: elements whose bond to hydrogen may move inside a base cluster: a proton handed between the alkoxide and its
+#: alcohols (or amines) is the same species, not a broken base
+_PROTON_HOLDERS = frozenset({7, 8, 16})
 #: van der Waals radius (Å) of an element ASE carries none for
 _VDW_FALLBACK_A = 2.0
 #: turns tried about the basic atom when a placed base clashes: axes on a Fibonacci sphere, angles in steps (deg)
@@ -84,6 +87,13 @@ def clear_turn(substrate: Atoms, base_positions: np.ndarray, base_numbers: np.nd
     return turned[clear[0] if clear.size else int(np.argmax(worst))]
 
 
+def _bonds_of(numbers: np.ndarray, positions: np.ndarray) -> set[tuple[int, int]]:
+    """Return the covalent bonds (index pairs, i < j) at ``BOND_SCALE`` x the covalent radii, metal ions left out."""
+    covalent = [i for i in range(len(numbers)) if numbers[i] not in _IONIC]
+    radii = np.array([covalent_radii[numbers[i]] for i in covalent])
+    return {(covalent[i], covalent[j]) for i, j in covalent_bonds(positions[covalent], radii, BOND_SCALE)}
+
+
 def bonds_changed(substrate: Atoms, complex_atoms: Atoms) -> str | None:
     """Return which covalent bonds of the substrate a complex broke or made (to itself or to the base), or None.
 
@@ -92,15 +102,9 @@ def bonds_changed(substrate: Atoms, complex_atoms: Atoms) -> str | None:
     """
     n = len(substrate)
     numbers = complex_atoms.numbers
-    covalent = [i for i in range(len(complex_atoms)) if numbers[i] not in _IONIC]
-    radii = np.array([covalent_radii[numbers[i]] for i in covalent])
-    found = {(covalent[i], covalent[j]) for i, j in covalent_bonds(complex_atoms.positions[covalent], radii,
-                                                                     BOND_SCALE)}
-    found = {(i, j) for i, j in found if i < n}  # a bond among the base's own atoms is the base's business
-    sub_covalent = [i for i in range(n) if substrate.numbers[i] not in _IONIC]
-    sub_radii = np.array([covalent_radii[substrate.numbers[i]] for i in sub_covalent])
-    before = {(sub_covalent[i], sub_covalent[j]) for i, j in covalent_bonds(substrate.positions[sub_covalent],
-                                                                              sub_radii, BOND_SCALE)}
+    # a bond among the base's own atoms is base_bonds_changed's business
+    found = {(i, j) for i, j in _bonds_of(numbers, complex_atoms.positions) if i < n}
+    before = _bonds_of(substrate.numbers, substrate.positions)
 
     def named(pair: tuple[int, int]) -> str:
         return "-".join(f"{chemical_symbols[numbers[i]]}{i + 1}" for i in pair)
@@ -112,3 +116,33 @@ def bonds_changed(substrate: Atoms, complex_atoms: Atoms) -> str | None:
     parts = ([f"broke {', '.join(named(p) for p in broken)}"] if broken else []) + \
         ([f"made {', '.join(named(p) + (' (to the base)' if p[1] >= n else '') for p in made)}"] if made else [])
     return "; ".join(parts)
+
+
+def base_bonds_changed(base: Atoms, complex_atoms: Atoms) -> str | None:
+    """Return which covalent bonds of the base's own a complex broke or made, or None.
+
+    The base's atoms are the complex's last ``len(base)`` (named by element and 1-based number in the complex). A
+    hydrogen moving between the base's O, N or S atoms (a proton handed along the hydrogen bonds of an alkoxide
+    and its alcohols) is not counted: the cluster is the same species. Anything else (a C-H or C-O bond broken, two
+    alcohols joined, a lone hydrogen) is a base that is no longer itself.
+    """
+    offset = len(complex_atoms) - len(base)
+    numbers = base.numbers
+
+    def polar_h(pair: tuple[int, int]) -> bool:
+        elements = {int(numbers[pair[0]]), int(numbers[pair[1]])}
+        return 1 in elements and bool(elements & _PROTON_HOLDERS)
+
+    before = _bonds_of(numbers, base.positions)
+    after = _bonds_of(numbers, complex_atoms.positions[offset:])
+    broken = sorted(p for p in before - after if not polar_h(p))
+    made = sorted(p for p in after - before if not polar_h(p))
+    if not broken and not made:
+        return None
+
+    def named(pair: tuple[int, int]) -> str:
+        return "-".join(f"{chemical_symbols[numbers[i]]}{i + offset + 1}" for i in pair)
+
+    parts = ([f"broke {', '.join(named(p) for p in broken)}"] if broken else []) + \
+        ([f"made {', '.join(named(p) for p in made)}"] if made else [])
+    return "changed the base's own bonds: " + "; ".join(parts)

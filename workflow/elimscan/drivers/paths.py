@@ -424,7 +424,8 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
                 result = relax(placed, metered.calculator(charge, multiplicity,
                                                           name=f"{name} complex rotation {rotation:.0f}"),
                                held, complex_settings)
-                require_bonds_kept(start, result.atoms, settings, f"{name} complex rotation {rotation:.0f}")
+                require_bonds_kept(start, result.atoms, settings, f"{name} complex rotation {rotation:.0f}",
+                                   base)
             except ElimscanError as err:  # as for an E2 complex: a failed rotation is skipped while another succeeds
                 first_error = first_error or err
                 failed.append(f"{FAILED_ROTATION} {rotation:.0f} deg of the complex failed ({err.error_type}); the "

@@ -31,7 +31,8 @@ KEY_NEUTRAL: dict[str, object] = {"base.model.arrangements": 1, "base.model.embe
                                   "settings.paths.complex_optimizer": None,
                                   "settings.optimizer.internal_rebuild_limit": None,
                                   "settings.paths.complex_clearance_vdw_fraction": None,
-                                  "settings.paths.complex_bond_check": False}
+                                  "settings.paths.complex_bond_check": False,
+                                  "settings.paths.complex_base_bond_check": False}
 #: DFT settings that change no number at any value (how much memory a calculation may take): left out of the key
 KEY_EXCLUDED_DFT = {"memory_limit_MB"}
 #: the DFT tier's mode whose jobs key without ``dft.saddles`` and ``dft.reoptimise_*`` (they change nothing there)
