@@ -94,6 +94,13 @@ def _bonds_of(numbers: np.ndarray, positions: np.ndarray) -> set[tuple[int, int]
     return {(covalent[i], covalent[j]) for i, j in covalent_bonds(positions[covalent], radii, BOND_SCALE)}
 
 
+def _broke_made(broken: list, made: list, named, note=lambda pair: "") -> str:
+    """Return 'broke A-B, ...; made C-D, ...' for bond pairs, each named by ``named`` (``note`` adds to a made one)."""
+    parts = ([f"broke {', '.join(named(p) for p in broken)}"] if broken else []) + \
+        ([f"made {', '.join(named(p) + note(p) for p in made)}"] if made else [])
+    return "; ".join(parts)
+
+
 def bonds_changed(substrate: Atoms, complex_atoms: Atoms) -> str | None:
     """Return which covalent bonds of the substrate a complex broke or made (to itself or to the base), or None.
 
@@ -113,9 +120,7 @@ def bonds_changed(substrate: Atoms, complex_atoms: Atoms) -> str | None:
     made = sorted(found - before)
     if not broken and not made:
         return None
-    parts = ([f"broke {', '.join(named(p) for p in broken)}"] if broken else []) + \
-        ([f"made {', '.join(named(p) + (' (to the base)' if p[1] >= n else '') for p in made)}"] if made else [])
-    return "; ".join(parts)
+    return _broke_made(broken, made, named, lambda pair: " (to the base)" if pair[1] >= n else "")
 
 
 def base_bonds_changed(base: Atoms, complex_atoms: Atoms) -> str | None:
@@ -143,6 +148,4 @@ def base_bonds_changed(base: Atoms, complex_atoms: Atoms) -> str | None:
     def named(pair: tuple[int, int]) -> str:
         return "-".join(f"{chemical_symbols[numbers[i]]}{i + offset + 1}" for i in pair)
 
-    parts = ([f"broke {', '.join(named(p) for p in broken)}"] if broken else []) + \
-        ([f"made {', '.join(named(p) for p in made)}"] if made else [])
-    return "changed the base's own bonds: " + "; ".join(parts)
+    return "changed the base's own bonds: " + _broke_made(broken, made, named)
