@@ -25,7 +25,7 @@ DEFAULT_MODEL_SENTENCE = (
     "was chosen on the measured basicity of alkoxides in solution (their order and the pKa gap between tert-butanol "
     "and methanol) and on how well three seeds agree on the calibration rates, and frozen before the benchmark's test "
     "set was scored under it (validation/model-freeze.yaml), never on product outcomes; it still leaves the "
-    "calibration rates' free barriers 6\u201311 kcal/mol low at GFN2-xTB; write \u201cmodel: bare\u201d under a base "
+    "calibration rates' free barriers 6\u201310 kcal/mol low at GFN2-xTB; write \u201cmodel: bare\u201d under a base "
     "to compute the free anion instead.")
 
 
