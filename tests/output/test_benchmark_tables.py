@@ -92,3 +92,14 @@ def test_a_partial_page_says_where_the_rule_has_no_call_yet():
     page = validation_markdown(INFO, found, [], ["dE"])
     assert "| GFN2-xTB dE | 1/4 | 2/4 | 1/4 | 1/4 (rule 1/4) |" in page
     assert headline_line(scores(), "dE") == "computed right 1/3, rule right 2/3, undecided 1/3"  # nothing waiting
+
+
+def test_a_source_says_from_memory_and_where_the_value_was_seen():
+    # a value checked in a later book keeps its citation and its "from memory" (the original stays unread)
+    checked = case(major="C/C=C/C", seeds=(1,)).model_copy(update={
+        "source": "Original, J. Am. Chem. Soc. 1956", "from_memory": True,
+        "seen_in": "a later textbook, table 1: 19 %"})
+    page = validation_markdown(INFO, [score_case(checked, {}, (1,), ["dE"])], [], ["dE"])
+    assert "Original, J. Am. Chem. Soc. 1956 (from memory); value seen in: a later textbook, table 1: 19 %" in page
+    plain = validation_markdown(INFO, scores(), [], ["dE"])
+    assert "value seen in" not in plain and "bookkeeping fixture" in plain

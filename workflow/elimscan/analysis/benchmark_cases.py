@@ -63,6 +63,9 @@ class _Computed(_Frozen):
     paths: dict[str, Any] | None = None
     source: str = Field(min_length=1)
     from_memory: bool
+    #: where this project found the value quoted when it checked it (a later book or page, with what it says);
+    #: the cited original stays unread, so ``from_memory`` keeps its meaning
+    seen_in: str | None = Field(None, min_length=1)
 
 
 class OutcomeCase(_Computed):

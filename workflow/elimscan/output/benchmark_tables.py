@@ -13,7 +13,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
-from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, isomer_key
+from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, HammettCase, IsotopeCase, OutcomeCase, RateCase, isomer_key
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline, is_terminal)
@@ -97,6 +97,13 @@ def count_rows(scores: Sequence[CaseScore], levels: Sequence[str], categories: S
     return rows
 
 
+def source_words(case: OutcomeCase | RateCase | IsotopeCase | HammettCase) -> str:
+    """Return a case's source as the page shows it: the citation, '(from memory)', and where the value was seen."""
+    memory = " (from memory)" if case.from_memory else ""
+    seen = f"; value seen in: {case.seen_in}" if case.seen_in else ""
+    return f"{case.source}{memory}{seen}"
+
+
 def _experiment(score: CaseScore) -> str:
     """Return the experiment cell: major, published shares, E2 share, approach, and the source."""
     e = score.case.expected
@@ -109,8 +116,7 @@ def _experiment(score: CaseScore) -> str:
         parts.append(f"E2 {e.e2_percent:g} %")
     if e.approach is not None:
         parts.append(f"{e.approach} path")
-    memory = " (from memory)" if score.case.from_memory else ""
-    return "; ".join(parts) + f" — {score.case.source}{memory}"
+    return "; ".join(parts) + f" — {source_words(score.case)}"
 
 
 def _rule_cell(score: CaseScore) -> str:
@@ -183,13 +189,12 @@ def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
     """Return Markdown rows of the calibration errors (one row per case and estimate)."""
     rows = ["| case | measured | computed | mean (spread over seeds) | error | source |", "|---|---|---|---|---|---|"]
     for score in calibration:
-        memory = " (from memory)" if score.case.from_memory else ""
         unit = f" {score.unit}" if score.unit else ""
         for estimate in score.estimates:
             spread = f" ({_number(estimate.spread, 2)})" if estimate.spread is not None else ""
             error = "-" if estimate.error is None else f"{estimate.error:+.1f}{' ' + score.error_unit if score.error_unit else ''}"
             rows.append(f"| {score.case.id} ({score.case.temperature_K:g} K) | {score.quantity}: {score.measured:.2f}{unit} | "
-                        f"{estimate.label} | {_number(estimate.mean, 2)}{spread} | {error} | {score.case.source}{memory} |")
+                        f"{estimate.label} | {_number(estimate.mean, 2)}{spread} | {error} | {source_words(score.case)} |")
     return rows
 
 
