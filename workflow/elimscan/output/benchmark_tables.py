@@ -13,7 +13,8 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
-from elimscan.analysis.benchmark_cases import CATEGORIES, SUBSTITUTION, HammettCase, IsotopeCase, OutcomeCase, RateCase, isomer_key
+from elimscan.analysis.benchmark_cases import (CATEGORIES, SUBSTITUTION, HammettCase, IsotopeCase, OutcomeCase, RateCase,
+                                              isomer_key)
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline, is_terminal)
@@ -194,7 +195,8 @@ def calibration_rows(calibration: Sequence[CalibrationScore]) -> list[str]:
             spread = f" ({_number(estimate.spread, 2)})" if estimate.spread is not None else ""
             error = "-" if estimate.error is None else f"{estimate.error:+.1f}{' ' + score.error_unit if score.error_unit else ''}"
             rows.append(f"| {score.case.id} ({score.case.temperature_K:g} K) | {score.quantity}: {score.measured:.2f}{unit} | "
-                        f"{estimate.label} | {_number(estimate.mean, 2)}{spread} | {error} | {source_words(score.case)} |")
+                        f"{estimate.label} | {_number(estimate.mean, 2)}{spread} | {error} | "
+                        f"{source_words(score.case)} |")
     return rows
 
 
