@@ -38,7 +38,8 @@ MAX_CLUSTER_EMBEDDINGS = 8
 DEFAULT_EXPLICIT_MOLECULES = 3
 #: independent embeddings of that default cluster (``model.embeddings`` left out; the lowest relaxed one is kept):
 #: the frozen benchmark model ``alcohol-3-embedded`` (validation/model-freeze.yaml), chosen because its free barriers
-#: of the calibration rates agree over seeds (largest spread 0.87 kcal/mol against 1.93 with one embedding)
+#: of the calibration rates agreed over seeds (largest spread 0.87 kcal/mol against 1.93 with one embedding, before the
+#: complex checks of 3546362 and 73ea662; recomputed with them 2.74, set by one seed's E2 path: docs/validation.md)
 DEFAULT_CLUSTER_EMBEDDINGS = 5
 #: the implicit-solvent models in which that default applies: the parametrised continua it was calibrated with
 #: (ALPB) and their generalized-Born sibling. In the dielectric-only continuum (ddX-CPCM, tert-butanol and the other
