@@ -34,8 +34,10 @@ def scores():
 
 def test_the_headline_counts_right_rule_and_undecided_apart():
     found = scores()
-    assert headline_line(found, "dE") == "computed right 1/3, rule right 2/3, undecided 1/3"
-    assert headline_line(found, "dE", "ez-ratio") == "computed right 0/1, rule right 0/1, undecided 1/1"
+    assert headline_line(found, "dE") == ("computed right 1/3 (on the rule's basis 1/3), rule right 2/3, "
+                                          "undecided 1/3")
+    assert headline_line(found, "dE", "ez-ratio") == ("computed right 0/1 (on the rule's basis 0/1), rule right 0/1, "
+                                                      "undecided 1/1")
 
 
 def test_the_page_names_the_run_and_gives_every_part():
@@ -46,12 +48,12 @@ def test_the_page_names_the_run_and_gives_every_part():
     assert "(code: commit `607da3f`, `abc1234`)" in validation_markdown(
         replace(INFO, compute_commits=("abc1234", "607da3f", "abc1234")), scores(), [], ["dE"])
     assert "the 1 job(s) left would take about 24 min of job time at the finished jobs' mean of 24 min" in page
-    assert "- **GFN2-xTB dE**: computed right 1/3, rule right 2/3, undecided 1/3" in page
-    assert "| GFN2-xTB dE | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column
-    assert "| ez-ratio | GFN2-xTB dE | 0/1 | 0/1 | 1/1 | 0/1 |" in page
+    assert "- **GFN2-xTB dE**: computed right 1/3 (on the rule's basis 1/3), rule right 2/3, undecided 1/3" in page
+    assert "| GFN2-xTB dE | 1/3 | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column
+    assert "| ez-ratio | GFN2-xTB dE | 0/1 | 0/1 | 0/1 | 1/1 | 0/1 |" in page
     row = next(line for line in page.splitlines() if line.startswith("| bookkeeping | major `C/C=C/C`; `C=CCC` 19 %"))
     assert "| **right**: `C/C=C/C` | **right**; top `C/C=C/C` (2 seeds), `C=CCC` (1 seed); mix `C/C=C/C` " in row
-    assert "judged `C=CCC` 28 % of alkenes" in row and row.endswith("| dE 55 | 1 h 00 min |")
+    assert "judged (mean over seeds; each seed is judged alone) `C=CCC` 28 % of alkenes" in row and row.endswith("| dE 55 | 1 h 00 min |")
     wrong = next(line for line in page.splitlines() if line.startswith("| amyl |"))
     assert "**wrong**" in wrong and "why: major C=C(C)CC, expected CC=C(C)C" in wrong
 
@@ -87,11 +89,11 @@ def test_a_partial_page_says_where_the_rule_has_no_call_yet():
     # the rule's call is read from a finished job: a case without one is neither right nor wrong for the rule
     waiting = score_case(case(major="C/C=C/C", seeds=(1, 2, 3)), {}, (1, 2, 3), ["dE"])
     found = scores() + [waiting]
-    assert headline_line(found, "dE") == ("computed right 1/4, rule right 2/4, undecided 1/4, "
-                                          "not computed 1/4 (rule 1/4)")
+    assert headline_line(found, "dE") == ("computed right 1/4 (on the rule's basis 1/4), rule right 2/4, "
+                                          "undecided 1/4, not computed 1/4 (rule 1/4)")
     page = validation_markdown(INFO, found, [], ["dE"])
-    assert "| GFN2-xTB dE | 1/4 | 2/4 | 1/4 | 1/4 (rule 1/4) |" in page
-    assert headline_line(scores(), "dE") == "computed right 1/3, rule right 2/3, undecided 1/3"  # nothing waiting
+    assert "| GFN2-xTB dE | 1/4 | 1/4 | 2/4 | 1/4 | 1/4 (rule 1/4) |" in page
+    assert "not computed" not in headline_line(scores(), "dE")  # nothing waiting
 
 
 def test_a_source_says_from_memory_and_where_the_value_was_seen():

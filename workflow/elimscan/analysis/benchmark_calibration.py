@@ -21,7 +21,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_cases import CalibrationCase, HammettCase, IsotopeCase, RateCase, member_slot
-from elimscan.analysis.benchmark_scoring import DERIVED_LEVELS, e2_paths, sn2_path
+from elimscan.analysis.benchmark_scoring import DERIVED_LEVELS, e2_paths, path_left_out, sn2_path
 from elimscan.analysis.rule import hammett_fit
 from elimscan.units import (AVOGADRO_PER_MOL_2018, BOLTZMANN_J_PER_K_2018, BOLTZMANN_KCAL_MOL_PER_K, J_PER_KCAL,
                             PLANCK_J_S_2018)
@@ -109,14 +109,18 @@ def isotope_effect(job: Mapping, beta_carbon_indices: Sequence[int]) -> tuple[fl
         return None
     found = []
     for beta in job.get("beta_hydrogens") or ():
-        effects = beta.get("isotope_effects") or ()
         carbon = beta.get("beta_carbon_index0", beta.get("beta_carbon_index"))  # 0-based; the older name before 0.7.1
-        if carbon not in beta_carbon_indices or not effects:
+        if carbon not in beta_carbon_indices:
+            continue
+        counted = {a: beta[a]["barrier_kcal_mol"] for a in ("anti", "syn") if beta[a].get("path_status") == "ok"
+                   and beta[a].get("barrier_kcal_mol") is not None and path_left_out(beta[a]) is None}
+        # an effect computed on a path that is no barrier (it did not reach its products) decides nothing
+        effects = [e for e in beta.get("isotope_effects") or () if e.get("approach", "anti") in counted]
+        if not effects:
             continue
         whole = [e for e in effects if len(e.get("deuterated_indices0", e.get("deuterated_indices")) or ()) > 1] \
-            or list(effects)
-        barriers = [beta[a]["barrier_kcal_mol"] for a in ("anti", "syn") if beta[a].get("barrier_kcal_mol") is not None]
-        found.append((min(barriers, default=math.inf), whole[0]))
+            or effects
+        found.append((min(counted.values()), whole[0]))
     if not found:
         return None
     effect = min(found, key=lambda item: item[0])[1]
@@ -187,7 +191,8 @@ def score_calibration(case: CalibrationCase, jobs: Mapping[str, Mapping[int, Map
                 barrier = None if job is None else channel_barrier_kcal_mol(job, "E2", level, temperature)
                 if barrier is not None:
                     points.append((member.sigma, barrier))
-            usable = len(points) >= 3 and len({sigma for sigma, _ in points}) >= 2
+            # every member or none: seeds fitted to different members would be averaged as one rho
+            usable = len(points) == len(case.members) >= 3 and len({sigma for sigma, _ in points}) >= 2
             rhos.append(hammett_fit([p[0] for p in points], [p[1] for p in points], temperature).rho if usable else None)
         estimates.append(_estimate(f"rho {level}", rhos, case.rho))
     return CalibrationScore(case, f"Hammett rho ({len(case.members)} substituents)", "", case.rho, tuple(estimates), "")

@@ -5,22 +5,28 @@ saddles; DFT//GFN2: DFT single points on the GFN2-xTB tops) the product mix is e
 function (``rule.product_fractions``) over every E2 path and the SN2 path that have a barrier at that level.
 A path whose record says it is no barrier (``reaches_products: false`` or ``budget_spent_in`` set, the tool's own
 rule, or in older records a saddle note saying the path end did not relax to products) is left out of the mix
-and named, E2 and SN2 alike.
+and named, E2 and SN2 alike. A product that some computed path leads to but that has no counted barrier at the
+level (its only paths failed, or their saddles were not verified where the level needs it) makes the seed 'not
+computed' at that level: a mix without it would be judged as if the product could not form.
 
 Products are compared as exact isomers: canonical isomeric SMILES with tetrahedral stereo removed and E/Z
 kept (``benchmark_cases.isomer_key``); the SN2 product is 'substitution'. One seed is:
 
 - undecided: the case names a major product and the computed top products lie within the method's
-  uncertainty (``rule.compare_verdicts``: best barriers of different products closer than 1 kcal/mol);
-  counted as not right;
+  uncertainty (``rule.compare_verdicts``: best barriers of different products closer than 1 kcal/mol), or the
+  case names the main path's geometry and the best syn and anti paths lie that close; counted as not right;
 - right: the major product is the expected one, every published alkene share (normalised over the alkenes)
   and the published E2 share (of E2 + SN2) lie within ``SHARE_TOLERANCE_POINTS``, and the main path's
   approach is the expected one where the case gives it; else wrong;
-- not computed: the job failed, is not finished, or has no barrier at this level.
+- not computed: the job failed, is not finished, has no barrier at this level, lacks a product at this level
+  (above), or the case asks for an E2 share and there is no SN2 barrier at this level.
 
 Over seeds the majority decides (more than half of the seeds asked for); without a majority the case is
 undecided ('seeds split'). The rule's call (the rule's major alkene, or 'substitution' where the textbook
-E2/SN2 call is substitution; its path is anti by definition) is scored on the same case and majority.
+E2/SN2 call is substitution; its path is anti by definition) is scored on the same case and majority; on a case
+that asks for the E2 share, a textbook call of 'mixture' names no major product and is undecided. The rule names
+no shares, so beside its count the computed side is also counted on the rule's basis (major product and path
+geometry only, ``major_only``).
 """
 
 from __future__ import annotations
@@ -33,7 +39,7 @@ from dataclasses import dataclass
 from rdkit import Chem
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, Expected, OutcomeCase, isomer_key
-from elimscan.analysis.rule import PathBarrier, compare_verdicts, product_fractions
+from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts, product_fractions
 from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS, no_barrier_reason
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
@@ -48,6 +54,8 @@ SHARE_TOLERANCE_POINTS = 20.0
 RIGHT, WRONG, UNDECIDED, NOT_COMPUTED, NOT_SCORED = "right", "wrong", "undecided", "not computed", "not scored"
 #: the approach the geometric rule assumes for its major product
 RULE_APPROACH = "anti"
+#: the textbook E2/SN2 call that names no major product between the two
+MIXTURE = "mixture"
 _TERMINAL = Chem.MolFromSmarts("[CH2]=C")
 
 
@@ -90,6 +98,30 @@ def e2_paths(job: Mapping, level: str) -> tuple[list[PathBarrier], list[str]]:
     return paths, left_out
 
 
+def missing_products(job: Mapping, level: str) -> tuple[str, ...]:
+    """Return one note per product that a computed path leads to but that has no counted barrier at ``level``.
+
+    A path the tool's rule leaves out (it does not reach its products) is no barrier and lacks nothing; a failed
+    path, or a path without this level's barrier (a saddle not verified, at dG), does: the product's share would
+    otherwise be read as zero."""
+    counted = {p.product_smiles for p in e2_paths(job, level)[0]}
+    if sn2_path(job, level) is not None:
+        counted.add(SUBSTITUTION)
+    blocks = [(isomer_key(b[a]["product_smiles"]) if b[a].get("product_smiles") else None, b[a])
+              for b in job.get("beta_hydrogens") or () for a in ("anti", "syn")]
+    if job.get("substitution"):
+        blocks.append((SUBSTITUTION, job["substitution"]))
+    notes: dict[str, str] = {}
+    for product, block in blocks:
+        status = block.get("path_status")
+        if product is None or product in counted or status not in ("ok", "failed"):
+            continue
+        if status == "ok" and path_left_out(block) is not None:
+            continue
+        notes.setdefault(product, f"{product}: {'its path failed' if status == 'failed' else 'no barrier at this level'}")
+    return tuple(notes.values())
+
+
 def sn2_path(job: Mapping, level: str) -> PathBarrier | None:
     """Return the SN2 path with a barrier at ``level`` (kcal/mol) as product 'substitution', or None."""
     block = job.get("substitution")
@@ -114,8 +146,13 @@ class LevelMix:
     undecided: bool
     #: approach of the path with the largest Curtin-Hammett weight
     main_approach: str
-    #: paths left out because their record says they did not reach their alkene
+    #: paths left out because their record says they are no barrier (did not reach their products, or stopped by
+    #: their gradient budget), E2 and SN2
     left_out: tuple[str, ...]
+    #: products a computed path leads to without a counted barrier at this level (``missing_products``)
+    missing: tuple[str, ...] = ()
+    #: best syn minus best anti effective barrier (kcal/mol; degeneracy counted), None without both approaches
+    syn_minus_anti_kcal_mol: float | None = None
 
 
 def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None:
@@ -124,33 +161,48 @@ def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None
     if not paths:
         return None
     sn2 = sn2_path(job, level)
+    block = job.get("substitution") or {}
+    why_sn2 = path_left_out(block) if block.get("path_status") == "ok" else None
+    if why_sn2 is not None:
+        left_out.append(f"substitution: {why_sn2}")
     everything = [*paths, sn2] if sn2 is not None else paths
     shares = product_fractions(everything, temperature_K)
     verdict = compare_verdicts(None, shares, everything)
     rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
-    main = min(paths, key=lambda p: p.barrier_kcal_mol - rt * math.log(p.degeneracy))
+    effective = {id(p): p.barrier_kcal_mol - rt * math.log(p.degeneracy) for p in paths}
+    main = min(paths, key=lambda p: effective[id(p)])
+    best = {a: min((effective[id(p)] for p in paths if p.approach == a), default=None) for a in ("anti", "syn")}
     return LevelMix(shares=shares, alkene_shares=product_fractions(paths, temperature_K),
                     e2_fraction=None if sn2 is None else 1.0 - shares[SUBSTITUTION], major=verdict.computed_major,
                     undecided=verdict.within_method_uncertainty, main_approach=main.approach,
-                    left_out=tuple(left_out))
+                    left_out=tuple(left_out), missing=missing_products(job, level),
+                    syn_minus_anti_kcal_mol=None if None in best.values() else best["syn"] - best["anti"])
 
 
-def judge_mix(expected: Expected, mix: LevelMix | None) -> tuple[str, tuple[str, ...]]:
-    """Return (right | wrong | undecided | not computed, reasons) of one computed mix against experiment."""
+def judge_mix(expected: Expected, mix: LevelMix | None, major_only: bool = False) -> tuple[str, tuple[str, ...]]:
+    """Return (right | wrong | undecided | not computed, reasons) of one computed mix against experiment.
+
+    ``major_only`` judges on the rule's basis: the major product and the path geometry, no published shares."""
     if mix is None:
-        return NOT_COMPUTED, ("no barrier at this level",)
+        return NOT_COMPUTED, ("no E2 barrier at this level",)
+    if mix.missing:
+        return NOT_COMPUTED, tuple(f"no counted barrier for {m}" for m in mix.missing)
+    if expected.e2_percent is not None and mix.e2_fraction is None:
+        return NOT_COMPUTED, ("no SN2 barrier at this level: the E2 share cannot be judged",)
     if expected.major is not None and mix.undecided:
         return UNDECIDED, (f"top products within the method's uncertainty (computed top: {mix.major})",)
+    if (expected.approach is not None and mix.syn_minus_anti_kcal_mol is not None
+            and abs(mix.syn_minus_anti_kcal_mol) < METHOD_UNCERTAINTY_KCAL_MOL):
+        return UNDECIDED, (f"best syn and anti paths within the method's uncertainty "
+                           f"(syn - anti {mix.syn_minus_anti_kcal_mol:+.2f} kcal/mol)",)
     reasons = []
     if expected.major is not None and mix.major != isomer_key(expected.major):
         reasons.append(f"major {mix.major}, expected {expected.major}")
-    for smiles, percent in expected.alkene_shares_percent.items():
+    for smiles, percent in ({} if major_only else expected.alkene_shares_percent).items():
         got = 100.0 * mix.alkene_shares.get(isomer_key(smiles), 0.0)
         if abs(got - percent) > SHARE_TOLERANCE_POINTS:
             reasons.append(f"{smiles} {got:.0f} % of alkenes, published {percent:g} %")
-    if expected.e2_percent is not None:
-        if mix.e2_fraction is None:
-            return NOT_COMPUTED, ("no SN2 barrier at this level: the E2 share cannot be judged",)
+    if expected.e2_percent is not None and not major_only:
         if abs(100.0 * mix.e2_fraction - expected.e2_percent) > SHARE_TOLERANCE_POINTS:
             reasons.append(f"E2 {100.0 * mix.e2_fraction:.0f} %, published {expected.e2_percent:g} %")
     if expected.approach is not None and mix.main_approach != expected.approach:
@@ -158,19 +210,25 @@ def judge_mix(expected: Expected, mix: LevelMix | None) -> tuple[str, tuple[str,
     return (WRONG, tuple(reasons)) if reasons else (RIGHT, ())
 
 
-def rule_call(job: Mapping) -> str | None:
-    """Return the rule's call on a job: 'substitution', its major alkene (isomer key), or None (no E2 predicted)."""
-    block = job.get("substitution")
-    if block and block.get("rule_call") == SUBSTITUTION:
+def rule_call(job: Mapping, e2_share_asked: bool = False) -> str | None:
+    """Return the rule's call on a job: 'substitution', its major alkene (isomer key), 'mixture' (a case that asks
+    for the E2 share, where the textbook E2/SN2 call names no major product), or None (no E2 predicted)."""
+    textbook = (job.get("substitution") or {}).get("rule_call")
+    if textbook == SUBSTITUTION:
         return SUBSTITUTION
+    if textbook == MIXTURE and e2_share_asked:
+        return MIXTURE
     major = (job.get("rule") or {}).get("rule_major")
     return isomer_key(major) if major else None
 
 
 def judge_rule(expected: Expected, call: str | None) -> str:
-    """Return right or wrong for the rule's call (its path is anti); 'not scored' for a case without a major."""
+    """Return right, wrong or undecided (a 'mixture' call) for the rule's call (its path is anti); 'not scored' for
+    a case without a major."""
     if expected.major is None:
         return NOT_SCORED
+    if call == MIXTURE:
+        return UNDECIDED
     if call != isomer_key(expected.major):
         return WRONG
     return WRONG if expected.approach not in (None, RULE_APPROACH) else RIGHT
@@ -209,6 +267,8 @@ class LevelScore:
     #: largest max - min of a product's share over the seeds (percentage points); None with fewer than 2 mixes
     spread_points: float | None
     note: str
+    #: the majority outcome on the rule's basis (major product and path geometry only; 'not scored' without a major)
+    outcome_major_only: str = NOT_SCORED
 
 
 def _mean(values: Sequence[float]) -> float | None:
@@ -229,8 +289,12 @@ def score_level(case: OutcomeCase, jobs: Mapping[int, Mapping], level: str, seed
         else:
             mix = level_mix(job, level, job.get("temperature_K") or case.temperature_K)
             outcome, reasons = judge_mix(case.expected, mix)
+            if mix is None:
+                reasons += tuple(f"left out: {why}" for why in e2_paths(job, level)[1])
             scores.append(SeedScore(seed, outcome, reasons, mix))
-    mixes = [s.mix for s in scores if s.mix is not None]
+    major_only = [judge_mix(case.expected, s.mix, major_only=True)[0] if s.mix is not None else s.outcome
+                  for s in scores]
+    mixes = [s.mix for s in scores if s.mix is not None and not s.mix.missing]
     products = sorted({p for m in mixes for p in m.shares})
     mean_shares = {p: _mean([m.shares.get(p, 0.0) for m in mixes]) for p in products}
     spreads = [max(m.shares.get(p, 0.0) for m in mixes) - min(m.shares.get(p, 0.0) for m in mixes) for p in products]
@@ -243,7 +307,8 @@ def score_level(case: OutcomeCase, jobs: Mapping[int, Mapping], level: str, seed
         mean_alkene_shares={p: _mean([m.alkene_shares.get(p, 0.0) for m in mixes]) for p in published if mixes},
         mean_e2_fraction=_mean([m.e2_fraction for m in mixes if m.e2_fraction is not None]),
         spread_points=100.0 * max(spreads) if len(mixes) > 1 and spreads else None,
-        note="seeds split: " + ", ".join(f"{s.seed} {s.outcome}" for s in scores) if split else "")
+        note="seeds split: " + ", ".join(f"{s.seed} {s.outcome}" for s in scores) if split else "",
+        outcome_major_only=majority(major_only, len(seeds)) if case.expected.major is not None else NOT_SCORED)
 
 
 @dataclass(frozen=True)
@@ -261,7 +326,7 @@ def score_case(case: OutcomeCase, jobs: Mapping[int, Mapping], seeds: Sequence[i
                wall_seconds: float | None = None) -> CaseScore:
     """Return a test case's score at each level and the rule's, from its job records by seed."""
     finished = [jobs[s] for s in seeds if s in jobs and jobs[s].get("status") == "ok"]
-    calls = tuple(rule_call(job) for job in finished)
+    calls = tuple(rule_call(job, case.expected.e2_percent is not None) for job in finished)
     rule = [judge_rule(case.expected, call) for call in calls]
     rule += [NOT_SCORED if case.expected.major is None else NOT_COMPUTED] * (len(seeds) - len(finished))
     return CaseScore(case=case, levels={level: score_level(case, jobs, level, seeds) for level in levels},
@@ -280,6 +345,8 @@ class Headline:
     rule_n: int
     #: of rule_n, the cases whose rule call is not yet read (no finished job: the rule's call comes from the job)
     rule_not_computed: int = 0
+    #: computed right on the rule's basis (major product and path geometry only), of the rule_n cases
+    right_major_only: int = 0
 
 
 def headline(scores: Sequence[CaseScore], level: str, category: str | None = None) -> Headline:
@@ -290,7 +357,8 @@ def headline(scores: Sequence[CaseScore], level: str, category: str | None = Non
                     not_computed=outcomes.count(NOT_COMPUTED),
                     rule_right=sum(s.rule_outcome == RIGHT for s in chosen),
                     rule_n=sum(s.rule_outcome != NOT_SCORED for s in chosen),
-                    rule_not_computed=sum(s.rule_outcome == NOT_COMPUTED for s in chosen))
+                    rule_not_computed=sum(s.rule_outcome == NOT_COMPUTED for s in chosen),
+                    right_major_only=sum(s.levels[level].outcome_major_only == RIGHT for s in chosen))
 
 
 def computed_levels(jobs: Sequence[Mapping]) -> list[str]:

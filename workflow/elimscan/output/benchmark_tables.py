@@ -73,9 +73,11 @@ def _duration(seconds: float | None) -> str:
 
 
 def headline_line(scores: Sequence[CaseScore], level: str, category: str | None = None) -> str:
-    """Return 'computed right X/N, rule right Y/M, undecided Z/N' (and not computed, the rule's too) for one level."""
+    """Return 'computed right X/N (on the rule's basis W/M), rule right Y/M, undecided Z/N' (and not computed, the
+    rule's too) for one level."""
     h = headline(scores, level, category)
-    text = f"computed right {h.right}/{h.n}, rule right {h.rule_right}/{h.rule_n}, undecided {h.undecided}/{h.n}"
+    text = (f"computed right {h.right}/{h.n} (on the rule's basis {h.right_major_only}/{h.rule_n}), "
+            f"rule right {h.rule_right}/{h.rule_n}, undecided {h.undecided}/{h.n}")
     return text + (f", not computed {_not_computed(h)}" if h.not_computed or h.rule_not_computed else "")
 
 
@@ -87,14 +89,14 @@ def _not_computed(h: Headline) -> str:
 def count_rows(scores: Sequence[CaseScore], levels: Sequence[str], categories: Sequence[str] | None) -> list[str]:
     """Return a Markdown table of the counts per level (and per category when given), undecided in its own column."""
     first = "| category | level |" if categories is not None else "| level |"
-    rows = [first + " computed right | rule right | undecided (not right) | not computed |",
-            "|---|" + ("---|" if categories is not None else "") + "---|---|---|---|"]
+    rows = [first + " computed right | computed right on the rule's basis | rule right | undecided (not right) | "
+            "not computed |", "|---|" + ("---|" if categories is not None else "") + "---|---|---|---|---|"]
     for category in categories if categories is not None else [None]:
         for level in levels:
             h = headline(scores, level, category)
             lead = f"| {category} | {LEVEL_WORDS[level]} |" if category is not None else f"| {LEVEL_WORDS[level]} |"
-            rows.append(f"{lead} {h.right}/{h.n} | {h.rule_right}/{h.rule_n} | {h.undecided}/{h.n} | "
-                        f"{_not_computed(h)} |")
+            rows.append(f"{lead} {h.right}/{h.n} | {h.right_major_only}/{h.rule_n} | {h.rule_right}/{h.rule_n} | "
+                        f"{h.undecided}/{h.n} | {_not_computed(h)} |")
     return rows
 
 
@@ -142,13 +144,13 @@ def _level_cell(score: CaseScore, level: str) -> str:
     if ls.mean_e2_fraction is not None and score.case.expected.e2_percent is not None:
         judged.append(f"E2 {100 * ls.mean_e2_fraction:.0f} %")
     if judged:
-        parts.append("judged " + ", ".join(judged))
+        parts.append("judged (mean over seeds; each seed is judged alone) " + ", ".join(judged))
     reasons = sorted({r for s in ls.seeds if s.outcome == ls.outcome for r in s.reasons})
     if ls.outcome != RIGHT and reasons:
         parts.append("why: " + "; ".join(reasons))
     left = sorted({p for s in ls.seeds if s.mix is not None for p in s.mix.left_out})
     if left:
-        parts.append("left out (did not reach the alkene): " + "; ".join(left))
+        parts.append("left out (no barrier: did not reach its products, or stopped by its budget): " + "; ".join(left))
     if ls.note:
         parts.append(ls.note)
     return "; ".join(parts)
@@ -298,17 +300,24 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
                 "every input and setting that changes its numbers)"] if info.n_archived else []),
              f"- command: `{info.command}`", "",
              "How to read it. Levels: dE, GFN2-xTB electronic barriers; dG, quasi-RRHO free barriers of verified saddles "
-             "(1 M; paths without one are left out of that level's mix); DFT//GFN2, DFT single points on the GFN2-xTB "
-             "tops (only where a case turns the tier on). The mix is elimscan's Curtin–Hammett share over every E2 path "
-             "and the SN2 path; a path whose record says it did not reach its alkene is left out. Products are compared "
+             "(1 M; a path without one has no barrier at that level); DFT//GFN2, DFT single points on the GFN2-xTB "
+             "tops (only on a run with the DFT tier on, `validate.py --dft`). The mix is elimscan's Curtin–Hammett share "
+             "over every E2 path and the SN2 path; a path whose record says it is no barrier (it did not reach its "
+             "products, or its gradient budget stopped it) is left out and named; a product that a computed path leads "
+             "to but that has no counted barrier at a level (its paths failed, or their saddles were not verified) "
+             "makes that seed not computed there. Products are compared "
              "as exact isomers (E/Z compared, tetrahedral stereo not). **right**: the expected major product, every "
              f"published share within ±{SHARE_TOLERANCE_POINTS:g} percentage points (alkene shares of the alkenes, E2 of "
-             "E2 + SN2), and the expected path geometry where the case names one. **undecided**: the top products lie "
-             "within the method's uncertainty (best barriers closer than 1 kcal/mol); it counts as not right. Each "
+             "E2 + SN2; a published share under 20 % is met by any computed share from 0 up), and the expected path "
+             "geometry where the case names one. **undecided**: the top products lie within the method's uncertainty "
+             "(best barriers closer than 1 kcal/mol), or, where the case names the geometry, the best syn and anti paths "
+             "do; it counts as not right. Each "
              "case ran once per seed; the majority of seeds decides, a split is undecided, and the mix shown is the "
              "mean over seeds, its spread the largest max − min of a share (points). The rule (anti-periplanar "
              "hydrogen, Zaitsev or Hofmann, textbook E2/SN2 call) is scored on the same cases, on its major product "
-             "and its anti path; a case without a published major is not scored for it.", ""]
+             "and its anti path (a textbook call of a mixture on a case that asks for the E2 share is undecided); it "
+             "names no shares, so the computed side is also counted on the rule's basis (major product and path "
+             "geometry only); a case without a published major is not scored for either.", ""]
     if scores:
         lines += _test_sections(info, scores, levels)
     else:
