@@ -222,14 +222,19 @@ def test_the_isotope_effect_is_read_from_records_written_before_the_index_rename
     assert isotope_effect(job, (2,)) == (4.4, 5.0)
 
 
+def _hammett_case() -> HammettCase:
+    """Return a bookkeeping Hammett case of four members (sigma -0.27, 0, 0.23, 0.78) measured at rho 2.1."""
+    members = tuple(HammettMember(substrate=Molecule(name=f"m{k}", smiles="BrCCc1ccccc1"), sigma=s)
+                    for k, s in enumerate((-0.27, 0.0, 0.23, 0.78)))
+    return HammettCase(id="rho", kind="hammett", base=Molecule(name="ethoxide"), solvent=SolventConfig(),
+                       temperature_K=298.15, seeds=(1,), members=members, rho=2.1, source="bookkeeping fixture",
+                       from_memory=False)
+
+
 def test_rho_is_fitted_to_the_members_channel_barriers():
     # bookkeeping: barriers built from rho = 2.0 exactly, so the fit must return 2.0 (log10 k = -B / (RT ln 10))
-    sigmas = (-0.27, 0.0, 0.23, 0.78)
-    members = tuple(HammettMember(substrate=Molecule(name=f"m{k}", smiles="BrCCc1ccccc1"), sigma=s)
-                    for k, s in enumerate(sigmas))
-    hammett = HammettCase(id="rho", kind="hammett", base=Molecule(name="ethoxide"), solvent=SolventConfig(),
-                          temperature_K=298.15, seeds=(1,), members=members, rho=2.1, source="bookkeeping fixture",
-                          from_memory=False)
+    hammett = _hammett_case()
+    members = hammett.members
     jobs = {member_slot("rho", m.substrate.name): {1: record([("C2-H11", "anti", "C=Cc1ccccc1",
                                                                20.0 - 2.0 * m.sigma * RT_298 * math.log(10.0), 1)])}
             for m in members}
@@ -379,12 +384,8 @@ def test_the_isotope_effect_never_comes_from_a_path_that_missed_its_products():
 
 
 def test_rho_is_fitted_only_to_seeds_with_every_member():
-    sigmas = (-0.27, 0.0, 0.23, 0.78)
-    members = tuple(HammettMember(substrate=Molecule(name=f"m{k}", smiles="BrCCc1ccccc1"), sigma=s)
-                    for k, s in enumerate(sigmas))
-    hammett = HammettCase(id="rho", kind="hammett", base=Molecule(name="ethoxide"), solvent=SolventConfig(),
-                          temperature_K=298.15, seeds=(1,), members=members, rho=2.1, source="bookkeeping fixture",
-                          from_memory=False)
+    hammett = _hammett_case()
+    members = hammett.members
     jobs = {member_slot("rho", m.substrate.name): {1: record([("C2-H11", "anti", "C=Cc1ccccc1", 20.0 - m.sigma, 1)])}
             for m in members[:3]}  # the 4-nitro-like member has no job yet
     de = next(e for e in score_calibration(hammett, jobs, (1,)).estimates if e.label == "rho dE")
