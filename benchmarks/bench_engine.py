@@ -3,12 +3,17 @@
 1. median ms per GFN2-xTB energy+gradient, tblite vs xtb-python, at about 15, 35 and 70 atoms (gas phase);
 2. gradients and wall time per constrained dihedral-scan point, ASE BFGS + FixInternals vs Sella;
 3. the cache hit ratio when a relaxation is repeated;
-4. the cost of the dielectric-only continuum (ddX-CPCM at tert-butanol's ε) against ALPB(ethanol), tblite.
+4. the cost of the dielectric-only continuum (ddX-CPCM at tert-butanol's ε) against ALPB(ethanol), tblite;
+5. memory: resident memory a process keeps per constrained Sella scan point (internal coordinates) once warm.
+   Goal: at most MEMORY_GOAL_MB per point. scipy 1.17.1's LSODA kept every solver's work arrays alive (about
+   0.7 MB per Sella relaxation of a small molecule, several GB per benchmark job); elimscan pins scipy 1.16.3.
 Quote ratios, not absolute times: they depend on the machine.
 """
 
 from __future__ import annotations
 
+import gc
+import resource
 import statistics
 import sys
 import time
@@ -23,6 +28,9 @@ from elimscan.geometry import dihedral_deg  # noqa: E402
 from elimscan.drivers.relax import HeldDihedral, relax  # noqa: E402
 from elimscan.chem.structures import build_molecule  # noqa: E402
 
+#: the memory goal of figure 5: resident MB a warm process may keep per constrained scan point (issue 19): a
+#: benchmark job of about 5,000 Sella points then keeps under 0.5 GB
+MEMORY_GOAL_MB = 0.1
 SIZES = {"~15 atoms": "CC(Cl)CC", "~35 atoms": "CCCCCCCCCC(Cl)C", "~70 atoms": "CCCCCCCCCCCCCCCCCCCCC(Cl)C"}
 REPEATS = 9
 
@@ -63,6 +71,37 @@ def scan_cost(optimizer: str, atoms, h: int, cb: int, ca: int, x: int, points: i
     return statistics.mean(grads), statistics.mean(times), first_call
 
 
+def resident_mb() -> float:
+    """Return this process's resident memory (MB, from /proc/self/statm; 0 where /proc is missing)."""
+    try:
+        pages = int(open("/proc/self/statm").read().split()[1])
+    except OSError:
+        return 0.0
+    return pages * resource.getpagesize() / 2**20
+
+
+def scipy_version() -> str:
+    """Return the installed scipy's version (the LSODA that Sella's coordinate steps run through)."""
+    from importlib.metadata import version
+    return version("scipy")
+
+
+def memory_per_scan_point(atoms, h: int, cb: int, ca: int, x: int, warm: int = 24, measured: int = 96) -> float:
+    """Return the resident MB a process keeps per constrained Sella scan point after ``warm`` points (MB/point)."""
+    engine = XtbEngine(EngineSettings())
+    current = relax(atoms, engine.calculator(), ()).atoms
+    phi0 = dihedral_deg(current.positions, h, cb, ca, x)
+    before = 0.0
+    for k in range(warm + measured):
+        if k == warm:
+            gc.collect()
+            before = resident_mb()
+        target = phi0 + 15.0 * (k % 24 + 1)
+        current = relax(current, XtbEngine(EngineSettings()).calculator(), [HeldDihedral((h, cb, ca, x), target)]).atoms
+    gc.collect()
+    return (resident_mb() - before) / measured
+
+
 def main() -> int:
     print("elimscan engine benchmark (one run; GFN2-xTB gas phase, 1 thread)")
     print("\n1. median ms per energy+gradient (reused calculator)")
@@ -98,6 +137,13 @@ def main() -> int:
         alpb = median_ms_per_gradient("tblite", atoms, "alpb", "ethanol")
         ddx = median_ms_per_gradient("tblite", atoms, "dielectric", "tert-butanol")
         print(f"{label:<12}{len(atoms):>6}{alpb:>9.1f}{ddx:>9.1f}{ddx / alpb:>10.1f}")
+
+    atoms = build_molecule("CC(Cl)CC", seed=1).atoms
+    cb, ca, x = 3, 1, 2  # 2-chlorobutane's C-beta, C-alpha and Cl, as in figure 2
+    h = next(i for i in range(len(atoms)) if atoms.numbers[i] == 1 and atoms.get_distance(i, cb) < 1.2)
+    per_point = memory_per_scan_point(atoms, h, cb, ca, x)
+    print(f"\n5. memory kept per constrained Sella scan point (scipy {scipy_version()}; 96 points after 24 warm)")
+    print(f"{per_point:.3f} MB per point (goal <= {MEMORY_GOAL_MB} MB: {'met' if per_point <= MEMORY_GOAL_MB else 'MISSED'})")
     return 0
 
 
