@@ -332,3 +332,21 @@ def test_a_page_written_into_the_checkout_does_not_mark_the_code_dirty(validate,
     assert validate._commit() == clean
     (tmp_path / "workflow.py").write_text("x = 2\n")
     assert validate._commit() == clean + "-dirty"
+
+
+def test_an_archived_ok_job_counts_over_a_failed_row_of_the_work_folder(validate, tmp_path, monkeypatch):
+    """A job that failed in this folder but finished ok on another machine (archived) is scored from the archive."""
+    from types import SimpleNamespace
+
+    from elimscan.batch.archive import ArchivedJob, archive_jobs
+
+    pair = ("2-bromobutane", "ethoxide")
+    monkeypatch.setattr(validate, "_group_keys", lambda group, work: {"k1": pair})
+    failed = SimpleNamespace(status="failed", job_json='{"status": "failed"}', wall_seconds=5.0)
+    monkeypatch.setattr(validate, "_stored", lambda group, work, keys: ({"k1": failed}, None))
+    records = tmp_path / "records"
+    assert archive_jobs(records, {"k1": ArchivedJob({"status": "ok"}, 60.0, None, "abc1234")}) == 1
+    found, _, archived = validate._read_group(None, tmp_path, records)
+    assert found[pair] == ({"status": "ok"}, 60.0) and archived == {pair: "abc1234"}
+    # without an archived record the failed row stands (its case counts as not computed)
+    assert validate._read_group(None, tmp_path, tmp_path / "none")[0][pair][0] == {"status": "failed"}

@@ -199,8 +199,9 @@ def _read_group(group: BatchGroup, work: Path, records: Path | None = None
     rows, provenance = _stored(group, work, keys)
     found = {keys[key]: (json.loads(row.job_json), row.wall_seconds) for key, row in rows.items()}
     archived: dict[tuple[str, str], str] = {}
-    if records is not None:
-        for key, job in read_archived(records, set(keys) - set(rows)).items():
+    if records is not None:  # an archived job (finished ok elsewhere) counts over a failed row of this folder
+        failed_here = {key for key, row in rows.items() if row.status != "ok"}
+        for key, job in read_archived(records, set(keys) - set(rows) | failed_here).items():
             found[keys[key]] = (job.job, job.wall_seconds)
             provenance = provenance or job.provenance
             archived[keys[key]] = job.commit
