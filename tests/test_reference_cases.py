@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import importlib.util
 import sys
+import time
 import warnings
 from collections import Counter
 from pathlib import Path
@@ -350,3 +351,31 @@ def test_an_archived_ok_job_counts_over_a_failed_row_of_the_work_folder(validate
     assert found[pair] == ({"status": "ok"}, 60.0) and archived == {pair: "abc1234"}
     # without an archived record the failed row stands (its case counts as not computed)
     assert validate._read_group(None, tmp_path, tmp_path / "none")[0][pair][0] == {"status": "failed"}
+
+
+def test_the_groups_run_as_many_at_once_as_there_are_workers_one_worker_each(validate, tmp_path, monkeypatch):
+    """Most groups hold one to four jobs: two workers run two groups at once (one worker each), the largest first,
+    so no worker idles while another group's last job runs; one worker runs them one after another."""
+    import threading
+    from types import SimpleNamespace
+
+    calls, running, peak, lock = [], [0], [0], threading.Lock()
+
+    def run(group, work, workers, records, commit):
+        with lock:
+            calls.append((group.name, workers))
+            running[0] += 1
+            peak[0] = max(peak[0], running[0])
+        time.sleep(0.05)
+        with lock:
+            running[0] -= 1
+
+    monkeypatch.setattr(validate, "_run_group", run)
+    groups = [SimpleNamespace(name=f"g{n}", config={"pairs": [None] * n}) for n in (1, 4, 18, 2)]
+    validate._run_groups(groups, tmp_path, 2, None, "abc")
+    assert sorted(calls) == [("g1", 1), ("g18", 1), ("g2", 1), ("g4", 1)] and peak[0] == 2
+    assert {name for name, _ in calls[:2]} == {"g18", "g4"}  # the largest groups start first
+    calls.clear()
+    peak[0] = 0
+    validate._run_groups(groups, tmp_path, 1, None, "abc")
+    assert calls == [("g18", 1), ("g4", 1), ("g2", 1), ("g1", 1)] and peak[0] == 1

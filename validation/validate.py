@@ -12,7 +12,7 @@ holds, also while another invocation still runs), ``--no-write`` (print the page
 (a few small cases, one seed, writes VALIDATION-fast.md), ``--subset calibration`` (the calibration set only,
 writes CALIBRATION.md), ``--base-model NAME`` (a candidate of ``elimscan.analysis.benchmark_models``; default the frozen
 model of validation/model-freeze.yaml; pages of another model carry its name, e.g. VALIDATION-bare.md), ``--seeds N`` (the first N seeds
-of each case), ``--workers N`` (local worker processes of each batch), ``--cases ID,ID`` (a probe of a few cases of
+of each case), ``--workers N`` (local worker processes in all: N batches at once, one worker each), ``--cases ID,ID`` (a probe of a few cases of
 the subset: the page is printed, not written), ``--records DIR`` / ``--no-records`` (the archive of finished jobs,
 default validation/records), ``--archive-only`` (archive what DIR's batches finished, also while a run goes on).
 """
@@ -27,6 +27,7 @@ import subprocess
 import sys
 import tempfile
 import time
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -44,7 +45,7 @@ from elimscan.batch.archive import ArchivedJob, archive_jobs, archived_keys, rea
 from elimscan.batch.documents import INDEX_FILE
 from elimscan.batch.plan import plan_batch
 from elimscan.batch.store import STORE_FILE, JobStore
-from elimscan.config import parse_config
+from elimscan.config import default_workers, parse_config
 from elimscan.output.benchmark_tables import RunInfo, series_rows, validation_markdown
 
 HERE = Path(__file__).resolve().parent
@@ -79,8 +80,8 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                         help="model every base with this candidate (default: %(default)s, the frozen model)")
     parser.add_argument("--seeds", type=int, default=None, metavar="N",
                         help="run the first N seeds of each case (default: all of a case's seeds; fast: 1)")
-    parser.add_argument("--workers", type=int, default=None, help="local worker processes of each batch "
-                        "(default: the batch config's executor.workers, else the core count)")
+    parser.add_argument("--workers", type=int, default=None, help="local worker processes in all: that many "
+                        "batches at once, one worker each, the largest first (default: the core count)")
     parser.add_argument("--records", type=Path, default=RECORDS,
                         help="archive of finished jobs by key, read and added to (default: validation/records)")
     parser.add_argument("--no-records", action="store_true",
@@ -143,6 +144,21 @@ def _run_group(group: BatchGroup, work: Path, workers: int | None, records: Path
         print(f"batch {group.name} stopped with exit code {done.returncode}: {' / '.join(tail)}", file=sys.stderr)
     if records is not None:
         _archive_group(group, work, records, commit, keys)
+
+
+def _run_groups(groups: list[BatchGroup], work: Path, workers: int | None, records: Path | None, commit: str) -> None:
+    """Run every group's batch with ``workers`` local workers in all: that many batches at once, one worker each,
+    the groups with the most jobs first (a group is one temperature and solvent of one seed, so most hold one to
+    four jobs, and a batch of its own with two workers would leave one idle while its last job runs)."""
+    slots = workers if workers is not None else default_workers()
+    order = sorted(groups, key=lambda g: -len(g.config["pairs"]))  # stable: seed order among equals
+    if slots <= 1:
+        for group in order:
+            _run_group(group, work, workers, records, commit)
+        return
+    with ThreadPoolExecutor(max_workers=slots) as pool:
+        for done in [pool.submit(_run_group, group, work, 1, records, commit) for group in order]:
+            done.result()
 
 
 def _stored(group: BatchGroup, work: Path, keys: dict[str, tuple[str, str]]) -> tuple[dict, dict | None]:
@@ -370,8 +386,7 @@ def main(argv: list[str] | None = None) -> int:
             running.write_text(json.dumps({"commit": commit, "base_model": args.base_model, "dft": args.dft,
                                            "pid": os.getpid()}))
             try:
-                for group in groups:
-                    _run_group(group, work, args.workers, args.records, commit)
+                _run_groups(groups, work, args.workers, args.records, commit)
             finally:  # an interrupted invocation counts its wall time too
                 running.unlink(missing_ok=True)
                 entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
