@@ -27,6 +27,7 @@ from elimscan.engines.xtb import EngineSettings, XtbEngine  # noqa: E402
 from elimscan.geometry import dihedral_deg  # noqa: E402
 from elimscan.drivers.relax import HeldDihedral, relax  # noqa: E402
 from elimscan.chem.structures import build_molecule  # noqa: E402
+from elimscan.versions import installed_version  # noqa: E402
 
 #: the memory goal of figure 5: resident MB a warm process may keep per constrained scan point (issue 19): a
 #: benchmark job of about 5,000 Sella points then keeps under 0.5 GB
@@ -78,12 +79,6 @@ def resident_mb() -> float:
     except OSError:
         return 0.0
     return pages * resource.getpagesize() / 2**20
-
-
-def scipy_version() -> str:
-    """Return the installed scipy's version (the LSODA that Sella's coordinate steps run through)."""
-    from importlib.metadata import version
-    return version("scipy")
 
 
 def memory_per_scan_point(atoms, h: int, cb: int, ca: int, x: int, warm: int = 24, measured: int = 96) -> float:
@@ -142,7 +137,7 @@ def main() -> int:
     cb, ca, x = 3, 1, 2  # 2-chlorobutane's C-beta, C-alpha and Cl, as in figure 2
     h = next(i for i in range(len(atoms)) if atoms.numbers[i] == 1 and atoms.get_distance(i, cb) < 1.2)
     per_point = memory_per_scan_point(atoms, h, cb, ca, x)
-    print(f"\n5. memory kept per constrained Sella scan point (scipy {scipy_version()}; 96 points after 24 warm)")
+    print(f"\n5. memory kept per constrained Sella scan point (scipy {installed_version('scipy')}; 96 points after 24 warm)")
     print(f"{per_point:.3f} MB per point (goal <= {MEMORY_GOAL_MB} MB: {'met' if per_point <= MEMORY_GOAL_MB else 'MISSED'})")
     return 0
 

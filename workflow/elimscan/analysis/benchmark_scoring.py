@@ -98,15 +98,13 @@ def e2_paths(job: Mapping, level: str) -> tuple[list[PathBarrier], list[str]]:
     return paths, left_out
 
 
-def missing_products(job: Mapping, level: str) -> tuple[str, ...]:
-    """Return one note per product that a computed path leads to but that has no counted barrier at ``level``.
+def missing_products(job: Mapping, counted: set[str]) -> tuple[str, ...]:
+    """Return one note per product that a computed path leads to but that is not among the ``counted`` products
+    (those with a barrier at the level, 'substitution' included).
 
     A path the tool's rule leaves out (it does not reach its products) is no barrier and lacks nothing; a failed
     path, or a path without this level's barrier (a saddle not verified, at dG), does: the product's share would
     otherwise be read as zero."""
-    counted = {p.product_smiles for p in e2_paths(job, level)[0]}
-    if sn2_path(job, level) is not None:
-        counted.add(SUBSTITUTION)
     blocks = [(isomer_key(b[a]["product_smiles"]) if b[a].get("product_smiles") else None, b[a])
               for b in job.get("beta_hydrogens") or () for a in ("anti", "syn")]
     if job.get("substitution"):
@@ -175,7 +173,7 @@ def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None
     return LevelMix(shares=shares, alkene_shares=product_fractions(paths, temperature_K),
                     e2_fraction=None if sn2 is None else 1.0 - shares[SUBSTITUTION], major=verdict.computed_major,
                     undecided=verdict.within_method_uncertainty, main_approach=main.approach,
-                    left_out=tuple(left_out), missing=missing_products(job, level),
+                    left_out=tuple(left_out), missing=missing_products(job, set(shares)),
                     syn_minus_anti_kcal_mol=None if None in best.values() else best["syn"] - best["anti"])
 
 
