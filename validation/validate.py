@@ -23,9 +23,11 @@ import argparse
 import datetime as _dt
 import json
 import os
+import socket
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
@@ -59,6 +61,11 @@ RUN_LOG = "validate-runs.jsonl"
 #: the invocation computing in a work folder now (its commit and base model), removed when it ends: --archive-only
 #: run beside it archives its finished jobs under its commit
 RUNNING_FILE = "validate-running.json"
+#: seconds between two rewrites of the running file's wall time: an invocation killed without warning (SIGKILL, a
+#: machine that does not outlive the night) is logged by the next invocation with the time of its last rewrite
+HEARTBEAT_S = 60.0
+#: a running file of another host not rewritten for this long (s) belongs to an invocation that no longer runs
+STALE_AFTER_S = 10 * HEARTBEAT_S
 #: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
 FREEZE_FILE = HERE / "model-freeze.yaml"
 #: finished jobs kept by key beside the code (elimscan.batch.archive): a machine that does not outlive a night
@@ -181,6 +188,106 @@ def _archive_group(group: BatchGroup, work: Path, records: Path, commit: str, ke
         print(f"batch {group.name}: {written} finished job(s) archived in {records}", file=sys.stderr, flush=True)
 
 
+def read_run_log(work: Path) -> list[dict]:
+    """Return the run-log entries of a work folder (one per invocation that computed there, oldest first)."""
+    log_file = work / RUN_LOG
+    return [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
+
+
+def _append_run(work: Path, entry: dict) -> None:
+    """Append one invocation's entry to the work folder's run log."""
+    with open(work / RUN_LOG, "a") as log:
+        log.write(json.dumps(entry) + "\n")
+
+
+def _now_utc() -> str:
+    """Return the time now in UTC, ISO 8601 to the second."""
+    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+
+
+def _process_identity(pid: int) -> str | None:
+    """Return what tells a process apart from a later one with the same pid (this boot's id and the process's
+    start time in clock ticks), None where /proc cannot say."""
+    try:
+        boot = Path("/proc/sys/kernel/random/boot_id").read_text().strip()
+        stat = Path(f"/proc/{pid}/stat").read_text()
+    except OSError:
+        return None
+    return f"{boot}:{stat.rsplit(')', 1)[1].split()[19]}"  # field 22, counted after the command name
+
+
+def _is_stale(entry: dict) -> bool:
+    """Return whether a running file's invocation has stopped. On this host: its process is gone, or its pid now
+    belongs to another process (a restart); a paused process (SIGSTOP) still runs. On another host: the file was
+    not rewritten for STALE_AFTER_S (files of older code, without a rewrite time, never go stale there)."""
+    pid = entry.get("pid")
+    if entry.get("host", socket.gethostname()) == socket.gethostname() and isinstance(pid, int):
+        try:
+            os.kill(pid, 0)
+        except ProcessLookupError:
+            return True
+        except PermissionError:
+            pass  # alive, someone else's
+        return entry.get("process") is not None and entry["process"] != _process_identity(pid)
+    updated = entry.get("updated_utc")
+    return updated is not None and (_dt.datetime.now(_dt.timezone.utc)
+                                    - _dt.datetime.fromisoformat(updated)).total_seconds() > STALE_AFTER_S
+
+
+def settle_stale_run(work: Path) -> bool:
+    """Log the running file of an invocation that was killed (marked interrupted, its wall time that of its last
+    rewrite, 0 s for files of older code) and remove it; return whether there was one."""
+    running = work / RUNNING_FILE
+    try:
+        entry = json.loads(running.read_text())
+    except (FileNotFoundError, json.JSONDecodeError):
+        return False
+    if not _is_stale(entry):
+        return False
+    claimed = running.with_name(f"{RUNNING_FILE}.{os.getpid()}.settling")
+    try:
+        os.replace(running, claimed)  # one settler wins when two invocations start together
+    except FileNotFoundError:
+        return False
+    logged = {key: value for key, value in entry.items() if key not in ("pid", "process", "host", "updated_utc")}
+    _append_run(work, {**logged, "wall_seconds": float(entry.get("wall_seconds", 0.0)), "interrupted": True,
+                       "last_seen_utc": entry.get("updated_utc")})
+    claimed.unlink(missing_ok=True)
+    return True
+
+
+class RunClock:
+    """The running file of a computing invocation: written at the start, its wall time (s) rewritten every
+    HEARTBEAT_S seconds, and turned into a run-log entry when the invocation ends (also by an exception)."""
+
+    def __init__(self, work: Path, entry: dict, started: float):
+        self.work, self.entry, self.started = work, entry, started
+        self._stop = threading.Event()
+        self._beat = threading.Thread(target=self._beating, name="validate-heartbeat", daemon=True)
+
+    def _write(self) -> None:
+        """Rewrite the running file with the wall time so far."""
+        write_text_atomic(self.work / RUNNING_FILE, json.dumps(
+            {**self.entry, "pid": os.getpid(), "process": _process_identity(os.getpid()),
+             "host": socket.gethostname(), "updated_utc": _now_utc(),
+             "wall_seconds": round(time.perf_counter() - self.started, 1)}))
+
+    def _beating(self) -> None:
+        while not self._stop.wait(HEARTBEAT_S):
+            self._write()
+
+    def __enter__(self) -> RunClock:
+        self._write()
+        self._beat.start()
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self._stop.set()
+        self._beat.join()
+        (self.work / RUNNING_FILE).unlink(missing_ok=True)
+        _append_run(self.work, {**self.entry, "wall_seconds": round(time.perf_counter() - self.started, 1)})
+
+
 def _runs_of(runs: list[dict], base_model: str, dft_functional: str | None) -> list[dict]:
     """Return the run-log entries of one base model and DFT level (entries written before either was logged count
     as the bare anion's, and as GFN2-xTB only)."""
@@ -192,8 +299,9 @@ def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_mode
     """Archive the jobs that finished ok in a work folder's batches, under the commit of the invocation computing
     there now, else of the last one that computed there with this base model (its run log); return the exit code (2
     when the folder holds no batch)."""
-    log_file, running = work / RUN_LOG, work / RUNNING_FILE
-    runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
+    settle_stale_run(work)
+    running = work / RUNNING_FILE
+    runs = read_run_log(work)
     if running.is_file():
         runs.append(json.loads(running.read_text()))
     commits = [r["commit"] for r in _runs_of(runs, base_model, dft_functional)]
@@ -364,7 +472,7 @@ def _commit() -> str:
 def main(argv: list[str] | None = None) -> int:
     """Run the benchmark's batches, score them and write the page; return the exit code."""
     started, commit = time.perf_counter(), _commit()  # the code that runs is the code at the start
-    started_utc = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+    started_utc = _now_utc()
     args = _parse(argv)
     cases = parse_cases((HERE / "cases.yaml").read_text())
     try:
@@ -381,22 +489,13 @@ def main(argv: list[str] | None = None) -> int:
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
+        settle_stale_run(work)
         if not args.no_compute:
-            running = work / RUNNING_FILE
-            running.write_text(json.dumps({"commit": commit, "base_model": args.base_model, "dft": args.dft,
-                                           "pid": os.getpid()}))
-            try:
+            entry = {"started_utc": started_utc, "commit": commit, "subset": args.subset, "seeds": seed_count,
+                     "base_model": args.base_model, "dft": args.dft}
+            with RunClock(work, entry, started):  # an interrupted invocation counts its wall time too
                 _run_groups(groups, work, args.workers, args.records, commit)
-            finally:  # an interrupted invocation counts its wall time too
-                running.unlink(missing_ok=True)
-                entry = {"started_utc": started_utc, "wall_seconds": round(time.perf_counter() - started, 1),
-                         "commit": commit, "subset": args.subset, "seeds": seed_count, "base_model": args.base_model,
-                         "dft": args.dft}
-                with open(work / RUN_LOG, "a") as log:
-                    log.write(json.dumps(entry) + "\n")
-        log_file = work / RUN_LOG
-        runs = [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
-        runs = _runs_of(runs, args.base_model, args.dft)
+        runs = _runs_of(read_run_log(work), args.base_model, args.dft)
         found = _collect(groups, work, args.records)
         levels = computed_levels(found.jobs()) or ["dE"]
         scores, calibration = _score(chosen, found, seed_count, levels)
@@ -409,6 +508,7 @@ def main(argv: list[str] | None = None) -> int:
     info = RunInfo(date_utc=_dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"), commit=commit,
                    wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, method=method,
                    compute_seconds=sum(r["wall_seconds"] for r in runs), n_compute_runs=len(runs),
+                   n_interrupted_runs=sum(1 for r in runs if r.get("interrupted")),
                    seeds=tuple(all_seeds), subset={"all": "all cases", "calibration": "the calibration set only"}.get(
                        args.subset, f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)"),
                    base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],

@@ -48,6 +48,9 @@ def test_the_page_names_the_run_and_gives_every_part():
     assert "(code: commit `607da3f`, `abc1234`)" in validation_markdown(
         replace(INFO, compute_commits=("abc1234", "607da3f", "abc1234")), scores(), [], ["dE"])
     assert "the 1 job(s) left would take about 24 min of job time at the finished jobs' mean of 24 min" in page
+    killed = validation_markdown(replace(INFO, n_interrupted_runs=1), scores(), [], ["dE"])
+    assert ("over the 2 invocation(s) that computed in this work folder (1 stopped before their end, counted up to "
+            "their last logged minute)") in killed and "stopped before" not in page
     assert "- **GFN2-xTB dE**: computed right 1/3 (on the rule's basis 1/3), rule right 2/3, undecided 1/3" in page
     assert "| GFN2-xTB dE | 1/3 | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column
     assert "| ez-ratio | GFN2-xTB dE | 0/1 | 0/1 | 0/1 | 1/1 | 0/1 |" in page

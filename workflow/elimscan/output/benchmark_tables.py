@@ -40,6 +40,8 @@ class RunInfo:
     #: summed wall time (s) of the invocations that computed in this work folder, and how many there were
     compute_seconds: float = 0.0
     n_compute_runs: int = 0
+    #: of those, the invocations stopped before their end (killed: their time up to their last logged minute)
+    n_interrupted_runs: int = 0
     #: the benchmark candidate every base was modelled with (analysis/benchmark_models.py) and what it is
     base_model: str = "bare"
     base_model_words: str = "the free alkoxide in the continuum"
@@ -291,7 +293,8 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
-             f"in this work folder" + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
+             f"in this work folder" + (f" ({info.n_interrupted_runs} stopped before their end, counted up to their last "
+                                       "logged minute)" if info.n_interrupted_runs else "") + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
                                       if info.compute_commits else "")
              + f" (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
              f"{_duration(info.job_seconds)} summed over jobs" + _remaining(info),
