@@ -13,6 +13,7 @@ import sys
 import time
 import warnings
 from collections import Counter
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
@@ -431,3 +432,35 @@ def test_a_killed_invocation_keeps_its_wall_time_up_to_its_last_heartbeat(tmp_pa
     fresh = validate._now_utc()
     assert not validate._is_stale({"pid": 1, "host": "elsewhere", "updated_utc": fresh})
     assert validate._is_stale({"pid": 1, "host": "elsewhere", "updated_utc": "2020-01-01T00:00:00+00:00"})
+
+
+def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, validate, monkeypatch):
+    """The counts the report prints under a job's verdict come from the page's own scores, and writing the fast
+    page keeps the full page's entry (which the report quotes first)."""
+    import json
+
+    from elimscan.analysis.benchmark_record import chosen_page
+    from elimscan.analysis.benchmark_scoring import headline, score_case
+    from elimscan.output.benchmark_tables import RunInfo
+
+    from benchmarkrecords import case, record  # bookkeeping job records (tests/support), not chemistry
+
+    monkeypatch.setattr(validate, "RECORD_FILE", tmp_path / "data" / "benchmark_record.json")
+    job = {**record([("C3-H9", "anti", "C/C=C/C", 0.0, 1), ("C0-H5", "anti", "C=CCC", 2.0, 3)]),
+           "base_info": {"model": "2 x CCO hydrogen-bonded + 1 x CCO in the second shell"}}
+    scores = [score_case(case(major="C/C=C/C", seeds=(1,), category=("open-chain-regio", "ez-ratio")), {1: job},
+                         (1,), ["dE"])]
+    found = validate.Collected(records={"slot": {1: job}}, n_jobs=1, n_finished=1)
+    info = RunInfo(date_utc="2026-12-05 10:00 UTC", commit="abc1234", wall_seconds=1.0, job_seconds=1.0,
+                   method="GFN2-xTB", seeds=(1,), subset="all cases", command="validate.py", n_jobs=1,
+                   n_jobs_finished=1, base_model="alcohol-3-embedded", frozen_model="alcohol-3-embedded")
+    validate._write_record("VALIDATION.md", info, scores, ["dE"], found)
+    validate._write_record("VALIDATION-fast.md", replace(info, commit="def5678"), scores, ["dE"], found)
+    written = json.loads(validate.RECORD_FILE.read_text())
+    entry = chosen_page(written)
+    assert set(written["pages"]) == {"VALIDATION.md", "VALIDATION-fast.md"} and entry["commit"] == "abc1234"
+    assert entry["job_base_models"] == ["2 x CCO hydrogen-bonded + 1 x CCO in the second shell"]
+    h = headline(scores, "dE", "ez-ratio")
+    assert entry["levels"]["dE"]["ez-ratio"] == {
+        "cases": h.n, "right": h.right, "undecided": h.undecided, "not_computed": h.not_computed,
+        "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed}

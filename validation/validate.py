@@ -40,6 +40,7 @@ from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
 from elimscan.analysis.benchmark_jobs import (DFT_CALIBRATION_FUNCTIONALS, BatchGroup, batch_groups, benchmark_jobs,
                                               seeds_for)
 from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, UNNAMED_BASE_MODEL
+from elimscan.analysis.benchmark_record import merged_record, page_record
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
@@ -68,6 +69,8 @@ HEARTBEAT_S = 60.0
 STALE_AFTER_S = 10 * HEARTBEAT_S
 #: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
 FREEZE_FILE = HERE / "model-freeze.yaml"
+#: the frozen model's counts per level and category, quoted by the report beside each job's verdict (package data)
+RECORD_FILE = HERE.parent / "workflow" / "elimscan" / "data" / "benchmark_record.json"
 #: finished jobs kept by key beside the code (elimscan.batch.archive): a machine that does not outlive a night
 #: still adds to the benchmark, and a job archived here is never computed again
 RECORDS = HERE / "records"
@@ -406,6 +409,20 @@ def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespa
     return summaries
 
 
+def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], found: Collected) -> None:
+    """Write the frozen model's counts per level and category of this page into the package's benchmark record,
+    which the report quotes beside each job's verdict (the other page's entry kept)."""
+    models = sorted({job["base_info"]["model"] for job in found.jobs() if (job.get("base_info") or {}).get("model")})
+    entry = page_record(scores, levels, {
+        "page": f"validation/{page}", "date_utc": info.date_utc, "commit": info.commit, "base_model": info.base_model,
+        "base_model_words": info.base_model_words, "job_base_models": models, "seeds": list(info.seeds),
+        "jobs": info.n_jobs, "jobs_finished": info.n_jobs_finished, "method": info.method})
+    existing = json.loads(RECORD_FILE.read_text()) if RECORD_FILE.is_file() else None
+    RECORD_FILE.parent.mkdir(parents=True, exist_ok=True)
+    write_text_atomic(RECORD_FILE, json.dumps(merged_record(existing, page, entry), indent=1, sort_keys=True) + "\n")
+    print(f"wrote {RECORD_FILE}", file=sys.stderr)
+
+
 def page_path(subset: str, base_model: str, dft_functional: str | None = None) -> Path:
     """Return the page a subset, base model and DFT level write (the frozen model's pages carry no model name; a
     DFT level's pages carry its name)."""
@@ -522,6 +539,8 @@ def main(argv: list[str] | None = None) -> int:
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
         print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)
+        if args.subset != "calibration" and args.base_model == info.frozen_model and args.dft is None:
+            _write_record(page_path(args.subset, args.base_model).name, info, scores, levels, found)
     print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
     print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))
     return 0

@@ -108,3 +108,23 @@ def test_a_source_says_from_memory_and_where_the_value_was_seen():
     assert "Original, J. Am. Chem. Soc. 1956 (from memory); value seen in: a later textbook, table 1: 19 %" in page
     plain = validation_markdown(INFO, scores(), [], ["dE"])
     assert "value seen in" not in plain and "bookkeeping fixture" in plain
+
+
+def test_the_report_record_carries_the_page_headline_counts_per_category():
+    from elimscan.analysis.benchmark_record import chosen_page, merged_record, page_record
+    from elimscan.analysis.benchmark_scoring import headline
+
+    found = scores()
+    entry = page_record(found, ["dE"], {"page": "validation/VALIDATION-fast.md", "jobs": 6, "jobs_finished": 5})
+    for category, counts in entry["levels"]["dE"].items():
+        h = headline(found, "dE", category)
+        assert (counts["cases"], counts["right"], counts["undecided"], counts["rule_right"]) == (
+            h.n, h.right, h.undecided, h.rule_right)
+    assert set(entry["levels"]["dE"]) == {c for s in found for c in s.case.category}  # categories with cases only
+    # the full page's entry is quoted before the fast one's; an unknown layout is no record
+    record = merged_record(None, "VALIDATION-fast.md", entry)
+    assert chosen_page(record)["page"] == "validation/VALIDATION-fast.md"
+    record = merged_record(record, "VALIDATION.md", {**entry, "page": "validation/VALIDATION.md"})
+    assert set(record["pages"]) == {"VALIDATION-fast.md", "VALIDATION.md"}
+    assert chosen_page(record)["page"] == "validation/VALIDATION.md"
+    assert chosen_page({"version": 99, "pages": record["pages"]}) is None and chosen_page(None) is None

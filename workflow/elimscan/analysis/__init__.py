@@ -15,5 +15,9 @@
   config's ``experiment:`` observations with ``benchmark_scoring``'s rules
 - ``benchmark_calibration``: the calibration set's errors (Eyring barriers, isotope effects, Hammett rho)
 - ``benchmark_models``: the named base-model candidates the benchmark can run with (issue 18)
+- ``benchmark_record``: the page's counts per level and category as the report quotes them (written by
+  validation/validate.py into the package's data)
+- ``choicekinds``: which benchmark categories a job's choices belong to (open-chain regiochemistry, E/Z, rings
+  with one or two anti hydrogens, E2 against SN2)
 - ``basicity``: relative pKa of base models from a balanced proton exchange (a physics check on a model)
 """

@@ -4,6 +4,8 @@ Each module imports only those above it in this list:
 
 - ``headline``: the words of a job's headline (main channel, alkene mix, the verdict in three states, what decided
   the rule), for the terminal and the report
+- ``benchmark_note``: the benchmark's record for a job's kinds of choice, in words, under the job's verdict
+  (``load_record`` reads the package's ``data/benchmark_record.json``; the CLI passes it to ``text``)
 - ``basemodelwords``: a job's base model in words (what was computed, why, its arrangements) and the sentence on
   the explicit-solvent default, for the terminal and the report
 - ``comparison``: the rows and cells of a substrate's jobs side by side (bases, solvents, base models) with the

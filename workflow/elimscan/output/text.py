@@ -5,8 +5,9 @@ from __future__ import annotations
 import unicodedata
 
 from elimscan.analysis.comparison import SubstrateComparison, compare_substrates
-from elimscan.analysis.headline import job_headline
+from elimscan.analysis.headline import UNDECIDED, job_headline
 from elimscan.chem.alkenenames import alkene_description
+from elimscan.output.benchmark_note import benchmark_note
 from elimscan.output.basemodelwords import DEFAULT_MODEL_SENTENCE, BaseModelWords, any_default_model, base_model_words
 from elimscan.output.comparison import comparison_text
 from elimscan.output.headline import headline_lines
@@ -59,15 +60,20 @@ def base_model_lines(model: BaseModelWords) -> list[str]:
             f"    why: {printable(model.reason)}"]
 
 
-def job_table(job: JobRecord, model: BaseModelWords | None = None) -> list[str]:
+def job_table(job: JobRecord, model: BaseModelWords | None = None, record: dict | None = None) -> list[str]:
     """Return the lines of one job's table: beta-H classes with penalties (kcal/mol) and rule calls.
 
     Atoms are numbered from 1; SMILES are never cut: a long one pushes its row's columns right. With ``model``
-    the base model follows the leaving group and the base.
+    the base model follows the leaving group and the base; with ``record`` (analysis.benchmark_record) the
+    benchmark's counts for the job's kinds of choice follow its verdict.
     """
     lines = [f"job {job.job_id}: {job.status}"]
     if job.status == "ok" and job.rule is not None:
-        lines.extend(headline_lines(job_headline(job)))
+        headline = job_headline(job)
+        lines.extend(headline_lines(headline))
+        note = benchmark_note(job, record, undecided=headline.state == UNDECIDED)
+        if note:
+            lines.append(f"  benchmark: {note}")
     if job.status != "ok":
         if job.error is not None:
             lines.append(f"    {job.error.error_type}: {job.error.error_message}")
@@ -137,8 +143,9 @@ def run_comparisons(result: RunResult) -> tuple[SubstrateComparison, ...]:
     return compare_substrates(result.jobs, experiments, lambda job: solvent_text(result, job))
 
 
-def summary_table(result: RunResult) -> str:
-    """Return a plain-text summary of the run: molecules (energies in hartree), then each job's table."""
+def summary_table(result: RunResult, record: dict | None = None) -> str:
+    """Return a plain-text summary of the run: molecules (energies in hartree), then each job's table (with the
+    benchmark's counts for its kinds of choice when ``record``, analysis.benchmark_record, is given)."""
     p = result.provenance
     lines = [
         f"elimscan {p.program_version} | {p.method_label}",
@@ -149,7 +156,7 @@ def summary_table(result: RunResult) -> str:
         lines.append(f"{m.role:<10}{m.name[:21]:<22}{(m.formula or '-'):<12}{m.status:<8}{energy:>16}")
     for job in result.jobs:
         lines.append("")
-        lines.extend(job_table(job, base_model_words(result, job)))
+        lines.extend(job_table(job, base_model_words(result, job), record))
     for series in result.series:
         lines.append("")
         lines.extend(series_table(series))

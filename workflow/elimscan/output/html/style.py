@@ -63,6 +63,7 @@ ol.path-notes { font-size: .82rem; color: var(--muted); margin-top: 0; }
 .headline .headline-channel, .headline .headline-mix { font-size: 1.05rem; font-weight: bold; }
 .headline .headline-gap, .headline .headline-rule, .headline .headline-left-out, .headline .headline-channel-note,
 .headline .verdict-reason { font-size: .88rem; }
+.headline .benchmark-record { font-size: .86rem; color: var(--muted); }
 td.state-agree { color: #1e6b3a; } td.state-disagree { color: #a3231b; } td.state-undecided { color: var(--muted); }
 table.compare td.score-right { color: #1e6b3a; font-weight: bold; }
 table.compare td.score-wrong { color: #a3231b; font-weight: bold; }
