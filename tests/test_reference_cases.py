@@ -434,7 +434,7 @@ def test_a_killed_invocation_keeps_its_wall_time_up_to_its_last_heartbeat(tmp_pa
     assert validate._is_stale({"pid": 1, "host": "elsewhere", "updated_utc": "2020-01-01T00:00:00+00:00"})
 
 
-def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, validate, monkeypatch):
+def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, validate, monkeypatch, cases):
     """The counts the report prints under a job's verdict come from the page's own scores, and writing the fast
     page keeps the full page's entry (which the report quotes first)."""
     import json
@@ -454,7 +454,12 @@ def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, valid
     info = RunInfo(date_utc="2026-12-05 10:00 UTC", commit="abc1234", wall_seconds=1.0, job_seconds=1.0,
                    method="GFN2-xTB", seeds=(1,), subset="all cases", command="validate.py", n_jobs=1,
                    n_jobs_finished=1, base_model="alcohol-3-embedded", frozen_model="alcohol-3-embedded")
-    validate._write_record("VALIDATION.md", info, scores, ["dE"], found)
+    from elimscan.analysis.benchmark_calibration import CalibrationScore, Estimate
+
+    rate = next(c for c in cases.calibration if c.id == "phenethyl-bromide-ethoxide-e2-rate")
+    calibration = [CalibrationScore(case=rate, quantity="dG++", unit="kcal/mol", measured=21.92, error_unit="kcal/mol",
+                                    estimates=(Estimate("E2 dG", (13.5, 14.1), 13.8, 0.6, -8.12),))]
+    validate._write_record("VALIDATION.md", info, scores, ["dE"], found, calibration)
     validate._write_record("VALIDATION-fast.md", replace(info, commit="def5678"), scores, ["dE"], found)
     written = json.loads(validate.RECORD_FILE.read_text())
     entry = chosen_page(written)
@@ -464,3 +469,10 @@ def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, valid
     assert entry["levels"]["dE"]["ez-ratio"] == {
         "cases": h.n, "right": h.right, "undecided": h.undecided, "not_computed": h.not_computed,
         "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed}
+    # each case's outcome and shares, and the calibration errors, as the page's scores hold them
+    [scored] = scores
+    kept = entry["cases"][scored.case.id]["levels"]["dE"]
+    assert kept["outcome"] == scored.levels["dE"].outcome and kept["mean_shares"] == scored.levels["dE"].mean_shares
+    assert entry["calibration"]["phenethyl-bromide-ethoxide-e2-rate"]["estimates"]["E2 dG"] == {
+        "per_seed": [13.5, 14.1], "mean": 13.8, "spread": 0.6, "error": -8.12}
+    assert written["pages"]["VALIDATION-fast.md"]["calibration"] == {}  # that page was written without one

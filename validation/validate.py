@@ -40,7 +40,7 @@ from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
 from elimscan.analysis.benchmark_jobs import (DFT_CALIBRATION_FUNCTIONALS, BatchGroup, batch_groups, benchmark_jobs,
                                               seeds_for)
 from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, UNNAMED_BASE_MODEL
-from elimscan.analysis.benchmark_record import merged_record, page_record
+from elimscan.analysis.benchmark_record import calibration_record, merged_record, page_record
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
@@ -409,14 +409,17 @@ def _compare_models(chosen: list, seed_count: int | None, args: argparse.Namespa
     return summaries
 
 
-def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], found: Collected) -> None:
-    """Write the frozen model's counts per level and category of this page into the package's benchmark record,
-    which the report quotes beside each job's verdict (the other page's entry kept)."""
+def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], found: Collected,
+                  calibration: list | None = None) -> None:
+    """Write the frozen model's numbers of this page into the package's benchmark record (the other pages' entries
+    kept): the test cases' counts per level and category, which the report quotes beside each job's verdict, their
+    outcomes, and the calibration cases' errors. The tests compare the last two with published values."""
     models = sorted({job["base_info"]["model"] for job in found.jobs() if (job.get("base_info") or {}).get("model")})
-    entry = page_record(scores, levels, {
-        "page": f"validation/{page}", "date_utc": info.date_utc, "commit": info.commit, "base_model": info.base_model,
-        "base_model_words": info.base_model_words, "job_base_models": models, "seeds": list(info.seeds),
-        "jobs": info.n_jobs, "jobs_finished": info.n_jobs_finished, "method": info.method})
+    about = {"page": f"validation/{page}", "date_utc": info.date_utc, "commit": info.commit,
+             "base_model": info.base_model, "base_model_words": info.base_model_words, "job_base_models": models,
+             "seeds": list(info.seeds), "jobs": info.n_jobs, "jobs_finished": info.n_jobs_finished,
+             "method": info.method}
+    entry = {**page_record(scores, levels, about), **calibration_record(calibration or [], about)}
     existing = json.loads(RECORD_FILE.read_text()) if RECORD_FILE.is_file() else None
     RECORD_FILE.parent.mkdir(parents=True, exist_ok=True)
     write_text_atomic(RECORD_FILE, json.dumps(merged_record(existing, page, entry), indent=1, sort_keys=True) + "\n")
@@ -539,8 +542,8 @@ def main(argv: list[str] | None = None) -> int:
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
         print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)
-        if args.subset != "calibration" and args.base_model == info.frozen_model and args.dft is None:
-            _write_record(page_path(args.subset, args.base_model).name, info, scores, levels, found)
+        if args.base_model == info.frozen_model and args.dft is None:
+            _write_record(page_path(args.subset, args.base_model).name, info, scores, levels, found, calibration)
     print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
     print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))
     return 0

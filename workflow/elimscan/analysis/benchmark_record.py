@@ -1,14 +1,17 @@
-"""The benchmark's counts per level and category, in the form the report reads beside a job's verdict.
+"""The frozen model's benchmark numbers in machine-readable form: counts per level and category, each test case's
+outcome and shares, and the calibration set's errors.
 
 validation/validate.py writes this record (package data, ``elimscan/data/benchmark_record.json``) with each page of
 the frozen model, from the same scores as the page; the report reads the counts of the categories a job's choices
-belong to (analysis.choicekinds). Pure: builds and reads plain dicts; the files are written and read elsewhere.
+belong to (analysis.choicekinds), and the tests compare the case and calibration numbers with published values.
+Pure: builds and reads plain dicts; the files are written and read elsewhere.
 """
 
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 
+from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES
 from elimscan.analysis.benchmark_scoring import CaseScore, headline
 
@@ -16,11 +19,26 @@ from elimscan.analysis.benchmark_scoring import CaseScore, headline
 RECORD_VERSION = 1
 #: the pages whose record the report reads, the full benchmark's first
 RECORD_PAGES = ("VALIDATION.md", "VALIDATION-fast.md")
+#: the calibration page's entry (rates, isotope effects, Hammett rho of the frozen model, all seeds; read by the
+#: tests that compare them with the published values)
+CALIBRATION_PAGE = "CALIBRATION.md"
+
+
+def _case_entry(score: CaseScore) -> dict:
+    """Return one test case's outcome per level: majority outcome (and on the rule's basis), each seed's, the mean
+    shares of all products and of the published alkenes (0-1), the mean E2 share and the spread (points)."""
+    levels = {level: {"outcome": ls.outcome, "outcome_major_only": ls.outcome_major_only,
+                      "seed_outcomes": [s.outcome for s in ls.seeds], "mean_shares": ls.mean_shares,
+                      "mean_alkene_shares": ls.mean_alkene_shares, "mean_e2_fraction": ls.mean_e2_fraction,
+                      "spread_points": ls.spread_points}
+              for level, ls in score.levels.items()}
+    return {"rule_outcome": score.rule_outcome, "levels": levels}
 
 
 def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mapping[str, object]) -> dict:
-    """Return one page's record: ``about`` (page, date, commit, base model, job base models, seeds, jobs) and, per
-    level and category with cases, the headline counts (cases, right, undecided, not computed; the rule's)."""
+    """Return one page's record: ``about`` (page, date, commit, base model, job base models, seeds, jobs); per
+    level and category with cases, the headline counts (cases, right, undecided, not computed; the rule's); and
+    per test case its outcome and mean shares at each level."""
     counts: dict[str, dict[str, dict[str, int]]] = {}
     for level in levels:
         for category in CATEGORIES:
@@ -29,7 +47,19 @@ def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mappi
                 counts.setdefault(level, {})[category] = {
                     "cases": h.n, "right": h.right, "undecided": h.undecided, "not_computed": h.not_computed,
                     "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed}
-    return {**about, "levels": counts}
+    return {**about, "levels": counts, "cases": {score.case.id: _case_entry(score) for score in scores}}
+
+
+def calibration_record(calibration: Sequence[CalibrationScore], about: Mapping[str, object]) -> dict:
+    """Return a page's calibration record: ``about`` and, per calibration case, what was measured (quantity,
+    unit, value, temperature in K) and each estimate's per-seed values, mean, spread and error (unit of the case:
+    kcal/mol for rates and rho, percent of the measured value for isotope effects)."""
+    cases = {score.case.id: {
+        "quantity": score.quantity, "unit": score.unit, "measured": score.measured,
+        "temperature_K": score.case.temperature_K, "error_unit": score.error_unit,
+        "estimates": {e.label: {"per_seed": list(e.per_seed), "mean": e.mean, "spread": e.spread, "error": e.error}
+                      for e in score.estimates}} for score in calibration}
+    return {**about, "calibration": cases}
 
 
 def merged_record(existing: Mapping | None, page: str, entry: Mapping) -> dict:
