@@ -20,14 +20,13 @@ default validation/records), ``--archive-only`` (archive what DIR's batches fini
 from __future__ import annotations
 
 import argparse
+import contextlib
 import datetime as _dt
 import json
 import os
-import socket
 import subprocess
 import sys
 import tempfile
-import threading
 import time
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
@@ -44,11 +43,13 @@ from elimscan.analysis.benchmark_record import calibration_record, merged_record
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
+from elimscan.batch import runclock
 from elimscan.batch.archive import ArchivedJob, archive_jobs, archived_keys, read_archived
 from elimscan.batch.documents import INDEX_FILE
 from elimscan.batch.plan import plan_batch
 from elimscan.batch.store import STORE_FILE, JobStore
 from elimscan.config import default_workers, parse_config
+from elimscan.errors import OutputError
 from elimscan.output.benchmark_tables import RunInfo, series_rows, validation_markdown
 
 HERE = Path(__file__).resolve().parent
@@ -62,11 +63,8 @@ RUN_LOG = "validate-runs.jsonl"
 #: the invocation computing in a work folder now (its commit and base model), removed when it ends: --archive-only
 #: run beside it archives its finished jobs under its commit
 RUNNING_FILE = "validate-running.json"
-#: seconds between two rewrites of the running file's wall time: an invocation killed without warning (SIGKILL, a
-#: machine that does not outlive the night) is logged by the next invocation with the time of its last rewrite
-HEARTBEAT_S = 60.0
-#: a running file of another host not rewritten for this long (s) belongs to an invocation that no longer runs
-STALE_AFTER_S = 10 * HEARTBEAT_S
+#: held (fcntl.flock) by the invocation computing in a work folder: the OS drops it when the process dies
+RUN_LOCK = "validate-running.lock"
 #: the frozen base model: the last commit that changed its ``base_model:`` line is the freeze commit
 FREEZE_FILE = HERE / "model-freeze.yaml"
 #: the frozen model's counts per level and category, quoted by the report beside each job's verdict (package data)
@@ -97,7 +95,7 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
     parser.add_argument("--no-records", action="store_true",
                         help="neither read nor add to the archive: compute everything in --work")
     parser.add_argument("--archive-only", action="store_true",
-                        help="compute and write nothing: add the jobs that finished ok in --work's batches to the "
+                        help="compute nothing and write no page: add the jobs that finished ok in --work's batches to the "
                         "archive (for a session that must end while a batch is still running)")
     parser.add_argument("--cases", default=None, metavar="ID,ID",
                         help="only these cases of the subset (a probe: the page is printed, never written)")
@@ -193,102 +191,18 @@ def _archive_group(group: BatchGroup, work: Path, records: Path, commit: str, ke
 
 def read_run_log(work: Path) -> list[dict]:
     """Return the run-log entries of a work folder (one per invocation that computed there, oldest first)."""
-    log_file = work / RUN_LOG
-    return [json.loads(line) for line in log_file.read_text().splitlines()] if log_file.is_file() else []
-
-
-def _append_run(work: Path, entry: dict) -> None:
-    """Append one invocation's entry to the work folder's run log."""
-    with open(work / RUN_LOG, "a") as log:
-        log.write(json.dumps(entry) + "\n")
-
-
-def _now_utc() -> str:
-    """Return the time now in UTC, ISO 8601 to the second."""
-    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
-
-
-def _process_identity(pid: int) -> str | None:
-    """Return what tells a process apart from a later one with the same pid (this boot's id and the process's
-    start time in clock ticks), None where /proc cannot say."""
-    try:
-        boot = Path("/proc/sys/kernel/random/boot_id").read_text().strip()
-        stat = Path(f"/proc/{pid}/stat").read_text()
-    except OSError:
-        return None
-    return f"{boot}:{stat.rsplit(')', 1)[1].split()[19]}"  # field 22, counted after the command name
-
-
-def _is_stale(entry: dict) -> bool:
-    """Return whether a running file's invocation has stopped. On this host: its process is gone, or its pid now
-    belongs to another process (a restart); a paused process (SIGSTOP) still runs. On another host: the file was
-    not rewritten for STALE_AFTER_S (files of older code, without a rewrite time, never go stale there)."""
-    pid = entry.get("pid")
-    if entry.get("host", socket.gethostname()) == socket.gethostname() and isinstance(pid, int):
-        try:
-            os.kill(pid, 0)
-        except ProcessLookupError:
-            return True
-        except PermissionError:
-            pass  # alive, someone else's
-        return entry.get("process") is not None and entry["process"] != _process_identity(pid)
-    updated = entry.get("updated_utc")
-    return updated is not None and (_dt.datetime.now(_dt.timezone.utc)
-                                    - _dt.datetime.fromisoformat(updated)).total_seconds() > STALE_AFTER_S
+    return runclock.read_run_log(work / RUN_LOG)
 
 
 def settle_stale_run(work: Path) -> bool:
-    """Log the running file of an invocation that was killed (marked interrupted, its wall time that of its last
-    rewrite, 0 s for files of older code) and remove it; return whether there was one."""
-    running = work / RUNNING_FILE
-    try:
-        entry = json.loads(running.read_text())
-    except (FileNotFoundError, json.JSONDecodeError):
-        return False
-    if not _is_stale(entry):
-        return False
-    claimed = running.with_name(f"{RUNNING_FILE}.{os.getpid()}.settling")
-    try:
-        os.replace(running, claimed)  # one settler wins when two invocations start together
-    except FileNotFoundError:
-        return False
-    logged = {key: value for key, value in entry.items() if key not in ("pid", "process", "host", "updated_utc")}
-    _append_run(work, {**logged, "wall_seconds": float(entry.get("wall_seconds", 0.0)), "interrupted": True,
-                       "last_seen_utc": entry.get("updated_utc")})
-    claimed.unlink(missing_ok=True)
-    return True
+    """Log the running file of a computing invocation that was killed as interrupted and remove it; return whether
+    there was one (a running invocation, paused or not, holds the folder's lock and is left alone)."""
+    return runclock.settle_stale_run(work / RUNNING_FILE, work / RUN_LOG, work / RUN_LOCK)
 
 
-class RunClock:
-    """The running file of a computing invocation: written at the start, its wall time (s) rewritten every
-    HEARTBEAT_S seconds, and turned into a run-log entry when the invocation ends (also by an exception)."""
-
-    def __init__(self, work: Path, entry: dict, started: float):
-        self.work, self.entry, self.started = work, entry, started
-        self._stop = threading.Event()
-        self._beat = threading.Thread(target=self._beating, name="validate-heartbeat", daemon=True)
-
-    def _write(self) -> None:
-        """Rewrite the running file with the wall time so far."""
-        write_text_atomic(self.work / RUNNING_FILE, json.dumps(
-            {**self.entry, "pid": os.getpid(), "process": _process_identity(os.getpid()),
-             "host": socket.gethostname(), "updated_utc": _now_utc(),
-             "wall_seconds": round(time.perf_counter() - self.started, 1)}))
-
-    def _beating(self) -> None:
-        while not self._stop.wait(HEARTBEAT_S):
-            self._write()
-
-    def __enter__(self) -> RunClock:
-        self._write()
-        self._beat.start()
-        return self
-
-    def __exit__(self, *exc) -> None:
-        self._stop.set()
-        self._beat.join()
-        (self.work / RUNNING_FILE).unlink(missing_ok=True)
-        _append_run(self.work, {**self.entry, "wall_seconds": round(time.perf_counter() - self.started, 1)})
+def run_clock(work: Path, entry: dict, started: float) -> runclock.RunClock:
+    """Return the clock of a computing invocation in ``work`` (its lock, heartbeat and run-log entry)."""
+    return runclock.RunClock(work / RUNNING_FILE, work / RUN_LOG, work / RUN_LOCK, entry, started)
 
 
 def _runs_of(runs: list[dict], base_model: str, dft_functional: str | None) -> list[dict]:
@@ -305,8 +219,10 @@ def _archive_work(groups: list[BatchGroup], work: Path, records: Path, base_mode
     settle_stale_run(work)
     running = work / RUNNING_FILE
     runs = read_run_log(work)
-    if running.is_file():
+    try:
         runs.append(json.loads(running.read_text()))
+    except FileNotFoundError:  # none computes, or it ended just now: its entry is in the log
+        runs = read_run_log(work)
     commits = [r["commit"] for r in _runs_of(runs, base_model, dft_functional)]
     present = [g for g in groups if (work / g.name / STORE_FILE).is_file()]
     if not present:
@@ -476,7 +392,7 @@ def _freeze(run_commits: list[str]) -> dict:
 
 
 #: files this script (and basicity.py) writes into the checkout: changes to them do not make the code '-dirty'
-WRITTEN_PAGES = ":(top,exclude,glob)validation/*.md"
+WRITTEN_FILES = (":(top,exclude,glob)validation/*.md", ":(top,exclude)workflow/elimscan/data/benchmark_record.json")
 
 
 def _commit() -> str:
@@ -485,14 +401,14 @@ def _commit() -> str:
     head = _git("rev-parse", "--short", "HEAD")
     if head.returncode:
         return "unknown"
-    changed = _git("diff", "--quiet", "HEAD", "--", ":/", WRITTEN_PAGES).returncode
+    changed = _git("diff", "--quiet", "HEAD", "--", ":/", *WRITTEN_FILES).returncode
     return head.stdout.strip() + ("-dirty" if changed else "")
 
 
 def main(argv: list[str] | None = None) -> int:
     """Run the benchmark's batches, score them and write the page; return the exit code."""
     started, commit = time.perf_counter(), _commit()  # the code that runs is the code at the start
-    started_utc = _now_utc()
+    started_utc = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
     args = _parse(argv)
     cases = parse_cases((HERE / "cases.yaml").read_text())
     try:
@@ -509,11 +425,17 @@ def main(argv: list[str] | None = None) -> int:
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
-        settle_stale_run(work)
-        if not args.no_compute:
+        if args.no_compute:
+            settle_stale_run(work)
+        else:
             entry = {"started_utc": started_utc, "commit": commit, "subset": args.subset, "seeds": seed_count,
                      "base_model": args.base_model, "dft": args.dft}
-            with RunClock(work, entry, started):  # an interrupted invocation counts its wall time too
+            with contextlib.ExitStack() as stack:  # an interrupted invocation counts its wall time too
+                try:
+                    stack.enter_context(run_clock(work, entry, started))
+                except OutputError as err:  # another invocation computes in this work folder
+                    print(f"error: {err}", file=sys.stderr)
+                    return 2
                 _run_groups(groups, work, args.workers, args.records, commit)
         runs = _runs_of(read_run_log(work), args.base_model, args.dft)
         found = _collect(groups, work, args.records)
@@ -529,6 +451,7 @@ def main(argv: list[str] | None = None) -> int:
                    wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, method=method,
                    compute_seconds=sum(r["wall_seconds"] for r in runs), n_compute_runs=len(runs),
                    n_interrupted_runs=sum(1 for r in runs if r.get("interrupted")),
+                   n_time_unknown_runs=sum(1 for r in runs if r.get("time_unknown")),
                    seeds=tuple(all_seeds), subset={"all": "all cases", "calibration": "the calibration set only"}.get(
                        args.subset, f"fast subset ({len(tests)} test and {len(chosen) - len(tests)} calibration cases)"),
                    base_model=args.base_model, base_model_words=BASE_MODEL_CANDIDATES[args.base_model][1],

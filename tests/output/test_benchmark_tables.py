@@ -42,15 +42,16 @@ def test_the_headline_counts_right_rule_and_undecided_apart():
 
 def test_the_page_names_the_run_and_gives_every_part():
     page = validation_markdown(INFO, scores(), [], ["dE"])
-    assert "2026-12-03 12:00 UTC, commit `abc1234`" in page and "wall time: 2 h 30 min over the 2 invocation(s) that computed in this work folder (this one: 1 h 30 min)" in page
+    assert "2026-12-03 12:00 UTC, commit `abc1234`" in page and "wall time: 2 h 30 min over the 2 invocation(s) that computed in this work folder, pauses left out (this one: 1 h 30 min)" in page
     assert "5 of 6 jobs finished (**1 not finished" in page
     # 7200 s over 5 finished jobs: 24 min each, so the one left is estimated at 24 min
     assert "(code: commit `607da3f`, `abc1234`)" in validation_markdown(
         replace(INFO, compute_commits=("abc1234", "607da3f", "abc1234")), scores(), [], ["dE"])
     assert "the 1 job(s) left would take about 24 min of job time at the finished jobs' mean of 24 min" in page
-    killed = validation_markdown(replace(INFO, n_interrupted_runs=1), scores(), [], ["dE"])
-    assert ("over the 2 invocation(s) that computed in this work folder (1 stopped before their end, counted up to "
-            "their last logged minute)") in killed and "stopped before" not in page
+    killed = validation_markdown(replace(INFO, n_interrupted_runs=2, n_time_unknown_runs=1), scores(), [], ["dE"])
+    assert ("over the 2 invocation(s) that computed in this work folder, pauses left out (2 of them stopped before "
+            "the end, counted up to their last logged minute; 1 of them, of older code, logged no time and count as "
+            "0)") in killed and "stopped before" not in page
     assert "- **GFN2-xTB dE**: computed right 1/3 (on the rule's basis 1/3), rule right 2/3, undecided 1/3" in page
     assert "| GFN2-xTB dE | 1/3 | 1/3 | 2/3 | 1/3 | 0/3 |" in page  # undecided in its own column
     assert "| ez-ratio | GFN2-xTB dE | 0/1 | 0/1 | 0/1 | 1/1 | 0/1 |" in page

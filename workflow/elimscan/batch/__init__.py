@@ -4,6 +4,8 @@
 - ``plan``: ``plan_batch``: every job of a config with its key, id, single-job config and input error
 - ``lock``: the folder lock (one batch or run per output folder), its holder, the folder's preparation (inputs it
   would overwrite)
+- ``runclock``: the wall-time log of a long computation in a work folder across kills and pauses (its lock,
+  heartbeat and run log; validation/validate.py)
 - ``jobfiles``: a finished job's files moved into its folder, written atomically, checked by checksum; its job.json
 - ``documents``: ``results.json`` and ``batch.json`` assembled from the store's rows
 - ``status``: the read-only status of a batch folder, the time estimate, and its text

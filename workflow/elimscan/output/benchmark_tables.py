@@ -40,8 +40,10 @@ class RunInfo:
     #: summed wall time (s) of the invocations that computed in this work folder, and how many there were
     compute_seconds: float = 0.0
     n_compute_runs: int = 0
-    #: of those, the invocations stopped before their end (killed: their time up to their last logged minute)
+    #: of those, the invocations stopped before their end (killed: their time up to their last logged minute), and
+    #: of these the ones of older code that logged no time
     n_interrupted_runs: int = 0
+    n_time_unknown_runs: int = 0
     #: the benchmark candidate every base was modelled with (analysis/benchmark_models.py) and what it is
     base_model: str = "bare"
     base_model_words: str = "the free alkoxide in the continuum"
@@ -213,6 +215,15 @@ def _dft_rate_words(calibration: Sequence[CalibrationScore]) -> str:
             "of the same saddle (its free minus its electronic barrier).")
 
 
+def _stopped_words(info: RunInfo) -> str:
+    """Return the clause on invocations stopped before their end ('' when none was)."""
+    if not info.n_interrupted_runs:
+        return ""
+    unknown = (f"; {info.n_time_unknown_runs} of them, of older code, logged no time and count as 0"
+               if info.n_time_unknown_runs else "")
+    return f" ({info.n_interrupted_runs} of them stopped before the end, counted up to their last logged minute{unknown})"
+
+
 def _remaining(info: RunInfo) -> str:
     """Return the clause estimating the unfinished jobs' time from the finished jobs' mean ('' when none is left)."""
     left = info.n_jobs - info.n_jobs_finished
@@ -293,8 +304,7 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
              f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
-             f"in this work folder" + (f" ({info.n_interrupted_runs} stopped before their end, counted up to their last "
-                                       "logged minute)" if info.n_interrupted_runs else "") + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
+             f"in this work folder, pauses left out" + _stopped_words(info) + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
                                       if info.compute_commits else "")
              + f" (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
              f"{_duration(info.job_seconds)} summed over jobs" + _remaining(info),
