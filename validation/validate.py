@@ -23,7 +23,6 @@ import argparse
 import contextlib
 import datetime as _dt
 import json
-import os
 import subprocess
 import sys
 import tempfile
