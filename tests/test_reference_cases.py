@@ -431,9 +431,13 @@ def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, valid
     assert set(written["pages"]) == {"VALIDATION.md", "VALIDATION-fast.md"} and entry["commit"] == "abc1234"
     assert entry["job_base_models"] == ["2 x CCO hydrogen-bonded + 1 x CCO in the second shell"]
     h = headline(scores, "dE", "ez-ratio")
-    assert entry["levels"]["dE"]["ez-ratio"] == {
+    kept = entry["levels"]["dE"]["ez-ratio"]
+    assert {k: kept[k] for k in ("cases", "right", "undecided", "not_computed", "rule_cases", "rule_right",
+                                 "rule_not_computed", "major_right")} == {
         "cases": h.n, "right": h.right, "undecided": h.undecided, "not_computed": h.not_computed,
-        "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed}
+        "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed,
+        "major_right": h.right_major_only}
+    assert kept["major_cases"] == kept["major_computed"] == 1  # the case has a published major, computed
     # each case's outcome and shares, and the calibration errors, as the page's scores hold them
     [scored] = scores
     kept = entry["cases"][scored.case.id]["levels"]["dE"]

@@ -335,7 +335,13 @@ def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], fou
              "seeds": list(info.seeds), "jobs": info.n_jobs, "jobs_finished": info.n_jobs_finished,
              "method": info.method}
     entry = {**page_record(scores, levels, about), **calibration_record(calibration or [], about)}
-    existing = json.loads(RECORD_FILE.read_text()) if RECORD_FILE.is_file() else None
+    try:
+        existing = json.loads(RECORD_FILE.read_text())
+    except FileNotFoundError:
+        existing = None
+    except ValueError as err:  # e.g. merge markers: the other pages' entries are written again by their next run
+        print(f"warning: {RECORD_FILE} is not JSON ({err}): written anew with this page only", file=sys.stderr)
+        existing = None
     RECORD_FILE.parent.mkdir(parents=True, exist_ok=True)
     write_text_atomic(RECORD_FILE, json.dumps(merged_record(existing, page, entry), indent=1, sort_keys=True) + "\n")
     print(f"wrote {RECORD_FILE}", file=sys.stderr)
@@ -464,7 +470,7 @@ def main(argv: list[str] | None = None) -> int:
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
         print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)
-        if args.base_model == info.frozen_model and args.dft is None:
+        if args.base_model == info.frozen_model and args.dft is None and args.engine is None:  # no plug-in's toy numbers
             _write_record(page_path(args.subset, args.base_model).name, info, scores, levels, found, calibration)
     print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
     print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))

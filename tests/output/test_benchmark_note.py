@@ -58,6 +58,34 @@ def test_an_sn2_path_makes_an_e2_against_sn2_choice_and_one_alkene_no_regio_choi
     assert choice_kinds(failed) == ()
 
 
+def _with_anti(job, class_id: str, **changes):
+    """Return the job with one class's anti block changed (bookkeeping: a shape the fixtures do not hold)."""
+    betas = tuple(b.model_copy(update={"anti": b.anti.model_copy(update=changes)}) if b.class_id == class_id else b
+                  for b in job.beta_hydrogens)
+    return job.model_copy(update={"beta_hydrogens": betas})
+
+
+def test_e_and_z_from_the_anti_and_syn_path_of_one_hydrogen_is_no_e_z_choice():
+    # as in (2S,3R)-2-bromo-3-phenylbutane, whose only hydrogen on C3 gives Z anti and E syn (a stereospecific case
+    # of the benchmark, Cram, J. Am. Chem. Soc. 1952, 74, 2137): both 2-butene classes made to give E when anti
+    from reportfixture import result
+
+    job = next(j for j in result("halobutane").jobs if j.job_id == "s-2-bromobutane__ethoxide")
+    one = _with_anti(job, "C4-H11", product_smiles="C/C=C/C")
+    assert "C/C=C\\C" in {p.smiles for p in one.products}  # Z still forms (by a syn path)
+    assert choice_kinds(one) == ("open-chain-regio",)
+
+
+def test_a_ring_alkene_against_an_exocyclic_one_is_no_category():
+    # as in 1-bromo-1-methylcyclohexane (1-methylcyclohexene against methylenecyclohexane): the benchmark's ring
+    # cases compare two alkenes inside the ring
+    from reportfixture import result
+
+    job = next(j for j in result("ring").jobs if j.job_id.startswith("cis"))
+    mixed = _with_anti(job, "C2-H12", product_ring_position="exocyclic")
+    assert choice_kinds(mixed) == ()
+
+
 def test_constitution_drops_e_z_and_tetrahedral_marks():
     assert constitution("C/C=C/C") == constitution("C/C=C\\C") == "CC=CC"
     assert constitution("C[C@H]1C=CCCC1") == constitution("CC1C=CCCC1")
@@ -68,50 +96,94 @@ def test_constitution_drops_e_z_and_tetrahedral_marks():
 CLUSTER = "2 x CCO hydrogen-bonded + 1 x CCO in the second shell"
 
 
-def _record(right: int, undecided: int, not_computed: int = 0, models=(CLUSTER,)):
-    """Return a benchmark record (the layout validation/validate.py writes) with one open-chain count at dE."""
-    counts = {"cases": 8, "right": right, "undecided": undecided, "not_computed": not_computed, "rule_cases": 8,
-              "rule_right": 6, "rule_not_computed": 0}
+def _record(major_right: int, major_computed: int = 8, models=(CLUSTER,), finished: int = 111) -> dict:
+    """Return a benchmark record (the layout validation/validate.py writes) with one open-chain and one E/Z count at
+    dE: 8 cases with a published major, ``major_computed`` of them computed, ``major_right`` right."""
+    counts = {"cases": 8, "right": 1, "undecided": 2, "not_computed": 8 - major_computed, "rule_cases": 8,
+              "rule_right": 3, "rule_not_computed": 4, "major_cases": 8, "major_computed": major_computed,
+              "major_right": major_right, "major_undecided": 2}
     entry = {"page": "validation/VALIDATION.md", "date_utc": "2026-12-07 06:00 UTC", "commit": "abc1234",
              "base_model": "alcohol-3-embedded", "job_base_models": list(models), "seeds": [1, 2, 3], "jobs": 111,
-             "jobs_finished": 111 if not not_computed else 100, "levels": {"dE": {"open-chain-regio": counts}}}
+             "jobs_finished": finished, "levels": {"dE": {"open-chain-regio": counts, "ez-ratio": dict(counts)}}}
     return {"version": 1, "pages": {"VALIDATION.md": entry}}
 
 
-def test_the_note_quotes_the_benchmark_counts_of_the_job_kinds_at_its_level():
+def _bromobutane():
     from reportfixture import result
 
+    return next(j for j in result("halobutane").jobs if j.job_id == "s-2-bromobutane__ethoxide")
+
+
+def _close_call(job, runner_up: str):
+    """Return the job's headline made a close call between its computed major and ``runner_up``."""
+    from dataclasses import replace
+
+    from elimscan.analysis.headline import CLOSE_CALL, UNDECIDED, job_headline
+
+    return replace(job_headline(job), state=UNDECIDED, why_undecided=CLOSE_CALL, computed_major="C/C=C/C",
+                   runner_up=runner_up)
+
+
+def test_the_note_quotes_the_benchmark_counts_of_the_job_kinds_at_its_level():
     from elimscan.output.benchmark_note import benchmark_note
 
-    job = next(j for j in result("halobutane").jobs if j.job_id == "s-2-bromobutane__ethoxide")
-    note = benchmark_note(job, _record(right=2, undecided=4), undecided=True)
-    assert "which alkene of an open chain (regiochemistry): computed right in 2 of 8 cases, undecided in 4" in note
-    assert "the textbook rule right in 6 of 8" in note and "GFN2-xTB \u0394E\u2021" in note
-    assert "validation/VALIDATION.md of 2026-12-07 06:00 UTC, commit abc1234" in note
-    assert "the level's limit" in note  # at most half right and this job undecided
-    assert "the level's limit" not in benchmark_note(job, _record(right=2, undecided=4), undecided=False)
-    assert "the level's limit" not in benchmark_note(job, _record(right=6, undecided=1), undecided=True)
-    # the fixture's base is the bare anion (no model recorded): not the benchmark's model, and said so
-    assert "is not among the benchmark's" in note
-    assert "not among" not in benchmark_note(job, _record(2, 4, models=(job.base_info.model,)))
-    unfinished = benchmark_note(job, _record(right=1, undecided=2, not_computed=5))
-    assert "not computed in 5" in unfinished and "That run was unfinished (100 of 111 jobs)" in unfinished
-    # no record, a record of another level, or a job whose choices the record does not count: no note
+    job = _bromobutane()
+    note = benchmark_note(job, _record(major_right=2))
+    assert ("which alkene of an open chain (regiochemistry): 8 case(s) with a published major product, 8 computed; "
+            "the computed major right in 2, undecided in 2 (counted as not right); every published share within 20 "
+            "points too in 1 of 8; the textbook rule right in 3 of the 4 it was read on") in note
+    assert "E against Z from different hydrogens: 8 case(s)" in note
+    assert "GFN2-xTB \u0394E\u2021" in note
+    assert "validation/VALIDATION.md, scored 2026-12-07 06:00 UTC at commit abc1234" in note
+    assert "GFN2-xTB dE" in benchmark_note(job, _record(2), ascii_only=True)
+    # the fixture's base is recorded as none: whether the benchmark used it cannot be said
+    assert "base model is not recorded" in note
+    cluster = job.model_copy(update={"base_info": job.base_info.model_copy(update={"model": CLUSTER})}) \
+        if job.base_info is not None else None
+    if cluster is not None:
+        assert "not recorded" not in benchmark_note(cluster, _record(2)) and "not among" not in \
+            benchmark_note(cluster, _record(2))
+    unfinished = benchmark_note(job, _record(major_right=1, major_computed=3, finished=100))
+    assert "8 case(s) with a published major product, 3 computed" in unfinished
+    assert "That run was unfinished (100 of 111 jobs)" in unfinished
+    # no record, a record of another layout or level, or a job whose choices the record does not count: no note
     assert benchmark_note(job, None) is None
-    assert benchmark_note(job.model_copy(update={"energy_used": "free"}), _record(2, 4)) is None
-    ring = next(j for j in result("ring").jobs if j.job_id.startswith("trans"))
-    assert benchmark_note(ring, _record(2, 4)) is None
+    assert benchmark_note(job, {"version": 1, "pages": {"VALIDATION.md": {"levels": {"dE": {"ez-ratio": {}}}}}}) is None
+    assert benchmark_note(job.model_copy(update={"energy_used": "free"}), _record(2)) is None
+    ring = next(j for j in __import__("reportfixture").result("ring").jobs if j.job_id.startswith("trans"))
+    assert benchmark_note(ring, _record(2)) is None
+
+
+def test_the_limit_sentence_only_for_a_close_call_on_a_kind_the_level_mostly_missed():
+    from dataclasses import replace
+
+    from elimscan.analysis.headline import AGREE, ALL_FAILED, job_headline
+    from elimscan.output.benchmark_note import benchmark_note
+
+    job = _bromobutane()
+    limit = "read this job's undecided verdict as the level's limit"
+    regio, ez = _close_call(job, "C=CCC"), _close_call(job, "C/C=C\\C")
+    assert limit in benchmark_note(job, _record(major_right=4), regio)  # 4 of 8: at most half
+    assert limit in benchmark_note(job, _record(major_right=4), ez)
+    assert limit not in benchmark_note(job, _record(major_right=5), regio)  # most right
+    assert limit not in benchmark_note(job, _record(major_right=0, major_computed=2), regio)  # too few computed
+    decided = replace(job_headline(job), state=AGREE, why_undecided=None)
+    assert limit not in benchmark_note(job, _record(major_right=2), decided)
+    failed = replace(_close_call(job, "C=CCC"), why_undecided=ALL_FAILED)  # undecided, but not a close call
+    assert limit not in benchmark_note(job, _record(major_right=2), failed)
+    # a close call between E and Z is judged on the E/Z cases, one between constitutions on the regio cases
+    record = _record(major_right=2)
+    record["pages"]["VALIDATION.md"]["levels"]["dE"]["ez-ratio"]["major_right"] = 7
+    assert limit in benchmark_note(job, record, regio) and limit not in benchmark_note(job, record, ez)
 
 
 def test_the_report_shows_the_note_in_the_verdict_box():
-    from reportfixture import result
-
     from elimscan.output.html.boxes import headline_box
 
-    job = next(j for j in result("halobutane").jobs if j.job_id == "s-2-bromobutane__ethoxide")
-    html = headline_box(job, _record(right=2, undecided=4))
-    assert '<p class="benchmark-record">The reference benchmark on choices of this kind' in html
-    assert "benchmark-record" not in headline_box(job, {"version": 1, "pages": {}})
+    job = _bromobutane()
+    html = headline_box(job, _record(major_right=2))
+    assert '<p class="benchmark-record">Reference benchmark, cases asking this job' in html
+    assert "benchmark-record" not in headline_box(job) and "benchmark-record" not in headline_box(job, {})
 
 
 def test_the_terminal_summary_prints_the_note_under_the_verdict():
@@ -120,10 +192,35 @@ def test_the_terminal_summary_prints_the_note_under_the_verdict():
     from elimscan.output.text import job_table, summary_table
 
     run = result("halobutane")
-    job = next(j for j in run.jobs if j.job_id == "s-2-bromobutane__ethoxide")
-    lines = job_table(job, None, _record(right=2, undecided=4))
+    job = _bromobutane()
+    lines = job_table(job, None, _record(major_right=2))
     [note] = [line for line in lines if line.startswith("  benchmark: ")]
-    assert "computed right in 2 of 8 cases" in note
+    assert "the computed major right in 2" in note and note.isascii()
     assert lines.index(note) < next(i for i, line in enumerate(lines) if line.startswith("  leaving group"))
     assert "benchmark:" not in "\n".join(job_table(job))
-    assert summary_table(run, _record(2, 4)).count("  benchmark: ") == 2  # both 2-bromobutane jobs
+    assert summary_table(run, _record(2)).count("  benchmark: ") == 2  # both 2-bromobutane jobs
+
+
+def test_the_report_files_carry_the_installed_record_into_every_verdict(monkeypatch):
+    from reportfixture import FIXTURES
+
+    from elimscan.output import files
+
+    monkeypatch.setattr(files, "load_benchmark_record", lambda: _record(major_right=2))
+    page = files.build_report_files(FIXTURES / "halobutane")[files.HTML_FILE].decode()
+    assert page.count('<p class="benchmark-record">') == 2  # the two 2-bromobutane jobs
+    monkeypatch.setattr(files, "load_benchmark_record", lambda: None)
+    page = files.build_report_files(FIXTURES / "halobutane")[files.HTML_FILE].decode()
+    assert '<p class="benchmark-record">' not in page
+
+
+def test_an_unreadable_installed_record_is_left_out_with_a_warning(monkeypatch, tmp_path, caplog):
+    from elimscan.output import files
+
+    (tmp_path / "data").mkdir()
+    (tmp_path / "data" / files.BENCHMARK_RECORD_FILE).write_text("<<<<<<< merge\n")
+    monkeypatch.setattr(files.resources, "files", lambda package: tmp_path)
+    assert files.load_benchmark_record() is None
+    assert "cannot be read" in caplog.text
+    (tmp_path / "data" / files.BENCHMARK_RECORD_FILE).unlink()
+    assert files.load_benchmark_record() is None

@@ -129,3 +129,7 @@ def test_the_report_record_carries_the_page_headline_counts_per_category():
     assert set(record["pages"]) == {"VALIDATION-fast.md", "VALIDATION.md"}
     assert chosen_page(record)["page"] == "validation/VALIDATION.md"
     assert chosen_page({"version": 99, "pages": record["pages"]}) is None and chosen_page(None) is None
+    # a page of another (earlier frozen) model is dropped when a page of the model now frozen is written
+    old = merged_record(None, "VALIDATION.md", {**entry, "base_model": "alcohol-3"})
+    assert set(merged_record(old, "VALIDATION-fast.md", {**entry, "base_model": "alcohol-3-embedded"})["pages"]) == {
+        "VALIDATION-fast.md"}

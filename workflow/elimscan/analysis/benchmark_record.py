@@ -13,7 +13,7 @@ from collections.abc import Mapping, Sequence
 
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES
-from elimscan.analysis.benchmark_scoring import CaseScore, headline
+from elimscan.analysis.benchmark_scoring import NOT_COMPUTED, NOT_SCORED, RIGHT, UNDECIDED, CaseScore, headline
 
 #: the layout of the record; a reader meets an unknown one as no record at all
 RECORD_VERSION = 1
@@ -43,10 +43,16 @@ def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mappi
     for level in levels:
         for category in CATEGORIES:
             h = headline(scores, level, category)
-            if h.n:
-                counts.setdefault(level, {})[category] = {
-                    "cases": h.n, "right": h.right, "undecided": h.undecided, "not_computed": h.not_computed,
-                    "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed}
+            if not h.n:
+                continue
+            major = [s.levels[level].outcome_major_only for s in scores if category in s.case.category]
+            counts.setdefault(level, {})[category] = {
+                "cases": h.n, "right": h.right, "undecided": h.undecided, "not_computed": h.not_computed,
+                "rule_cases": h.rule_n, "rule_right": h.rule_right, "rule_not_computed": h.rule_not_computed,
+                # on the rule's basis (the major product and path geometry only), of the cases with a published major
+                "major_cases": sum(m != NOT_SCORED for m in major),
+                "major_computed": sum(m not in (NOT_SCORED, NOT_COMPUTED) for m in major),
+                "major_right": major.count(RIGHT), "major_undecided": major.count(UNDECIDED)}
     return {**about, "levels": counts, "cases": {score.case.id: _case_entry(score) for score in scores}}
 
 
@@ -63,8 +69,10 @@ def calibration_record(calibration: Sequence[CalibrationScore], about: Mapping[s
 
 
 def merged_record(existing: Mapping | None, page: str, entry: Mapping) -> dict:
-    """Return the whole record with one page's entry set (the other pages' entries kept; an unknown layout dropped)."""
+    """Return the whole record with one page's entry set: the other pages' entries kept when they are of the same
+    base model (a page of an earlier frozen model is dropped), an unknown layout dropped."""
     pages = dict(existing["pages"]) if existing and existing.get("version") == RECORD_VERSION else {}
+    pages = {name: kept for name, kept in pages.items() if kept.get("base_model") == entry.get("base_model")}
     pages[page] = dict(entry)
     return {"version": RECORD_VERSION, "pages": pages}
 

@@ -32,11 +32,10 @@ def cmd_status(args: argparse.Namespace) -> int:
 
 def cmd_summary(args: argparse.Namespace) -> int:
     """Print the summary table of a finished output folder; return the exit code."""
-    from elimscan.output.files import read_result
-    from elimscan.output.benchmark_note import load_record
+    from elimscan.output.files import load_benchmark_record, read_result
     from elimscan.output.text import summary_table
 
-    echo(summary_table(read_result(args.out), load_record()))
+    echo(summary_table(read_result(args.out), load_benchmark_record()))
     return ExitCode.OK
 
 

@@ -55,7 +55,7 @@ def cmd_run(args: argparse.Namespace) -> int:
 def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path) -> int:
     """Compute the run and write its files (results.json first); return the exit code."""
     from elimscan.engines.factory import make_engine
-    from elimscan.output.benchmark_note import load_record
+    from elimscan.output.files import load_benchmark_record
     from elimscan.output.text import summary_table
     from elimscan.pipeline.compute import run_steps
     from elimscan.pipeline.jobs import compute_run
@@ -87,7 +87,7 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
         problems += write_each(out, build_report_files(out))
     except OutputError as err:
         problems.append(str(err))
-    log.info("%s", summary_table(result, load_record()))
+    log.info("%s", summary_table(result, load_benchmark_record()))
     for kind, count in result.summary.trouble.items():
         log.warning("numerical trouble recorded as data: %s: %d (see results.json)", kind, count)
     for problem in problems:

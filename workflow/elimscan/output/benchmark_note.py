@@ -1,80 +1,102 @@
-"""The benchmark's record beside a job's verdict: how often this level got choices of the job's kinds right.
+"""The benchmark's record beside a job's verdict: how this level did on benchmark cases that ask the job's kinds of
+choice.
 
-Reads the record validation/validate.py writes with each page of the frozen model (``elimscan/data/
-benchmark_record.json``, analysis.benchmark_record) and says, for the categories of the job's choices
-(analysis.choicekinds) at the level that drove the job's mix, how many benchmark cases the computation got right,
-how many it left undecided, and how many the textbook rule got right. Where the computation decided at most half
-of such cases right and the job is undecided, it says that the undecided verdict is the level's limit.
+From the record validation/validate.py writes with each page of the frozen model (analysis.benchmark_record; read
+by output.files, passed in here), for the categories of the job's choices (analysis.choicekinds) at the level that
+drove the job's mix: of the cases with a published major product, in how many the computed major was right, how
+many the level left undecided, and how many the textbook rule got right; with how many whole cases (every published
+share too) were right. When the job is undecided because its best alkenes lie within the method's uncertainty and
+the level got at most half of such cases' major products right (at least MIN_CASES computed), it says that the
+undecided verdict is the level's limit. Pure rendering: no files.
 """
 
 from __future__ import annotations
 
-import functools
-import json
 from collections.abc import Mapping
-from pathlib import Path
 
 from elimscan.analysis.benchmark_record import chosen_page
-from elimscan.analysis.choicekinds import choice_kinds
+from elimscan.analysis.choicekinds import ALKENE_KINDS, choice_kinds, constitution
+from elimscan.analysis.headline import CLOSE_CALL, Headline
 from elimscan.results.records import JobRecord
 
-#: where validation/validate.py writes the record (inside the package, so an installed elimscan carries it)
-RECORD_PATH = Path(__file__).resolve().parents[1] / "data" / "benchmark_record.json"
 #: the benchmark category of a job's choice, in words
 KIND_WORDS = {"open-chain-regio": "which alkene of an open chain (regiochemistry)",
-              "ez-ratio": "E against Z",
+              "ez-ratio": "E against Z from different hydrogens",
               "ring-competing": "a ring where two hydrogens can reach anti",
               "ring-single": "a ring where only one hydrogen can reach anti",
               "e2-vs-sn2": "E2 against SN2"}
-#: the benchmark level of a job's energy_used, and its words
+#: the benchmark level of a job's energy_used, and its words (HTML, and plain ASCII for the terminal)
 LEVEL_OF_ENERGY = {"electronic": "dE", "free": "dG"}
 LEVEL_WORDS = {"dE": "GFN2-xTB \u0394E\u2021", "dG": "GFN2-xTB \u0394G\u2021 (quasi-RRHO, 1 M)"}
+LEVEL_WORDS_ASCII = {"dE": "GFN2-xTB dE", "dG": "GFN2-xTB dG (quasi-RRHO, 1 M)"}
+#: computed benchmark cases of a kind below which the note draws no conclusion from them (common practice: fewer
+#: cases say too little)
+MIN_CASES = 3
 
 
-@functools.lru_cache(maxsize=4)
-def load_record(path: Path = RECORD_PATH) -> dict | None:
-    """Return the benchmark record as written by validation/validate.py; None when it is missing or unreadable."""
-    try:
-        return json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, ValueError):
-        return None
+def _shape_ok(entry: Mapping) -> bool:
+    """Return whether a record entry holds what the note reads (a record of another layout is no record)."""
+    keys = ("cases", "major_cases", "major_computed", "major_right", "major_undecided", "right", "rule_cases",
+            "rule_right", "rule_not_computed")
+    levels = entry.get("levels")
+    return isinstance(levels, Mapping) and all(
+        isinstance(by_kind, Mapping) and all(isinstance(c, Mapping) and all(isinstance(c.get(k), int) for k in keys)
+                                             for c in by_kind.values()) for by_kind in levels.values())
 
 
-def _kind_counts(kind: str, counts: Mapping[str, int]) -> str:
+def _kind_counts(kind: str, c: Mapping[str, int]) -> str:
     """Return one category's counts in words."""
-    text = (f"{KIND_WORDS[kind]}: computed right in {counts['right']} of {counts['cases']} cases, undecided in "
-            f"{counts['undecided']} (counted as not right)")
-    if counts["not_computed"]:
-        text += f", not computed in {counts['not_computed']}"
-    if counts["rule_cases"]:
-        text += f"; the textbook rule right in {counts['rule_right']} of {counts['rule_cases']}"
+    text = (f"{KIND_WORDS[kind]}: {c['major_cases']} case(s) with a published major product, "
+            f"{c['major_computed']} computed; the computed major right in {c['major_right']}, undecided in "
+            f"{c['major_undecided']} (counted as not right)")
+    if c["cases"]:
+        text += f"; every published share within 20 points too in {c['right']} of {c['cases']}"
+    if c["rule_cases"]:
+        read = c["rule_cases"] - c["rule_not_computed"]
+        text += f"; the textbook rule right in {c['rule_right']} of the {read} it was read on"
     return text
 
 
-def benchmark_note(job: JobRecord, record: Mapping | None, undecided: bool = False) -> str | None:
-    """Return what the reference benchmark says of choices of this job's kinds at the level that drove its mix (None
-    without a record, or when the job asks no choice the benchmark scores); ``undecided``: the job's verdict is."""
+def _limit_kinds(job: JobRecord, headline: Headline | None, kinds: tuple[str, ...]) -> tuple[str, ...]:
+    """Return the alkene kinds a close call of this job is about (E/Z when its two best alkenes differ only so)."""
+    if headline is None or headline.why_undecided != CLOSE_CALL or not headline.computed_major \
+            or not headline.runner_up:
+        return ()
+    same_form = constitution(headline.computed_major) == constitution(headline.runner_up)
+    return tuple(k for k in kinds if k in ALKENE_KINDS and (k == "ez-ratio") == same_form)
+
+
+def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | None = None,
+                   ascii_only: bool = False) -> str | None:
+    """Return what the reference benchmark says of cases asking this job's kinds of choice, at the level that drove
+    its mix (None without a record, or when the record counts no case of the job's kinds); ``headline``: the job's
+    (analysis.headline), for the sentence on an undecided close call; ``ascii_only``: plain level names."""
     entry = chosen_page(record)
     level = LEVEL_OF_ENERGY.get(job.energy_used)
-    kinds = choice_kinds(job)
-    by_kind = (entry or {}).get("levels", {}).get(level, {})
-    found = [(kind, by_kind[kind]) for kind in kinds if kind in by_kind]
-    if entry is None or not found:
+    if entry is None or not _shape_ok(entry):
         return None
-    seeds = entry.get("seeds") or []
-    text = (f"The reference benchmark on choices of this kind ({LEVEL_WORDS[level]}, base model "
-            f"{entry.get('base_model')}, {len(seeds)} seed(s); {entry.get('page')} of {entry.get('date_utc')}, commit "
-            f"{entry.get('commit')}): " + "; ".join(_kind_counts(kind, counts) for kind, counts in found) + ".")
+    kinds = choice_kinds(job)
+    by_kind = entry["levels"].get(level, {})
+    found = [(kind, by_kind[kind]) for kind in kinds if kind in by_kind]
+    if not found:
+        return None
+    words = (LEVEL_WORDS_ASCII if ascii_only else LEVEL_WORDS)[level]
+    text = (f"Reference benchmark, cases asking this job's kinds of choice ({words}, base model "
+            f"{entry.get('base_model')}, {len(entry.get('seeds') or [])} seed(s), majority of seeds; "
+            f"{entry.get('page')}, scored {entry.get('date_utc')} at commit {entry.get('commit')}): "
+            + "; ".join(_kind_counts(kind, counts) for kind, counts in found) + ".")
     if entry.get("jobs_finished") is not None and entry.get("jobs_finished") != entry.get("jobs"):
         text += (f" That run was unfinished ({entry['jobs_finished']} of {entry['jobs']} jobs): its unfinished cases "
-                 "count as not computed.")
+                 "are not computed.")
     model = job.base_info.model if job.base_info is not None else None
-    if model not in (entry.get("job_base_models") or []):
-        text += (f" This job's base model ({model or 'not recorded'}) is not among the benchmark's: the counts are "
-                 "of another model of the base.")
-    decided_right = [counts["right"] * 2 <= counts["cases"] - counts["not_computed"] for _, counts in found
-                     if counts["cases"] > counts["not_computed"]]
-    if undecided and decided_right and all(decided_right):
-        text += (" The benchmark shows that this level gets at most half of such choices right: read this job's "
-                 "undecided verdict as the level's limit, not as evidence that the alkenes form in similar amounts.")
+    if model is None:
+        text += " This job's base model is not recorded: whether the benchmark used it cannot be said."
+    elif model not in (entry.get("job_base_models") or []):
+        text += (f" This job's base model ({model}) is not among the benchmark's: the counts are of another model "
+                 "of the base.")
+    limits = [counts for kind, counts in found if kind in _limit_kinds(job, headline, kinds)]
+    if limits and all(c["major_computed"] >= MIN_CASES and 2 * c["major_right"] <= c["major_computed"]
+                      for c in limits):
+        text += (" On such cases this level got at most half of the major products right: read this job's undecided "
+                 "verdict as the level's limit, not as evidence that the alkenes form in similar amounts.")
     return text

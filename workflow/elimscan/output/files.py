@@ -12,7 +12,9 @@ checks any result JSON against the JSON Schema exported by ``results/schema.py``
 from __future__ import annotations
 
 import json
+import logging
 from collections.abc import Mapping, Sequence
+from importlib import resources
 from pathlib import Path
 
 import ase.io
@@ -35,6 +37,8 @@ RESULTS_FILE = "results.json"
 CSV_FILE = "summary.csv"
 SERIES_CSV_FILE = "series.csv"
 HTML_FILE = "report.html"
+#: the benchmark record installed with the package (elimscan/data/; validation/validate.py writes it)
+BENCHMARK_RECORD_FILE = "benchmark_record.json"
 #: runs with more jobs get an index page and one page per job instead of one page with every job
 SINGLE_PAGE_MAX_JOBS = 4
 #: a saddle file larger than this (bytes) gets no 3D view (a view is meant for a molecule, not a cluster run)
@@ -146,10 +150,26 @@ def load_assets(out_dir: str | Path) -> dict[str, str]:
     return {name: figure_svg(fig) for name, fig in _figures(result, read_scan_frames(out_dir, result)).items()}
 
 
+def load_benchmark_record() -> dict | None:
+    """Return the benchmark record installed with elimscan (analysis.benchmark_record; written by
+    validation/validate.py), None when it is absent; an unreadable one is logged and left out."""
+    path = resources.files("elimscan") / "data" / BENCHMARK_RECORD_FILE
+    try:
+        return json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        return None
+    except (OSError, ValueError) as err:
+        logging.getLogger(__name__).warning("the benchmark record %s cannot be read (%s): reports leave the "
+                                            "benchmark's counts out", path, err)
+        return None
+
+
 def build_report_files(out_dir: str | Path, single_page_max_jobs: int = SINGLE_PAGE_MAX_JOBS) -> dict[str, bytes]:
     """Return {path relative to out_dir: content} for summary.csv (series.csv), report.html (with report/*.html for
-    more than ``single_page_max_jobs`` jobs) and plots/*.png, from results.json and the structure files beside it."""
+    more than ``single_page_max_jobs`` jobs) and plots/*.png, from results.json and the structure files beside it
+    (and the installed benchmark record, quoted under each verdict)."""
     result = read_result(out_dir)
+    record = load_benchmark_record()
     figures = _figures(result, read_scan_frames(out_dir, result))
     files: dict[str, bytes] = {}
     assets: dict[str, str] = {}
@@ -161,10 +181,10 @@ def build_report_files(out_dir: str | Path, single_page_max_jobs: int = SINGLE_P
         files[SERIES_CSV_FILE] = series_csv(result).encode("utf-8")
     present, frames = structure_files(out_dir, result)
     if len(result.jobs) <= single_page_max_jobs:
-        files[HTML_FILE] = render_report(result, assets, StructureLinks("", present, frames)).encode("utf-8")
+        files[HTML_FILE] = render_report(result, assets, StructureLinks("", present, frames), record).encode("utf-8")
     else:
         plots = frozenset(name for name in files if name.startswith("plots/"))
-        for name, page in batch_pages(result, plots, StructureLinks("../", present, frames)).items():
+        for name, page in batch_pages(result, plots, StructureLinks("../", present, frames), record).items():
             files[name] = page.encode("utf-8")
     return dict(sorted(files.items()))
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import unicodedata
 
 from elimscan.analysis.comparison import SubstrateComparison, compare_substrates
-from elimscan.analysis.headline import UNDECIDED, job_headline
+from elimscan.analysis.headline import job_headline
 from elimscan.chem.alkenenames import alkene_description
 from elimscan.output.benchmark_note import benchmark_note
 from elimscan.output.basemodelwords import DEFAULT_MODEL_SENTENCE, BaseModelWords, any_default_model, base_model_words
@@ -71,7 +71,7 @@ def job_table(job: JobRecord, model: BaseModelWords | None = None, record: dict 
     if job.status == "ok" and job.rule is not None:
         headline = job_headline(job)
         lines.extend(headline_lines(headline))
-        note = benchmark_note(job, record, undecided=headline.state == UNDECIDED)
+        note = benchmark_note(job, record, headline, ascii_only=True)
         if note:
             lines.append(f"  benchmark: {note}")
     if job.status != "ok":

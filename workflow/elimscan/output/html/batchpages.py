@@ -80,7 +80,8 @@ def _head(title: str, csp: str) -> list[str]:
             f"<title>{esc(title)}</title>", f"<style>{STYLE}</style></head><body>"]
 
 
-def render_job_page(result: RunResult, job: JobRecord, plot_files: frozenset[str], links: StructureLinks) -> str:
+def render_job_page(result: RunResult, job: JobRecord, plot_files: frozenset[str], links: StructureLinks,
+                    record: dict | None = None) -> str:
     """Return the page of one job (HTML text): its section with plots as PNG files, links and 3D views.
 
     ``plot_files``: the PNG files of the run (paths relative to the output folder); a plot not among them is
@@ -91,7 +92,7 @@ def render_job_page(result: RunResult, job: JobRecord, plot_files: frozenset[str
         f'<header><p class="meta"><a href="../report.html">\u2190 all jobs of {esc(result.config.name)}</a></p>',
         f'<p class="meta">elimscan {esc(p.program_version)} \u00b7 results written {esc(p.created_utc)}</p></header>',
         f'<aside class="caution" id="caution"><strong>Caution.</strong> {esc(CAUTION)}</aside>',
-        job_section(result, job, image_assets(result, job, plot_files), {}, links),
+        job_section(result, job, image_assets(result, job, plot_files), {}, links, record),
         '<details><summary>Reading the numbers</summary><ul class="meaning">'
         + "".join(f"<li>{esc(m)}</li>" for m in reading_points(result)) + "</ul></details>",
         f"<script>{SCRIPT}{VIEWER_SCRIPT}</script></body></html>",
@@ -159,9 +160,10 @@ def render_index(result: RunResult) -> str:
     return "\n".join(parts) + "\n"
 
 
-def batch_pages(result: RunResult, plot_files: frozenset[str], links: StructureLinks) -> dict[str, str]:
+def batch_pages(result: RunResult, plot_files: frozenset[str], links: StructureLinks,
+                record: dict | None = None) -> dict[str, str]:
     """Return {output-relative path: HTML text} of the index (report.html) and every job's page."""
     pages = {"report.html": render_index(result)}
     for job in result.jobs:
-        pages[job_page_name(job)] = render_job_page(result, job, plot_files, links)
+        pages[job_page_name(job)] = render_job_page(result, job, plot_files, links, record)
     return pages

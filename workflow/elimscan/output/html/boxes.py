@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from elimscan.analysis.headline import UNDECIDED, job_headline
-from elimscan.output.benchmark_note import benchmark_note, load_record
+from elimscan.analysis.headline import job_headline
+from elimscan.output.benchmark_note import benchmark_note
 from elimscan.output.headline import STATE_WORDS, headline_sentences, verdict_parts
 from elimscan.output.html.cells import ABSENT, barrier_text, esc, percent_text
 from elimscan.output.html.words import ENERGY_WORDS
@@ -23,8 +23,8 @@ def undecided_why(job: JobRecord) -> str:
 
 def headline_box(job: JobRecord, record: dict | None = None) -> str:
     """Return the headline of a job: main channel, alkene mix, the verdict in three states with why, the gap and
-    the ratio it implies, what decided the rule (undecided is grey, never red or green), and what the reference
-    benchmark says of choices of this kind (``record``: analysis.benchmark_record; default the installed one)."""
+    the ratio it implies, what decided the rule (undecided is grey, never red or green), and with ``record``
+    (analysis.benchmark_record, as output.files reads it) what the reference benchmark says of such choices."""
     h = job_headline(job)
     sentences = headline_sentences(h)
     word, qualifier, body = verdict_parts(h)
@@ -41,7 +41,7 @@ def headline_box(job: JobRecord, record: dict | None = None) -> str:
             parts.append(f'<p class="headline-{esc(key.replace("_", "-"))}">{esc(text)}</p>')
     if h.ok and v is not None and v.computed_major is not None:
         parts.append(f'<p class="verdict-reason"><strong>Barriers against the rule:</strong> {esc(v.reason)}.</p>')
-    note = benchmark_note(job, load_record() if record is None else record, undecided=h.state == UNDECIDED)
+    note = benchmark_note(job, record, h)
     if note:
         parts.append(f'<p class="benchmark-record">{esc(note)}</p>')
     return "".join(parts) + "</div>"

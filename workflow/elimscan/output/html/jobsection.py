@@ -83,10 +83,11 @@ def newman_block(job: JobRecord, assets: Mapping[str, str]) -> str:
 
 
 def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], own: Mapping[str, str],
-                links: StructureLinks | None = None) -> str:
+                links: StructureLinks | None = None, record: dict | None = None) -> str:
     """Return one job's section: plots from ``assets``, else ``own`` (drawn by the page); a failed job says why.
 
-    With ``links`` the tables link the job's structure files and its saddles get 3D views.
+    With ``links`` the tables link the job's structure files and its saddles get 3D views; with ``record`` (the
+    benchmark record, analysis.benchmark_record) its verdict carries the benchmark's counts for its kinds of choice.
     """
     head = (f'<section class="job" id="{esc(anchor(job))}" data-job="{esc(job.job_id)}">\n'
             f"<h2>{esc(job.substrate)} with {esc(job.base)}</h2>\n"
@@ -147,7 +148,7 @@ def job_section(result: RunResult, job: JobRecord, assets: Mapping[str, str], ow
                       "(\u201c-\u201d: never reached below the cap; ")
                    + "blue: anti accessible, orange: syn only, red: blocked under the rule).</figcaption></figure>")
     body = [
-        headline_box(job),
+        headline_box(job, record),
         f'<div class="top">{picture}<div>{dl}</div></div>',
         "<h3>Beta hydrogens</h3>", beta_table(job, links),
         '<p class="note">Penalty: lowest energy with the hydrogen anti- (|\u03c6| \u2265 '

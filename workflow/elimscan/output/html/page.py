@@ -24,13 +24,15 @@ def own_plots(result: RunResult, job, assets: Mapping[str, str]) -> dict[str, st
     return {k: figure_svg(f) for k, f in figures.items() if k not in assets}
 
 
-def render_report(result: RunResult, assets: Mapping[str, str], links: StructureLinks | None = None) -> str:
+def render_report(result: RunResult, assets: Mapping[str, str], links: StructureLinks | None = None,
+                  record: dict | None = None) -> str:
     """Return the whole report as one self-contained HTML document (UTF-8 text).
 
     ``assets`` maps plot names (``plots.jobplots.plot_name``) to SVG text; the plots of
     ``plots.jobplots.JOB_PLOT_KINDS`` missing from it are drawn here from results.json alone, Newman
     projections (which need the scan trajectories) are left out. With ``links`` the tables link the structure
-    files and each saddle with frames gets a 3D view.
+    files and each saddle with frames gets a 3D view. With ``record`` (the benchmark record) each verdict carries
+    the benchmark's counts for the job's kinds of choice.
     """
     p = result.provenance
     parts = [
@@ -58,7 +60,7 @@ def render_report(result: RunResult, assets: Mapping[str, str], links: Structure
         parts.append(index_table(result))
     parts.append(comparison_section(result))
     for job in result.jobs:
-        parts.append(job_section(result, job, assets, own_plots(result, job, assets), links))
+        parts.append(job_section(result, job, assets, own_plots(result, job, assets), links, record))
     if result.series:
         parts.append(series_section(result, assets))
     parts.append(f'<footer class="note"><p>Made by elimscan {esc(p.program_version)} from results.json '
