@@ -73,7 +73,7 @@ def job_table(job: JobRecord, model: BaseModelWords | None = None, record: dict 
         lines.extend(headline_lines(headline))
         note = benchmark_note(job, record, headline, ascii_only=True)
         if note:
-            lines.append(f"  benchmark: {note}")
+            lines.append(f"  benchmark: {printable(note)}")
     if job.status != "ok":
         if job.error is not None:
             lines.append(f"    {job.error.error_type}: {job.error.error_message}")
