@@ -51,9 +51,10 @@ def test_the_core_is_the_substrate_and_the_base_of_a_cluster(probe):
     core = probe._core(cluster, len(substrate), len(base))
     assert core.get_chemical_formula() == (substrate + base).get_chemical_formula()
     assert probe._seed("alcohol-3-embedded--seed2-alpb-ethanol-328.15K") == 2 and probe._seed("bare-run") is None
-    assert probe._channel([(10.0, 1)], 300.0) == pytest.approx(10.0)
+    assert probe.summed_barrier_kcal_mol([(10.0, 1)], 300.0) == pytest.approx(10.0)
     # two equal paths: the channel is RT ln 2 lower than either
-    assert probe._channel([(10.0, 1), (10.0, 1)], 300.0) == pytest.approx(10.0 - 0.0019872 * 300.0 * 0.6931, abs=1e-3)
+    assert probe.summed_barrier_kcal_mol([(10.0, 1), (10.0, 1)], 300.0) == pytest.approx(
+        10.0 - 0.0019872 * 300.0 * 0.6931, abs=1e-3)
 
 
 def test_the_registered_selection_is_the_lowest_path_of_each_product(probe):

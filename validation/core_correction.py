@@ -19,21 +19,20 @@ from __future__ import annotations
 import argparse
 import datetime as dt
 import json
-import math
 import sys
 from pathlib import Path
 
 import ase.io
 from rdkit import Chem
 
-from elimscan.analysis.benchmark_calibration import eyring_free_barrier_kcal_mol
+from elimscan.analysis.benchmark_calibration import eyring_free_barrier_kcal_mol, summed_barrier_kcal_mol
 from elimscan.analysis.benchmark_cases import RateCase, parse_cases
 from elimscan.analysis.benchmark_scoring import e2_paths, sn2_path
 from elimscan.atomicio import write_text_atomic
 from elimscan.config import DftConfig, MethodConfig, SolventConfig
 from elimscan.engines.dft import dft_level, single_point
 from elimscan.engines.xtb import EngineSettings, XtbEngine
-from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K, KCAL_MOL_PER_HARTREE
+from elimscan.units import KCAL_MOL_PER_HARTREE
 
 HERE = Path(__file__).resolve().parent
 PAGE = HERE / "CALIBRATION-core-correction.md"
@@ -112,13 +111,6 @@ def _lowest_per_product(paths):
     return list(best.values())
 
 
-def _channel(barriers: list[tuple[float, int]], temperature_K: float) -> float:
-    """Return the Boltzmann-summed barrier (kcal/mol) of (barrier, degeneracy) pairs."""
-    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
-    low = min(b for b, _ in barriers)
-    return low - rt * math.log(sum(n * math.exp(-(b - low) / rt) for b, n in barriers))
-
-
 def _block(job: dict, class_id: str, approach: str) -> dict:
     """Return a path block of a job record by class and approach."""
     return next(b[approach] for b in job["beta_hydrogens"] if b["class_id"] == class_id)
@@ -139,8 +131,8 @@ def probe(case: RateCase, seed: int, batch: Path, job: dict, energies: Energies)
         return {"case": case.id, "seed": seed, "error": "no verified saddle of the channel"}
     corrected = [(dg + _correction(energies, batch, job, block, n_sub, n_base, charge), n) for block, dg, n in chosen]
     return {"case": case.id, "seed": seed, "paths": len(chosen),
-            "gfn2": _channel([(dg, n) for _, dg, n in chosen], case.temperature_K),
-            "corrected": _channel(corrected, case.temperature_K),
+            "gfn2": summed_barrier_kcal_mol([(dg, n) for _, dg, n in chosen], case.temperature_K),
+            "corrected": summed_barrier_kcal_mol(corrected, case.temperature_K),
             "measured": eyring_free_barrier_kcal_mol(case.k2_per_M_per_s, case.temperature_K)}
 
 
@@ -158,8 +150,9 @@ def page(rows: list[dict], functional: str, seeds: int) -> str:
         if "corrected" not in r:
             lines.append(f"| {r['case']} | {r['seed']} | - | - | - | - | {r['error']} | |")
             continue
+        errors = f"{r['gfn2'] - r['measured']:+.2f} | {r['corrected'] - r['measured']:+.2f}"
         lines.append(f"| {r['case']} | {r['seed']} | {r['paths']} | {r['gfn2']:.2f} | {r['corrected']:.2f} | "
-                     f"{r['measured']:.2f} | {r['gfn2'] - r['measured']:+.2f} | {r['corrected'] - r['measured']:+.2f} |")
+                     f"{r['measured']:.2f} | {errors} |")
     by_case: dict[str, list[dict]] = {}
     for r in done:
         by_case.setdefault(r["case"], []).append(r)
@@ -186,6 +179,7 @@ def main(argv: list[str] | None = None) -> int:
     cases = [c for c in parse_cases((HERE / "cases.yaml").read_text()).calibration if isinstance(c, RateCase)]
     jobs = _jobs(args.work)
     rows = []
+    by_solvent: dict[tuple, Energies] = {}  # one engine pair and one energy store per solvent, not per job
     for seed in range(1, args.seeds + 1):
         for case in cases:
             match = [(b, j) for s, b, j in jobs if s == seed and j["substrate"] == case.substrate.name
@@ -194,7 +188,11 @@ def main(argv: list[str] | None = None) -> int:
                 rows.append({"case": case.id, "seed": seed, "error": "no finished job with its files in --work"})
                 continue
             batch, job = match[0]
-            energies = Energies(args.work / "core-correction.json", SolventConfig(**job["solvent"]), args.functional)
+            solvent = SolventConfig(**job["solvent"])
+            key = (solvent.model, solvent.name)
+            if key not in by_solvent:
+                by_solvent[key] = Energies(args.work / "core-correction.json", solvent, args.functional)
+            energies = by_solvent[key]
             rows.append(probe(case, seed, batch, job, energies))
             write_text_atomic(PAGE, page(rows, args.functional, args.seeds))
     write_text_atomic(PAGE, page(rows, args.functional, args.seeds))

@@ -334,7 +334,7 @@ def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], fou
              "base_model": info.base_model, "base_model_words": info.base_model_words, "job_base_models": models,
              "seeds": list(info.seeds), "jobs": info.n_jobs, "jobs_finished": info.n_jobs_finished,
              "method": info.method}
-    entry = {**page_record(scores, levels, about), **calibration_record(calibration or [], about)}
+    entry = {**page_record(scores, levels, about), "calibration": calibration_record(calibration or [])}
     try:
         existing = json.loads(RECORD_FILE.read_text())
     except FileNotFoundError:

@@ -78,6 +78,14 @@ def with_dft_free_barriers(job: Mapping) -> dict | None:
     return copy
 
 
+def summed_barrier_kcal_mol(barriers: Sequence[tuple[float, int]], temperature_K: float) -> float:
+    """Return the effective barrier (kcal/mol) of parallel paths given as (barrier kcal/mol, degeneracy): the
+    Boltzmann sum, -RT ln sum(n exp(-barrier / RT))."""
+    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
+    lowest = min(b for b, _ in barriers)
+    return lowest - rt * math.log(sum(n * math.exp(-(b - lowest) / rt) for b, n in barriers))
+
+
 def channel_barrier_kcal_mol(job: Mapping, channel: str, level: str, temperature_K: float) -> float | None:
     """Return the effective barrier of a job's E2 or SN2 channel at a level (kcal/mol), or None without one.
 
@@ -94,9 +102,7 @@ def channel_barrier_kcal_mol(job: Mapping, channel: str, level: str, temperature
     paths = e2_paths(job, level)[0]
     if not paths:
         return None
-    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
-    lowest = min(p.barrier_kcal_mol for p in paths)
-    return lowest - rt * math.log(sum(p.degeneracy * math.exp(-(p.barrier_kcal_mol - lowest) / rt) for p in paths))
+    return summed_barrier_kcal_mol([(p.barrier_kcal_mol, p.degeneracy) for p in paths], temperature_K)
 
 
 def isotope_effect(job: Mapping, beta_carbon_indices: Sequence[int]) -> tuple[float, float] | None:

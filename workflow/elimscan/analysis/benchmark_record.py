@@ -56,16 +56,15 @@ def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mappi
     return {**about, "levels": counts, "cases": {score.case.id: _case_entry(score) for score in scores}}
 
 
-def calibration_record(calibration: Sequence[CalibrationScore], about: Mapping[str, object]) -> dict:
-    """Return a page's calibration record: ``about`` and, per calibration case, what was measured (quantity,
-    unit, value, temperature in K) and each estimate's per-seed values, mean, spread and error (unit of the case:
-    kcal/mol for rates and rho, percent of the measured value for isotope effects)."""
-    cases = {score.case.id: {
+def calibration_record(calibration: Sequence[CalibrationScore]) -> dict:
+    """Return a page's calibration entries by case: what was measured (quantity, unit, value, temperature in K) and
+    each estimate's per-seed values, mean, spread and error (unit of the case: kcal/mol for rates and rho, percent
+    of the measured value for isotope effects)."""
+    return {score.case.id: {
         "quantity": score.quantity, "unit": score.unit, "measured": score.measured,
         "temperature_K": score.case.temperature_K, "error_unit": score.error_unit,
         "estimates": {e.label: {"per_seed": list(e.per_seed), "mean": e.mean, "spread": e.spread, "error": e.error}
                       for e in score.estimates}} for score in calibration}
-    return {**about, "calibration": cases}
 
 
 def merged_record(existing: Mapping | None, page: str, entry: Mapping) -> dict:

@@ -18,9 +18,10 @@ from elimscan.analysis.benchmark_cases import (CATEGORIES, SUBSTITUTION, Hammett
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline, is_terminal)
+from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
 
 #: how a level is named in the page
-LEVEL_WORDS = {"dE": "GFN2-xTB dE", "dG": "GFN2-xTB dG (quasi-RRHO, 1 M)", "DFT//GFN2": "DFT//GFN2"}
+LEVEL_WORDS = {**LEVEL_WORDS_ASCII, "DFT//GFN2": "DFT//GFN2"}
 
 
 @dataclass(frozen=True)
