@@ -19,7 +19,8 @@ ROOT = Path(__file__).resolve().parents[2]
 def _headline(page: str, level: str) -> tuple[str, str, str]:
     """Return (computed right, rule right, undecided) of one level's headline line, e.g. ('3/5', '5/5', '1/5')."""
     line = next(x for x in page.splitlines() if x.startswith(f"- **GFN2-xTB {level}"))
-    found = re.search(r"computed right (\d+/\d+), rule right (\d+/\d+), undecided (\d+/\d+)", line)
+    found = re.search(r"computed right (\d+/\d+)(?: \(on the rule's basis \d+/\d+\))?, rule right (\d+/\d+), "
+                      r"undecided (\d+/\d+)", line)
     assert found, line
     return found.groups()
 

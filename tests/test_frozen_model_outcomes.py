@@ -1,0 +1,78 @@
+"""The frozen base model's product mixes on the benchmark's test cases against published outcomes (issue 17 item 5).
+
+Like tests/test_frozen_model_literature.py these read the numbers validation/validate.py wrote with the frozen
+model's benchmark page (``elimscan/data/benchmark_record.json``; the full page's entry when there is one, else the
+fast subset's, the page named in the entry): three seeds per case, recomputing them would take about an hour. The
+published values are carried here with their sources. A check that fails against its cited value becomes a strict
+expected failure carrying the measured numbers.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+import yaml
+
+from elimscan.analysis.benchmark_record import chosen_page
+from elimscan.output.files import load_benchmark_record
+
+ROOT = Path(__file__).resolve().parents[1]
+#: the levels the benchmark scores without the DFT tier: GFN2-xTB electronic and quasi-RRHO free barriers
+LEVELS = ("dE", "dG")
+
+#: 2-bromobutane + sodium ethoxide in ethanol: 81 % 2-butenes, i.e. 19 % 1-butene of the alkenes (J. G. Smith,
+#: Organic Chemistry, 5th ed., problem 11.43, as seen); the issue's bound on the computed 1-butene share is 35 %
+BUTENE_CASE = "2-bromobutane-ethoxide"
+ONE_BUTENE, E_2_BUTENE, Z_2_BUTENE = "C=CCC", "C/C=C/C", "C/C=C\\C"
+ONE_BUTENE_BOUND = 0.35
+
+
+def _page() -> dict:
+    """Return the record's entry of the frozen model's benchmark page (full, else fast)."""
+    entry = chosen_page(load_benchmark_record())
+    assert entry is not None, "no benchmark page in elimscan/data/benchmark_record.json: validate.py writes it"
+    return entry
+
+
+def _level(case: str, level: str) -> dict:
+    """Return one test case's entry at one level (majority outcome, per-seed outcomes, mean shares 0-1, spread)."""
+    return _page()["cases"][case]["levels"][level]
+
+
+def test_the_page_is_the_frozen_models_with_every_seed_of_the_case():
+    entry = _page()
+    frozen = yaml.safe_load((ROOT / "validation" / "model-freeze.yaml").read_text())["base_model"]
+    assert entry["base_model"] == frozen and len(entry["seeds"]) == 3, entry["page"]
+    for level in LEVELS:
+        outcomes = _level(BUTENE_CASE, level)["seed_outcomes"]
+        assert len(outcomes) == 3 and "not computed" not in outcomes, (level, outcomes)
+
+
+#: measured 2026-12-05 (validation/VALIDATION-fast.md, three seeds, code 877a7f8 and archived jobs of 6cd6088/8644187)
+MEASURED = "validation/VALIDATION-fast.md, 2026-12-05, three seeds"
+
+
+@pytest.mark.parametrize("level", [
+    "dE",
+    pytest.param("dG", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+        f"measured ({MEASURED}): 1-butene 36.1 % of the alkenes at dG (quasi-RRHO) against at most 35 % (published "
+        "19 %); the seeds' shares spread over 70 points (one seed puts 1-butene on top); at dE 19.9 %")))])
+def test_one_butene_is_a_minor_product_of_2_bromobutane(level):
+    # Zaitsev with a small base: 19 % 1-butene published; the issue asks for at most 35 % (mean over three seeds)
+    share = _level(BUTENE_CASE, level)["mean_alkene_shares"][ONE_BUTENE]
+    assert share <= ONE_BUTENE_BOUND, (level, share)
+
+
+@pytest.mark.parametrize("level", [
+    "dE",
+    pytest.param("dG", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+        f"measured ({MEASURED}): (E)-2-butene 57.7 % against (Z) 6.2 % of all products at dG, a lead of 51.5 points "
+        "inside the seeds' spread of 69.7 points; at dE 67.6 % against 11.6 %, spread 32.7 (passes)")))])
+def test_trans_2_butene_outweighs_cis_by_more_than_the_seed_spread(level):
+    # the E alkene major among the 2-butenes (trans major: from memory, see validation/cases.yaml); a sign check
+    # that rests on a difference of shares, so it must exceed the largest spread of a share over the seeds
+    kept = _level(BUTENE_CASE, level)
+    shares, spread = kept["mean_shares"], kept["spread_points"]
+    assert spread is not None
+    assert 100.0 * (shares.get(E_2_BUTENE, 0.0) - shares.get(Z_2_BUTENE, 0.0)) > spread, (level, shares, spread)
