@@ -3,7 +3,7 @@
 #   make test     - create/update .venv with test extras, run pytest (both tiers); as root with apt-get it first
 #                   installs Debian's chromium and chromium-driver for the browser test (target browser-deps)
 # Other targets: install (.venv with the test extras, nothing else), test-fast (no GFN2-xTB), bench,
-# reference-cases(-fast), calibration, basicity, schema, clean.
+# reference-cases(-fast), reference-progress, calibration, basicity, schema, clean.
 
 PYTHON ?= python3.11
 VENV   := .venv
@@ -19,7 +19,7 @@ export MPLBACKEND ?= Agg
 TEST_WORKERS ?= 2
 PYTEST_XDIST := -n $(TEST_WORKERS) --dist loadfile --no-loadscope-reorder
 
-.PHONY: install reference-cases reference-cases-fast calibration basicity demo test test-fast bench kernel-sweep schema clean check-python browser-deps
+.PHONY: install reference-cases reference-cases-fast reference-progress calibration basicity demo test test-fast bench kernel-sweep schema clean check-python browser-deps
 
 check-python:
 	@command -v $(PYTHON) >/dev/null 2>&1 || { \
@@ -96,6 +96,11 @@ reference-cases: $(VENV)/.installed
 
 reference-cases-fast: $(VENV)/.installed
 	$(VPY) validation/validate.py --subset fast $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) $(if $(SEEDS),--seeds $(SEEDS)) --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
+
+# How far `make reference-cases` got (read-only, beside the running one): jobs finished of all, the estimate of the
+# rest, and the invocation computing in $(REFERENCE_DIR) now
+reference-progress: $(VENV)/.installed
+	$(VPY) validation/validate.py --progress $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) $(if $(SEEDS),--seeds $(SEEDS)) --work $(REFERENCE_DIR)
 
 # Choosing the base model (issue 18), never on the test cases: the calibration set under one candidate
 # (BASE_MODEL=alcohol-2 etc., see workflow/elimscan/analysis/benchmark_models.py; writes CALIBRATION-<model>.md;

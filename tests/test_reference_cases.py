@@ -292,6 +292,14 @@ def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(
     assert validate.main([*args, "--work", str(tmp_path / "first")]) == 0
     first = capsys.readouterr()
     assert len(list(records.glob("*.json.gz"))) == 1 and "1 finished job(s) archived" in first.err
+    # --progress: computes and writes nothing, says how far the run got and that nobody computes there now
+    assert validate.main([*args, "--work", str(tmp_path / "first"), "--progress"]) == 0
+    said = capsys.readouterr().out
+    assert "base model bare: 1 of 1 job(s) finished" in said and "No invocation computes in" in said, said
+    assert validate.main([*args, "--work", str(tmp_path / "none yet"), "--progress", "--no-records"]) == 0
+    said = capsys.readouterr().out
+    assert "0 of 1 job(s) finished" in said and "1 job(s) left, no finished job to estimate" in said, said
+    assert not (tmp_path / "none yet").exists()  # nothing made
     # --archive-only: what a work folder's batches finished is archived under the commit that computed it
     for archived in records.glob("*.json.gz"):
         archived.unlink()

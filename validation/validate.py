@@ -49,7 +49,7 @@ from elimscan.batch.plan import plan_batch
 from elimscan.batch.store import STORE_FILE, JobStore
 from elimscan.config import default_workers, parse_config
 from elimscan.errors import OutputError
-from elimscan.output.benchmark_tables import RunInfo, series_rows, validation_markdown
+from elimscan.output.benchmark_tables import RunInfo, progress_text, series_rows, validation_markdown
 
 HERE = Path(__file__).resolve().parent
 #: a quick look (issue 17): five small test cases and the two rate constants that share their jobs, one seed
@@ -96,6 +96,9 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
     parser.add_argument("--archive-only", action="store_true",
                         help="compute nothing and write no page: add the jobs that finished ok in --work's batches to the "
                         "archive (for a session that must end while a batch is still running)")
+    parser.add_argument("--progress", action="store_true",
+                        help="compute and write nothing: print how many of the jobs have finished in --work and the "
+                        "archive, an estimate of the rest, and the invocation computing there now")
     parser.add_argument("--cases", default=None, metavar="ID,ID",
                         help="only these cases of the subset (a probe: the page is printed, never written)")
     parser.add_argument("--dft", default=None, choices=DFT_CALIBRATION_FUNCTIONALS, metavar="FUNCTIONAL",
@@ -105,9 +108,10 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
     parser.add_argument("--engine", default=None, metavar="MODULE:FUNCTION",
                         help="compute with a plug-in engine instead of GFN2-xTB (for tests; part of each job's key)")
     args = parser.parse_args(argv)
-    if (args.no_compute or args.archive_only) and args.work is None:
-        parser.error(f"{'--archive-only' if args.archive_only else '--no-compute'} needs --work (the folder that "
-                     "holds the finished batches)")
+    needs_work = [flag for flag, on in (("--no-compute", args.no_compute), ("--archive-only", args.archive_only),
+                                        ("--progress", args.progress)) if on]
+    if needs_work and args.work is None:
+        parser.error(f"{needs_work[-1]} needs --work (the folder that holds the finished batches)")
     if args.archive_only and args.no_records:
         parser.error("--archive-only adds to the archive: it cannot go with --no-records")
     if args.seeds is not None and args.seeds < 1:
@@ -202,6 +206,14 @@ def settle_stale_run(work: Path) -> bool:
 def run_clock(work: Path, entry: dict, started: float) -> runclock.RunClock:
     """Return the clock of a computing invocation in ``work`` (its lock, heartbeat and run-log entry)."""
     return runclock.RunClock(work / RUNNING_FILE, work / RUN_LOG, work / RUN_LOCK, entry, started)
+
+
+def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: str) -> int:
+    """Print how far the groups' jobs got in ``work`` and the archive and who computes there now; return 0."""
+    found = _collect(groups, work, records)
+    running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
+    print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work)))
+    return 0
 
 
 def _runs_of(runs: list[dict], base_model: str, dft_functional: str | None) -> list[dict]:
@@ -427,6 +439,9 @@ def main(argv: list[str] | None = None) -> int:
                     key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
     if args.archive_only:
         return _archive_work(groups, args.work, args.records, args.base_model, args.dft)
+    if args.progress:
+        return _progress(groups, args.work, args.records, f"{page_path(args.subset, args.base_model, args.dft).name} "
+                         f"({args.subset} cases), base model {args.base_model}")
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
         work.mkdir(parents=True, exist_ok=True)

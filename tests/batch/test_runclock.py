@@ -115,3 +115,22 @@ def test_a_running_file_of_older_code_is_logged_without_a_time(tmp_path):
     entries = runclock.read_run_log(log)
     assert [e["commit"] for e in entries] == ["0000000", "f119db4"]
     assert entries[-1]["time_unknown"] and entries[-1]["wall_seconds"] == 0.0
+
+
+def test_the_progress_look_names_a_live_or_paused_invocation_and_not_a_killed_one(tmp_path):
+    # validate.py --progress: read-only, so a killed invocation's file stays for the next computing one to settle
+    running, log, lock = _files(tmp_path)
+    assert runclock.running_entry(running, lock) is None  # nothing runs here
+    child = _child(tmp_path)
+    try:
+        time.sleep(0.2)
+        entry = runclock.running_entry(running, lock)
+        assert entry["commit"] == "abc1234" and entry["pid"] == child.pid and entry["wall_seconds"] > 0, entry
+        child.send_signal(signal.SIGSTOP)
+        assert runclock.running_entry(running, lock)["pid"] == child.pid  # paused: still its folder
+        child.send_signal(signal.SIGCONT)
+    finally:
+        child.kill()
+        child.wait()
+    assert runclock.running_entry(running, lock) is None
+    assert running.exists() and not log.exists()  # left to be settled, not settled by a look

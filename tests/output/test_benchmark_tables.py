@@ -9,7 +9,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 from elimscan.analysis.benchmark_scoring import score_case
-from elimscan.output.benchmark_tables import RunInfo, headline_line, series_rows, validation_markdown
+from elimscan.output.benchmark_tables import RunInfo, headline_line, progress_text, series_rows, validation_markdown
 
 from benchmarkrecords import case, record  # bookkeeping job records and cases (tests/support)
 
@@ -133,3 +133,15 @@ def test_the_report_record_carries_the_page_headline_counts_per_category():
     old = merged_record(None, "VALIDATION.md", {**entry, "base_model": "alcohol-3"})
     assert set(merged_record(old, "VALIDATION-fast.md", {**entry, "base_model": "alcohol-3-embedded"})["pages"]) == {
         "VALIDATION-fast.md"}
+
+
+def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes():
+    running = {"pid": 4242, "host": "ws1", "commit": "abc1234", "base_model": "bare",
+               "started_utc": "2026-12-05T10:00:00+00:00", "wall_seconds": 5400.0,
+               "updated_utc": "2026-12-05T11:30:00+00:00"}
+    said = progress_text("VALIDATION.md (all cases), base model bare", 10, 4, 1, 4 * 600.0, running, "/w")
+    assert said.startswith("VALIDATION.md (all cases), base model bare: 4 of 10 job(s) finished, 1 of them read "
+                           "from the archive, 40 min of job time; the 6 job(s) left would take about 1 h 00 min")
+    assert "Computing in /w now: pid 4242 on ws1, commit abc1234" in said and "1 h 30 min so far" in said
+    idle = progress_text("x", 3, 3, 0, 900.0, None, "/w")
+    assert idle == "x: 3 of 3 job(s) finished, 15 min of job time. No invocation computes in /w now."

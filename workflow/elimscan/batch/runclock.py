@@ -101,6 +101,22 @@ def settle_stale_run(running: Path, log_file: Path, lock_file: Path) -> bool:
         _unlock(fd)
 
 
+def running_entry(running: Path, lock_file: Path) -> dict | None:
+    """Return the running file's entry of the invocation computing (or paused) in the folder now, with its time
+    so far (``wall_seconds``) and last rewrite (``updated_utc``); None when none holds the lock. Read-only: a killed
+    invocation's file is left for the next computing one to settle."""
+    if not running.exists():
+        return None
+    fd = _try_lock(lock_file)
+    if fd is not None:  # nobody holds it: the file is a killed invocation's
+        _unlock(fd)
+        return None
+    try:
+        return json.loads(running.read_text(encoding="utf-8"))
+    except (FileNotFoundError, ValueError):  # it ended, or is rewriting, just now
+        return None
+
+
 class RunClock:
     """Hold the work folder's lock for one computing invocation: settle a killed predecessor's running file, rewrite
     our own every HEARTBEAT_S seconds with the time run so far (s, pauses counted as PAUSE_HEARTBEATS heartbeats),

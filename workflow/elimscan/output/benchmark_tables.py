@@ -9,7 +9,7 @@ over seeds); the terminal-alkene share of each series' members; and the calibrat
 from __future__ import annotations
 
 from collections import Counter
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
@@ -225,16 +225,39 @@ def _stopped_words(info: RunInfo) -> str:
     return f" ({info.n_interrupted_runs} of them stopped before the end, counted up to their last logged minute{unknown})"
 
 
-def _remaining(info: RunInfo) -> str:
-    """Return the clause estimating the unfinished jobs' time from the finished jobs' mean ('' when none is left)."""
-    left = info.n_jobs - info.n_jobs_finished
+def remaining_clause(n_jobs: int, n_finished: int, job_seconds: float) -> str:
+    """Return the clause estimating the unfinished jobs' time from the finished jobs' mean (``job_seconds``: their
+    summed wall time in s; '' when none is left)."""
+    left = n_jobs - n_finished
     if left <= 0:
         return ""
-    if info.n_jobs_finished == 0 or info.job_seconds <= 0:
+    if n_finished == 0 or job_seconds <= 0:
         return f"; {left} job(s) left, no finished job to estimate their time from"
-    mean = info.job_seconds / info.n_jobs_finished
+    mean = job_seconds / n_finished
     return (f"; the {left} job(s) left would take about {_duration(left * mean)} of job time at the finished jobs' "
             f"mean of {_duration(mean)} (a rough estimate: jobs differ in size)")
+
+
+def _remaining(info: RunInfo) -> str:
+    """Return the page's clause estimating the unfinished jobs' time ('' when none is left)."""
+    return remaining_clause(info.n_jobs, info.n_jobs_finished, info.job_seconds)
+
+
+def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_seconds: float,
+                  running: Mapping | None, work: str) -> str:
+    """Return how far a benchmark run got, for a chemist checking on it: ``what`` (subset and base model), jobs
+    finished of all (of them from the archive), their summed job time (``job_seconds``, s), the estimate of the
+    rest, and the invocation computing in ``work`` now (``running``: its running-file entry, or None)."""
+    archived = f", {n_archived} of them read from the archive" if n_archived else ""
+    text = (f"{what}: {n_finished} of {n_jobs} job(s) finished{archived}, {_duration(job_seconds)} of job time"
+            + remaining_clause(n_jobs, n_finished, job_seconds) + ".")
+    if running is None:
+        return text + f" No invocation computes in {work} now."
+    model = running.get("base_model") or "an unnamed base model"
+    return (text + f" Computing in {work} now: pid {running.get('pid')} on {running.get('host')}, commit "
+            f"{running.get('commit')}, base model {model}, started {running.get('started_utc')}, "
+            f"{_duration(float(running.get('wall_seconds') or 0.0))} so far (pauses left out), last heard "
+            f"{running.get('updated_utc')}.")
 
 
 def freeze_line(info: RunInfo) -> str:
