@@ -98,8 +98,9 @@ reference-cases-fast: $(VENV)/.installed
 	$(VPY) validation/validate.py --subset fast $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) $(if $(SEEDS),--seeds $(SEEDS)) --work $(REFERENCE_DIR)-fast --workers $(REFERENCE_WORKERS)
 
 # How far `make reference-cases` got (read-only, beside the running one): jobs finished of all, the estimate of the
-# rest, and the invocation computing in $(REFERENCE_DIR) now
-reference-progress: $(VENV)/.installed
+# rest, and the invocation computing in $(REFERENCE_DIR) now (no install step: it must not touch the venv a running
+# benchmark uses)
+reference-progress:
 	$(VPY) validation/validate.py --progress $(if $(BASE_MODEL),--base-model $(BASE_MODEL)) $(if $(SEEDS),--seeds $(SEEDS)) --work $(REFERENCE_DIR)
 
 # Choosing the base model (issue 18), never on the test cases: the calibration set under one candidate

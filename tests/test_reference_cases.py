@@ -300,6 +300,12 @@ def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(
     said = capsys.readouterr().out
     assert "0 of 1 job(s) finished" in said and "1 job(s) left, no finished job to estimate" in said, said
     assert not (tmp_path / "none yet").exists()  # nothing made
+    with pytest.raises(SystemExit):
+        validate._parse(["--work", str(tmp_path / "first"), "--progress", "--archive-only"])
+    assert "--progress only reads" in capsys.readouterr().err
+    with pytest.raises(SystemExit):
+        validate._parse(["--progress"])
+    assert "--progress needs --work" in capsys.readouterr().err
     # --archive-only: what a work folder's batches finished is archived under the commit that computed it
     for archived in records.glob("*.json.gz"):
         archived.unlink()

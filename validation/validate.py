@@ -112,6 +112,8 @@ def _parse(argv: list[str] | None) -> argparse.Namespace:
                                         ("--progress", args.progress)) if on]
     if needs_work and args.work is None:
         parser.error(f"{needs_work[-1]} needs --work (the folder that holds the finished batches)")
+    if args.progress and args.archive_only:
+        parser.error("--progress only reads: it cannot go with --archive-only, which adds to the archive")
     if args.archive_only and args.no_records:
         parser.error("--archive-only adds to the archive: it cannot go with --no-records")
     if args.seeds is not None and args.seeds < 1:
@@ -212,7 +214,8 @@ def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: 
     """Print how far the groups' jobs got in ``work`` and the archive and who computes there now; return 0."""
     found = _collect(groups, work, records)
     running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
-    print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work)))
+    print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work),
+                        found.n_failed))
     return 0
 
 
@@ -274,6 +277,8 @@ class Collected:
     n_archived: int = 0
     n_jobs: int = 0
     n_finished: int = 0
+    #: of the finished jobs, those that failed (scored as not computed)
+    n_failed: int = 0
     job_seconds: float = 0.0
 
     def jobs(self) -> list[dict]:
@@ -293,6 +298,7 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
                 continue
             job, wall = in_group[pair]
             found.n_finished += 1
+            found.n_failed += job.get("status") != "ok"
             if pair in archived:
                 found.n_archived += 1
                 found.archived_commits.add(archived[pair])

@@ -7,11 +7,13 @@ killed and paused here; the lock is the kernel's (fcntl.flock), so these are the
 
 from __future__ import annotations
 
+import fcntl
 import json
 import os
 import signal
 import subprocess
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -127,6 +129,7 @@ def test_the_progress_look_names_a_live_or_paused_invocation_and_not_a_killed_on
         entry = runclock.running_entry(running, lock)
         assert entry["commit"] == "abc1234" and entry["pid"] == child.pid and entry["wall_seconds"] > 0, entry
         child.send_signal(signal.SIGSTOP)
+        time.sleep(0.3)  # six of its heartbeats missed
         assert runclock.running_entry(running, lock)["pid"] == child.pid  # paused: still its folder
         child.send_signal(signal.SIGCONT)
     finally:
@@ -134,3 +137,18 @@ def test_the_progress_look_names_a_live_or_paused_invocation_and_not_a_killed_on
         child.wait()
     assert runclock.running_entry(running, lock) is None
     assert running.exists() and not log.exists()  # left to be settled, not settled by a look
+
+
+def test_a_look_creates_nothing_and_does_not_turn_a_starting_invocation_away(tmp_path, monkeypatch):
+    running, log, lock = _files(tmp_path)
+    running.write_text(json.dumps({"commit": "abc1234", "wall_seconds": 60.0}))  # a killed invocation's, no lock file
+    assert runclock.running_entry(running, lock) is None and not lock.exists()
+    # a look holds a shared lock for an instant: an invocation starting at that moment waits for it, not refused
+    lock.touch()
+    look = os.open(lock, os.O_RDONLY)
+    fcntl.flock(look, fcntl.LOCK_SH)
+    threading.Timer(0.3, lambda: (fcntl.flock(look, fcntl.LOCK_UN), os.close(look))).start()
+    with runclock.RunClock(running, log, lock, {"commit": "def5678"}, time.perf_counter()):
+        pass
+    [settled, ended] = runclock.read_run_log(log)
+    assert settled["commit"] == "abc1234" and settled["interrupted"] and ended["commit"] == "def5678"

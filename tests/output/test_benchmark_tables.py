@@ -122,6 +122,10 @@ def test_the_report_record_carries_the_page_headline_counts_per_category():
         assert (counts["cases"], counts["right"], counts["undecided"], counts["rule_right"]) == (
             h.n, h.right, h.undecided, h.rule_right)
     assert set(entry["levels"]["dE"]) == {c for s in found for c in s.case.category}  # categories with cases only
+    # each seed's shares as scored (the tests of the frozen model judge a choice seed by seed)
+    kept = page_record(found[:1], ["dE"], {})["cases"][found[0].case.id]["levels"]["dE"]
+    assert kept["seed_shares"] == [dict(s.mix.shares) for s in found[0].levels["dE"].seeds]
+    assert len(kept["seed_shares"]) == 3 and kept["seed_shares"][0] != kept["seed_shares"][2]
     # the full page's entry is quoted before the fast one's; an unknown layout is no record
     record = merged_record(None, "VALIDATION-fast.md", entry)
     assert chosen_page(record)["page"] == "validation/VALIDATION-fast.md"
@@ -145,3 +149,5 @@ def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes
     assert "Computing in /w now: pid 4242 on ws1, commit abc1234" in said and "1 h 30 min so far" in said
     idle = progress_text("x", 3, 3, 0, 900.0, None, "/w")
     assert idle == "x: 3 of 3 job(s) finished, 15 min of job time. No invocation computes in /w now."
+    failed = progress_text("x", 3, 3, 0, 900.0, None, "/w", n_failed=1)
+    assert "3 of 3 job(s) finished, 1 of them failed (scored as not computed" in failed

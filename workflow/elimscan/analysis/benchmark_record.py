@@ -25,10 +25,13 @@ CALIBRATION_PAGE = "CALIBRATION.md"
 
 
 def _case_entry(score: CaseScore) -> dict:
-    """Return one test case's outcome per level: majority outcome (and on the rule's basis), each seed's, the mean
-    shares of all products and of the published alkenes (0-1), the mean E2 share and the spread (points)."""
+    """Return one test case's outcome per level: majority outcome (and on the rule's basis), each seed's outcome and
+    shares of all products (0-1; None for a seed without a mix), the mean shares of all products and of the
+    published alkenes (0-1), the mean E2 share and the spread (points)."""
     levels = {level: {"outcome": ls.outcome, "outcome_major_only": ls.outcome_major_only,
-                      "seed_outcomes": [s.outcome for s in ls.seeds], "mean_shares": ls.mean_shares,
+                      "seed_outcomes": [s.outcome for s in ls.seeds],
+                      "seed_shares": [dict(s.mix.shares) if s.mix is not None else None for s in ls.seeds],
+                      "mean_shares": ls.mean_shares,
                       "mean_alkene_shares": ls.mean_alkene_shares, "mean_e2_fraction": ls.mean_e2_fraction,
                       "spread_points": ls.spread_points}
               for level, ls in score.levels.items()}

@@ -53,15 +53,24 @@ def _append(log_file: Path, entry: dict) -> None:
         log.write((("\n" if torn else "") + json.dumps(entry) + "\n").encode("utf-8"))
 
 
-def _try_lock(lock_file: Path) -> int | None:
-    """Return an open descriptor holding the exclusive lock of ``lock_file``, or None when another process holds it."""
+#: seconds a computing invocation waits for the lock before it refuses: a look by ``running_entry`` holds it briefly
+LOCK_WAIT_S = 2.0
+
+
+def _try_lock(lock_file: Path, wait_s: float = 0.0) -> int | None:
+    """Return an open descriptor holding the exclusive lock of ``lock_file``, or None when another process holds it
+    for longer than ``wait_s`` seconds."""
     fd = os.open(lock_file, os.O_RDWR | os.O_CREAT, 0o644)
-    try:
-        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-    except BlockingIOError:
-        os.close(fd)
-        return None
-    return fd
+    deadline = time.monotonic() + wait_s
+    while True:
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            return fd
+        except BlockingIOError:
+            if time.monotonic() >= deadline:
+                os.close(fd)
+                return None
+            time.sleep(0.05)
 
 
 def _unlock(fd: int) -> None:
@@ -102,19 +111,28 @@ def settle_stale_run(running: Path, log_file: Path, lock_file: Path) -> bool:
 
 
 def running_entry(running: Path, lock_file: Path) -> dict | None:
-    """Return the running file's entry of the invocation computing (or paused) in the folder now, with its time
-    so far (``wall_seconds``) and last rewrite (``updated_utc``); None when none holds the lock. Read-only: a killed
-    invocation's file is left for the next computing one to settle."""
+    """Return the running file's entry of the invocation computing (or paused) in the folder now, with its time so
+    far (``wall_seconds``, s, pauses counted as PAUSE_HEARTBEATS heartbeats) and last rewrite (``updated_utc``); None
+    when nobody holds the lock. Read-only: creates nothing, takes only a shared lock for an instant (a computing
+    invocation starting then waits LOCK_WAIT_S for it), and leaves a killed invocation's file to the next one."""
     if not running.exists():
         return None
-    fd = _try_lock(lock_file)
-    if fd is not None:  # nobody holds it: the file is a killed invocation's
-        _unlock(fd)
+    try:
+        fd = os.open(lock_file, os.O_RDONLY)
+    except FileNotFoundError:
         return None
     try:
-        return json.loads(running.read_text(encoding="utf-8"))
-    except (FileNotFoundError, ValueError):  # it ended, or is rewriting, just now
+        fcntl.flock(fd, fcntl.LOCK_SH | fcntl.LOCK_NB)
+    except BlockingIOError:  # held: an invocation computes, or is paused
+        try:
+            return json.loads(running.read_text(encoding="utf-8"))
+        except (FileNotFoundError, ValueError):  # it ended, or is rewriting, just now
+            return None
+    else:  # nobody holds it: the file is a killed invocation's
+        fcntl.flock(fd, fcntl.LOCK_UN)
         return None
+    finally:
+        os.close(fd)
 
 
 class RunClock:
@@ -151,7 +169,7 @@ class RunClock:
             self._write()
 
     def __enter__(self) -> RunClock:
-        self._fd = _try_lock(self.lock_file)
+        self._fd = _try_lock(self.lock_file, LOCK_WAIT_S)
         if self._fd is None:
             raise OutputError(f"another invocation computes in '{self.running.parent}' (it holds "
                               f"'{self.lock_file.name}'): wait for it to end, or use another work folder")

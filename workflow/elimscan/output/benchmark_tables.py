@@ -244,12 +244,14 @@ def _remaining(info: RunInfo) -> str:
 
 
 def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_seconds: float,
-                  running: Mapping | None, work: str) -> str:
+                  running: Mapping | None, work: str, n_failed: int = 0) -> str:
     """Return how far a benchmark run got, for a chemist checking on it: ``what`` (subset and base model), jobs
-    finished of all (of them from the archive), their summed job time (``job_seconds``, s), the estimate of the
-    rest, and the invocation computing in ``work`` now (``running``: its running-file entry, or None)."""
+    finished of all (of them from the archive, and failed), their summed job time (``job_seconds``, s), the estimate
+    of the rest, and the invocation computing in ``work`` now (``running``: its running-file entry, or None)."""
     archived = f", {n_archived} of them read from the archive" if n_archived else ""
-    text = (f"{what}: {n_finished} of {n_jobs} job(s) finished{archived}, {_duration(job_seconds)} of job time"
+    failed = (f", {n_failed} of them failed (scored as not computed; a computing run tries them again)"
+              if n_failed else "")
+    text = (f"{what}: {n_finished} of {n_jobs} job(s) finished{archived}{failed}, {_duration(job_seconds)} of job time"
             + remaining_clause(n_jobs, n_finished, job_seconds) + ".")
     if running is None:
         return text + f" No invocation computes in {work} now."
