@@ -272,6 +272,12 @@ def test_a_probe_of_named_cases_runs_only_those_and_writes_no_page(cases, valida
     assert [c.id for c in chosen] == ["ethyl-bromide-ethoxide-sn2-rate"]
     with pytest.raises(ValueError, match="2-bromobutane-ethoxide not in the calibration subset"):
         validate._chosen("calibration", list(cases.calibration), list(cases.test), ("2-bromobutane-ethoxide",))
+    # an id that holds a comma of its own survives the comma-split list
+    args = validate._parse(["--cases", "2-bromo-2,3-dimethylbutane-ethoxide,2-bromobutane-ethoxide"])
+    chosen = validate._chosen("all", list(cases.calibration), list(cases.test), args.cases)
+    assert [c.id for c in chosen] == ["2-bromobutane-ethoxide", "2-bromo-2,3-dimethylbutane-ethoxide"]
+    with pytest.raises(ValueError, match="2-bromo-2 not in the all subset"):
+        validate._chosen("all", list(cases.calibration), list(cases.test), ("2-bromo-2",))
 
 
 def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(validate, tmp_path, capsys,

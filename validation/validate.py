@@ -373,6 +373,23 @@ def page_path(subset: str, base_model: str, dft_functional: str | None = None) -
     return HERE / f"{PAGES[subset]}{suffix}.md"
 
 
+def _rejoined(pieces: tuple[str, ...], ids: set[str]) -> tuple[str, ...]:
+    """Return the case ids of a comma-split --cases list, pieces joined again where an id holds a comma itself
+    (2-bromo-2,3-dimethylbutane-ethoxide); a piece that joins into no id is kept as given."""
+    out: list[str] = []
+    i = 0
+    while i < len(pieces):
+        for j in range(len(pieces), i, -1):  # the longest run of pieces that is an id
+            if ",".join(pieces[i:j]) in ids:
+                out.append(",".join(pieces[i:j]))
+                i = j
+                break
+        else:
+            out.append(pieces[i])
+            i += 1
+    return tuple(out)
+
+
 def _chosen(subset: str, calibration: list, test: list, only: tuple[str, ...] | None = None) -> list:
     """Return the cases a subset runs: all, the fast few, or the calibration set (only the ids ``only`` when given;
     ValueError names an id the subset does not hold)."""
@@ -380,6 +397,7 @@ def _chosen(subset: str, calibration: list, test: list, only: tuple[str, ...] | 
         [c for c in (*calibration, *test) if subset == "all" or c.id in FAST_SUBSET]
     if only is None:
         return chosen
+    only = _rejoined(only, {c.id for c in (*calibration, *test)})
     unknown = sorted(set(only) - {c.id for c in chosen})
     if unknown:
         raise ValueError(f"--cases: {', '.join(unknown)} not in the {subset} subset (ids of validation/cases.yaml)")
