@@ -74,9 +74,10 @@ E_OF_2_BUTENES_LEAST = 0.6
 
 @pytest.mark.parametrize("level", LEVELS)
 def test_trans_2_butene_is_the_major_2_butene_in_every_seed(level):
-    # the E alkene major among the 2-butenes (trans major: from memory, see validation/cases.yaml), judged seed by
-    # seed on the 2-butenes alone, so that a seed's swing toward 1-butene is not read as an E/Z swing; measured
-    # 2026-12-05: E 79-93 % of the 2-butenes at dE, 76-94 % at dG
+    # the E alkene major among the 2-butenes: from memory, not seen in a source with numbers (validation/cases.yaml;
+    # the paper it was cited to, Brown & Klimisch, J. Am. Chem. Soc. 1966, 88, 1425, covers potassium tert-butoxide
+    # only); judged seed by seed on the 2-butenes alone, so that a seed's swing toward 1-butene is not read as an E/Z
+    # swing; measured 2026-12-05: E 79-93 % of the 2-butenes at dE, 76-94 % at dG
     for shares in _level(BUTENE_CASE, level)["seed_shares"]:
         assert shares is not None, level
         e, z = shares.get(E_2_BUTENE, 0.0), shares.get(Z_2_BUTENE, 0.0)

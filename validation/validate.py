@@ -211,8 +211,15 @@ def run_clock(work: Path, entry: dict, started: float) -> runclock.RunClock:
 
 
 def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: str) -> int:
-    """Print how far the groups' jobs got in ``work`` and the archive and who computes there now; return 0."""
-    found = _collect(groups, work, records)
+    """Print how far the groups' jobs got in ``work`` and the archive and who computes there now; return the exit
+    code (2 when a batch store cannot be read)."""
+    if not work.is_dir():
+        print(f"note: {work} does not exist or is no folder: only the archive was read", file=sys.stderr)
+    try:
+        found = _collect(groups, work, records)
+    except OutputError as err:  # a damaged store names itself
+        print(f"error: {err}", file=sys.stderr)
+        return 2
     running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
     print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work),
                         found.n_failed))

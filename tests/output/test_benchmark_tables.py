@@ -146,7 +146,10 @@ def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes
     said = progress_text("VALIDATION.md (all cases), base model bare", 10, 4, 1, 4 * 600.0, running, "/w")
     assert said.startswith("VALIDATION.md (all cases), base model bare: 4 of 10 job(s) finished, 1 of them read "
                            "from the archive, 40 min of job time; the 6 job(s) left would take about 1 h 00 min")
-    assert "Computing in /w now: pid 4242 on ws1, commit abc1234" in said and "1 h 30 min so far" in said
+    assert "Computing in /w now: pid 4242 on ws1, commit abc1234, subset all, every seed" in said
+    assert "1 h 30 min so far" in said
+    fast = progress_text("x", 3, 1, 0, 60.0, {**running, "subset": "fast", "seeds": 3}, "/w")
+    assert "subset fast, first 3 seed(s), base model bare" in fast
     idle = progress_text("x", 3, 3, 0, 900.0, None, "/w")
     assert idle == "x: 3 of 3 job(s) finished, 15 min of job time. No invocation computes in /w now."
     failed = progress_text("x", 3, 3, 0, 900.0, None, "/w", n_failed=1)

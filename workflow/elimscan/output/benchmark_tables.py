@@ -256,8 +256,11 @@ def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_
     if running is None:
         return text + f" No invocation computes in {work} now."
     model = running.get("base_model") or "an unnamed base model"
+    seeds = running.get("seeds")
     return (text + f" Computing in {work} now: pid {running.get('pid')} on {running.get('host')}, commit "
-            f"{running.get('commit')}, base model {model}, started {running.get('started_utc')}, "
+            f"{running.get('commit')}, subset {running.get('subset') or 'all'}, "
+            f"{f'first {seeds} seed(s)' if seeds else 'every seed'}, base model {model}, "
+            f"started {running.get('started_utc')}, "
             f"{_duration(float(running.get('wall_seconds') or 0.0))} so far (pauses left out), last heard "
             f"{running.get('updated_utc')}.")
 
