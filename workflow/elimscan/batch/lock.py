@@ -11,8 +11,9 @@ import errno
 import fcntl
 import os
 import socket
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from pathlib import Path
+from typing import TypeVar
 
 from elimscan.errors import ConfigError, OutputError
 from elimscan.pipeline.document import utc_now
@@ -20,6 +21,7 @@ from elimscan.batch.documents import INDEX_FILE, RESULTS_FILE
 from elimscan.batch.store import STORE_FILE
 
 LOCK_FILE = "batch.lock"
+T = TypeVar("T")
 #: folders of a batch's output folder that only the batch writes into
 OUTPUT_FOLDERS = ("jobs", "plots")
 
@@ -85,9 +87,9 @@ class FolderLock:
         self.release()
 
 
-def lock_holder(out: Path) -> str | None:
-    """Return who holds the lock of ``out`` (pid, host, start, command), or None when no batch or run computes there."""
-    path = Path(out) / LOCK_FILE
+def read_if_held(path: Path, read: Callable[[int], T]) -> T | None:
+    """Return ``read(fd)`` of the lock file ``path`` while another process holds its lock (computing or paused), or
+    None when nobody holds it or it does not exist. Read-only: creates nothing, takes a shared lock for an instant."""
     try:
         fd = os.open(path, os.O_RDONLY)
     except OSError:
@@ -95,12 +97,17 @@ def lock_holder(out: Path) -> str | None:
     try:
         fcntl.flock(fd, fcntl.LOCK_SH | fcntl.LOCK_NB)
     except BlockingIOError:
-        return _holder_text(fd)
+        return read(fd)
     else:
         fcntl.flock(fd, fcntl.LOCK_UN)
         return None
     finally:
         os.close(fd)
+
+
+def lock_holder(out: Path) -> str | None:
+    """Return who holds the lock of ``out`` (pid, host, start, command), or None when no batch or run computes there."""
+    return read_if_held(Path(out) / LOCK_FILE, _holder_text)
 
 
 def output_files() -> tuple[str, ...]:

@@ -20,6 +20,7 @@ import time
 from pathlib import Path
 
 from elimscan.atomicio import write_text_atomic
+from elimscan.batch.lock import read_if_held
 from elimscan.errors import OutputError
 
 #: seconds between two rewrites of the running file: a killed invocation loses at most this much of its logged time
@@ -117,22 +118,15 @@ def running_entry(running: Path, lock_file: Path) -> dict | None:
     invocation starting then waits LOCK_WAIT_S for it), and leaves a killed invocation's file to the next one."""
     if not running.exists():
         return None
+    return read_if_held(lock_file, lambda _fd: _entry_now(running))
+
+
+def _entry_now(running: Path) -> dict | None:
+    """Return the running file's entry, or None when it ended or is being rewritten just now."""
     try:
-        fd = os.open(lock_file, os.O_RDONLY)
-    except FileNotFoundError:
+        return json.loads(running.read_text(encoding="utf-8"))
+    except (FileNotFoundError, ValueError):
         return None
-    try:
-        fcntl.flock(fd, fcntl.LOCK_SH | fcntl.LOCK_NB)
-    except BlockingIOError:  # held: an invocation computes, or is paused
-        try:
-            return json.loads(running.read_text(encoding="utf-8"))
-        except (FileNotFoundError, ValueError):  # it ended, or is rewriting, just now
-            return None
-    else:  # nobody holds it: the file is a killed invocation's
-        fcntl.flock(fd, fcntl.LOCK_UN)
-        return None
-    finally:
-        os.close(fd)
 
 
 class RunClock:
