@@ -60,6 +60,10 @@ def test_the_page_names_the_run_and_gives_every_part():
     assert "judged (mean over seeds; each seed is judged alone) `C=CCC` 28 % of alkenes" in row and row.endswith("| dE 55 | 1 h 00 min |")
     wrong = next(line for line in page.splitlines() if line.startswith("| amyl |"))
     assert "**wrong**" in wrong and "why: major C=C(C)CC, expected CC=C(C)C" in wrong
+    # the published 19 % 1-butene as a free-energy difference, after the series, with a summary line per level
+    assert page.index("## Series") < page.index("## Selectivity in kcal/mol")
+    assert "| bookkeeping | C=CCC vs the other alkenes: 19 % | +0.9 | " in page
+    assert "- **GFN2-xTB dE**: 1 difference(s); mean error " in page
 
 
 def test_a_series_shows_the_terminal_share_per_member():

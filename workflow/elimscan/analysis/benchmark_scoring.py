@@ -34,12 +34,13 @@ from __future__ import annotations
 import math
 from collections import Counter
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from rdkit import Chem
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, Expected, OutcomeCase, isomer_key
-from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts, product_fractions
+from elimscan.analysis.rule import (METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts, product_barriers_kcal_mol,
+                                   product_fractions)
 from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS, no_barrier_reason
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
@@ -151,6 +152,8 @@ class LevelMix:
     missing: tuple[str, ...] = ()
     #: best syn minus best anti effective barrier (kcal/mol; degeneracy counted), None without both approaches
     syn_minus_anti_kcal_mol: float | None = None
+    #: every product's effective barrier over its paths (kcal/mol; degeneracy counted, ``rule.product_barriers_kcal_mol``)
+    product_barriers_kcal_mol: dict[str, float] = field(default_factory=dict)
 
 
 def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None:
@@ -174,7 +177,8 @@ def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None
                     e2_fraction=None if sn2 is None else 1.0 - shares[SUBSTITUTION], major=verdict.computed_major,
                     undecided=verdict.within_method_uncertainty, main_approach=main.approach,
                     left_out=tuple(left_out), missing=missing_products(job, set(shares)),
-                    syn_minus_anti_kcal_mol=None if None in best.values() else best["syn"] - best["anti"])
+                    syn_minus_anti_kcal_mol=None if None in best.values() else best["syn"] - best["anti"],
+                    product_barriers_kcal_mol=product_barriers_kcal_mol(everything, temperature_K))
 
 
 def judge_mix(expected: Expected, mix: LevelMix | None, major_only: bool = False) -> tuple[str, tuple[str, ...]]:

@@ -1,4 +1,5 @@
-"""One line per base model and level across benchmark runs: headline counts, calibration errors, seed spread.
+"""One line per base model and level across benchmark runs: headline counts, calibration errors, seed spread, and
+the error of the published shares as free-energy differences.
 
 Issue 18 asks that every candidate base model be reported on the benchmark, not only the frozen one; this
 module reduces one model's scored cases and calibration errors to the numbers of that comparison. Pure.
@@ -12,6 +13,7 @@ from dataclasses import dataclass
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import RateCase
 from elimscan.analysis.benchmark_scoring import CaseScore, Headline, headline
+from elimscan.analysis.selectivity import selectivity_checks, summarise_selectivity
 
 
 @dataclass(frozen=True)
@@ -29,6 +31,10 @@ class ModelSummary:
     largest_spread_points: float | None
     n_jobs: int
     n_jobs_finished: int
+    #: mean |computed - published| free-energy difference of the published shares (kcal/mol, analysis.selectivity),
+    #: and over how many shares
+    selectivity_mean_abs_error_kcal_mol: float | None = None
+    n_selectivity: int = 0
 
 
 def rate_errors_kcal_mol(calibration: Sequence[CalibrationScore], level: str) -> list[float]:
@@ -41,10 +47,14 @@ def summarise_model(model: str, level: str, scores: Sequence[CaseScore], calibra
                     n_jobs: int, n_jobs_finished: int) -> ModelSummary:
     """Return the comparison line of one base model at one level."""
     errors = rate_errors_kcal_mol(calibration, level)
+    selectivity = summarise_selectivity([c for s in scores if level in s.levels for c in selectivity_checks(s, level)],
+                                        level)
     spreads = [s.levels[level].spread_points for s in scores
                if level in s.levels and s.levels[level].spread_points is not None]
     return ModelSummary(model=model, level=level, counts=headline(scores, level),
                         rate_mean_abs_error_kcal_mol=sum(abs(e) for e in errors) / len(errors) if errors else None,
                         rate_mean_error_kcal_mol=sum(errors) / len(errors) if errors else None, n_rates=len(errors),
                         largest_spread_points=max(spreads) if spreads else None,
-                        n_jobs=n_jobs, n_jobs_finished=n_jobs_finished)
+                        n_jobs=n_jobs, n_jobs_finished=n_jobs_finished,
+                        selectivity_mean_abs_error_kcal_mol=selectivity.mean_abs_error_kcal_mol,
+                        n_selectivity=selectivity.n)

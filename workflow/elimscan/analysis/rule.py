@@ -272,6 +272,25 @@ def product_fractions(paths: Sequence[PathBarrier], temperature_K: float,
     return {smiles: w / total for smiles, w in weights.items()}
 
 
+def free_energy_of_sum_kcal_mol(barriers_kcal_mol: Sequence[float], temperature_K: float) -> float:
+    """Return -RT ln Σ exp(-G_i/RT) (kcal/mol) of several barriers (kcal/mol), computed without underflow."""
+    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
+    lowest = min(barriers_kcal_mol)
+    return lowest - rt * math.log(sum(math.exp(-(b - lowest) / rt) for b in barriers_kcal_mol))
+
+
+def product_barriers_kcal_mol(paths: Sequence[PathBarrier], temperature_K: float) -> dict[str, float]:
+    """Return each product's effective barrier (kcal/mol): -RT ln Σ g exp(-dE/RT) over its paths (g: degeneracy).
+
+    The same weights as ``product_fractions``: a share is exp(-G_p/RT) over the sum of every product's.
+    """
+    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
+    by_product: dict[str, list[float]] = {}
+    for path in paths:
+        by_product.setdefault(path.product_smiles, []).append(path.barrier_kcal_mol - rt * math.log(path.degeneracy))
+    return {smiles: free_energy_of_sum_kcal_mol(values, temperature_K) for smiles, values in by_product.items()}
+
+
 def fraction_ranges(paths: Sequence[PathBarrier], temperature_K: float,
                     delta_kcal_mol: float = METHOD_UNCERTAINTY_KCAL_MOL
                     ) -> dict[str, tuple[float, float]]:

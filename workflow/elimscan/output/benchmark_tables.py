@@ -3,7 +3,8 @@
 The page: when, at which commit and how long the run took; per level the headline "computed right X/N,
 rule right Y/M, undecided Z/N", then per category; the per-case table (experiment with its source, the
 rule's call, the computed call per level with the mean mix over seeds, right/wrong/undecided, the spread
-over seeds); the terminal-alkene share of each series' members; and the calibration errors.
+over seeds); the terminal-alkene share of each series' members; each published share as a free-energy
+difference beside the computed one (``benchmark_selectivity``); and the calibration errors.
 """
 
 from __future__ import annotations
@@ -19,6 +20,7 @@ from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline, is_terminal)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
+from elimscan.output.benchmark_selectivity import selectivity_section
 
 #: how a level is named in the page
 LEVEL_WORDS = {**LEVEL_WORDS_ASCII, "DFT//GFN2": "DFT//GFN2"}
@@ -281,10 +283,12 @@ def freeze_line(info: RunInfo) -> str:
 
 
 def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[str]:
-    """Return Markdown rows comparing base models: counts per level, rate errors (kcal/mol), seed spread."""
+    """Return Markdown rows comparing base models: counts per level, rate and selectivity errors (kcal/mol), seed
+    spread."""
     rows = ["| base model | level | computed right | rule right | undecided (not right) | not computed | "
-            "rate ΔG‡ error: mean (mean of abs), kcal/mol | largest seed spread (points) | jobs finished |",
-            "|---|---|---|---|---|---|---|---|---|"]
+            "rate ΔG‡ error: mean (mean of abs), kcal/mol | selectivity ΔΔG‡ error: mean of abs, kcal/mol | "
+            "largest seed spread (points) | jobs finished |",
+            "|---|---|---|---|---|---|---|---|---|---|"]
     for m in summaries:
         c = m.counts
         name = f"`{m.model}`" + (" (frozen)" if m.model == frozen else "")
@@ -292,7 +296,10 @@ def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[st
                  if m.rate_mean_error_kcal_mol is not None and m.rate_mean_abs_error_kcal_mol is not None else "-")
         counts = (f"{c.right}/{c.n} | {c.rule_right}/{c.rule_n} | {c.undecided}/{c.n} | {_not_computed(c)}"
                   if c.n else "- | - | - | -")  # no test case on the page: nothing was scored
-        rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {counts} | {error} | {_number(m.largest_spread_points, 0)} | "
+        selectivity = (f"{m.selectivity_mean_abs_error_kcal_mol:.1f} over {m.n_selectivity}"
+                       if m.selectivity_mean_abs_error_kcal_mol is not None else "-")
+        rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {counts} | {error} | {selectivity} | "
+                    f"{_number(m.largest_spread_points, 0)} | "
                     f"{m.n_jobs_finished} of {m.n_jobs} |")
     return rows
 
@@ -316,7 +323,8 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     if any(s.case.series for s in scores):
         lines += ["", "## Series: terminal-alkene share of the alkenes", "",
                   "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
-    return lines
+    selectivity = selectivity_section(scores, levels, LEVEL_WORDS)
+    return lines + (["", *selectivity] if selectivity else [])
 
 
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
@@ -365,7 +373,8 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
     else:
         lines += ["## Headline", "", "No product outcome is scored on this page: it holds calibration cases only "
                   "(rate constants, isotope effects, Hammett rho), whose errors are listed below."]
-    if models:        lines += ["", "## Base models compared", "",
+    if models:
+        lines += ["", "## Base models compared", "",
                   "Every candidate base model with finished jobs in this work folder, scored on the same cases and "
                   "seeds as this page (a model's unfinished jobs count as not computed). The model was frozen on "
                   "basicity and calibration physics before the test set was scored (see the model freeze above); "
