@@ -224,3 +224,31 @@ def test_an_unreadable_installed_record_is_left_out_with_a_warning(monkeypatch, 
     assert "cannot be read" in caplog.text
     (tmp_path / "data" / files.BENCHMARK_RECORD_FILE).unlink()
     assert files.load_benchmark_record() is None
+
+
+def test_the_gap_of_the_two_best_alkenes_is_set_beside_the_levels_error_of_relative_barriers():
+    from dataclasses import replace
+
+    from elimscan.analysis.headline import job_headline
+    from elimscan.output.benchmark_note import benchmark_note
+
+    job = _bromobutane()
+    record = _record(major_right=2)
+    entry = record["pages"]["VALIDATION.md"]
+    entry["selectivity"] = {"dE": {"n": 11, "mean_error_kcal_mol": 0.0, "mean_abs_error_kcal_mol": 1.3,
+                                   "n_within_uncertainty": 4, "n_unbounded": 0}}
+    close = replace(job_headline(job), computed_major="C/C=C/C", runner_up="C=CCC", gap_kcal_mol=0.6)
+    note = benchmark_note(job, record, close)
+    assert ("On the benchmark's 11 published shares this level's relative barriers missed by 1.3 kcal/mol on average "
+            "(4 of them within 1 kcal/mol); this job's computed major lies 0.6 kcal/mol below its closest rival, "
+            "smaller than that error: the level does not tell these two apart.") in note
+    wide = benchmark_note(job, record, replace(close, gap_kcal_mol=2.5))
+    assert "lies 2.5 kcal/mol below its closest rival, larger than that mean error." in wide
+    # too few shares behind the error, no such error in the record (older layout), or no rival: no sentence
+    entry["selectivity"]["dE"]["n"] = 2
+    assert "published shares" not in benchmark_note(job, record, close)
+    del entry["selectivity"]
+    assert "published shares" not in benchmark_note(job, record, close)
+    entry["selectivity"] = {"dE": {"n": 11, "mean_abs_error_kcal_mol": 1.3, "n_within_uncertainty": 4}}
+    assert "published shares" not in benchmark_note(job, record, replace(close, runner_up=None))
+    assert "published shares" not in benchmark_note(job, record, None)

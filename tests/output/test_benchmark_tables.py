@@ -126,6 +126,11 @@ def test_the_report_record_carries_the_page_headline_counts_per_category():
         assert (counts["cases"], counts["right"], counts["undecided"], counts["rule_right"]) == (
             h.n, h.right, h.undecided, h.rule_right)
     assert set(entry["levels"]["dE"]) == {c for s in found for c in s.case.category}  # categories with cases only
+    # the errors of the published shares as free-energy differences, as the page's selectivity line says them
+    from elimscan.analysis.selectivity import selectivity_checks, summarise_selectivity
+    summary = summarise_selectivity([c for s in found for c in selectivity_checks(s, "dE")], "dE")
+    assert entry["selectivity"]["dE"]["n"] == summary.n == 1
+    assert entry["selectivity"]["dE"]["mean_abs_error_kcal_mol"] == summary.mean_abs_error_kcal_mol
     # each seed's shares as scored (the tests of the frozen model judge a choice seed by seed)
     kept = page_record(found[:1], ["dE"], {})["cases"][found[0].case.id]["levels"]["dE"]
     assert kept["seed_shares"] == [dict(s.mix.shares) for s in found[0].levels["dE"].seeds]

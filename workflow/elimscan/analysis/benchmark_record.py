@@ -14,6 +14,7 @@ from collections.abc import Mapping, Sequence
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES
 from elimscan.analysis.benchmark_scoring import NOT_COMPUTED, NOT_SCORED, RIGHT, UNDECIDED, CaseScore, headline
+from elimscan.analysis.selectivity import selectivity_checks, summarise_selectivity
 
 #: the layout of the record; a reader meets an unknown one as no record at all
 RECORD_VERSION = 1
@@ -40,8 +41,8 @@ def _case_entry(score: CaseScore) -> dict:
 
 def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mapping[str, object]) -> dict:
     """Return one page's record: ``about`` (page, date, commit, base model, job base models, seeds, jobs); per
-    level and category with cases, the headline counts (cases, right, undecided, not computed; the rule's); and
-    per test case its outcome and mean shares at each level."""
+    level and category with cases, the headline counts (cases, right, undecided, not computed; the rule's); per
+    level the selectivity errors (kcal/mol); and per test case its outcome and mean shares at each level."""
     counts: dict[str, dict[str, dict[str, int]]] = {}
     for level in levels:
         for category in CATEGORIES:
@@ -56,7 +57,21 @@ def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mappi
                 "major_cases": sum(m != NOT_SCORED for m in major),
                 "major_computed": sum(m not in (NOT_SCORED, NOT_COMPUTED) for m in major),
                 "major_right": major.count(RIGHT), "major_undecided": major.count(UNDECIDED)}
-    return {**about, "levels": counts, "cases": {score.case.id: _case_entry(score) for score in scores}}
+    return {**about, "levels": counts, "selectivity": selectivity_record(scores, levels),
+            "cases": {score.case.id: _case_entry(score) for score in scores}}
+
+
+def selectivity_record(scores: Sequence[CaseScore], levels: Sequence[str]) -> dict:
+    """Return per level the errors of the published shares as free-energy differences (analysis.selectivity):
+    how many have a finite error, mean and mean absolute error (kcal/mol, None without one), how many lie within
+    the method's uncertainty, how many are unbounded (a computed share of 0 or 100 % in some seed)."""
+    out = {}
+    for level in levels:
+        s = summarise_selectivity([c for score in scores for c in selectivity_checks(score, level)], level)
+        out[level] = {"n": s.n, "mean_error_kcal_mol": s.mean_error_kcal_mol,
+                      "mean_abs_error_kcal_mol": s.mean_abs_error_kcal_mol,
+                      "n_within_uncertainty": s.n_within_uncertainty, "n_unbounded": s.n_unbounded}
+    return out
 
 
 def calibration_record(calibration: Sequence[CalibrationScore]) -> dict:

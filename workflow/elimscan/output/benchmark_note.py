@@ -7,7 +7,9 @@ drove the job's mix: of the cases with a published major product, in how many th
 many the level left undecided, and how many the textbook rule got right; with how many whole cases (every published
 share too) were right. When the job is undecided because its best alkenes lie within the method's uncertainty and
 the level got at most half of such cases' major products right (at least MIN_CASES computed), it says that the
-undecided verdict is the level's limit. Pure rendering: no files.
+undecided verdict is the level's limit. Where the record holds the level's error of relative barriers on the
+published shares (at least MIN_CASES shares), it sets the job's gap between its two best alkenes beside it.
+Pure rendering: no files.
 """
 
 from __future__ import annotations
@@ -17,6 +19,7 @@ from collections.abc import Mapping
 from elimscan.analysis.benchmark_record import chosen_page
 from elimscan.analysis.choicekinds import ALKENE_KINDS, choice_kinds, constitution
 from elimscan.analysis.headline import CLOSE_CALL, Headline
+from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL
 from elimscan.results.records import JobRecord
 
 #: the benchmark category of a job's choice, in words
@@ -66,6 +69,25 @@ def _limit_kinds(job: JobRecord, headline: Headline | None, kinds: tuple[str, ..
     return tuple(k for k in kinds if k in ALKENE_KINDS and (k == "ez-ratio") == same_form)
 
 
+def _gap_against_error(selectivity: Mapping | None, level: str, headline: Headline | None) -> str:
+    """Return the sentence setting this job's gap between its two best alkenes (kcal/mol) beside the level's mean
+    absolute error of relative barriers on the benchmark's published shares, or '' (no gap, no such error, or fewer
+    than MIN_CASES shares behind it)."""
+    s = (selectivity or {}).get(level) if isinstance(selectivity, Mapping) else None
+    if not isinstance(s, Mapping) or not isinstance(s.get("n"), int) or s["n"] < MIN_CASES:
+        return ""
+    error = s.get("mean_abs_error_kcal_mol")
+    if not isinstance(error, (int, float)) or headline is None or headline.gap_kcal_mol is None \
+            or not headline.computed_major or not headline.runner_up:
+        return ""
+    gap = headline.gap_kcal_mol
+    side = ("smaller than that error: the level does not tell these two apart" if gap < error
+            else "larger than that mean error")
+    return (f" On the benchmark's {s['n']} published shares this level's relative barriers missed by {error:.1f} "
+            f"kcal/mol on average ({s.get('n_within_uncertainty', 0)} of them within {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol); this job's computed "
+            f"major lies {gap:.1f} kcal/mol below its closest rival, {side}.")
+
+
 def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | None = None,
                    ascii_only: bool = False) -> str | None:
     """Return what the reference benchmark says of cases asking this job's kinds of choice, at the level that drove
@@ -94,6 +116,7 @@ def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | 
     elif model not in (entry.get("job_base_models") or []):
         text += (f" This job's base model ({model}) is not among the benchmark's: the counts are of another model "
                  "of the base.")
+    text += _gap_against_error(entry.get("selectivity"), level, headline)
     limits = [counts for kind, counts in found if kind in _limit_kinds(job, headline, kinds)]
     if limits and all(c["major_computed"] >= MIN_CASES and 2 * c["major_right"] <= c["major_computed"]
                       for c in limits):
