@@ -25,7 +25,8 @@ from pathlib import Path
 import ase.io
 from rdkit import Chem
 
-from elimscan.analysis.benchmark_calibration import eyring_free_barrier_kcal_mol, summed_barrier_kcal_mol
+from elimscan.analysis.benchmark_calibration import eyring_free_barrier_kcal_mol
+from elimscan.analysis.rule import summed_barrier_kcal_mol
 from elimscan.analysis.benchmark_cases import RateCase, parse_cases
 from elimscan.analysis.benchmark_scoring import e2_paths, sn2_path
 from elimscan.atomicio import write_text_atomic

@@ -22,9 +22,8 @@ from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_cases import CalibrationCase, HammettCase, IsotopeCase, RateCase, member_slot
 from elimscan.analysis.benchmark_scoring import DERIVED_LEVELS, e2_paths, path_left_out, sn2_path
-from elimscan.analysis.rule import hammett_fit
-from elimscan.units import (AVOGADRO_PER_MOL_2018, BOLTZMANN_J_PER_K_2018, BOLTZMANN_KCAL_MOL_PER_K, J_PER_KCAL,
-                            PLANCK_J_S_2018)
+from elimscan.analysis.rule import hammett_fit, summed_barrier_kcal_mol
+from elimscan.units import AVOGADRO_PER_MOL_2018, BOLTZMANN_J_PER_K_2018, J_PER_KCAL, PLANCK_J_S_2018
 
 #: standard concentration of the measured second-order rate constants (mol/L)
 STANDARD_CONCENTRATION_M = 1.0
@@ -76,14 +75,6 @@ def with_dft_free_barriers(job: Mapping) -> dict | None:
     if job.get("substitution"):
         copy["substitution"] = free(job["substitution"])
     return copy
-
-
-def summed_barrier_kcal_mol(barriers: Sequence[tuple[float, int]], temperature_K: float) -> float:
-    """Return the effective barrier (kcal/mol) of parallel paths given as (barrier kcal/mol, degeneracy): the
-    Boltzmann sum, -RT ln sum(n exp(-barrier / RT))."""
-    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
-    lowest = min(b for b, _ in barriers)
-    return lowest - rt * math.log(sum(n * math.exp(-(b - lowest) / rt) for b, n in barriers))
 
 
 def channel_barrier_kcal_mol(job: Mapping, channel: str, level: str, temperature_K: float) -> float | None:

@@ -14,7 +14,7 @@ from collections.abc import Mapping, Sequence
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES
 from elimscan.analysis.benchmark_scoring import NOT_COMPUTED, NOT_SCORED, RIGHT, UNDECIDED, CaseScore, headline
-from elimscan.analysis.selectivity import selectivity_checks, summarise_selectivity
+from elimscan.analysis.selectivity import GROUPS, case_checks, summarise_selectivity
 
 #: the layout of the record; a reader meets an unknown one as no record at all
 RECORD_VERSION = 1
@@ -62,15 +62,18 @@ def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mappi
 
 
 def selectivity_record(scores: Sequence[CaseScore], levels: Sequence[str]) -> dict:
-    """Return per level the errors of the published shares as free-energy differences (analysis.selectivity):
-    how many have a finite error, mean and mean absolute error (kcal/mol, None without one), how many lie within
-    the method's uncertainty, how many are unbounded (a computed share of 0 or 100 % in some seed)."""
-    out = {}
+    """Return per level and group ('alkenes', 'E2 vs SN2') the errors of the published shares as free-energy
+    differences (analysis.selectivity): the counts, mean and mean absolute error (kcal/mol, None without one)."""
+    out: dict[str, dict[str, dict]] = {}
     for level in levels:
-        s = summarise_selectivity([c for score in scores for c in selectivity_checks(score, level)], level)
-        out[level] = {"n": s.n, "mean_error_kcal_mol": s.mean_error_kcal_mol,
-                      "mean_abs_error_kcal_mol": s.mean_abs_error_kcal_mol,
-                      "n_within_uncertainty": s.n_within_uncertainty, "n_unbounded": s.n_unbounded}
+        by_case = case_checks(scores, level)
+        for group in GROUPS:
+            s = summarise_selectivity(by_case, level, group)
+            out.setdefault(level, {})[group] = {
+                "n_published": s.n_published, "n_from_memory": s.n_from_memory, "n": s.n, "n_cases": s.n_cases,
+                "n_unbounded": s.n_unbounded, "n_not_computed": s.n_not_computed,
+                "mean_error_kcal_mol": s.mean_error_kcal_mol, "mean_abs_error_kcal_mol": s.mean_abs_error_kcal_mol,
+                "n_within_uncertainty": s.n_within_uncertainty}
     return out
 
 

@@ -154,6 +154,8 @@ class LevelMix:
     syn_minus_anti_kcal_mol: float | None = None
     #: every product's effective barrier over its paths (kcal/mol; degeneracy counted, ``rule.product_barriers_kcal_mol``)
     product_barriers_kcal_mol: dict[str, float] = field(default_factory=dict)
+    #: the temperature of the shares and effective barriers (K)
+    temperature_K: float = 298.15
 
 
 def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None:
@@ -178,7 +180,8 @@ def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None
                     undecided=verdict.within_method_uncertainty, main_approach=main.approach,
                     left_out=tuple(left_out), missing=missing_products(job, set(shares)),
                     syn_minus_anti_kcal_mol=None if None in best.values() else best["syn"] - best["anti"],
-                    product_barriers_kcal_mol=product_barriers_kcal_mol(everything, temperature_K))
+                    product_barriers_kcal_mol=product_barriers_kcal_mol(everything, temperature_K),
+                    temperature_K=temperature_K)
 
 
 def judge_mix(expected: Expected, mix: LevelMix | None, major_only: bool = False) -> tuple[str, tuple[str, ...]]:

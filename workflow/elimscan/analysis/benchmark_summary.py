@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import RateCase
 from elimscan.analysis.benchmark_scoring import CaseScore, Headline, headline
-from elimscan.analysis.selectivity import selectivity_checks, summarise_selectivity
+from elimscan.analysis.selectivity import case_checks, summarise_selectivity
 
 
 @dataclass(frozen=True)
@@ -31,10 +31,12 @@ class ModelSummary:
     largest_spread_points: float | None
     n_jobs: int
     n_jobs_finished: int
-    #: mean |computed - published| free-energy difference of the published shares (kcal/mol, analysis.selectivity),
-    #: and over how many shares
+    #: mean |computed - published| free-energy difference of the published shares, alkenes and E2 vs SN2 together
+    #: (kcal/mol, analysis.selectivity); over how many shares, of how many published, and how many unbounded
     selectivity_mean_abs_error_kcal_mol: float | None = None
     n_selectivity: int = 0
+    n_selectivity_published: int = 0
+    n_selectivity_unbounded: int = 0
 
 
 def rate_errors_kcal_mol(calibration: Sequence[CalibrationScore], level: str) -> list[float]:
@@ -47,8 +49,7 @@ def summarise_model(model: str, level: str, scores: Sequence[CaseScore], calibra
                     n_jobs: int, n_jobs_finished: int) -> ModelSummary:
     """Return the comparison line of one base model at one level."""
     errors = rate_errors_kcal_mol(calibration, level)
-    selectivity = summarise_selectivity([c for s in scores if level in s.levels for c in selectivity_checks(s, level)],
-                                        level)
+    selectivity = summarise_selectivity(case_checks(scores, level), level)
     spreads = [s.levels[level].spread_points for s in scores
                if level in s.levels and s.levels[level].spread_points is not None]
     return ModelSummary(model=model, level=level, counts=headline(scores, level),
@@ -57,4 +58,5 @@ def summarise_model(model: str, level: str, scores: Sequence[CaseScore], calibra
                         largest_spread_points=max(spreads) if spreads else None,
                         n_jobs=n_jobs, n_jobs_finished=n_jobs_finished,
                         selectivity_mean_abs_error_kcal_mol=selectivity.mean_abs_error_kcal_mol,
-                        n_selectivity=selectivity.n)
+                        n_selectivity=selectivity.n, n_selectivity_published=selectivity.n_published,
+                        n_selectivity_unbounded=selectivity.n_unbounded)

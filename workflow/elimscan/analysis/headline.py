@@ -19,7 +19,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.rule import (DEGREES, METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts, hofmann_shift,
-                                    is_trans, product_fractions)
+                                    is_trans, product_barriers_kcal_mol, product_fractions)
 from elimscan.analysis.rulebasis import Candidate, deciding_criteria
 from elimscan.results.records import ApproachRecord, JobRecord, SubstitutionRecord, counts_as_barrier
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
@@ -109,6 +109,11 @@ class Headline:
     #: computed paths (E2 and SN2) shown not to reach their products: no barriers, left out of every share
     paths_left_out: int
     error: str | None = None
+    #: the alkene with the lowest effective barrier after the computed major's (degeneracy counted,
+    #: rule.product_barriers_kcal_mol), and its effective barrier minus the major's (kcal/mol, the mix's kind; not
+    #: negative when the major is the largest share); None with one computed alkene or without a temperature
+    product_rival: str | None = None
+    product_gap_kcal_mol: float | None = None
 
 
 def _level(block: ApproachRecord | SubstitutionRecord, free: bool) -> float | None:
@@ -208,7 +213,7 @@ def job_headline(job: JobRecord, uncertainty_kcal_mol: float = METHOD_UNCERTAINT
                                         *(p.fraction_range or (None, None)), best.get(p.smiles)) for p in job.products),
                            key=lambda a: (a.share is None, -(a.share or 0.0))))
     rule_major = job.rule.rule_major
-    computed = runner = gap = gap_free = ratio = None
+    computed = runner = gap = gap_free = ratio = product_rival = product_gap = None
     state, why = UNDECIDED, None
     if paths:
         fractions = (product_fractions(paths, job.temperature_K) if job.temperature_K else
@@ -225,6 +230,10 @@ def job_headline(job: JobRecord, uncertainty_kcal_mol: float = METHOD_UNCERTAINT
                 best_free = _best(deciding_paths(job, True))
                 if computed in best_free and runner in best_free:
                     gap_free = best_free[runner] - best_free[computed]
+        effective = product_barriers_kcal_mol(paths, job.temperature_K) if job.temperature_K else {}
+        if computed in effective and len(effective) > 1:
+            product_rival = min((p for p in effective if p != computed), key=effective.__getitem__)
+            product_gap = effective[product_rival] - effective[computed]
         if computed is None:
             why = _why_no_barrier(job, free)
         elif rule_major is None:
@@ -242,4 +251,5 @@ def job_headline(job: JobRecord, uncertainty_kcal_mol: float = METHOD_UNCERTAINT
     return Headline(**base, ok=True, state=state, why_undecided=why, rule_major=rule_major, computed_major=computed,
                     runner_up=runner, gap_kcal_mol=gap, gap_free_kcal_mol=gap_free, implied_ratio=ratio,
                     alkenes=alkenes, channel=_channel(job, paths, free, uncertainty_kcal_mol), rule_criteria=criteria,
-                    shift_reason=shift_reason, slow_e2=slow, paths_left_out=left_out)
+                    shift_reason=shift_reason, slow_e2=slow, paths_left_out=left_out, product_rival=product_rival,
+                    product_gap_kcal_mol=product_gap)

@@ -272,11 +272,12 @@ def product_fractions(paths: Sequence[PathBarrier], temperature_K: float,
     return {smiles: w / total for smiles, w in weights.items()}
 
 
-def free_energy_of_sum_kcal_mol(barriers_kcal_mol: Sequence[float], temperature_K: float) -> float:
-    """Return -RT ln Σ exp(-G_i/RT) (kcal/mol) of several barriers (kcal/mol), computed without underflow."""
+def summed_barrier_kcal_mol(barriers: Sequence[tuple[float, int]], temperature_K: float) -> float:
+    """Return the effective barrier (kcal/mol) of parallel paths given as (barrier kcal/mol, degeneracy): the
+    Boltzmann sum, -RT ln sum(n exp(-barrier / RT)), computed from the lowest so that nothing underflows."""
     rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
-    lowest = min(barriers_kcal_mol)
-    return lowest - rt * math.log(sum(math.exp(-(b - lowest) / rt) for b in barriers_kcal_mol))
+    lowest = min(b for b, _ in barriers)
+    return lowest - rt * math.log(sum(n * math.exp(-(b - lowest) / rt) for b, n in barriers))
 
 
 def product_barriers_kcal_mol(paths: Sequence[PathBarrier], temperature_K: float) -> dict[str, float]:
@@ -284,11 +285,10 @@ def product_barriers_kcal_mol(paths: Sequence[PathBarrier], temperature_K: float
 
     The same weights as ``product_fractions``: a share is exp(-G_p/RT) over the sum of every product's.
     """
-    rt = BOLTZMANN_KCAL_MOL_PER_K * temperature_K
-    by_product: dict[str, list[float]] = {}
+    by_product: dict[str, list[tuple[float, int]]] = {}
     for path in paths:
-        by_product.setdefault(path.product_smiles, []).append(path.barrier_kcal_mol - rt * math.log(path.degeneracy))
-    return {smiles: free_energy_of_sum_kcal_mol(values, temperature_K) for smiles, values in by_product.items()}
+        by_product.setdefault(path.product_smiles, []).append((path.barrier_kcal_mol, path.degeneracy))
+    return {smiles: summed_barrier_kcal_mol(values, temperature_K) for smiles, values in by_product.items()}
 
 
 def fraction_ranges(paths: Sequence[PathBarrier], temperature_K: float,

@@ -4,97 +4,107 @@ The scoring (``benchmark_scoring``) says right or wrong; this says by how much. 
 its group (the alkenes, or E2 against SN2) is the free-energy difference between the effective barrier of p and
 that of the rest of the group, ΔΔG‡ = G‡(p) - G‡(rest) = -RT ln(s / (1 - s)) (Curtin–Hammett; a minor product
 has a positive value). The computed value comes from the same effective barriers elimscan's mix is made of,
-G‡(p) = -RT ln Σ g_i exp(-G‡_i / RT) over p's paths (g: class degeneracy), so nothing saturates at 0 or 100 %.
-The error (computed - published, kcal/mol) is what a chemist compares with the 1 kcal/mol under which elimscan
-calls two products undecided: relative barriers that miss by more than that cannot decide a mix.
+G‡(p) = -RT ln Σ g_i exp(-G‡_i / RT) over p's counted paths (g: class degeneracy; ``rule.product_barriers_kcal_mol``),
+at the temperature of the seed's mix, so nothing saturates at 0 or 100 %. The error (computed - published,
+kcal/mol) is what a chemist sets beside the 1 kcal/mol under which elimscan calls two products undecided.
 
-A published share of 0 or 100 % has no finite value and is left out; of a group with exactly two published
-alkenes only the smaller share is kept (the other is its mirror image). A computed share of 0 or 100 % (a
-published product that no counted path forms, or the only alkene formed) has no finite error either: such a
-check is counted apart, never averaged and never within the method's uncertainty.
+Counting rules, so that nothing flatters the method:
+- a published share of 0 or 100 % has no finite value: counted (``n_published_extreme``), not expressed;
+- when the published alkene shares make up the whole (sum at least 99 %), the largest is left out: k shares of a
+  whole carry k - 1 independent differences (two alkenes: the smaller share only);
+- a check is computed only when more than half of the seeds asked for give it a value, as the scoring's majority
+  (else 'not computed', counted);
+- a computed share of 0 or 100 % in a seed (a published product that no counted path forms, or the only alkene
+  formed) has no finite error: the check is 'unbounded', counted apart, never averaged, never within the
+  uncertainty.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, OutcomeCase, isomer_key
 from elimscan.analysis.benchmark_scoring import CaseScore, LevelMix
-from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, free_energy_of_sum_kcal_mol
+from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, summed_barrier_kcal_mol
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
-#: the label of the E2-against-SN2 difference
-E2_VS_SN2 = "E2 vs SN2"
+#: the two groups a share is taken of
+ALKENES, E2_VS_SN2 = "alkenes", "E2 vs SN2"
+GROUPS = (ALKENES, E2_VS_SN2)
+#: a group's published alkene shares that sum to at least this (percent) make up the whole
+WHOLE_PERCENT = 99.0
+#: shares below which a mean error is not quoted beside a single job's gap (common practice: fewer say too little)
+MIN_SHARES = 3
 
 
 def published_difference_kcal_mol(percent: float, temperature_K: float) -> float | None:
-    """Return -RT ln(s / (1 - s)) (kcal/mol) of a published share (percent), None at 0 or 100 %."""
+    """Return -RT ln(s / (1 - s)) (kcal/mol) of a published share s (percent) at temperature_K (K), None at 0 or 100 %."""
     if not 0.0 < percent < 100.0:
         return None
     return -BOLTZMANN_KCAL_MOL_PER_K * temperature_K * math.log(percent / (100.0 - percent))
 
 
-def computed_difference_kcal_mol(product_barriers_kcal_mol: Mapping[str, float], product: str, group: Sequence[str],
-                                 temperature_K: float) -> float | None:
-    """Return G‡(product) - G‡(rest of group) (kcal/mol) from effective product barriers (kcal/mol); None when the
-    product or the rest has no barrier (+inf would be a product that does not form at all)."""
-    rest = [product_barriers_kcal_mol[p] for p in group if p != product and p in product_barriers_kcal_mol]
-    if product not in product_barriers_kcal_mol or not rest:
-        return None
-    return product_barriers_kcal_mol[product] - free_energy_of_sum_kcal_mol(rest, temperature_K)
-
-
 @dataclass(frozen=True)
 class Published:
-    """One published share as a free-energy difference: which product against which group, and its value."""
+    """One published share as a free-energy difference (kcal/mol): which product against which group."""
 
     label: str
     #: isomer key of the product, or 'E2' for the E2 share
     product: str
-    #: 'alkenes' or 'E2 vs SN2'
     group: str
     percent: float
     difference_kcal_mol: float
+    from_memory: bool
 
 
 def published_differences(case: OutcomeCase) -> list[Published]:
-    """Return the case's published shares that have a finite free-energy difference (kcal/mol), in page order."""
+    """Return the case's published shares with a finite free-energy difference (kcal/mol), in the page's order."""
     t = case.temperature_K
-    shares = [(isomer_key(s), s, v) for s, v in case.expected.alkene_shares_percent.items()]
-    if len(shares) == 2 and shares[0][2] + shares[1][2] >= 99.0:
-        shares = [min(shares, key=lambda item: item[2])]  # the other is its mirror image
+    shares = list(case.expected.alkene_shares_percent.items())
+    if len(shares) > 1 and sum(v for _, v in shares) >= WHOLE_PERCENT:
+        largest = max(shares, key=lambda item: item[1])
+        shares = [item for item in shares if item is not largest]  # k shares of a whole: k - 1 differences
     out = []
-    for key, smiles, percent in shares:
+    for smiles, percent in shares:
         value = published_difference_kcal_mol(percent, t)
         if value is not None:
-            out.append(Published(f"{smiles} vs the other alkenes", key, "alkenes", percent, value))
+            out.append(Published(f"{smiles} vs the other alkenes", isomer_key(smiles), ALKENES, percent, value,
+                                 case.from_memory))
     if case.expected.e2_percent is not None:
         value = published_difference_kcal_mol(case.expected.e2_percent, t)
         if value is not None:
-            out.append(Published(E2_VS_SN2, "E2", E2_VS_SN2, case.expected.e2_percent, value))
+            out.append(Published(E2_VS_SN2, "E2", E2_VS_SN2, case.expected.e2_percent, value, case.from_memory))
     return out
 
 
-def mix_difference_kcal_mol(mix: LevelMix, published: Published, temperature_K: float) -> float | None:
-    """Return the computed counterpart (kcal/mol) of one published difference from one seed's mix, or None."""
-    barriers = mix.product_barriers_kcal_mol
+def published_extremes(case: OutcomeCase) -> int:
+    """Return how many of the case's published shares are 0 or 100 % (no finite free-energy difference)."""
+    values = [*case.expected.alkene_shares_percent.values(),
+              *(() if case.expected.e2_percent is None else (case.expected.e2_percent,))]
+    return sum(not 0.0 < v < 100.0 for v in values)
+
+
+def mix_difference_kcal_mol(mix: LevelMix, published: Published) -> float | None:
+    """Return the computed counterpart (kcal/mol) of one published difference from one seed's mix; None when the
+    product or the rest of its group has no counted barrier (for E2 vs SN2: no SN2 or no E2 barrier)."""
+    barriers, t = mix.product_barriers_kcal_mol, mix.temperature_K
+    alkenes = {p: b for p, b in barriers.items() if p != SUBSTITUTION}
     if published.group == E2_VS_SN2:
-        alkenes = [b for p, b in barriers.items() if p != SUBSTITUTION]
         if SUBSTITUTION not in barriers or not alkenes:
             return None
-        return free_energy_of_sum_kcal_mol(alkenes, temperature_K) - barriers[SUBSTITUTION]
-    alkenes = [p for p in barriers if p != SUBSTITUTION]
-    return computed_difference_kcal_mol(barriers, published.product, alkenes, temperature_K)
+        return summed_barrier_kcal_mol([(b, 1) for b in alkenes.values()], t) - barriers[SUBSTITUTION]
+    rest = [(b, 1) for p, b in alkenes.items() if p != published.product]
+    if published.product not in alkenes or not rest:
+        return None
+    return alkenes[published.product] - summed_barrier_kcal_mol(rest, t)
 
 
 @dataclass(frozen=True)
 class SelectivityCheck:
     """One published difference of one case at one level: the seeds' computed values and their mean (kcal/mol)."""
 
-    case_id: str
-    level: str
     published: Published
     #: the finite computed differences, one per seed that has one (kcal/mol)
     seed_values_kcal_mol: tuple[float, ...]
@@ -106,33 +116,37 @@ class SelectivityCheck:
     n_seeds: int = 1
 
     @property
+    def computed(self) -> bool:
+        """Return True when more than half of the seeds asked for gave a value or an unbounded share."""
+        return 2 * (len(self.seed_values_kcal_mol) + self.n_seeds_not_formed + self.n_seeds_alone) > self.n_seeds
+
+    @property
     def unbounded(self) -> bool:
-        """Return True when some seed's computed share is 0 or 100 % (no finite difference, no finite error)."""
-        return bool(self.n_seeds_not_formed or self.n_seeds_alone)
+        """Return True when computed and some seed's computed share is 0 or 100 % (no finite error)."""
+        return self.computed and bool(self.n_seeds_not_formed or self.n_seeds_alone)
 
     @property
     def mean_kcal_mol(self) -> float | None:
-        """Return the mean computed difference over the seeds (kcal/mol), None without one or when unbounded."""
+        """Return the mean computed difference over the seeds (kcal/mol); None when not computed or unbounded."""
         values = self.seed_values_kcal_mol
-        return sum(values) / len(values) if values and not self.unbounded else None
+        return sum(values) / len(values) if self.computed and not self.unbounded else None
 
     @property
     def spread_kcal_mol(self) -> float | None:
         """Return max - min of the computed difference over the seeds (kcal/mol), None with fewer than two."""
         values = self.seed_values_kcal_mol
-        return max(values) - min(values) if len(values) > 1 and not self.unbounded else None
+        return max(values) - min(values) if self.mean_kcal_mol is not None and len(values) > 1 else None
 
     @property
     def error_kcal_mol(self) -> float | None:
-        """Return the mean computed minus the published difference (kcal/mol), None without a finite computed value."""
+        """Return the mean computed minus the published difference (kcal/mol), None without a finite mean."""
         mean = self.mean_kcal_mol
         return None if mean is None else mean - self.published.difference_kcal_mol
 
 
 def selectivity_checks(score: CaseScore, level: str) -> list[SelectivityCheck]:
-    """Return one check per published difference of a scored case at one level; a seed not computed at the level,
-    or whose mix lacks a barrier of a product it forms, gives no value."""
-    t = score.case.temperature_K
+    """Return one check per published difference of a scored case at one level (a seed not computed at the level,
+    or whose mix lacks a barrier of a product it forms, gives no value)."""
     seeds = score.levels[level].seeds
     out = []
     for published in published_differences(score.case):
@@ -140,36 +154,54 @@ def selectivity_checks(score: CaseScore, level: str) -> list[SelectivityCheck]:
         for seed in seeds:
             if seed.mix is None or seed.mix.missing:
                 continue
-            barriers = seed.mix.product_barriers_kcal_mol
-            if published.group != E2_VS_SN2 and published.product not in barriers:
+            alkenes = [p for p in seed.mix.product_barriers_kcal_mol if p != SUBSTITUTION]
+            if published.group == ALKENES and published.product not in alkenes:
                 not_formed += 1
-            elif published.group != E2_VS_SN2 and not any(p not in (published.product, SUBSTITUTION) for p in barriers):
+            elif published.group == ALKENES and alkenes == [published.product]:
                 alone += 1
-            elif (value := mix_difference_kcal_mol(seed.mix, published, t)) is not None:
+            elif (value := mix_difference_kcal_mol(seed.mix, published)) is not None:
                 values.append(value)
-        out.append(SelectivityCheck(score.case.id, level, published, tuple(values), not_formed, alone, len(seeds)))
+        out.append(SelectivityCheck(published, tuple(values), not_formed, alone, len(seeds)))
     return out
 
 
 @dataclass(frozen=True)
 class SelectivitySummary:
-    """The errors of one level over every check with a computed value (kcal/mol)."""
+    """The errors of one level (and group) over the published shares (kcal/mol), and how many are which."""
 
     level: str
+    #: 'alkenes', 'E2 vs SN2', or None for both
+    group: str | None
+    #: published shares with a finite free-energy difference, and how many of them are from memory
+    n_published: int
+    n_from_memory: int
+    #: of those: with a finite error, unbounded (a computed share of 0 or 100 %), not computed
     n: int
+    n_unbounded: int
+    n_not_computed: int
     mean_error_kcal_mol: float | None
     mean_abs_error_kcal_mol: float | None
-    #: checks whose error lies within the method's uncertainty (the gap of elimscan's undecided call, kcal/mol)
+    #: finite errors within the method's uncertainty (the gap of elimscan's undecided call)
     n_within_uncertainty: int
-    #: checks with a seed whose computed share is 0 or 100 %: no finite error, counted apart (never as within)
-    n_unbounded: int = 0
+    #: cases the finite errors come from
+    n_cases: int = 0
 
 
-def summarise_selectivity(checks: Sequence[SelectivityCheck], level: str) -> SelectivitySummary:
-    """Return the mean and mean absolute error (kcal/mol) of the checks at one level that have a computed value."""
-    errors = [c.error_kcal_mol for c in checks if c.level == level and c.error_kcal_mol is not None]
-    unbounded = sum(c.unbounded for c in checks if c.level == level)
-    return SelectivitySummary(level=level, n=len(errors), n_unbounded=unbounded,
-                              mean_error_kcal_mol=sum(errors) / len(errors) if errors else None,
-                              mean_abs_error_kcal_mol=sum(abs(e) for e in errors) / len(errors) if errors else None,
-                              n_within_uncertainty=sum(abs(e) <= METHOD_UNCERTAINTY_KCAL_MOL for e in errors))
+def summarise_selectivity(by_case: Sequence[Sequence[SelectivityCheck]], level: str,
+                          group: str | None = None) -> SelectivitySummary:
+    """Return the summary (kcal/mol) of the checks of one level, one list per case, of one group (None: both)."""
+    checks = [[c for c in case_checks if group is None or c.published.group == group] for case_checks in by_case]
+    every = [c for case_checks in checks for c in case_checks]
+    errors = [c.error_kcal_mol for c in every if c.error_kcal_mol is not None]
+    return SelectivitySummary(
+        level=level, group=group, n_published=len(every), n_from_memory=sum(c.published.from_memory for c in every),
+        n=len(errors), n_unbounded=sum(c.unbounded for c in every), n_not_computed=sum(not c.computed for c in every),
+        mean_error_kcal_mol=sum(errors) / len(errors) if errors else None,
+        mean_abs_error_kcal_mol=sum(abs(e) for e in errors) / len(errors) if errors else None,
+        n_within_uncertainty=sum(abs(e) <= METHOD_UNCERTAINTY_KCAL_MOL for e in errors),
+        n_cases=sum(any(c.error_kcal_mol is not None for c in case_checks) for case_checks in checks))
+
+
+def case_checks(scores: Sequence[CaseScore], level: str) -> list[list[SelectivityCheck]]:
+    """Return the selectivity checks of every scored case at one level, one list per case (in the scores' order)."""
+    return [selectivity_checks(score, level) for score in scores if level in score.levels]

@@ -8,7 +8,8 @@ many the level left undecided, and how many the textbook rule got right; with ho
 share too) were right. When the job is undecided because its best alkenes lie within the method's uncertainty and
 the level got at most half of such cases' major products right (at least MIN_CASES computed), it says that the
 undecided verdict is the level's limit. Where the record holds the level's error of relative barriers on the
-published shares (at least MIN_CASES shares), it sets the job's gap between its two best alkenes beside it.
+published alkene shares (at least MIN_SHARES with a finite error), it sets the job's effective gap between its
+computed major and the next alkene beside that mean error.
 Pure rendering: no files.
 """
 
@@ -20,6 +21,7 @@ from elimscan.analysis.benchmark_record import chosen_page
 from elimscan.analysis.choicekinds import ALKENE_KINDS, choice_kinds, constitution
 from elimscan.analysis.headline import CLOSE_CALL, Headline
 from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL
+from elimscan.analysis.selectivity import ALKENES, MIN_SHARES
 from elimscan.results.records import JobRecord
 
 #: the benchmark category of a job's choice, in words
@@ -70,22 +72,31 @@ def _limit_kinds(job: JobRecord, headline: Headline | None, kinds: tuple[str, ..
 
 
 def _gap_against_error(selectivity: Mapping | None, level: str, headline: Headline | None) -> str:
-    """Return the sentence setting this job's gap between its two best alkenes (kcal/mol) beside the level's mean
-    absolute error of relative barriers on the benchmark's published shares, or '' (no gap, no such error, or fewer
-    than MIN_CASES shares behind it)."""
-    s = (selectivity or {}).get(level) if isinstance(selectivity, Mapping) else None
-    if not isinstance(s, Mapping) or not isinstance(s.get("n"), int) or s["n"] < MIN_CASES:
+    """Return the sentences setting this job's effective gap between its computed major and next alkene (kcal/mol)
+    beside the level's mean absolute error of relative barriers on the benchmark's published alkene shares, or ''
+    (no such gap, no such error in the record, or fewer than MIN_SHARES shares behind it)."""
+    by_group = selectivity.get(level) if isinstance(selectivity, Mapping) else None
+    s = by_group.get(ALKENES) if isinstance(by_group, Mapping) else None
+    keys = ("n", "n_published", "n_from_memory", "n_cases", "n_unbounded", "n_within_uncertainty")
+    if not isinstance(s, Mapping) or not all(isinstance(s.get(k), int) for k in keys) or s["n"] < MIN_SHARES:
         return ""
     error = s.get("mean_abs_error_kcal_mol")
-    if not isinstance(error, (int, float)) or headline is None or headline.gap_kcal_mol is None \
-            or not headline.computed_major or not headline.runner_up:
+    if not isinstance(error, (int, float)) or headline is None or headline.product_gap_kcal_mol is None:
         return ""
-    gap = headline.gap_kcal_mol
-    side = ("smaller than that error: the level does not tell these two apart" if gap < error
-            else "larger than that mean error")
-    return (f" On the benchmark's {s['n']} published shares this level's relative barriers missed by {error:.1f} "
-            f"kcal/mol on average ({s.get('n_within_uncertainty', 0)} of them within {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol); this job's computed "
-            f"major lies {gap:.1f} kcal/mol below its closest rival, {side}.")
+    n, within, gap = s["n"], s["n_within_uncertainty"], headline.product_gap_kcal_mol
+    unbounded = (f"; {s['n_unbounded']} more where a published alkene did not form or formed alone"
+                 if s["n_unbounded"] else "")
+    text = (f" On {n} of the benchmark's {s['n_published']} published alkene shares ({s['n_cases']} cases; "
+            f"{s['n_from_memory']} of the {s['n_published']} values from memory{unbounded}) this level's relative "
+            f"barriers missed by {error:.1f} kcal/mol on average ({within} of {n} within "
+            f"{METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol). This job's computed major lies {gap:.1f} kcal/mol below "
+            f"{headline.product_rival} (effective barriers, degeneracy counted): ")
+    if gap < error:
+        return text + "less than that average error: an error of the usual size could reverse the two."
+    if within < n:
+        return text + (f"more than that average error, though {n - within} of the {n} benchmark shares were missed "
+                       f"by more than {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol.")
+    return text + "more than that average error."
 
 
 def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | None = None,

@@ -286,7 +286,8 @@ def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[st
     """Return Markdown rows comparing base models: counts per level, rate and selectivity errors (kcal/mol), seed
     spread."""
     rows = ["| base model | level | computed right | rule right | undecided (not right) | not computed | "
-            "rate ΔG‡ error: mean (mean of abs), kcal/mol | selectivity ΔΔG‡ error: mean of abs, kcal/mol | "
+            "rate ΔG‡ error: mean (mean of abs), kcal/mol | selectivity ΔΔG‡ error: mean of abs over shares with one, "
+            "kcal/mol | "
             "largest seed spread (points) | jobs finished |",
             "|---|---|---|---|---|---|---|---|---|---|"]
     for m in summaries:
@@ -296,8 +297,10 @@ def model_rows(summaries: Sequence[ModelSummary], frozen: str | None) -> list[st
                  if m.rate_mean_error_kcal_mol is not None and m.rate_mean_abs_error_kcal_mol is not None else "-")
         counts = (f"{c.right}/{c.n} | {c.rule_right}/{c.rule_n} | {c.undecided}/{c.n} | {_not_computed(c)}"
                   if c.n else "- | - | - | -")  # no test case on the page: nothing was scored
-        selectivity = (f"{m.selectivity_mean_abs_error_kcal_mol:.1f} over {m.n_selectivity}"
-                       if m.selectivity_mean_abs_error_kcal_mol is not None else "-")
+        selectivity = (f"{m.selectivity_mean_abs_error_kcal_mol:.1f} over {m.n_selectivity} of "
+                       f"{m.n_selectivity_published}" if m.selectivity_mean_abs_error_kcal_mol is not None else "-")
+        if m.n_selectivity_unbounded:
+            selectivity += f" (+{m.n_selectivity_unbounded} unbounded)"
         rows.append(f"| {name} | {LEVEL_WORDS[m.level]} | {counts} | {error} | {selectivity} | "
                     f"{_number(m.largest_spread_points, 0)} | "
                     f"{m.n_jobs_finished} of {m.n_jobs} |")
