@@ -66,6 +66,19 @@ def test_the_page_names_the_run_and_gives_every_part():
     assert "- **GFN2-xTB dE**: alkenes: 1 of 1 published shares with a finite error (from 1 case(s)), mean error " in page
 
 
+def test_the_cases_where_the_rule_is_least_certain_are_counted_together_once():
+    from elimscan.analysis.benchmark_scoring import headline
+
+    found = scores()  # categories: open-chain-regio, ez-ratio, base-size
+    both = replace(found[1], case=found[1].case.model_copy(update={"category": ("ez-ratio", "e2-vs-sn2")}))
+    together = headline([found[0], both, found[2]], "dE", ("ez-ratio", "base-size", "e2-vs-sn2"))
+    assert (together.n, together.undecided, together.right, together.rule_right) == (2, 1, 0, 1)  # counted once
+    page = validation_markdown(INFO, found, [], ["dE"])
+    assert ("Where the rule's call is least certain (ez-ratio, leaving-group, base-size, e2-vs-sn2; 2 cases, each "
+            "counted once):") in page
+    assert "- **GFN2-xTB dE**: computed right 0/2 (on the rule's basis 0/2), rule right 1/2, undecided 1/2" in page
+
+
 def test_a_series_shows_the_terminal_share_per_member():
     rows = series_rows(scores(), ["dE"])
     assert rows[2].startswith("| bases | amyl | - | ")

@@ -24,6 +24,9 @@ from elimscan.chem.structures import parse_smiles
 #: the test set's categories (a case counts once in the headline and once in each of its categories)
 CATEGORIES = ("open-chain-regio", "ez-ratio", "base-size", "leaving-group", "ring-competing", "ring-single",
               "stereospecific", "syn-rigid", "e2-vs-sn2")
+#: the categories where the textbook rule's call is least certain (E/Z from different hydrogens, leaving-group and
+#: base-size series, E2 against SN2): where the computed side has most to add, counted together on the pages
+RULE_UNCERTAIN_CATEGORIES = ("ez-ratio", "leaving-group", "base-size", "e2-vs-sn2")
 #: the expected major product when the SN2 product is the main one
 SUBSTITUTION = "substitution"
 #: published shares of the alkenes may add up to this much over 100 % (rounding in the sources), in percent

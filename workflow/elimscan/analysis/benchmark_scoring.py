@@ -354,9 +354,11 @@ class Headline:
     right_major_only: int = 0
 
 
-def headline(scores: Sequence[CaseScore], level: str, category: str | None = None) -> Headline:
-    """Return the headline counts of one level over the cases (of one category when given)."""
-    chosen = [s for s in scores if category is None or category in s.case.category]
+def headline(scores: Sequence[CaseScore], level: str, category: str | Sequence[str] | None = None) -> Headline:
+    """Return the headline counts of one level over the cases (of one category when given; of any of several, each
+    case counted once, when a sequence is given)."""
+    wanted = (category,) if isinstance(category, str) else category
+    chosen = [s for s in scores if wanted is None or any(c in s.case.category for c in wanted)]
     outcomes = [s.levels[level].outcome for s in chosen]
     return Headline(n=len(chosen), right=outcomes.count(RIGHT), undecided=outcomes.count(UNDECIDED),
                     not_computed=outcomes.count(NOT_COMPUTED),

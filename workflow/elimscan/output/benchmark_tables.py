@@ -14,8 +14,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
-from elimscan.analysis.benchmark_cases import (CATEGORIES, SUBSTITUTION, HammettCase, IsotopeCase, OutcomeCase, RateCase,
-                                              isomer_key)
+from elimscan.analysis.benchmark_cases import (CATEGORIES, RULE_UNCERTAIN_CATEGORIES, SUBSTITUTION, HammettCase,
+                                              IsotopeCase, OutcomeCase, RateCase, isomer_key)
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline, is_terminal)
@@ -79,7 +79,7 @@ def _duration(seconds: float | None) -> str:
     return f"{minutes // 60} h {minutes % 60:02d} min" if minutes >= 60 else f"{minutes} min"
 
 
-def headline_line(scores: Sequence[CaseScore], level: str, category: str | None = None) -> str:
+def headline_line(scores: Sequence[CaseScore], level: str, category: str | Sequence[str] | None = None) -> str:
     """Return 'computed right X/N (on the rule's basis W/M), rule right Y/M, undecided Z/N' (and not computed, the
     rule's too) for one level."""
     h = headline(scores, level, category)
@@ -312,6 +312,12 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     lines = ["## Headline", ""]
     for level in levels:
         lines.append(f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level)}")
+    uncertain = [s for s in scores if any(c in s.case.category for c in RULE_UNCERTAIN_CATEGORIES)]
+    if uncertain:
+        lines += ["", f"Where the rule's call is least certain ({', '.join(RULE_UNCERTAIN_CATEGORIES)}; "
+                  f"{len(uncertain)} cases, each counted once):", ""]
+        lines += [f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level, RULE_UNCERTAIN_CATEGORIES)}"
+                  for level in levels]
     lines += ["", *count_rows(scores, levels, None)]
     lines += ["", "## Per category", "", "A case counts once in each of its categories.", "",
               *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
