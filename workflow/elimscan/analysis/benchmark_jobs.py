@@ -65,7 +65,7 @@ def benchmark_jobs(cases: Sequence[OutcomeCase | CalibrationCase], seed_count: i
     return jobs
 
 
-def _base_smiles(base: Molecule) -> str:
+def base_smiles(base: Molecule) -> str:
     """Return the SMILES of a base (a built-in name's from the library)."""
     return base.smiles or BASE_LIBRARY[base.name.strip().lower()]
 
@@ -129,11 +129,11 @@ def batch_groups(jobs: Sequence[BenchmarkJob], config_prefix: str = "reference",
             sname = next((n for n, k in substrate_names.items() if k == skey), None) or \
                 _unique_name(job.substrate.name, skey, substrate_names)
             substrates.setdefault(sname, {"name": sname, "smiles": job.substrate.smiles})
-            bkey = Chem.CanonSmiles(_base_smiles(job.base))
+            bkey = Chem.CanonSmiles(base_smiles(job.base))
             bname = next((n for n, k in base_names.items() if k == bkey), None) or \
                 _unique_name(job.base.name, bkey, base_names)
             entry = ({"name": bname} if job.base.smiles is None and bname == job.base.name
-                     else {"name": bname, "smiles": _base_smiles(job.base)})
+                     else {"name": bname, "smiles": base_smiles(job.base)})
             if model is not None:
                 entry["model"] = dict(model)
             bases.setdefault(bname, entry)

@@ -3,7 +3,8 @@
 The page: when, at which commit and how long the run took; per level the headline "computed right X/N,
 rule right Y/M, undecided Z/N", then per category; the per-case table (experiment with its source, the
 rule's call, the computed call per level with the mean mix over seeds, right/wrong/undecided, the spread
-over seeds); the terminal-alkene share of each series' members; each published share as a free-energy
+over seeds); the terminal-alkene share of each series' members; the bulky-base shift (``benchmark_baseshift``);
+each published share as a free-energy
 difference beside the computed one (``benchmark_selectivity``); and the calibration errors.
 """
 
@@ -20,6 +21,7 @@ from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline, is_terminal)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
+from elimscan.output.benchmark_baseshift import base_shift_section
 from elimscan.output.benchmark_selectivity import selectivity_section
 
 #: how a level is named in the page
@@ -332,8 +334,9 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     if any(s.case.series for s in scores):
         lines += ["", "## Series: terminal-alkene share of the alkenes", "",
                   "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
+    shift = base_shift_section(scores, levels, LEVEL_WORDS)
     selectivity = selectivity_section(scores, levels, LEVEL_WORDS)
-    return lines + (["", *selectivity] if selectivity else [])
+    return lines + (["", *shift] if shift else []) + (["", *selectivity] if selectivity else [])
 
 
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
