@@ -74,9 +74,10 @@ def test_the_cases_where_the_rule_is_least_certain_are_counted_together_once():
     together = headline([found[0], both, found[2]], "dE", ("ez-ratio", "base-size", "e2-vs-sn2"))
     assert (together.n, together.undecided, together.right, together.rule_right) == (2, 1, 0, 1)  # counted once
     page = validation_markdown(INFO, found, [], ["dE"])
-    assert ("Where the rule's call is least certain (ez-ratio, leaving-group, base-size, e2-vs-sn2; 2 cases, each "
-            "counted once):") in page
-    assert "- **GFN2-xTB dE**: computed right 0/2 (on the rule's basis 0/2), rule right 1/2, undecided 1/2" in page
+    assert ("(ez-ratio, leaving-group, base-size, e2-vs-sn2: the categories named before the run as those where the "
+            "rule's call is ambiguous, a prior choice; 2 cases, each counted once), and the other 1:") in page
+    assert ("- **GFN2-xTB dE**: computed right 0/2 (on the rule's basis 0/2), rule right 1/2, undecided 1/2; the other "
+            "cases: computed right 1/1 (on the rule's basis 1/1), rule right 1/1, undecided 0/1") in page
 
 
 def test_a_series_shows_the_terminal_share_per_member():

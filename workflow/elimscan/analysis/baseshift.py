@@ -1,19 +1,24 @@
-"""The bulky-base shift: how the terminal-alkene share moves from ethoxide to a bulkier base on one substrate. Pure.
+"""The bulky-base shift: how the terminal alkene gains from ethoxide to a bulky base on one substrate. Pure.
 
-Experiment: a bulkier alkoxide takes more of the terminal alkene (the Hofmann product). For each substrate the
-benchmark runs with ethoxide and with a larger base, the shift is the bulkier base's terminal-alkene share of the
-alkenes minus ethoxide's (percentage points, mean over seeds), at each level, beside the published shift. A
-computed shift is 'resolved' when it has the published sign and is larger than the seed spread, the largest
-max - min of the terminal share over the seeds of either member (the benchmark's measure of how far a repeat
-moves it); 'within the seed spread' when the sign is right but the spread is larger; 'wrong sign' otherwise.
+Experiment: a bulky alkoxide takes more of the terminal alkene (the Hofmann product). For each substrate the
+benchmark runs with ethoxide and with a base the rule calls bulky (``chem.bases.describe_base``), the shift is
+measured as a free-energy difference, so that shares near 0 or 100 % neither hide nor inflate it: per seed,
+ΔΔG‡(terminal) = G‡(terminal alkenes) - G‡(other alkenes) from the effective product barriers (kcal/mol; a negative
+value favours the terminal alkene), and the shift is the bulky base's mean minus ethoxide's. Published: the same
+from the published terminal share, -RT ln(t / (100 - t)), at each case's temperature.
 
-The published terminal share of a case is the sum of its published terminal alkenes; where it publishes only the
-internal ones, it is 100 minus their sum when every other alkene the substrate can form (the perceived products of
-its finished jobs, not their shares) is terminal.
+A member counts when more than half of its seeds give a value (as a case's score needs a majority); a seed whose
+counted paths form no terminal alkene, or only terminal ones, is unbounded and so is the pair. The verdict:
+'resolved' with the published sign and beyond the seed spread (the largest max - min over either member's seeds);
+'within the seed spread' with the sign but not beyond it; 'no seed spread' with the sign but one seed in a member;
+'wrong sign' otherwise. The size is off when the shift misses the published one by more than the method's
+uncertainty. Every published shift of the benchmark points to the terminal alkene, so any steric bias gets the
+sign: the sign alone is agreement, not proof.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -21,97 +26,167 @@ from rdkit import Chem
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, OutcomeCase, isomer_key
 from elimscan.analysis.benchmark_jobs import base_smiles
-from elimscan.analysis.benchmark_scoring import CaseScore, is_terminal, terminal_share
+from elimscan.analysis.benchmark_scoring import CaseScore, LevelMix, is_terminal, terminal_share
+from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, summed_barrier_kcal_mol
+from elimscan.chem.bases import describe_base
+from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
-#: the small base every bulkier one is set against (by its SMILES)
+#: the small base every bulky one is set against (canonical SMILES)
 SMALL_BASE_SMILES = "CC[O-]"
-RESOLVED, WITHIN_SPREAD, WRONG_SIGN = "resolved", "within the seed spread", "wrong sign"
+RESOLVED, WITHIN_SPREAD, NO_SPREAD, WRONG_SIGN = "resolved", "within the seed spread", "no seed spread", "wrong sign"
 
 
-def _heavy_atoms(smiles: str) -> int:
-    """Return the number of heavy atoms of a SMILES."""
-    return Chem.MolFromSmiles(smiles).GetNumHeavyAtoms()
+def published_terminal_percent(case: OutcomeCase) -> float | None:
+    """Return the case's published terminal-alkene share of the alkenes (percent), None when it names none."""
+    terminal = [v for s, v in case.expected.alkene_shares_percent.items() if is_terminal(isomer_key(s))]
+    return sum(terminal) if terminal else None
 
 
-def published_terminal_percent(case: OutcomeCase, formed: Sequence[str]) -> float | None:
-    """Return the published terminal-alkene share of the alkenes (percent), or None when it cannot be read; ``formed``:
-    the alkenes (isomer keys) the substrate can form, from perception."""
-    shares = {isomer_key(s): v for s, v in case.expected.alkene_shares_percent.items()}
-    if not shares:
+def published_terminal_kcal_mol(case: OutcomeCase) -> float | None:
+    """Return -RT ln(t / (100 - t)) (kcal/mol) of the published terminal share t, None without one or at 0/100 %."""
+    t = published_terminal_percent(case)
+    if t is None or not 0.0 < t < 100.0:
         return None
-    terminal = [v for s, v in shares.items() if is_terminal(s)]
-    if terminal:
-        return sum(terminal)
-    others = [p for p in formed if p not in shares]
-    return 100.0 - sum(shares.values()) if others and all(is_terminal(p) for p in others) else None
+    return -BOLTZMANN_KCAL_MOL_PER_K * case.temperature_K * math.log(t / (100.0 - t))
+
+
+def terminal_difference_kcal_mol(mix: LevelMix) -> float:
+    """Return G‡(terminal alkenes) - G‡(other alkenes) of one mix (kcal/mol; +inf / -inf when one side forms none)."""
+    alkenes = {p: b for p, b in mix.product_barriers_kcal_mol.items() if p != SUBSTITUTION}
+    terminal = [(b, 1) for p, b in alkenes.items() if is_terminal(p)]
+    other = [(b, 1) for p, b in alkenes.items() if not is_terminal(p)]
+    if not terminal or not other:
+        return math.inf if not terminal else -math.inf
+    return summed_barrier_kcal_mol(terminal, mix.temperature_K) - summed_barrier_kcal_mol(other, mix.temperature_K)
+
+
+@dataclass(frozen=True)
+class Member:
+    """One case of a pair at one level: its seeds' terminal differences (kcal/mol) and terminal shares (0-1)."""
+
+    values_kcal_mol: tuple[float, ...]
+    terminal_shares: tuple[float, ...]
+    n_unbounded: int
+    n_seeds: int
+
+    @property
+    def computed(self) -> bool:
+        """Return True when more than half of the seeds asked for gave a value or an unbounded one."""
+        return 2 * (len(self.values_kcal_mol) + self.n_unbounded) > self.n_seeds
+
+
+def member(score: CaseScore, level: str) -> Member:
+    """Return a scored case's seeds at one level as a pair member (seeds without a complete mix give nothing)."""
+    mixes = [s.mix for s in score.levels[level].seeds if s.mix is not None and not s.mix.missing]
+    values = [terminal_difference_kcal_mol(m) for m in mixes]
+    finite = tuple(v for v in values if math.isfinite(v))
+    return Member(finite, tuple(terminal_share(m) for m in mixes), len(values) - len(finite),
+                  len(score.levels[level].seeds))
 
 
 @dataclass(frozen=True)
 class LevelShift:
-    """One level's shift: the mean terminal shares (0-1), the shift and the seed spread (points), the verdict."""
+    """One level's shift of a pair (kcal/mol; negative: toward the terminal alkene), its spread and verdict."""
 
-    small_terminal: float
-    bulky_terminal: float
-    shift_points: float
-    spread_points: float
-    verdict: str
+    #: None when a member is not computed or unbounded
+    shift_kcal_mol: float | None
+    #: largest max - min over either member's seeds (kcal/mol); None when a member has one value
+    spread_kcal_mol: float | None
+    #: RESOLVED, WITHIN_SPREAD, NO_SPREAD, WRONG_SIGN; 'not computed', 'unbounded'; None without a published shift
+    verdict: str | None
+    #: shift minus the published shift (kcal/mol), None without both
+    size_off_kcal_mol: float | None
+    #: mean terminal share of the alkenes of each member (0-1), for reading
+    small_terminal: float | None
+    bulky_terminal: float | None
+
+    @property
+    def size_ok(self) -> bool:
+        """Return True when the shift lies within the method's uncertainty of the published shift."""
+        return self.size_off_kcal_mol is not None and abs(self.size_off_kcal_mol) <= METHOD_UNCERTAINTY_KCAL_MOL
+
+
+def _mean(values: Sequence[float]) -> float | None:
+    """Return the mean, None for no values."""
+    return sum(values) / len(values) if values else None
+
+
+def level_shift(small: Member, bulky: Member, published_kcal_mol: float | None) -> LevelShift:
+    """Return one level's shift of a pair of members against the published shift (kcal/mol)."""
+    shares = (_mean(small.terminal_shares), _mean(bulky.terminal_shares))
+    if not (small.computed and bulky.computed):
+        return LevelShift(None, None, "not computed", None, *shares)
+    if small.n_unbounded or bulky.n_unbounded:
+        return LevelShift(None, None, "unbounded", None, *shares)
+    shift = _mean(bulky.values_kcal_mol) - _mean(small.values_kcal_mol)
+    spreads = [max(v) - min(v) for v in (small.values_kcal_mol, bulky.values_kcal_mol)]
+    spread = max(spreads) if min(len(small.values_kcal_mol), len(bulky.values_kcal_mol)) > 1 else None
+    if published_kcal_mol is None:
+        return LevelShift(shift, spread, None, None, *shares)
+    if shift * published_kcal_mol <= 0.0:
+        verdict = WRONG_SIGN
+    elif spread is None:
+        verdict = NO_SPREAD
+    else:
+        verdict = RESOLVED if abs(shift) > spread else WITHIN_SPREAD
+    return LevelShift(shift, spread, verdict, shift - published_kcal_mol, *shares)
 
 
 @dataclass(frozen=True)
 class BaseShift:
-    """A substrate with ethoxide and a bulkier base: the published shift (points) and each level's computed one."""
+    """A substrate with ethoxide and a bulky base: the published shift and each level's computed one (kcal/mol)."""
 
     substrate: str
     small_case: str
     bulky_case: str
-    bulky_base: str
-    published_shift_points: float | None
-    levels: dict[str, LevelShift | None]
+    #: published terminal shares (percent) of the two members, and the shift they give (kcal/mol)
+    published_small_percent: float | None
+    published_bulky_percent: float | None
+    published_shift_kcal_mol: float | None
+    from_memory: bool
+    levels: dict[str, LevelShift]
 
 
-def _terminal_values(score: CaseScore, level: str) -> list[float]:
-    """Return the terminal share (0-1) of each seed with a complete mix at one level."""
-    values = [terminal_share(s.mix) for s in score.levels[level].seeds if s.mix is not None and not s.mix.missing]
-    return [v for v in values if v is not None]
-
-
-def _formed(score: CaseScore, level: str) -> list[str]:
-    """Return the alkenes (isomer keys) the seeds' paths lead to at one level (perceived products, not shares)."""
-    return sorted({p for s in score.levels[level].seeds if s.mix is not None for p in s.mix.product_barriers_kcal_mol
-                   if p != SUBSTITUTION})
-
-
-def level_shift(small: CaseScore, bulky: CaseScore, level: str, published_points: float | None) -> LevelShift | None:
-    """Return one level's shift (points) of two scored cases, None when a member has no seed with a complete mix."""
-    a, b = _terminal_values(small, level), _terminal_values(bulky, level)
-    if not a or not b:
-        return None
-    shift = 100.0 * (sum(b) / len(b) - sum(a) / len(a))
-    spread = 100.0 * max(max(a) - min(a), max(b) - min(b))
-    if published_points is None or shift * published_points <= 0.0:
-        verdict = WRONG_SIGN if published_points is not None else ""
-    else:
-        verdict = RESOLVED if abs(shift) > spread else WITHIN_SPREAD
-    return LevelShift(sum(a) / len(a), sum(b) / len(b), shift, spread, verdict)
+def _is_bulky(score: CaseScore) -> bool:
+    """Return True when the rule calls the case's base bulky."""
+    return describe_base(base_smiles(score.case.base)).bulky
 
 
 def base_shifts(scores: Sequence[CaseScore], levels: Sequence[str]) -> list[BaseShift]:
-    """Return one shift per substrate and bulkier base whose cases include ethoxide (in the scores' order)."""
+    """Return one shift per ethoxide case and bulky-base case of the same substrate (canonical SMILES, stereo kept)."""
     by_substrate: dict[str, list[CaseScore]] = {}
     for score in scores:
-        by_substrate.setdefault(isomer_key(score.case.substrate.smiles or ""), []).append(score)
+        by_substrate.setdefault(Chem.CanonSmiles(score.case.substrate.smiles or ""), []).append(score)
     out = []
     for substrate, members in by_substrate.items():
-        small = next((m for m in members if Chem.CanonSmiles(base_smiles(m.case.base)) == SMALL_BASE_SMILES), None)
-        if small is None:
-            continue
-        for bulky in members:
-            smiles = base_smiles(bulky.case.base)
-            if bulky is small or _heavy_atoms(smiles) <= _heavy_atoms(SMALL_BASE_SMILES):
-                continue
-            formed = sorted({p for lv in levels for m in (small, bulky) for p in _formed(m, lv)})
-            p_small, p_bulky = (published_terminal_percent(m.case, formed) for m in (small, bulky))
-            published = None if p_small is None or p_bulky is None else p_bulky - p_small
-            out.append(BaseShift(substrate, small.case.id, bulky.case.id, bulky.case.base.name, published,
-                                 {lv: level_shift(small, bulky, lv, published) for lv in levels}))
+        smalls = [m for m in members if Chem.CanonSmiles(base_smiles(m.case.base)) == SMALL_BASE_SMILES]
+        for small in smalls:
+            for bulky in (m for m in members if _is_bulky(m)):
+                p_small, p_bulky = (published_terminal_kcal_mol(m.case) for m in (small, bulky))
+                published = None if p_small is None or p_bulky is None else p_bulky - p_small
+                out.append(BaseShift(
+                    substrate, small.case.id, bulky.case.id, published_terminal_percent(small.case),
+                    published_terminal_percent(bulky.case), published, small.case.from_memory or bulky.case.from_memory,
+                    {lv: level_shift(member(small, lv), member(bulky, lv), published) for lv in levels}))
     return out
+
+
+@dataclass(frozen=True)
+class ShiftCounts:
+    """One level's count over the pairs with a published shift: computed, by verdict, of the published size."""
+
+    n_pairs: int
+    n_computed: int
+    n_resolved: int
+    n_sign: int
+    n_size_ok: int
+
+
+def shift_counts(shifts: Sequence[BaseShift], level: str) -> ShiftCounts:
+    """Return the counts of one level over the pairs with a published shift (not computed ones stay in n_pairs)."""
+    scored = [s.levels[level] for s in shifts if s.published_shift_kcal_mol is not None]
+    computed = [s for s in scored if s.shift_kcal_mol is not None]
+    return ShiftCounts(n_pairs=len(scored), n_computed=len(computed),
+                       n_resolved=sum(s.verdict == RESOLVED for s in computed),
+                       n_sign=sum(s.verdict in (RESOLVED, WITHIN_SPREAD, NO_SPREAD) for s in computed),
+                       n_size_ok=sum(s.size_ok for s in computed))

@@ -148,14 +148,14 @@ class LevelMix:
     #: paths left out because their record says they are no barrier (did not reach their products, or stopped by
     #: their gradient budget), E2 and SN2
     left_out: tuple[str, ...]
+    #: the temperature of the shares and effective barriers (K)
+    temperature_K: float
     #: products a computed path leads to without a counted barrier at this level (``missing_products``)
     missing: tuple[str, ...] = ()
     #: best syn minus best anti effective barrier (kcal/mol; degeneracy counted), None without both approaches
     syn_minus_anti_kcal_mol: float | None = None
     #: every product's effective barrier over its paths (kcal/mol; degeneracy counted, ``rule.product_barriers_kcal_mol``)
     product_barriers_kcal_mol: dict[str, float] = field(default_factory=dict)
-    #: the temperature of the shares and effective barriers (K)
-    temperature_K: float = 298.15
 
 
 def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None:

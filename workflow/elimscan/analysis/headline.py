@@ -111,7 +111,9 @@ class Headline:
     error: str | None = None
     #: the alkene with the lowest effective barrier after the computed major's (degeneracy counted,
     #: rule.product_barriers_kcal_mol), and its effective barrier minus the major's (kcal/mol, the mix's kind; not
-    #: negative when the major is the largest share); None with one computed alkene or without a temperature
+    #: negative when the major is the largest share); None with one computed alkene or without a temperature. It may
+    #: differ from runner_up (the nearest by best single path, which decides the undecided call); the report's note
+    #: sets this one beside the benchmark's error of relative barriers, which are of effective barriers too
     product_rival: str | None = None
     product_gap_kcal_mol: float | None = None
 

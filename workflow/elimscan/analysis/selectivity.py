@@ -35,8 +35,15 @@ ALKENES, E2_VS_SN2 = "alkenes", "E2 vs SN2"
 GROUPS = (ALKENES, E2_VS_SN2)
 #: a group's published alkene shares that sum to at least this (percent) make up the whole
 WHOLE_PERCENT = 99.0
-#: shares below which a mean error is not quoted beside a single job's gap (common practice: fewer say too little)
+#: shares with a finite error, and cases they come from, below which the report's note quotes no mean error beside
+#: a single job's gap (a chosen floor, not a fitted one)
 MIN_SHARES = 3
+MIN_ERROR_CASES = 2
+
+
+def gap_below_error(gap_kcal_mol: float, mean_abs_error_kcal_mol: float) -> bool:
+    """Return True when a job's effective gap (kcal/mol) is smaller than the level's mean absolute error (kcal/mol)."""
+    return gap_kcal_mol < mean_abs_error_kcal_mol
 
 
 def published_difference_kcal_mol(percent: float, temperature_K: float) -> float | None:

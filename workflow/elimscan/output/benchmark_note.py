@@ -8,8 +8,8 @@ many the level left undecided, and how many the textbook rule got right; with ho
 share too) were right. When the job is undecided because its best alkenes lie within the method's uncertainty and
 the level got at most half of such cases' major products right (at least MIN_CASES computed), it says that the
 undecided verdict is the level's limit. Where the record holds the level's error of relative barriers on the
-published alkene shares (at least MIN_SHARES with a finite error), it sets the job's effective gap between its
-computed major and the next alkene beside that mean error.
+published alkene shares (at least MIN_SHARES with a finite error, from MIN_ERROR_CASES cases), it sets the job's
+effective gap between its computed major and the next alkene beside that mean error.
 Pure rendering: no files.
 """
 
@@ -21,7 +21,7 @@ from elimscan.analysis.benchmark_record import chosen_page
 from elimscan.analysis.choicekinds import ALKENE_KINDS, choice_kinds, constitution
 from elimscan.analysis.headline import CLOSE_CALL, Headline
 from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL
-from elimscan.analysis.selectivity import ALKENES, MIN_SHARES
+from elimscan.analysis.selectivity import ALKENES, MIN_ERROR_CASES, MIN_SHARES, gap_below_error
 from elimscan.results.records import JobRecord
 
 #: the benchmark category of a job's choice, in words
@@ -78,7 +78,8 @@ def _gap_against_error(selectivity: Mapping | None, level: str, headline: Headli
     by_group = selectivity.get(level) if isinstance(selectivity, Mapping) else None
     s = by_group.get(ALKENES) if isinstance(by_group, Mapping) else None
     keys = ("n", "n_published", "n_from_memory", "n_cases", "n_unbounded", "n_within_uncertainty")
-    if not isinstance(s, Mapping) or not all(isinstance(s.get(k), int) for k in keys) or s["n"] < MIN_SHARES:
+    if not isinstance(s, Mapping) or not all(isinstance(s.get(k), int) for k in keys) or s["n"] < MIN_SHARES \
+            or s["n_cases"] < MIN_ERROR_CASES:
         return ""
     error = s.get("mean_abs_error_kcal_mol")
     if not isinstance(error, (int, float)) or headline is None or headline.product_gap_kcal_mol is None:
@@ -91,12 +92,12 @@ def _gap_against_error(selectivity: Mapping | None, level: str, headline: Headli
             f"barriers missed by {error:.1f} kcal/mol on average ({within} of {n} within "
             f"{METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol). This job's computed major lies {gap:.1f} kcal/mol below "
             f"{headline.product_rival} (effective barriers, degeneracy counted): ")
-    if gap < error:
+    if gap_below_error(gap, error):
         return text + "less than that average error: an error of the usual size could reverse the two."
     if within < n:
-        return text + (f"more than that average error, though {n - within} of the {n} benchmark shares were missed "
+        return text + (f"at least that average error, though {n - within} of the {n} benchmark shares were missed "
                        f"by more than {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol.")
-    return text + "more than that average error."
+    return text + "at least that average error."
 
 
 def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | None = None,

@@ -315,11 +315,13 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     for level in levels:
         lines.append(f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level)}")
     uncertain = [s for s in scores if any(c in s.case.category for c in RULE_UNCERTAIN_CATEGORIES)]
+    rest = [s for s in scores if s not in uncertain]
     if uncertain:
-        lines += ["", f"Where the rule's call is least certain ({', '.join(RULE_UNCERTAIN_CATEGORIES)}; "
-                  f"{len(uncertain)} cases, each counted once):", ""]
-        lines += [f"- **{LEVEL_WORDS[level]}**: {headline_line(scores, level, RULE_UNCERTAIN_CATEGORIES)}"
-                  for level in levels]
+        lines += ["", f"Where the computation is meant to add most to the rule ({', '.join(RULE_UNCERTAIN_CATEGORIES)}: "
+                  "the categories named before the run as those where the rule's call is ambiguous, a prior choice; "
+                  f"{len(uncertain)} cases, each counted once), and the other {len(rest)}:", ""]
+        lines += [f"- **{LEVEL_WORDS[level]}**: {headline_line(uncertain, level)}; the other cases: "
+                  + (headline_line(rest, level) if rest else "none") for level in levels]
     lines += ["", *count_rows(scores, levels, None)]
     lines += ["", "## Per category", "", "A case counts once in each of its categories.", "",
               *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
