@@ -14,12 +14,13 @@ from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
+from elimscan.analysis.baseshift import member, published_terminal_percent
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
 from elimscan.analysis.benchmark_cases import (CATEGORIES, RULE_UNCERTAIN_CATEGORIES, SUBSTITUTION, HammettCase,
                                               IsotopeCase, OutcomeCase, RateCase, isomer_key)
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
-                                                 LevelScore, headline, is_terminal)
+                                                 LevelScore, headline)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
 from elimscan.output.benchmark_baseshift import base_shift_section
 from elimscan.output.benchmark_selectivity import selectivity_section
@@ -178,14 +179,11 @@ def series_rows(scores: Sequence[CaseScore], levels: Sequence[str]) -> list[str]
             "|---|---|---|" + "---|" * len(levels)]
     for name in sorted({s.case.series for s in scores if s.case.series}):
         for score in (s for s in scores if s.case.series == name):
-            shares = score.case.expected.alkene_shares_percent
-            terminal = [v for smiles, v in shares.items() if is_terminal(smiles)]
-            published = f"{sum(terminal):g} %" if terminal else "-"
+            terminal = published_terminal_percent(score.case)
+            published = "-" if terminal is None else f"{terminal:g} %"
             cells = []
             for level in levels:
-                ls = score.levels[level]
-                values = [sum(f for p, f in s.mix.alkene_shares.items() if is_terminal(p))
-                          for s in ls.seeds if s.mix is not None]
+                values = member(score, level).terminal_shares
                 cells.append(f"{100 * sum(values) / len(values):.0f} %" + (
                     f" ({100 * (max(values) - min(values)):.0f})" if len(values) > 1 else "") if values else "-")
             rows.append(f"| {name} | {score.case.id} | {published} | " + " | ".join(cells) + " |")
