@@ -480,7 +480,8 @@ def main(argv: list[str] | None = None) -> int:
             settle_stale_run(work)
         else:
             entry = {"started_utc": started_utc, "commit": commit, "subset": args.subset, "seeds": seed_count,
-                     "base_model": args.base_model, "dft": args.dft}
+                     "base_model": args.base_model, "dft": args.dft,
+                     "workers": args.workers if args.workers is not None else default_workers()}
             with contextlib.ExitStack() as stack:  # an interrupted invocation counts its wall time too
                 try:
                     stack.enter_context(run_clock(work, entry, started))

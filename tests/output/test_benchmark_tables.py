@@ -174,7 +174,10 @@ def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes
     assert said.startswith("VALIDATION.md (all cases), base model bare: 4 of 10 job(s) finished, 1 of them read "
                            "from the archive, 40 min of job time; the 6 job(s) left would take about 1 h 00 min")
     assert "Computing in /w now: pid 4242 on ws1, commit abc1234, subset all, every seed" in said
-    assert "1 h 30 min so far" in said
+    assert "1 h 30 min so far" in said and "wall time" not in said  # an older running file names no workers
+    # six jobs of 10 min each on 2 workers: about 30 min of wall time
+    two = progress_text("x", 10, 4, 0, 4 * 600.0, {**running, "workers": 2}, "/w")
+    assert "On its 2 worker(s) that is about 30 min of wall time, if they stay busy" in two
     fast = progress_text("x", 3, 1, 0, 60.0, {**running, "subset": "fast", "seeds": 3}, "/w")
     assert "subset fast, first 3 seed(s), base model bare" in fast
     idle = progress_text("x", 3, 3, 0, 900.0, None, "/w")

@@ -259,6 +259,11 @@ def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_
         return text + f" No invocation computes in {work} now."
     model = running.get("base_model") or "an unnamed base model"
     seeds = running.get("seeds")
+    workers = running.get("workers")
+    left = n_jobs - n_finished
+    if isinstance(workers, int) and workers > 0 and left > 0 and n_finished and job_seconds > 0:
+        text += (f" On its {workers} worker(s) that is about {_duration(left * job_seconds / n_finished / workers)} "
+                 "of wall time, if they stay busy (a batch's last jobs may leave one idle).")
     return (text + f" Computing in {work} now: pid {running.get('pid')} on {running.get('host')}, commit "
             f"{running.get('commit')}, subset {running.get('subset') or 'all'}, "
             f"{f'first {seeds} seed(s)' if seeds else 'every seed'}, base model {model}, "
