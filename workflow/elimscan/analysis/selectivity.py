@@ -9,7 +9,7 @@ at the temperature of the seed's mix, so nothing saturates at 0 or 100 %. The er
 kcal/mol) is what a chemist sets beside the 1 kcal/mol under which elimscan calls two products undecided.
 
 Counting rules, so that nothing flatters the method:
-- a published share of 0 or 100 % has no finite value: counted (``n_published_extreme``), not expressed;
+- a published share of 0 or 100 % has no finite value: counted (``published_extremes``), not expressed;
 - when the published alkene shares make up the whole (sum at least 99 %), the largest is left out: k shares of a
   whole carry k - 1 independent differences (two alkenes: the smaller share only);
 - a check is computed only when more than half of the seeds asked for give it a value, as the scoring's majority
