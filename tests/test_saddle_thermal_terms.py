@@ -1,0 +1,61 @@
+"""validation/saddle_thermal_terms.py: the split of the E2 - SN2 thermal term, and which saddles it compares.
+
+The split is checked against hand arithmetic on the thermochemistry of two sets of real frequencies (ZPE =
+h c Σν / 2, CODATA 2018 constants through ASE); the job records are BOOKKEEPING FIXTURES, NOT CHEMISTRY (invented
+barriers that decide which saddle is chosen).
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+from ase.build import molecule
+
+from elimscan.analysis.thermo import thermochemistry
+from elimscan.results.flags import NOT_TO_PRODUCTS
+
+ROOT = Path(__file__).resolve().parents[1]
+H_C_CM_KCAL_MOL = 6.62607015e-34 * 2.99792458e10 * 6.02214076e23 / 4184.0  # kcal/mol per cm^-1 (CODATA 2018)
+
+
+@pytest.fixture(scope="module")
+def tool():
+    spec = importlib.util.spec_from_file_location("saddle_thermal_terms", ROOT / "validation" / "saddle_thermal_terms.py")
+    module = importlib.util.module_from_spec(spec)
+    sys.modules["saddle_thermal_terms"] = module
+    try:
+        spec.loader.exec_module(module)
+        yield module
+    finally:
+        sys.modules.pop("saddle_thermal_terms", None)
+
+
+def test_the_split_adds_up_and_its_zpe_is_half_h_c_sum_nu(tool):
+    atoms = molecule("CH3CH2OH")
+    stiff = np.linspace(300.0, 3000.0, 3 * len(atoms) - 6)
+    soft = stiff.copy()
+    soft[-1] = 1200.0  # a 3000 cm^-1 stretch turned into a 1200 cm^-1 mode: 1800 cm^-1 less, 2.57 kcal/mol of ZPE
+    e2 = thermochemistry(atoms, soft, -10.0, 328.15)
+    sn2 = thermochemistry(atoms, stiff, -10.001, 328.15)
+    d = tool.thermal_split_kcal_mol(e2, sn2)
+    assert d["zpe"] == pytest.approx(-0.5 * 1800.0 * H_C_CM_KCAL_MOL, rel=1e-4)
+    assert d["electronic"] == pytest.approx(0.001 * 627.5094740631, rel=1e-6)
+    assert d["zpe"] + d["heat"] + d["minus_TS"] == pytest.approx(d["thermal"], abs=1e-9)
+
+
+def _block(barrier, verified=True, flags=()):
+    return {"path_status": "ok", "barrier_kcal_mol": barrier, "saddle_verified": verified, "flags": list(flags)}
+
+
+def test_the_lowest_verified_e2_saddle_that_is_a_barrier_is_compared_with_the_sn2_one(tool):
+    job = {"beta_hydrogens": [
+        {"class_id": "C1-H4", "anti": _block(5.0), "syn": _block(2.0, verified=False)},
+        {"class_id": "C2-H7", "anti": _block(1.0, flags=(NOT_TO_PRODUCTS,)), "syn": _block(4.0)}],
+        "substitution": _block(3.0)}
+    # the unverified syn saddle and the path that does not reach its products are left out
+    assert tool.saddle_names(job) == ("saddle-C2-H7-syn", "saddle-substitution-backside")
+    assert tool.saddle_names({**job, "substitution": _block(3.0, verified=False)}) is None
