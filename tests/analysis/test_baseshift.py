@@ -104,3 +104,7 @@ def test_pairs_need_ethoxide_and_a_base_the_rule_calls_bulky():
     # published -1.37 (21 -> 73 %), computed -1.55: 0.18 off, within the size tolerance
     assert lines[-1].endswith("| -1.55 (27 → 83 % terminal), spread 0.20; **resolved** |")
     assert base_shift_section([small], ["dE"], LEVEL_WORDS) == []
+    # the package record carries the same counts for the report's note on a bulky-base job
+    from elimscan.analysis.benchmark_record import page_record
+    assert page_record([small, bulky], ["dE"], {})["base_shift"]["dE"] == {
+        "n_pairs": 1, "n_computed": 1, "n_resolved": 1, "n_sign": 1, "n_size_ok": 1}

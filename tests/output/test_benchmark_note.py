@@ -285,3 +285,23 @@ def test_the_effective_gap_is_the_ratio_of_the_jobs_own_shares():
     expected = BOLTZMANN_KCAL_MOL_PER_K * job.temperature_K * math.log(
         shares[headline.computed_major] / shares[headline.product_rival])
     assert headline.product_gap_kcal_mol == pytest.approx(expected, abs=0.01) and headline.product_gap_kcal_mol >= 0.0
+
+
+def test_a_bulky_base_job_hears_how_the_level_did_on_the_bulky_base_shifts():
+    from elimscan.output.benchmark_note import benchmark_note
+
+    job = _bromobutane()
+    assert job.base_info is not None  # the fixture records its base
+    record = _record(major_right=2)
+    record["pages"]["VALIDATION.md"]["base_shift"] = {"dE": {"n_pairs": 4, "n_computed": 2, "n_resolved": 2,
+                                                             "n_sign": 2, "n_size_ok": 1}}
+    bulky = job.model_copy(update={"base_info": job.base_info.model_copy(update={"bulky": True})})
+    small = job.model_copy(update={"base_info": job.base_info.model_copy(update={"bulky": False})})
+    said = ("For a bulky base: on the benchmark's 4 substrates run with ethoxide and a bulky base (2 not computed), "
+            "this level's shift toward the terminal alkene had the published sign and exceeded the seed spread in 2, "
+            "and was of the published size (within 1 kcal/mol) in 1; every published shift points that way, so the "
+            "sign alone is agreement, not proof.")
+    assert said in benchmark_note(bulky, record)
+    assert "For a bulky base" not in benchmark_note(small, record)
+    record["pages"]["VALIDATION.md"]["base_shift"]["dE"]["n_computed"] = 0
+    assert "For a bulky base" not in benchmark_note(bulky, record)

@@ -149,6 +149,7 @@ def test_the_report_record_carries_the_page_headline_counts_per_category():
     assert (alkenes["n"], alkenes["n_published"], alkenes["n_cases"]) == (1, 1, 1)
     assert abs(alkenes["mean_error_kcal_mol"] - (mean + rt * math.log(19 / 81))) < 1e-4
     assert entry["selectivity"]["dE"]["E2 vs SN2"]["n_published"] == 0
+    assert entry["base_shift"] == {}  # no substrate of the fixture ran with ethoxide and a bulky base
     # each seed's shares as scored (the tests of the frozen model judge a choice seed by seed)
     kept = page_record(found[:1], ["dE"], {})["cases"][found[0].case.id]["levels"]["dE"]
     assert kept["seed_shares"] == [dict(s.mix.shares) for s in found[0].levels["dE"].seeds]

@@ -10,7 +10,9 @@ Pure: builds and reads plain dicts; the files are written and read elsewhere.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
+from dataclasses import asdict
 
+from elimscan.analysis.baseshift import base_shifts, shift_counts
 from elimscan.analysis.benchmark_calibration import CalibrationScore
 from elimscan.analysis.benchmark_cases import CATEGORIES
 from elimscan.analysis.benchmark_scoring import NOT_COMPUTED, NOT_SCORED, RIGHT, UNDECIDED, CaseScore, headline
@@ -42,7 +44,8 @@ def _case_entry(score: CaseScore) -> dict:
 def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mapping[str, object]) -> dict:
     """Return one page's record: ``about`` (page, date, commit, base model, job base models, seeds, jobs); per
     level and category with cases, the headline counts (cases, right, undecided, not computed; the rule's); per
-    level the selectivity errors (kcal/mol); and per test case its outcome and mean shares at each level."""
+    level the selectivity errors (kcal/mol) and the bulky-base shift counts; and per test case its outcome and mean
+    shares at each level."""
     counts: dict[str, dict[str, dict[str, int]]] = {}
     for level in levels:
         for category in CATEGORIES:
@@ -57,7 +60,9 @@ def page_record(scores: Sequence[CaseScore], levels: Sequence[str], about: Mappi
                 "major_cases": sum(m != NOT_SCORED for m in major),
                 "major_computed": sum(m not in (NOT_SCORED, NOT_COMPUTED) for m in major),
                 "major_right": major.count(RIGHT), "major_undecided": major.count(UNDECIDED)}
+    shifts = base_shifts(scores, levels)
     return {**about, "levels": counts, "selectivity": selectivity_record(scores, levels),
+            "base_shift": {level: asdict(shift_counts(shifts, level)) for level in levels} if shifts else {},
             "cases": {score.case.id: _case_entry(score) for score in scores}}
 
 

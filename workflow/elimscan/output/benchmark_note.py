@@ -9,8 +9,8 @@ share too) were right. When the job is undecided because its best alkenes lie wi
 the level got at most half of such cases' major products right (at least MIN_CASES computed), it says that the
 undecided verdict is the level's limit. Where the record holds the level's error of relative barriers on the
 published alkene shares (at least MIN_SHARES with a finite error, from MIN_ERROR_CASES cases), it sets the job's
-effective gap between its computed major and the next alkene beside that mean error.
-Pure rendering: no files.
+effective gap between its computed major and the next alkene beside that mean error; for a bulky base, how the
+level did on the benchmark's bulky-base shifts. Pure rendering: no files.
 """
 
 from __future__ import annotations
@@ -100,6 +100,19 @@ def _gap_against_error(selectivity: Mapping | None, level: str, headline: Headli
     return text + "at least that average error."
 
 
+def _bulky_base_words(base_shift: Mapping | None, level: str) -> str:
+    """Return the sentence on how this level did on the benchmark's bulky-base shifts, or '' (none computed)."""
+    c = base_shift.get(level) if isinstance(base_shift, Mapping) else None
+    keys = ("n_pairs", "n_computed", "n_resolved", "n_sign", "n_size_ok")
+    if not isinstance(c, Mapping) or not all(isinstance(c.get(k), int) for k in keys) or not c["n_computed"]:
+        return ""
+    return (f" For a bulky base: on the benchmark's {c['n_pairs']} substrates run with ethoxide and a bulky base "
+            f"({c['n_pairs'] - c['n_computed']} not computed), this level's shift toward the terminal alkene had the "
+            f"published sign and exceeded the seed spread in {c['n_resolved']}, and was of the published size "
+            f"(within {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol) in {c['n_size_ok']}; every published shift points "
+            "that way, so the sign alone is agreement, not proof.")
+
+
 def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | None = None,
                    ascii_only: bool = False) -> str | None:
     """Return what the reference benchmark says of cases asking this job's kinds of choice, at the level that drove
@@ -129,6 +142,8 @@ def benchmark_note(job: JobRecord, record: Mapping | None, headline: Headline | 
         text += (f" This job's base model ({model}) is not among the benchmark's: the counts are of another model "
                  "of the base.")
     text += _gap_against_error(entry.get("selectivity"), level, headline)
+    if job.base_info is not None and job.base_info.bulky:
+        text += _bulky_base_words(entry.get("base_shift"), level)
     limits = [counts for kind, counts in found if kind in _limit_kinds(job, headline, kinds)]
     if limits and all(c["major_computed"] >= MIN_CASES and 2 * c["major_right"] <= c["major_computed"]
                       for c in limits):
