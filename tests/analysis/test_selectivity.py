@@ -106,6 +106,7 @@ def test_mean_spread_and_summary_over_seeds():
     assert check.mean_kcal_mol == pytest.approx(2.0) and check.spread_kcal_mol == pytest.approx(2.0)
     summary = summarise_selectivity([[check]], "dE")
     assert summary.n == 1 and summary.mean_error_kcal_mol == pytest.approx(2.0 - 0.8591, abs=5e-4)
+    assert summary.median_spread_kcal_mol == summary.largest_spread_kcal_mol == pytest.approx(2.0)
     assert summary.n_within_uncertainty == 0  # 1.14 kcal/mol off: beyond the 1 kcal/mol of the undecided call
     row = selectivity_section([score], ["dE"], LEVEL_WORDS)[-1]
     assert row == "| bookkeeping | C=CCC vs the other alkenes: 19 % | +0.9 | +2.0 (2.0) [2 of 3 seeds] | +1.1 |"

@@ -78,7 +78,8 @@ def selectivity_record(scores: Sequence[CaseScore], levels: Sequence[str]) -> di
                 "n_published": s.n_published, "n_from_memory": s.n_from_memory, "n": s.n, "n_cases": s.n_cases,
                 "n_unbounded": s.n_unbounded, "n_not_computed": s.n_not_computed,
                 "mean_error_kcal_mol": s.mean_error_kcal_mol, "mean_abs_error_kcal_mol": s.mean_abs_error_kcal_mol,
-                "n_within_uncertainty": s.n_within_uncertainty}
+                "n_within_uncertainty": s.n_within_uncertainty, "median_spread_kcal_mol": s.median_spread_kcal_mol,
+                "largest_spread_kcal_mol": s.largest_spread_kcal_mol}
     return out
 
 

@@ -22,6 +22,7 @@ Counting rules, so that nothing flatters the method:
 from __future__ import annotations
 
 import math
+import statistics
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -192,6 +193,10 @@ class SelectivitySummary:
     n_within_uncertainty: int
     #: cases the finite errors come from
     n_cases: int = 0
+    #: median and largest max - min over seeds of the computed differences with two or more seeds (kcal/mol): how
+    #: far a repeat of the same job moves a selectivity; None without such a check
+    median_spread_kcal_mol: float | None = None
+    largest_spread_kcal_mol: float | None = None
 
 
 def summarise_selectivity(by_case: Sequence[Sequence[SelectivityCheck]], level: str,
@@ -200,13 +205,16 @@ def summarise_selectivity(by_case: Sequence[Sequence[SelectivityCheck]], level: 
     checks = [[c for c in case_checks if group is None or c.published.group == group] for case_checks in by_case]
     every = [c for case_checks in checks for c in case_checks]
     errors = [c.error_kcal_mol for c in every if c.error_kcal_mol is not None]
+    spreads = sorted(c.spread_kcal_mol for c in every if c.spread_kcal_mol is not None)
     return SelectivitySummary(
         level=level, group=group, n_published=len(every), n_from_memory=sum(c.published.from_memory for c in every),
         n=len(errors), n_unbounded=sum(c.unbounded for c in every), n_not_computed=sum(not c.computed for c in every),
         mean_error_kcal_mol=sum(errors) / len(errors) if errors else None,
         mean_abs_error_kcal_mol=sum(abs(e) for e in errors) / len(errors) if errors else None,
         n_within_uncertainty=sum(abs(e) <= METHOD_UNCERTAINTY_KCAL_MOL for e in errors),
-        n_cases=sum(any(c.error_kcal_mol is not None for c in case_checks) for case_checks in checks))
+        n_cases=sum(any(c.error_kcal_mol is not None for c in case_checks) for case_checks in checks),
+        median_spread_kcal_mol=statistics.median(spreads) if spreads else None,
+        largest_spread_kcal_mol=spreads[-1] if spreads else None)
 
 
 def case_checks(scores: Sequence[CaseScore], level: str) -> list[list[SelectivityCheck]]:

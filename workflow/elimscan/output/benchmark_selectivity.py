@@ -36,6 +36,9 @@ def summary_words(s: SelectivitySummary) -> str:
         text += (f" (from {s.n_cases} case(s)), mean error {s.mean_error_kcal_mol:+.1f}, mean of abs "
                  f"{s.mean_abs_error_kcal_mol:.1f} kcal/mol, {s.n_within_uncertainty} of {s.n} within "
                  f"{METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol")
+    if s.median_spread_kcal_mol is not None:
+        text += (f"; seed spread (max − min) median {s.median_spread_kcal_mol:.2f}, largest "
+                 f"{s.largest_spread_kcal_mol:.2f} kcal/mol")
     counts = f"; {s.n_unbounded} unbounded, {s.n_not_computed} not computed"
     return text + counts + f"; {s.n_from_memory} of the {s.n_published} published values from memory"
 
