@@ -24,7 +24,8 @@ H_C_CM_KCAL_MOL = 6.62607015e-34 * 2.99792458e10 * 6.02214076e23 / 4184.0  # kca
 
 @pytest.fixture(scope="module")
 def tool():
-    spec = importlib.util.spec_from_file_location("saddle_thermal_terms", ROOT / "validation" / "saddle_thermal_terms.py")
+    path = ROOT / "validation" / "saddle_thermal_terms.py"
+    spec = importlib.util.spec_from_file_location("saddle_thermal_terms", path)
     module = importlib.util.module_from_spec(spec)
     sys.modules["saddle_thermal_terms"] = module
     try:

@@ -80,14 +80,16 @@ def row(folder: Path) -> str:
     job = json.loads((folder / "job.json").read_text())["job"]
     names = saddle_names(job)
     if names is None:
-        return f"| {job['job_id']} | - | no verified E2 and SN2 saddles that count as barriers | - | - | - | - | - | - |"
+        return (f"| {job['job_id']} | - | no verified E2 and SN2 saddles that count as barriers "
+                "| - | - | - | - | - | - |")
     solvent = job["solvent"]
     engine = XtbEngine(EngineSettings(solvent_model=solvent["model"], solvent_name=solvent.get("name")))
     t = job["temperature_K"]
     e2, sn2 = (_saddle_thermo(folder / f"{name}.xyz", engine, _charge(job), t) for name in names)
     d = thermal_split_kcal_mol(e2, sn2)
     return (f"| {job['job_id']} ({folder.resolve().parents[2].name}) | {t:g} | {names[0].removeprefix('saddle-')} | "
-            f"{d['electronic']:+.2f} | {d['zpe']:+.2f} | {d['heat']:+.2f} | {d['minus_TS']:+.2f} | {d['thermal']:+.2f} | "
+            f"{d['electronic']:+.2f} | {d['zpe']:+.2f} | {d['heat']:+.2f} | {d['minus_TS']:+.2f} | "
+            f"{d['thermal']:+.2f} | "
             f"{d['electronic'] + d['thermal']:+.2f} |")
 
 

@@ -33,8 +33,9 @@ def _scored(case_id: str, base: str, terminal_barriers: list[float], seeds: int 
             smiles: str = "CC(C)C(C)(C)Br"):
     """Return a scored case with one seed per terminal barrier (kcal/mol, against the tetrasubstituted path at 0);
     ``seeds``: how many the case asks for (default: as many as barriers)."""
-    c = case(shares={TERMINAL: 73 if base != "ethoxide" else 21}, seeds=tuple(range(1, (seeds or len(terminal_barriers)) + 1)))
-    c = c.model_copy(update={"id": case_id, "base": Molecule(name=base), "substrate": Molecule(name=case_id, smiles=smiles)})
+    asked = tuple(range(1, (seeds or len(terminal_barriers)) + 1))
+    c = case(shares={TERMINAL: 73 if base != "ethoxide" else 21}, seeds=asked).model_copy(update={
+        "id": case_id, "base": Molecule(name=base), "substrate": Molecule(name=case_id, smiles=smiles)})
     jobs = {k + 1: record([("C2-H11", "anti", TETRA, 0.0, 1), ("C5-H15", "anti", TERMINAL, b, 1)])
             for k, b in enumerate(terminal_barriers)}
     return score_case(c, jobs, c.seeds, ["dE"])

@@ -63,7 +63,8 @@ def test_the_page_names_the_run_and_gives_every_part():
     # the published 19 % 1-butene as a free-energy difference, after the series, with a summary line per level
     assert page.index("## Series") < page.index("## Selectivity in kcal/mol")
     assert "| bookkeeping | C=CCC vs the other alkenes: 19 % | +0.9 | " in page
-    assert "- **GFN2-xTB dE**: alkenes: 1 of 1 published shares with a finite error (from 1 case(s)), mean error " in page
+    assert ("- **GFN2-xTB dE**: alkenes: 1 of 1 published shares with a finite error (from 1 case(s)), mean error "
+            in page)
 
 
 def test_the_cases_where_the_rule_is_least_certain_are_counted_together_once():

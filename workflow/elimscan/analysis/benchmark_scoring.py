@@ -39,8 +39,8 @@ from dataclasses import dataclass, field
 from rdkit import Chem
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, Expected, OutcomeCase, isomer_key
-from elimscan.analysis.rule import (METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts, product_barriers_kcal_mol,
-                                   product_fractions)
+from elimscan.analysis.rule import (METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts,
+                                   product_barriers_kcal_mol, product_fractions)
 from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS, no_barrier_reason
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
@@ -154,7 +154,8 @@ class LevelMix:
     missing: tuple[str, ...] = ()
     #: best syn minus best anti effective barrier (kcal/mol; degeneracy counted), None without both approaches
     syn_minus_anti_kcal_mol: float | None = None
-    #: every product's effective barrier over its paths (kcal/mol; degeneracy counted, ``rule.product_barriers_kcal_mol``)
+    #: every product's effective barrier over its paths (kcal/mol; degeneracy counted,
+    #: ``rule.product_barriers_kcal_mol``)
     product_barriers_kcal_mol: dict[str, float] = field(default_factory=dict)
 
 

@@ -48,7 +48,7 @@ def gap_below_error(gap_kcal_mol: float, mean_abs_error_kcal_mol: float) -> bool
 
 
 def published_difference_kcal_mol(percent: float, temperature_K: float) -> float | None:
-    """Return -RT ln(s / (1 - s)) (kcal/mol) of a published share s (percent) at temperature_K (K), None at 0 or 100 %."""
+    """Return -RT ln(s / (1 - s)) (kcal/mol) of a published share s (percent) at temperature_K (K); None at 0/100 %."""
     if not 0.0 < percent < 100.0:
         return None
     return -BOLTZMANN_KCAL_MOL_PER_K * temperature_K * math.log(percent / (100.0 - percent))

@@ -57,7 +57,8 @@ def _cell(check: SelectivityCheck) -> str:
     return f"{mean:+.1f}" + (f" ({spread:.1f})" if spread is not None else "") + partial + f" | {error:+.1f}"
 
 
-def selectivity_section(scores: Sequence[CaseScore], levels: Sequence[str], level_words: Mapping[str, str]) -> list[str]:
+def selectivity_section(scores: Sequence[CaseScore], levels: Sequence[str],
+                        level_words: Mapping[str, str]) -> list[str]:
     """Return the page's lines on selectivity in kcal/mol (none when no case has a finite published share)."""
     rows = [(score, {level: selectivity_checks(score, level) for level in levels}) for score in scores]
     rows = [(score, by_level) for score, by_level in rows if any(by_level.values())]

@@ -320,7 +320,8 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     uncertain = [s for s in scores if any(c in s.case.category for c in RULE_UNCERTAIN_CATEGORIES)]
     rest = [s for s in scores if s not in uncertain]
     if uncertain:
-        lines += ["", f"Where the computation is meant to add most to the rule ({', '.join(RULE_UNCERTAIN_CATEGORIES)}: "
+        lines += ["", "Where the computation is meant to add most to the rule "
+                  f"({', '.join(RULE_UNCERTAIN_CATEGORIES)}: "
                   "the categories named before the run as those where the rule's call is ambiguous, a prior choice; "
                   f"{len(uncertain)} cases, each counted once), and the other {len(rest)}:", ""]
         lines += [f"- **{LEVEL_WORDS[level]}**: {headline_line(uncertain, level)}; the other cases: "
