@@ -75,9 +75,9 @@ def test_the_lowest_verified_e2_saddle_that_is_a_barrier_is_compared_with_the_sn
 def test_the_recorded_thermal_term_and_the_charge_come_from_the_job_record(tool):
     e2 = {**_block(4.0), "barrier_free_energy_kcal_mol": 13.0}   # thermal +9.0
     sn2 = {**_block(3.0), "barrier_free_energy_kcal_mol": 15.5}  # thermal +12.5
-    job = {"beta_hydrogens": [{"class_id": "C1-H4", "anti": e2, "syn": _block(9.0)}], "substitution": sn2,
-           "molecules": [{"role": "substrate", "charge": 1}, {"role": "base", "charge": -1}]}
+    job = {"beta_hydrogens": [{"class_id": "C1-H4", "anti": e2, "syn": _block(9.0)}], "substitution": sn2}
     assert tool.recorded_thermal_kcal_mol(job) == pytest.approx(-3.5)
-    assert tool.total_charge(job) == 0  # an onium substrate with an alkoxide: neutral, not the base's -1
+    # an onium substrate with an alkoxide: neutral, not the base's -1
+    assert tool.total_charge([{"role": "substrate", "charge": 1}, {"role": "base", "charge": -1}]) == 0
     page = tool.page(["| row |"], "abc1234", "2026-12-05 16:00 UTC", "python validation/saddle_thermal_terms.py x")
     assert "never edited by hand" in page and "commit `abc1234`" in page and page.rstrip().endswith("| row |")

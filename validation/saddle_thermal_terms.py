@@ -74,9 +74,9 @@ def recorded_thermal_kcal_mol(job: dict) -> float | None:
             - (sn2["barrier_free_energy_kcal_mol"] - sn2["barrier_kcal_mol"]))
 
 
-def total_charge(job: dict) -> int:
-    """Return the total charge of the job's saddles: the sum of its molecules' charges (substrate and base model)."""
-    return sum(int(m["charge"]) for m in job["molecules"])
+def total_charge(molecules: list[dict]) -> int:
+    """Return the total charge of a job's saddles: the sum of its molecules' charges (job.json's ``molecules``)."""
+    return sum(int(m["charge"]) for m in molecules)
 
 
 def _engine(folder: Path):
@@ -106,14 +106,15 @@ def _saddle_thermo(path: Path, engine, charge: int, temperature_K: float) -> The
 
 def row(folder: Path) -> str:
     """Return one Markdown row for a finished job's folder (or a row saying why it has none)."""
-    job = json.loads((folder / "job.json").read_text())["job"]
+    document = json.loads((folder / "job.json").read_text())
+    job = document["job"]
     names = saddle_names(job)
     if names is None:
         return (f"| {job['job_id']} | - | no verified E2 and SN2 saddles that count as barriers "
                 "| - | - | - | - | - | - | - |")
     t = job["temperature_K"]
     engine = _engine(folder)
-    e2, sn2 = (_saddle_thermo(folder / f"{name}.xyz", engine, total_charge(job), t) for name in names)
+    e2, sn2 = (_saddle_thermo(folder / f"{name}.xyz", engine, total_charge(document["molecules"]), t) for name in names)
     d = thermal_split_kcal_mol(e2, sn2)
     recorded = recorded_thermal_kcal_mol(job)
     flag = ("" if recorded is None or abs(recorded - d["thermal"]) <= RECORDED_TOLERANCE_KCAL_MOL
