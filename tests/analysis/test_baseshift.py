@@ -108,4 +108,4 @@ def test_pairs_need_ethoxide_and_a_base_the_rule_calls_bulky():
     # the package record carries the same counts for the report's note on a bulky-base job
     from elimscan.analysis.benchmark_record import page_record
     assert page_record([small, bulky], ["dE"], {})["base_shift"]["dE"] == {
-        "n_pairs": 1, "n_computed": 1, "n_resolved": 1, "n_sign": 1, "n_size_ok": 1}
+        "n_pairs": 1, "n_computed": 1, "n_resolved": 1, "n_sign": 1, "n_size_ok": 1, "n_from_memory": 0}

@@ -67,7 +67,7 @@ def test_the_page_names_the_run_and_gives_every_part():
             in page)
 
 
-def test_the_cases_where_the_rule_is_least_certain_are_counted_together_once():
+def test_the_cases_where_the_computation_is_meant_to_add_most_are_counted_together_once():
     from elimscan.analysis.benchmark_scoring import headline
 
     found = scores()  # categories: open-chain-regio, ez-ratio, base-size
@@ -75,8 +75,9 @@ def test_the_cases_where_the_rule_is_least_certain_are_counted_together_once():
     together = headline([found[0], both, found[2]], "dE", ("ez-ratio", "base-size", "e2-vs-sn2"))
     assert (together.n, together.undecided, together.right, together.rule_right) == (2, 1, 0, 1)  # counted once
     page = validation_markdown(INFO, found, [], ["dE"])
-    assert ("(ez-ratio, leaving-group, base-size, e2-vs-sn2: the categories named before the run as those where the "
-            "rule's call is ambiguous, a prior choice; 2 cases, each counted once), and the other 1:") in page
+    assert ("(ez-ratio, leaving-group, base-size, e2-vs-sn2: the categories the project named, before the benchmark "
+            "ran, as those where the rule's call is ambiguous; a prior choice; 2 cases, each counted once), and the "
+            "other 1:") in page
     assert ("- **GFN2-xTB dE**: computed right 0/2 (on the rule's basis 0/2), rule right 1/2, undecided 1/2; the other "
             "cases: computed right 1/1 (on the rule's basis 1/1), rule right 1/1, undecided 0/1") in page
 
@@ -179,7 +180,7 @@ def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes
     assert "1 h 30 min so far" in said and "wall time" not in said  # an older running file names no workers
     # six jobs of 10 min each on 2 workers: about 30 min of wall time
     two = progress_text("x", 10, 4, 0, 4 * 600.0, {**running, "workers": 2}, "/w")
-    assert "On its 2 worker(s) that is about 30 min of wall time, if they stay busy" in two
+    assert "On its 2 worker(s) that is about 30 min of wall time at the mean so far, if they stay busy" in two
     fast = progress_text("x", 3, 1, 0, 60.0, {**running, "subset": "fast", "seeds": 3}, "/w")
     assert "subset fast, first 3 seed(s), base model bare" in fast
     idle = progress_text("x", 3, 3, 0, 900.0, None, "/w")

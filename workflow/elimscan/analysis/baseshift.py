@@ -26,7 +26,7 @@ from rdkit import Chem
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, OutcomeCase, isomer_key
 from elimscan.analysis.benchmark_jobs import base_smiles
-from elimscan.analysis.benchmark_scoring import CaseScore, LevelMix, is_terminal, terminal_share
+from elimscan.analysis.benchmark_scoring import CaseScore, LevelMix, has_majority, is_terminal, terminal_share
 from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, summed_barrier_kcal_mol
 from elimscan.chem.bases import describe_base
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
@@ -72,7 +72,7 @@ class Member:
     @property
     def computed(self) -> bool:
         """Return True when more than half of the seeds asked for gave a value or an unbounded one."""
-        return 2 * (len(self.values_kcal_mol) + self.n_unbounded) > self.n_seeds
+        return has_majority(len(self.values_kcal_mol) + self.n_unbounded, self.n_seeds)
 
 
 def member(score: CaseScore, level: str) -> Member:
@@ -180,13 +180,16 @@ class ShiftCounts:
     n_resolved: int
     n_sign: int
     n_size_ok: int
+    #: pairs whose published shift rests on a value from memory (either member)
+    n_from_memory: int = 0
 
 
 def shift_counts(shifts: Sequence[BaseShift], level: str) -> ShiftCounts:
     """Return the counts of one level over the pairs with a published shift (not computed ones stay in n_pairs)."""
-    scored = [s.levels[level] for s in shifts if s.published_shift_kcal_mol is not None]
+    pairs = [s for s in shifts if s.published_shift_kcal_mol is not None]
+    scored = [s.levels[level] for s in pairs]
     computed = [s for s in scored if s.shift_kcal_mol is not None]
-    return ShiftCounts(n_pairs=len(scored), n_computed=len(computed),
+    return ShiftCounts(n_pairs=len(scored), n_computed=len(computed), n_from_memory=sum(s.from_memory for s in pairs),
                        n_resolved=sum(s.verdict == RESOLVED for s in computed),
                        n_sign=sum(s.verdict in (RESOLVED, WITHIN_SPREAD, NO_SPREAD) for s in computed),
                        n_size_ok=sum(s.size_ok for s in computed))

@@ -240,11 +240,16 @@ def judge_rule(expected: Expected, call: str | None) -> str:
     return WRONG if expected.approach not in (None, RULE_APPROACH) else RIGHT
 
 
+def has_majority(n_with: int, n_asked: int) -> bool:
+    """Return True when ``n_with`` seeds are more than half of the ``n_asked`` seeds a case asks for."""
+    return 2 * n_with > n_asked
+
+
 def majority(outcomes: Sequence[str], n_seeds: int) -> str:
     """Return the outcome more than half of the ``n_seeds`` seeds gave, else 'undecided' (or 'not computed')."""
     counts = Counter(outcomes)
     for outcome in (RIGHT, WRONG, UNDECIDED, NOT_COMPUTED, NOT_SCORED):
-        if counts[outcome] * 2 > n_seeds:
+        if has_majority(counts[outcome], n_seeds):
             return outcome
     return UNDECIDED if counts[RIGHT] + counts[WRONG] + counts[UNDECIDED] else NOT_COMPUTED
 

@@ -27,7 +27,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from elimscan.analysis.benchmark_cases import SUBSTITUTION, OutcomeCase, isomer_key
-from elimscan.analysis.benchmark_scoring import CaseScore, LevelMix
+from elimscan.analysis.benchmark_scoring import CaseScore, LevelMix, has_majority
 from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL, summed_barrier_kcal_mol
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
@@ -126,7 +126,7 @@ class SelectivityCheck:
     @property
     def computed(self) -> bool:
         """Return True when more than half of the seeds asked for gave a value or an unbounded share."""
-        return 2 * (len(self.seed_values_kcal_mol) + self.n_seeds_not_formed + self.n_seeds_alone) > self.n_seeds
+        return has_majority(len(self.seed_values_kcal_mol) + self.n_seeds_not_formed + self.n_seeds_alone, self.n_seeds)
 
     @property
     def unbounded(self) -> bool:

@@ -263,7 +263,8 @@ def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_
     left = n_jobs - n_finished
     if isinstance(workers, int) and workers > 0 and left > 0 and n_finished and job_seconds > 0:
         text += (f" On its {workers} worker(s) that is about {_duration(left * job_seconds / n_finished / workers)} "
-                 "of wall time, if they stay busy (a batch's last jobs may leave one idle).")
+                 "of wall time at the mean so far, if they stay busy (a batch's last jobs may leave one idle; larger "
+                 "jobs left make it longer).")
     return (text + f" Computing in {work} now: pid {running.get('pid')} on {running.get('host')}, commit "
             f"{running.get('commit')}, subset {running.get('subset') or 'all'}, "
             f"{f'first {seeds} seed(s)' if seeds else 'every seed'}, base model {model}, "
@@ -322,7 +323,8 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     if uncertain:
         lines += ["", "Where the computation is meant to add most to the rule "
                   f"({', '.join(RULE_UNCERTAIN_CATEGORIES)}: "
-                  "the categories named before the run as those where the rule's call is ambiguous, a prior choice; "
+                  "the categories the project named, before the benchmark ran, as those where the rule's call is "
+                  "ambiguous; a prior choice; "
                   f"{len(uncertain)} cases, each counted once), and the other {len(rest)}:", ""]
         lines += [f"- **{LEVEL_WORDS[level]}**: {headline_line(uncertain, level)}; the other cases: "
                   + (headline_line(rest, level) if rest else "none") for level in levels]
