@@ -15,8 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from elimscan.analysis.baseshift import (NO_SPREAD, RESOLVED, WITHIN_SPREAD, WRONG_SIGN, base_shifts, shift_counts,
-                                         terminal_difference_kcal_mol)
+from elimscan.analysis.baseshift import (NO_SPREAD, RESOLVED, WITHIN_SPREAD, WRONG_SIGN, LevelShift, base_shifts,
+                                         shift_counts, terminal_difference_kcal_mol)
 from elimscan.analysis.benchmark_cases import Molecule, parse_cases
 from elimscan.analysis.benchmark_scoring import level_mix, score_case
 from elimscan.output.benchmark_baseshift import base_shift_section
@@ -58,8 +58,16 @@ def test_the_published_shifts_of_the_benchmark_pairs():
     assert dmb.published_shift_kcal_mol == pytest.approx(-1.37, abs=0.01)
     butane = found[("2-bromobutane-ethoxide", "2-bromobutane-tert-butoxide")]
     assert (butane.published_small_percent, butane.published_bulky_percent) == (19, 33)
+    assert butane.published_shift_kcal_mol == pytest.approx(by_hand(19, 33, 298.15, 298.15), abs=1e-3)
+    # tert-amyl bromide: 30 % terminal with ethoxide at 70 °C, 72 % with tert-butoxide at 75 °C, 89 % with
+    # 3-ethyl-3-pentoxide at 70 °C (Brown, Moritani & Okamoto 1956, from memory; the first two seen in Solomons &
+    # Fryhle, ch. 7)
     amyl = {k[1]: v for k, v in found.items() if k[0] == "2-bromo-2-methylbutane-ethoxide"}
     assert set(amyl) == {"2-bromo-2-methylbutane-tert-butoxide", "2-bromo-2-methylbutane-triethylmethoxide"}
+    assert amyl["2-bromo-2-methylbutane-tert-butoxide"].published_shift_kcal_mol == pytest.approx(
+        by_hand(30, 72, 343.15, 348.15), abs=1e-3)
+    assert amyl["2-bromo-2-methylbutane-triethylmethoxide"].published_shift_kcal_mol == pytest.approx(
+        by_hand(30, 89, 343.15, 343.15), abs=1e-3)
     assert all(s.published_shift_kcal_mol < 0 for s in found.values())  # every one toward the terminal alkene
     assert len(found) == 4
 
@@ -89,6 +97,16 @@ def test_a_shift_is_resolved_only_with_the_published_sign_beyond_the_seed_spread
     assert thin.levels["dE"].verdict == "not computed" and thin.levels["dE"].shift_kcal_mol is None
     counts = shift_counts([resolved, thin], "dE")
     assert (counts.n_pairs, counts.n_computed, counts.n_resolved) == (2, 1, 1)
+    # a seed that forms only the terminal alkene has no finite difference: the pair is unbounded, never resolved
+    only_terminal = record([("C5-H15", "anti", TERMINAL, 0.0, 1)])
+    alone = _scored("t", "tert-butoxide", [-1.0, -0.9])
+    alone = score_case(alone.case, {1: only_terminal, 2: only_terminal}, alone.case.seeds, ["dE"])
+    (unbounded,) = base_shifts([small, alone], ["dE"])
+    assert (unbounded.levels["dE"].verdict, unbounded.levels["dE"].shift_kcal_mol) == ("unbounded", None)
+    # the size boundary: 1 kcal/mol off the published is still of its size, more is not
+    assert resolved.levels["dE"].size_ok  # -1.55 against -1.37
+    at, beyond = (LevelShift(-2.0, 0.1, RESOLVED, off, 0.2, 0.8) for off in (-1.0, -1.01))
+    assert at.size_ok and not beyond.size_ok
 
 
 def test_pairs_need_ethoxide_and_a_base_the_rule_calls_bulky():
