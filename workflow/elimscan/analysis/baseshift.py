@@ -65,7 +65,7 @@ class Member:
     """One case of a pair at one level: its seeds' terminal differences (kcal/mol) and terminal shares (0-1)."""
 
     values_kcal_mol: tuple[float, ...]
-    terminal_shares: tuple[float, ...]
+    terminal_fractions: tuple[float, ...]
     n_unbounded: int
     n_seeds: int
 
@@ -97,8 +97,8 @@ class LevelShift:
     #: shift minus the published shift (kcal/mol), None without both
     size_off_kcal_mol: float | None
     #: mean terminal share of the alkenes of each member (0-1), for reading
-    small_terminal: float | None
-    bulky_terminal: float | None
+    small_terminal_fraction: float | None
+    bulky_terminal_fraction: float | None
 
     @property
     def size_ok(self) -> bool:
@@ -113,7 +113,7 @@ def _mean(values: Sequence[float]) -> float | None:
 
 def level_shift(small: Member, bulky: Member, published_kcal_mol: float | None) -> LevelShift:
     """Return one level's shift of a pair of members against the published shift (kcal/mol)."""
-    shares = (_mean(small.terminal_shares), _mean(bulky.terminal_shares))
+    shares = (_mean(small.terminal_fractions), _mean(bulky.terminal_fractions))
     if not (small.computed and bulky.computed):
         return LevelShift(None, None, "not computed", None, *shares)
     if small.n_unbounded or bulky.n_unbounded:

@@ -24,8 +24,8 @@ INTRO = ("For each substrate run with ethoxide and with a base the rule calls bu
 
 def _cell(shift: LevelShift) -> str:
     """Return one level's shift in words: kcal/mol, the two terminal shares, the spread, the verdict, the size."""
-    shares = ("" if shift.small_terminal is None or shift.bulky_terminal is None else
-              f" ({100 * shift.small_terminal:.0f} → {100 * shift.bulky_terminal:.0f} % terminal)")
+    shares = ("" if shift.small_terminal_fraction is None or shift.bulky_terminal_fraction is None else
+              f" ({100 * shift.small_terminal_fraction:.0f} → {100 * shift.bulky_terminal_fraction:.0f} % terminal)")
     if shift.shift_kcal_mol is None:
         return f"{shift.verdict}{shares}"
     spread = "-" if shift.spread_kcal_mol is None else f"{shift.spread_kcal_mol:.2f}"

@@ -183,7 +183,7 @@ def series_rows(scores: Sequence[CaseScore], levels: Sequence[str]) -> list[str]
             published = "-" if terminal is None else f"{terminal:g} %"
             cells = []
             for level in levels:
-                values = member(score, level).terminal_shares
+                values = member(score, level).terminal_fractions
                 cells.append(f"{100 * sum(values) / len(values):.0f} %" + (
                     f" ({100 * (max(values) - min(values)):.0f})" if len(values) > 1 else "") if values else "-")
             rows.append(f"| {name} | {score.case.id} | {published} | " + " | ".join(cells) + " |")
