@@ -7,26 +7,20 @@ BOOKKEEPING ROWS, NOT CHEMISTRY: the barriers below are invented to put the verd
 
 from __future__ import annotations
 
-import importlib.util
-import sys
 from pathlib import Path
 
 import pytest
 from ase.build import molecule
+
+from scriptmodules import loaded_script  # tests/support
 
 ROOT = Path(__file__).resolve().parents[1]
 
 
 @pytest.fixture(scope="module")
 def probe():
-    spec = importlib.util.spec_from_file_location("core_correction", ROOT / "validation" / "core_correction.py")
-    module = importlib.util.module_from_spec(spec)
-    sys.modules["core_correction"] = module
-    try:
-        spec.loader.exec_module(module)
+    with loaded_script(ROOT / "validation" / "core_correction.py", "core_correction") as module:
         yield module
-    finally:
-        sys.modules.pop("core_correction", None)
 
 
 def _rows(corrected_errors: list[float], gfn2_errors: list[float]) -> list[dict]:

@@ -8,8 +8,6 @@ Then the jobs: every case x seed is served by exactly one job of a batch config 
 
 from __future__ import annotations
 
-import importlib.util
-import sys
 import time
 import warnings
 from collections import Counter
@@ -25,6 +23,8 @@ from elimscan.analysis.benchmark_jobs import batch_groups, benchmark_jobs, seeds
 from elimscan.chem.perception import perceive_substrate
 from elimscan.config import parse_config
 from elimscan.errors import CaseFileError
+
+from scriptmodules import loaded_script  # tests/support
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES_TEXT = (ROOT / "validation" / "cases.yaml").read_text()
@@ -156,14 +156,8 @@ def test_every_case_and_seed_is_served_by_one_job_of_a_loadable_batch_config(cas
 
 @pytest.fixture(scope="module")
 def validate():
-    spec = importlib.util.spec_from_file_location("validate", ROOT / "validation" / "validate.py")
-    module = importlib.util.module_from_spec(spec)
-    sys.modules["validate"] = module  # its dataclasses look their module up by name
-    try:
-        spec.loader.exec_module(module)
+    with loaded_script(ROOT / "validation" / "validate.py", "validate") as module:
         yield module
-    finally:
-        sys.modules.pop("validate", None)
 
 
 def test_the_fast_subset_is_a_few_small_cases_with_one_seed(cases, validate):

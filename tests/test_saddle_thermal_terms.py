@@ -7,8 +7,6 @@ barriers that decide which saddle is chosen).
 
 from __future__ import annotations
 
-import importlib.util
-import sys
 from pathlib import Path
 
 import numpy as np
@@ -18,21 +16,16 @@ from ase.build import molecule
 from elimscan.analysis.thermo import thermochemistry
 from elimscan.results.flags import NOT_TO_PRODUCTS
 
+from scriptmodules import loaded_script  # tests/support
+
 ROOT = Path(__file__).resolve().parents[1]
 H_C_CM_KCAL_MOL = 6.62607015e-34 * 2.99792458e10 * 6.02214076e23 / 4184.0  # kcal/mol per cm^-1 (CODATA 2018)
 
 
 @pytest.fixture(scope="module")
 def tool():
-    path = ROOT / "validation" / "saddle_thermal_terms.py"
-    spec = importlib.util.spec_from_file_location("saddle_thermal_terms", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules["saddle_thermal_terms"] = module
-    try:
-        spec.loader.exec_module(module)
+    with loaded_script(ROOT / "validation" / "saddle_thermal_terms.py", "saddle_thermal_terms") as module:
         yield module
-    finally:
-        sys.modules.pop("saddle_thermal_terms", None)
 
 
 def test_the_split_adds_up_and_its_zpe_is_half_h_c_sum_nu(tool):
