@@ -2,7 +2,8 @@
 
 The driver (this module, in the ``elimscan batch`` process) takes a plan (``plan.py``: every job with its
 key), skips the keys the store already holds, and hands the rest to an executor (``executors.py``).
-Workers compute and return a ``JobOutcome``; only the driver writes: first the job's files
+Workers compute and return a ``JobOutcome``; only the driver writes (a worker only its job's replay log,
+``replaylog.py``, which the driver removes once the job is kept): first the job's files
 (``jobfiles.py``: temporary file, fsync, rename), then one store transaction with the record and the
 files' checksums. Killing the driver at any moment loses at most the jobs being computed. A job whose files cannot be
 written for reasons of its own (a name too long for the file system) fails alone; a full disk or an
@@ -51,6 +52,10 @@ log = logging.getLogger("elimscan.batch")
 
 #: seconds between two store updates of one running job's step (status reads them)
 _STEP_WRITE_INTERVAL_S = 2.0
+#: the folder of the running jobs' replay logs (``batch.replaylog``; local executor): a job stopped half-way starts
+#: over from its log; the log is removed once the job's result is kept, or for a failed job at the next run of the
+#: batch that does not compute it again (``--retry-failed`` starts from it, after a time limit for instance)
+REPLAY_DIR = "replay"
 
 
 @dataclass(frozen=True)
@@ -249,8 +254,11 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
              on_event: Callable[[BatchEvent], None] | None, outcome: BatchOutcome, wall_start: float) -> None:
     """Compute ``todo`` on the configured executor, committing each finished job; return when all are done."""
     by_key = {job.key: job for job in todo}
-    tasks = [JobTask(job.key, job.job_id, job.substrate, job.base, job.config, job.geometry, options.engine_factory)
+    replays = executor_config.kind == "local"  # Dask workers may not share this folder
+    tasks = [JobTask(job.key, job.job_id, job.substrate, job.base, job.config, job.geometry, options.engine_factory,
+                     str(_replay_path(out, job.key)) if replays else None)
              for job in todo]
+    _forget_replays(out, set(by_key))
     executor = make_executor(executor_config, threads, len(tasks), out)
     log.info("batch %s: %d job(s): %d finished before, %d failing on their input, %d to compute on %s",
              printable(plan.config.name), len(plan.jobs), len(plan.jobs) - len(todo) - plan.n_input_failures,
@@ -306,6 +314,8 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                     running.pop(event.key, None)
                     record = _commit(job, event, out, store, run_id,
                                      lambda point, n=commits + 1: _kill_hook(options, point, n))
+                    if record.status == "ok":  # a failed job's log serves --retry-failed (after a time limit)
+                        _forget_replay(out, job.key)
                     commits += 1
                     durations.append(event.seconds)
                     outcome.n_computed += 1
@@ -320,12 +330,43 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                 emit("tick")
                 last_tick = time.monotonic()
         executor.shutdown()
+        _forget_replays(out, set(by_key))  # the folder goes when no failed job's log is left in it
     except BaseException:
         executor.shutdown(kill=True)
         if running:
             log.warning("stopped %d running job(s): %s; they start again on the next run", len(running),
                         ", ".join(by_key[k].job_id for k in running))
         raise
+
+
+def _replay_path(out: Path, key: str) -> Path:
+    """Return where the replay log of the job ``key`` is kept while it runs."""
+    return out / REPLAY_DIR / f"{key}.replay"
+
+
+def _forget_replays(out: Path, keep: set[str]) -> None:
+    """With no worker running: remove the replay logs of every job but those in ``keep`` (finished, or no longer
+    in the plan), and the folder when none is left; a log that cannot be removed is only logged."""
+    folder = out / REPLAY_DIR
+    if not folder.is_dir():
+        return
+    for path in folder.glob("*.replay"):
+        if path.stem not in keep:
+            _forget_replay(out, path.stem)
+    try:
+        if not any(folder.iterdir()):
+            folder.rmdir()
+    except OSError as err:
+        log.warning("could not remove the empty folder %s: %s", folder, err)
+
+
+def _forget_replay(out: Path, key: str) -> None:
+    """Remove the replay log of the job ``key`` (its result is kept); a failure is only logged (it costs disk
+    space, nothing else)."""
+    try:
+        _replay_path(out, key).unlink(missing_ok=True)
+    except OSError as err:
+        log.warning("could not remove the replay log %s: %s", _replay_path(out, key), err)
 
 
 def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: int,

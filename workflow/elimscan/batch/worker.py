@@ -3,7 +3,8 @@
 Local workers are started with multiprocessing's 'spawn' method (never a fork of a process whose xTB
 backend is loaded); each sets its thread variables before the heavy imports, computes one job at a time
 (``jobs.run_job`` with a new engine per job) and sends back the ``JobOutcome``: workers never write the
-output folder or the store. Workers exit by themselves when the process that started them is gone.
+output folder or the store, only their job's replay log (``batch.replaylog``, under the folder's ``replay/``).
+Workers exit by themselves when the process that started them is gone.
 
 Messages a worker sends over its connection: ``('ready', pid)``, ``('started', key)``,
 ``('progress', key, text)`` and ``('result', key, outcome, error, traceback, seconds)``; it reads
@@ -42,6 +43,9 @@ class JobTask:
     geometry: tuple[str, str] | None
     #: 'module:function' of another engine than the job config's (tests); None: the config's
     engine_factory: str | None = None
+    #: the job's replay log (``batch.replaylog``; local workers only): the single points a stopped earlier run of
+    #: the job finished are served from it; None: none kept
+    replay_file: str | None = None
 
 
 def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
@@ -56,8 +60,10 @@ def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
     def progress(done: int, total: int, message: str) -> None:
         send(("progress", task.key, message if done == DETAIL else f"step {done + 1}/{total}: {message}"))
 
+    replay = None
     try:
         engine = make_engine(task.config.method, task.engine_factory)
+        replay = _attach_replay(task, engine, progress)
         outcome = run_job(task.substrate, task.base, task.config, engine, task.geometry, progress)
         return ("result", task.key, outcome, None, None, time.perf_counter() - started)
     except ElimscanError as err:
@@ -67,6 +73,25 @@ def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
         error = {"error_type": "internal_error",
                  "error_message": f"unexpected {type(err).__name__} in the worker: {err} (traceback in {LOG_FILE})"}
         return ("result", task.key, None, error, traceback.format_exc(), time.perf_counter() - started)
+    finally:
+        if replay is not None:
+            replay.close()
+
+
+def _attach_replay(task: JobTask, engine, progress: Callable[[int, int, str], None]):
+    """Open the task's replay log and hand it to the engine (an engine without a ``replay`` slot gets none); return
+    the log or None, after saying how many finished points it holds for a job that starts over."""
+    from elimscan.batch.replaylog import ReplayLog
+    from elimscan.pipeline.outcome import DETAIL
+
+    if task.replay_file is None or not hasattr(engine, "replay"):
+        return None
+    replay = ReplayLog(task.replay_file)
+    engine.replay = replay
+    if len(replay):
+        progress(DETAIL, DETAIL, f"starting over: {len(replay)} single point(s) finished by the job's stopped earlier "
+                                 "run are served from its replay log")
+    return replay
 
 
 def _watch_parent(parent_pid: int, interval_s: float = 1.0) -> None:

@@ -46,15 +46,21 @@ def geometry_changes(stored: Atoms | None, atoms: Atoms, tol: float = 1e-15) -> 
 
 @dataclass
 class CacheStats:
-    """Counters of the single-point cache: hits, misses (= backend calls) and SCF retries."""
+    """Counters of the single-point cache: hits, misses (= single points the job computed) and SCF retries."""
 
     hits: int = 0
+    #: single points computed for the job: by the backend in this process, or served from the job's replay log
+    #: (``replayed``: computed by an earlier run of the same job that was stopped), so that gradient counts and
+    #: budgets read the same whether or not a job was interrupted
     misses: int = 0
     retries: int = 0
     #: retried single points kept at the retry electronic temperature (the restart at the normal one failed)
     hot_points: int = 0
-    #: wall time spent inside the xTB library (s)
+    #: wall time spent inside the xTB library (s), in this process
     backend_seconds: float = 0.0
+    #: of the misses, the points served from the job's replay log, and the library time they had cost (s)
+    replayed: int = 0
+    replayed_seconds: float = 0.0
 
     @property
     def hit_ratio(self) -> float:
@@ -93,4 +99,24 @@ class Engine(Protocol):
 
     def single_point(self, atoms: Atoms, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> SinglePoint:
         """Return the energy (hartree) and gradient (hartree/bohr) of one geometry."""
+        ...
+
+
+class PointLog(Protocol):
+    """Where an engine keeps a job's finished single points for a restart of the same job (``batch.replaylog``
+    keeps them in a file): looked up by the engine's own key before it computes, appended to after."""
+
+    #: how many points were served so far
+    served: int
+
+    def __len__(self) -> int:
+        """Return how many points the log holds."""
+        ...
+
+    def get(self, key: str) -> tuple[dict, np.ndarray] | None:
+        """Return (JSON-able fields, float64 array) kept under ``key``, or None."""
+        ...
+
+    def put(self, key: str, fields: dict, array: np.ndarray | None = None) -> None:
+        """Keep one finished point under ``key``."""
         ...

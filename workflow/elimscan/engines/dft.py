@@ -9,6 +9,8 @@ is data on its path, and the job goes on.
 
 from __future__ import annotations
 
+import dataclasses
+import hashlib
 import importlib
 import time
 from collections.abc import Callable, Sequence
@@ -22,6 +24,7 @@ from elimscan.config import DftConfig, SolventConfig
 from elimscan.engines.dftbasis import (COMPOSITE_SETUP, auxiliary_basis, missing_basis_data, pyscf_basis,
                                        pyscf_functional)
 from elimscan.engines.dftmemory import check_memory, memory_limit_MB, pyscf_target_MB
+from elimscan.engines.contract import PointLog
 from elimscan.errors import DftError, DftRefusedError, DftUnavailableError, ElimscanError
 from elimscan.results.failures import error_info
 from elimscan.results.records import ErrorInfo
@@ -348,6 +351,30 @@ def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
                     seconds=round(time.perf_counter() - start, 2), retried=retried)
 
 
+def point_key(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel) -> str:
+    """Return a SHA-256 hex key of a DFT single point: numbers, positions (to 1e-8 Å), charge, spin and every setting
+    of ``level`` that changes the number (its memory guard left out)."""
+    digest = hashlib.sha256(b"dft|")
+    digest.update(np.asarray(atoms.numbers, dtype=np.int64).tobytes())
+    digest.update(np.round(np.asarray(atoms.positions, dtype=float), 8).tobytes())
+    digest.update(f"{charge}|{multiplicity}|{dataclasses.replace(level, memory_limit_MB=None)!r}".encode())
+    return digest.hexdigest()
+
+
+def kept_single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int, name: str,
+                      replay: PointLog | None) -> DftPoint:
+    """Return the DFT single point (energies in hartree) from the job's replay log when an earlier, stopped run of
+    the job finished it, else ``single_point``'s, which is then kept in the log."""
+    key = None if replay is None else point_key(atoms, charge, multiplicity, level)
+    found = None if replay is None else replay.get(key)
+    if found is not None:
+        return DftPoint(**found[0])
+    point = single_point(atoms, charge, multiplicity, level, threads, name)
+    if replay is not None:
+        replay.put(key, dataclasses.asdict(point))
+    return point
+
+
 def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent: SolventConfig,
                   parallel_jobs: int = 1) -> DftLevel | DftJobResult:
     """Return the DFT level of a job, or the tier's result when it is refused (input) or skipped (no PySCF)."""
@@ -366,12 +393,14 @@ def prepare_level(job: str, charges: dict[str, int], config: DftConfig, solvent:
 def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, multiplicity: int,
                charges: dict[str, int], config: DftConfig, solvent: SolventConfig, temperature_K: float,
                reactants: Sequence[tuple[str, Atoms, int, int]] = (), threads: int = 1,
-               report: Report | None = None, parallel_jobs: int = 1) -> DftJobResult:
+               report: Report | None = None, parallel_jobs: int = 1, replay: PointLog | None = None) -> DftJobResult:
     """Return the DFT tier of one job: single points on the chosen saddles, barriers (kcal/mol) and product shares.
 
     ``charges`` names the substrate's and base's charges (for the gas-phase refusal); ``reactants`` are
     (what, atoms, charge, multiplicity) of the free substrate and base, used when absolute barriers are asked for;
-    ``parallel_jobs`` shares the default memory limit among the jobs that may run at once. Never raises our errors: a skip, a refusal or a failure is the result's status.
+    ``parallel_jobs`` shares the default memory limit among the jobs that may run at once; single points found in
+    ``replay`` (the job's replay log) are served from it. Never raises our errors: a skip, a refusal or a failure
+    is the result's status.
     """
     start = time.perf_counter()
     level = prepare_level(job, charges, config, solvent, parallel_jobs)
@@ -388,8 +417,8 @@ def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, mul
             report(f"{job}: DFT single point {k + 1}/{len(chosen)} ({cand.key[0]} {cand.key[1]}, {len(cand.atoms)} atoms, "
                    f"{label})")
         try:
-            points[cand.key] = single_point(cand.atoms, charge, multiplicity, level, threads,
-                                            name=f"job '{job}' {cand.key[0]} {cand.key[1]} saddle")
+            points[cand.key] = kept_single_point(cand.atoms, charge, multiplicity, level, threads,
+                                                 f"job '{job}' {cand.key[0]} {cand.key[1]} saddle", replay)
         except ElimscanError as err:
             points[cand.key] = error_info(err)
     energies = {key: p.energy_hartree for key, p in points.items() if isinstance(p, DftPoint)}
@@ -407,7 +436,8 @@ def refine_job(job: str, candidates: Sequence[SaddleCandidate], charge: int, mul
             if report is not None:
                 report(f"{job}: DFT single point of the free {what}")
             try:
-                total += single_point(atoms, q, mult, level, threads, name=f"job '{job}' free {what}").energy_hartree
+                total += kept_single_point(atoms, q, mult, level, threads, f"job '{job}' free {what}",
+                                           replay).energy_hartree
             except ElimscanError as err:
                 problems.append(str(err))
         if problems:

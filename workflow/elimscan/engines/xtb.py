@@ -20,7 +20,7 @@ from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.config import MethodConfig
-from elimscan.engines.contract import CacheStats, SinglePoint, geometry_changes, geometry_snapshot
+from elimscan.engines.contract import CacheStats, PointLog, SinglePoint, geometry_changes, geometry_snapshot
 from elimscan.errors import BackendUnavailableError, EngineError, ScfConvergenceError
 from elimscan.solvents import XTB_PYTHON_NAMES, check_solvent, dielectric_constant, method_label
 from elimscan.versions import backend_version
@@ -168,6 +168,8 @@ class XtbEngine:
     settings: EngineSettings = field(default_factory=EngineSettings)
     max_cache_entries: int = 100_000
     stats: CacheStats = field(default_factory=CacheStats)
+    #: the job's replay log (``batch.replaylog``): finished points served to a restarted job; None: none kept
+    replay: PointLog | None = field(default=None, repr=False)
     _cache: dict[str, SinglePoint] = field(default_factory=dict, repr=False)
 
     @property
@@ -192,11 +194,36 @@ class XtbEngine:
             self.stats.hits += 1
             return cached
         self.stats.misses += 1
-        result = self._run(numbers, positions_A, charge, multiplicity, name, holder)
+        result = self._replayed(key)
+        if result is None:
+            library_before = self.stats.backend_seconds
+            result = self._run(numbers, positions_A, charge, multiplicity, name, holder)
+            if self.replay is not None:
+                self.replay.put(key, {"energy_hartree": result.energy_hartree,
+                                      "electronic_temperature_K": result.electronic_temperature_K,
+                                      "retried": result.retried,
+                                      "seconds": self.stats.backend_seconds - library_before},
+                                result.gradient_hartree_per_bohr)
         if len(self._cache) >= self.max_cache_entries:
             self._cache.pop(next(iter(self._cache)))
         self._cache[key] = result
         return result
+
+    def _replayed(self, key: str) -> SinglePoint | None:
+        """Return the point stored under ``key`` in the replay log, counted as the first run counted it; else None."""
+        found = None if self.replay is None else self.replay.get(key)
+        if found is None:
+            return None
+        fields, gradient = found
+        point = SinglePoint(float(fields["energy_hartree"]), gradient.reshape(-1, 3),
+                            float(fields["electronic_temperature_K"]), retried=bool(fields["retried"]))
+        self.stats.replayed += 1
+        self.stats.replayed_seconds += float(fields["seconds"])
+        if point.retried:
+            self.stats.retries += 1
+            if point.electronic_temperature_K != self.settings.electronic_temperature_K:
+                self.stats.hot_points += 1
+        return point
 
     def _run(self, numbers: np.ndarray, positions_A: np.ndarray, charge: int, multiplicity: int,
              name: str, holder: "EngineCalculator | None") -> SinglePoint:

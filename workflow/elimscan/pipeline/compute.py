@@ -269,7 +269,8 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
         outcome.paths[(substrate_cfg.name, base_cfg.name)] = compute_job_paths(analysis, base, config, engine, on_progress)
         if config.dft.enabled:
             outcome.dft[(substrate_cfg.name, base_cfg.name)] = job_dft(
-                analysis, base, outcome.paths[(substrate_cfg.name, base_cfg.name)], config, on_progress)
+                analysis, base, outcome.paths[(substrate_cfg.name, base_cfg.name)], config, on_progress,
+                replay=getattr(engine, "replay", None))
     return outcome
 
 

@@ -13,6 +13,7 @@ from elimscan.config import RunConfig, default_workers
 from elimscan.drivers.complexes import Reactive, SubstitutionReactive
 from elimscan.drivers.paths import PathResult
 from elimscan.engines.dft import DftJobResult, SaddleCandidate, refine_job
+from elimscan.engines.contract import PointLog
 from elimscan.pipeline.dftsaddles import reoptimise_job
 from elimscan.pipeline.outcome import DETAIL, SUBSTITUTION_KEY, BaseAnalysis, JobPaths, ProgressCallback, SubstrateAnalysis
 from elimscan.results.records import ErrorInfo
@@ -41,10 +42,11 @@ def _candidate(key: tuple[str, str], path: PathResult, product: str, degeneracy:
 
 
 def job_dft(analysis: SubstrateAnalysis, base: BaseAnalysis, paths: JobPaths, config: RunConfig,
-            on_progress: ProgressCallback | None = None) -> DftJobResult:
+            on_progress: ProgressCallback | None = None, replay: PointLog | None = None) -> DftJobResult:
     """Return the DFT tier of one job: single points on (or, with ``dft.saddles: reoptimise``, DFT re-optimisations
     of) the lowest GFN2-xTB saddles of each product and of SN2 (paths that are no barrier,
-    ``PathResult.counts_as_barrier``, left out)."""
+    ``PathResult.counts_as_barrier``, left out); single points found in the job's ``replay`` log are served from
+    it."""
     degeneracy = {c.beta_class.class_id: c.beta_class.degeneracy for c in analysis.classes}
     products = {(c.beta_class.class_id, a): (c.beta_class.anti_product if a == "anti" else c.beta_class.syn_product).smiles
                 for c in analysis.classes for a in ("anti", "syn")}
@@ -64,7 +66,7 @@ def job_dft(analysis: SubstrateAnalysis, base: BaseAnalysis, paths: JobPaths, co
         return reoptimise_job(job, candidates, reactives, charge, multiplicity, charges, config, reactants, report,
                               parallel)
     return refine_job(job, candidates, charge, multiplicity, charges, config.dft, config.method.solvent,
-                      config.method.temperature_K, reactants, config.threads.per_process, report, parallel)
+                      config.method.temperature_K, reactants, config.threads.per_process, report, parallel, replay)
 
 
 def parallel_jobs(config: RunConfig) -> int:

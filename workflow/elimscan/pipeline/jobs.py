@@ -90,14 +90,18 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
             geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
     """Return the outcome of one job in ``config.method.solvent``; known failures are inside the record, not raised.
 
-    The job's solvent is recorded on its job record and on both molecule records, and so is the number of
-    single points the engine had to keep at the retry electronic temperature while running it.
+    The job's solvent is recorded on its job record and on both molecule records, and so are the number of
+    single points the engine had to keep at the retry electronic temperature while running it and the number
+    served from the job's replay log (``engine.replay``: finished by a stopped earlier run of the job).
     """
     one = single_job_config(config, substrate, base)
     hot_before = engine.stats.hot_points
+    replay = getattr(engine, "replay", None)
+    served_before = 0 if replay is None else replay.served
     outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
     (done,) = job_outcomes(one, outcome, engine.label)
-    record = done.job.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before})
+    record = done.job.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before,
+                                         "replayed_points": 0 if replay is None else replay.served - served_before})
     return JobOutcome(record, done.molecules, done.files)
 
 

@@ -392,6 +392,10 @@ class JobRecord(Record):
         "GFN2-xTB single points of this job kept at method.retry_electronic_temperature_K because the SCF "
         "failed at the normal temperature, both first and when restarted from the retry's converged "
         "wavefunction; counted per job in batches (one engine per job), run-wide in summary.trouble otherwise"))
+    replayed_points: int = Field(0, ge=0, description=(
+        "single points (GFN2-xTB and DFT) served from the job's replay log because a stopped earlier run of the "
+        "same job had finished them (batches on the local executor); when above 0 the job's wall time covers "
+        "only its last run"))
 
 
 def counts_as_barrier(approach: "ApproachRecord | SubstitutionRecord") -> bool:
