@@ -222,7 +222,7 @@ def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: 
         return 2
     running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
     print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work),
-                        found.n_failed))
+                        found.n_failed, found.n_replayed))
     return 0
 
 
@@ -287,6 +287,8 @@ class Collected:
     #: of the finished jobs, those that failed (scored as not computed)
     n_failed: int = 0
     job_seconds: float = 0.0
+    #: of the finished jobs, those that started over from a replay log (their job time is their last run's only)
+    n_replayed: int = 0
 
     def jobs(self) -> list[dict]:
         """Return every finished job record (a job serving several slots appears once per slot)."""
@@ -310,6 +312,7 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
                 found.n_archived += 1
                 found.archived_commits.add(archived[pair])
             found.job_seconds += wall or 0.0
+            found.n_replayed += (job.get("replayed_points") or 0) > 0
             for slot, seed in served:
                 found.records.setdefault(slot, {})[seed] = job
                 found.seconds.setdefault(slot, {})[seed] = wall
@@ -500,7 +503,8 @@ def main(argv: list[str] | None = None) -> int:
               f"{provenance['program_version']})") if provenance else "no finished batch"
     all_seeds = sorted({s for case in chosen for s in seeds_for(case, seed_count)})
     info = RunInfo(date_utc=_dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"), commit=commit,
-                   wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, method=method,
+                   wall_seconds=time.perf_counter() - started, job_seconds=job_seconds, n_replayed_jobs=found.n_replayed,
+                   method=method,
                    compute_seconds=sum(r["wall_seconds"] for r in runs), n_compute_runs=len(runs),
                    n_interrupted_runs=sum(1 for r in runs if r.get("interrupted")),
                    n_time_unknown_runs=sum(1 for r in runs if r.get("time_unknown")),

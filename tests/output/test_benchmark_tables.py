@@ -187,3 +187,7 @@ def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes
     assert idle == "x: 3 of 3 job(s) finished, 15 min of job time. No invocation computes in /w now."
     failed = progress_text("x", 3, 3, 0, 900.0, None, "/w", n_failed=1)
     assert "3 of 3 job(s) finished, 1 of them failed (scored as not computed" in failed
+    # a job that started over from its replay log timed only its last run: the sum is marked low
+    replayed = progress_text("x", 3, 3, 0, 900.0, None, "/w", n_replayed=2)
+    assert ("15 min of job time (2 of the jobs started over from a replay log after an interruption: their time is "
+            "their last run's, so the sum and the estimates from it are low).") in replayed

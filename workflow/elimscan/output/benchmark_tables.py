@@ -46,6 +46,9 @@ class RunInfo:
     #: summed wall time (s) of the invocations that computed in this work folder, and how many there were
     compute_seconds: float = 0.0
     n_compute_runs: int = 0
+    #: of the finished jobs, those that started over from a replay log after an interruption (their job time in
+    #: ``job_seconds`` is their last run's only)
+    n_replayed_jobs: int = 0
     #: of those, the invocations stopped before their end (killed: their time up to their last logged minute), and
     #: of these the ones of older code that logged no time
     n_interrupted_runs: int = 0
@@ -245,16 +248,23 @@ def _remaining(info: RunInfo) -> str:
     return remaining_clause(info.n_jobs, info.n_jobs_finished, info.job_seconds)
 
 
+def replayed_clause(n_replayed: int) -> str:
+    """Return the clause that marks the summed job time as low when jobs started over from a replay log ('' if none)."""
+    return (f" ({n_replayed} of the jobs started over from a replay log after an interruption: their time is their "
+            "last run's, so the sum and the estimates from it are low)") if n_replayed else ""
+
+
 def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_seconds: float,
-                  running: Mapping | None, work: str, n_failed: int = 0) -> str:
+                  running: Mapping | None, work: str, n_failed: int = 0, n_replayed: int = 0) -> str:
     """Return how far a benchmark run got, for a chemist checking on it: ``what`` (subset and base model), jobs
-    finished of all (of them from the archive, and failed), their summed job time (``job_seconds``, s), the estimate
-    of the rest, and the invocation computing in ``work`` now (``running``: its running-file entry, or None)."""
+    finished of all (of them from the archive, failed, and started over from a replay log), their summed job time
+    (``job_seconds``, s), the estimate of the rest, and the invocation computing in ``work`` now (``running``: its
+    running-file entry, or None)."""
     archived = f", {n_archived} of them read from the archive" if n_archived else ""
     failed = (f", {n_failed} of them failed (scored as not computed; a computing run tries them again)"
               if n_failed else "")
     text = (f"{what}: {n_finished} of {n_jobs} job(s) finished{archived}{failed}, {_duration(job_seconds)} of job time"
-            + remaining_clause(n_jobs, n_finished, job_seconds) + ".")
+            + replayed_clause(n_replayed) + remaining_clause(n_jobs, n_finished, job_seconds) + ".")
     if running is None:
         return text + f" No invocation computes in {work} now."
     model = running.get("base_model") or "an unnamed base model"
@@ -364,7 +374,7 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"in this work folder, pauses left out" + _stopped_words(info) + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
                                       if info.compute_commits else "")
              + f" (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
-             f"{_duration(info.job_seconds)} summed over jobs" + _remaining(info),
+             f"{_duration(info.job_seconds)} summed over jobs" + replayed_clause(info.n_replayed_jobs) + _remaining(info),
              *([f"- archived jobs: {info.n_archived} of the finished jobs were read from `{info.records}` (computed "
                 f"by commit {', '.join(f'`{c}`' for c in info.archived_commits)} on earlier machines; a job's key holds "
                 "every input and setting that changes its numbers)"] if info.n_archived else []),
