@@ -103,8 +103,9 @@ class Engine(Protocol):
 
 
 class PointLog(Protocol):
-    """Where an engine keeps a job's finished single points for a restart of the same job (``batch.replaylog``
-    keeps them in a file): looked up by the engine's own key before it computes, appended to after."""
+    """A job's finished single points, kept for a restart of the same job (``batch.replaylog`` keeps them in a file).
+
+    The engine looks a point up by its own key before it computes it, and appends it after."""
 
     #: how many points were served so far
     served: int

@@ -352,8 +352,9 @@ def single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, 
 
 
 def point_key(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel) -> str:
-    """Return a SHA-256 hex key of a DFT single point: numbers, positions (to 1e-8 Å), charge, spin and every setting
-    of ``level`` that changes the number (its memory guard left out)."""
+    """Return the SHA-256 hex key of a DFT single point (atoms, positions to 1e-8 Å, charge, spin, level).
+
+    Every setting of ``level`` that changes the number enters; its memory guard does not."""
     digest = hashlib.sha256(b"dft|")
     digest.update(np.asarray(atoms.numbers, dtype=np.int64).tobytes())
     digest.update(np.round(np.asarray(atoms.positions, dtype=float), 8).tobytes())
@@ -363,8 +364,9 @@ def point_key(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel) -> 
 
 def kept_single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int, name: str,
                       replay: PointLog | None) -> DftPoint:
-    """Return the DFT single point (energies in hartree) from the job's replay log when an earlier, stopped run of
-    the job finished it, else ``single_point``'s, which is then kept in the log."""
+    """Return the DFT single point (energies in hartree), from ``replay`` when it holds it, else computed and kept.
+
+    ``replay`` is the job's replay log: it holds the points a stopped earlier run of the same job finished."""
     key = None if replay is None else point_key(atoms, charge, multiplicity, level)
     found = None if replay is None else replay.get(key)
     if found is not None:
