@@ -265,6 +265,15 @@ def test_the_plan_takes_its_costs_from_a_finished_batch(tmp_path, capsys):
     # the same job again: its own measured time (one class, the toy settings compute anti only and no SN2); methoxide
     # in ethanol is modelled with three methanols by default: 3 + 2 + 3 x 2 heavy atoms
     assert f"1 path, 11 heavy atoms, {rough_duration(seconds)}" in out, out
+    # a job that started over from its replay log timed its last run only: it gives no cost
+    from elimscan.cli.plan import measured_from_folder
+
+    results = tmp_path / "done" / "results.json"
+    document = json.loads(results.read_text())
+    assert len(measured_from_folder(tmp_path / "done")) == 1
+    document["jobs"][0]["replayed_points"] = 25
+    results.write_text(json.dumps(document))
+    assert measured_from_folder(tmp_path / "done") == []
 
 
 @pytest.mark.parametrize("config, measured_s", [

@@ -116,3 +116,12 @@ def test_a_job_whose_worker_died_starts_over_from_its_log_and_ends_as_if_never_s
     assert any("40 single point(s) finished by the job's stopped earlier run" in (e.message or "") for e in events)
     theirs = dict(_jobs(whole)[0], replayed_points=40)
     assert without_timings(job) == without_timings(theirs)
+
+
+def test_a_failed_jobs_log_goes_at_the_next_run_that_does_not_retry_it(tmp_path, monkeypatch):
+    (tmp_path / "batch.yaml").write_text(CONFIG)
+    monkeypatch.setenv("ELIMSCAN_TOY_DIE_AFTER", "10")
+    out, outcome, _ = _batch(tmp_path, "failed")
+    assert outcome.n_failed == 1 and len(list((out / REPLAY_DIR).glob("*.replay"))) == 1
+    out, outcome, _ = _batch(tmp_path, "failed")  # nothing to compute: the failed job stays failed
+    assert outcome.n_computed == 0 and not (out / REPLAY_DIR).exists()

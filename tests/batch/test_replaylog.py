@@ -9,9 +9,12 @@ from its full log and from the first half of it (as after a kill).
 
 from __future__ import annotations
 
-import numpy as np
+from pathlib import Path
 
-from elimscan.batch.replaylog import MAGIC, ReplayLog
+import numpy as np
+import pytest
+
+from elimscan.batch.replaylog import DAMAGED_SUFFIX, MAGIC, ReplayLog
 from elimscan.engines.xtb import EngineSettings, XtbEngine
 
 
@@ -55,14 +58,42 @@ def test_a_damaged_record_ends_the_log(tmp_path):
     assert len(log) == 0 and log.dropped_bytes > 0
 
 
-def test_a_file_that_is_not_a_log_is_left_alone(tmp_path, caplog):
+def test_a_file_that_is_not_a_log_is_moved_aside_never_deleted(tmp_path, caplog):
     path = tmp_path / "job.replay"
-    path.write_text("my notes\n")
+    path.write_bytes(b"\0" * 300)  # a header a machine crash zero-filled
     log = ReplayLog(path)
-    log.put("k0", {"energy_hartree": 1.0})  # kept in memory, the file untouched
+    log.put("k0", {"energy_hartree": 1.0})
     log.close()
-    assert path.read_text() == "my notes\n"
-    assert "not an elimscan replay log" in caplog.text
+    (aside,) = tmp_path.glob("job.replay" + DAMAGED_SUFFIX + "*")
+    assert aside.read_bytes() == b"\0" * 300 and "moved to" in caplog.text
+    assert len(ReplayLog(path)) == 1  # the new log holds the point written after
+
+
+def test_a_point_of_this_run_is_not_served_as_replayed(tmp_path):
+    log = ReplayLog(tmp_path / "job.replay")
+    log.put("k0", {"energy_hartree": 1.0})
+    assert log.get("k0") is None and log.served == 0  # only an earlier run's points are replayed
+
+
+def test_a_second_writer_goes_without_the_log(tmp_path):
+    # a worker left over from a killed batch still holds the log: the new run's worker must not write it too
+    _fill(tmp_path / "job.replay", 2)
+    holder = ReplayLog(tmp_path / "job.replay")
+    second = ReplayLog(tmp_path / "job.replay")
+    second.put("k9", {"energy_hartree": 9.0})
+    holder.close(), second.close()
+    assert len(second) == 0 and len(ReplayLog(tmp_path / "job.replay")) == 2
+
+
+@pytest.mark.skipif(not Path("/dev/full").exists(), reason="needs /dev/full (Linux)")
+def test_a_full_disk_never_stops_the_job(tmp_path, caplog):
+    # /dev/full takes no byte: opening the log and every point fail with ENOSPC; the caller never sees an error
+    link = tmp_path / "job.replay"
+    link.symlink_to("/dev/full")
+    log = ReplayLog(link)
+    log.put("k0", {"energy_hartree": 1.0}, np.zeros(6))
+    log.close()
+    assert len(log) == 0 and "goes on without it" in caplog.text
 
 
 class _Counting:
@@ -111,6 +142,23 @@ def test_a_restarted_engine_computes_nothing_its_log_holds_and_counts_as_the_fir
     assert served[2].retried and not served[3].retried
 
 
+def test_the_same_geometry_at_another_charge_or_setting_is_computed(embed, monkeypatch, tmp_path):
+    atoms = embed("CCO")
+    _Counting.calls = 0
+    first = _engine(monkeypatch, ReplayLog(tmp_path / "job.replay"))
+    first.compute(atoms.numbers, atoms.positions, 0, 1, "ethanol", None)
+    first.replay.close()
+    log = ReplayLog(tmp_path / "job.replay")
+    again = _engine(monkeypatch, log)
+    again.compute(atoms.numbers, atoms.positions, -1, 1, "ethanol", None)  # another charge
+    hotter = XtbEngine(EngineSettings(electronic_temperature_K=600.0), replay=log)
+    monkeypatch.setattr(hotter, "_new_series", lambda numbers, pos, charge, uhf, kelvin: _Counting(kelvin, []))
+    hotter.compute(atoms.numbers, atoms.positions, 0, 1, "ethanol", None)  # another electronic temperature
+    assert _Counting.calls == 3 and log.served == 0
+    again.compute(atoms.numbers, atoms.positions, 0, 1, "ethanol", None)  # the logged point itself
+    assert _Counting.calls == 3 and log.served == 1
+
+
 def test_a_dft_single_point_in_the_log_is_served_and_a_changed_level_is_computed(embed, monkeypatch, tmp_path):
     import dataclasses
 
@@ -126,7 +174,9 @@ def test_a_dft_single_point_in_the_log_is_served_and_a_changed_level_is_computed
     monkeypatch.setattr(dft, "single_point", fake_single_point)
     level = dft.DftLevel("b3lyp", "d3bj", "def2-svpd", True, 24.85, "ethanol", 3, 100, 1e-9, memory_limit_MB=8000.0)
     atoms = embed("CCO")
-    first = dft.kept_single_point(atoms, 0, 1, level, 1, "ethanol", ReplayLog(tmp_path / "job.replay"))
+    first_log = ReplayLog(tmp_path / "job.replay")
+    first = dft.kept_single_point(atoms, 0, 1, level, 1, "ethanol", first_log)
+    first_log.close()
     log = ReplayLog(tmp_path / "job.replay")
     lower_memory = dataclasses.replace(level, memory_limit_MB=2000.0)  # changes no number: served
     assert dft.kept_single_point(atoms, 0, 1, lower_memory, 1, "ethanol", log) == first and len(calls) == 1

@@ -47,6 +47,10 @@ def test_finished_filters_by_key_and_reads_records_on_request(tmp_path):
         failed = store.finished(["k2"])["k2"]
         assert (failed.status, failed.error_type, failed.files) == ("failed", "time_limit", ())
         assert sorted(store.finished_durations(["k1", "k2"])) == [5.0, 5.0]
+        # a job that started over from its replay log timed its last run only: no duration for the estimates
+        store.record_finished(stored("k3", job_json='{"j": 3, "replayed_points": 120}'))
+        store.record_finished(stored("k4", job_json='{"j": 4, "replayed_points": 0}'))
+        assert sorted(store.finished_durations(["k1", "k3", "k4"])) == [5.0, 5.0]
 
 
 def test_a_second_commit_replaces_the_files_of_the_first(tmp_path):

@@ -29,11 +29,11 @@ bases: [{name: methoxide, model: bare}]
 
 def _run(config, log_path):
     engine = make_engine(config.method)
-    engine.replay = ReplayLog(log_path)
+    replay = ReplayLog(log_path)
     try:
-        outcome = run_job(config.substrates[0], config.bases[0], config, engine)
+        outcome = run_job(config.substrates[0], config.bases[0], config, engine, replay=replay)
     finally:
-        engine.replay.close()
+        replay.close()
     return outcome.job, engine.stats
 
 

@@ -195,6 +195,7 @@ def run_batch(plan: BatchPlan, out: Path, executor_config: ExecutorConfig, threa
         todo_keys = {job.key for job in todo}
         outcome.n_reused = sum(1 for job in plan.jobs if job.input_error is None and job.key not in todo_keys)
         state, stop, stopping = "interrupted", None, True
+        _forget_replays(out, todo_keys)  # also when nothing is left to compute
         try:
             if todo:
                 _compute(plan, todo, out, store, run_id, executor_config, threads, options, on_event, outcome,
@@ -258,7 +259,6 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
     tasks = [JobTask(job.key, job.job_id, job.substrate, job.base, job.config, job.geometry, options.engine_factory,
                      str(_replay_path(out, job.key)) if replays else None)
              for job in todo]
-    _forget_replays(out, set(by_key))
     executor = make_executor(executor_config, threads, len(tasks), out)
     log.info("batch %s: %d job(s): %d finished before, %d failing on their input, %d to compute on %s",
              printable(plan.config.name), len(plan.jobs), len(plan.jobs) - len(todo) - plan.n_input_failures,
@@ -317,7 +317,8 @@ def _compute(plan: BatchPlan, todo: list[PlannedJob], out: Path, store: JobStore
                     if record.status == "ok":  # a failed job's log serves --retry-failed (after a time limit)
                         _forget_replay(out, job.key)
                     commits += 1
-                    durations.append(event.seconds)
+                    if not record.replayed_points:  # a job that started over from its log timed its last run
+                        durations.append(event.seconds)
                     outcome.n_computed += 1
                     if record.status == "ok":
                         n_ok += 1
@@ -350,9 +351,12 @@ def _forget_replays(out: Path, keep: set[str]) -> None:
     folder = out / REPLAY_DIR
     if not folder.is_dir():
         return
-    for path in folder.glob("*.replay"):
-        if path.stem not in keep:
-            _forget_replay(out, path.stem)
+    for path in folder.glob("*.replay*"):  # with the files a log moved aside (<key>.replay.damaged-<time>)
+        if path.name.split(".", 1)[0] not in keep:
+            try:
+                path.unlink(missing_ok=True)
+            except OSError as err:
+                log.warning("could not remove the replay log %s: %s", path, err)
     try:
         if not any(folder.iterdir()):
             folder.rmdir()

@@ -393,9 +393,11 @@ class JobStore:
                                    [(time_utc, job_key, job_id)] * count)
 
     def finished_durations(self, keys: Iterable[str]) -> list[float]:
-        """Return the wall times (s) of finished jobs among ``keys`` that a worker computed."""
+        """Return the wall times (s) of finished jobs among ``keys`` that a worker computed in one go (a job that
+        started over from its replay log timed its last run only, and is left out)."""
         wanted = set(keys)
-        return [s for k, s in self._rows("SELECT job_key, wall_seconds FROM jobs WHERE wall_seconds IS NOT NULL")
+        return [s for k, s in self._rows("SELECT job_key, wall_seconds FROM jobs WHERE wall_seconds IS NOT NULL AND "
+                                         "COALESCE(json_extract(job_json, '$.replayed_points'), 0) = 0")
                 if k in wanted]
 
 

@@ -21,10 +21,14 @@ import time
 import traceback
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from elimscan.config import BaseConfig, RunConfig, SubstrateConfig
 from elimscan.errors import ElimscanError
 from elimscan.engines.threads import configure_threads
+
+if TYPE_CHECKING:  # the module itself is imported inside the function, after the thread settings
+    from elimscan.batch.replaylog import ReplayLog
 
 #: the batch folder's log (tracebacks of bugs go there) and the file that receives what local workers print
 LOG_FILE = "batch.log"
@@ -63,8 +67,8 @@ def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
     replay = None
     try:
         engine = make_engine(task.config.method, task.engine_factory)
-        replay = _attach_replay(task, engine, progress)
-        outcome = run_job(task.substrate, task.base, task.config, engine, task.geometry, progress)
+        replay = _open_replay(task, progress)
+        outcome = run_job(task.substrate, task.base, task.config, engine, task.geometry, progress, replay)
         return ("result", task.key, outcome, None, None, time.perf_counter() - started)
     except ElimscanError as err:
         error = {"error_type": err.error_type, "error_message": str(err)}
@@ -78,16 +82,15 @@ def _execute(task: JobTask, send: Callable[[tuple], None]) -> tuple:
             replay.close()
 
 
-def _attach_replay(task: JobTask, engine, progress: Callable[[int, int, str], None]):
-    """Open the task's replay log and hand it to the engine (an engine without a ``replay`` slot gets none); return
-    the log or None, after saying how many finished points it holds for a job that starts over."""
+def _open_replay(task: JobTask, progress: Callable[[int, int, str], None]) -> ReplayLog | None:
+    """Return the task's replay log (None: the task keeps none), after saying how many finished points it holds
+    for a job that starts over."""
     from elimscan.batch.replaylog import ReplayLog
     from elimscan.pipeline.outcome import DETAIL
 
-    if task.replay_file is None or not hasattr(engine, "replay"):
+    if task.replay_file is None:
         return None
     replay = ReplayLog(task.replay_file)
-    engine.replay = replay
     if len(replay):
         progress(DETAIL, DETAIL, f"starting over: {len(replay)} single point(s) finished by the job's stopped earlier "
                                  "run are served from its replay log")

@@ -21,6 +21,7 @@ from elimscan.chem.bases import BaseInfo, describe_base
 from elimscan.chem.basemodels import BaseCluster, model_cluster, resolve_base_model
 from elimscan.config import SEED_LIMIT, BaseConfig, OptimizerConfig, RunConfig, SubstrateConfig
 from elimscan.drivers.conformers import ConformerEnsemble, build_ensemble, saturated_six_rings
+from elimscan.engines.contract import PointLog
 from elimscan.errors import ElimscanError
 from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.geometry import dihedral_deg, wrap_degrees
@@ -223,10 +224,12 @@ def run_steps(config: RunConfig) -> list[str]:
 
 
 def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None = None,
-               geometries: dict[str, tuple[str, str]] | None = None) -> RunOutcome:
+               geometries: dict[str, tuple[str, str]] | None = None, replay: PointLog | None = None) -> RunOutcome:
     """Return the outcome of a run: each substrate analysed once, each base relaxed once.
 
-    ``geometries`` maps substrate names to the (text, format) of user 3D structures.
+    ``geometries`` maps substrate names to the (text, format) of user 3D structures; ``replay`` is the job's replay
+    log, from which the DFT tier's single points are served when a stopped earlier run finished them (the engine
+    holds the same log for its own points).
     """
     jobs = config.jobs()
     outcome = RunOutcome(jobs=jobs)
@@ -270,7 +273,7 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
         if config.dft.enabled:
             outcome.dft[(substrate_cfg.name, base_cfg.name)] = job_dft(
                 analysis, base, outcome.paths[(substrate_cfg.name, base_cfg.name)], config, on_progress,
-                replay=getattr(engine, "replay", None))
+                replay=replay)
     return outcome
 
 

@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from elimscan.pipeline import artifacts
 from elimscan.config import BaseConfig, RunConfig, SolventConfig, SubstrateConfig
 from elimscan.config.dft import BSE_BASIS_KEYS
+from elimscan.engines.contract import PointLog
 from elimscan.pipeline.assemble import failed_job_record, pack_job, substrate_molecule_record, with_dft
 from elimscan.pipeline.compute import run_config
 from elimscan.pipeline.document import canonical_solvent, job_key, provenance, run_document, substrate_inputs
@@ -87,18 +88,21 @@ def job_outcomes(config: RunConfig, outcome: RunOutcome, method_label: str,
 
 
 def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, engine,
-            geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None) -> JobOutcome:
+            geometry: tuple[str, str] | None = None, on_progress: ProgressCallback | None = None,
+            replay: PointLog | None = None) -> JobOutcome:
     """Return the outcome of one job in ``config.method.solvent``; known failures are inside the record, not raised.
 
     The job's solvent is recorded on its job record and on both molecule records, and so are the number of
     single points the engine had to keep at the retry electronic temperature while running it and the number
-    served from the job's replay log (``engine.replay``: finished by a stopped earlier run of the job).
+    served from ``replay``, the job's replay log (points a stopped earlier run of the job finished), which the
+    engine is given too when it has a slot for it (``XtbEngine.replay``; a plug-in engine may have none).
     """
     one = single_job_config(config, substrate, base)
     hot_before = engine.stats.hot_points
-    replay = getattr(engine, "replay", None)
+    if replay is not None and hasattr(engine, "replay"):
+        engine.replay = replay
     served_before = 0 if replay is None else replay.served
-    outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None)
+    outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None, replay)
     (done,) = job_outcomes(one, outcome, engine.label)
     record = done.job.model_copy(update={"retry_temperature_points": engine.stats.hot_points - hot_before,
                                          "replayed_points": 0 if replay is None else replay.served - served_before})
