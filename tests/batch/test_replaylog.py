@@ -9,6 +9,7 @@ from its full log and from the first half of it (as after a kill).
 
 from __future__ import annotations
 
+import time
 from pathlib import Path
 
 import numpy as np
@@ -112,6 +113,7 @@ class _Counting:
         type(self).calls += 1
         if self.failures and self.failures[0] == type(self).calls:
             self.failures.pop(0)
+            time.sleep(0.01)  # a failing SCF takes its time too
             raise RuntimeError("SCF is not converged")
         return -float(np.sum(positions_bohr ** 2)) / 7.0, positions_bohr / 3.0
 
@@ -140,6 +142,10 @@ def test_a_restarted_engine_computes_nothing_its_log_holds_and_counts_as_the_fir
     assert (again.stats.misses, again.stats.replayed) == (6, 4)
     assert (again.stats.retries, again.stats.hot_points) == (first.stats.retries, first.stats.hot_points) == (1, 0)
     assert served[2].retried and not served[3].retried
+    # a retried point's library time is kept with it, its failed attempt too (10 ms here), so that the time a
+    # replayed job was served is not short
+    assert again.stats.replayed_seconds >= 0.01
+    assert first.stats.backend_seconds == pytest.approx(again.stats.replayed_seconds)
 
 
 def test_the_same_geometry_at_another_charge_or_setting_is_computed(embed, monkeypatch, tmp_path):

@@ -227,6 +227,7 @@ class XtbEngine:
 
     def _run(self, numbers: np.ndarray, positions_A: np.ndarray, charge: int, multiplicity: int,
              name: str, holder: "EngineCalculator | None") -> SinglePoint:
+        attempt_started = time.perf_counter()  # a retried point's library time counts from here (every attempt)
         positions_bohr = np.asarray(positions_A, dtype=float) / ANGSTROM_PER_BOHR
         numbers = np.asarray(numbers, dtype=np.int32)
         uhf = multiplicity - 1
@@ -264,7 +265,9 @@ class XtbEngine:
                     f"SCF did not converge for {where}, also on retry at electronic temperature {hot:g} K: {text}"
                 ) from err
             raise EngineError(f"xTB calculation failed for {where}: {text}") from err
-        return self._back_to_normal_temperature(retry, positions_bohr, SinglePoint(energy, gradient, hot, retried=True))
+        point = self._back_to_normal_temperature(retry, positions_bohr, SinglePoint(energy, gradient, hot, retried=True))
+        self.stats.backend_seconds += time.perf_counter() - attempt_started
+        return point
 
     def _back_to_normal_temperature(self, series: _Series, positions_bohr: np.ndarray, hot: SinglePoint) -> SinglePoint:
         """Return the point at the normal electronic temperature, restarted from the converged hot wavefunction.
