@@ -107,3 +107,35 @@ def test_identity_sn2_saddle_refined_at_dft_from_a_gfn2_hessian():
     assert saddle.imaginary_cm1 > 300 and not saddle.other_imaginary_cm1
     # measured 2026-12-03 (one thread, busy machine): 17 DFT gradients, 237 s of which the analytic Hessian 59 s;
     # C-F 1.858 and 1.858 Å; 460i cm-1
+
+
+def test_gradients_and_hessians_in_the_replay_log_are_served_without_pyscf(tmp_path, monkeypatch):
+    # the DFT saddle rung of a job that starts over (batch.replaylog): its finished gradients and Hessians come back
+    # bit for bit, and nothing is handed to PySCF
+    pytest.importorskip("pyscf.dispersion")
+    from elimscan.batch.replaylog import ReplayLog
+    from elimscan.engines import dftgradients
+    from elimscan.engines.dftgradients import DftEngine
+
+    water = Atoms("OH2", positions=[(0, 0, 0), (0, 0.76, 0.59), (0, -0.76, 0.59)])
+    first_log = ReplayLog(tmp_path / "job.replay")
+    first = DftEngine(_level("sto-3g"), replay=first_log)
+    point, _ = first.energy_gradient(water, 0, 1, "water")
+    hessian, _ = first.hessian(water, 0, 1, "water")
+    first_log.close()
+
+    def no_pyscf(*args, **kwargs):
+        raise AssertionError("PySCF was asked for a point the log holds")
+
+    monkeypatch.setattr(dftgradients, "build_scf", no_pyscf)
+    again = DftEngine(_level("sto-3g"), replay=ReplayLog(tmp_path / "job.replay"))
+    served, density = again.energy_gradient(water, 0, 1, "water")
+    assert served.energy_hartree == point.energy_hartree and density is None
+    assert np.array_equal(served.gradient_hartree_per_bohr, point.gradient_hartree_per_bohr)
+    assert np.array_equal(again.hessian(water, 0, 1, "water")[0], hessian)
+    assert (again.stats.misses, again.stats.replayed, again.hessians) == (1, 1, 1)
+    assert again.trace[0][1] == first.trace[0][1]
+    moved = water.copy()
+    moved.positions[0, 2] += 0.01
+    with pytest.raises(AssertionError, match="PySCF was asked"):  # another geometry is computed
+        again.energy_gradient(moved, 0, 1, "water")

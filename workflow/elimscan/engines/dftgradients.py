@@ -5,19 +5,21 @@ GFN2-xTB can be refined and verified at DFT with the same driver code. Each calc
 new geometry from the density of the previous one. ``hessian`` is PySCF's analytic Hessian (density fitting,
 IEF-PCM and D3/D4 included in PySCF 2.14). PySCF failures are translated into ``errors.DftError``, chained. Before a
 geometry series or a Hessian starts, its peak-memory estimate is checked against the level's limit
-(``engines.dftmemory``): over it, ``errors.DftMemoryError`` and nothing is computed.
+(``engines.dftmemory``): over it, ``errors.DftMemoryError`` and nothing is computed. With a replay log (``replay``,
+a ``contract.PointLog``) the gradients and Hessians a stopped earlier run of the job finished are served from it.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import time
 
 import numpy as np
 from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
-from elimscan.engines.contract import CacheStats, SinglePoint, geometry_changes, geometry_snapshot
-from elimscan.engines.dft import DftLevel, DftPoint, build_scf, converge_scf, guard_memory, import_pyscf
+from elimscan.engines.contract import CacheStats, PointLog, SinglePoint, geometry_changes, geometry_snapshot
+from elimscan.engines.dft import DftLevel, DftPoint, build_scf, converge_scf, guard_memory, import_pyscf, point_key
 from elimscan.errors import DftError
 from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
 
@@ -25,8 +27,10 @@ from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
 class DftEngine:
     """Energies and gradients at one DFT level (PySCF), counted in ``stats`` (misses = gradients, seconds inside)."""
 
-    def __init__(self, level: DftLevel, threads: int = 1):
+    def __init__(self, level: DftLevel, threads: int = 1, replay: PointLog | None = None):
         self.level, self.threads = level, threads
+        #: the job's replay log: gradients and Hessians a stopped earlier run of the job finished are served from it
+        self.replay = replay
         self.label = f"{level.label()} [PySCF]"
         self.stats = CacheStats()
         #: analytic Hessians computed and their wall time (s)
@@ -54,6 +58,16 @@ class DftEngine:
         if series not in self._guarded:  # the same atoms and basis all along a series: checked once
             self.check_memory(atoms, charge, multiplicity, "gradient", name)
             self._guarded.add(series)
+        key = None if self.replay is None else "gradient:" + point_key(atoms, charge, multiplicity, self.level)
+        found = None if key is None else self.replay.get(key)
+        if found is not None:  # the next SCF of the series starts from its own guess (no density kept)
+            point = DftPoint(**found[0])
+            self.stats.misses += 1
+            self.stats.retries += int(point.retried)
+            self.stats.replayed += 1
+            self.stats.replayed_seconds += point.seconds
+            self.trace.append((name, point))
+            return SinglePoint(point.energy_hartree, found[1].reshape(-1, 3), 0.0, point.retried), None
         start = time.perf_counter()
         try:
             mf = build_scf(atoms, charge, multiplicity, self.level)
@@ -72,9 +86,11 @@ class DftEngine:
         self.stats.retries += int(retried)
         self.stats.backend_seconds += seconds
         summary = getattr(mf, "scf_summary", {})
-        self.trace.append((name, DftPoint(energy, float(summary.get("dispersion", 0.0)),
-                                          float(summary.get("e_solvent", 0.0)), int(getattr(mf, "cycles", -1)),
-                                          round(seconds, 2), retried)))
+        point = DftPoint(energy, float(summary.get("dispersion", 0.0)), float(summary.get("e_solvent", 0.0)),
+                         int(getattr(mf, "cycles", -1)), round(seconds, 2), retried)
+        self.trace.append((name, point))
+        if self.replay is not None:
+            self.replay.put(key, dataclasses.asdict(point), gradient)
         return SinglePoint(energy, gradient, 0.0, retried), mf.make_rdm1()
 
     def single_point(self, atoms: Atoms, charge: int = 0, multiplicity: int = 1, name: str = "structure") -> SinglePoint:
@@ -89,6 +105,12 @@ class DftEngine:
         """Return PySCF's analytic Hessian (3N, 3N) in eV/Å^2 and the gradients it cost (0: none are counted)."""
         self._prepare()
         self.check_memory(atoms, charge, multiplicity, "hessian", name)
+        key = None if self.replay is None else "hessian:" + point_key(atoms, charge, multiplicity, self.level)
+        found = None if key is None else self.replay.get(key)
+        if found is not None:
+            self.hessians += 1
+            self.hessian_seconds += float(found[0]["seconds"])
+            return found[1].reshape(3 * len(atoms), 3 * len(atoms)), 0
         start = time.perf_counter()
         try:
             mf = build_scf(atoms, charge, multiplicity, self.level)
@@ -102,8 +124,12 @@ class DftEngine:
         n = len(atoms)
         hessian = blocks.transpose(0, 2, 1, 3).reshape(3 * n, 3 * n) * EV_PER_HARTREE / ANGSTROM_PER_BOHR ** 2
         self.hessians += 1
-        self.hessian_seconds += time.perf_counter() - start
-        return 0.5 * (hessian + hessian.T), 0
+        seconds = time.perf_counter() - start
+        self.hessian_seconds += seconds
+        hessian = 0.5 * (hessian + hessian.T)
+        if self.replay is not None:
+            self.replay.put(key, {"seconds": seconds}, hessian)
+        return hessian, 0
 
 
 class DftCalculator(Calculator):

@@ -22,6 +22,7 @@ from elimscan.drivers.relax import relax
 from elimscan.drivers.saddles import SaddleResult, refine_and_verify
 from elimscan.engines.dft import (DftJobResult, DftPoint, DftSaddle, SaddleCandidate, dft_fractions, prepare_level,
                                   relative_barriers, select_saddles, substitution_share)
+from elimscan.engines.contract import PointLog
 from elimscan.engines.dftgradients import DftEngine
 from elimscan.errors import ElimscanError
 from elimscan.results.failures import error_info
@@ -108,10 +109,12 @@ def _relaxed_reactants(job: str, reactants: Sequence[tuple[str, Atoms, int, int]
 
 def reoptimise_job(job: str, candidates: Sequence[SaddleCandidate], reactives: dict, charge: int, multiplicity: int,
                    charges: dict[str, int], config: RunConfig, reactants: Sequence[tuple[str, Atoms, int, int]] = (),
-                   report: Callable[[str], None] | None = None, parallel_jobs: int = 1) -> DftJobResult:
+                   report: Callable[[str], None] | None = None, parallel_jobs: int = 1,
+                   replay: PointLog | None = None) -> DftJobResult:
     """Return the DFT saddle rung of one job: re-optimised, verified saddles, barriers (kcal/mol) and product shares.
 
-    ``reactives`` maps a path key to its key atoms (``drivers.complexes.Reactive`` or ``SubstitutionReactive``).
+    ``reactives`` maps a path key to its key atoms (``drivers.complexes.Reactive`` or ``SubstitutionReactive``);
+    gradients and Hessians found in ``replay`` (the job's replay log) are served from it.
     Never raises our errors: a skip, a refusal or a failure is the result's status.
     """
     start = time.perf_counter()
@@ -127,7 +130,7 @@ def reoptimise_job(job: str, candidates: Sequence[SaddleCandidate], reactives: d
     if not chosen:
         return DftJobResult(status="failed", message=f"job '{job}': no verified GFN2-xTB saddle to re-optimise",
                             seconds=round(time.perf_counter() - start, 2), **base_result)
-    engine = DftEngine(level, config.threads.per_process)
+    engine = DftEngine(level, config.threads.per_process, replay)
     saddles: dict[tuple[str, str], DftSaddle | ErrorInfo] = {}
     points: dict[tuple[str, str], DftPoint | ErrorInfo] = {}
     for k, cand in enumerate(chosen):

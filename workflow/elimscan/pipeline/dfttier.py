@@ -64,7 +64,7 @@ def job_dft(analysis: SubstrateAnalysis, base: BaseAnalysis, paths: JobPaths, co
     if config.dft.saddles == "reoptimise":
         reactives = {c.key: path_reactive(analysis, base, c.key) for c in candidates}
         return reoptimise_job(job, candidates, reactives, charge, multiplicity, charges, config, reactants, report,
-                              parallel)
+                              parallel, replay)
     return refine_job(job, candidates, charge, multiplicity, charges, config.dft, config.method.solvent,
                       config.method.temperature_K, reactants, config.threads.per_process, report, parallel, replay)
 

@@ -393,9 +393,10 @@ class JobRecord(Record):
         "failed at the normal temperature, both first and when restarted from the retry's converged "
         "wavefunction; counted per job in batches (one engine per job), run-wide in summary.trouble otherwise"))
     replayed_points: int = Field(0, ge=0, description=(
-        "single points (GFN2-xTB, and the DFT tier's single points) served from the job's replay log because a "
-        "stopped earlier run of the same job had finished them (batches on the local executor); when above 0 the "
-        "job's wall time covers only its last run, and a served DFT point keeps its first run's seconds"))
+        "single points (GFN2-xTB; the DFT tier's single points, gradients and Hessians) served from the job's "
+        "replay log because a stopped earlier run of the same job had finished them (batches on the local "
+        "executor); when above 0 the job's wall time covers only its last run, and a served DFT point keeps its "
+        "first run's seconds"))
 
 
 def counts_as_barrier(approach: "ApproachRecord | SubstitutionRecord") -> bool:
