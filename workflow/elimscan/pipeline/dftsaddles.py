@@ -130,7 +130,8 @@ def reoptimise_job(job: str, candidates: Sequence[SaddleCandidate], reactives: d
     if not chosen:
         return DftJobResult(status="failed", message=f"job '{job}': no verified GFN2-xTB saddle to re-optimise",
                             seconds=round(time.perf_counter() - start, 2), **base_result)
-    engine = DftEngine(level, config.threads.per_process, replay)
+    engine = DftEngine(level, config.threads.per_process)
+    engine.replay = replay
     saddles: dict[tuple[str, str], DftSaddle | ErrorInfo] = {}
     points: dict[tuple[str, str], DftPoint | ErrorInfo] = {}
     for k, cand in enumerate(chosen):
