@@ -9,12 +9,15 @@ from its full log and from the first half of it (as after a kill).
 
 from __future__ import annotations
 
+import os
+import threading
 import time
 from pathlib import Path
 
 import numpy as np
 import pytest
 
+from elimscan.batch import replaylog
 from elimscan.batch.replaylog import DAMAGED_SUFFIX, MAGIC, ReplayLog
 from elimscan.engines.xtb import EngineSettings, XtbEngine
 
@@ -76,25 +79,36 @@ def test_a_point_of_this_run_is_not_served_as_replayed(tmp_path):
     assert log.get("k0") is None and log.served == 0  # only an earlier run's points are replayed
 
 
-def test_a_second_writer_goes_without_the_log(tmp_path):
-    # a worker left over from a killed batch still holds the log: the new run's worker must not write it too
+def test_a_second_writer_waits_for_the_lock_then_goes_without_the_log(tmp_path, monkeypatch):
+    # a worker left over from a killed batch still holds the log: the new run's worker must not write it too; it
+    # waits for the lock a little (such a worker exits within about a second), then goes without
+    monkeypatch.setattr(replaylog, "LOCK_WAIT_S", 0.3)
     _fill(tmp_path / "job.replay", 2)
     holder = ReplayLog(tmp_path / "job.replay")
     second = ReplayLog(tmp_path / "job.replay")
     second.put("k9", {"energy_hartree": 9.0})
-    holder.close(), second.close()
-    assert len(second) == 0 and len(ReplayLog(tmp_path / "job.replay")) == 2
+    second.close()
+    assert len(second) == 0
+    threading.Timer(0.2, holder.close).start()  # this time the holder lets go while the third waits
+    monkeypatch.setattr(replaylog, "LOCK_WAIT_S", 3.0)
+    third = ReplayLog(tmp_path / "job.replay")
+    assert len(third) == 2
+    third.close()
 
 
 @pytest.mark.skipif(not Path("/dev/full").exists(), reason="needs /dev/full (Linux)")
 def test_a_full_disk_never_stops_the_job(tmp_path, caplog):
-    # /dev/full takes no byte: opening the log and every point fail with ENOSPC; the caller never sees an error
-    link = tmp_path / "job.replay"
-    link.symlink_to("/dev/full")
-    log = ReplayLog(link)
+    # the disk fills while the job runs: the log's descriptor now writes to /dev/full, where every write fails
+    # with ENOSPC; the point is not kept, the caller sees no error, and the log says so once
+    log = ReplayLog(tmp_path / "job.replay")
+    full = os.open("/dev/full", os.O_WRONLY)
+    os.dup2(full, log._fd)
+    os.close(full)
     log.put("k0", {"energy_hartree": 1.0}, np.zeros(6))
+    log.put("k1", {"energy_hartree": 2.0}, np.zeros(6))
     log.close()
-    assert len(log) == 0 and "goes on without it" in caplog.text
+    assert log._fd is None and caplog.text.count("goes on without it") == 1
+    assert "No space left" in caplog.text
 
 
 class _Counting:
@@ -146,6 +160,21 @@ def test_a_restarted_engine_computes_nothing_its_log_holds_and_counts_as_the_fir
     # replayed job was served is not short
     assert again.stats.replayed_seconds >= 0.01
     assert first.stats.backend_seconds == pytest.approx(again.stats.replayed_seconds)
+
+
+def test_a_record_this_code_cannot_read_is_computed_again(embed, monkeypatch, tmp_path):
+    # a log written by another code version (a field missing): the job computes the point, it does not fail
+    from elimscan.engines.xtb import geometry_key
+
+    atoms = embed("CCO")
+    log = ReplayLog(tmp_path / "job.replay")
+    key = geometry_key(atoms.numbers, atoms.positions, 0, 1, EngineSettings())
+    log.put(key, {"energy_hartree": -1.0}, np.zeros((len(atoms), 3)))  # no temperature, retried or seconds
+    log.close()
+    _Counting.calls = 0
+    engine = _engine(monkeypatch, ReplayLog(tmp_path / "job.replay"))
+    point = engine.compute(atoms.numbers, atoms.positions, 0, 1, "ethanol", None)
+    assert _Counting.calls == 1 and point.energy_hartree != -1.0 and engine.stats.replayed == 0
 
 
 def test_the_same_geometry_at_another_charge_or_setting_is_computed(embed, monkeypatch, tmp_path):

@@ -234,3 +234,26 @@ def test_absolute_barriers_measure_from_reactants_relaxed_at_dft(monkeypatch):
 
     kcal = physical_constants["Hartree energy"][0] * N_A / (1000.0 * calorie)
     assert result.barriers_kcal_mol[("C1", "anti")] == pytest.approx(0.010 * kcal, abs=2e-3)
+
+
+def test_the_rung_hands_the_jobs_replay_log_to_its_dft_engine(monkeypatch):
+    # a job that starts over is served its finished DFT gradients and Hessians (batch.replaylog) only if the
+    # engine of the rung holds the job's log
+    import elimscan.pipeline.dftsaddles as rung
+    from elimscan.pipeline.dftsaddles import reoptimise_job
+
+    _script(monkeypatch, {"C1 anti": (-20.0, False)}, {})
+    made = []
+
+    class Recording(_ScriptedEngine):
+        def __init__(self, level, threads=1):
+            super().__init__(level, threads)
+            made.append(self)
+
+    monkeypatch.setattr(rung, "DftEngine", Recording)
+    log = object()
+    config = RunConfig(substrates=(SubstrateConfig(name="s", smiles="CCBr"),), bases=(BaseConfig(name="ethoxide"),),
+                       dft=DftConfig(enabled=True, saddles="reoptimise"))
+    reoptimise_job("s + e", [_cand(("C1", "anti"), "P", -10.0)], {("C1", "anti"): _Distances()}, -1, 1, {}, config,
+                   replay=log)
+    assert len(made) == 1 and made[0].replay is log

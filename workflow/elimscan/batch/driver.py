@@ -351,12 +351,8 @@ def _forget_replays(out: Path, keep: set[str]) -> None:
     folder = out / REPLAY_DIR
     if not folder.is_dir():
         return
-    for path in folder.glob("*.replay*"):  # with the files a log moved aside (<key>.replay.damaged-<time>)
-        if path.name.split(".", 1)[0] not in keep:
-            try:
-                path.unlink(missing_ok=True)
-            except OSError as err:
-                log.warning("could not remove the replay log %s: %s", path, err)
+    for key in {path.name.split(".", 1)[0] for path in folder.glob("*.replay*")} - keep:  # (a key has no dot)
+        _forget_replay(out, key)
     try:
         if not any(folder.iterdir()):
             folder.rmdir()
@@ -365,12 +361,14 @@ def _forget_replays(out: Path, keep: set[str]) -> None:
 
 
 def _forget_replay(out: Path, key: str) -> None:
-    """Remove the replay log of the job ``key`` (its result is kept); a failure is only logged (it costs disk
-    space, nothing else)."""
-    try:
-        _replay_path(out, key).unlink(missing_ok=True)
-    except OSError as err:
-        log.warning("could not remove the replay log %s: %s", _replay_path(out, key), err)
+    """Remove the replay log of the job ``key`` (its result is kept) with any file it moved aside; a failure is only
+    logged (it costs disk space, nothing else)."""
+    path = _replay_path(out, key)
+    for found in path.parent.glob(path.name + "*") if path.parent.is_dir() else ():
+        try:
+            found.unlink(missing_ok=True)
+        except OSError as err:
+            log.warning("could not remove the replay log %s: %s", found, err)
 
 
 def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: int,

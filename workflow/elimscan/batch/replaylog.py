@@ -13,8 +13,9 @@ Format: one file per job, a header line (``MAGIC``) and a sequence of records, e
 short by a kill (or whose checksum does not match) ends the log: it and anything after it are dropped and
 overwritten. Each record is one unbuffered append (a killed process loses nothing the kernel has; a machine crash
 may lose the last few). The file is held under an exclusive lock while open, so a worker left over from a killed
-batch and the new run's worker never write one log at once (the second goes without). A file at the log's place
-that is not a log (a header destroyed by a crash) is moved aside, never deleted, and a new log begun.
+batch and the new run's worker never write one log at once (the second waits ``LOCK_WAIT_S``, then goes without).
+A file at the log's place that is not a log (a header destroyed by a crash) is moved aside (``DAMAGED_SUFFIX``;
+the batch removes it with the job's log) and a new log begun.
 The log is an aid, never a reason to stop a job: a log that cannot be written (a full disk) is logged once and
 the job goes on without it.
 """
@@ -27,6 +28,7 @@ import json
 import logging
 import os
 import struct
+import time
 import zlib
 from pathlib import Path
 
@@ -41,6 +43,31 @@ MAGIC = b"elimscan-replay 1\n"
 DAMAGED_SUFFIX = ".damaged-"
 
 
+#: how long a new log waits for the lock of a process that still holds it (a worker left over from a killed batch
+#: exits within about a second), in seconds
+LOCK_WAIT_S = 3.0
+
+
+def _open_locked(path: Path) -> int:
+    """Return a descriptor of ``path`` (opened for appending, created if missing) under an exclusive lock; raise
+    BlockingIOError when another process still holds the lock after ``LOCK_WAIT_S``."""
+    fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o644)
+    waited = 0.0
+    try:
+        while True:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                return fd
+            except BlockingIOError:
+                if waited >= LOCK_WAIT_S:
+                    raise
+                time.sleep(0.1)
+                waited += 0.1
+    except OSError:  # no lock (held, or a file system without locks): no log
+        os.close(fd)
+        raise
+
+
 class ReplayLog:
     """The finished single points of one job, read from ``path`` when it exists, each new one appended to it."""
 
@@ -52,24 +79,30 @@ class ReplayLog:
         self._fd: int | None = None
         try:
             self.path.parent.mkdir(parents=True, exist_ok=True)
-            self._fd = os.open(self.path, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o644)
-            fcntl.flock(self._fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            self._fd = _open_locked(self.path)
             data = self._read_all()
             if data and not data.startswith(MAGIC):
                 self._move_aside()
                 data = b""
             if not data:
                 os.ftruncate(self._fd, 0)
-                os.write(self._fd, MAGIC)
+                if os.write(self._fd, MAGIC) != len(MAGIC):
+                    raise OSError("short write")
             else:
                 os.ftruncate(self._fd, self._parse(data))
         except (OSError, ValueError) as err:
             self._give_up(err)
 
     def _read_all(self) -> bytes:
-        """Return the whole file's bytes, read through the open descriptor."""
-        size = os.fstat(self._fd).st_size
-        return os.pread(self._fd, size, 0) if size else b""
+        """Return the whole file's bytes, read through the open descriptor (in pieces: one read stops at 2 GiB)."""
+        size, pieces, offset = os.fstat(self._fd).st_size, [], 0
+        while offset < size:
+            piece = os.pread(self._fd, min(size - offset, 1 << 30), offset)
+            if not piece:
+                break
+            pieces.append(piece)
+            offset += len(piece)
+        return b"".join(pieces)
 
     def _move_aside(self) -> None:
         """Rename the file at the log's place, which is no log, out of the way and open a new one there."""
@@ -78,8 +111,8 @@ class ReplayLog:
         os.replace(self.path, aside)
         log.warning("replay log %s: the file there was no replay log; moved to %s, a new log begun", self.path, aside)
         os.close(self._fd)
-        self._fd = os.open(self.path, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o644)
-        fcntl.flock(self._fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        self._fd = None
+        self._fd = _open_locked(self.path)
 
     def _parse(self, data: bytes) -> int:
         """Keep every whole record of ``data``; return the byte offset after the last one."""

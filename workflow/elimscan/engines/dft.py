@@ -369,8 +369,11 @@ def kept_single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLe
     ``replay`` is the job's replay log: it holds the points a stopped earlier run of the same job finished."""
     key = None if replay is None else point_key(atoms, charge, multiplicity, level)
     found = None if replay is None else replay.get(key)
-    if found is not None:
-        return DftPoint(**found[0])
+    try:  # a record of another code version's making is computed again
+        if found is not None:
+            return DftPoint(**found[0])
+    except TypeError:
+        pass
     point = single_point(atoms, charge, multiplicity, level, threads, name)
     if replay is not None:
         replay.put(key, dataclasses.asdict(point))

@@ -60,8 +60,11 @@ class DftEngine:
             self._guarded.add(series)
         key = None if self.replay is None else "gradient:" + point_key(atoms, charge, multiplicity, self.level)
         found = None if key is None else self.replay.get(key)
-        if found is not None:  # the next SCF of the series starts from its own guess (no density kept)
-            point = DftPoint(**found[0])
+        try:  # a record of another code version's making is computed again
+            point = None if found is None else DftPoint(**found[0])
+        except TypeError:
+            point = None
+        if point is not None:  # the next SCF of the series starts from its own guess (no density kept)
             self.stats.misses += 1
             self.stats.retries += int(point.retried)
             self.stats.replayed += 1
@@ -107,7 +110,7 @@ class DftEngine:
         self.check_memory(atoms, charge, multiplicity, "hessian", name)
         key = None if self.replay is None else "hessian:" + point_key(atoms, charge, multiplicity, self.level)
         found = None if key is None else self.replay.get(key)
-        if found is not None:
+        if found is not None and "seconds" in found[0] and found[1].size == 9 * len(atoms) ** 2:
             self.hessians += 1
             self.hessian_seconds += float(found[0]["seconds"])
             return found[1].reshape(3 * len(atoms), 3 * len(atoms)), 0

@@ -194,7 +194,7 @@ class XtbEngine:
             self.stats.hits += 1
             return cached
         self.stats.misses += 1
-        result = self._replayed(key)
+        result = self._replayed(key, holder)
         if result is None:
             library_before = self.stats.backend_seconds
             result = self._run(numbers, positions_A, charge, multiplicity, name, holder)
@@ -209,16 +209,22 @@ class XtbEngine:
         self._cache[key] = result
         return result
 
-    def _replayed(self, key: str) -> SinglePoint | None:
+    def _replayed(self, key: str, holder: "EngineCalculator | None" = None) -> SinglePoint | None:
         """Return the point stored under ``key`` in the replay log, counted as the first run counted it; else None."""
         found = None if self.replay is None else self.replay.get(key)
         if found is None:
             return None
         fields, gradient = found
-        point = SinglePoint(float(fields["energy_hartree"]), gradient.reshape(-1, 3),
-                            float(fields["electronic_temperature_K"]), retried=bool(fields["retried"]))
+        try:  # a record of another code version's making is computed again, never a failure of the job
+            point = SinglePoint(float(fields["energy_hartree"]), gradient.reshape(-1, 3),
+                                float(fields["electronic_temperature_K"]), retried=bool(fields["retried"]))
+            seconds = float(fields["seconds"])
+        except (KeyError, TypeError, ValueError):
+            return None
+        if holder is not None:  # the next computed point starts from a fresh guess, as after a kill
+            holder.drop_series()
         self.stats.replayed += 1
-        self.stats.replayed_seconds += float(fields["seconds"])
+        self.stats.replayed_seconds += seconds
         if point.retried:
             self.stats.retries += 1
             if point.electronic_temperature_K != self.settings.electronic_temperature_K:
@@ -227,7 +233,7 @@ class XtbEngine:
 
     def _run(self, numbers: np.ndarray, positions_A: np.ndarray, charge: int, multiplicity: int,
              name: str, holder: "EngineCalculator | None") -> SinglePoint:
-        attempt_started = time.perf_counter()  # a retried point's library time counts from here (every attempt)
+        attempt_started = time.perf_counter()  # a point's library time: the backend object's set-up, every attempt
         positions_bohr = np.asarray(positions_A, dtype=float) / ANGSTROM_PER_BOHR
         numbers = np.asarray(numbers, dtype=np.int32)
         uhf = multiplicity - 1
@@ -238,9 +244,8 @@ class XtbEngine:
                 series = self._new_series(numbers, positions_bohr, charge, uhf, self.settings.electronic_temperature_K)
                 if holder is not None:
                     holder.keep_series(numbers, series)
-            started = time.perf_counter()
             energy, gradient = _finite(*series.compute(positions_bohr))
-            self.stats.backend_seconds += time.perf_counter() - started
+            self.stats.backend_seconds += time.perf_counter() - attempt_started
             return SinglePoint(energy, gradient, self.settings.electronic_temperature_K)
         except EngineError:
             raise
