@@ -2,27 +2,21 @@
 removes it once the job's result is kept: a job whose worker died half-way starts over from the points it had
 finished and ends with the numbers of a run never interrupted; stale logs of other jobs are removed.
 
-Computed on a toy engine (no GFN2-xTB) that keeps and serves its points through a real ReplayLog and, asked to,
-kills its own worker after a number of points on its first attempt; the GFN2-xTB engine's own use of the log is
-tested in tests/batch/test_replaylog.py and tests/pipeline/test_replay_job.py.
+Computed by XtbEngine itself (its cache, counters and replay log) on the toy model instead of GFN2-xTB
+(``toyjobs.toy_xtb_engine``), which, asked to, kills its own worker after a number of points on its first attempt;
+the log's bytes are tested in tests/batch/test_replaylog.py, a real GFN2-xTB job in tests/pipeline/test_replay_job.py.
 """
 
 from __future__ import annotations
 
-import hashlib
 import json
-import os
-import signal
 import textwrap
-
-import numpy as np
-from ase.calculators.calculator import all_changes
 
 from elimscan.batch.driver import REPLAY_DIR, BatchOptions, run_batch
 from elimscan.batch.lock import FolderLock
 from elimscan.batch.plan import plan_batch
 from elimscan.config import parse_config
-from toyjobs import TOY_SETTINGS, ToyJobEngine, _LazyToyCalculator, without_timings
+from toyjobs import TOY_SETTINGS, without_timings
 
 CONFIG = TOY_SETTINGS + textwrap.dedent("""\
     name: replayed
@@ -30,54 +24,7 @@ CONFIG = TOY_SETTINGS + textwrap.dedent("""\
     bases: [{name: methoxide, model: bare}]
     executor: {workers: 1}
     """)
-FACTORY = "test_replay_logs:replay_toy_engine"
-
-
-class _ReplayToyCalculator(_LazyToyCalculator):
-    """The toy calculator, serving a point from its engine's replay log when the log holds it, else computing it,
-    keeping it, and killing its own process once ``die_after`` points were computed by a first attempt."""
-
-    def calculate(self, atoms=None, properties=None, system_changes=all_changes):
-        log = self.owner.replay
-        key = hashlib.sha256(self.structure.encode() + np.round(atoms.positions, 8).tobytes()).hexdigest()
-        found = None if log is None else log.get(key)
-        if found is not None:
-            self.atoms = atoms.copy()
-            energy, forces = found[0]["energy_eV"], found[1].reshape(-1, 3)
-            self.results = {"energy": energy, "free_energy": energy, "forces": forces}
-            return
-        super().calculate(atoms, properties, system_changes)
-        if log is not None:
-            log.put(key, {"energy_eV": self.results["energy"]}, self.results["forces"])
-            self.owner.computed += 1
-            if self.owner.die_after and self.owner.computed >= self.owner.die_after and self.owner.first_attempt:
-                os.kill(os.getpid(), signal.SIGKILL)
-
-
-class ReplayToyEngine(ToyJobEngine):
-    """The toy engine with a replay slot; ELIMSCAN_TOY_DIE_AFTER=n kills the worker after n computed points of a
-    job whose log was empty when it started."""
-
-    def __init__(self):
-        super().__init__()
-        self._replay, self.computed, self.first_attempt = None, 0, True
-        self.die_after = int(os.environ.get("ELIMSCAN_TOY_DIE_AFTER", "0"))
-
-    @property
-    def replay(self):
-        return self._replay
-
-    @replay.setter
-    def replay(self, log):
-        self._replay, self.first_attempt = log, log is None or len(log) == 0
-
-    def calculator(self, charge: int = 0, multiplicity: int = 1, name: str = "structure"):
-        return _ReplayToyCalculator(self, name)
-
-
-def replay_toy_engine(method):
-    """Engine factory of these tests."""
-    return ReplayToyEngine()
+FACTORY = "toyjobs:toy_xtb_engine"
 
 
 def _batch(tmp_path, name, *, retry=False):

@@ -15,12 +15,13 @@ import signal
 import time
 
 import numpy as np
+from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
-from elimscan.engines.xtb import CacheStats, SinglePoint
+from elimscan.engines.xtb import CacheStats, EngineSettings, SinglePoint, XtbEngine
 from elimscan.errors import ScfConvergenceError
 from toyengine import SpringTorsionEngine
-from elimscan.units import EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
+from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE, KCAL_MOL_PER_HARTREE
 
 #: one kcal/mol in eV (from the project's CODATA-based units)
 KCAL_MOL_IN_EV = EV_PER_HARTREE / KCAL_MOL_PER_HARTREE
@@ -256,3 +257,83 @@ def toy_output(command: str, config_text: str, folder):
                  "toyjobs:toy_engine", "-q"])
     assert code == 0, f"toy {command} exited {code}"
     return folder / "out"
+
+
+class _ToySeries:
+    """A backend series of ``ToyXtbEngine``: the toy model of the calculator it serves (built, as the toy engine's
+    calculators build theirs, from the first geometry that calculator was asked about), in hartree and hartree/bohr."""
+
+    def __init__(self, owner: "ToyXtbEngine", holder, name: str, numbers, positions_bohr):
+        self.owner = owner
+        model = getattr(holder, "toy_model", None)
+        if model is None:  # kept on the calculator: a new series (after a served point) keeps its surface
+            first = getattr(holder, "toy_first", None)
+            positions_A = first if first is not None else np.asarray(positions_bohr) * ANGSTROM_PER_BOHR
+            reference = owner.toy.reference(Atoms(numbers=numbers, positions=positions_A), name)
+            model = SpringTorsionEngine(reference, extra_springs=reference.info.get("toy_springs", ()))
+            if holder is not None:
+                holder.toy_model = model
+        self.model, self.offset_eV = model, owner.toy.offset_eV(name)
+
+    def set_electronic_temperature(self, kelvin: float) -> None:
+        """Do nothing: the toy model has no electrons."""
+
+    def compute(self, positions_bohr):
+        """Return the toy energy (hartree) and gradient (hartree/bohr) at these positions (bohr)."""
+        self.owner.computed_one()
+        energy, forces = self.model.energy_forces(np.asarray(positions_bohr) * ANGSTROM_PER_BOHR)
+        return (energy + self.offset_eV) / EV_PER_HARTREE, -forces / EV_PER_HARTREE * ANGSTROM_PER_BOHR
+
+
+class ToyXtbEngine(XtbEngine):
+    """``XtbEngine`` itself (its cache, counters and replay log) on the toy model instead of a GFN2-xTB backend.
+
+    ELIMSCAN_TOY_DIE_AFTER=n kills the worker after n computed points of a job whose replay log was empty when the
+    job was handed it (a first attempt)."""
+
+    def __init__(self):
+        self.toy, self.computed, self.first_attempt = ToyJobEngine(), 0, True
+        self.die_after = int(os.environ.get("ELIMSCAN_TOY_DIE_AFTER", "0"))
+        self._context: tuple = ("structure", None)
+        super().__init__(EngineSettings())
+
+    @property
+    def replay(self):
+        return self.__dict__.get("_replay")
+
+    @replay.setter
+    def replay(self, log) -> None:
+        self.__dict__["_replay"] = log
+        self.first_attempt = log is None or len(log) == 0
+
+    @property
+    def label(self) -> str:
+        """Return a description of the toy model behind XtbEngine."""
+        return "toy spring-torsion model through XtbEngine (tests only)"
+
+    def compute(self, numbers, positions_A, charge, multiplicity, name, holder):
+        """Return XtbEngine's point, after noting the calculator's first geometry (its toy model's reference: the
+        same whether or not the points before were served from a replay log)."""
+        if holder is not None and getattr(holder, "toy_first", None) is None:
+            holder.toy_first = np.array(positions_A, dtype=float)
+        return super().compute(numbers, positions_A, charge, multiplicity, name, holder)
+
+    def _run(self, numbers, positions_A, charge, multiplicity, name, holder):
+        self.toy.check(name)
+        self._context = (name, holder)
+        return super()._run(numbers, positions_A, charge, multiplicity, name, holder)
+
+    def _new_series(self, numbers, positions_bohr, charge, uhf, etemp):
+        name, holder = self._context
+        return _ToySeries(self, holder, name, numbers, positions_bohr)
+
+    def computed_one(self) -> None:
+        """Count a computed point; kill this process at ELIMSCAN_TOY_DIE_AFTER on a first attempt with a log."""
+        self.computed += 1
+        if self.die_after and self.replay is not None and self.first_attempt and self.computed > self.die_after:
+            os.kill(os.getpid(), signal.SIGKILL)
+
+
+def toy_xtb_engine(method) -> ToyXtbEngine:
+    """Engine factory of the replay tests: XtbEngine's own code on the toy model."""
+    return ToyXtbEngine()
