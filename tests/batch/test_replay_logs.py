@@ -10,6 +10,7 @@ the log's bytes are tested in tests/batch/test_replaylog.py, a real GFN2-xTB job
 from __future__ import annotations
 
 import json
+import signal
 import textwrap
 
 from elimscan.batch.driver import REPLAY_DIR, BatchOptions, run_batch
@@ -72,3 +73,21 @@ def test_a_failed_jobs_log_goes_at_the_next_run_that_does_not_retry_it(tmp_path,
     assert outcome.n_failed == 1 and len(list((out / REPLAY_DIR).glob("*.replay"))) == 1
     out, outcome, _ = _batch(tmp_path, "failed")  # nothing to compute: the failed job stays failed
     assert outcome.n_computed == 0 and not (out / REPLAY_DIR).exists()
+
+
+def test_a_run_killed_half_way_and_started_again_in_its_folder_is_served_its_points(tmp_path):
+    # elimscan run keeps a replay log in its output folder (replay/run.replay) until results.json is written
+    from test_interrupted import elimscan
+
+    (tmp_path / "run.yaml").write_text(CONFIG)
+    whole = elimscan("run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "whole"), engine=FACTORY)
+    assert whole.returncode == 0, whole.stderr
+    killed = elimscan("run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "out"), engine=FACTORY,
+                      env={"ELIMSCAN_TOY_DIE_AFTER": "40"})
+    assert killed.returncode == -signal.SIGKILL and (tmp_path / "out" / "replay" / "run.replay").is_file()
+    again = elimscan("run", str(tmp_path / "run.yaml"), "--out", str(tmp_path / "out"), "-v", engine=FACTORY)
+    assert again.returncode == 0, again.stderr
+    assert "starting over: 40 single point(s) finished by a stopped earlier run" in again.stderr
+    assert not (tmp_path / "out" / "replay").exists()
+    mine, theirs = (json.loads((tmp_path / f / "results.json").read_text()) for f in ("out", "whole"))
+    assert without_timings(mine["jobs"]) == without_timings(theirs["jobs"])

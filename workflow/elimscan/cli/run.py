@@ -52,8 +52,26 @@ def cmd_run(args: argparse.Namespace) -> int:
         return _compute_and_write(config, geometries, out)
 
 
+#: the replay log of a run (``batch.replaylog``) in its output folder: a run killed half-way and started again in
+#: the same folder is served the single points it had finished; removed once results.json is written
+RUN_REPLAY_FILE = Path("replay") / "run.replay"
+
+
+def forget_run_replay(out: Path) -> None:
+    """Remove a run's replay log (and its folder when empty); a failure is only logged (it costs disk space)."""
+    path = out / RUN_REPLAY_FILE
+    try:
+        for found in path.parent.glob(path.name + "*") if path.parent.is_dir() else ():
+            found.unlink(missing_ok=True)
+        if path.parent.is_dir() and not any(path.parent.iterdir()):
+            path.parent.rmdir()
+    except OSError as err:
+        log.warning("could not remove the replay log %s: %s", path, err)
+
+
 def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path) -> int:
     """Compute the run and write its files (results.json first); return the exit code."""
+    from elimscan.batch.replaylog import ReplayLog
     from elimscan.engines.factory import make_engine
     from elimscan.output.files import load_benchmark_record
     from elimscan.output.text import summary_table
@@ -67,8 +85,15 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
                     "(seen with tblite 0.8.0), and a single run then ends without results.json; 'elimscan batch' "
                     "runs each job in its own process and keeps the others")
     started = time.perf_counter()
+    replay = ReplayLog(out / RUN_REPLAY_FILE)
+    if len(replay):
+        log.info("starting over: %d single point(s) finished by a stopped earlier run in this folder are served from "
+                 "its replay log %s", len(replay), replay.path)
     progress = RunProgress(run_steps(config))  # one counter for the whole run
-    result, files = compute_run(config, engine, progress, geometries, shlex.join(sys.argv))
+    try:
+        result, files = compute_run(config, engine, progress, geometries, shlex.join(sys.argv), replay)
+    finally:
+        replay.close()
     progress.close()
     for record in result.molecules:
         if record.status != "ok" and record.error is not None:
@@ -79,6 +104,9 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
     except OutputError as err:
         kept = f"; the previous {RESULTS_FILE} is kept unchanged" if replacing else ""
         raise OutputError(f"{err}: the results of this run could not be saved{kept}") from err
+    forget_run_replay(out)  # the results are kept: the log has served its purpose
+    if replay.served:
+        log.info("%d single point(s) were served from the replay log of a stopped earlier run", replay.served)
     problems = remove_previous_files(out) if replacing else []
     problems += write_each(out, files)
     from elimscan.output.files import build_report_files

@@ -111,13 +111,16 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
 
 def compute_run(config: RunConfig, engine, on_progress: ProgressCallback | None = None,
                 geometries: dict[str, tuple[str, str]] | None = None,
-                command_line: str = "") -> tuple[RunResult, dict[str, bytes]]:
+                command_line: str = "", replay: PointLog | None = None) -> tuple[RunResult, dict[str, bytes]]:
     """Return the result document of a whole run and its files {relative path: bytes}; nothing is written.
 
     Every job is keyed as a batch keys it, and the document is built by ``pipeline.document.run_document``,
-    as for a batch.
+    as for a batch. ``replay`` is the run's replay log, handed to the engine (when it has a slot for it) and the DFT
+    tier, as ``run_job`` does.
     """
-    outcome = run_config(config, engine, on_progress, geometries)
+    if replay is not None and hasattr(engine, "replay"):
+        engine.replay = replay
+    outcome = run_config(config, engine, on_progress, geometries, replay)
     done = job_outcomes(config, outcome, engine.label)
     files: dict[str, bytes] = {}
     for job in done:
