@@ -58,6 +58,14 @@ def test_the_page_names_the_run_and_gives_every_part():
     row = next(line for line in page.splitlines() if line.startswith("| bookkeeping | major `C/C=C/C`; `C=CCC` 19 %"))
     assert "| **right**: `C/C=C/C` | **right**; top `C/C=C/C` (2 seeds), `C=CCC` (1 seed); mix `C/C=C/C` " in row
     assert "judged (mean over seeds; each seed is judged alone) `C=CCC` 28 % of alkenes" in row and row.endswith("| dE 55 | 1 h 00 min |")
+    # a seed that started over from its replay log timed its last run only: the case's time is a lower bound
+    resumed = record([("C3-H9", "anti", "C/C=C/C", 0.0, 1), ("C0-H5", "anti", "C=CCC", 2.0, 3)])
+    resumed["replayed_points"] = 120
+    partial = score_case(case(major="C/C=C/C", seeds=(1,)), {1: resumed}, (1,), ["dE"], 600.0)
+    marked = validation_markdown(replace(INFO, n_replayed_jobs=1), [partial], [], ["dE"])
+    assert partial.time_partial and not scores()[0].time_partial
+    assert next(line for line in marked.splitlines() if line.startswith("| bookkeeping")).endswith("| ≥ 10 min |")
+    assert "1 of the jobs started over from a replay log" in marked and "marked ≥ in the table" in marked
     wrong = next(line for line in page.splitlines() if line.startswith("| amyl |"))
     assert "**wrong**" in wrong and "why: major C=C(C)CC, expected CC=C(C)C" in wrong
     # the published 19 % 1-butene as a free-energy difference, after the series, with a summary line per level

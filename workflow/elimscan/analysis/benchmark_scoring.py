@@ -331,6 +331,8 @@ class CaseScore:
     rule_calls: tuple[str | None, ...]
     rule_outcome: str
     wall_seconds: float | None
+    #: a seed's job started over from its replay log, so ``wall_seconds`` holds only its last run (a lower bound)
+    time_partial: bool = False
 
 
 def score_case(case: OutcomeCase, jobs: Mapping[int, Mapping], seeds: Sequence[int], levels: Sequence[str],
@@ -340,8 +342,10 @@ def score_case(case: OutcomeCase, jobs: Mapping[int, Mapping], seeds: Sequence[i
     calls = tuple(rule_call(job, case.expected.e2_percent is not None) for job in finished)
     rule = [judge_rule(case.expected, call) for call in calls]
     rule += [NOT_SCORED if case.expected.major is None else NOT_COMPUTED] * (len(seeds) - len(finished))
+    partial = any((jobs[s].get("replayed_points") or 0) > 0 for s in seeds if s in jobs)
     return CaseScore(case=case, levels={level: score_level(case, jobs, level, seeds) for level in levels},
-                     rule_calls=calls, rule_outcome=majority(rule, len(seeds)), wall_seconds=wall_seconds)
+                     rule_calls=calls, rule_outcome=majority(rule, len(seeds)), wall_seconds=wall_seconds,
+                     time_partial=partial)
 
 
 @dataclass(frozen=True)

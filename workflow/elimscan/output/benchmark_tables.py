@@ -248,10 +248,12 @@ def _remaining(info: RunInfo) -> str:
     return remaining_clause(info.n_jobs, info.n_jobs_finished, info.job_seconds)
 
 
-def replayed_clause(n_replayed: int) -> str:
-    """Return the clause that marks the summed job time as low when jobs started over from a replay log ('' if none)."""
+def replayed_clause(n_replayed: int, table: bool = False) -> str:
+    """Return the clause that marks the summed job time as low when jobs started over from a replay log ('' if none);
+    ``table``: the page's table of cases marks their cases' times with '≥'."""
+    marked = "; their cases' times are marked ≥ in the table" if table else ""
     return (f" ({n_replayed} of the jobs started over from a replay log after an interruption: their time is their "
-            "last run's, so the sum and the estimates from it are low)") if n_replayed else ""
+            f"last run's, so the sum and the estimates from it are low{marked})") if n_replayed else ""
 
 
 def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_seconds: float,
@@ -348,7 +350,8 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
         seen = " (outcome seen before the freeze)" if score.case.id in info.seen_before_freeze else ""
         lines.append(f"| {score.case.id}{seen} | {_experiment(score)} | {_rule_cell(score)} | "
                      + " | ".join(_level_cell(score, lv) for lv in levels)
-                     + f" | {_spread_cell(score, levels)} | {_duration(score.wall_seconds)} |")
+                     + f" | {_spread_cell(score, levels)} | {'≥ ' if score.time_partial else ''}"
+                       f"{_duration(score.wall_seconds)} |")
     if any(s.case.series for s in scores):
         lines += ["", "## Series: terminal-alkene share of the alkenes", "",
                   "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
@@ -374,7 +377,7 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"in this work folder, pauses left out" + _stopped_words(info) + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
                                       if info.compute_commits else "")
              + f" (this one: {_duration(info.wall_seconds)}); the jobs it scored took "
-             f"{_duration(info.job_seconds)} summed over jobs" + replayed_clause(info.n_replayed_jobs) + _remaining(info),
+             f"{_duration(info.job_seconds)} summed over jobs" + replayed_clause(info.n_replayed_jobs, table=True) + _remaining(info),
              *([f"- archived jobs: {info.n_archived} of the finished jobs were read from `{info.records}` (computed "
                 f"by commit {', '.join(f'`{c}`' for c in info.archived_commits)} on earlier machines; a job's key holds "
                 "every input and setting that changes its numbers)"] if info.n_archived else []),
