@@ -40,6 +40,7 @@ from elimscan.analysis.benchmark_jobs import (DFT_CALIBRATION_FUNCTIONALS, Batch
 from elimscan.analysis.benchmark_models import BASE_MODEL_CANDIDATES, UNNAMED_BASE_MODEL
 from elimscan.analysis.benchmark_record import calibration_record, merged_record, page_record
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
+from elimscan.results.records import started_over
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
 from elimscan.atomicio import write_text_atomic
 from elimscan.batch import runclock
@@ -312,7 +313,7 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
                 found.n_archived += 1
                 found.archived_commits.add(archived[pair])
             found.job_seconds += wall or 0.0
-            found.n_replayed += (job.get("replayed_points") or 0) > 0
+            found.n_replayed += started_over(job)
             for slot, seed in served:
                 found.records.setdefault(slot, {})[seed] = job
                 found.seconds.setdefault(slot, {})[seed] = wall

@@ -42,6 +42,7 @@ from elimscan.analysis.benchmark_cases import SUBSTITUTION, Expected, OutcomeCas
 from elimscan.analysis.rule import (METHOD_UNCERTAINTY_KCAL_MOL, PathBarrier, compare_verdicts,
                                    product_barriers_kcal_mol, product_fractions)
 from elimscan.results.flags import END_NOT_PRODUCTS, NOT_TO_PRODUCTS, no_barrier_reason
+from elimscan.results.records import started_over
 from elimscan.units import BOLTZMANN_KCAL_MOL_PER_K
 
 #: level name -> barrier field of the path records (kcal/mol)
@@ -342,7 +343,7 @@ def score_case(case: OutcomeCase, jobs: Mapping[int, Mapping], seeds: Sequence[i
     calls = tuple(rule_call(job, case.expected.e2_percent is not None) for job in finished)
     rule = [judge_rule(case.expected, call) for call in calls]
     rule += [NOT_SCORED if case.expected.major is None else NOT_COMPUTED] * (len(seeds) - len(finished))
-    partial = any((jobs[s].get("replayed_points") or 0) > 0 for s in seeds if s in jobs)
+    partial = any(started_over(jobs[s]) for s in seeds if s in jobs)
     return CaseScore(case=case, levels={level: score_level(case, jobs, level, seeds) for level in levels},
                      rule_calls=calls, rule_outcome=majority(rule, len(seeds)), wall_seconds=wall_seconds,
                      time_partial=partial)

@@ -44,6 +44,7 @@ from elimscan.batch.jobfiles import (JOB_OWN_WRITE_ERRNOS, files_intact, relocat
 from elimscan.batch.lock import refuse_inputs_among_outputs
 from elimscan.batch.plan import BatchPlan, PlannedJob
 from elimscan.batch.recovery import check_store, rebuild_store
+from elimscan.batch.replaylog import drop_empty_folder, remove_log
 from elimscan.batch.status import estimate_left
 from elimscan.batch.store import STORE_FILE, JobStore, StoredJob
 from elimscan.batch.worker import LOG_FILE, JobTask
@@ -353,22 +354,12 @@ def _forget_replays(out: Path, keep: set[str]) -> None:
         return
     for key in {path.name.split(".", 1)[0] for path in folder.glob("*.replay*")} - keep:  # (a key has no dot)
         _forget_replay(out, key)
-    try:
-        if not any(folder.iterdir()):
-            folder.rmdir()
-    except OSError as err:
-        log.warning("could not remove the empty folder %s: %s", folder, err)
+    drop_empty_folder(folder)
 
 
 def _forget_replay(out: Path, key: str) -> None:
-    """Remove the replay log of the job ``key`` (its result is kept) with any file it moved aside; a failure is only
-    logged (it costs disk space, nothing else)."""
-    path = _replay_path(out, key)
-    for found in path.parent.glob(path.name + "*") if path.parent.is_dir() else ():
-        try:
-            found.unlink(missing_ok=True)
-        except OSError as err:
-            log.warning("could not remove the replay log %s: %s", found, err)
+    """Remove the replay log of the job ``key`` (its result is kept) with any file it moved aside."""
+    remove_log(_replay_path(out, key))
 
 
 def _commit(job: PlannedJob, event: Done, out: Path, store: JobStore, run_id: int,

@@ -68,6 +68,26 @@ def _open_locked(path: Path) -> int:
         raise
 
 
+def remove_log(path: Path) -> None:
+    """Remove the replay log at ``path`` with any file it moved aside; a failure is only logged (it costs disk
+    space, nothing else)."""
+    path = Path(path)
+    for found in path.parent.glob(path.name + "*") if path.parent.is_dir() else ():
+        try:
+            found.unlink(missing_ok=True)
+        except OSError as err:
+            log.warning("could not remove the replay log %s: %s", found, err)
+
+
+def drop_empty_folder(folder: Path) -> None:
+    """Remove the folder of replay logs when none is left in it; a failure is only logged."""
+    try:
+        if Path(folder).is_dir() and not any(Path(folder).iterdir()):
+            Path(folder).rmdir()
+    except OSError as err:
+        log.warning("could not remove the empty folder %s: %s", folder, err)
+
+
 class ReplayLog:
     """The finished single points of one job, read from ``path`` when it exists, each new one appended to it."""
 

@@ -69,6 +69,8 @@ def measured_from_folder(folder: Path) -> list[MeasuredJob]:
     A job that started over from its replay log (``replayed_points``) timed its last run only: left out."""
     from rdkit import Chem
 
+    from elimscan.results.records import started_over
+
     try:
         index = json.loads((folder / "batch.json").read_text(encoding="utf-8"))
         result = json.loads((folder / "results.json").read_text(encoding="utf-8"))
@@ -81,7 +83,7 @@ def measured_from_folder(folder: Path) -> list[MeasuredJob]:
     for job in result.get("jobs", []):
         wall = seconds.get(job.get("job_id"))
         mols = [Chem.MolFromSmiles(smiles.get((role, job.get(role))) or "") for role in ("substrate", "base")]
-        if not wall or job.get("status") != "ok" or job.get("replayed_points") or any(m is None for m in mols):
+        if not wall or job.get("status") != "ok" or started_over(job) or any(m is None for m in mols):
             continue
         n_paths = sum(1 for beta in job.get("beta_hydrogens", ()) for approach in ("anti", "syn")
                       if (beta.get(approach) or {}).get("path_status", "not computed") != "not computed")

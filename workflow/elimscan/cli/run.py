@@ -57,21 +57,9 @@ def cmd_run(args: argparse.Namespace) -> int:
 RUN_REPLAY_FILE = Path("replay") / "run.replay"
 
 
-def forget_run_replay(out: Path) -> None:
-    """Remove a run's replay log (and its folder when empty); a failure is only logged (it costs disk space)."""
-    path = out / RUN_REPLAY_FILE
-    try:
-        for found in path.parent.glob(path.name + "*") if path.parent.is_dir() else ():
-            found.unlink(missing_ok=True)
-        if path.parent.is_dir() and not any(path.parent.iterdir()):
-            path.parent.rmdir()
-    except OSError as err:
-        log.warning("could not remove the replay log %s: %s", path, err)
-
-
 def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path) -> int:
     """Compute the run and write its files (results.json first); return the exit code."""
-    from elimscan.batch.replaylog import ReplayLog
+    from elimscan.batch.replaylog import ReplayLog, drop_empty_folder, remove_log
     from elimscan.engines.factory import make_engine
     from elimscan.output.files import load_benchmark_record
     from elimscan.output.text import summary_table
@@ -104,7 +92,8 @@ def _compute_and_write(config, geometries: dict[str, tuple[str, str]], out: Path
     except OutputError as err:
         kept = f"; the previous {RESULTS_FILE} is kept unchanged" if replacing else ""
         raise OutputError(f"{err}: the results of this run could not be saved{kept}") from err
-    forget_run_replay(out)  # the results are kept: the log has served its purpose
+    remove_log(out / RUN_REPLAY_FILE)  # the results are kept: the log has served its purpose
+    drop_empty_folder((out / RUN_REPLAY_FILE).parent)
     if replay.served:
         log.info("%d single point(s) were served from the replay log of a stopped earlier run", replay.served)
     problems = remove_previous_files(out) if replacing else []

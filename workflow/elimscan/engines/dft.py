@@ -362,18 +362,25 @@ def point_key(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel) -> 
     return digest.hexdigest()
 
 
+def served_point(replay: PointLog | None, key: str) -> tuple[DftPoint, np.ndarray] | None:
+    """Return the DFT point (hartree) and its array kept under ``key`` in ``replay``, or None: not there, or written by
+    another code version in a form this one cannot read (then it is computed again)."""
+    found = None if replay is None else replay.get(key)
+    try:
+        return None if found is None else (DftPoint(**found[0]), found[1])
+    except TypeError:
+        return None
+
+
 def kept_single_point(atoms: Atoms, charge: int, multiplicity: int, level: DftLevel, threads: int, name: str,
                       replay: PointLog | None) -> DftPoint:
     """Return the DFT single point (energies in hartree), from ``replay`` when it holds it, else computed and kept.
 
     ``replay`` is the job's replay log: it holds the points a stopped earlier run of the same job finished."""
     key = None if replay is None else point_key(atoms, charge, multiplicity, level)
-    found = None if replay is None else replay.get(key)
-    try:  # a record of another code version's making is computed again
-        if found is not None:
-            return DftPoint(**found[0])
-    except TypeError:
-        pass
+    served = None if key is None else served_point(replay, key)
+    if served is not None:
+        return served[0]
     point = single_point(atoms, charge, multiplicity, level, threads, name)
     if replay is not None:
         replay.put(key, dataclasses.asdict(point))

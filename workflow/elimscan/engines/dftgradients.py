@@ -19,7 +19,8 @@ from ase import Atoms
 from ase.calculators.calculator import Calculator, all_changes
 
 from elimscan.engines.contract import CacheStats, PointLog, SinglePoint, geometry_changes, geometry_snapshot
-from elimscan.engines.dft import DftLevel, DftPoint, build_scf, converge_scf, guard_memory, import_pyscf, point_key
+from elimscan.engines.dft import (DftLevel, DftPoint, build_scf, converge_scf, guard_memory, import_pyscf, point_key,
+                                  served_point)
 from elimscan.errors import DftError
 from elimscan.units import ANGSTROM_PER_BOHR, EV_PER_HARTREE
 
@@ -59,18 +60,15 @@ class DftEngine:
             self.check_memory(atoms, charge, multiplicity, "gradient", name)
             self._guarded.add(series)
         key = None if self.replay is None else "gradient:" + point_key(atoms, charge, multiplicity, self.level)
-        found = None if key is None else self.replay.get(key)
-        try:  # a record of another code version's making is computed again
-            point = None if found is None else DftPoint(**found[0])
-        except TypeError:
-            point = None
-        if point is not None:  # the next SCF of the series starts from its own guess (no density kept)
+        served = None if key is None else served_point(self.replay, key)
+        if served is not None:  # the next SCF of the series starts from its own guess (no density kept)
+            point, gradient = served
             self.stats.misses += 1
             self.stats.retries += int(point.retried)
             self.stats.replayed += 1
             self.stats.replayed_seconds += point.seconds
             self.trace.append((name, point))
-            return SinglePoint(point.energy_hartree, found[1].reshape(-1, 3), 0.0, point.retried), None
+            return SinglePoint(point.energy_hartree, gradient.reshape(-1, 3), 0.0, point.retried), None
         start = time.perf_counter()
         try:
             mf = build_scf(atoms, charge, multiplicity, self.level)

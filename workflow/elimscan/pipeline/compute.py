@@ -228,9 +228,11 @@ def run_config(config: RunConfig, engine, on_progress: ProgressCallback | None =
     """Return the outcome of a run: each substrate analysed once, each base relaxed once.
 
     ``geometries`` maps substrate names to the (text, format) of user 3D structures; ``replay`` is the job's replay
-    log, from which the DFT tier's single points are served when a stopped earlier run finished them (the engine
-    holds the same log for its own points).
+    log, handed to the engine (when it has a slot for it, as ``XtbEngine`` has) and to the DFT tier, which serve
+    from it the points a stopped earlier run finished.
     """
+    if replay is not None and hasattr(engine, "replay"):
+        engine.replay = replay
     jobs = config.jobs()
     outcome = RunOutcome(jobs=jobs)
     substrates = list({s.name: s for s, _ in jobs}.values())

@@ -94,13 +94,11 @@ def run_job(substrate: SubstrateConfig, base: BaseConfig, config: RunConfig, eng
 
     The job's solvent is recorded on its job record and on both molecule records, and so are the number of
     single points the engine had to keep at the retry electronic temperature while running it and the number
-    served from ``replay``, the job's replay log (points a stopped earlier run of the job finished), which the
-    engine is given too when it has a slot for it (``XtbEngine.replay``; a plug-in engine may have none).
+    served from ``replay``, the job's replay log (points a stopped earlier run of the job finished; see
+    ``compute.run_config``).
     """
     one = single_job_config(config, substrate, base)
     hot_before = engine.stats.hot_points
-    if replay is not None and hasattr(engine, "replay"):
-        engine.replay = replay
     served_before = 0 if replay is None else replay.served
     outcome = run_config(one, engine, on_progress, {substrate.name: geometry} if geometry else None, replay)
     (done,) = job_outcomes(one, outcome, engine.label)
@@ -115,11 +113,8 @@ def compute_run(config: RunConfig, engine, on_progress: ProgressCallback | None 
     """Return the result document of a whole run and its files {relative path: bytes}; nothing is written.
 
     Every job is keyed as a batch keys it, and the document is built by ``pipeline.document.run_document``,
-    as for a batch. ``replay`` is the run's replay log, handed to the engine (when it has a slot for it) and the DFT
-    tier, as ``run_job`` does.
+    as for a batch. ``replay`` is the run's replay log (see ``compute.run_config``).
     """
-    if replay is not None and hasattr(engine, "replay"):
-        engine.replay = replay
     outcome = run_config(config, engine, on_progress, geometries, replay)
     done = job_outcomes(config, outcome, engine.label)
     files: dict[str, bytes] = {}

@@ -6,6 +6,7 @@ records (results.json, batch.json) are in ``documents``; their JSON Schema expor
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from typing import Literal
 
 from pydantic import AliasChoices, BaseModel, ConfigDict, Field
@@ -397,6 +398,12 @@ class JobRecord(Record):
         "replay log because a stopped earlier run of the same job had finished them (batches on the local "
         "executor); when above 0 the job's wall time covers only its last run, and a served DFT point keeps its "
         "first run's seconds"))
+
+
+def started_over(job: Mapping) -> bool:
+    """Return True when a job record (as read from JSON) was served points from its replay log, so that its wall time
+    covers its last run only."""
+    return (job.get("replayed_points") or 0) > 0
 
 
 def counts_as_barrier(approach: "ApproachRecord | SubstitutionRecord") -> bool:
