@@ -319,7 +319,7 @@ def score_level(case: OutcomeCase, jobs: Mapping[int, Mapping], level: str, seed
         mean_alkene_shares={p: _mean([m.alkene_shares.get(p, 0.0) for m in mixes]) for p in published if mixes},
         mean_e2_fraction=_mean([m.e2_fraction for m in mixes if m.e2_fraction is not None]),
         spread_points=100.0 * max(spreads) if len(mixes) > 1 and spreads else None,
-        note="seeds split: " + ", ".join(f"{s.seed} {s.outcome}" for s in scores) if split else "",
+        note="seeds split: " + ", ".join(f"seed {s.seed} {s.outcome}" for s in scores) if split else "",
         outcome_major_only=majority(major_only, len(seeds)) if case.expected.major is not None else NOT_SCORED)
 
 
