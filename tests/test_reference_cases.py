@@ -329,6 +329,9 @@ def test_a_job_archived_by_one_machine_is_scored_and_never_computed_by_the_next(
     row = [line for line in first.out.splitlines() if line.startswith("| 2-bromobutane-ethoxide")]
     assert row and row == [line for line in second.out.splitlines() if line.startswith("| 2-bromobutane-ethoxide")]
     assert "- archived jobs: 1 of the finished jobs" in second.out and "archived jobs" not in first.out
+    # where the job's gradients went: its record carries each path stage's count, read back from the archive too
+    for out in (first.out, second.out):
+        assert "## Where the gradients went" in out and "\n| driven path | " in out
     assert validate._parse(["--no-records"]).records is None  # --no-records: neither read nor written
     assert validate._parse([]).records == ROOT / "validation" / "records"
 

@@ -42,6 +42,7 @@ from elimscan.analysis.benchmark_record import calibration_record, merged_record
 from elimscan.analysis.benchmark_scoring import computed_levels, score_case
 from elimscan.results.records import started_over
 from elimscan.analysis.benchmark_summary import ModelSummary, summarise_model
+from elimscan.analysis.stagegradients import stage_totals
 from elimscan.atomicio import write_text_atomic
 from elimscan.batch import runclock
 from elimscan.batch.archive import ArchivedJob, archive_jobs, archived_keys, read_archived
@@ -290,6 +291,8 @@ class Collected:
     job_seconds: float = 0.0
     #: of the finished jobs, those that started over from a replay log (their job time is their last run's only)
     n_replayed: int = 0
+    #: every finished job record once, for where their gradients went
+    finished: list[dict] = field(default_factory=list)
 
     def jobs(self) -> list[dict]:
         """Return every finished job record (a job serving several slots appears once per slot)."""
@@ -314,6 +317,7 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
                 found.archived_commits.add(archived[pair])
             found.job_seconds += wall or 0.0
             found.n_replayed += started_over(job)
+            found.finished.append(job)
             for slot, seed in served:
                 found.records.setdefault(slot, {})[seed] = job
                 found.seconds.setdefault(slot, {})[seed] = wall
@@ -518,7 +522,7 @@ def main(argv: list[str] | None = None) -> int:
                    records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
                    args.records.is_relative_to(HERE.parent) else str(args.records),
                    **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))
-    page = validation_markdown(info, scores, calibration, levels, models)
+    page = validation_markdown(info, scores, calibration, levels, models, stage_totals(found.finished))
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
         print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)

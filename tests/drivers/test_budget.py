@@ -60,6 +60,7 @@ def test_a_path_that_would_exceed_its_budget_stops_at_it_and_names_the_driven_pa
     (flag,) = [f for f in stopped.flags if f.startswith(BUDGET_SPENT)]
     assert f"in the {STAGE_PATH} ({limit} of {limit} gradients" in flag and flag.endswith(BUDGET_STOPPED)
     assert f"{STAGE_COMPLEX} {complex_cost}" in flag  # the gradients of each stage so far
+    assert stopped.stage_gradients == {STAGE_COMPLEX: complex_cost, STAGE_PATH: limit - complex_cost}
     assert not stopped.saddle.verified and stopped.top_hartree == stopped.estimate_hartree
     # the one rule: a stopped path is no barrier, and whether it reaches its products is not known (the full path
     # was checked: its end, relaxed freely on this toy surface without products, is not the product side)
@@ -118,6 +119,10 @@ def test_a_stopped_path_is_reported_but_decides_no_product_share():
     assert any(p.fraction is not None for p in free.products)
     computed = [h.anti for h in free.beta_hydrogens if h.anti.path_status == "ok"]
     assert computed and all(a.n_gradients > 0 and counts_as_barrier(a) and a.budget_spent_in is None for a in computed)
+    # the record gives each stage's gradients in the order the stages ran, every gradient counted once
+    for a in computed:
+        assert [c.stage for c in a.stage_gradients][:2] == [STAGE_COMPLEX, STAGE_PATH]
+        assert sum(c.gradients for c in a.stage_gradients) == a.n_gradients
     # a budget the complexes fit in but not the driven paths (toy complexes of 2-bromobutane + methoxide: 19 atoms)
     least = min(a.n_gradients for a in computed)
     stopped = job(math.floor(0.5 * least) / 19)
@@ -175,3 +180,7 @@ def test_a_path_without_a_limit_reports_its_stages_in_order(embed):
                           on_stage=heard.append)
     assert [text.split(" (path")[0] for text in heard] == [STAGE_COMPLEX, STAGE_PATH, STAGE_END]
     assert heard[-1].startswith(f"{STAGE_END} (path {result.n_gradients - result.saddle_gradients} gradients")
+    # the path keeps each stage's gradients: every gradient in exactly one stage, in the order they ran
+    assert list(result.stage_gradients) == [STAGE_COMPLEX, STAGE_PATH, STAGE_END]
+    assert sum(result.stage_gradients.values()) == result.n_gradients == engine.stats.misses
+    assert result.stage_gradients[STAGE_COMPLEX] == result.complex.n_gradients

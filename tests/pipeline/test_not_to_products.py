@@ -104,14 +104,18 @@ def test_starts_that_miss_their_products_are_not_the_lowest_start():
 
     from elimscan.pipeline.compute import lowest_of_starts
 
+    from elimscan.drivers.budget import STAGE_PATH
+
     def fake(top: float, reaches: bool):
         saddle = SaddleResult(None, None, False, "none", None, (), "not refined")
         point = paths.PathPoint(0.0, top, None, True, {})
-        return paths.PathResult("anti", None, (point,), 0, saddle, () if reaches else (NOT_TO_PRODUCTS,), 10)
+        return paths.PathResult("anti", None, (point,), 0, saddle, () if reaches else (NOT_TO_PRODUCTS,), 10,
+                                stage_gradients={STAGE_PATH: 10})
 
     best = lowest_of_starts([fake(-1.0, False), fake(-0.5, True), fake(-0.4, True)])
     assert best.top_hartree == -0.5 and best.reaches_products
     assert best.start_tops_hartree == (-0.5, -0.4) and best.n_gradients == 30  # every start spent its gradients
+    assert best.stage_gradients == {STAGE_PATH: 30}  # ... stage by stage
     alone = lowest_of_starts([fake(-1.0, False)])  # no start reaches: kept, and still flagged
     assert not alone.reaches_products
     assert dataclasses.replace(alone).flags == (NOT_TO_PRODUCTS,)

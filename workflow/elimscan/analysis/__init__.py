@@ -19,5 +19,6 @@
   validation/validate.py into the package's data)
 - ``choicekinds``: which benchmark categories a job's choices belong to (open-chain regiochemistry, E/Z, rings
   with one or two anti hydrogens, E2 against SN2)
+- ``stagegradients``: the gradients of each stage of the paths, summed over finished jobs
 - ``basicity``: relative pKa of base models from a balanced proton exchange (a physics check on a model)
 """

@@ -11,7 +11,7 @@ time is reported as an unverified estimate. The engine is passed in; no file I/O
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from ase import Atoms
@@ -64,6 +64,9 @@ class PathResult:
     #: the stage during which the path's gradient budget ran out (None: the path finished); a stopped path is
     #: an unfinished estimate and no barrier
     stopped_stage: str | None = None
+    #: energy+gradient evaluations of each stage of the path (stage name -> count; stages without one left out),
+    #: summed over every start tried
+    stage_gradients: dict[str, int] = field(default_factory=dict)
 
     @property
     def estimate_hartree(self) -> float:
@@ -324,7 +327,7 @@ def _stopped(approach: str, complex_: ComplexResult, points: list[PathPoint], sp
     flag = budget_spent_flag(spent.stage, spent.spent, spent.limit, budget.stage_counts())
     saddle = SaddleResult(None, None, False, "none", None, (), f"stopped: {spent}")
     return PathResult(approach, complex_, tuple(points), path_top_index(points), saddle, flags + (flag,), n_gradients,
-                      saddle_gradients, stopped_stage=spent.stage)
+                      saddle_gradients, stopped_stage=spent.stage, stage_gradients=budget.stage_counts())
 
 
 def _open_budget(engine, settings: PathConfig, start: Atoms, base: Atoms, on_stage: Callable[[str], None] | None
@@ -396,7 +399,7 @@ def compute_path(start: Atoms, base: Atoms, basic: int, reactive: Reactive, appr
                         0 if before_saddle is None else engine.stats.misses - before_saddle)
     flags = complex_.failed_rotations + path_flags(points, top, reactive, other_hydrogens, syn) + to_products
     return PathResult(approach, complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
-                      engine.stats.misses - before_saddle)
+                      engine.stats.misses - before_saddle, stage_gradients=budget.stage_counts())
 
 
 def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: SubstitutionReactive, engine,
@@ -461,4 +464,4 @@ def compute_substitution_path(start: Atoms, base: Atoms, basic: int, reactive: S
                         0 if before_saddle is None else engine.stats.misses - before_saddle)
     flags = tuple(maximum_flags(points, top)) + to_products
     return PathResult("substitution", complex_, tuple(points), top, saddle, flags, engine.stats.misses - misses0,
-                      engine.stats.misses - before_saddle)
+                      engine.stats.misses - before_saddle, stage_gradients=budget.stage_counts())

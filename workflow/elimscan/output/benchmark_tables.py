@@ -5,7 +5,8 @@ rule right Y/M, undecided Z/N", then per category; the per-case table (experimen
 rule's call, the computed call per level with the mean mix over seeds, right/wrong/undecided, the spread
 over seeds); the terminal-alkene share of each series' members; the bulky-base shift (``benchmark_baseshift``);
 each published share as a free-energy
-difference beside the computed one (``benchmark_selectivity``); and the calibration errors.
+difference beside the computed one (``benchmark_selectivity``); the calibration errors; and where the jobs'
+gradients went, by stage of their paths (``benchmark_stages``).
 """
 
 from __future__ import annotations
@@ -19,11 +20,13 @@ from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
 from elimscan.analysis.benchmark_cases import (CATEGORIES, RULE_UNCERTAIN_CATEGORIES, SUBSTITUTION, HammettCase,
                                               IsotopeCase, OutcomeCase, RateCase, isomer_key)
 from elimscan.analysis.benchmark_summary import ModelSummary
+from elimscan.analysis.stagegradients import StageTotals
 from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
                                                  LevelScore, headline)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
 from elimscan.output.benchmark_baseshift import base_shift_section
 from elimscan.output.benchmark_selectivity import selectivity_section
+from elimscan.output.benchmark_stages import stage_section
 
 #: how a level is named in the page
 LEVEL_WORDS = {**LEVEL_WORDS_ASCII, "DFT//GFN2": "DFT//GFN2"}
@@ -361,8 +364,9 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
 
 
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
-                        levels: Sequence[str], models: Sequence[ModelSummary] = ()) -> str:
-    """Return the whole VALIDATION.md text of one benchmark run."""
+                        levels: Sequence[str], models: Sequence[ModelSummary] = (),
+                        stages: StageTotals | None = None) -> str:
+    """Return the whole VALIDATION.md text of one benchmark run (``stages``: where its jobs' gradients went)."""
     unfinished = info.n_jobs - info.n_jobs_finished
     lines = ["# elimscan reference benchmark", "",
              "Written by `validation/validate.py` (`make reference-cases`, or `make reference-cases-fast` for the fast "
@@ -420,4 +424,6 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
                   "k_H/k_D of the class on the named carbon (error in % of the measured value). Hammett: rho fitted "
                   "to the members' E2 channel barriers." + _dft_rate_words(calibration), "",
                   *calibration_rows(calibration)]
+    if stages is not None:
+        lines += stage_section(stages)
     return "\n".join(lines) + "\n"

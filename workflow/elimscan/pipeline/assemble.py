@@ -22,8 +22,8 @@ from elimscan.results.records import (ApproachRecord, BaseRecord, BetaHydrogenRe
                                       DftPointRecord, DftSaddleRecord, ErrorInfo, IsotopeEffectRecord, JobRecord,
                                       LeavingGroupRecord,
                                       MoleculeRecord, PathPointRecord, ProductRecord, RuleRecord,
-                                      SaddleCharacterRecord, ScanPointRecord, ScanRecord, SubstitutionRecord,
-                                      VerdictRecord)
+                                      SaddleCharacterRecord, ScanPointRecord, ScanRecord, StageGradientsRecord,
+                                      SubstitutionRecord, VerdictRecord)
 from elimscan.units import KCAL_MOL_PER_HARTREE
 
 
@@ -62,7 +62,7 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         if len(path.start_tops_hartree) > 1 else None,
         start_spread_kcal_mol=(round((max(path.start_tops_hartree) - min(path.start_tops_hartree))
                                         * KCAL_MOL_PER_HARTREE, 3) if len(path.start_tops_hartree) > 1 else None),
-        flags=path.flags, n_gradients=path.n_gradients,
+        flags=path.flags, n_gradients=path.n_gradients, stage_gradients=stage_gradient_records(path),
         path=tuple(PathPointRecord(coordinate_A=round(p.coordinate_A, 4), relative_energy_kcal_mol=kcal(p.energy_hartree),
                                    c_beta_h_A=round(p.distances["c_beta_h_A"], 4), base_h_A=round(p.distances["base_h_A"], 4),
                                    c_alpha_x_A=round(p.distances["c_alpha_x_A"], 4)) for p in path.points),
@@ -70,6 +70,11 @@ def _approach_record(product: Alkene, best: Periplanar, path: "PathResult | Erro
         saddle_file=path_file_name(job_id, class_id, approach, "saddle") if path.saddle.atoms is not None else None,
         complex_file=path_file_name(job_id, class_id, approach, "complex"),
         product_file=path_file_name(job_id, class_id, approach, "product") if path.points else None)
+
+
+def stage_gradient_records(path: PathResult) -> tuple[StageGradientsRecord, ...]:
+    """Return the records of each stage's energy+gradient evaluations of a path, in the order the stages ran."""
+    return tuple(StageGradientsRecord(stage=stage, gradients=count) for stage, count in path.stage_gradients.items())
 
 
 def _scan_record(scan: DihedralScan, global_min: float, xyz_file: str) -> ScanRecord:
@@ -132,6 +137,7 @@ def _substitution_record(numbers: JobNumbers, paths: JobPaths, job_id: str, zero
         complex_file=path_file_name(job_id, "substitution", "backside", "complex"),
         product_file=path_file_name(job_id, "substitution", "backside", "product") if path.points else None,
         complex_energy_kcal_mol=round((path.complex.energy_hartree - zero) * KCAL_MOL_PER_HARTREE, 3),
+        stage_gradients=stage_gradient_records(path),
         path_end_energy_kcal_mol=(round((path.points[-1].energy_hartree - zero) * KCAL_MOL_PER_HARTREE, 3)
                                   if path.points else None),
         elimination_fraction=round(sn2.shares[0], 4) if sn2.shares else None,

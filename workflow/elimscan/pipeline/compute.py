@@ -27,6 +27,7 @@ from elimscan.units import KCAL_MOL_PER_HARTREE
 from elimscan.geometry import dihedral_deg, wrap_degrees
 from elimscan.chem.betahydrogens import BetaHydrogenClass
 from elimscan.chem.perception import Substrate, perceive_substrate
+from elimscan.analysis.stagegradients import summed_counts
 from elimscan.drivers.budget import GradientBudget
 from elimscan.drivers.freeenergy import minimum_hessian
 from elimscan.drivers.paths import PathResult, compute_path, compute_substitution_path
@@ -373,4 +374,5 @@ def lowest_of_starts(tried: list[PathResult], combine: str = "lowest", temperatu
     saddles = () if combined is None else tuple(p.saddle for p in counted
                                                  if p.saddle.verified and p.saddle.hessian_eV_A2 is not None)
     return dataclasses.replace(best, start_tops_hartree=tops, combined_top_hartree=combined, start_saddles=saddles,
-                               n_gradients=sum(p.n_gradients for p in tried))
+                               n_gradients=sum(p.n_gradients for p in tried),
+                               stage_gradients=summed_counts(*(p.stage_gradients for p in tried)))

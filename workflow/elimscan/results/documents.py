@@ -67,7 +67,9 @@ RESULT_SCHEMA_NAME = "elimscan.result"
 #: whose base cluster changed its own bonds is dropped as complex_bonds_changed. Documents of 0.8.9 stay valid.
 #: 0.8.11 added one optional field: jobs[].replayed_points (single points a restarted batch job was served from its
 #: replay log). Documents of 0.8.10 stay valid.
-RESULT_SCHEMA_VERSION = "0.8.11"
+#: 0.8.12 added one optional field: stage_gradients of every E2 approach and of the SN2 record (the gradients of
+#: each stage of the path). Documents of 0.8.11 stay valid.
+RESULT_SCHEMA_VERSION = "0.8.12"
 BATCH_SCHEMA_NAME = "elimscan.batch"
 BATCH_SCHEMA_VERSION = "0.1.0"
 JOB_COPY_SCHEMA_NAME = "elimscan.batch-job"
@@ -157,7 +159,7 @@ class RunResult(Record):
     """The document results.json: provenance, resolved config, seeds, molecules and jobs."""
 
     schema_name: Literal["elimscan.result"] = RESULT_SCHEMA_NAME
-    schema_version: Literal["0.8.11", "0.8.10", "0.8.9", "0.8.8", "0.8.7", "0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
+    schema_version: Literal["0.8.12", "0.8.11", "0.8.10", "0.8.9", "0.8.8", "0.8.7", "0.8.6", "0.8.5", "0.8.4", "0.8.3", "0.8.2", "0.8.1", "0.8.0", "0.7.3", "0.7.2", "0.7.1", "0.7.0", "0.6.1", "0.6.0", "0.5.0", "0.4.0", "0.3.0"] = RESULT_SCHEMA_VERSION
     provenance: Provenance
     config: RunConfig
     seeds: Seeds

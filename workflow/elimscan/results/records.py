@@ -125,6 +125,18 @@ class PathPointRecord(Record):
     c_alpha_x_A: float
 
 
+class StageGradientsRecord(Record):
+    """The energy+gradient evaluations of one stage of a path, summed over the starts tried for its approach."""
+
+    stage: str = Field(description="complex relaxations, driven path, saddle search from the path, or a fallback")
+    gradients: int = Field(description="energy+gradient evaluations (points served from a replay log count too)")
+
+
+STAGE_GRADIENTS_WORDS = ("the gradients of each stage of the path (complex relaxations, driven path, saddle search "
+                         "and its checks, fallbacks), in the order they ran, summed over the starts tried; for an E2 "
+                         "approach they add up to n_gradients; empty before schema 0.8.12")
+
+
 class SaddleCharacterRecord(Record):
     """Where a verified E2 saddle sits: fractional C-H and C-X cleavage (Pauling bond orders) and a label."""
 
@@ -224,6 +236,7 @@ class ApproachRecord(Record):
         "lowest start's alone)")
     flags: tuple[str, ...] = ()
     n_gradients: int | None = None
+    stage_gradients: tuple[StageGradientsRecord, ...] = Field((), description=STAGE_GRADIENTS_WORDS)
     path: tuple[PathPointRecord, ...] = ()
     path_file: str | None = Field(None, description="extended XYZ of the path, relative to the output folder")
     saddle_file: str | None = Field(None, description="extended XYZ: saddle and frames along its imaginary mode")
@@ -312,6 +325,7 @@ class SubstitutionRecord(Record):
     complex_file: str | None = Field(None, description="extended XYZ of the complex the SN2 path starts from")
     product_file: str | None = Field(None, description="extended XYZ of the last point of the relaxed SN2 path")
     complex_energy_kcal_mol: float | None = Field(None, description="the SN2 complex above the zero of the barriers")
+    stage_gradients: tuple[StageGradientsRecord, ...] = Field((), description=STAGE_GRADIENTS_WORDS)
     path_end_energy_kcal_mol: float | None = Field(None, description="the last point of the relaxed SN2 path above the "
                                                    "zero of the barriers (the product side when reaches_products)")
     error: ErrorInfo | None = None
