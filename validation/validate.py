@@ -528,8 +528,12 @@ def main(argv: list[str] | None = None) -> int:
         print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)
         if args.base_model == info.frozen_model and args.dft is None and args.engine is None:  # no plug-in's toy numbers
             _write_record(page_path(args.subset, args.base_model).name, info, scores, levels, found, calibration)
-    print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores) else "(no series in these cases)")
-    print(page if args.no_write else "\n".join(line for line in page.splitlines() if line.startswith("- **")))
+    if args.no_write:  # the whole page, its series table included
+        print(page)
+    else:
+        print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores)
+              else "(no series in these cases)")
+        print("\n".join(line for line in page.splitlines() if line.startswith("- **")))
     return 0
 
 

@@ -83,9 +83,9 @@ def test_the_cases_where_the_computation_is_meant_to_add_most_are_counted_togeth
     together = headline([found[0], both, found[2]], "dE", ("ez-ratio", "base-size", "e2-vs-sn2"))
     assert (together.n, together.undecided, together.right, together.rule_right) == (2, 1, 0, 1)  # counted once
     page = validation_markdown(INFO, found, [], ["dE"])
-    assert ("(ez-ratio, leaving-group, base-size, e2-vs-sn2: the categories the project named, before the benchmark "
-            "ran, as those where the rule's call is ambiguous; a prior choice; 2 cases, each counted once), and the "
-            "other 1:") in page
+    assert ("(ez-ratio, leaving-group, base-size, e2-vs-sn2: the categories named from issue 18's words as those "
+            "where the rule's call is ambiguous, fixed when 48 of the full run's 111 jobs had been seen, not from "
+            "their outcomes; 2 cases, each counted once), and the other 1:") in page
     assert ("- **GFN2-xTB dE**: computed right 0/2 (on the rule's basis 0/2), rule right 1/2, undecided 1/2; the other "
             "cases: computed right 1/1 (on the rule's basis 1/1), rule right 1/1, undecided 0/1") in page
 

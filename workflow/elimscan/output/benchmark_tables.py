@@ -21,8 +21,8 @@ from elimscan.analysis.benchmark_cases import (CATEGORIES, RULE_UNCERTAIN_CATEGO
                                               IsotopeCase, OutcomeCase, RateCase, isomer_key)
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.stagegradients import StageTotals
-from elimscan.analysis.benchmark_scoring import (NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore, Headline,
-                                                 LevelScore, headline)
+from elimscan.analysis.benchmark_scoring import (NOT_COMPUTED, NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore,
+                                                 Headline, LevelScore, headline)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
 from elimscan.output.benchmark_baseshift import base_shift_section
 from elimscan.output.benchmark_selectivity import selectivity_section
@@ -160,7 +160,8 @@ def _level_cell(score: CaseScore, level: str) -> str:
     if ls.mean_e2_fraction is not None and score.case.expected.e2_percent is not None:
         judged.append(f"E2 {100 * ls.mean_e2_fraction:.0f} %")
     if judged:
-        parts.append("judged (mean over seeds; each seed is judged alone) " + ", ".join(judged))
+        parts.append(("judged (mean over seeds; each seed is judged alone) " if ls.outcome != NOT_COMPUTED else
+                      "shown, not judged (the finished seeds' mean) ") + ", ".join(judged))
     reasons = sorted({r for s in ls.seeds if s.outcome == ls.outcome for r in s.reasons})
     if ls.outcome != RIGHT and reasons:
         parts.append("why: " + "; ".join(reasons))
@@ -190,8 +191,11 @@ def series_rows(scores: Sequence[CaseScore], levels: Sequence[str]) -> list[str]
             cells = []
             for level in levels:
                 values = member(score, level).terminal_fractions
-                cells.append(f"{100 * sum(values) / len(values):.0f} %" + (
-                    f" ({100 * (max(values) - min(values)):.0f})" if len(values) > 1 else "") if values else "-")
+                cell = f"{100 * sum(values) / len(values):.0f} %" + (
+                    f" ({100 * (max(values) - min(values)):.0f})" if len(values) > 1 else "") if values else "-"
+                if values and score.levels[level].outcome == NOT_COMPUTED:
+                    cell += f" [{len(values)} of {len(score.levels[level].seeds)} seeds; not scored]"
+                cells.append(cell)
             rows.append(f"| {name} | {score.case.id} | {published} | " + " | ".join(cells) + " |")
     return rows
 
@@ -338,8 +342,8 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
     if uncertain:
         lines += ["", "Where the computation is meant to add most to the rule "
                   f"({', '.join(RULE_UNCERTAIN_CATEGORIES)}: "
-                  "the categories the project named, before the benchmark ran, as those where the rule's call is "
-                  "ambiguous; a prior choice; "
+                  "the categories named from issue 18's words as those where the rule's call is ambiguous, fixed "
+                  "when 48 of the full run's 111 jobs had been seen, not from their outcomes; "
                   f"{len(uncertain)} cases, each counted once), and the other {len(rest)}:", ""]
         lines += [f"- **{LEVEL_WORDS[level]}**: {headline_line(uncertain, level)}; the other cases: "
                   + (headline_line(rest, level) if rest else "none") for level in levels]
@@ -376,7 +380,8 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              f"- base model: `{info.base_model}` ({info.base_model_words}), for every base of every case",
              freeze_line(info),
              f"- cases: {info.subset}; seeds {', '.join(map(str, info.seeds))}; {info.n_jobs_finished} of {info.n_jobs} "
-             f"jobs finished" + (f" (**{unfinished} not finished: those cases count as not computed**)" if unfinished else ""),
+             f"jobs finished" + (f" (**{unfinished} not finished: those seeds count as not computed; a case needs a "
+                                  "majority of its seeds**)" if unfinished else ""),
              f"- wall time: {_duration(info.compute_seconds)} over the {info.n_compute_runs} invocation(s) that computed "
              f"in this work folder, pauses left out" + _stopped_words(info) + (f" (code: commit {', '.join(f'`{c}`' for c in sorted(set(info.compute_commits)))})"
                                       if info.compute_commits else "")
@@ -395,8 +400,10 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              "makes that seed not computed there. Products are compared "
              "as exact isomers (E/Z compared, tetrahedral stereo not). **right**: the expected major product, every "
              f"published share within ±{SHARE_TOLERANCE_POINTS:g} percentage points (alkene shares of the alkenes, E2 of "
-             "E2 + SN2; a published share under 20 % is met by any computed share from 0 up), and the expected path "
-             "geometry where the case names one. **undecided**: the top products lie within the method's uncertainty "
+             "E2 + SN2; a published share under 20 % is met by any computed share from 0 to the published one + 20), "
+             "and the expected path geometry where the case names one. **wrong**, before anything else: a published "
+             "share missed by more than that, however close the top products lie. "
+             "**undecided**: the top products lie within the method's uncertainty "
              "(best barriers closer than 1 kcal/mol), or, where the case names the geometry, the best syn and anti paths "
              "do; it counts as not right. Each "
              "case ran once per seed; the majority of seeds decides, a split is undecided, and the mix shown is the "
@@ -404,7 +411,10 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              "hydrogen, Zaitsev or Hofmann, textbook E2/SN2 call) is scored on the same cases, on its major product "
              "and its anti path (a textbook call of a mixture on a case that asks for the E2 share is undecided); it "
              "names no shares, so the computed side is also counted on the rule's basis (major product and path "
-             "geometry only); a case without a published major is not scored for either.", ""]
+             "geometry only); a case without a published major is scored on its shares on the computed side only, "
+             "neither for the rule nor on the rule's basis. The rule's call is read from each finished job (its "
+             "conformers and scans decide which hydrogens can reach anti), so a case whose jobs have not finished "
+             "has no rule call yet either.", ""]
     if scores:
         lines += _test_sections(info, scores, levels)
     else:
