@@ -154,7 +154,8 @@ def _level_cell(score: CaseScore, level: str) -> str:
     if majors:
         parts.append("top " + ", ".join(_code(m) + (f" ({n} seed{'s' if n > 1 else ''})" if len(majors) > 1 else "")
                                          for m, n in majors.most_common()))
-        parts.append("mix " + ", ".join(f"{_code(p)} {100 * f:.0f} %" for p, f in ls.mean_shares.items()))
+        parts.append("mix " + (", ".join(f"{_code(p)} {100 * f:.0f} %" for p, f in ls.mean_shares.items())
+                                or "none counted (no seed has a barrier for every product)"))
     judged = [f"{_code(s)} {100 * ls.mean_alkene_shares[isomer_key(s)]:.0f} % of alkenes"
               for s in score.case.expected.alkene_shares_percent if isomer_key(s) in ls.mean_alkene_shares]
     if ls.mean_e2_fraction is not None and score.case.expected.e2_percent is not None:
