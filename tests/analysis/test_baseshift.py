@@ -109,6 +109,25 @@ def test_a_shift_is_resolved_only_with_the_published_sign_beyond_the_seed_spread
     assert at.size_ok and not beyond.size_ok
 
 
+def test_a_shift_of_the_right_size_from_two_members_that_both_miss_shows_their_errors():
+    # ethoxide: terminal 1.8 kcal/mol below the internal alkene (published +RT ln(79/21) = +0.785 above); the bulky
+    # base 3.2 below (published -RT ln(73/27) = -0.589): the shift -1.40 matches the published -1.37 within 1
+    # kcal/mol while each member misses its own published difference by about 2.6 kcal/mol
+    (pair,) = base_shifts([_scored("eto", "ethoxide", [-1.8, -1.8]), _scored("tbuo", "tert-butoxide", [-3.2, -3.2])],
+                          ["dE"])
+    level = pair.levels["dE"]
+    assert level.size_ok and level.shift_kcal_mol == pytest.approx(-1.40, abs=1e-9)
+    assert level.small_error_kcal_mol == pytest.approx(-1.8 - RT_298 * math.log(79 / 21), abs=1e-6)
+    assert level.bulky_error_kcal_mol == pytest.approx(-3.2 + RT_298 * math.log(73 / 27), abs=1e-6)
+    members = [_scored("eto", "ethoxide", [-1.8, -1.8]), _scored("tbuo", "tert-butoxide", [-3.2, -3.2])]
+    row = base_shift_section(members, ["dE"], LEVEL_WORDS)[-1]
+    assert row.endswith("; the members' own errors -2.58 and -2.61 (they cancel in the shift) |"), row
+    # members within 1 kcal/mol of their own published values: nothing added (the row of the test above)
+    assert "own errors" not in base_shift_section([_scored("eto", "ethoxide", [0.5, 0.7]),
+                                                   _scored("tbuo", "tert-butoxide", [-1.0, -0.9])], ["dE"],
+                                                  LEVEL_WORDS)[-1]
+
+
 def test_pairs_need_ethoxide_and_a_base_the_rule_calls_bulky():
     small = _scored("eto", "ethoxide", [0.5, 0.7])
     bulky = _scored("tbuo", "tert-butoxide", [-1.0, -0.9])

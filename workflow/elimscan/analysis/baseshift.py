@@ -99,6 +99,10 @@ class LevelShift:
     #: mean terminal share of the alkenes of each member (0-1), for reading
     small_terminal_fraction: float | None
     bulky_terminal_fraction: float | None
+    #: each member's own error: its mean ddG++(terminal) minus its published one (kcal/mol), None without both; two
+    #: large errors of one sign cancel in the shift, so a shift of the right size can hide members that both miss
+    small_error_kcal_mol: float | None = None
+    bulky_error_kcal_mol: float | None = None
 
     @property
     def size_ok(self) -> bool:
@@ -111,25 +115,29 @@ def _mean(values: Sequence[float]) -> float | None:
     return sum(values) / len(values) if values else None
 
 
-def level_shift(small: Member, bulky: Member, published_kcal_mol: float | None) -> LevelShift:
-    """Return one level's shift of a pair of members against the published shift (kcal/mol)."""
+def level_shift(small: Member, bulky: Member, published_kcal_mol: float | None,
+                published_members_kcal_mol: tuple[float | None, float | None] = (None, None)) -> LevelShift:
+    """Return one level's shift of a pair of members against the published shift (kcal/mol), with each member's
+    own error against its published ddG++(terminal) (``published_members_kcal_mol``: small, bulky) when given."""
     shares = (_mean(small.terminal_fractions), _mean(bulky.terminal_fractions))
     if not (small.computed and bulky.computed):
         return LevelShift(None, None, "not computed", None, *shares)
     if small.n_unbounded or bulky.n_unbounded:
         return LevelShift(None, None, "unbounded", None, *shares)
-    shift = _mean(bulky.values_kcal_mol) - _mean(small.values_kcal_mol)
+    means = (_mean(small.values_kcal_mol), _mean(bulky.values_kcal_mol))
+    errors = tuple(None if p is None else m - p for m, p in zip(means, published_members_kcal_mol))
+    shift = means[1] - means[0]
     spreads = [max(v) - min(v) for v in (small.values_kcal_mol, bulky.values_kcal_mol)]
     spread = max(spreads) if min(len(small.values_kcal_mol), len(bulky.values_kcal_mol)) > 1 else None
     if published_kcal_mol is None:
-        return LevelShift(shift, spread, None, None, *shares)
+        return LevelShift(shift, spread, None, None, *shares, *errors)
     if shift * published_kcal_mol <= 0.0:
         verdict = WRONG_SIGN
     elif spread is None:
         verdict = NO_SPREAD
     else:
         verdict = RESOLVED if abs(shift) > spread else WITHIN_SPREAD
-    return LevelShift(shift, spread, verdict, shift - published_kcal_mol, *shares)
+    return LevelShift(shift, spread, verdict, shift - published_kcal_mol, *shares, *errors)
 
 
 @dataclass(frozen=True)
@@ -167,7 +175,8 @@ def base_shifts(scores: Sequence[CaseScore], levels: Sequence[str]) -> list[Base
                 out.append(BaseShift(
                     substrate, small.case.id, bulky.case.id, published_terminal_percent(small.case),
                     published_terminal_percent(bulky.case), published, small.case.from_memory or bulky.case.from_memory,
-                    {lv: level_shift(member(small, lv), member(bulky, lv), published) for lv in levels}))
+                    {lv: level_shift(member(small, lv), member(bulky, lv), published, (p_small, p_bulky))
+                     for lv in levels}))
     return out
 
 

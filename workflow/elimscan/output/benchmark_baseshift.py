@@ -16,7 +16,9 @@ INTRO = ("For each substrate run with ethoxide and with a base the rule calls bu
          "and larger than the seed spread (the largest max − min of ΔΔG‡ over either member's seeds); **within the "
          "seed spread**: the sign, not beyond the spread; **no seed spread**: the sign, one seed in a member; **wrong "
          "sign**: the other way. A member needs a majority of its seeds. The size is off when the shift misses the "
-         f"published one by more than {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol. Every published shift points to the "
+         f"published one by more than {METHOD_UNCERTAINTY_KCAL_MOL:g} kcal/mol; where a member's own ΔΔG‡ misses "
+         "its published one by more than that, both members' errors are shown: a shift of the right size can come "
+         "from two errors that cancel. Every published shift points to the "
          "terminal alkene, so any steric bias gets the sign: the sign alone is agreement, not proof. The published "
          "tert-butoxide values were measured in tert-butanol, the cases are computed in ethanol's continuum "
          "(validation/cases.yaml); each member's source is in the test-case table.")
@@ -34,6 +36,10 @@ def _cell(shift: LevelShift) -> str:
         text += f"; **{shift.verdict}**"
     if shift.size_off_kcal_mol is not None and not shift.size_ok:
         text += f"; size off by {shift.size_off_kcal_mol:+.2f}"
+    errors = (shift.small_error_kcal_mol, shift.bulky_error_kcal_mol)
+    if None not in errors and max(abs(e) for e in errors) > METHOD_UNCERTAINTY_KCAL_MOL:
+        text += (f"; the members' own errors {errors[0]:+.2f} and {errors[1]:+.2f}"
+                 + (" (they cancel in the shift)" if shift.size_ok else ""))
     return text
 
 
