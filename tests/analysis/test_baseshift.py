@@ -121,7 +121,7 @@ def test_a_shift_of_the_right_size_from_two_members_that_both_miss_shows_their_e
     assert level.bulky_error_kcal_mol == pytest.approx(-3.2 + RT_298 * math.log(73 / 27), abs=1e-6)
     members = [_scored("eto", "ethoxide", [-1.8, -1.8]), _scored("tbuo", "tert-butoxide", [-3.2, -3.2])]
     row = base_shift_section(members, ["dE"], LEVEL_WORDS)[-1]
-    assert row.endswith("; the members' own errors -2.58 and -2.61 (they cancel in the shift) |"), row
+    assert row.endswith("; **resolved**; the members' own errors -2.58 and -2.61 |"), row
     # members within 1 kcal/mol of their own published values: nothing added (the row of the test above)
     assert "own errors" not in base_shift_section([_scored("eto", "ethoxide", [0.5, 0.7]),
                                                    _scored("tbuo", "tert-butoxide", [-1.0, -0.9])], ["dE"],

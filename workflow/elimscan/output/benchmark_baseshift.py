@@ -38,8 +38,7 @@ def _cell(shift: LevelShift) -> str:
         text += f"; size off by {shift.size_off_kcal_mol:+.2f}"
     errors = (shift.small_error_kcal_mol, shift.bulky_error_kcal_mol)
     if None not in errors and max(abs(e) for e in errors) > METHOD_UNCERTAINTY_KCAL_MOL:
-        text += (f"; the members' own errors {errors[0]:+.2f} and {errors[1]:+.2f}"
-                 + (" (they cancel in the shift)" if shift.size_ok else ""))
+        text += f"; the members' own errors {errors[0]:+.2f} and {errors[1]:+.2f}"
     return text
 
 
