@@ -202,7 +202,8 @@ def judge_mix(expected: Expected, mix: LevelMix | None, major_only: bool = False
     # close call below is about which product is major, not a licence for a mix far from the measured one
     share_misses = [] if major_only else _share_misses(expected, mix)
     if share_misses:
-        return WRONG, tuple(share_misses)
+        wrong_major = expected.major is not None and mix.major != isomer_key(expected.major)
+        return WRONG, ((f"major {mix.major}, expected {expected.major}",) if wrong_major else ()) + tuple(share_misses)
     if expected.major is not None and mix.undecided:
         return UNDECIDED, (f"top products within the method's uncertainty (computed top: {mix.major})",)
     if (expected.approach is not None and mix.syn_minus_anti_kcal_mol is not None
