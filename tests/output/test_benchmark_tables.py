@@ -199,3 +199,23 @@ def test_the_progress_text_counts_jobs_estimates_the_rest_and_names_who_computes
     replayed = progress_text("x", 3, 3, 0, 900.0, None, "/w", n_replayed=2)
     assert ("15 min of job time (2 of the jobs started over from a replay log after an interruption: their time is "
             "their last run's, so the sum and the estimates from it are low).") in replayed
+
+
+def test_a_rule_cell_that_names_the_right_product_by_the_wrong_path_says_why():
+    # the case asks for a syn elimination; the rule names the expected alkene but always takes the anti path
+    syn = record([("C1-H5", "syn", "C1=CC2CCC1C2", 0.0, 1), ("C1-H6", "anti", "C1=CC2CCC1C2", 3.0, 1)],
+                 rule_major="C1=CC2CCC1C2")
+    scored = score_case(case(major="C1=CC2CCC1C2", approach="syn", seeds=(1,)), {1: syn}, (1,), ["dE"])
+    row = next(line for line in validation_markdown(INFO, [scored], [], ["dE"]).splitlines()
+               if line.startswith("| bookkeeping |"))
+    assert "| **wrong**: `C1=CC2CCC1C2`; why: the rule's path is anti, the case's syn |" in row
+    assert "| **right**; top `C1=CC2CCC1C2`" in row  # the computed side took the syn path
+
+
+def test_the_experiment_cell_spells_each_isomer_as_the_computed_cells_do():
+    # one alkene, two spellings: the case's (E)-2-pentene written from the other end comes out in the canonical form
+    spelt = record([("C3-H9", "anti", "C/C=C/CC", 0.0, 1), ("C0-H5", "anti", "C=CCCC", 2.0, 3)])
+    scored = score_case(case(major="CC/C=C/C", shares={"CC/C=C/C": 60}, seeds=(1,)), {1: spelt}, (1,), ["dE"])
+    row = next(line for line in validation_markdown(INFO, [scored], [], ["dE"]).splitlines()
+               if line.startswith("| bookkeeping |"))
+    assert row.startswith("| bookkeeping | major `C/C=C/CC`; `C/C=C/CC` 60 % of alkenes — ") and "CC/C=C/C" not in row

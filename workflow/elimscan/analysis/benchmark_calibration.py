@@ -176,7 +176,9 @@ def score_calibration(case: CalibrationCase, jobs: Mapping[str, Mapping[int, Map
         pairs = [isotope_effect(mine[s], case.beta_carbon_indices) if s in mine else None for s in seeds]
         estimates = (_estimate("harmonic", [p[0] if p else None for p in pairs], case.kh_kd, relative=True),
                      _estimate("with Wigner tunnelling", [p[1] if p else None for p in pairs], case.kh_kd, relative=True))
-        return CalibrationScore(case, f"k_H/k_D, D on {case.beta_carbon_smarts}", "", case.kh_kd, estimates, "%")
+        measured_on = f" (measured on {case.measured_on})" if case.measured_on else ""
+        return CalibrationScore(case, f"k_H/k_D, D on {case.beta_carbon_smarts}{measured_on}", "", case.kh_kd,
+                                estimates, "%")
     assert isinstance(case, HammettCase)
     estimates = []
     for level in CALIBRATION_LEVELS:

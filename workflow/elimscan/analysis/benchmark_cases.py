@@ -98,6 +98,8 @@ class IsotopeCase(_Computed):
     substrate: Molecule
     beta_carbon_smarts: str = Field(min_length=1)
     kh_kd: float = Field(gt=0, alias="kH_kD")
+    #: where the measured substrate's deuteration differs from the computed one's: what was measured, in words
+    measured_on: str | None = Field(None, min_length=1)
     #: 0-based indices of the named beta carbon(s) in the substrate SMILES (filled in by parse_cases)
     beta_carbon_indices: tuple[int, ...] = ()
 

@@ -203,7 +203,8 @@ def judge_mix(expected: Expected, mix: LevelMix | None, major_only: bool = False
     share_misses = [] if major_only else _share_misses(expected, mix)
     if share_misses:
         wrong_major = expected.major is not None and mix.major != isomer_key(expected.major)
-        return WRONG, ((f"major {mix.major}, expected {expected.major}",) if wrong_major else ()) + tuple(share_misses)
+        named = (f"major {mix.major}, expected {isomer_key(expected.major)}",) if wrong_major else ()
+        return WRONG, named + tuple(share_misses)
     if expected.major is not None and mix.undecided:
         return UNDECIDED, (f"top products within the method's uncertainty (computed top: {mix.major})",)
     if (expected.approach is not None and mix.syn_minus_anti_kcal_mol is not None
@@ -212,7 +213,7 @@ def judge_mix(expected: Expected, mix: LevelMix | None, major_only: bool = False
                            f"(syn - anti {mix.syn_minus_anti_kcal_mol:+.2f} kcal/mol)",)
     reasons = []
     if expected.major is not None and mix.major != isomer_key(expected.major):
-        reasons.append(f"major {mix.major}, expected {expected.major}")
+        reasons.append(f"major {mix.major}, expected {isomer_key(expected.major)}")
     if expected.approach is not None and mix.main_approach != expected.approach:
         reasons.append(f"main path {mix.main_approach}, expected {expected.approach}")
     return (WRONG, tuple(reasons)) if reasons else (RIGHT, ())
@@ -225,8 +226,8 @@ def _share_misses(expected: Expected, mix: LevelMix) -> list[str]:
     for smiles, percent in expected.alkene_shares_percent.items():
         got = 100.0 * mix.alkene_shares.get(isomer_key(smiles), 0.0)
         if abs(got - percent) > SHARE_TOLERANCE_POINTS:
-            misses.append(f"{smiles} {got:.1f} % of alkenes, published {percent:g} % ({abs(got - percent):.1f} "
-                          "points off)")
+            misses.append(f"{isomer_key(smiles)} {got:.1f} % of alkenes, published {percent:g} % "
+                          f"({abs(got - percent):.1f} points off)")
     if expected.e2_percent is not None and abs(100.0 * mix.e2_fraction - expected.e2_percent) > SHARE_TOLERANCE_POINTS:
         got = 100.0 * mix.e2_fraction
         misses.append(f"E2 {got:.1f} %, published {expected.e2_percent:g} % ({abs(got - expected.e2_percent):.1f} "

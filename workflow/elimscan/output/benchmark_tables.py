@@ -21,8 +21,8 @@ from elimscan.analysis.benchmark_cases import (CATEGORIES, RULE_UNCERTAIN_CATEGO
                                               IsotopeCase, OutcomeCase, RateCase, isomer_key)
 from elimscan.analysis.benchmark_summary import ModelSummary
 from elimscan.analysis.stagegradients import StageTotals
-from elimscan.analysis.benchmark_scoring import (NOT_COMPUTED, NOT_SCORED, RIGHT, SHARE_TOLERANCE_POINTS, CaseScore,
-                                                 Headline, LevelScore, headline)
+from elimscan.analysis.benchmark_scoring import (NOT_COMPUTED, NOT_SCORED, RIGHT, RULE_APPROACH, SHARE_TOLERANCE_POINTS,
+                                                 WRONG, CaseScore, Headline, LevelScore, headline)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
 from elimscan.output.benchmark_baseshift import base_shift_section
 from elimscan.output.benchmark_selectivity import selectivity_section
@@ -128,9 +128,10 @@ def _experiment(score: CaseScore) -> str:
     e = score.case.expected
     parts = []
     if e.major is not None:
-        parts.append(f"major {_code(e.major)}" if e.major != SUBSTITUTION else "major substitution")
+        parts.append(f"major {_code(isomer_key(e.major))}" if e.major != SUBSTITUTION else "major substitution")
     if e.alkene_shares_percent:
-        parts.append(", ".join(f"{_code(s)} {v:g} %" for s, v in e.alkene_shares_percent.items()) + " of alkenes")
+        parts.append(", ".join(f"{_code(isomer_key(s))} {v:g} %" for s, v in e.alkene_shares_percent.items())
+                     + " of alkenes")
     if e.e2_percent is not None:
         parts.append(f"E2 {e.e2_percent:g} %")
     if e.approach is not None:
@@ -143,6 +144,12 @@ def _rule_cell(score: CaseScore) -> str:
     calls = Counter(score.rule_calls)
     shown = ", ".join(_code(c) + (f" ({n})" if len(calls) > 1 else "") for c, n in calls.most_common()) or "-"
     outcome = "not scored (no published major)" if score.rule_outcome == NOT_SCORED else score.rule_outcome
+    expected = score.case.expected
+    if (score.rule_outcome == WRONG and expected.major is not None and calls
+            and calls.most_common(1)[0][0] == isomer_key(expected.major)
+            and expected.approach not in (None, RULE_APPROACH)):
+        # the right product by the wrong path: say so, or the cell shows the expected product beside "wrong"
+        return f"**{outcome}**: {shown}; why: the rule's path is {RULE_APPROACH}, the case's {expected.approach}"
     return f"**{outcome}**: {shown}"
 
 
@@ -156,7 +163,7 @@ def _level_cell(score: CaseScore, level: str) -> str:
                                          for m, n in majors.most_common()))
         parts.append("mix " + (", ".join(f"{_code(p)} {100 * f:.0f} %" for p, f in ls.mean_shares.items())
                                 or "none counted (no seed has a barrier for every product)"))
-    judged = [f"{_code(s)} {100 * ls.mean_alkene_shares[isomer_key(s)]:.0f} % of alkenes"
+    judged = [f"{_code(isomer_key(s))} {100 * ls.mean_alkene_shares[isomer_key(s)]:.0f} % of alkenes"
               for s in score.case.expected.alkene_shares_percent if isomer_key(s) in ls.mean_alkene_shares]
     if ls.mean_e2_fraction is not None and score.case.expected.e2_percent is not None:
         judged.append(f"E2 {100 * ls.mean_e2_fraction:.0f} %")
@@ -353,7 +360,8 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
               *count_rows(scores, levels, [c for c in CATEGORIES if any(c in s.case.category for s in scores)])]
     lines += ["", "## Test cases", "",
               "| case | experiment — source | rule | " + " | ".join(LEVEL_WORDS[lv] for lv in levels)
-              + " | seed spread (points) | job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
+              + " | seed spread (points: largest max − min of any product's share of all products) "
+              "| job time |", "|---|---|---|" + "---|" * len(levels) + "---|---|"]
     for score in scores:
         seen = " (outcome seen before the freeze)" if score.case.id in info.seen_before_freeze else ""
         lines.append(f"| {score.case.id}{seen} | {_experiment(score)} | {_rule_cell(score)} | "
@@ -362,7 +370,9 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
                        f"{_duration(score.wall_seconds)} |")
     if any(s.case.series for s in scores):
         lines += ["", "## Series: terminal-alkene share of the alkenes", "",
-                  "Mean over seeds (spread in points in brackets).", "", *series_rows(scores, levels)]
+                  "Mean over seeds of the terminal alkene's share of the alkenes (in brackets its max − min over "
+                  "seeds, points; the seed spread column of the test cases measures shares of all products "
+                  "instead).", "", *series_rows(scores, levels)]
     shift = base_shift_section(scores, levels, LEVEL_WORDS)
     selectivity = selectivity_section(scores, levels, LEVEL_WORDS)
     return lines + (["", *shift] if shift else []) + (["", *selectivity] if selectivity else [])
@@ -404,9 +414,11 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
              "E2 + SN2; a published share under 20 % is met by any computed share from 0 to the published one + 20), "
              "and the expected path geometry where the case names one. **wrong**, before anything else: a published "
              "share missed by more than that, however close the top products lie. "
-             "**undecided**: the top products lie within the method's uncertainty "
-             "(best barriers closer than 1 kcal/mol), or, where the case names the geometry, the best syn and anti paths "
-             "do; it counts as not right. Each "
+             "**undecided**: the top products lie within the method's uncertainty: their best single paths' barriers "
+             "closer than 1 kcal/mol (path degeneracy not counted: a product that six equivalent hydrogens lead to is "
+             "compared on its best one, although the mix counts all six), or, where the case names the geometry, the "
+             "best syn and anti paths' effective barriers (degeneracy counted, minus RT ln g) closer than 1 kcal/mol; "
+             "it counts as not right. Each "
              "case ran once per seed; the majority of seeds decides, a split is undecided, and the mix shown is the "
              "mean over seeds, its spread the largest max − min of a share (points). The rule (anti-periplanar "
              "hydrogen, Zaitsev or Hofmann, textbook E2/SN2 call) is scored on the same cases, on its major product "
