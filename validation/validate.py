@@ -33,6 +33,7 @@ from pathlib import Path
 
 import yaml
 
+from elimscan.analysis.barrierfloor import barrier_floor
 from elimscan.analysis.benchmark_calibration import score_calibration
 from elimscan.analysis.benchmark_cases import OutcomeCase, parse_cases
 from elimscan.analysis.benchmark_jobs import (DFT_CALIBRATION_FUNCTIONALS, BatchGroup, batch_groups, benchmark_jobs,
@@ -522,7 +523,8 @@ def main(argv: list[str] | None = None) -> int:
                    records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
                    args.records.is_relative_to(HERE.parent) else str(args.records),
                    **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))
-    page = validation_markdown(info, scores, calibration, levels, models, stage_totals(found.finished))
+    page = validation_markdown(info, scores, calibration, levels, models, stage_totals(found.finished),
+                               barrier_floor(found.records))
     if not args.no_write:
         write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
         print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)

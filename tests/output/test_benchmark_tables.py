@@ -219,3 +219,13 @@ def test_the_experiment_cell_spells_each_isomer_as_the_computed_cells_do():
     row = next(line for line in validation_markdown(INFO, [scored], [], ["dE"]).splitlines()
                if line.startswith("| bookkeeping |"))
     assert row.startswith("| bookkeeping | major `C/C=C/CC`; `C/C=C/CC` 60 % of alkenes — ") and "CC/C=C/C" not in row
+
+
+def test_the_page_says_how_many_electronic_barriers_lie_above_zero():
+    from elimscan.analysis.barrierfloor import barrier_floor
+
+    low = record([("C3-H9", "anti", "C/C=C/C", -0.5, 1), ("C0-H5", "anti", "C=CCC", 2.0, 3)])
+    page = validation_markdown(INFO, scores(), [], ["dE"], floor=barrier_floor({"bookkeeping": {1: low}}))
+    assert "## Electronic barriers above zero" in page and "**1 lie above zero**" in page
+    assert "| bookkeeping | 1 | C3-H9 anti to C/C=C/C | -0.50 |" in page
+    assert "## Electronic barriers above zero" not in validation_markdown(INFO, scores(), [], ["dE"])

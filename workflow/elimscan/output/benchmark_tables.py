@@ -5,8 +5,9 @@ rule right Y/M, undecided Z/N", then per category; the per-case table (experimen
 rule's call, the computed call per level with the mean mix over seeds, right/wrong/undecided, the spread
 over seeds); the terminal-alkene share of each series' members; the bulky-base shift (``benchmark_baseshift``);
 each published share as a free-energy
-difference beside the computed one (``benchmark_selectivity``); the calibration errors; and where the jobs'
-gradients went, by stage of their paths (``benchmark_stages``).
+difference beside the computed one (``benchmark_selectivity``); the calibration errors; whether the counted
+electronic barriers lie above zero (``benchmark_floor``); and where the jobs' gradients went, by stage of their paths
+(``benchmark_stages``).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
+from elimscan.analysis.barrierfloor import BarrierFloor
 from elimscan.analysis.baseshift import member, published_terminal_percent
 from elimscan.analysis.benchmark_calibration import DFT_LEVEL, CalibrationScore
 from elimscan.analysis.benchmark_cases import (CATEGORIES, RULE_UNCERTAIN_CATEGORIES, SUBSTITUTION, HammettCase,
@@ -25,6 +27,7 @@ from elimscan.analysis.benchmark_scoring import (NOT_COMPUTED, NOT_SCORED, RIGHT
                                                  WRONG, CaseScore, Headline, LevelScore, headline)
 from elimscan.output.benchmark_note import LEVEL_WORDS_ASCII
 from elimscan.output.benchmark_baseshift import base_shift_section
+from elimscan.output.benchmark_floor import floor_section
 from elimscan.output.benchmark_selectivity import selectivity_section
 from elimscan.output.benchmark_stages import stage_section
 
@@ -380,7 +383,7 @@ def _test_sections(info: RunInfo, scores: Sequence[CaseScore], levels: Sequence[
 
 def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration: Sequence[CalibrationScore],
                         levels: Sequence[str], models: Sequence[ModelSummary] = (),
-                        stages: StageTotals | None = None) -> str:
+                        stages: StageTotals | None = None, floor: BarrierFloor | None = None) -> str:
     """Return the whole VALIDATION.md text of one benchmark run (``stages``: where its jobs' gradients went)."""
     unfinished = info.n_jobs - info.n_jobs_finished
     lines = ["# elimscan reference benchmark", "",
@@ -447,6 +450,8 @@ def validation_markdown(info: RunInfo, scores: Sequence[CaseScore], calibration:
                   "k_H/k_D of the class on the named carbon (error in % of the measured value). Hammett: rho fitted "
                   "to the members' E2 channel barriers." + _dft_rate_words(calibration), "",
                   *calibration_rows(calibration)]
+    if floor is not None:
+        lines += floor_section(floor)
     if stages is not None:
         lines += stage_section(stages)
     return "\n".join(lines) + "\n"
