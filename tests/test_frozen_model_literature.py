@@ -92,12 +92,20 @@ def test_free_barriers_match_the_measured_rates():
         assert abs(mean - eyring_kcal_mol(k2, temperature)) <= 3.0, (case, mean)
 
 
-def test_isotope_effects_match_experiment():
-    # harmonic Bigeleisen-Mayer k_H/k_D, mean of three seeds: measured 2026-12-05 5.34 (-24.8 %, inside the 25 %
-    # by a hair) and 5.28 (-21.3 %); with Wigner's tunnelling correction 6.30 and 6.10 (-11 %, -9 %)
-    for case, measured in ISOTOPE_EFFECTS.items():
-        mean = _estimate(case, "harmonic")["mean"]
-        assert abs(mean - measured) <= 0.25 * measured, (case, mean)
+@pytest.mark.parametrize("case", [
+    pytest.param("phenethyl-bromide-d2-kie", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+        "measured (validation/CALIBRATION.md, 2026-12-05, three seeds, code 8644187): harmonic k_H/k_D per seed "
+        "5.219, 5.456, 5.348 against 7.1: seed 1 is 26.5 % low, outside the 25 % (the mean, 5.34 or 24.8 % low, "
+        "lay inside by 0.2 points, less than the seeds' spread of 0.24); with Wigner's tunnelling correction "
+        "6.04-6.53"))),
+    "isopropyl-bromide-d6-kie"])
+def test_isotope_effect_matches_experiment_in_every_seed(case):
+    # harmonic Bigeleisen-Mayer k_H/k_D within 25 % of the measured value in each of the three seeds, not only on
+    # their mean: a mean inside by less than the seeds' spread is a knife-edge. Measured 2026-12-05: the d6 case
+    # 5.165-5.438 against 6.7 (worst 22.9 % low)
+    measured = ISOTOPE_EFFECTS[case]
+    values = _estimate(case, "harmonic")["per_seed"]
+    assert all(abs(v - measured) <= 0.25 * measured for v in values), (case, values)
 
 
 @pytest.mark.xfail(strict=True, raises=AssertionError, reason=(

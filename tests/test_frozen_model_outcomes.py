@@ -9,9 +9,11 @@ expected failure carrying the measured numbers.
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import pytest
+import scipy.constants as sc
 import yaml
 
 from elimscan.output.files import load_benchmark_record
@@ -57,27 +59,41 @@ MEASURED = "validation/VALIDATION-fast.md, 2026-12-05, three seeds"
 
 
 @pytest.mark.parametrize("level", [
-    "dE",
+    pytest.param("dE", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+        f"measured ({MEASURED}): 1-butene 4.2, 16.9 and 38.5 % of the alkenes at dE in seeds 1-3 against at most "
+        "35 % (published 19 %): seed 3 is over the bound (the mean, 19.9 %, passed; one seed in three above the "
+        "bound with a spread of 34 points is no check on the mean)"))),
     pytest.param("dG", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
-        f"measured ({MEASURED}): 1-butene 36.1 % of the alkenes at dG (quasi-RRHO) against at most 35 % (published "
-        "19 %); the seeds' shares spread over 70 points (one seed puts 1-butene on top); at dE 19.9 %")))])
-def test_one_butene_is_a_minor_product_of_2_bromobutane(level):
-    # Zaitsev with a small base: 19 % 1-butene published; the issue asks for at most 35 % (mean over three seeds)
-    share = _level(BUTENE_CASE, level)["mean_alkene_shares"][ONE_BUTENE]
-    assert share <= ONE_BUTENE_BOUND, (level, share)
+        f"measured ({MEASURED}): 1-butene 10.0, 18.5 and 79.7 % of the alkenes at dG (quasi-RRHO) in seeds 1-3 "
+        "against at most 35 % (published 19 %): seed 3 puts 1-butene on top; mean 36.1 %")))])
+def test_one_butene_is_a_minor_product_of_2_bromobutane_in_every_seed(level):
+    # Zaitsev with a small base: 19 % 1-butene published; the issue asks for at most 35 %. Judged seed by seed (as
+    # the E/Z test below): a mean that passes while one seed of three fails rests on the seeds' spread
+    for shares in _level(BUTENE_CASE, level)["seed_shares"]:
+        assert shares is not None, level
+        alkenes = sum(v for k, v in shares.items() if k != "substitution")
+        assert alkenes > 0 and shares.get(ONE_BUTENE, 0.0) / alkenes <= ONE_BUTENE_BOUND, (level, shares)
 
 
-#: the least share of the (E) isomer among the 2-butenes that counts as "E major" in a seed (common practice: a
-#: near tie is no call)
-E_OF_2_BUTENES_LEAST = 0.6
+#: the least share of the (E) isomer among the 2-butenes that counts as "E major" in a seed: the share that puts
+#: the (Z) isomer's effective barrier 1 kcal/mol above the (E)'s at 298.15 K, the gap under which elimscan calls
+#: two products undecided (analysis.rule.METHOD_UNCERTAINTY_KCAL_MOL; a smaller lead is no call, common practice)
+E_OF_2_BUTENES_LEAST = 1.0 / (1.0 + math.exp(-1.0 / (sc.R * 298.15 / sc.calorie / 1e3)))
 
 
-@pytest.mark.parametrize("level", LEVELS)
+@pytest.mark.parametrize("level", [
+    pytest.param("dE", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+        f"measured ({MEASURED}): (E) 86.1, 79.3 and 92.9 % of the 2-butenes at dE in seeds 1-3 against at least "
+        "84.4 % (a 1 kcal/mol lead): seed 2's lead is 0.80 kcal/mol, inside the close call"))),
+    pytest.param("dG", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+        f"measured ({MEASURED}): (E) 90.1, 94.0 and 76.4 % of the 2-butenes at dG in seeds 1-3 against at least "
+        "84.4 % (a 1 kcal/mol lead): seed 3's lead is 0.70 kcal/mol, inside the close call")))])
 def test_trans_2_butene_is_the_major_2_butene_in_every_seed(level):
     # the E alkene major among the 2-butenes: from memory, not seen in a source with numbers (validation/cases.yaml;
     # the paper it was cited to, Brown & Klimisch, J. Am. Chem. Soc. 1966, 88, 1425, covers potassium tert-butoxide
     # only); judged seed by seed on the 2-butenes alone, so that a seed's swing toward 1-butene is not read as an E/Z
-    # swing; measured 2026-12-05: E 79-93 % of the 2-butenes at dE, 76-94 % at dG
+    # swing. The least share was 60 % (0.24 kcal/mol, well inside the tool's own close call) until 2026-12-05, when
+    # a review found it let seeds count as "E major" that elimscan itself would call undecided
     for shares in _level(BUTENE_CASE, level)["seed_shares"]:
         assert shares is not None, level
         e, z = shares.get(E_2_BUTENE, 0.0), shares.get(Z_2_BUTENE, 0.0)

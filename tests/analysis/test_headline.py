@@ -31,13 +31,11 @@ from elimscan.results.documents import RunResult
 from jobrecords import T, approach, beta, job
 
 HALOBUTANE = Path(__file__).resolve().parents[1] / "data" / "report-fixture" / "halobutane"
-#: bromoethane + ethoxide in ethanol at 55 °C: about 1 % ethene, the rest ether (Hughes, Ingold and co-workers,
-#: J. Chem. Soc. 1948; from memory, as in validation/cases.yaml)
-BROMOETHANE_E2_PERCENT = 1
-#: 2-bromobutane + NaOEt/EtOH: 81 % 2-butenes, 19 % 1-butene, trans major (J. G. Smith, Organic Chemistry; trans
-#: major: Brown & Klimisch, J. Am. Chem. Soc. 1966, 88, 1425), as in validation/cases.yaml
+#: 2-bromobutane + NaOEt/EtOH: 81 % 2-butenes, 19 % 1-butene (J. G. Smith, Organic Chemistry); trans major from
+#: memory (the paper it was cited to, Brown & Klimisch, J. Am. Chem. Soc. 1966, 88, 1425, covers potassium
+#: tert-butoxide only), as in validation/cases.yaml
 ETHOXIDE_OBSERVED = ExperimentConfig(major="C/C=C/C", alkene_shares={"C=CCC": 19},
-                                     source="J. G. Smith, Organic Chemistry; Brown & Klimisch, J. Am. Chem. Soc. 1966")
+                                     source="J. G. Smith, Organic Chemistry; trans major from memory")
 #: 2-bromobutane + KOtBu: 33 % 1-butene (J. G. Smith, Organic Chemistry), as in validation/cases.yaml
 TERT_BUTOXIDE_OBSERVED = ExperimentConfig(alkene_shares={"C=CCC": 33}, source="J. G. Smith, Organic Chemistry")
 
@@ -61,9 +59,10 @@ def bromoethane_job(e2: float = 10.0, sn2: float = 8.0, sn2_reaches: bool = True
 def test_substitution_as_the_main_channel_comes_first():
     record = bromoethane_job()
     h = hl.job_headline(record)
-    # experiment: a primary bromide with a small alkoxide gives mostly ether (about 1 % ethene, Hughes, Ingold and
-    # co-workers 1948, from memory); the headline names that channel first, whatever the alkene verdict says
-    assert BROMOETHANE_E2_PERCENT < 50 and h.channel.main == hl.SN2 and h.channel.sn2_fraction > 0.9
+    # bookkeeping fixture shaped like experiment: a primary bromide with a small alkoxide gives mostly ether (about
+    # 1 % ethene with ethoxide in ethanol at 55 °C, Hughes, Ingold and co-workers, J. Chem. Soc. 1948; from memory,
+    # as in validation/cases.yaml); the headline names that channel first, whatever the alkene verdict says
+    assert h.channel.main == hl.SN2 and h.channel.sn2_fraction > 0.9
     assert h.channel.gap_kcal_mol == pytest.approx(-2.0) and not h.channel.close
     sentences = headline_sentences(h)
     assert list(sentences)[0] == "channel"
@@ -199,8 +198,13 @@ def test_undecided_scores_count_as_not_right():
 
 
 def test_the_committed_two_base_run_against_experiment():
-    # the GFN2-xTB run of (S)-2-bromobutane with ethoxide and tert-butoxide: both calls lie within the method's
-    # uncertainty (the fixture's README), so neither counts as right against the published outcome
+    # BOOKKEEPING ON A FIXED RUN, NOT A CLAIM ABOUT GFN2-xTB: the scoring of the committed run of (S)-2-bromobutane
+    # with ethoxide and tert-butoxide (tests/data/report-fixture/halobutane, v0.1.0, never recomputed). Both calls
+    # lie within the method's uncertainty (the fixture's README), so neither counts as right. Its numbers predate
+    # the fix that kept geminal hydrogens' labels through conformers (b46f90d): its (E)- and (Z)-2-butene saddles
+    # carry each other's names, and both share verdicts sit within about one point of the 20-point limit (tert-
+    # butoxide right at 18.9 points off, ethoxide 19.4 off), so this test checks how the limit is applied to
+    # fixed numbers, with the points off in the reasons, and nothing about the chemistry.
     run = RunResult.model_validate_json((HALOBUTANE / "results.json").read_text(encoding="utf-8"))
     experiments = {"s-2-bromobutane": {"ethoxide": ETHOXIDE_OBSERVED, "tert-butoxide": TERT_BUTOXIDE_OBSERVED}}
     (comparison,) = compare_substrates(run.jobs, experiments, lambda j: "alpb ethanol")

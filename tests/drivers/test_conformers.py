@@ -79,7 +79,7 @@ def test_a_values_from_the_ensemble(smiles, ring_atom, substituent, a_value):
 
 @pytest.mark.xtb
 def test_trans_2_methylcyclohexyl_chloride_allows_only_3_methylcyclohexene():
-    # Classic result (Hückel and co-workers on cyclic cis/trans isomers; standard textbooks): the H on the
+    # Classic result (Hückel and co-workers on cyclic cis/trans isomers; standard textbooks; from memory): the H on the
     # methyl-bearing carbon is never anti-periplanar to Cl, so only 3-methylcyclohexene forms.
     from elimscan.engines.xtb import EngineSettings, XtbEngine
     from elimscan.chem.bases import describe_base

@@ -7,7 +7,10 @@ narrowings said at the fixture).
 
 from __future__ import annotations
 
+import math
+
 import pytest
+import scipy.constants as sc
 from rdkit import Chem
 
 
@@ -28,8 +31,24 @@ ONE_METHYLCYCLOHEXENE = ring_alkene("[CH3][C;R1]=[C;R1]")  # trisubstituted, the
 THREE_METHYLCYCLOHEXENE = ring_alkene("[CH3][CH1;R1][C;R1]=[C;R1]")  # disubstituted
 
 #: 2-bromobutane + NaOEt/EtOH: 81 % 2-butenes, 19 % 1-butene (standard textbooks, e.g. J. G. Smith, Organic
-#: Chemistry); the check allows up to 35 % 1-butene
+#: Chemistry); the issue allows up to 35 % 1-butene
 ONE_BUTENE_MAX_SHARE = 0.35
+#: the largest change settings alone made to these barriers (measured, see the fixture), kcal/mol: a check passes
+#: only with that much room, so that noise cannot turn its expected failure into a pass
+MARGIN_KCAL_MOL = 0.3
+#: RT at the jobs' temperature (298.15 K), kcal/mol (R and the calorie from CODATA 2018 via scipy)
+RT_KCAL_MOL = sc.R * 298.15 / sc.calorie / 1e3
+
+
+def with_margin(share_max: float) -> float:
+    """Return the share of one product (0-1) that stays below ``share_max`` when its barrier drops by the margin."""
+    odds = share_max / (1.0 - share_max) * math.exp(-MARGIN_KCAL_MOL / RT_KCAL_MOL)
+    return odds / (1.0 + odds)
+
+
+#: the least (E) share of the 2-butenes that puts the (Z) isomer's barrier 1 kcal/mol above the (E)'s, the gap under
+#: which elimscan calls two products undecided (analysis.rule.METHOD_UNCERTAINTY_KCAL_MOL): a smaller lead is no call
+E_OF_2_BUTENES_LEAST = 1.0 / (1.0 + math.exp(-1.0 / RT_KCAL_MOL))
 
 
 @pytest.fixture(scope="session")
@@ -97,21 +116,28 @@ def test_2_bromobutane_with_ethoxide_gives_little_1_butene(ethoxide_jobs):
     # 2026-12-04 (after conformers kept the labels of geminal hydrogens): barriers (dE) C1-H -3.28, C3-H (E)
     # -3.99, C3-H (Z) -3.31 kcal/mol: 40.6 % 1-butene, 45.2 % E, 14.3 % Z. Measured 2026-12-03, before that fix:
     # 42.9 % with the two C3 paths under each other's names. The 1-butene barrier would have to rise by about
-    # 0.1 kcal/mol to reach 35 %: this expected failure fails by a small margin, and an XPASS here may be noise
-    # before it is progress.
-    assert share(ethoxide_jobs["2-bromobutane"], ONE_BUTENE) <= ONE_BUTENE_MAX_SHARE
+    # 0.15 kcal/mol to reach 35 %, less than settings alone moved it: the check asks for the 35 % with 0.3 kcal/mol
+    # of room (at most 24.5 %), so that noise cannot pass it.
+    assert share(ethoxide_jobs["2-bromobutane"], ONE_BUTENE) <= with_margin(ONE_BUTENE_MAX_SHARE)
 
 
 @pytest.mark.xtb
 @pytest.mark.slow
+@pytest.mark.xfail(strict=True, raises=AssertionError,
+                   reason="computed (E) 76 % of the 2-butenes, its saddle 0.68 kcal/mol below the (Z) one, inside the "
+                          "1 kcal/mol close call (2026-12-04, GFN2-xTB/ALPB(ethanol), bare ethoxide, dE)")
 def test_2_bromobutane_with_ethoxide_gives_more_e_than_z_2_butene(ethoxide_jobs):
-    # trans-2-Butene is the major 2-butene from 2-bromobutane with alkoxides (Brown & Klimisch, J. Am. Chem. Soc.
-    # 1966, 88, 1425). Measured 2026-12-04: 45.2 % (E)- against 14.3 % (Z)-2-butene, the E saddle 0.68 kcal/mol
-    # below the Z one (a ratio of about 3), alike under the OpenBLAS Haswell kernel. This
-    # was a strict expected failure (13.6 % E against 43.6 % Z) until conformers kept the labels of geminal
-    # hydrogens: the same two saddles had been reported under each other's names.
+    # trans-2-Butene is the major 2-butene from 2-bromobutane with alkoxides (from memory: not seen in a source with
+    # numbers; the paper it was cited to, Brown & Klimisch, J. Am. Chem. Soc. 1966, 88, 1425, covers potassium
+    # tert-butoxide only). Measured 2026-12-04: 45.2 % (E)- against 14.3 % (Z)-2-butene, the E saddle 0.68 kcal/mol
+    # below the Z one (a ratio of about 3), alike under the OpenBLAS Haswell kernel: E ahead, but by less than
+    # the gap under which elimscan itself calls two products undecided, so the check asks for a lead of 1 kcal/mol
+    # (it asked only for E > Z until 2026-12-05). It was a strict expected failure (13.6 % E against 43.6 % Z)
+    # until conformers kept the labels of geminal hydrogens: the two saddles had been reported under each other's
+    # names.
     chain = ethoxide_jobs["2-bromobutane"]
-    assert share(chain, E_2_BUTENE) > share(chain, Z_2_BUTENE)
+    e, z = share(chain, E_2_BUTENE), share(chain, Z_2_BUTENE)
+    assert e / (e + z) >= E_OF_2_BUTENES_LEAST, (e, z)
 
 
 @pytest.mark.xtb
@@ -119,7 +145,8 @@ def test_2_bromobutane_with_ethoxide_gives_more_e_than_z_2_butene(ethoxide_jobs)
 @pytest.mark.xfail(strict=True, raises=AssertionError,
                    reason="computed 66.6 % 1-methylcyclohexene but undecided: its saddle only 0.41 kcal/mol below "
                           "the 3-methylcyclohexene one (2026-12-03, GFN2-xTB/ALPB(ethanol), verified anti saddles, "
-                          "dE); the committed run of the enantiomer had 59 % 3-methylcyclohexene")
+                          "dE); the committed run of the enantiomer had 59 % 3-methylcyclohexene; a pass needs the "
+                          "gap to reach 1 kcal/mol, and two runs differed by 0.63")
 def test_cis_2_methylcyclohexyl_chloride_with_ethoxide_gives_mainly_1_methylcyclohexene(ethoxide_jobs):
     # cis-2-Methylcyclohexyl chloride + ethoxide: 1-methylcyclohexene is the major product (Hückel and
     # co-workers on cyclic cis/trans isomers; standard textbooks; from memory): with Cl axial both C2-H and
