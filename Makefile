@@ -86,7 +86,8 @@ kernel-sweep: $(VENV)/.installed
 #                         two cores; the page estimates what is left)
 #   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast.md (a quick look)
 # Another base model: BASE_MODEL=NAME (pages VALIDATION-NAME.md, VALIDATION-fast-NAME.md). SEEDS=N scores the
-# first N seeds of each case (the committed fast page: SEEDS=3; the alcohol-3 calibration page: SEEDS=1).
+# first N seeds of each case (the committed fast page: SEEDS=3; the alcohol-3 calibration page: SEEDS=1); every
+# case on fewer seeds than three writes a page of its own, VALIDATION-seedsN.md (SEEDS=1: the set that fits a night).
 REFERENCE_DIR ?= results/reference-cases
 REFERENCE_WORKERS ?= 2
 BASE_MODEL ?=

@@ -468,3 +468,19 @@ def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, valid
     assert entry["calibration"]["phenethyl-bromide-ethoxide-e2-rate"]["estimates"]["E2 dG"] == {
         "per_seed": [13.5, 14.1], "mean": 13.8, "spread": 0.6, "error": -8.12}
     assert written["pages"]["VALIDATION-fast.md"]["calibration"] == {}  # that page was written without one
+
+
+def test_a_run_of_every_case_on_fewer_seeds_writes_a_page_of_its_own(validate):
+    # the page of every seed (VALIDATION.md) is the one the README and the tests quote: a one-seed night run of the
+    # whole benchmark must not overwrite it, while the fast and calibration pages keep their names
+    cases = parse_cases((ROOT / "validation" / "cases.yaml").read_text())
+    chosen = validate._chosen("all", list(cases.calibration), list(cases.test), None)
+    frozen = validate.frozen_model()
+    assert max(len(c.seeds) for c in chosen) == 3
+    assert validate.fewer_seeds(1, chosen) == 1 and validate.fewer_seeds(3, chosen) is None
+    assert validate.fewer_seeds(None, chosen) is None
+    assert validate.page_path("all", frozen, None, 1).name == "VALIDATION-seeds1.md"
+    assert validate.page_path("all", "bare", None, 1).name == "VALIDATION-bare-seeds1.md"
+    assert validate.page_path("all", frozen, None, None).name == "VALIDATION.md"
+    assert validate.page_path("fast", frozen, None, 1).name == "VALIDATION-fast.md"
+    assert validate.page_path("calibration", frozen, "b3lyp", 1).name == "CALIBRATION-dft-b3lyp.md"

@@ -381,12 +381,21 @@ def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], fou
     print(f"wrote {RECORD_FILE}", file=sys.stderr)
 
 
-def page_path(subset: str, base_model: str, dft_functional: str | None = None) -> Path:
+def page_path(subset: str, base_model: str, dft_functional: str | None = None,
+              seeds_below_cases: int | None = None) -> Path:
     """Return the page a subset, base model and DFT level write (the frozen model's pages carry no model name; a
-    DFT level's pages carry its name)."""
+    DFT level's pages carry its name; a run of every case on fewer seeds than the cases' own, ``seeds_below_cases``,
+    carries '-seedsN', so that it never overwrites the page of every seed)."""
     suffix = "" if base_model == frozen_model() else f"-{base_model}"
     suffix += "" if dft_functional is None else f"-dft-{dft_functional}"
+    suffix += f"-seeds{seeds_below_cases}" if subset == "all" and seeds_below_cases is not None else ""
     return HERE / f"{PAGES[subset]}{suffix}.md"
+
+
+def fewer_seeds(seed_count: int | None, chosen: list) -> int | None:
+    """Return ``seed_count`` when it is below the most seeds any chosen case asks for, else None."""
+    most = max((len(case.seeds) for case in chosen), default=0)
+    return seed_count if seed_count is not None and seed_count < most else None
 
 
 def _rejoined(pieces: tuple[str, ...], ids: set[str]) -> tuple[str, ...]:
@@ -477,10 +486,11 @@ def main(argv: list[str] | None = None) -> int:
     groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine,
                                  base_model=args.base_model, dft_functional=args.dft),
                     key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
+    page = page_path(args.subset, args.base_model, args.dft, fewer_seeds(seed_count, chosen))
     if args.archive_only:
         return _archive_work(groups, args.work, args.records, args.base_model, args.dft)
     if args.progress:
-        return _progress(groups, args.work, args.records, f"{page_path(args.subset, args.base_model, args.dft).name} "
+        return _progress(groups, args.work, args.records, f"{page.name} "
                          f"({args.subset} cases), base model {args.base_model}")
     with tempfile.TemporaryDirectory() as tmp:
         work = args.work or Path(tmp)
@@ -523,19 +533,19 @@ def main(argv: list[str] | None = None) -> int:
                    records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
                    args.records.is_relative_to(HERE.parent) else str(args.records),
                    **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))
-    page = validation_markdown(info, scores, calibration, levels, models, stage_totals(found.finished),
+    text = validation_markdown(info, scores, calibration, levels, models, stage_totals(found.finished),
                                barrier_floor(found.records))
     if not args.no_write:
-        write_text_atomic(page_path(args.subset, args.base_model, args.dft), page)
-        print(f"wrote {page_path(args.subset, args.base_model, args.dft)}", file=sys.stderr)
+        write_text_atomic(page, text)
+        print(f"wrote {page}", file=sys.stderr)
         if args.base_model == info.frozen_model and args.dft is None and args.engine is None:  # no plug-in's toy numbers
-            _write_record(page_path(args.subset, args.base_model).name, info, scores, levels, found, calibration)
+            _write_record(page.name, info, scores, levels, found, calibration)
     if args.no_write:  # the whole page, its series table included
-        print(page)
+        print(text)
     else:
         print("\n".join(series_rows(scores, levels)) if any(s.case.series for s in scores)
               else "(no series in these cases)")
-        print("\n".join(line for line in page.splitlines() if line.startswith("- **")))
+        print("\n".join(line for line in text.splitlines() if line.startswith("- **")))
     return 0
 
 
