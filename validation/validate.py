@@ -52,7 +52,8 @@ from elimscan.batch.plan import plan_batch
 from elimscan.batch.store import STORE_FILE, JobStore
 from elimscan.config import default_workers, parse_config
 from elimscan.errors import OutputError
-from elimscan.output.benchmark_tables import RunInfo, progress_text, series_rows, validation_markdown
+from elimscan.output.benchmark_tables import (RunInfo, left_estimate, progress_text, series_rows,
+                                              validation_markdown)
 
 HERE = Path(__file__).resolve().parent
 #: a quick look (issue 17): five small test cases and the two rate constants that share their jobs, one seed
@@ -224,8 +225,9 @@ def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: 
         print(f"error: {err}", file=sys.stderr)
         return 2
     running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
+    mean = found.job_seconds / found.n_finished if found.n_finished else 0.0
     print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work),
-                        found.n_failed, found.n_replayed))
+                        found.n_failed, found.n_replayed, left_estimate(found.unfinished_slots, found.seconds, mean)))
     return 0
 
 
@@ -294,6 +296,8 @@ class Collected:
     n_replayed: int = 0
     #: every finished job record once, for where their gradients went
     finished: list[dict] = field(default_factory=list)
+    #: the case slots each unfinished job serves, for the estimate of the time left
+    unfinished_slots: list[list[str]] = field(default_factory=list)
 
     def jobs(self) -> list[dict]:
         """Return every finished job record (a job serving several slots appears once per slot)."""
@@ -309,6 +313,7 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
         found.n_jobs += len(group.serves)
         for pair, served in group.serves.items():
             if pair not in in_group:
+                found.unfinished_slots.append([slot for slot, _ in served])
                 continue
             job, wall = in_group[pair]
             found.n_finished += 1
@@ -530,6 +535,8 @@ def main(argv: list[str] | None = None) -> int:
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
                    n_jobs=n_jobs, n_jobs_finished=n_finished, compute_commits=tuple(r["commit"] for r in runs),
                    n_archived=found.n_archived, archived_commits=tuple(sorted(found.archived_commits)),
+                   left=left_estimate(found.unfinished_slots, found.seconds,
+                                      job_seconds / n_finished if n_finished else 0.0),
                    records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
                    args.records.is_relative_to(HERE.parent) else str(args.records),
                    **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))

@@ -229,3 +229,23 @@ def test_the_page_says_how_many_electronic_barriers_lie_above_zero():
     assert "## Electronic barriers above zero" in page and "**1 lie above zero**" in page
     assert "| bookkeeping | 1 | C3-H9 anti to C/C=C/C | -0.50 |" in page
     assert "## Electronic barriers above zero" not in validation_markdown(INFO, scores(), [], ["dE"])
+
+
+def test_the_time_left_is_estimated_from_each_jobs_own_case_where_it_can_be():
+    from elimscan.output.benchmark_tables import left_estimate
+
+    # a ring case's finished seeds took 60 and 80 min, a small case's 5 min; the mean over all finished jobs is 20 min
+    seconds = {"ring": {1: 3600.0, 2: 4800.0}, "small": {1: 300.0}, "replayed": {1: None}}
+    left = left_estimate([["ring"], ["small", "series:member"], ["new"], ["replayed"]], seconds, 1200.0)
+    # ring 70 min + small 5 min from their own cases, the unstarted case and the one without a time at the mean
+    assert left.n_from_own_case == 2 and left.seconds == 4200.0 + 300.0 + 2 * 1200.0
+    running = {"pid": 1, "host": "ws1", "commit": "abc1234", "base_model": "bare", "workers": 2,
+               "started_utc": "2026-12-05T10:00:00+00:00", "wall_seconds": 60.0,
+               "updated_utc": "2026-12-05T10:01:00+00:00"}
+    said = progress_text("x", 7, 3, 0, 3 * 1200.0, running, "/w", left=left)
+    assert ("the 4 job(s) left would take about 1 h 55 min of job time (2 of them at the mean of their own case's "
+            "finished seeds, 2 at the finished jobs' mean of 20 min)") in said
+    assert "On its 2 worker(s) that is about 58 min of wall time if they stay busy" in said
+    # nothing from the jobs' own cases: the plain mean, as before
+    plain = progress_text("x", 7, 3, 0, 3 * 1200.0, running, "/w", left=left_estimate([["new"]] * 4, {}, 1200.0))
+    assert "would take about 1 h 20 min of job time at the finished jobs' mean of 20 min" in plain

@@ -76,6 +76,8 @@ class RunInfo:
     n_archived: int = 0
     archived_commits: tuple[str, ...] = ()
     records: str | None = None
+    #: the unfinished jobs' estimated time, from each job's own case where it can be (None: the finished jobs' mean)
+    left: LeftEstimate | None = None
 
 
 def _code(smiles: str | None) -> str:
@@ -248,22 +250,52 @@ def _stopped_words(info: RunInfo) -> str:
     return f" ({info.n_interrupted_runs} of them stopped before the end, counted up to their last logged minute{unknown})"
 
 
-def remaining_clause(n_jobs: int, n_finished: int, job_seconds: float) -> str:
-    """Return the clause estimating the unfinished jobs' time from the finished jobs' mean (``job_seconds``: their
-    summed wall time in s; '' when none is left)."""
-    left = n_jobs - n_finished
-    if left <= 0:
+@dataclass(frozen=True)
+class LeftEstimate:
+    """The unfinished jobs' estimated job time (s), and how many of them were estimated from their own case's
+    finished seeds (the rest at the finished jobs' mean)."""
+
+    seconds: float
+    n_from_own_case: int
+
+
+def left_estimate(unfinished_slots: Sequence[Sequence[str]], seconds_by_slot: Mapping[str, Mapping[int, float | None]],
+                  mean_seconds: float) -> LeftEstimate:
+    """Return the estimated job time (s) of the unfinished jobs, each given by the case slots it serves: the mean
+    time of those slots' finished seeds where there are any (jobs of one case are alike in size, those of different
+    cases differ tenfold), else ``mean_seconds``."""
+    total, own = 0.0, 0
+    for slots in unfinished_slots:
+        peers = [t for slot in slots for t in (seconds_by_slot.get(slot) or {}).values() if t]
+        if peers:
+            total, own = total + sum(peers) / len(peers), own + 1
+        else:
+            total += mean_seconds
+    return LeftEstimate(total, own)
+
+
+def remaining_clause(n_jobs: int, n_finished: int, job_seconds: float, left: LeftEstimate | None = None) -> str:
+    """Return the clause estimating the unfinished jobs' time (``job_seconds``: the finished jobs' summed wall time
+    in s; ``left``: an estimate from each job's own case where given, else the finished jobs' mean; '' when none is
+    left)."""
+    n_left = n_jobs - n_finished
+    if n_left <= 0:
         return ""
     if n_finished == 0 or job_seconds <= 0:
-        return f"; {left} job(s) left, no finished job to estimate their time from"
+        return f"; {n_left} job(s) left, no finished job to estimate their time from"
     mean = job_seconds / n_finished
-    return (f"; the {left} job(s) left would take about {_duration(left * mean)} of job time at the finished jobs' "
+    if left is not None and left.n_from_own_case:
+        rest = n_left - left.n_from_own_case
+        return (f"; the {n_left} job(s) left would take about {_duration(left.seconds)} of job time "
+                f"({left.n_from_own_case} of them at the mean of their own case's finished seeds" + (
+                    f", {rest} at the finished jobs' mean of {_duration(mean)}" if rest else "") + ")")
+    return (f"; the {n_left} job(s) left would take about {_duration(n_left * mean)} of job time at the finished jobs' "
             f"mean of {_duration(mean)} (a rough estimate: jobs differ in size)")
 
 
 def _remaining(info: RunInfo) -> str:
     """Return the page's clause estimating the unfinished jobs' time ('' when none is left)."""
-    return remaining_clause(info.n_jobs, info.n_jobs_finished, info.job_seconds)
+    return remaining_clause(info.n_jobs, info.n_jobs_finished, info.job_seconds, info.left)
 
 
 def replayed_clause(n_replayed: int, table: bool = False) -> str:
@@ -275,7 +307,8 @@ def replayed_clause(n_replayed: int, table: bool = False) -> str:
 
 
 def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_seconds: float,
-                  running: Mapping | None, work: str, n_failed: int = 0, n_replayed: int = 0) -> str:
+                  running: Mapping | None, work: str, n_failed: int = 0, n_replayed: int = 0,
+                  left: LeftEstimate | None = None) -> str:
     """Return how far a benchmark run got, for a chemist checking on it: ``what`` (subset and base model), jobs
     finished of all (of them from the archive, failed, and started over from a replay log), their summed job time
     (``job_seconds``, s), the estimate of the rest, and the invocation computing in ``work`` now (``running``: its
@@ -284,17 +317,21 @@ def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_
     failed = (f", {n_failed} of them failed (scored as not computed; a computing run tries them again)"
               if n_failed else "")
     text = (f"{what}: {n_finished} of {n_jobs} job(s) finished{archived}{failed}, {_duration(job_seconds)} of job time"
-            + replayed_clause(n_replayed) + remaining_clause(n_jobs, n_finished, job_seconds) + ".")
+            + replayed_clause(n_replayed) + remaining_clause(n_jobs, n_finished, job_seconds, left) + ".")
     if running is None:
         return text + f" No invocation computes in {work} now."
     model = running.get("base_model") or "an unnamed base model"
     seeds = running.get("seeds")
     workers = running.get("workers")
-    left = n_jobs - n_finished
-    if isinstance(workers, int) and workers > 0 and left > 0 and n_finished and job_seconds > 0:
-        text += (f" On its {workers} worker(s) that is about {_duration(left * job_seconds / n_finished / workers)} "
-                 "of wall time at the mean so far, if they stay busy (a batch's last jobs may leave one idle; larger "
-                 "jobs left make it longer).")
+    n_left = n_jobs - n_finished
+    if isinstance(workers, int) and workers > 0 and n_left > 0 and n_finished and job_seconds > 0:
+        if left is not None and left.n_from_own_case:
+            text += (f" On its {workers} worker(s) that is about {_duration(left.seconds / workers)} of wall time if "
+                     "they stay busy (a batch's last jobs may leave one idle).")
+        else:
+            text += (f" On its {workers} worker(s) that is about "
+                     f"{_duration(n_left * job_seconds / n_finished / workers)} of wall time at the mean so far, if "
+                     "they stay busy (a batch's last jobs may leave one idle; larger jobs left make it longer).")
     return (text + f" Computing in {work} now: pid {running.get('pid')} on {running.get('host')}, commit "
             f"{running.get('commit')}, subset {running.get('subset') or 'all'}, "
             f"{f'first {seeds} seed(s)' if seeds else 'every seed'}, base model {model}, "
