@@ -84,10 +84,11 @@ kernel-sweep: $(VENV)/.installed
 # machine scores it and never computes it again.
 #   reference-cases       every case, three seeds, the frozen base model; writes validation/VALIDATION.md (days on
 #                         two cores; the page estimates what is left)
-#   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast.md (a quick look)
+#   reference-cases-fast  five small cases, one seed; writes validation/VALIDATION-fast-seeds1.md (a quick look;
+#                         SEEDS=3 writes VALIDATION-fast.md, the committed page)
 # Another base model: BASE_MODEL=NAME (pages VALIDATION-NAME.md, VALIDATION-fast-NAME.md). SEEDS=N scores the
-# first N seeds of each case (the committed fast page: SEEDS=3; the alcohol-3 calibration page: SEEDS=1); every
-# case on fewer seeds than three writes a page of its own, VALIDATION-seedsN.md (SEEDS=1: the set that fits a night).
+# first N seeds of each case; a run on fewer seeds than its cases' three writes a page of its own, named -seedsN
+# (VALIDATION-seeds1.md: the set that fits a night), and only pages of every seed go into the package's record.
 REFERENCE_DIR ?= results/reference-cases
 REFERENCE_WORKERS ?= 2
 BASE_MODEL ?=

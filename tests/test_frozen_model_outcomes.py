@@ -16,6 +16,7 @@ import pytest
 import scipy.constants as sc
 import yaml
 
+from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL
 from elimscan.output.files import load_benchmark_record
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -76,15 +77,16 @@ def test_one_butene_is_a_minor_product_of_2_bromobutane_in_every_seed(level):
 
 
 #: the least share of the (E) isomer among the 2-butenes that counts as "E major" in a seed: the share that puts
-#: the (Z) isomer's effective barrier 1 kcal/mol above the (E)'s at 298.15 K, the gap under which elimscan calls
-#: two products undecided (analysis.rule.METHOD_UNCERTAINTY_KCAL_MOL; a smaller lead is no call, common practice)
-E_OF_2_BUTENES_LEAST = 1.0 / (1.0 + math.exp(-1.0 / (sc.R * 298.15 / sc.calorie / 1e3)))
+#: the (Z) isomer's effective barrier (its paths Boltzmann-summed) the method's uncertainty above the (E)'s at
+#: 298.15 K. That is elimscan's 1 kcal/mol close call applied to effective barriers, as validation/model-freeze.yaml
+#: registers it for the next freeze (this freeze's pages compare best single paths); a smaller lead is no call
+E_OF_2_BUTENES_LEAST = 1.0 / (1.0 + math.exp(-METHOD_UNCERTAINTY_KCAL_MOL / (sc.R * 298.15 / sc.calorie / 1e3)))
 
 
 @pytest.mark.parametrize("level", [
     pytest.param("dE", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
         f"measured ({MEASURED}): (E) 86.1, 79.3 and 92.9 % of the 2-butenes at dE in seeds 1-3 against at least "
-        "84.4 % (a 1 kcal/mol lead): seed 2's lead is 0.80 kcal/mol, inside the close call"))),
+        "84.4 % (a 1 kcal/mol lead): seed 2's lead is 0.79 kcal/mol, inside the close call"))),
     pytest.param("dG", marks=pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
         f"measured ({MEASURED}): (E) 90.1, 94.0 and 76.4 % of the 2-butenes at dG in seeds 1-3 against at least "
         "84.4 % (a 1 kcal/mol lead): seed 3's lead is 0.70 kcal/mol, inside the close call")))])

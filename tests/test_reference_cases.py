@@ -470,9 +470,10 @@ def test_a_frozen_model_page_writes_the_record_the_report_quotes(tmp_path, valid
     assert written["pages"]["VALIDATION-fast.md"]["calibration"] == {}  # that page was written without one
 
 
-def test_a_run_of_every_case_on_fewer_seeds_writes_a_page_of_its_own(validate):
-    # the page of every seed (VALIDATION.md) is the one the README and the tests quote: a one-seed night run of the
-    # whole benchmark must not overwrite it, while the fast and calibration pages keep their names
+def test_a_run_on_fewer_seeds_writes_a_page_of_its_own(validate):
+    # the pages of every seed (VALIDATION.md, VALIDATION-fast.md, CALIBRATION.md) are the ones the README and the
+    # tests quote: a one-seed run (the night-sized run of every case, the fast subset's default) must not overwrite
+    # them, and only they go into the package's record
     cases = parse_cases((ROOT / "validation" / "cases.yaml").read_text())
     chosen = validate._chosen("all", list(cases.calibration), list(cases.test), None)
     frozen = validate.frozen_model()
@@ -482,5 +483,6 @@ def test_a_run_of_every_case_on_fewer_seeds_writes_a_page_of_its_own(validate):
     assert validate.page_path("all", frozen, None, 1).name == "VALIDATION-seeds1.md"
     assert validate.page_path("all", "bare", None, 1).name == "VALIDATION-bare-seeds1.md"
     assert validate.page_path("all", frozen, None, None).name == "VALIDATION.md"
-    assert validate.page_path("fast", frozen, None, 1).name == "VALIDATION-fast.md"
-    assert validate.page_path("calibration", frozen, "b3lyp", 1).name == "CALIBRATION-dft-b3lyp.md"
+    assert validate.page_path("fast", frozen, None, 1).name == "VALIDATION-fast-seeds1.md"
+    assert validate.page_path("fast", frozen, None, None).name == "VALIDATION-fast.md"
+    assert validate.page_path("calibration", frozen, "b3lyp", 1).name == "CALIBRATION-dft-b3lyp-seeds1.md"

@@ -226,8 +226,9 @@ def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: 
         return 2
     running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
     mean = found.job_seconds / found.n_finished if found.n_finished else 0.0
+    left = left_estimate(found.unfinished_slots, found.whole_seconds, mean)
     print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work),
-                        found.n_failed, found.n_replayed, left_estimate(found.unfinished_slots, found.seconds, mean)))
+                        found.n_failed, found.n_replayed, left))
     return 0
 
 
@@ -296,8 +297,10 @@ class Collected:
     n_replayed: int = 0
     #: every finished job record once, for where their gradients went
     finished: list[dict] = field(default_factory=list)
-    #: the case slots each unfinished job serves, for the estimate of the time left
+    #: the case slots each unfinished job serves, and the wall times (s) of the finished jobs that ran whole and ok
+    #: (not failed, not started over from a replay log) by slot and seed: the estimate of the time left
     unfinished_slots: list[list[str]] = field(default_factory=list)
+    whole_seconds: dict[str, dict[int, float | None]] = field(default_factory=dict)
 
     def jobs(self) -> list[dict]:
         """Return every finished job record (a job serving several slots appears once per slot)."""
@@ -327,6 +330,8 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
             for slot, seed in served:
                 found.records.setdefault(slot, {})[seed] = job
                 found.seconds.setdefault(slot, {})[seed] = wall
+                if job.get("status") == "ok" and not started_over(job):
+                    found.whole_seconds.setdefault(slot, {})[seed] = wall
     return found
 
 
@@ -389,11 +394,11 @@ def _write_record(page: str, info: RunInfo, scores: list, levels: list[str], fou
 def page_path(subset: str, base_model: str, dft_functional: str | None = None,
               seeds_below_cases: int | None = None) -> Path:
     """Return the page a subset, base model and DFT level write (the frozen model's pages carry no model name; a
-    DFT level's pages carry its name; a run of every case on fewer seeds than the cases' own, ``seeds_below_cases``,
-    carries '-seedsN', so that it never overwrites the page of every seed)."""
+    DFT level's pages carry its name; a run on fewer seeds than its cases' own, ``seeds_below_cases``, carries
+    '-seedsN', so that it never overwrites a page of every seed)."""
     suffix = "" if base_model == frozen_model() else f"-{base_model}"
     suffix += "" if dft_functional is None else f"-dft-{dft_functional}"
-    suffix += f"-seeds{seeds_below_cases}" if subset == "all" and seeds_below_cases is not None else ""
+    suffix += "" if seeds_below_cases is None else f"-seeds{seeds_below_cases}"
     return HERE / f"{PAGES[subset]}{suffix}.md"
 
 
@@ -491,7 +496,8 @@ def main(argv: list[str] | None = None) -> int:
     groups = sorted(batch_groups(benchmark_jobs(chosen, seed_count), engine_factory=args.engine,
                                  base_model=args.base_model, dft_functional=args.dft),
                     key=lambda g: (g.config["seed"], g.name))  # seed 1 of every case first
-    page = page_path(args.subset, args.base_model, args.dft, fewer_seeds(seed_count, chosen))
+    below = fewer_seeds(seed_count, chosen)
+    page = page_path(args.subset, args.base_model, args.dft, below)
     if args.archive_only:
         return _archive_work(groups, args.work, args.records, args.base_model, args.dft)
     if args.progress:
@@ -535,7 +541,7 @@ def main(argv: list[str] | None = None) -> int:
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
                    n_jobs=n_jobs, n_jobs_finished=n_finished, compute_commits=tuple(r["commit"] for r in runs),
                    n_archived=found.n_archived, archived_commits=tuple(sorted(found.archived_commits)),
-                   left=left_estimate(found.unfinished_slots, found.seconds,
+                   left=left_estimate(found.unfinished_slots, found.whole_seconds,
                                       job_seconds / n_finished if n_finished else 0.0),
                    records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
                    args.records.is_relative_to(HERE.parent) else str(args.records),
@@ -545,7 +551,9 @@ def main(argv: list[str] | None = None) -> int:
     if not args.no_write:
         write_text_atomic(page, text)
         print(f"wrote {page}", file=sys.stderr)
-        if args.base_model == info.frozen_model and args.dft is None and args.engine is None:  # no plug-in's toy numbers
+        # the package's record (what the tests and the report read) holds pages of every seed only, never a
+        # plug-in's toy numbers
+        if args.base_model == info.frozen_model and args.dft is None and args.engine is None and below is None:
             _write_record(page.name, info, scores, levels, found, calibration)
     if args.no_write:  # the whole page, its series table included
         print(text)

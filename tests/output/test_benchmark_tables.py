@@ -244,7 +244,8 @@ def test_the_time_left_is_estimated_from_each_jobs_own_case_where_it_can_be():
                "updated_utc": "2026-12-05T10:01:00+00:00"}
     said = progress_text("x", 7, 3, 0, 3 * 1200.0, running, "/w", left=left)
     assert ("the 4 job(s) left would take about 1 h 55 min of job time (2 of them at the mean of their own case's "
-            "finished seeds, 2 at the finished jobs' mean of 20 min)") in said
+            "finished seeds, 2 at the finished jobs' mean of 20 min; a rough estimate: jobs differ in size, even seeds "
+            "of one case)") in said
     assert "On its 2 worker(s) that is about 58 min of wall time if they stay busy" in said
     # nothing from the jobs' own cases: the plain mean, as before
     plain = progress_text("x", 7, 3, 0, 3 * 1200.0, running, "/w", left=left_estimate([["new"]] * 4, {}, 1200.0))

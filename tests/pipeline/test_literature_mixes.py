@@ -13,6 +13,8 @@ import pytest
 import scipy.constants as sc
 from rdkit import Chem
 
+from elimscan.analysis.rule import METHOD_UNCERTAINTY_KCAL_MOL
+
 
 def same(smiles: str):
     """Return a test: is an RDKit molecule this one (stereo included)?"""
@@ -46,9 +48,10 @@ def with_margin(share_max: float) -> float:
     return odds / (1.0 + odds)
 
 
-#: the least (E) share of the 2-butenes that puts the (Z) isomer's barrier 1 kcal/mol above the (E)'s, the gap under
-#: which elimscan calls two products undecided (analysis.rule.METHOD_UNCERTAINTY_KCAL_MOL): a smaller lead is no call
-E_OF_2_BUTENES_LEAST = 1.0 / (1.0 + math.exp(-1.0 / RT_KCAL_MOL))
+#: the least (E) share of the 2-butenes that puts the (Z) isomer's effective barrier the method's uncertainty above
+#: the (E)'s: elimscan's 1 kcal/mol close call (analysis.rule.METHOD_UNCERTAINTY_KCAL_MOL) applied to the two
+#: isomers' shares; a smaller lead is no call
+E_OF_2_BUTENES_LEAST = 1.0 / (1.0 + math.exp(-METHOD_UNCERTAINTY_KCAL_MOL / RT_KCAL_MOL))
 
 
 @pytest.fixture(scope="session")
@@ -109,14 +112,15 @@ def test_every_anti_product_of_both_jobs_has_a_computed_share(ethoxide_jobs):
 @pytest.mark.xtb
 @pytest.mark.slow
 @pytest.mark.xfail(strict=True, raises=AssertionError,
-                   reason="computed 40.6 % 1-butene (2026-12-04, GFN2-xTB/ALPB(ethanol), verified anti saddles, dE)")
+                   reason="computed 40.6 % 1-butene against at most 24.5 % (35 % with 0.3 kcal/mol of room) "
+                          "(2026-12-04, GFN2-xTB/ALPB(ethanol), verified anti saddles, dE)")
 def test_2_bromobutane_with_ethoxide_gives_little_1_butene(ethoxide_jobs):
     # 2-bromobutane + NaOEt in ethanol: 19 % 1-butene, 81 % 2-butenes (standard textbooks, e.g. J. G. Smith,
     # Organic Chemistry). The computed share of 1-butene among the alkenes must be at most 35 %. Measured
     # 2026-12-04 (after conformers kept the labels of geminal hydrogens): barriers (dE) C1-H -3.28, C3-H (E)
     # -3.99, C3-H (Z) -3.31 kcal/mol: 40.6 % 1-butene, 45.2 % E, 14.3 % Z. Measured 2026-12-03, before that fix:
     # 42.9 % with the two C3 paths under each other's names. The 1-butene barrier would have to rise by about
-    # 0.15 kcal/mol to reach 35 %, less than settings alone moved it: the check asks for the 35 % with 0.3 kcal/mol
+    # 0.14 kcal/mol to reach 35 %, less than settings alone moved it: the check asks for the 35 % with 0.3 kcal/mol
     # of room (at most 24.5 %), so that noise cannot pass it.
     assert share(ethoxide_jobs["2-bromobutane"], ONE_BUTENE) <= with_margin(ONE_BUTENE_MAX_SHARE)
 

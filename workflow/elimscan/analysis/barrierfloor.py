@@ -14,7 +14,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from elimscan.analysis.benchmark_scoring import e2_paths, sn2_path
+from elimscan.analysis.benchmark_scoring import e2_paths, path_left_out, sn2_path
 
 
 @dataclass(frozen=True)
@@ -34,6 +34,8 @@ class BarrierFloor:
     n_jobs: int
     n_paths: int
     at_or_below_zero: tuple[BarrierAtOrBelowZero, ...]
+    #: paths left out as no barrier (they did not reach their products, or their gradient budget stopped them)
+    n_left_out: int = 0
 
     @property
     def n_above_zero(self) -> int:
@@ -42,20 +44,25 @@ class BarrierFloor:
 
 
 def barrier_floor(records: Mapping[str, Mapping[int, Mapping]]) -> BarrierFloor:
-    """Return the counted paths' dE (kcal/mol) against zero over finished job records by case slot and seed."""
-    seen: set[int] = set()
-    n_paths, low = 0, []
+    """Return the counted paths' dE (kcal/mol) against zero over finished job records by case slot and seed (a job
+    serving several slots, known by its ``job_key``, is read once)."""
+    seen: set[object] = set()
+    n_paths, n_left_out, low = 0, 0, []
     for slot, by_seed in sorted(records.items()):
         for seed, job in sorted(by_seed.items()):
-            if id(job) in seen:
+            key = job.get("job_key") or id(job)
+            if key in seen:
                 continue
-            seen.add(id(job))
-            paths, _ = e2_paths(job, "dE")
+            seen.add(key)
+            paths, left_out = e2_paths(job, "dE")
+            n_left_out += len(left_out)
             sn2 = sn2_path(job, "dE")
+            block = job.get("substitution") or {}
+            n_left_out += block.get("path_status") == "ok" and path_left_out(block) is not None
             for p in [*paths, *([sn2] if sn2 is not None else [])]:
                 n_paths += 1
                 if p.barrier_kcal_mol <= 0.0:
                     name = "SN2" if p.class_id == "substitution" else f"{p.class_id} {p.approach} to {p.product_smiles}"
                     low.append(BarrierAtOrBelowZero(slot, seed, name, p.barrier_kcal_mol))
     return BarrierFloor(n_jobs=len(seen), n_paths=n_paths,
-                        at_or_below_zero=tuple(sorted(low, key=lambda b: b.barrier_kcal_mol)))
+                        at_or_below_zero=tuple(sorted(low, key=lambda b: b.barrier_kcal_mol)), n_left_out=n_left_out)

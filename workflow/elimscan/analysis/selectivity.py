@@ -78,7 +78,8 @@ def published_differences(case: OutcomeCase) -> list[Published]:
     for smiles, percent in shares:
         value = published_difference_kcal_mol(percent, t)
         if value is not None:
-            out.append(Published(f"{smiles} vs the other alkenes", isomer_key(smiles), ALKENES, percent, value,
+            key = isomer_key(smiles)
+            out.append(Published(f"{key} vs the other alkenes", key, ALKENES, percent, value,
                                  case.from_memory))
     if case.expected.e2_percent is not None:
         value = published_difference_kcal_mol(case.expected.e2_percent, t)

@@ -262,8 +262,8 @@ class LeftEstimate:
 def left_estimate(unfinished_slots: Sequence[Sequence[str]], seconds_by_slot: Mapping[str, Mapping[int, float | None]],
                   mean_seconds: float) -> LeftEstimate:
     """Return the estimated job time (s) of the unfinished jobs, each given by the case slots it serves: the mean
-    time of those slots' finished seeds where there are any (jobs of one case are alike in size, those of different
-    cases differ tenfold), else ``mean_seconds``."""
+    time of those slots' finished seeds where there are any (seeds of one case differ, up to eightfold in the full
+    run, but jobs of different cases differ more), else ``mean_seconds``."""
     total, own = 0.0, 0
     for slots in unfinished_slots:
         peers = [t for slot in slots for t in (seconds_by_slot.get(slot) or {}).values() if t]
@@ -288,7 +288,8 @@ def remaining_clause(n_jobs: int, n_finished: int, job_seconds: float, left: Lef
         rest = n_left - left.n_from_own_case
         return (f"; the {n_left} job(s) left would take about {_duration(left.seconds)} of job time "
                 f"({left.n_from_own_case} of them at the mean of their own case's finished seeds" + (
-                    f", {rest} at the finished jobs' mean of {_duration(mean)}" if rest else "") + ")")
+                    f", {rest} at the finished jobs' mean of {_duration(mean)}" if rest else "")
+                + "; a rough estimate: jobs differ in size, even seeds of one case)")
     return (f"; the {n_left} job(s) left would take about {_duration(n_left * mean)} of job time at the finished jobs' "
             f"mean of {_duration(mean)} (a rough estimate: jobs differ in size)")
 
@@ -327,7 +328,7 @@ def progress_text(what: str, n_jobs: int, n_finished: int, n_archived: int, job_
     if isinstance(workers, int) and workers > 0 and n_left > 0 and n_finished and job_seconds > 0:
         if left is not None and left.n_from_own_case:
             text += (f" On its {workers} worker(s) that is about {_duration(left.seconds / workers)} of wall time if "
-                     "they stay busy (a batch's last jobs may leave one idle).")
+                     "they stay busy (a batch's last jobs may leave one idle; larger jobs left make it longer).")
         else:
             text += (f" On its {workers} worker(s) that is about "
                      f"{_duration(n_left * job_seconds / n_finished / workers)} of wall time at the mean so far, if "
