@@ -52,7 +52,7 @@ from elimscan.batch.plan import plan_batch
 from elimscan.batch.store import STORE_FILE, JobStore
 from elimscan.config import default_workers, parse_config
 from elimscan.errors import OutputError
-from elimscan.output.benchmark_tables import (RunInfo, left_estimate, progress_text, series_rows,
+from elimscan.output.benchmark_tables import (LeftEstimate, RunInfo, left_estimate, progress_text, series_rows,
                                               validation_markdown)
 
 HERE = Path(__file__).resolve().parent
@@ -225,10 +225,8 @@ def _progress(groups: list[BatchGroup], work: Path, records: Path | None, what: 
         print(f"error: {err}", file=sys.stderr)
         return 2
     running = runclock.running_entry(work / RUNNING_FILE, work / RUN_LOCK)
-    mean = found.job_seconds / found.n_finished if found.n_finished else 0.0
-    left = left_estimate(found.unfinished_slots, found.whole_seconds, mean)
     print(progress_text(what, found.n_jobs, found.n_finished, found.n_archived, found.job_seconds, running, str(work),
-                        found.n_failed, found.n_replayed, left))
+                        found.n_failed, found.n_replayed, found.left()))
     return 0
 
 
@@ -297,14 +295,21 @@ class Collected:
     n_replayed: int = 0
     #: every finished job record once, for where their gradients went
     finished: list[dict] = field(default_factory=list)
-    #: the case slots each unfinished job serves, and the wall times (s) of the finished jobs that ran whole and ok
-    #: (not failed, not started over from a replay log) by slot and seed: the estimate of the time left
+    #: the case slots each unfinished job serves, for the estimate of the time left
     unfinished_slots: list[list[str]] = field(default_factory=list)
-    whole_seconds: dict[str, dict[int, float | None]] = field(default_factory=dict)
 
     def jobs(self) -> list[dict]:
         """Return every finished job record (a job serving several slots appears once per slot)."""
         return [job for by_seed in self.records.values() for job in by_seed.values()]
+
+    def left(self) -> LeftEstimate:
+        """Return the unfinished jobs' estimated job time (s): from the wall times of their own cases' finished
+        seeds that ran whole and ok (not failed, not started over from a replay log), else the finished jobs' mean."""
+        whole = {slot: {seed: self.seconds[slot][seed] for seed, job in by_seed.items()
+                        if job.get("status") == "ok" and not started_over(job)}
+                 for slot, by_seed in self.records.items()}
+        mean = self.job_seconds / self.n_finished if self.n_finished else 0.0
+        return left_estimate(self.unfinished_slots, whole, mean)
 
 
 def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) -> Collected:
@@ -330,8 +335,6 @@ def _collect(groups: list[BatchGroup], work: Path, records: Path | None = None) 
             for slot, seed in served:
                 found.records.setdefault(slot, {})[seed] = job
                 found.seconds.setdefault(slot, {})[seed] = wall
-                if job.get("status") == "ok" and not started_over(job):
-                    found.whole_seconds.setdefault(slot, {})[seed] = wall
     return found
 
 
@@ -541,8 +544,7 @@ def main(argv: list[str] | None = None) -> int:
                    command="python validation/validate.py " + " ".join(argv if argv is not None else sys.argv[1:]),
                    n_jobs=n_jobs, n_jobs_finished=n_finished, compute_commits=tuple(r["commit"] for r in runs),
                    n_archived=found.n_archived, archived_commits=tuple(sorted(found.archived_commits)),
-                   left=left_estimate(found.unfinished_slots, found.whole_seconds,
-                                      job_seconds / n_finished if n_finished else 0.0),
+                   left=found.left(),
                    records=str(args.records.relative_to(HERE.parent)) if args.records is not None and
                    args.records.is_relative_to(HERE.parent) else str(args.records),
                    **_freeze([r["commit"] for r in runs] + sorted(found.archived_commits)))

@@ -14,7 +14,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-from elimscan.analysis.benchmark_scoring import e2_paths, path_left_out, sn2_path
+from elimscan.analysis.benchmark_scoring import e2_paths, sn2_left_out, sn2_path
 
 
 @dataclass(frozen=True)
@@ -57,8 +57,7 @@ def barrier_floor(records: Mapping[str, Mapping[int, Mapping]]) -> BarrierFloor:
             paths, left_out = e2_paths(job, "dE")
             n_left_out += len(left_out)
             sn2 = sn2_path(job, "dE")
-            block = job.get("substitution") or {}
-            n_left_out += block.get("path_status") == "ok" and path_left_out(block) is not None
+            n_left_out += sn2_left_out(job) is not None
             for p in [*paths, *([sn2] if sn2 is not None else [])]:
                 n_paths += 1
                 if p.barrier_kcal_mol <= 0.0:

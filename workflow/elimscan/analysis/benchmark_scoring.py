@@ -124,6 +124,13 @@ def missing_products(job: Mapping, counted: set[str]) -> tuple[str, ...]:
     return tuple(notes.values())
 
 
+def sn2_left_out(job: Mapping) -> str | None:
+    """Return why a job's computed SN2 path is no barrier (``path_left_out``), or None when it counts or was not
+    computed."""
+    block = job.get("substitution") or {}
+    return path_left_out(block) if block.get("path_status") == "ok" else None
+
+
 def sn2_path(job: Mapping, level: str) -> PathBarrier | None:
     """Return the SN2 path with a barrier at ``level`` (kcal/mol) as product 'substitution', or None."""
     block = job.get("substitution")
@@ -168,8 +175,7 @@ def level_mix(job: Mapping, level: str, temperature_K: float) -> LevelMix | None
     if not paths:
         return None
     sn2 = sn2_path(job, level)
-    block = job.get("substitution") or {}
-    why_sn2 = path_left_out(block) if block.get("path_status") == "ok" else None
+    why_sn2 = sn2_left_out(job)
     if why_sn2 is not None:
         left_out.append(f"substitution: {why_sn2}")
     everything = [*paths, sn2] if sn2 is not None else paths
